@@ -1,0 +1,148 @@
+"""`ductgen build`, `ductgen init` and `ductgen profiles`."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+from typing import Annotated
+
+import typer
+
+from ductgen.cli.app import app, err_console
+
+__all__ = ["build_command", "init_command", "profiles_command"]
+
+
+@app.command("build")
+def build_command(
+    spec: Annotated[Path, typer.Argument(help="spec file (.toml, .yaml, .json)")],
+    out: Annotated[Path | None, typer.Option("-o", "--out", help="output folder [default: ./NAME]")] = None,
+    only: Annotated[
+        str | None, typer.Option("--only", help="comma list of outputs, e.g. cutter,template")
+    ] = None,
+    force: Annotated[bool, typer.Option("--force", help="replace existing files")] = False,
+    quality: Annotated[str, typer.Option("--quality", help="STL tessellation: draft | normal | fine")] = "normal",
+    kerf: Annotated[
+        float | None, typer.Option("--kerf", help="cutter kerf (mm): the template's opening shrinks by kerf/2")
+    ] = None,
+    paper: Annotated[str | None, typer.Option("--paper", help="template paper: A4 | Letter")] = None,
+    quiet: Annotated[bool, typer.Option("--quiet", "-q", help="print nothing on success")] = False,
+    as_json: Annotated[bool, typer.Option("--json", help="print report.json to stdout")] = False,
+) -> None:
+    """Build solids, files and report.json from a spec."""
+    from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
+
+    from ductgen.pipeline import build
+    from ductgen.spec import load_spec
+
+    s = load_spec(spec)
+    s = _template_overrides(s, kerf=kerf, paper=paper)
+    out_dir = out if out is not None else Path.cwd() / s.name
+    kinds = [k.strip() for k in only.split(",") if k.strip()] if only else None
+    show = not (quiet or as_json)
+    with Progress(
+        SpinnerColumn(), TextColumn("{task.description}"), TimeElapsedColumn(),
+        console=err_console, transient=True, disable=not show,
+    ) as bar:
+        task = bar.add_task("building", total=None)
+        result = build(
+            s, out_dir, only=kinds, force=force, quality=quality,
+            progress=lambda stage: bar.update(task, description=f"building: {stage}"),
+        )
+    if as_json:
+        typer.echo(json.dumps(result.report, indent=2))
+        return
+    if quiet:
+        return
+    _summary(result, out_dir)
+
+
+def _template_overrides(s, **values):  # type: ignore[no-untyped-def]
+    """Apply ``--kerf`` / ``--paper`` to the spec's [template] section, validated."""
+    given = {k: v for k, v in values.items() if v is not None}
+    if not given:
+        return s
+    from pydantic import ValidationError
+
+    from ductgen.errors import SpecError
+
+    try:
+        tpl = type(s.template).model_validate({**s.template.model_dump(), **given})
+    except ValidationError as err:
+        e = err.errors(include_url=False)[0]
+        key = f"--{e['loc'][0]}" if e["loc"] else "--template"
+        raise SpecError(key, e.get("input"), "", str(e["msg"])) from None
+    return s.model_copy(update={"template": tpl})
+
+
+def _summary(result, out_dir: Path) -> None:  # type: ignore[no-untyped-def]
+    from rich.console import Console
+    from rich.table import Table
+
+    g = result.report["geometry"]
+    con = Console()
+    t = Table(title=f"{result.report['name']}", show_header=False, box=None)
+    rows = [
+        ("throat W × D", f"{g['throat_width_mm']:.1f} × {g['throat_depth_mm']:.1f} mm"),
+        ("ramp angle / length", f"{g['ramp_angle_deg']:.2f}° / {g['ramp_length_mm']:.1f} mm"),
+        ("floor drop", f"{g['floor_drop_mm']:.1f} mm"),
+        ("max wall divergence", f"{g['max_wall_divergence_deg']:.1f}°"),
+    ]
+    for k in ("cutter", "insert", "plug"):
+        if f"{k}_volume_mm3" in g:
+            rows.append((f"{k} volume", f"{g[f'{k}_volume_mm3'] / 1000:.1f} cm³"))
+    flow = result.report.get("flow")
+    if flow and "volume_flow_m3_s" in flow:
+        rows.append(("delivered flow", f"{flow['volume_flow_m3_s'] * 1000:.1f} L/s"))
+    for a, b in rows:
+        t.add_row(a, b)
+    con.print(t)
+    for w in result.report.get("warnings", []):
+        err_console.print(f"[yellow]warning[/] {w['code']}: {w['message']}", markup=True, soft_wrap=True)
+    con.print(f"wrote {len(result.files)} files to {out_dir}")
+
+
+@app.command("init")
+def init_command(
+    path: Annotated[Path, typer.Argument(help="spec file to write")] = Path("ductgen.toml"),
+    example: Annotated[
+        str | None, typer.Option("--example", help="start from a bundled sample (see samples/)")
+    ] = None,
+    force: Annotated[bool, typer.Option("--force", help="replace an existing file")] = False,
+) -> None:
+    """Write a commented starter spec."""
+    from ductgen.errors import SpecError
+    from ductgen.export.atomic import write_atomic
+    from ductgen.spec.starter import STARTER, example_names, example_path
+
+    if example is not None:
+        if example not in example_names():
+            raise SpecError("--example", example, "one of " + ", ".join(example_names()), "unknown sample")
+        data = example_path(example).read_bytes()
+    else:
+        data = STARTER.encode()
+    write_atomic(path, data, force=force)
+    err_console.print(f"wrote {path}; next: ductgen build {path}")
+
+
+@app.command("profiles")
+def profiles_command(
+    as_json: Annotated[bool, typer.Option("--json", help="machine-readable list")] = False,
+) -> None:
+    """List the wall-curve tables with their sources."""
+    from rich.console import Console
+    from rich.table import Table
+
+    from ductgen.geometry.profile import available_profiles
+
+    profs = available_profiles()
+    if as_json:
+        typer.echo(json.dumps(
+            [{"name": p.name, "title": p.title, "source": p.source, "note": p.note,
+              "stations": len(p.x)} for p in profs], indent=2,
+        ))
+        return
+    t = Table("name", "stations", "source", "note")
+    for p in profs:
+        t.add_row(p.name, str(len(p.x)), p.source, p.note)
+    Console().print(t)

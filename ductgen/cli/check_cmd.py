@@ -1,0 +1,1 @@
+"""`ductgen check` (not yet registered)."""

@@ -1,0 +1,1 @@
+"""`ductgen size` (not yet registered)."""

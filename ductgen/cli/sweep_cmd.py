@@ -1,0 +1,1 @@
+"""`ductgen sweep` (not yet registered)."""

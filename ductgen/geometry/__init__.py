@@ -1,0 +1,22 @@
+"""Pure geometry of the inlet (numpy/scipy only; no CAD kernel)."""
+
+from ductgen.geometry.floor import Floor, ramp_angle_for_length, ramp_length
+from ductgen.geometry.inlet import InletGeometry, build_geometry
+from ductgen.geometry.lip import Lip
+from ductgen.geometry.planform import Planform
+from ductgen.geometry.profile import Profile, available_profiles, load_profile
+from ductgen.geometry.transition import Transition
+
+__all__ = [
+    "Floor",
+    "InletGeometry",
+    "Lip",
+    "Planform",
+    "Profile",
+    "Transition",
+    "available_profiles",
+    "build_geometry",
+    "load_profile",
+    "ramp_angle_for_length",
+    "ramp_length",
+]

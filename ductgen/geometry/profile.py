@@ -1,0 +1,133 @@
+"""Wall-curve tables (``profiles/*.csv``): loading, validation and the registry.
+
+A table gives the planform as ``2y/W`` against ``x/L`` (brief §2). Comment lines at the top
+of the CSV (``# key: value``) carry its name, title, source and a note on how the values
+were obtained.
+"""
+
+from __future__ import annotations
+
+import os
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from ductgen.errors import SpecError
+
+__all__ = ["Profile", "available_profiles", "load_profile", "profiles_dir"]
+
+
+def profiles_dir() -> Path:
+    """Folder of the bundled tables: ``$DUCTGEN_PROFILES`` or ``profiles/`` beside the package."""
+    env = os.environ.get("DUCTGEN_PROFILES")
+    if env:
+        return Path(env)
+    return Path(__file__).resolve().parents[2] / "profiles"
+
+
+@dataclass(frozen=True)
+class Profile:
+    """A validated wall-curve table.
+
+    Attributes:
+        name: table name (file stem for bundled tables, the path for a user's CSV).
+        x: stations x/L, shape (N,), strictly increasing from 0 to 1.
+        f: local width ratio 2y/W at each station, shape (N,), in (0, 1], f[-1] == 1.
+        title, source, note: from the CSV header (empty when absent).
+    """
+
+    name: str
+    x: np.ndarray
+    f: np.ndarray
+    title: str = ""
+    source: str = ""
+    note: str = ""
+
+
+def _parse(path: Path, key: str) -> Profile:
+    meta: dict[str, str] = {}
+    rows: list[tuple[float, float]] = []
+    try:
+        lines = path.read_text(encoding="utf-8").splitlines()
+    except OSError as err:
+        raise SpecError(key, str(path), "a readable CSV file", err.strerror or str(err)) from err
+    header_seen = False
+    for n, raw in enumerate(lines, start=1):
+        line = raw.strip()
+        if not line:
+            continue
+        if line.startswith("#"):
+            body = line[1:].strip()
+            if ":" in body:
+                k, v = body.split(":", 1)
+                meta[k.strip().lower()] = v.strip()
+            continue
+        cells = [c.strip() for c in line.split(",")]
+        if len(cells) != 2:
+            raise SpecError(key, str(path), "two columns x_over_L, two_y_over_W", f"line {n} has {len(cells)}")
+        try:
+            rows.append((float(cells[0]), float(cells[1])))
+        except ValueError:
+            if header_seen or rows:
+                raise SpecError(key, str(path), "numbers", f"line {n} is not numeric: {line!r}") from None
+            header_seen = True
+    name = path.stem if key == "" else str(path)
+    x = np.array([r[0] for r in rows], dtype=float)
+    f = np.array([r[1] for r in rows], dtype=float)
+    _validate(x, f, key or "planform.profile", str(path))
+    return Profile(
+        name=meta.get("name", name),
+        x=x,
+        f=f,
+        title=meta.get("title", ""),
+        source=meta.get("source", ""),
+        note=meta.get("note", ""),
+    )
+
+
+def _validate(x: np.ndarray, f: np.ndarray, key: str, where: str) -> None:
+    def bad(allowed: str, reason: str) -> SpecError:
+        return SpecError(key, where, allowed, reason)
+
+    if len(x) < 4:
+        raise bad("at least 4 rows", f"the table has {len(x)}")
+    if not (np.all(np.isfinite(x)) and np.all(np.isfinite(f))):
+        raise bad("finite numbers", "the table holds NaN or infinity")
+    if abs(x[0]) > 1e-12 or abs(x[-1] - 1) > 1e-12:
+        raise bad("x/L from 0 to 1", f"the table runs from {x[0]:g} to {x[-1]:g}")
+    if np.any(np.diff(x) <= 0):
+        i = int(np.argmax(np.diff(x) <= 0))
+        raise bad("x/L strictly increasing", f"row {i + 2} (x/L = {x[i + 1]:g}) does not increase")
+    if np.any(f <= 0) or np.any(f > 1):
+        i = int(np.argmax((f <= 0) | (f > 1)))
+        raise bad("0 < 2y/W <= 1", f"row {i + 1} has 2y/W = {f[i]:g}")
+    if abs(f[-1] - 1) > 1e-12:
+        raise bad("2y/W = 1 at x/L = 1", f"the last row has 2y/W = {f[-1]:g}")
+    if np.any(np.diff(f) < 0):
+        i = int(np.argmax(np.diff(f) < 0))
+        raise bad("2y/W non-decreasing", f"the walls converge at row {i + 2} (x/L = {x[i + 1]:g})")
+
+
+def load_profile(name_or_path: str) -> Profile:
+    """Load a bundled table by name or a user's CSV by path; raises :class:`SpecError`."""
+    candidate = Path(name_or_path)
+    if candidate.suffix.lower() == ".csv":
+        if not candidate.is_file():
+            raise SpecError("planform.profile", name_or_path, "an existing CSV file", "file not found")
+        return _parse(candidate, "planform.profile")
+    path = profiles_dir() / f"{name_or_path}.csv"
+    if not path.is_file():
+        names = ", ".join(p.name for p in available_profiles()) or "(none found)"
+        raise SpecError(
+            "planform.profile", name_or_path, f"one of {names}, or a path to a .csv table", "unknown profile"
+        )
+    return _parse(path, "")
+
+
+def available_profiles() -> list[Profile]:
+    """Every bundled table, sorted by name."""
+    folder = profiles_dir()
+    if not folder.is_dir():
+        return []
+    return sorted((_parse(p, "") for p in folder.glob("*.csv")), key=lambda p: p.name)

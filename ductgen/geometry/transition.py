@@ -1,0 +1,124 @@
+"""Internal transition from the throat rectangle to the outlet face.
+
+The transition is a ruled duct between two sections of four edges each: the throat
+rectangle W × D and the outlet (a circle split into four quarter arcs centred on the
+rectangle's corner directions, or a smaller/larger rectangle). Corresponding edges are
+joined by straight rulings with the same parameter fraction on both, which is also how
+the CAD kernel builds a ruled loft, so the volume integrated here is the solid's volume.
+
+The outlet is placed roof-aligned: its top is level with the throat roof (or the skin's
+inner surface, whichever is lower), so the duct deepens downward and never breaks through
+the skin; it is centred on y = 0. Coordinates: x downstream, y spanwise, z up (mm).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+__all__ = ["Transition"]
+
+
+@dataclass(frozen=True)
+class Transition:
+    """Throat-to-outlet duct (mm).
+
+    Attributes:
+        x_start_mm: x of the throat end of the transition.
+        length_mm: transition length along x.
+        width_mm, roof_z_mm, floor_z_mm: the throat rectangle.
+        kind: ``"round"`` or ``"rect"``.
+        outlet_width_mm, outlet_height_mm: outlet size (both = diameter for round).
+        outlet_top_z_mm: z of the outlet's highest point.
+    """
+
+    x_start_mm: float
+    length_mm: float
+    width_mm: float
+    roof_z_mm: float
+    floor_z_mm: float
+    kind: str
+    outlet_width_mm: float
+    outlet_height_mm: float
+    outlet_top_z_mm: float
+
+    @property
+    def x_end_mm(self) -> float:
+        return self.x_start_mm + self.length_mm
+
+    @property
+    def outlet_centre_z_mm(self) -> float:
+        return self.outlet_top_z_mm - self.outlet_height_mm / 2.0
+
+    @property
+    def throat_area_mm2(self) -> float:
+        return self.width_mm * (self.roof_z_mm - self.floor_z_mm)
+
+    @property
+    def outlet_area_mm2(self) -> float:
+        if self.kind == "round":
+            return math.pi * self.outlet_width_mm**2 / 4.0
+        return self.outlet_width_mm * self.outlet_height_mm
+
+    @property
+    def area_ratio(self) -> float:
+        """Outlet area over throat area (dimensionless)."""
+        return self.outlet_area_mm2 / self.throat_area_mm2
+
+    @property
+    def equivalent_cone_half_angle_deg(self) -> float:
+        """Half-angle θ of the conical diffuser with the same length and area ratio:
+        tan θ = (√AR − 1)/(L/R1), R1 the radius of a circle of the throat area (Dixon,
+        Sovran & Klomp); negative for a contraction (deg)."""
+        r1 = math.sqrt(self.throat_area_mm2 / math.pi)
+        return math.degrees(math.atan((math.sqrt(self.area_ratio) - 1.0) * r1 / self.length_mm))
+
+    def throat_corners(self) -> np.ndarray:
+        """Throat rectangle corners (y, z), shape (4, 2), in edge order TR, TL, BL, BR."""
+        h = self.width_mm / 2.0
+        return np.array(
+            [[h, self.roof_z_mm], [-h, self.roof_z_mm], [-h, self.floor_z_mm], [h, self.floor_z_mm]]
+        )
+
+    def outlet_points(self) -> np.ndarray:
+        """Outlet vertices (y, z) matching :meth:`throat_corners`, shape (4, 2)."""
+        if self.kind == "round":
+            r = self.outlet_width_mm / 2.0
+            ang = np.radians([45.0, 135.0, 225.0, 315.0])
+            return np.column_stack([r * np.cos(ang), self.outlet_centre_z_mm + r * np.sin(ang)])
+        h, top = self.outlet_width_mm / 2.0, self.outlet_top_z_mm
+        bot = top - self.outlet_height_mm
+        return np.array([[h, top], [-h, top], [-h, bot], [h, bot]])
+
+    def _edge_points(self, u: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Matched points on the throat and outlet boundaries at parameter u ∈ [0, 4)."""
+        rc = self.throat_corners()
+        k = np.floor(u).astype(int) % 4
+        s = (u - np.floor(u))[:, None]
+        throat = rc[k] * (1 - s) + rc[(k + 1) % 4] * s
+        if self.kind == "round":
+            r = self.outlet_width_mm / 2.0
+            ang = np.radians(45.0 + 90.0 * u)
+            outlet = np.column_stack([r * np.cos(ang), self.outlet_centre_z_mm + r * np.sin(ang)])
+        else:
+            oc = self.outlet_points()
+            outlet = oc[k] * (1 - s) + oc[(k + 1) % 4] * s
+        return throat, outlet
+
+    def section_area_mm2(self, s: float, n: int = 2000) -> float:
+        """Cross-section area (mm²) at fraction s ∈ [0, 1] of the transition length."""
+        u = np.linspace(0.0, 4.0, 4 * n, endpoint=False)
+        a, b = self._edge_points(u)
+        p = (1 - s) * a + s * b
+        y, z = p[:, 0], p[:, 1]
+        return float(0.5 * abs(np.dot(y, np.roll(z, -1)) - np.dot(z, np.roll(y, -1))))
+
+    def volume_mm3(self, n: int = 64) -> float:
+        """Volume of the ruled duct (mm³), Simpson's rule over n (even) intervals."""
+        s = np.linspace(0.0, 1.0, n + 1)
+        a = np.array([self.section_area_mm2(v) for v in s])
+        w = np.ones(n + 1)
+        w[1:-1:2], w[2:-1:2] = 4.0, 2.0
+        return float(self.length_mm * np.dot(w, a) / (3 * n))

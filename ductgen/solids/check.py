@@ -1,0 +1,97 @@
+"""Validity checks for every solid: B-rep check, watertight triangulation, volume.
+
+``BRepCheck`` alone passes solids with the wrong volume, inverted or non-manifold ones
+(brief §9), so each stage is also triangulated, merged and tested for closure and
+consistent winding, and its triangulated volume is compared with an independent integral.
+The kernel's own ``Volume()`` is biased by up to ~1e-3 on these curves; the fine
+triangulation is used as the measured volume.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import cadquery as cq
+import numpy as np
+
+from ductgen.errors import GeometryError
+from ductgen.solids.mesh import triangulate
+from ductgen.tolerances import Tolerances
+
+__all__ = ["SolidCheck", "check_solid", "mesh_stats"]
+
+#: Triangulation used for measuring (mm, rad): ~3e-4 relative volume on these shapes at
+#: ~0.25 s; 0.001 mm reaches ~1e-5 but takes 30-60 s with a lofted transition.
+CHECK_MESH = (0.05, 0.2)
+
+
+@dataclass(frozen=True)
+class SolidCheck:
+    """What was measured on one solid (mm, mm², mm³)."""
+
+    stage: str
+    valid: bool
+    watertight: bool
+    winding_consistent: bool
+    volume_mm3: float
+    expected_volume_mm3: float | None
+    area_mm2: float
+    faces: int
+    mesh: tuple[np.ndarray, np.ndarray] | None = None
+
+
+def mesh_stats(vertices: np.ndarray, faces: np.ndarray) -> tuple[bool, bool, float, float]:
+    """(watertight, winding consistent, signed volume mm³, area mm²) of a triangle mesh,
+    merging coincident vertices first. Pure numpy: every undirected edge must be used by
+    exactly two faces, in opposite directions."""
+    if len(faces) == 0:
+        return False, False, 0.0, 0.0
+    key = np.round(vertices / 1e-7).astype(np.int64)
+    _, inverse = np.unique(key, axis=0, return_inverse=True)
+    f = inverse.reshape(-1)[faces]
+    f = f[(f[:, 0] != f[:, 1]) & (f[:, 1] != f[:, 2]) & (f[:, 0] != f[:, 2])]
+    e = np.concatenate([f[:, [0, 1]], f[:, [1, 2]], f[:, [2, 0]]])
+    und = np.sort(e, axis=1)
+    _, counts = np.unique(und, axis=0, return_counts=True)
+    watertight = bool(np.all(counts == 2))
+    _, dcounts = np.unique(e, axis=0, return_counts=True)
+    winding = watertight and bool(np.all(dcounts == 1))
+    v = vertices[faces]
+    cross = np.cross(v[:, 1] - v[:, 0], v[:, 2] - v[:, 0])
+    volume = float(np.einsum("ij,ij->i", v[:, 0], cross).sum() / 6.0)
+    area = float(0.5 * np.linalg.norm(cross, axis=1).sum())
+    return watertight, winding, volume, area
+
+
+def check_solid(
+    solid: cq.Shape, stage: str, expected_mm3: float | None, tol: Tolerances, volume_rel: float | None = None
+) -> SolidCheck:
+    """Check one solid; raise :class:`GeometryError` naming ``stage`` if it is unsound."""
+    solids = solid.Solids()
+    if len(solids) != 1:
+        raise GeometryError(stage, f"expected one solid, got {len(solids)}")
+    valid = bool(solid.isValid())
+    if not valid:
+        raise GeometryError(stage, "the kernel's B-rep check failed (invalid topology or geometry)")
+    verts, faces = triangulate(solid, *CHECK_MESH)
+    watertight, winding, volume, area = mesh_stats(verts, faces)
+    if not watertight:
+        raise GeometryError(stage, "the triangulated solid is not closed (cracked or non-manifold)")
+    if not winding:
+        raise GeometryError(stage, "the triangulated solid has inconsistent face orientation")
+    if volume <= 0:
+        raise GeometryError(stage, f"the solid is inverted (volume {volume:.1f} mm³)")
+    if expected_mm3 is not None:
+        rel = abs(volume / expected_mm3 - 1.0)
+        allowed = tol.volume_rel if volume_rel is None else volume_rel
+        if rel > allowed:
+            raise GeometryError(
+                stage,
+                f"volume {volume:.1f} mm³ differs from the integrated {expected_mm3:.1f} mm³ "
+                f"by {rel:.2%} (allowed {allowed:.2%})",
+            )
+    return SolidCheck(
+        stage=stage, valid=valid, watertight=watertight, winding_consistent=winding,
+        volume_mm3=volume, expected_volume_mm3=expected_mm3, area_mm2=area, faces=len(solid.Faces()),
+        mesh=(verts, faces),
+    )

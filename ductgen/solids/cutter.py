@@ -1,0 +1,154 @@
+"""The cutter: the air volume below the skin (ramp cavity + throat + internal duct).
+
+Construction (brief §9, measured on this stack): the planform is extruded as a prism,
+optionally unioned with a slab above the skin and filleted where the two meet (the edge
+round, done before the floor and lip exist, where the kernel handles it); that is
+intersected with the floor "wedge" (the centreline section with the entry arc, extruded
+across the span), the lip nose is cut, and the ruled transition duct is fused on. Every
+face is exact: the walls are the table's Hermite cubic, not a loft approximation.
+"""
+
+from __future__ import annotations
+
+import math
+
+import cadquery as cq
+
+from ductgen.geometry.inlet import InletGeometry
+from ductgen.geometry.transition import Transition
+from ductgen.solids.primitives import arc3, extrude_xz, polyline_edges, wall_spline, xz_ellipse_arc
+
+__all__ = ["make_cavity", "make_cutter", "make_transition"]
+
+V = cq.Vector
+
+
+def _planform_prism(g: InletGeometry, x_end: float, z_bottom: float, z_top: float) -> cq.Solid:
+    """Planform (walls straight at ±W/2 beyond the lip station to ``x_end``) as a prism."""
+    pf = g.planform
+    hw0, hw1 = float(pf.node_half_width_mm[0]), g.width_mm / 2.0
+    L = g.length_mm
+    z = z_bottom
+    right = wall_spline(pf, +1.0, z)
+    left = wall_spline(pf, -1.0, z)
+    edges = [
+        right,
+        *polyline_edges([(L, hw1, z), (x_end, hw1, z), (x_end, -hw1, z), (L, -hw1, z)]),
+        left,
+        cq.Edge.makeLine(V(0, -hw0, z), V(0, hw0, z)),
+    ]
+    face = cq.Face.makeFromWires(cq.Wire.assembleEdges(edges))
+    return cq.Solid.extrudeLinear(face, V(0, 0, z_top - z_bottom))
+
+
+def _floor_wedge(g: InletGeometry, x_end: float, half_span: float) -> cq.Solid:
+    """Region between the floor and the skin plane for 0 ≤ x ≤ x_end, across ±half_span."""
+    fl = g.floor
+    H, L = g.drop_mm, g.length_mm
+    y = -half_span
+    edges: list[cq.Edge] = []
+    r = fl.entry_radius_mm
+    xa, za = fl.arc_end_mm
+    if r > 0:
+        half = math.radians(fl.angle_deg) / 2.0
+        mid = (r * math.sin(half), y, -r * (1.0 - math.cos(half)))
+        edges.append(arc3((0.0, y, 0.0), mid, (xa, y, -za)))
+        start = (xa, y, -za)
+    else:
+        start = (0.0, y, 0.0)
+    edges += polyline_edges([start, (L, y, -H), (x_end, y, -H), (x_end, y, 0.0), (0.0, y, 0.0)])
+    return extrude_xz(edges, y, half_span)
+
+
+def _lip_body(g: InletGeometry, half_span: float) -> cq.Solid:
+    """The flush lip's nose (half-ellipse) plus a short block behind it, across the span."""
+    lip = g.lip
+    xc, zc = lip.nose_end_mm, lip.centre_z_mm
+    a, b = lip.semi_major_mm, lip.semi_minor_mm
+    y = -half_span
+    top, bot = zc + b, zc - b
+    back = xc + 1.0
+    edges = [
+        xz_ellipse_arc(xc, zc, a, b, 90.0, 270.0, y),
+        *polyline_edges([(xc, y, bot), (back, y, bot), (back, y, top), (xc, y, top)]),
+    ]
+    return extrude_xz(edges, y, half_span)
+
+
+def make_cavity(g: InletGeometry) -> cq.Solid:
+    """Ramp cavity and straight throat, 0 ≤ x ≤ nose end, with edge round and lip cut."""
+    r = g.edge_radius_mm
+    x_end = g.throat_end_mm
+    half_span = g.width_mm / 2.0 + 2.0 * r + 5.0
+    x_prism = x_end + 2.0 * r + 2.0  # past the wedge's end, so the round there is cut away
+    prism = _planform_prism(g, x_prism, -g.drop_mm - 1.0, 0.0)
+    if r > 0:
+        margin = 2.0 * r + 5.0  # the slab must reach well past every flare
+        slab = cq.Solid.makeBox(
+            x_prism + 2.0 * margin, 2.0 * half_span, r + 2.0, V(-margin, -half_span, 0.0)
+        )
+        body = prism.fuse(slab).clean()
+        hw1 = g.width_mm / 2.0 + 1e-3
+
+        def on_rim(e: cq.Edge) -> bool:
+            bb = e.BoundingBox()
+            return (
+                abs(bb.zmin) < 1e-6
+                and abs(bb.zmax) < 1e-6
+                and bb.xmin > -1e-3
+                and bb.xmax < x_prism + 1e-3
+                and -hw1 <= bb.ymin
+                and bb.ymax <= hw1
+            )
+
+        rim = [e for e in body.Edges() if on_rim(e)]
+        prism = body.fillet(r, rim)
+    cavity = prism.intersect(_floor_wedge(g, x_end, half_span))
+    if g.lip.style == "flush":
+        cavity = cavity.cut(_lip_body(g, half_span))
+    return _one_solid(cavity.clean(), "cavity")
+
+
+def _section_wire(points: list[tuple[float, float, float]], arcs: list | None) -> cq.Wire:
+    if arcs is None:
+        edges = polyline_edges([*points, points[0]])
+    else:
+        edges = [arc3(points[i], arcs[i], points[(i + 1) % 4]) for i in range(4)]
+    return cq.Wire.assembleEdges(edges)
+
+
+def make_transition(t: Transition) -> cq.Solid:
+    """Ruled duct from the throat rectangle to the outlet (4 edges matched to 4 edges)."""
+    x0, x1 = t.x_start_mm, t.x_end_mm
+    rc = t.throat_corners()
+    w0 = _section_wire([(x0, float(y), float(z)) for y, z in rc], None)
+    oc = t.outlet_points()
+    pts1 = [(x1, float(y), float(z)) for y, z in oc]
+    if t.kind == "round":
+        r, cz = t.outlet_width_mm / 2.0, t.outlet_centre_z_mm
+        mids = [
+            (x1, r * math.cos(math.radians(a)), cz + r * math.sin(math.radians(a)))
+            for a in (90.0, 180.0, 270.0, 360.0)
+        ]
+        w1 = _section_wire(pts1, mids)
+    else:
+        w1 = _section_wire(pts1, None)
+    return cq.Solid.makeLoft([w0, w1], True)
+
+
+def make_cutter(g: InletGeometry) -> cq.Solid:
+    """The whole cutter as one closed solid (mm)."""
+    cavity = make_cavity(g)
+    if g.transition is None:
+        return cavity
+    duct = make_transition(g.transition)
+    return _one_solid(cavity.fuse(duct).clean(), "cutter")
+
+
+def _one_solid(shape: cq.Shape, stage: str) -> cq.Solid:
+    solids = shape.Solids()
+    if len(solids) != 1:
+        from ductgen.errors import GeometryError
+
+        raise GeometryError(stage, f"expected one solid, the kernel produced {len(solids)}")
+    return solids[0]

@@ -1,0 +1,72 @@
+"""Small B-rep builders shared by the solids (cadquery only; mm; x downstream, z up)."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+import cadquery as cq
+import numpy as np
+
+from ductgen.geometry.planform import Planform
+
+__all__ = [
+    "extrude_xz",
+    "polyline_edges",
+    "wall_spline",
+    "xz_ellipse_arc",
+]
+
+V = cq.Vector
+
+
+def wall_spline(planform: Planform, sign: float = 1.0, z: float = 0.0) -> cq.Edge:
+    """The wall curve y = sign·(W/2)·F(x/L) at height z as an exact B-spline edge.
+
+    Given the Hermite slopes as tangents at every station, the stations' x as parameters
+    and no tangent scaling, the kernel's interpolation is the same piecewise cubic as
+    :class:`~ductgen.geometry.planform.Planform` (x(t) = t, y(t) the Hermite cubic).
+    """
+    xs = planform.node_x_mm
+    ys = sign * planform.node_half_width_mm
+    ds = sign * planform.node_slopes
+    pts = [V(float(x), float(y), z) for x, y in zip(xs, ys, strict=True)]
+    tans = [V(1.0, float(d), 0.0) for d in ds]
+    return cq.Edge.makeSpline(pts, tangents=tans, parameters=[float(x) for x in xs], scale=False)
+
+
+def polyline_edges(points: Sequence[Sequence[float]]) -> list[cq.Edge]:
+    """Straight edges joining consecutive 3D points (open polyline)."""
+    return [cq.Edge.makeLine(V(*a), V(*b)) for a, b in zip(points[:-1], points[1:], strict=True)]
+
+
+def xz_ellipse_arc(
+    centre_x: float, centre_z: float, a: float, b: float, start_deg: float, end_deg: float, y: float
+) -> cq.Edge:
+    """Arc of the ellipse (x − cx)²/a² + (z − cz)²/b² = 1 in the plane at ``y``, from
+    ``start_deg`` to ``end_deg`` (angles from +x towards +z), a ≥ b."""
+    if abs(a - b) < 1e-12:
+        return cq.Edge.makeCircle(
+            a, V(centre_x, y, centre_z), V(0, -1, 0), start_deg, end_deg
+        )
+    return cq.Edge.makeEllipse(
+        a, b, V(centre_x, y, centre_z), V(0, -1, 0), V(1, 0, 0), start_deg, end_deg
+    )
+
+
+def extrude_xz(edges: list[cq.Edge], y0: float, y1: float) -> cq.Solid:
+    """Close planar edges drawn in the plane y = y0 into a face and extrude it to y1."""
+    wire = cq.Wire.assembleEdges(edges)
+    face = cq.Face.makeFromWires(wire)
+    solid = cq.Solid.extrudeLinear(face, V(0, y1 - y0, 0))
+    if solid.Volume() < 0:  # orientation of the profile decides the sign
+        solid = cq.Solid(solid.wrapped.Reversed())
+    return solid
+
+
+def arc3(p0: Sequence[float], pm: Sequence[float], p1: Sequence[float]) -> cq.Edge:
+    """Circular arc through three 3D points."""
+    return cq.Edge.makeThreePointArc(V(*p0), V(*pm), V(*p1))
+
+
+def np3(a: np.ndarray) -> list[tuple[float, float, float]]:
+    return [tuple(float(v) for v in row) for row in a]  # type: ignore[misc]

@@ -1,0 +1,165 @@
+"""The spec: one frozen, strict pydantic model for a whole inlet (brief §3).
+
+Lengths are floats in mm, angles in degrees, flow quantities SI, converted once at load
+(:mod:`ductgen.spec.types`). Unknown keys are errors, so a typo never falls back silently
+to a default. Cross-field rules that need geometry (an entry arc too large for the depth,
+a lip thicker than the throat) are checked in :mod:`ductgen.geometry.inlet`, which raises
+:class:`~ductgen.errors.SpecError` naming the key.
+"""
+
+from __future__ import annotations
+
+from typing import Annotated, Literal
+
+from pydantic import Field, model_validator
+
+from ductgen.spec.fabrication import InsertSpec, PlugSpec
+from ductgen.spec.flow import FlowSpec
+from ductgen.spec.template import TemplateSpec
+from ductgen.spec.types import Deg, Mm, Section
+
+__all__ = [
+    "LipSpec",
+    "NoOutlet",
+    "OutletSpec",
+    "PlanformSpec",
+    "RampSpec",
+    "RectOutlet",
+    "RoundOutlet",
+    "SkinSpec",
+    "Spec",
+    "ThroatSpec",
+]
+
+
+class ThroatSpec(Section):
+    """The throat: the open rectangle at the lip station, ``width`` × ``depth`` (mm)."""
+
+    width: Annotated[Mm, Field(gt=0, le=3000, description="throat width W at the lip station")]
+    depth: Annotated[
+        Mm, Field(gt=0, le=1000, description="throat depth D, floor to lip underside")
+    ]
+
+
+class RampSpec(Section):
+    """The ramp floor: a straight section at ``angle_deg`` joined to the skin by a convex
+    tangent arc of ``entry_radius`` (0 = sharp). Give the angle or the ``length`` L, not
+    both; with neither, 7° is used."""
+
+    angle_deg: Annotated[
+        Deg | None,
+        Field(default=None, gt=0, lt=30, description="ramp angle of the straight floor section"),
+    ]
+    length: Annotated[
+        Mm | None, Field(default=None, gt=0, description="ramp length L, ramp start to lip station")
+    ]
+    entry_radius: Annotated[
+        Mm, Field(default=0.0, ge=0, description="radius of the tangent arc at the ramp start")
+    ]
+
+    @model_validator(mode="after")
+    def _angle_or_length(self) -> RampSpec:
+        if self.angle_deg is not None and self.length is not None:
+            raise ValueError(
+                "give ramp.angle_deg or ramp.length, not both: the other one follows from the depth"
+            )
+        return self
+
+    @property
+    def angle_given(self) -> bool:
+        return self.length is None
+
+
+class PlanformSpec(Section):
+    """The wall curve: a profile name from ``ductgen profiles`` or a path to a CSV table of
+    ``x/L, 2y/W`` (relative paths are from the spec file's folder)."""
+
+    profile: Annotated[
+        str, Field(default="naca-standard", min_length=1, description="wall-curve table name or CSV path")
+    ]
+    edge_radius: Annotated[
+        Mm, Field(default=0.0, ge=0, le=50, description="round where the walls meet the skin")
+    ]
+
+
+class LipSpec(Section):
+    """The lip spanning the throat at x = L, with an elliptical nose of
+    ``nose_ratio`` = major/minor semi-axis (major along the flow)."""
+
+    style: Annotated[
+        Literal["flush", "raised"],
+        Field(default="flush", description="flush: lip top in the skin; raised: lip stands proud"),
+    ]
+    thickness: Annotated[Mm, Field(default=4.0, gt=0, le=100, description="lip thickness")]
+    nose_ratio: Annotated[
+        float, Field(default=2.0, ge=1, le=8, description="elliptical nose major/minor ratio")
+    ]
+    fairing_length: Annotated[
+        Mm | None,
+        Field(default=None, gt=0, description="raised lip: length over which it fairs into the skin"),
+    ]
+
+
+class RoundOutlet(Section):
+    """A round outlet: the duct ends in a hose spigot of inner diameter ``diameter``."""
+
+    kind: Literal["round"] = "round"
+    diameter: Annotated[Mm, Field(gt=0, le=1000, description="hose inner diameter")]
+    transition_length: Annotated[
+        Mm, Field(gt=0, description="length of the throat-to-outlet transition")
+    ]
+    spigot_length: Annotated[Mm, Field(default=40.0, gt=0, description="hose spigot length")]
+    fit_clearance: Annotated[
+        Mm, Field(default=0.2, ge=0, le=5, description="spigot OD below the hose ID")
+    ]
+
+
+class RectOutlet(Section):
+    """A rectangular outlet face ``width`` × ``height``."""
+
+    kind: Literal["rect"] = "rect"
+    width: Annotated[Mm, Field(gt=0, le=3000, description="outlet width")]
+    height: Annotated[Mm, Field(gt=0, le=1000, description="outlet height")]
+    transition_length: Annotated[
+        Mm, Field(gt=0, description="length of the throat-to-outlet transition")
+    ]
+    spigot_length: Annotated[Mm, Field(default=30.0, gt=0, description="outlet collar length")]
+
+
+class NoOutlet(Section):
+    """No internal duct: the cutter ends at the throat."""
+
+    kind: Literal["none"] = "none"
+
+
+OutletSpec = Annotated[RoundOutlet | RectOutlet | NoOutlet, Field(discriminator="kind")]
+
+
+class SkinSpec(Section):
+    """The panel the inlet is let into; outer surface at z = 0."""
+
+    shape: Annotated[Literal["flat"], Field(default="flat", description="skin shape")]
+    thickness: Annotated[Mm, Field(default=2.0, gt=0, le=100, description="skin thickness")]
+
+
+class Spec(Section):
+    """A whole inlet: geometry, fabrication outputs and (optionally) the flow condition."""
+
+    name: Annotated[
+        str,
+        Field(
+            default="inlet",
+            pattern=r"^[A-Za-z0-9][A-Za-z0-9._-]{0,63}$",
+            description="file-name prefix: letters, digits, '.', '_', '-'",
+        ),
+    ]
+    throat: ThroatSpec
+    ramp: RampSpec = Field(default_factory=RampSpec)
+    planform: PlanformSpec = Field(default_factory=PlanformSpec)
+    lip: LipSpec = Field(default_factory=LipSpec)
+    outlet: OutletSpec = Field(default_factory=NoOutlet)
+    skin: SkinSpec = Field(default_factory=SkinSpec)
+    insert: InsertSpec = Field(default_factory=InsertSpec)
+    plug: PlugSpec = Field(default_factory=PlugSpec)
+    template: TemplateSpec = Field(default_factory=TemplateSpec)
+    flow: FlowSpec | None = None

@@ -1,0 +1,180 @@
+"""A kernel worker process with a memory limit and a timeout.
+
+CAD-kernel work runs in a child process so that a pathological spec cannot hang or
+exhaust the machine (one bad boolean was measured growing past 20 GB, brief §9): the child
+caps its address space with ``RLIMIT_AS``, the parent waits at most ``timeout_s`` per job,
+and a job that crashes, runs out of memory or overruns becomes a
+:class:`~ductgen.errors.GeometryError` naming the stage. The child stays alive between
+jobs (importing the kernel costs ~2 s) and is restarted after a failure.
+
+Jobs are named by ``"module:function"`` and called with picklable arguments; the function
+may call :func:`stage` to say what it is doing, so a timeout or crash can name the stage.
+"""
+
+from __future__ import annotations
+
+import atexit
+import os
+import socket
+import subprocess
+import sys
+import traceback
+from dataclasses import dataclass
+from importlib import import_module
+from typing import Any
+
+from multiprocessing.connection import Connection
+
+from ductgen.errors import DuctgenError, GeometryError
+
+__all__ = ["KernelWorker", "WorkerLimits", "default_worker", "stage"]
+
+_stage_conn: Any = None
+
+
+@dataclass(frozen=True)
+class WorkerLimits:
+    """Limits of one kernel process.
+
+    Attributes:
+        memory_mb: address-space cap of the child (MiB); ``DUCTGEN_MEMORY_MB`` overrides.
+        timeout_s: wall-clock limit of one job (s); ``DUCTGEN_TIMEOUT_S`` overrides.
+    """
+
+    memory_mb: int = 8192
+    timeout_s: float = 300.0
+
+    @classmethod
+    def from_env(cls) -> WorkerLimits:
+        return cls(
+            memory_mb=int(os.environ.get("DUCTGEN_MEMORY_MB", cls.memory_mb)),
+            timeout_s=float(os.environ.get("DUCTGEN_TIMEOUT_S", cls.timeout_s)),
+        )
+
+
+def stage(name: str) -> None:
+    """Tell the parent which stage the current job has reached (no-op outside a worker)."""
+    if _stage_conn is not None:
+        _stage_conn.send(("stage", name))
+
+
+def _main(fd: int, memory_mb: int) -> None:  # pragma: no cover - runs in the child
+    _child(Connection(fd), memory_mb)
+
+
+def _child(conn: Any, memory_mb: int) -> None:  # pragma: no cover - runs in the child
+    global _stage_conn
+    import resource
+
+    limit = memory_mb * 1024 * 1024
+    resource.setrlimit(resource.RLIMIT_AS, (limit, limit))
+    _stage_conn = conn
+    while True:
+        try:
+            msg = conn.recv()
+        except EOFError:
+            return
+        if msg is None:
+            return
+        target, args, kwargs = msg
+        try:
+            mod, fn = target.split(":")
+            result = getattr(import_module(mod), fn)(*args, **kwargs)
+            conn.send(("ok", result))
+        except MemoryError:
+            conn.send(("memory", "", traceback.format_exc()))
+        except DuctgenError as err:
+            conn.send(("ductgen", err, traceback.format_exc()))
+        except BaseException as err:  # kernel exceptions share no base class
+            conn.send(("error", f"{type(err).__name__}: {err}", traceback.format_exc()))
+
+
+class KernelWorker:
+    """One persistent child process running kernel jobs under :class:`WorkerLimits`."""
+
+    def __init__(self, limits: WorkerLimits | None = None) -> None:
+        self.limits = limits or WorkerLimits.from_env()
+        self._proc: Any = None
+        self._conn: Any = None
+
+    def _start(self) -> None:
+        # A fresh interpreter (not fork: the parent may hold BLAS or GUI threads; not
+        # multiprocessing's spawn: it re-runs the caller's __main__).
+        ours, theirs = socket.socketpair()
+        fd = theirs.fileno()
+        self._proc = subprocess.Popen(
+            [sys.executable, "-c", f"from ductgen.worker import _main; _main({fd}, {self.limits.memory_mb})"],
+            pass_fds=(fd,),
+            stdin=subprocess.DEVNULL,
+        )
+        theirs.close()
+        self._conn = Connection(ours.detach())
+
+    def close(self) -> None:
+        """Stop the child process."""
+        if self._proc is not None:
+            try:
+                self._conn.send(None)
+                self._proc.wait(timeout=2)
+            except (OSError, subprocess.TimeoutExpired):
+                pass
+        self._kill()
+
+    def _kill(self) -> None:
+        if self._proc is not None and self._proc.poll() is None:
+            self._proc.kill()
+            self._proc.wait()
+        if self._conn is not None:
+            self._conn.close()
+        self._proc = None
+        self._conn = None
+
+    def run(self, target: str, *args: Any, timeout_s: float | None = None, **kwargs: Any) -> Any:
+        """Run ``module:function(*args, **kwargs)`` in the child and return its result."""
+        if self._proc is None or self._proc.poll() is not None:
+            self._start()
+        timeout = self.limits.timeout_s if timeout_s is None else timeout_s
+        current = target.split(":")[-1]
+        self._conn.send((target, args, kwargs))
+        import time
+
+        deadline = time.monotonic() + timeout
+        while True:
+            left = deadline - time.monotonic()
+            if left <= 0 or not self._conn.poll(left):
+                self._kill()
+                raise GeometryError(current, f"the kernel took longer than {timeout:.0f} s and was stopped")
+            try:
+                msg = self._conn.recv()
+            except (EOFError, OSError):
+                code = self._proc.wait() if self._proc is not None else None
+                self._kill()
+                raise GeometryError(
+                    current,
+                    f"the kernel process died (exit code {code}); it may have exceeded its "
+                    f"{self.limits.memory_mb} MiB memory limit",
+                ) from None
+            kind = msg[0]
+            if kind == "stage":
+                current = msg[1]
+                continue
+            if kind == "ok":
+                return msg[1]
+            if kind == "ductgen":
+                raise msg[1]
+            if kind == "memory":
+                self._kill()
+                raise GeometryError(current, f"ran out of its {self.limits.memory_mb} MiB memory limit")
+            raise GeometryError(current, f"kernel failure: {msg[1]}")
+
+
+_DEFAULT: KernelWorker | None = None
+
+
+def default_worker() -> KernelWorker:
+    """The process-wide kernel worker (started on first use, stopped at exit)."""
+    global _DEFAULT
+    if _DEFAULT is None:
+        _DEFAULT = KernelWorker()
+        atexit.register(_DEFAULT.close)
+    return _DEFAULT
