@@ -70,11 +70,15 @@ class SpecError(DuctgenError):
         return (_rebuild_spec_error, ([vars(p) for p in self.problems], self.source))
 
     @classmethod
-    def many(cls, problems: list[tuple[str, Any, str, str]], source: str | None = None) -> SpecError:
+    def many(
+        cls, problems: list[tuple[str, Any, str, str]], source: str | None = None
+    ) -> SpecError:
         """Build one error from several ``(key, value, allowed, reason)`` tuples."""
         items = [_Problem(*p) for p in problems]
         first = items[0]
-        return cls(first.key, first.value, first.allowed, first.reason, problems=items, source=source)
+        return cls(
+            first.key, first.value, first.allowed, first.reason, problems=items, source=source
+        )
 
     def _format(self) -> str:
         head = f"invalid spec{f' {self.source}' if self.source else ''}:"
@@ -114,7 +118,9 @@ class OverwriteError(ExportError):
 
 
 def _rebuild_spec_error(problems: list[dict[str, Any]], source: str | None) -> SpecError:
-    return SpecError.many([(p["key"], p["value"], p["allowed"], p["reason"]) for p in problems], source)
+    return SpecError.many(
+        [(p["key"], p["value"], p["allowed"], p["reason"]) for p in problems], source
+    )
 
 
 @dataclass(frozen=True)

@@ -81,8 +81,10 @@ def convert(value: Any, dimension: str, unit: str, default_unit: str | None = No
     try:
         q = reg.Quantity(text)
     except Exception as err:  # pint raises several unrelated classes for bad strings
-        raise ValueError(f"cannot read {text!r} as a {dimension}: {err}; write e.g. {example}") from err
-    if not isinstance(q, reg.Quantity) or q.dimensionless and dimension != "angle":
+        raise ValueError(
+            f"cannot read {text!r} as a {dimension}: {err}; write e.g. {example}"
+        ) from err
+    if not isinstance(q, reg.Quantity) or (q.dimensionless and dimension != "angle"):
         if default_unit is None:
             raise ValueError(f"{text!r} has no unit: write the unit, e.g. {example}")
         q = reg.Quantity(float(q), default_unit)

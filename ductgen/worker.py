@@ -21,9 +21,8 @@ import sys
 import traceback
 from dataclasses import dataclass
 from importlib import import_module
-from typing import Any
-
 from multiprocessing.connection import Connection
+from typing import Any
 
 from ductgen.errors import DuctgenError, GeometryError
 
@@ -71,13 +70,16 @@ def _child(conn: Any, memory_mb: int) -> None:  # pragma: no cover - runs in the
     _stage_conn = conn
     while True:
         try:
-            msg = conn.recv()
-        except EOFError:
+            raw = conn.recv_bytes()
+        except (EOFError, OSError):
             return
-        if msg is None:
-            return
-        target, args, kwargs = msg
         try:
+            import pickle
+
+            msg = pickle.loads(raw)
+            if msg is None:
+                return
+            target, args, kwargs = msg
             mod, fn = target.split(":")
             result = getattr(import_module(mod), fn)(*args, **kwargs)
             conn.send(("ok", result))
@@ -103,7 +105,11 @@ class KernelWorker:
         ours, theirs = socket.socketpair()
         fd = theirs.fileno()
         self._proc = subprocess.Popen(
-            [sys.executable, "-c", f"from ductgen.worker import _main; _main({fd}, {self.limits.memory_mb})"],
+            [
+                sys.executable,
+                "-c",
+                f"from ductgen.worker import _main; _main({fd}, {self.limits.memory_mb})",
+            ],
             pass_fds=(fd,),
             stdin=subprocess.DEVNULL,
         )
@@ -143,7 +149,9 @@ class KernelWorker:
             left = deadline - time.monotonic()
             if left <= 0 or not self._conn.poll(left):
                 self._kill()
-                raise GeometryError(current, f"the kernel took longer than {timeout:.0f} s and was stopped")
+                raise GeometryError(
+                    current, f"the kernel took longer than {timeout:.3g} s and was stopped"
+                )
             try:
                 msg = self._conn.recv()
             except (EOFError, OSError):
@@ -164,7 +172,9 @@ class KernelWorker:
                 raise msg[1]
             if kind == "memory":
                 self._kill()
-                raise GeometryError(current, f"ran out of its {self.limits.memory_mb} MiB memory limit")
+                raise GeometryError(
+                    current, f"ran out of its {self.limits.memory_mb} MiB memory limit"
+                )
             raise GeometryError(current, f"kernel failure: {msg[1]}")
 
 

@@ -55,7 +55,8 @@ def main(argv: list[str] | None = None) -> int:
         if os.environ.get("DUCTGEN_DEBUG"):
             raise
         err_console.print(
-            f"[bold red]internal error:[/] {type(ex).__name__}: {ex} (set DUCTGEN_DEBUG=1 for the traceback)",
+            f"[bold red]internal error:[/] {type(ex).__name__}: {ex} "
+            "(set DUCTGEN_DEBUG=1 for the traceback)",
             markup=True,
             soft_wrap=True,
         )

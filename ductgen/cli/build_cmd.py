@@ -16,16 +16,23 @@ __all__ = ["build_command", "init_command", "profiles_command"]
 @app.command("build")
 def build_command(
     spec: Annotated[Path, typer.Argument(help="spec file (.toml, .yaml, .json)")],
-    out: Annotated[Path | None, typer.Option("-o", "--out", help="output folder [default: ./NAME]")] = None,
+    out: Annotated[
+        Path | None, typer.Option("-o", "--out", help="output folder [default: ./NAME]")
+    ] = None,
     only: Annotated[
         str | None, typer.Option("--only", help="comma list of outputs, e.g. cutter,template")
     ] = None,
     force: Annotated[bool, typer.Option("--force", help="replace existing files")] = False,
-    quality: Annotated[str, typer.Option("--quality", help="STL tessellation: draft | normal | fine")] = "normal",
+    quality: Annotated[
+        str, typer.Option("--quality", help="STL tessellation: draft | normal | fine")
+    ] = "normal",
     kerf: Annotated[
-        float | None, typer.Option("--kerf", help="cutter kerf (mm): the template's opening shrinks by kerf/2")
+        float | None,
+        typer.Option("--kerf", help="cutter kerf (mm): the template's opening shrinks by kerf/2"),
     ] = None,
-    paper: Annotated[str | None, typer.Option("--paper", help="template paper: A4 | Letter")] = None,
+    paper: Annotated[
+        str | None, typer.Option("--paper", help="template paper: A4 | Letter")
+    ] = None,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="print nothing on success")] = False,
     as_json: Annotated[bool, typer.Option("--json", help="print report.json to stdout")] = False,
 ) -> None:
@@ -41,12 +48,20 @@ def build_command(
     kinds = [k.strip() for k in only.split(",") if k.strip()] if only else None
     show = not (quiet or as_json)
     with Progress(
-        SpinnerColumn(), TextColumn("{task.description}"), TimeElapsedColumn(),
-        console=err_console, transient=True, disable=not show,
+        SpinnerColumn(),
+        TextColumn("{task.description}"),
+        TimeElapsedColumn(),
+        console=err_console,
+        transient=True,
+        disable=not show,
     ) as bar:
         task = bar.add_task("building", total=None)
         result = build(
-            s, out_dir, only=kinds, force=force, quality=quality,
+            s,
+            out_dir,
+            only=kinds,
+            force=force,
+            quality=quality,
             progress=lambda stage: bar.update(task, description=f"building: {stage}"),
         )
     if as_json:
@@ -98,7 +113,9 @@ def _summary(result, out_dir: Path) -> None:  # type: ignore[no-untyped-def]
         t.add_row(a, b)
     con.print(t)
     for w in result.report.get("warnings", []):
-        err_console.print(f"[yellow]warning[/] {w['code']}: {w['message']}", markup=True, soft_wrap=True)
+        err_console.print(
+            f"[yellow]warning[/] {w['code']}: {w['message']}", markup=True, soft_wrap=True
+        )
     con.print(f"wrote {len(result.files)} files to {out_dir}")
 
 
@@ -117,7 +134,9 @@ def init_command(
 
     if example is not None:
         if example not in example_names():
-            raise SpecError("--example", example, "one of " + ", ".join(example_names()), "unknown sample")
+            raise SpecError(
+                "--example", example, "one of " + ", ".join(example_names()), "unknown sample"
+            )
         data = example_path(example).read_bytes()
     else:
         data = STARTER.encode()
@@ -137,10 +156,21 @@ def profiles_command(
 
     profs = available_profiles()
     if as_json:
-        typer.echo(json.dumps(
-            [{"name": p.name, "title": p.title, "source": p.source, "note": p.note,
-              "stations": len(p.x)} for p in profs], indent=2,
-        ))
+        typer.echo(
+            json.dumps(
+                [
+                    {
+                        "name": p.name,
+                        "title": p.title,
+                        "source": p.source,
+                        "note": p.note,
+                        "stations": len(p.x),
+                    }
+                    for p in profs
+                ],
+                indent=2,
+            )
+        )
         return
     t = Table("name", "stations", "source", "note")
     for p in profs:

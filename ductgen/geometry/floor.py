@@ -49,13 +49,17 @@ def ramp_angle_for_length(length_mm: float, drop_mm: float, entry_radius_mm: flo
     def g(a: float) -> float:
         return ramp_length(drop_mm, a, entry_radius_mm) - length_mm
 
-    l_short, l_long = ramp_length(drop_mm, hi, entry_radius_mm), ramp_length(drop_mm, lo, entry_radius_mm)
+    l_short, l_long = (
+        ramp_length(drop_mm, hi, entry_radius_mm),
+        ramp_length(drop_mm, lo, entry_radius_mm),
+    )
     if not (l_short <= length_mm <= l_long):
         raise SpecError(
             "ramp.length",
             length_mm,
             f"{l_short:.1f} to {l_long:.1f} mm for this depth and entry radius",
-            "the ramp angle that follows must lie between 0.5° and 30° with the entry arc inside the drop",
+            "the ramp angle that follows must lie between 0.5° and 30° "
+            "with the entry arc inside the drop",
         )
     return float(brentq(g, lo, hi, xtol=1e-12, rtol=1e-14))
 
@@ -103,7 +107,9 @@ class Floor:
         r = self.entry_radius_mm
         xa, za = self.arc_end_mm
         xc = np.clip(x, 0.0, None)
-        arc = r - np.sqrt(np.clip(r * r - np.minimum(xc, xa) ** 2, 0.0, None)) if r > 0 else 0.0 * xc
+        arc = (
+            r - np.sqrt(np.clip(r * r - np.minimum(xc, xa) ** 2, 0.0, None)) if r > 0 else 0.0 * xc
+        )
         line = za + (xc - xa) * math.tan(t)
         d = np.where(xc <= xa, arc, line)
         return np.clip(d, 0.0, self.drop_mm) * (x >= 0)

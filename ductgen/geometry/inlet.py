@@ -106,7 +106,9 @@ class InletGeometry:
     def ramp_cavity_volume_mm3(self) -> float:
         """Volume between the skin plane and the floor inside the walls, 0 ≤ x ≤ L (mm³)."""
         pf, fl = self.planform, self.floor
-        return self._quad(lambda x: 2.0 * float(pf.half_width(x)) * float(fl.depth(x)), 0.0, self.length_mm)
+        return self._quad(
+            lambda x: 2.0 * float(pf.half_width(x)) * float(fl.depth(x)), 0.0, self.length_mm
+        )
 
     @cached_property
     def throat_block_volume_mm3(self) -> float:
@@ -146,7 +148,12 @@ class InletGeometry:
     def cutter_volume_mm3(self) -> float:
         """Expected cutter volume: cavity + throat + edge rounds + transition (mm³)."""
         duct = self.transition.volume_mm3() if self.transition else 0.0
-        return self.ramp_cavity_volume_mm3 + self.throat_block_volume_mm3 + self.edge_round_volume_mm3 + duct
+        return (
+            self.ramp_cavity_volume_mm3
+            + self.throat_block_volume_mm3
+            + self.edge_round_volume_mm3
+            + duct
+        )
 
     # --- tables -----------------------------------------------------------------------
     def offsets(self, stations: np.ndarray | None = None) -> list[dict[str, float]]:
@@ -183,24 +190,33 @@ def build_geometry(spec: Spec, profile: Profile | None = None) -> InletGeometry:
     else:
         if spec.lip.fairing_length is not None:
             raise SpecError(
-                "lip.fairing_length", spec.lip.fairing_length, "only with lip.style = 'raised'",
+                "lip.fairing_length",
+                spec.lip.fairing_length,
+                "only with lip.style = 'raised'",
                 "a flush lip has no fairing: its top is the skin",
             )
         fairing = 0.0
     lip = Lip(spec.lip.style, lip_t, spec.lip.nose_ratio, length, fairing)
     if lip.semi_major_mm > 0.5 * length:
         raise SpecError(
-            "lip.nose_ratio", spec.lip.nose_ratio, f"<= {length / lip_t:.2f} for this lip",
+            "lip.nose_ratio",
+            spec.lip.nose_ratio,
+            f"<= {length / lip_t:.2f} for this lip",
             "the elliptical nose would be longer than half the ramp",
         )
 
     r_edge = spec.planform.edge_radius
     if r_edge > 0:
-        limit = min(d / 2.0, planform.apex_width_mm / 2.0, lip_t if spec.lip.style == "flush" else d / 2.0)
+        limit = min(
+            d / 2.0, planform.apex_width_mm / 2.0, lip_t if spec.lip.style == "flush" else d / 2.0
+        )
         if r_edge > limit:
             raise SpecError(
-                "planform.edge_radius", r_edge, f"<= {limit:.2f} mm",
-                "the round must fit in half the throat depth, half the apex width and the lip thickness",
+                "planform.edge_radius",
+                r_edge,
+                f"<= {limit:.2f} mm",
+                "the round must fit in half the throat depth, half the apex width "
+                "and the lip thickness",
             )
 
     roof, flo = lip.roof_z_mm, -drop
@@ -214,24 +230,39 @@ def build_geometry(spec: Spec, profile: Profile | None = None) -> InletGeometry:
         else:
             ow, oh = out.width, out.height
         transition = Transition(
-            x_start_mm=lip.nose_end_mm, length_mm=out.transition_length, width_mm=w,
-            roof_z_mm=roof, floor_z_mm=flo, kind=out.kind, outlet_width_mm=ow,
-            outlet_height_mm=oh, outlet_top_z_mm=top,
+            x_start_mm=lip.nose_end_mm,
+            length_mm=out.transition_length,
+            width_mm=w,
+            roof_z_mm=roof,
+            floor_z_mm=flo,
+            kind=out.kind,
+            outlet_width_mm=ow,
+            outlet_height_mm=oh,
+            outlet_top_z_mm=top,
         )
         spigot = out.spigot_length
         half = abs(transition.equivalent_cone_half_angle_deg)
         if half > 30.0:
             raise SpecError(
-                "outlet.transition_length", out.transition_length,
+                "outlet.transition_length",
+                out.transition_length,
                 f">= {_min_transition(transition):.0f} mm for this outlet",
-                f"equivalent-cone half-angle {half:.1f}° > 30°: the duct would be a sudden step, not a transition",
+                f"equivalent-cone half-angle {half:.1f}° > 30°: "
+                "the duct would be a sudden step, not a transition",
             )
     else:
         assert isinstance(out, NoOutlet)
 
     return InletGeometry(
-        name=spec.name, width_mm=w, depth_mm=d, planform=planform, floor=floor, lip=lip,
-        transition=transition, edge_radius_mm=r_edge, skin_thickness_mm=spec.skin.thickness,
+        name=spec.name,
+        width_mm=w,
+        depth_mm=d,
+        planform=planform,
+        floor=floor,
+        lip=lip,
+        transition=transition,
+        edge_radius_mm=r_edge,
+        skin_thickness_mm=spec.skin.thickness,
         spigot_length_mm=spigot,
     )
 

@@ -64,7 +64,9 @@ class Lip:
         around the tip, to the underside at the nose end."""
         a, b = self.semi_major_mm, self.semi_minor_mm
         phi = np.linspace(0.5 * np.pi, 1.5 * np.pi, n)
-        return np.column_stack([self.nose_end_mm + a * np.cos(phi), self.centre_z_mm + b * np.sin(phi)])
+        return np.column_stack(
+            [self.nose_end_mm + a * np.cos(phi), self.centre_z_mm + b * np.sin(phi)]
+        )
 
     @property
     def nose_area_mm2(self) -> float:

@@ -65,12 +65,16 @@ def _parse(path: Path, key: str) -> Profile:
             continue
         cells = [c.strip() for c in line.split(",")]
         if len(cells) != 2:
-            raise SpecError(key, str(path), "two columns x_over_L, two_y_over_W", f"line {n} has {len(cells)}")
+            raise SpecError(
+                key, str(path), "two columns x_over_L, two_y_over_W", f"line {n} has {len(cells)}"
+            )
         try:
             rows.append((float(cells[0]), float(cells[1])))
         except ValueError:
             if header_seen or rows:
-                raise SpecError(key, str(path), "numbers", f"line {n} is not numeric: {line!r}") from None
+                raise SpecError(
+                    key, str(path), "numbers", f"line {n} is not numeric: {line!r}"
+                ) from None
             header_seen = True
     name = path.stem if key == "" else str(path)
     x = np.array([r[0] for r in rows], dtype=float)
@@ -114,13 +118,18 @@ def load_profile(name_or_path: str) -> Profile:
     candidate = Path(name_or_path)
     if candidate.suffix.lower() == ".csv":
         if not candidate.is_file():
-            raise SpecError("planform.profile", name_or_path, "an existing CSV file", "file not found")
+            raise SpecError(
+                "planform.profile", name_or_path, "an existing CSV file", "file not found"
+            )
         return _parse(candidate, "planform.profile")
     path = profiles_dir() / f"{name_or_path}.csv"
     if not path.is_file():
         names = ", ".join(p.name for p in available_profiles()) or "(none found)"
         raise SpecError(
-            "planform.profile", name_or_path, f"one of {names}, or a path to a .csv table", "unknown profile"
+            "planform.profile",
+            name_or_path,
+            f"one of {names}, or a path to a .csv table",
+            "unknown profile",
         )
     return _parse(path, "")
 

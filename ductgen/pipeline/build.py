@@ -90,7 +90,9 @@ def _select(only: list[str] | None) -> list[str]:
         return kinds
     bad = [k for k in only if k not in kinds]
     if bad:
-        raise SpecError("--only", ",".join(bad), "a comma list of " + ", ".join(kinds), "unknown output kind")
+        raise SpecError(
+            "--only", ",".join(bad), "a comma list of " + ", ".join(kinds), "unknown output kind"
+        )
     return [k for k in kinds if k in only]
 
 

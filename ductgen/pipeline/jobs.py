@@ -17,7 +17,7 @@ from ductgen.geometry.inlet import InletGeometry
 from ductgen.tolerances import DEFAULT_TOLERANCES, STL_QUALITY
 from ductgen.worker import stage
 
-__all__ = ["SOLID_KINDS", "SolidRecipe", "build_solids", "recipes"]
+__all__ = ["SOLID_KINDS", "SolidRecipe", "build_solids", "recipes", "warm_up"]
 
 
 @dataclass(frozen=True)
@@ -121,3 +121,11 @@ def build_solids(
         if kind == "cutter":
             out[kind]["wetted_area_mm2"] = _wetted_area(solid, g)
     return out
+
+
+def warm_up() -> str:
+    """Import the kernel in the worker ahead of the first build; returns its version."""
+    import cadquery as cq
+
+    recipes()
+    return str(cq.__version__)

@@ -13,7 +13,9 @@ from OCP.TopLoc import TopLoc_Location
 __all__ = ["triangulate"]
 
 
-def triangulate(shape: cq.Shape, linear_mm: float, angular_rad: float) -> tuple[np.ndarray, np.ndarray]:
+def triangulate(
+    shape: cq.Shape, linear_mm: float, angular_rad: float
+) -> tuple[np.ndarray, np.ndarray]:
     """Triangulate ``shape``: returns vertices (N, 3) in mm and faces (M, 3) int, outward.
 
     Vertices on shared edges come out identical from the kernel's mesher, so merging

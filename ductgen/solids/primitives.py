@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import itertools
 from collections.abc import Sequence
 
 import cadquery as cq
@@ -36,7 +37,7 @@ def wall_spline(planform: Planform, sign: float = 1.0, z: float = 0.0) -> cq.Edg
 
 def polyline_edges(points: Sequence[Sequence[float]]) -> list[cq.Edge]:
     """Straight edges joining consecutive 3D points (open polyline)."""
-    return [cq.Edge.makeLine(V(*a), V(*b)) for a, b in zip(points[:-1], points[1:], strict=True)]
+    return [cq.Edge.makeLine(V(*a), V(*b)) for a, b in itertools.pairwise(points)]
 
 
 def xz_ellipse_arc(
@@ -45,9 +46,7 @@ def xz_ellipse_arc(
     """Arc of the ellipse (x − cx)²/a² + (z − cz)²/b² = 1 in the plane at ``y``, from
     ``start_deg`` to ``end_deg`` (angles from +x towards +z), a ≥ b."""
     if abs(a - b) < 1e-12:
-        return cq.Edge.makeCircle(
-            a, V(centre_x, y, centre_z), V(0, -1, 0), start_deg, end_deg
-        )
+        return cq.Edge.makeCircle(a, V(centre_x, y, centre_z), V(0, -1, 0), start_deg, end_deg)
     return cq.Edge.makeEllipse(
         a, b, V(centre_x, y, centre_z), V(0, -1, 0), V(1, 0, 0), start_deg, end_deg
     )

@@ -34,7 +34,10 @@ def read_spec_data(path: Path) -> dict[str, Any]:
     kind = _SUFFIXES.get(path.suffix.lower())
     if kind is None:
         raise SpecError(
-            "file", str(path), "a .toml, .yaml, .yml or .json file", "spec format is chosen by suffix"
+            "file",
+            str(path),
+            "a .toml, .yaml, .yml or .json file",
+            "spec format is chosen by suffix",
         )
     try:
         text = path.read_text(encoding="utf-8")
@@ -52,11 +55,15 @@ def read_spec_data(path: Path) -> dict[str, Any]:
     except tomllib.TOMLDecodeError as err:
         raise SpecError("file", str(path), "valid TOML", f"syntax error: {err}") from err
     except json.JSONDecodeError as err:
-        raise SpecError("file", str(path), "valid JSON", f"syntax error at line {err.lineno}: {err.msg}") from err
+        raise SpecError(
+            "file", str(path), "valid JSON", f"syntax error at line {err.lineno}: {err.msg}"
+        ) from err
     except Exception as err:  # yaml.YAMLError carries its own line marks
         raise SpecError("file", str(path), "valid YAML", f"syntax error: {err}") from err
     if not isinstance(data, dict):
-        raise SpecError("file", str(path), "a table of sections at the top level", "nothing to read")
+        raise SpecError(
+            "file", str(path), "a table of sections at the top level", "nothing to read"
+        )
     return data
 
 
@@ -73,9 +80,24 @@ def _resolve_profile(data: dict[str, Any], base_dir: Path | None) -> dict[str, A
     return data
 
 
-def parse_spec(data: dict[str, Any], source: str | None = None, base_dir: Path | None = None) -> Spec:
+def _resolve_flow_table(data: dict[str, Any], base_dir: Path | None) -> dict[str, Any]:
+    """A relative ``flow.recovery`` CSV path is relative to the spec's folder (if there)."""
+    flow = data.get("flow")
+    if base_dir is None or not isinstance(flow, dict):
+        return data
+    table = flow.get("recovery")
+    if isinstance(table, str) and table.strip().lower().endswith(".csv"):
+        p = Path(table.strip()).expanduser()
+        if not p.is_absolute() and (base_dir / p).is_file():
+            data = {**data, "flow": {**flow, "recovery": str((base_dir / p).resolve())}}
+    return data
+
+
+def parse_spec(
+    data: dict[str, Any], source: str | None = None, base_dir: Path | None = None
+) -> Spec:
     """Validate plain data (a dict as read from a file) into a :class:`Spec`."""
-    data = _resolve_profile(data, base_dir)
+    data = _resolve_flow_table(_resolve_profile(data, base_dir), base_dir)
     try:
         return Spec.model_validate(data)
     except ValidationError as err:
@@ -183,11 +205,18 @@ def _to_spec_error(err: ValidationError, source: str | None) -> SpecError:
             close = difflib.get_close_matches(str(loc[-1]), known, n=1)
             hint = f"did you mean '{close[0]}'? " if close else ""
             problems.append(
-                (key, None, "keys " + ", ".join(known), f"unknown key; {hint}a typo must not fall back to a default")
+                (
+                    key,
+                    None,
+                    "keys " + ", ".join(known),
+                    f"unknown key; {hint}a typo must not fall back to a default",
+                )
             )
             continue
         if etype == "missing":
-            problems.append((key, None, "", f"required key is missing{': ' + reason if reason else ''}"))
+            problems.append(
+                (key, None, "", f"required key is missing{': ' + reason if reason else ''}")
+            )
             continue
         allowed = _ALLOWED.get(etype, "").format(**{k: v for k, v in ctx.items()})
         if isinstance(value, dict):

@@ -36,9 +36,7 @@ class ThroatSpec(Section):
     """The throat: the open rectangle at the lip station, ``width`` × ``depth`` (mm)."""
 
     width: Annotated[Mm, Field(gt=0, le=3000, description="throat width W at the lip station")]
-    depth: Annotated[
-        Mm, Field(gt=0, le=1000, description="throat depth D, floor to lip underside")
-    ]
+    depth: Annotated[Mm, Field(gt=0, le=1000, description="throat depth D, floor to lip underside")]
 
 
 class RampSpec(Section):
@@ -75,7 +73,10 @@ class PlanformSpec(Section):
     ``x/L, 2y/W`` (relative paths are from the spec file's folder)."""
 
     profile: Annotated[
-        str, Field(default="naca-standard", min_length=1, description="wall-curve table name or CSV path")
+        str,
+        Field(
+            default="naca-standard", min_length=1, description="wall-curve table name or CSV path"
+        ),
     ]
     edge_radius: Annotated[
         Mm, Field(default=0.0, ge=0, le=50, description="round where the walls meet the skin")
@@ -96,7 +97,9 @@ class LipSpec(Section):
     ]
     fairing_length: Annotated[
         Mm | None,
-        Field(default=None, gt=0, description="raised lip: length over which it fairs into the skin"),
+        Field(
+            default=None, gt=0, description="raised lip: length over which it fairs into the skin"
+        ),
     ]
 
 

@@ -14,10 +14,12 @@ name = "my-inlet"                      # file prefix of every output
 
 [throat]                               # the open rectangle at the lip station
 width = 100                            # W
-depth = 25                             # D: floor to lip underside (W/D 3-5 was tested, NACA RM A7I30)
+depth = 25                             # D: floor to lip underside
+                                       # (W/D 3-5 was tested, NACA RM A7I30)
 
 [ramp]
-angle_deg = 7.0                        # 5-7 deg recommended (NACA RM A7I30); or give length = ... instead
+angle_deg = 7.0                        # 5-7 deg recommended (NACA RM A7I30)
+                                       # or give length = ... instead
 entry_radius = 0                       # tangent arc where the ramp leaves the skin; 0 = sharp
 
 [planform]

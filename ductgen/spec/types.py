@@ -16,8 +16,8 @@ from ductgen.units import convert
 __all__ = [
     "Deg",
     "M",
-    "Mm",
     "MPerS",
+    "Mm",
     "Section",
     "si",
 ]

@@ -1,0 +1,29 @@
+"""Shared fixtures: bundled samples, built once per test session."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+
+ROOT = Path(__file__).resolve().parents[1]
+SAMPLES = sorted((ROOT / "samples").glob("*.toml"))
+
+
+def sample_ids() -> list[str]:
+    return [p.stem for p in SAMPLES]
+
+
+@pytest.fixture(scope="session")
+def sample_builds(tmp_path_factory: pytest.TempPathFactory) -> dict:
+    """Every sample built with every output kind, once: name → (BuildResult, out dir)."""
+    from ductgen.pipeline import build
+    from ductgen.spec import load_spec
+
+    out = {}
+    base = tmp_path_factory.mktemp("samples")
+    for path in SAMPLES:
+        spec = load_spec(path)
+        folder = base / path.stem
+        out[path.stem] = (build(spec, folder), folder)
+    return out

@@ -1,0 +1,160 @@
+"""`ductgen build` / `init` / `profiles` from the command line: exit codes, messages,
+nothing written on failure, no overwrite without --force."""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+from ductgen.cli.app import main
+
+GOOD = """\
+name = "t"
+[throat]
+width = 80
+depth = 20
+[ramp]
+angle_deg = 7
+[outlet]
+kind = "round"
+diameter = 50
+transition_length = 100
+"""
+
+
+def _run(args: list[str], capsys: pytest.CaptureFixture[str]) -> tuple[int, str, str]:
+    code = main(args)
+    out = capsys.readouterr()
+    return code, out.out, out.err
+
+
+def _spec(tmp_path: Path, text: str, name: str = "s.toml") -> Path:
+    p = tmp_path / name
+    p.write_text(text)
+    return p
+
+
+def test_build_writes_cutter_and_report(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    spec = _spec(tmp_path, GOOD)
+    out = tmp_path / "out"
+    code, _, err = _run(["build", str(spec), "-o", str(out), "--only", "cutter", "--quiet"], capsys)
+    assert code == 0, err
+    names = sorted(p.name for p in out.iterdir())
+    assert names == ["report.json", "t-cutter.step", "t-cutter.stl"]
+    rep = json.loads((out / "report.json").read_text())
+    assert rep["files"] == {"cutter_step": "t-cutter.step", "cutter_stl": "t-cutter.stl"}
+    g = rep["geometry"]
+    assert g["throat_area_mm2"] == 1600.0
+    # flush lip of the default 4 mm: H = D + t = 24 mm; straight ramp L = H / tan 7° (checks.md)
+    assert g["floor_drop_mm"] == 24.0
+    assert g["ramp_length_mm"] == pytest.approx(24.0 / math.tan(math.radians(7.0)), rel=1e-12)
+    assert len(g["offsets"]) == 11
+    assert g["cutter_volume_mm3"] > g["ramp_cavity_volume_mm3"] > 0
+    # no overwrite without --force; with it, fine
+    code, _, err = _run(["build", str(spec), "-o", str(out), "--only", "cutter", "-q"], capsys)
+    assert code == 2 and "--force" in err
+    code, _, _ = _run(
+        ["build", str(spec), "-o", str(out), "--only", "cutter", "-q", "--force"], capsys
+    )
+    assert code == 0
+
+
+@pytest.mark.parametrize(
+    ("text", "words"),
+    [
+        (GOOD.replace("width = 80", "width = -80"), ["throat.width", "-80", "> 0"]),
+        (GOOD.replace("depth = 20", "depth = 0"), ["throat.depth", "> 0"]),
+        (GOOD.replace("width = 80", "widht = 80"), ["throat.widht", "did you mean 'width'"]),
+        (GOOD.replace("angle_deg = 7", "angle_deg = 7\nlength = 200"), ["ramp", "not both"]),
+        (GOOD.replace("width = 80", 'width = "12 kg"'), ["throat.width", "12 kg", "not a length"]),
+        (
+            GOOD.replace("angle_deg = 7", "angle_deg = 7\nentry_radius = 9000"),
+            ["ramp.entry_radius", "<="],
+        ),
+        (GOOD.replace("depth = 20", "depth = = 20"), ["line 4", "TOML"]),
+        (GOOD.replace("diameter = 50", "diameter = 400"), ["outlet.transition_length", "30°"]),
+    ],
+)
+def test_bad_input_exits_2_naming_the_key_and_writes_nothing(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str], text: str, words: list[str]
+) -> None:
+    spec = _spec(tmp_path, text)
+    out = tmp_path / "out"
+    code, _, err = _run(["build", str(spec), "-o", str(out)], capsys)
+    assert code == 2
+    flat = " ".join(err.split())
+    for w in words:
+        assert w in flat, f"{w!r} missing from: {flat}"
+    assert not out.exists() or not any(out.iterdir())
+
+
+def test_invalid_custom_profile_exits_2(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    (tmp_path / "w.csv").write_text("x,f\n0,0.1\n0.5,0.7\n0.7,0.6\n1,1\n")
+    spec = _spec(tmp_path, GOOD + '[planform]\nprofile = "w.csv"\n')
+    code, _, err = _run(["build", str(spec), "-o", str(tmp_path / "o")], capsys)
+    assert code == 2
+    assert "planform.profile" in err and "non-decreasing" in err
+    assert not (tmp_path / "o").exists() or not any((tmp_path / "o").iterdir())
+
+
+def test_unknown_only_kind_exits_2(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    code, _, err = _run(
+        ["build", str(_spec(tmp_path, GOOD)), "-o", str(tmp_path / "o"), "--only", "wing"], capsys
+    )
+    assert code == 2 and "--only" in err and "cutter" in err
+
+
+def _cli(args: list[str], env: dict[str, str]) -> subprocess.CompletedProcess[str]:
+    return subprocess.run(
+        [sys.executable, "-m", "ductgen", *args],
+        capture_output=True,
+        text=True,
+        env={**os.environ, **env},
+        timeout=300,
+    )
+
+
+def test_kernel_timeout_is_a_geometry_error_naming_the_stage(tmp_path: Path) -> None:
+    out = tmp_path / "o"
+    r = _cli(["build", str(_spec(tmp_path, GOOD)), "-o", str(out)], {"DUCTGEN_TIMEOUT_S": "0.2"})
+    assert r.returncode == 1
+    assert "geometry failed at stage" in r.stderr and "longer than" in r.stderr
+    assert "Traceback" not in r.stderr
+    assert not out.exists() or not any(out.iterdir())
+
+
+def test_kernel_out_of_memory_is_a_geometry_error(tmp_path: Path) -> None:
+    out = tmp_path / "o"
+    r = _cli(["build", str(_spec(tmp_path, GOOD)), "-o", str(out)], {"DUCTGEN_MEMORY_MB": "300"})
+    assert r.returncode == 1
+    assert "geometry failed at stage" in r.stderr
+    assert "Traceback" not in r.stderr
+    assert not out.exists() or not any(out.iterdir())
+
+
+def test_init_writes_a_buildable_commented_spec(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
+    from ductgen.spec import load_spec
+
+    p = tmp_path / "new.toml"
+    assert _run(["init", str(p)], capsys)[0] == 0
+    assert "#" in p.read_text()
+    assert load_spec(p).name == "my-inlet"
+    assert _run(["init", str(p)], capsys)[0] == 2  # exists, no --force
+    code, _, _ = _run(["init", str(tmp_path / "k.toml"), "--example", "ekart-battery-vent"], capsys)
+    assert code == 0
+    assert _run(["init", str(tmp_path / "z.toml"), "--example", "nope"], capsys)[0] == 2
+
+
+def test_profiles_lists_sources(capsys: pytest.CaptureFixture[str]) -> None:
+    code, out, _ = _run(["profiles", "--json"], capsys)
+    assert code == 0
+    rows = json.loads(out)
+    assert any(r["name"] == "naca-standard" and "NACA" in r["source"] for r in rows)
