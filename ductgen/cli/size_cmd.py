@@ -1,1 +1,172 @@
-"""`ductgen size` (not yet registered)."""
+"""`ductgen size`: the smallest throat for a flow target; ``--write-spec`` seeds a spec."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+from typing import Annotated
+
+import typer
+
+from ductgen.cli.app import app, err_console
+
+__all__ = ["size_command"]
+
+
+def _quantity(key: str, text: str, dimension: str, unit: str) -> float:
+    """A CLI quantity: needs a unit, as in spec files (a bare number could be misread)."""
+    from ductgen.errors import SpecError
+    from ductgen.units import DIMENSIONS, convert
+
+    try:
+        return convert(text, dimension, unit)
+    except ValueError as err:
+        raise SpecError(
+            key, text, f"a {dimension} with a unit, e.g. {DIMENSIONS[dimension][1]}", str(err)
+        ) from None
+
+
+@app.command("size")
+def size_command(
+    flow: Annotated[
+        str,
+        typer.Option(
+            "--flow", help="volume flow needed, with unit: '0.06 m^3/s', '60 L/s', '120 cfm'"
+        ),
+    ],
+    speed: Annotated[
+        str, typer.Option("--speed", help="vehicle speed, with unit: '160 km/h', '45 m/s'")
+    ],
+    aspect: Annotated[
+        float, typer.Option("--aspect", help="throat width/depth W/D (3-5 tested, NACA RM A7I30)")
+    ] = 4.0,
+    angle: Annotated[
+        float, typer.Option("--angle", help="ramp angle, deg (5-7 recommended)")
+    ] = 7.0,
+    max_ivr: Annotated[
+        float,
+        typer.Option(
+            "--max-ivr", help="largest inlet velocity ratio accepted (common practice: 1)"
+        ),
+    ] = 1.0,
+    spec: Annotated[
+        Path | None, typer.Option("--spec", help="spec whose lip, outlet and flow losses to use")
+    ] = None,
+    name: Annotated[str | None, typer.Option("--name", help="spec name of the result")] = None,
+    write_spec: Annotated[
+        Path | None, typer.Option("--write-spec", help="write a buildable spec (.toml or .json)")
+    ] = None,
+    force: Annotated[
+        bool, typer.Option("--force", help="replace an existing --write-spec file")
+    ] = False,
+    as_json: Annotated[
+        bool, typer.Option("--json", help="print the result as JSON (report.json key names)")
+    ] = False,
+) -> None:
+    """Throat W, D and ramp length L that deliver a flow at a speed, through the spec's losses."""
+    from ductgen.errors import SpecError
+    from ductgen.export.atomic import check_free, write_atomic
+    from ductgen.flow.size import size_result_dict, size_throat, sized_spec_data, toml_text
+    from ductgen.spec import load_spec, parse_spec, read_spec_data
+
+    q = _quantity("--flow", flow, "volume_flow", "m^3/s")
+    v = _quantity("--speed", speed, "speed", "m/s")
+    suffix = None
+    if write_spec is not None:
+        suffix = write_spec.suffix.lower()
+        if suffix not in (".toml", ".json"):
+            raise SpecError(
+                "--write-spec",
+                str(write_spec),
+                "a .toml or .json path",
+                "the format follows the suffix",
+            )
+        check_free([write_spec], force)  # refuse before any work
+    base = load_spec(spec) if spec is not None else None
+    raw = read_spec_data(spec) if spec is not None else None
+    result = size_throat(
+        q, v, aspect=aspect, angle_deg=angle, base=base, name=name, max_ivr=max_ivr
+    )
+    out = size_result_dict(result)
+
+    if write_spec is not None:
+        data = sized_spec_data(result, raw)
+        parse_spec(data, source="(sized spec)")  # it must load back as written
+        header = (
+            f"written by ductgen size --flow '{flow}' --speed '{speed}'"
+            f" --aspect {aspect:g} --angle {angle:g}"
+            + (f" --spec {spec}" if spec is not None else "")
+        )
+        text = toml_text(data, header) if suffix == ".toml" else json.dumps(data, indent=2) + "\n"
+        write_atomic(write_spec, text.encode(), force=force)
+        out["spec_file"] = str(write_spec)
+
+    if as_json:
+        typer.echo(json.dumps(out, indent=2, allow_nan=False))
+        return
+    _print(out)
+    if write_spec is not None:
+        err_console.print(f"wrote {write_spec}; next: ductgen build {write_spec}")
+
+
+def _print(out: dict) -> None:  # type: ignore[type-arg]
+    from rich.console import Console
+    from rich.table import Table
+
+    con = Console()
+    f = out["flow"]
+    t = Table(
+        title=f"{out['name']}: smallest throat for {out['required_flow_m3_s'] * 1000:.1f} L/s",
+        show_header=False,
+        box=None,
+    )
+    rows = [
+        (
+            "throat W × D",
+            f"{out['throat_width_mm']:.2f} × {out['throat_depth_mm']:.2f} mm"
+            f" (W/D {out['aspect_ratio']:.2f})",
+        ),
+        ("throat area", f"{out['throat_area_mm2']:.0f} mm²"),
+        ("ramp angle / length", f"{out['ramp_angle_deg']:.2f}° / {out['ramp_length_mm']:.1f} mm"),
+        (
+            "boundary layer δ, δ/D",
+            f"{f['boundary_layer_thickness_m'] * 1000:.1f} mm, {f['delta_over_depth']:.2f}",
+        ),
+    ]
+    if f.get("operating_point") == "found":
+        rows += [
+            (
+                "delivered flow",
+                f"{f['volume_flow_m3_s'] * 1000:.2f} L/s ({f['mass_flow_kg_s']:.4f} kg/s)",
+            ),
+            ("inlet velocity ratio", f"{f['inlet_velocity_ratio']:.3f}"),
+            ("ram recovery", f"{f['ram_recovery']:.3f} ({f['recovery_model']})"),
+        ]
+    if out["size_limited_by"] == "ivr":
+        rows.append(
+            ("sized by", f"IVR limit {out['max_inlet_velocity_ratio']:g}: delivers more than asked")
+        )
+    for a, b in rows:
+        t.add_row(a, b)
+    con.print(t)
+    if f.get("operating_point") == "found":
+        b = Table(
+            "element",
+            "V m/s",
+            "K",
+            "Δp Pa",
+            title="pressure budget (sums to the recovered pressure)",
+        )
+        for item in f["budget"]:
+            b.add_row(
+                item["element"],
+                "" if item["velocity_m_s"] is None else f"{item['velocity_m_s']:.2f}",
+                "" if item["k"] is None else f"{item['k']:.3f}",
+                f"{item['dp_pa']:.1f}",
+            )
+        b.add_row("recovered", "", "", f"{f['recovered_total_pressure_pa']:.1f}")
+        con.print(b)
+    for w in out["warnings"]:
+        err_console.print(
+            f"[yellow]warning[/] {w['code']}: {w['message']}", markup=True, soft_wrap=True
+        )

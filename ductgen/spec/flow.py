@@ -1,44 +1,297 @@
 """The ``[flow]`` section: operating condition and the system behind the throat.
 
-Owned by the airflow work (brief §6); SI units inside.
+Owned by the airflow work (brief §6); SI units inside. Flow quantities need a unit in the
+spec file (``speed = "160 km/h"``, ``length = "1.2 m"``) because a bare number could be read
+in several units; zero may be written bare. Dimensionless numbers (``recovery``,
+``inlet_loss_factor``, ``exit_cp``, a cooler's ``k``) and angles in degrees are bare.
+
+Losses behind the throat are a list of elements keyed by ``kind``: ``hose``, ``bend``,
+``cooler`` (heat exchanger) and ``diffuser``. The inlet's own internal transition is added
+automatically from the geometry; the exit (``exit_cp``, ``exit_area``) closes the balance.
 """
 
 from __future__ import annotations
 
-from typing import Annotated, Literal
+from pathlib import Path
+from typing import Annotated, Any, Literal
 
-from pydantic import Field
+from pydantic import BeforeValidator, Field, model_validator
 
-from ductgen.spec.types import M, MPerS, Section, si
+from ductgen.spec.types import Deg, M, MPerS, Section, si
 
-__all__ = ["FlowSpec"]
+__all__ = [
+    "FLOW_UNITS",
+    "HOSE_ROUGHNESS_M",
+    "BendLoss",
+    "CoolerLoss",
+    "DiffuserLoss",
+    "FlowSpec",
+    "HoseLoss",
+    "LossElement",
+    "flow_data",
+]
+
+#: Default roughness of a flexible / corrugated hose (m): 0.5 mm, inside the 0.09–0.9 mm
+#: range quoted for such hoses (common practice, no source; measure or pass your own).
+HOSE_ROUGHNESS_M = 0.5e-3
+
+#: Unit in which each dimensional field of this section is held (and written back).
+FLOW_UNITS: dict[str, str] = {
+    "speed": "m/s",
+    "altitude": "m",
+    "temperature_offset": "K",
+    "density": "kg/m^3",
+    "run_length": "m",
+    "required_flow": "m^3/s",
+    "exit_area": "m^2",
+    "length": "m",
+    "diameter": "m",
+    "roughness": "m",
+    "radius": "m",
+    "inlet_diameter": "m",
+    "outlet_diameter": "m",
+    "face_area": "m^2",
+    "pressure_drop": "Pa",
+    "reference_flow": "m^3/s",
+}
+
+Area = Annotated[float, si("area", "m^2")]
+VolumeFlow = Annotated[float, si("volume_flow", "m^3/s")]
+Pressure = Annotated[float, si("pressure", "Pa")]
+Label = Annotated[
+    str | None, Field(default=None, min_length=1, max_length=60, description="name in the budget")
+]
 
 
 class HoseLoss(Section):
+    """A straight run of hose: Darcy friction ``f·L/D`` at the hose velocity."""
+
     kind: Literal["hose"] = "hose"
     length: Annotated[M, Field(gt=0, description="hose length")]
-    diameter: Annotated[M, Field(gt=0, description="hose inner diameter")]
+    diameter: Annotated[M, Field(gt=0, le=2, description="hose inner diameter")]
+    roughness: Annotated[
+        M,
+        Field(
+            default=HOSE_ROUGHNESS_M,
+            ge=0,
+            le=0.01,
+            description="wall roughness; default 0.5 mm for corrugated hose (common practice)",
+        ),
+    ]
+    label: Label
 
 
 class BendLoss(Section):
+    """A smooth bend of centreline ``radius``; K from ``fluids.fittings.bend_rounded``."""
+
     kind: Literal["bend"] = "bend"
-    angle_deg: Annotated[float, Field(gt=0, le=180, description="bend angle, deg")]
+    angle_deg: Annotated[Deg, Field(gt=0, le=180, description="bend angle, deg")]
     radius: Annotated[M, Field(gt=0, description="centreline bend radius")]
-    diameter: Annotated[M, Field(gt=0, description="hose inner diameter")]
+    diameter: Annotated[M, Field(gt=0, le=2, description="hose inner diameter")]
+    roughness: Annotated[
+        M, Field(default=HOSE_ROUGHNESS_M, ge=0, le=0.01, description="wall roughness")
+    ]
+    label: Label
+
+    @model_validator(mode="after")
+    def _radius_vs_diameter(self) -> BendLoss:
+        if self.radius < 0.5 * self.diameter:
+            raise ValueError(
+                f"bend radius {self.radius:g} m is below half the diameter "
+                f"({0.5 * self.diameter:g} m): the inner wall would fold"
+            )
+        return self
 
 
-LossElement = Annotated[HoseLoss | BendLoss, Field(discriminator="kind")]
+class CoolerLoss(Section):
+    """A heat exchanger (or filter, grille): either a loss coefficient ``k`` on its
+    ``face_area``, or a measured ``pressure_drop`` at ``reference_flow`` (scaled with the
+    square of the flow; same air density assumed)."""
+
+    kind: Literal["cooler"] = "cooler"
+    k: Annotated[
+        float | None,
+        Field(default=None, gt=0, le=1e4, description="loss coefficient on the face velocity"),
+    ]
+    face_area: Annotated[Area | None, Field(default=None, gt=0, description="core face area")]
+    pressure_drop: Annotated[
+        Pressure | None,
+        Field(default=None, gt=0, description="measured pressure drop at reference_flow"),
+    ]
+    reference_flow: Annotated[
+        VolumeFlow | None,
+        Field(default=None, gt=0, description="volume flow of the measured pressure drop"),
+    ]
+    label: Label
+
+    @model_validator(mode="after")
+    def _one_model(self) -> CoolerLoss:
+        by_k = self.k is not None
+        by_dp = self.pressure_drop is not None or self.reference_flow is not None
+        if by_k == by_dp:
+            raise ValueError(
+                "give either k with face_area, or pressure_drop with reference_flow (not both)"
+            )
+        if by_k and self.face_area is None:
+            raise ValueError("a cooler given by k needs face_area (k applies to the face velocity)")
+        if by_dp and (self.pressure_drop is None or self.reference_flow is None):
+            raise ValueError("a measured cooler needs both pressure_drop and reference_flow")
+        return self
+
+
+class DiffuserLoss(Section):
+    """A conical diffuser (or contraction) between two diameters, given its included
+    ``angle_deg`` or its ``length``; K on the inlet velocity from ``fluids``."""
+
+    kind: Literal["diffuser"] = "diffuser"
+    inlet_diameter: Annotated[M, Field(gt=0, le=2, description="small-end inner diameter")]
+    outlet_diameter: Annotated[M, Field(gt=0, le=2, description="outlet inner diameter")]
+    angle_deg: Annotated[
+        Deg | None, Field(default=None, gt=0, le=180, description="included angle, deg")
+    ]
+    length: Annotated[M | None, Field(default=None, gt=0, description="diffuser length")]
+    label: Label
+
+    @model_validator(mode="after")
+    def _angle_or_length(self) -> DiffuserLoss:
+        if (self.angle_deg is None) == (self.length is None):
+            raise ValueError("give the diffuser's angle_deg or its length, exactly one")
+        return self
+
+
+LossElement = Annotated[
+    HoseLoss | BendLoss | CoolerLoss | DiffuserLoss, Field(discriminator="kind")
+]
+
+
+def _recovery_value(value: Any) -> Any:
+    """``"capture"``, a constant in (0, 1], or a CSV table path (validated here)."""
+    if isinstance(value, bool):
+        raise ValueError("expected 'capture', a number in (0, 1] or a .csv table path")
+    if isinstance(value, int | float):
+        v = float(value)
+        if not 0.0 < v <= 1.0:
+            raise ValueError(f"a constant ram recovery must be in (0, 1], got {v:g}")
+        return v
+    if not isinstance(value, str):
+        raise ValueError("expected 'capture', a number in (0, 1] or a .csv table path")
+    text = value.strip()
+    if text == "capture":
+        return text
+    if not text.lower().endswith(".csv"):
+        raise ValueError("expected 'capture', a number in (0, 1] or a path ending in .csv")
+    from ductgen.flow.recovery import find_recovery_table, load_recovery_table
+
+    path = find_recovery_table(text)
+    load_recovery_table(path)  # raises ValueError naming the row
+    return str(path)
 
 
 class FlowSpec(Section):
-    """Flight or driving condition and the duct system the inlet feeds."""
+    """Flight or driving condition and the duct system the inlet feeds.
 
-    speed: Annotated[MPerS, Field(gt=0, description="vehicle speed relative to the air")]
-    altitude: Annotated[M, Field(default=0.0, ge=-5000, le=20000, description="geometric altitude")]
+    ``altitude`` is geometric (the US Standard Atmosphere 1976 of ``fluids`` converts it to
+    geopotential), inside that model's range −610 m to 86 km. ``density``, when given,
+    replaces the atmosphere's density (viscosity and speed of sound stay from the model).
+    """
+
+    speed: Annotated[MPerS, Field(gt=0, le=400, description="vehicle speed relative to the air")]
+    altitude: Annotated[
+        M,
+        Field(
+            default=0.0,
+            ge=-610,
+            le=86000,
+            description="geometric altitude within the US Standard Atmosphere 1976 range",
+        ),
+    ]
+    temperature_offset: Annotated[
+        float,
+        si("temperature", "K"),
+        Field(
+            default=0.0, ge=-100, le=100, description="temperature above standard (a difference, K)"
+        ),
+    ]
+    density: Annotated[
+        float | None,
+        si("density", "kg/m^3"),
+        Field(default=None, gt=0, le=10, description="air density replacing the atmosphere's"),
+    ]
     run_length: Annotated[
-        M, Field(default=1.0, gt=0, description="wetted run from the body's leading edge to the ramp start")
+        M,
+        Field(
+            default=1.0,
+            gt=0,
+            le=100,
+            description="wetted run from the body's leading edge to the ramp start",
+        ),
     ]
     required_flow: Annotated[
-        float | None, si("volume_flow", "m^3/s"), Field(default=None, gt=0, description="volume flow needed")
+        VolumeFlow | None, Field(default=None, gt=0, description="volume flow needed")
+    ]
+    recovery: Annotated[
+        float | str,
+        BeforeValidator(_recovery_value),
+        Field(
+            default="capture",
+            description="ram recovery: 'capture' (boundary-layer estimate), a constant, "
+            "or an IVR table CSV",
+        ),
+    ]
+    inlet_loss_factor: Annotated[
+        float,
+        Field(
+            default=0.95, gt=0, le=1, description="lip and ramp loss factor on the capture estimate"
+        ),
+    ]
+    exit_cp: Annotated[
+        float,
+        Field(
+            default=0.0, ge=-5, le=1, description="static-pressure coefficient where the air leaves"
+        ),
+    ]
+    exit_area: Annotated[
+        Area | None,
+        Field(default=None, gt=0, description="area of the final exit (default: last element)"),
     ]
     losses: list[LossElement] = Field(default_factory=list)
+
+    @property
+    def recovery_kind(self) -> str:
+        """``"capture"``, ``"constant"`` or ``"table"``."""
+        if isinstance(self.recovery, float):
+            return "constant"
+        return "capture" if self.recovery == "capture" else "table"
+
+
+def _with_unit(key: str, value: Any) -> Any:
+    unit = FLOW_UNITS.get(key)
+    if unit is None or not isinstance(value, float):
+        return value
+    return f"{value:.12g} {unit}"
+
+
+def flow_data(flow: FlowSpec) -> dict[str, Any]:
+    """The section as plain spec data with units written out (round-trips through
+    :class:`FlowSpec`); defaults and unset options are left out."""
+    out: dict[str, Any] = {
+        k: _with_unit(k, v)
+        for k, v in flow.model_dump(exclude_defaults=True).items()
+        if v is not None and k != "losses"
+    }
+    out["losses"] = [
+        {
+            "kind": e.kind,
+            **{
+                k: _with_unit(k, v)
+                for k, v in e.model_dump(exclude_defaults=True).items()
+                if v is not None and k != "kind"
+            },
+        }
+        for e in flow.losses
+    ]
+    if not out["losses"]:
+        del out["losses"]
+    if isinstance(flow.recovery, str) and flow.recovery != "capture":
+        out["recovery"] = str(Path(flow.recovery))
+    return out

@@ -1,0 +1,288 @@
+"""``ductgen size``: the smallest throat that delivers a flow target (brief §4, §6).
+
+At a fixed width-to-depth ratio W/D and ramp angle, the delivered volume flow of the
+operating point (:mod:`ductgen.flow.operating_point`) is evaluated as a function of the
+throat depth D, with everything else (lip, outlet, losses, flight condition) taken from a
+base spec. D is scanned on a geometric grid and the first grid interval where the flow
+reaches the target is refined with ``scipy.optimize.brentq``; W and D are then rounded *up*
+to 0.01 mm so the written spec still meets the target.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import re
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+from scipy.optimize import brentq
+
+from ductgen.errors import SpecError
+from ductgen.flow.operating_point import solve
+from ductgen.flow.report import build_system, flow_section
+from ductgen.flow.warnings import geometry_warnings
+from ductgen.geometry.inlet import InletGeometry, build_geometry
+from ductgen.geometry.profile import Profile, load_profile
+from ductgen.spec.flow import FlowSpec, flow_data
+from ductgen.spec.model import RampSpec, Spec, ThroatSpec
+
+__all__ = [
+    "MAX_IVR",
+    "SizeResult",
+    "delivered_flow",
+    "size_result_dict",
+    "size_throat",
+    "sized_spec_data",
+    "toml_text",
+]
+
+_D_MIN_MM = 0.5
+#: Default upper limit of the inlet velocity ratio for sizing (common practice, no source:
+#: a passive inlet should not need the air faster in its throat than in the free stream).
+MAX_IVR = 1.0
+_ROUND_MM = 0.01
+
+
+@dataclass(frozen=True)
+class SizeResult:
+    """The sized inlet: its spec (buildable), geometry, flow section and warnings."""
+
+    spec: Spec
+    geometry: InletGeometry
+    flow: dict[str, Any]
+    warnings: list[Any]
+    target_m3_s: float
+    aspect: float
+    limited_by: str = "flow"
+    max_ivr: float = 1.0
+
+
+def _with_throat(base: Spec, depth_mm: float, aspect: float, angle_deg: float) -> Spec:
+    # values are already in internal units and in range: copy without re-validating (fast)
+    throat = base.throat.model_copy(update={"width": aspect * depth_mm, "depth": depth_mm})
+    ramp = base.ramp.model_copy(update={"angle_deg": angle_deg, "length": None})
+    return base.model_copy(update={"throat": throat, "ramp": ramp})
+
+
+def _upper(field: str) -> float:
+    """The spec's upper limit of a throat dimension (mm)."""
+    for m in ThroatSpec.model_fields[field].metadata:
+        if getattr(m, "le", None) is not None:
+            return float(m.le)
+    raise AssertionError(f"throat.{field} has no upper limit")  # pragma: no cover
+
+
+def delivered_flow(spec: Spec, profile: Profile | None = None) -> float:
+    """Delivered volume flow (m³/s) of a spec with a [flow] section; 0 when no flow balances
+    or the geometry is impossible at this size (``profile``: the loaded wall table, reused)."""
+    assert spec.flow is not None
+    try:
+        g = build_geometry(spec, profile)
+    except SpecError:
+        return 0.0
+    p = solve(build_system(spec.flow, g)[0])
+    return float(p.volume_flow_m3_s) if p.found and p.volume_flow_m3_s else 0.0
+
+
+def _base_spec(base: Spec | None, flow_m3_s: float, speed_m_s: float, name: str | None) -> Spec:
+    if base is None:
+        base = Spec.model_validate(
+            {"name": name or "sized-inlet", "throat": {"width": 100, "depth": 25}}
+        )
+    if base.flow is None:
+        flow = FlowSpec.model_validate(
+            {"speed": f"{speed_m_s!r} m/s", "required_flow": f"{flow_m3_s!r} m^3/s"}
+        )
+    else:
+        flow = base.flow.model_copy(update={"speed": speed_m_s, "required_flow": flow_m3_s})
+    upd: dict[str, Any] = {"flow": flow}
+    if name:
+        upd["name"] = name
+    return base.model_copy(update=upd)
+
+
+def size_throat(
+    flow_m3_s: float,
+    speed_m_s: float,
+    *,
+    aspect: float = 4.0,
+    angle_deg: float = 7.0,
+    base: Spec | None = None,
+    name: str | None = None,
+    max_ivr: float = MAX_IVR,
+) -> SizeResult:
+    """Smallest throat at W/D = ``aspect`` delivering ``flow_m3_s`` at ``speed_m_s``.
+
+    Args:
+        flow_m3_s: target volume flow (m³/s), > 0.
+        speed_m_s: vehicle speed (m/s), > 0.
+        aspect: width-to-depth ratio W/D.
+        angle_deg: ramp angle (deg).
+        base: spec giving everything else (lip, outlet, [flow] losses...); None = defaults,
+            no outlet and no losses.
+        name: spec name of the result.
+        max_ivr: largest inlet velocity ratio accepted. A throat so small that the air must
+            be faster in it than in the free stream delivers the flow only on paper (the
+            1-D balance lets the diffuser pay it back); when this limit binds, the throat is
+            enlarged until IVR = ``max_ivr`` and delivers more than the target.
+
+    Raises:
+        SpecError: bad arguments, or no throat up to the spec's size limits delivers the flow.
+    """
+    checks = [
+        ("--flow", flow_m3_s, "> 0 m^3/s", flow_m3_s > 0),
+        ("--speed", speed_m_s, "> 0 and <= 400 m/s", 0 < speed_m_s <= 400),
+        ("--aspect", aspect, "0.2 to 50", 0.2 <= aspect <= 50),
+        ("--angle", angle_deg, "> 0 and < 30 deg", 0 < angle_deg < 30),
+        ("--max-ivr", max_ivr, "0.1 to 3", 0.1 <= max_ivr <= 3),
+    ]
+    bad = [(k, v, a, "sizing input") for k, v, a, ok in checks if not (ok and math.isfinite(v))]
+    if bad:
+        raise SpecError.many(bad)
+    spec0 = _base_spec(base, flow_m3_s, speed_m_s, name)
+    d_max = min(_upper("depth"), _upper("width") / aspect)
+    grid = np.geomspace(_D_MIN_MM, d_max, 48)
+
+    profile = load_profile(spec0.planform.profile)
+
+    def q_of(d: float) -> float:
+        return delivered_flow(_with_throat(spec0, float(d), aspect, angle_deg), profile)
+
+    qs = [q_of(d) for d in grid]
+    hit = next((i for i, q in enumerate(qs) if q >= flow_m3_s), None)
+    if hit is None:
+        best = max(qs)
+        raise SpecError(
+            "--flow",
+            flow_m3_s,
+            f"<= {best:.4g} m^3/s for this speed and system",
+            f"no throat up to {d_max:g} mm deep delivers it: the losses behind the inlet or the "
+            "speed limit the flow",
+        )
+    if hit == 0:
+        depth = float(grid[0])
+    else:
+        depth = float(brentq(lambda d: q_of(d) - flow_m3_s, grid[hit - 1], grid[hit], xtol=1e-6))
+    limited_by = "flow"
+    area = lambda d: aspect * d * d * 1e-6  # noqa: E731  (m², d in mm)
+    if q_of(depth) / (area(depth) * speed_m_s) > max_ivr:
+        limited_by = "ivr"
+        excess = [q / (area(d) * speed_m_s) - max_ivr for d, q in zip(grid, qs, strict=True)]
+        j = next((i for i, e in enumerate(excess) if grid[i] > depth and e <= 0), None)
+        if j is None:
+            raise SpecError(
+                "--max-ivr",
+                max_ivr,
+                "a larger limit",
+                f"no throat up to {d_max:g} mm keeps IVR below it",
+            )
+        lo = max(depth, float(grid[j - 1]))
+        depth = float(
+            brentq(lambda d: q_of(d) / (area(d) * speed_m_s) - max_ivr, lo, grid[j], xtol=1e-6)
+        )
+    depth = math.ceil(depth / _ROUND_MM - 1e-9) * _ROUND_MM
+    width = math.ceil(aspect * depth / _ROUND_MM - 1e-9) * _ROUND_MM
+    throat = ThroatSpec(width=round(width, 6), depth=round(depth, 6))
+    ramp = RampSpec(angle_deg=angle_deg, entry_radius=spec0.ramp.entry_radius)
+    spec = spec0.model_copy(update={"throat": throat, "ramp": ramp})
+    g = build_geometry(spec)
+    assert spec.flow is not None
+    section, warnings = flow_section(spec.flow, g)
+    return SizeResult(
+        spec=spec,
+        geometry=g,
+        flow=section,
+        warnings=geometry_warnings(g) + warnings,
+        target_m3_s=flow_m3_s,
+        aspect=aspect,
+        limited_by=limited_by,
+        max_ivr=max_ivr,
+    )
+
+
+def size_result_dict(r: SizeResult) -> dict[str, Any]:
+    """The sizing result with report.json key names (geometry keys at the top level)."""
+    g = r.geometry
+    return {
+        "name": r.spec.name,
+        "throat_width_mm": g.width_mm,
+        "throat_depth_mm": g.depth_mm,
+        "throat_area_mm2": g.throat_area_mm2,
+        "aspect_ratio": g.width_mm / g.depth_mm,
+        "ramp_angle_deg": g.floor.angle_deg,
+        "ramp_length_mm": g.length_mm,
+        "floor_drop_mm": g.drop_mm,
+        "required_flow_m3_s": r.target_m3_s,
+        "max_inlet_velocity_ratio": r.max_ivr,
+        "size_limited_by": r.limited_by,
+        "flow": r.flow,
+        "warnings": [w.to_dict() for w in r.warnings],
+    }
+
+
+def sized_spec_data(r: SizeResult, raw: dict[str, Any] | None = None) -> dict[str, Any]:
+    """Plain spec data of the sized inlet: the base spec file's own sections (``raw``, units
+    as the user wrote them) with throat, ramp and flow replaced; CSV paths made absolute."""
+    s = r.spec
+    data: dict[str, Any] = {k: v for k, v in (raw or {}).items()}
+    data["name"] = s.name
+    data["throat"] = {"width": s.throat.width, "depth": s.throat.depth}
+    data["ramp"] = {"angle_deg": s.ramp.angle_deg, "entry_radius": s.ramp.entry_radius}
+    if s.planform.profile.lower().endswith(".csv"):
+        data["planform"] = {**data.get("planform", {}), "profile": s.planform.profile}
+    assert s.flow is not None
+    data["flow"] = flow_data(s.flow)
+    order = ["name", "throat", "ramp", "planform", "lip", "outlet", "skin"]
+    keys = [*(k for k in order if k in data), *(k for k in data if k not in order)]
+    return {k: data[k] for k in keys}
+
+
+_BARE = re.compile(r"^[A-Za-z0-9_-]+$")
+
+
+def _key(k: str) -> str:
+    return k if _BARE.match(k) else json.dumps(k)
+
+
+def _value(v: Any) -> str:
+    if isinstance(v, bool):
+        return "true" if v else "false"
+    if isinstance(v, int | float):
+        if isinstance(v, float) and not math.isfinite(v):
+            raise ValueError(f"cannot write {v} to TOML")
+        return repr(v)
+    if isinstance(v, str):
+        return json.dumps(v, ensure_ascii=False)
+    if isinstance(v, dict):
+        return (
+            "{ "
+            + ", ".join(f"{_key(k)} = {_value(x)}" for k, x in v.items() if x is not None)
+            + " }"
+        )
+    if isinstance(v, list | tuple):
+        return "[" + ", ".join(_value(x) for x in v) + "]"
+    raise ValueError(f"cannot write a {type(v).__name__} to TOML")
+
+
+def toml_text(data: dict[str, Any], header: str = "") -> str:
+    """Spec data as TOML: top-level values, then one ``[section]`` per table; lists of
+    tables (``flow.losses``) as arrays of inline tables."""
+    lines = [f"# {ln}" for ln in header.splitlines()]
+    for k, v in data.items():
+        if not isinstance(v, dict) and v is not None:
+            lines.append(f"{_key(k)} = {_value(v)}")
+    for k, v in data.items():
+        if isinstance(v, dict):
+            lines += ["", f"[{_key(k)}]"]
+            for kk, vv in v.items():
+                if vv is None:
+                    continue
+                if isinstance(vv, list) and vv and all(isinstance(x, dict) for x in vv):
+                    lines.append(f"{_key(kk)} = [")
+                    lines += [f"  {_value(x)}," for x in vv]
+                    lines.append("]")
+                else:
+                    lines.append(f"{_key(kk)} = {_value(vv)}")
+    return "\n".join(lines) + "\n"
