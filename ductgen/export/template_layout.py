@@ -1,0 +1,263 @@
+"""What goes on the 1:1 marking template, as plain entities in plan coordinates (mm).
+
+One :class:`TemplateDrawing` feeds both encoders (:mod:`ductgen.export.dxf` and
+:mod:`ductgen.export.pdf_template`), so the DXF and the tiled PDF show the same lines.
+Layers, as a cutter or CAM program sees them:
+
+* ``CUT`` — closed contours to cut: the skin opening (and the flange outline or trim line
+  when the fabrication geometry provides one);
+* ``HOLES`` — fastener circles;
+* ``MARK`` — centreline, ramp-start and lip station ticks, table-station ticks, flow arrow,
+  hole centre crosses (marking only, never cut);
+* ``TEXT`` — name, spec hash, date, units, kerf note, "verify scale", cautions;
+* ``SCALE`` — a 100 mm bar and a 4 in bar.
+
+Coordinates (brief §2): x downstream from the ramp start, y spanwise, centreline y = 0.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import os
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ductgen.export.outline import Contour, opening_contour
+from ductgen.geometry.inlet import InletGeometry
+from ductgen.spec.model import Spec
+
+__all__ = [
+    "CAUTIONS",
+    "CAUTIONS_SHORT",
+    "LAYERS",
+    "Circle",
+    "Line",
+    "ScaleBar",
+    "TemplateDrawing",
+    "Text",
+    "build_date",
+    "template_drawing",
+]
+
+#: Layer name → AutoCAD colour index.
+LAYERS: dict[str, int] = {"CUT": 1, "HOLES": 5, "MARK": 3, "TEXT": 7, "SCALE": 6}
+
+#: Brief §7, in full: on every drawing sheet and the template's assembly page.
+CAUTIONS = (
+    "Cutting an opening weakens a panel or airframe: reinforce, and for aircraft get the "
+    "modification approved under your aviation authority's rules. Brake and engine cooling are "
+    "safety-critical: validate by test. Printed plastics soften near brakes, exhausts and engines: "
+    "choose material by its heat-deflection temperature. Composites: resin and dust need PPE and "
+    "ventilation. Verify the printed template's scale bar before cutting. Follow local codes, "
+    "competition regulations and licensed practice; ductgen's estimates are not a certification."
+)
+
+#: Brief §7, short form for the template's TEXT layer.
+CAUTIONS_SHORT: tuple[str, ...] = (
+    "CAUTION: cutting an opening weakens the panel - reinforce it;",
+    "aircraft: get the modification approved by your aviation authority.",
+    "Brake/engine cooling is safety-critical: validate by test.",
+    "Printed plastics soften near brakes, exhausts, engines: choose by HDT.",
+    "Composites: use PPE and ventilation. Verify the scale bars before cutting.",
+    "Follow local codes and rules; ductgen estimates are not a certification.",
+)
+
+_INCH_MM = 25.4
+
+
+@dataclass(frozen=True)
+class Line:
+    """A straight marking line from ``a`` to ``b`` (mm)."""
+
+    a: tuple[float, float]
+    b: tuple[float, float]
+    layer: str = "MARK"
+
+
+@dataclass(frozen=True)
+class Circle:
+    """A circle (mm)."""
+
+    centre: tuple[float, float]
+    radius: float
+    layer: str = "HOLES"
+
+
+@dataclass(frozen=True)
+class Text:
+    """One line of text; ``height`` is the cap height (mm), anchored at its left baseline."""
+
+    at: tuple[float, float]
+    text: str
+    height: float = 3.0
+    layer: str = "TEXT"
+
+
+@dataclass(frozen=True)
+class ScaleBar:
+    """A verify-scale bar of true length ``length_mm`` starting at ``at``, with a label."""
+
+    at: tuple[float, float]
+    length_mm: float
+    label: str
+
+
+@dataclass
+class TemplateDrawing:
+    """Every entity of the template, in mm plan coordinates.
+
+    Attributes:
+        name: spec name; units: the DXF drawing unit (``"mm"`` or ``"in"``).
+        cuts: (role, contour) pairs on ``CUT``; role ``"opening"`` first.
+        circles, lines, texts, bars: the other entities.
+    """
+
+    name: str
+    units: str
+    cuts: list[tuple[str, Contour]] = field(default_factory=list)
+    circles: list[Circle] = field(default_factory=list)
+    lines: list[Line] = field(default_factory=list)
+    texts: list[Text] = field(default_factory=list)
+    bars: list[ScaleBar] = field(default_factory=list)
+
+    def cut_extent(self) -> tuple[float, float, float, float]:
+        """(xmin, ymin, xmax, ymax) of CUT, HOLES and MARK geometry (mm): what the PDF tiles."""
+        pts = [c.sample(2.0) for _, c in self.cuts]
+        pts += [np.array([ln.a, ln.b]) for ln in self.lines]
+        pts += [np.array(c.centre) + c.radius * np.array([[-1, -1], [1, 1]]) for c in self.circles]
+        p = np.vstack(pts)
+        return (
+            float(p[:, 0].min()),
+            float(p[:, 1].min()),
+            float(p[:, 0].max()),
+            float(p[:, 1].max()),
+        )
+
+
+def build_date() -> str:
+    """Date stamped on the outputs: ``SOURCE_DATE_EPOCH`` (reproducible builds) or today."""
+    epoch = os.environ.get("SOURCE_DATE_EPOCH")
+    if epoch and epoch.isdigit():
+        return _dt.datetime.fromtimestamp(int(epoch), tz=_dt.timezone.utc).date().isoformat()
+    return _dt.date.today().isoformat()
+
+
+def _kerf_note(kerf: float, has_outer: bool) -> str:
+    if kerf <= 0:
+        return "KERF 0: cut ON the line"
+    outer = f"; outer trims offset OUTWARD {kerf / 2:.3f} mm" if has_outer else ""
+    return f"KERF {kerf:.3f} mm: opening offset INWARD {kerf / 2:.3f} mm{outer}"
+
+
+def template_drawing(
+    g: InletGeometry,
+    spec: Spec,
+    spec_hash: str,
+    outer: list[tuple[str, Contour]] | None = None,
+    holes: list[tuple[float, float]] | None = None,
+    hole_diameter_mm: float = 0.0,
+) -> TemplateDrawing:
+    """Lay out the template of one inlet.
+
+    Args:
+        g: the inlet geometry.
+        spec: the spec (``template`` options: units, tolerance, kerf).
+        spec_hash: ``spec_sha256`` for the text block.
+        outer: further closed CUT contours (flange outline / trim line), already
+            offset for kerf, each with a role name.
+        holes: fastener hole centres (mm) and their diameter ``hole_diameter_mm``.
+
+    Returns:
+        The drawing, mm.
+    """
+    t = spec.template
+    pf = g.planform
+    length, half = pf.length_mm, 0.5 * g.width_mm
+    h0 = 0.5 * pf.apex_width_mm
+    d = TemplateDrawing(name=spec.name, units=t.units)
+    d.cuts.append(("opening", opening_contour(pf, t.tolerance, 0.5 * t.kerf)))
+    for role, contour in outer or []:
+        d.cuts.append((role, contour))
+    for cx, cy in holes or []:
+        r = 0.5 * hole_diameter_mm
+        d.circles.append(Circle((cx, cy), r))
+        arm = 0.75 * hole_diameter_mm + 1.5
+        d.lines.append(Line((cx - arm, cy), (cx + arm, cy)))
+        d.lines.append(Line((cx, cy - arm), (cx, cy + arm)))
+
+    # centreline, station ticks outside the walls, flow arrow upstream of everything
+    xa = min(float(c.points[:, 0].min()) for _, c in d.cuts) - 4.0
+    xb = max(float(c.points[:, 0].max()) for _, c in d.cuts) + 15.0
+    d.lines.append(Line((xa - 36.0, 0.0), (xb, 0.0)))
+    for x, hw, tick in [(0.0, h0, 12.0), (length, half, 12.0)] + [
+        (float(x), float(pf.half_width(x)), 5.0) for x in pf.node_x_mm[1:-1]
+    ]:
+        for s in (1.0, -1.0):
+            d.lines.append(Line((x, s * (hw + 2.0)), (x, s * (hw + 2.0 + tick))))
+    tip = (xa, 0.0)
+    d.lines += [Line(tip, (xa - 6.0, 3.0)), Line(tip, (xa - 6.0, -3.0))]
+
+    ymin = min(float(c.points[:, 1].min()) for _, c in d.cuts) - 25.0
+    d.texts.append(Text((xa - 34.0, 4.5), "FLOW", 3.0, "MARK"))
+    d.texts.append(Text((2.0, h0 + 16.0), "RAMP START x=0", 2.5, "MARK"))
+    d.texts.append(Text((length - 30.0, half + 16.0), f"LIP x={length:.2f} mm", 2.5, "MARK"))
+
+    # scale bars and text block below the drawing
+    d.bars.append(ScaleBar((0.0, ymin), 100.0, "100 mm - VERIFY SCALE"))
+    d.bars.append(ScaleBar((0.0, ymin - 14.0), 4.0 * _INCH_MM, "4 in - VERIFY SCALE"))
+    unit_note = "UNITS: mm (1:1)" if t.units == "mm" else "UNITS: inch (1:1)"
+    lines = [
+        f"{spec.name}  -  NACA-type flush inlet, skin opening template",
+        f"W {g.width_mm:.2f} x D {g.depth_mm:.2f} mm, L {length:.2f} mm, "
+        f"ramp {g.floor.angle_deg:.2f} deg",
+        f"spec sha256 {spec_hash[:16]}  date {build_date()}  {unit_note}",
+        _kerf_note(t.kerf, len(d.cuts) > 1),
+        "VERIFY SCALE: the 100 mm bar must measure 100 mm before cutting",
+        *CAUTIONS_SHORT,
+    ]
+    y = ymin - 30.0
+    for i, s in enumerate(lines):
+        d.texts.append(Text((0.0, y - 5.0 * i), s, 3.0 if i else 3.5))
+    return d
+
+
+def template_files(g: InletGeometry, spec: Spec, spec_hash: str) -> dict[str, bytes]:
+    """Encode ``template.dxf`` and ``template.pdf`` (suffix → bytes) for one inlet."""
+    from ductgen.export.dxf import dxf_bytes
+    from ductgen.export.pdf_template import pdf_bytes
+
+    t = spec.template
+    d = template_drawing(g, spec, spec_hash, *_fabrication(g, spec))
+    info = [
+        f"Skin opening of {spec.name}: W {g.width_mm:.2f} mm, L {g.length_mm:.2f} mm, "
+        f"apex {g.planform.apex_width_mm:.2f} mm.",
+        f"spec sha256 {spec_hash[:16]}, {build_date()}, paper {t.paper}.",
+        _kerf_note(t.kerf, len(d.cuts) > 1) + ".",
+    ]
+    return {
+        "template.dxf": dxf_bytes(d),
+        "template.pdf": pdf_bytes(
+            d, t.paper, t.overlap, (t.scale_x, t.scale_y), spec.name, info, CAUTIONS
+        ),
+    }
+
+
+def _fabrication(g: InletGeometry, spec: Spec):  # type: ignore[no-untyped-def]
+    """The insert's flange (or surface bezel) outline as an outer CUT contour, offset outward
+    by kerf/2, and its fastener holes, from :mod:`ductgen.geometry.fabrication`.
+
+    The outline is rebuilt here from the true wall curve with the same construction (the
+    footprint to ``footprint_end_mm`` offset by wall + edge round + flange width, round
+    corners), so it can be fitted with arcs instead of copying the sampled polyline.
+    """
+    from ductgen.export.outline import outward_contour
+    from ductgen.geometry.fabrication import flange_layout, footprint_end_mm
+
+    ins, t = spec.insert, spec.template
+    fl = flange_layout(g, ins, spec.skin)
+    dist = fl.cutout_offset_mm + fl.flange_width_mm + 0.5 * t.kerf
+    role = "flange outline" if ins.mount == "behind" else "bezel outline"
+    outer = [(role, outward_contour(g.planform, footprint_end_mm(g), dist, t.tolerance))]
+    holes = [(float(x), float(y)) for x, y in fl.hole_centres_xy]
+    return outer, holes, float(fl.hole_diameter_mm)

@@ -1,0 +1,147 @@
+"""``NAME-preview.png``: a shaded 3D picture of the insert (or the cutter) via VTK offscreen.
+
+The picture is rendered with pyvista/VTK off screen (EGL or OSMesa through Mesa; no display
+needed, ~1 s, brief §9) from the triangulation the build already made
+(``ctx.solids[kind]["mesh"]``), or from a draft triangulation of the cutter made in the kernel
+worker when no solid was built in this run. Rendering also runs in the worker process, so a
+broken OpenGL stack cannot take the build down: it becomes an :class:`ExportError` that says
+which system libraries are missing. matplotlib 3D is not used: it mis-orders faces on these
+shapes (brief §9).
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+import numpy as np
+
+from ductgen.errors import ExportError, GeometryError
+
+__all__ = ["GL_PACKAGES", "cutter_mesh_job", "preview_png", "render_png"]
+
+#: Debian/Ubuntu packages that offscreen VTK rendering needs on a bare machine.
+GL_PACKAGES = "libgl1 libegl1 libegl-mesa0 libgl1-mesa-dri libx11-6 libxrender1"
+
+_KINDS = ("insert", "cutter", "plug")
+
+
+def _skin_plate(opening: np.ndarray, margin: float) -> Any:
+    """The skin at z = 0 as a flat plate with the opening (CCW (K, 2) mm) as a hole."""
+    import pyvista as pv
+
+    x0, y0 = opening.min(axis=0) - margin
+    x1, y1 = opening.max(axis=0) + margin
+    rect = np.array([[x0, y0], [x1, y0], [x1, y1], [x0, y1]])
+    pts = np.column_stack([np.vstack([rect, opening[::-1]]), np.zeros(4 + len(opening))])
+    loops = np.hstack([[4, 0, 1, 2, 3], [len(opening), *range(4, 4 + len(opening))]])
+    return pv.PolyData(pts).delaunay_2d(edge_source=pv.PolyData(pts, faces=loops))
+
+
+def render_png(
+    verts: np.ndarray,
+    faces: np.ndarray,
+    opening: np.ndarray | None = None,
+    size: tuple[int, int] = (1600, 1000),
+    colour: str = "#c9a86b",
+) -> bytes:
+    """Shaded 3D view of a triangle mesh (vertices mm (N, 3), faces (M, 3)), seen from above,
+    upstream and to one side.
+
+    With ``opening`` (the skin opening, CCW (K, 2) mm) the mesh is a cutter: its faces in the
+    skin plane are dropped and a skin plate with the opening is drawn, so the picture shows
+    the cavity as it looks let into a panel.
+
+    Returns PNG bytes. Raises :class:`ExportError` when no offscreen OpenGL context can be made.
+    """
+    import io
+
+    try:
+        import pyvista as pv
+        from vtkmodules.vtkCommonCore import vtkLogger, vtkObject
+
+        # headless: VTK tries X first and logs a harmless warning before falling back to EGL
+        vtkLogger.SetStderrVerbosity(vtkLogger.VERBOSITY_OFF)
+        vtkObject.GlobalWarningDisplayOff()
+
+        pv.OFF_SCREEN = True
+        tri = np.hstack(
+            [np.full((len(faces), 1), 3, dtype=np.int64), np.asarray(faces, dtype=np.int64)]
+        )
+        mesh = pv.PolyData(np.asarray(verts, dtype=float), tri.ravel())
+        plate = None
+        if opening is not None:
+            v = np.asarray(verts, dtype=float)[np.asarray(faces)]
+            n = np.cross(v[:, 1] - v[:, 0], v[:, 2] - v[:, 0])
+            top = (np.abs(v[:, :, 2]).max(axis=1) < 1e-6) & (n[:, 2] > 0)
+            mesh = mesh.extract_cells(np.flatnonzero(~top)).extract_surface(algorithm="dataset_surface")
+            span = float(np.ptp(opening[:, 0]))
+            plate = _skin_plate(np.asarray(opening, dtype=float), 0.3 * span)
+        mesh = mesh.compute_normals(cell_normals=False, split_vertices=True, feature_angle=35.0)
+        pl = pv.Plotter(off_screen=True, window_size=list(size))
+        pl.set_background("white", top="#dfe7ef")
+        pl.add_mesh(mesh, color=colour, smooth_shading=True, specular=0.3, specular_power=20)
+        edges = mesh.extract_feature_edges(
+            35.0, boundary_edges=False, manifold_edges=False, non_manifold_edges=False
+        )
+        if edges.n_points:
+            pl.add_mesh(edges, color="#3a3a3a", line_width=1.5)
+        if plate is not None:
+            pl.add_mesh(plate, color="#9aa3ad", specular=0.2, smooth_shading=False)
+        pl.enable_lightkit()
+        # looking from above, upstream and to one side: the ramp, walls and lip all show
+        b = (plate if plate is not None else mesh).bounds
+        c = np.array([(b[0] + b[1]) / 2, (b[2] + b[3]) / 2, (b[4] + b[5]) / 2])
+        span = max(b[1] - b[0], b[3] - b[2], b[5] - b[4])
+        pl.camera_position = [tuple(c + span * np.array([-0.55, -0.85, 0.75])), tuple(c), (0, 0, 1)]
+        pl.camera.zoom(1.0)
+        img = pl.screenshot(return_img=True, transparent_background=False)
+        pl.close()
+    except Exception as err:  # VTK raises plain RuntimeError/ValueError on GL failures
+        raise ExportError(_gl_message(f"{type(err).__name__}: {err}")) from err
+    from PIL import Image
+
+    buf = io.BytesIO()
+    Image.fromarray(np.asarray(img)).save(buf, format="PNG", optimize=True)
+    return buf.getvalue()
+
+
+def _gl_message(detail: str) -> str:
+    return (
+        "preview.png: offscreen OpenGL rendering failed "
+        f"({detail}). On Debian/Ubuntu install: apt-get install {GL_PACKAGES}; "
+        "or leave 'sheet' out of --only"
+    )
+
+
+def cutter_mesh_job(g: Any) -> tuple[np.ndarray, np.ndarray]:
+    """Kernel-worker job: draft triangulation of the cutter (mm) for a preview."""
+    from ductgen.solids.cutter import make_cutter
+    from ductgen.solids.mesh import triangulate
+    from ductgen.tolerances import STL_QUALITY
+
+    verts, faces = triangulate(make_cutter(g), *STL_QUALITY["draft"])
+    return verts.astype("float32"), faces.astype("int32")
+
+
+def preview_png(ctx: Any, worker: Any = None) -> bytes:
+    """PNG of the built insert, else the cutter or plug; builds a draft cutter mesh if none.
+
+    Args:
+        ctx: the :class:`~ductgen.pipeline.build.BuildContext`.
+        worker: a :class:`~ductgen.worker.KernelWorker` (default: the process-wide one).
+    """
+    from ductgen.worker import default_worker
+
+    w = worker or default_worker()
+    kind = next((k for k in _KINDS if "mesh" in ctx.solids.get(k, {})), None)
+    if kind is None:
+        kind, mesh = "cutter", w.run("ductgen.sheets.preview:cutter_mesh_job", ctx.geometry)
+    else:
+        mesh = ctx.solids[kind]["mesh"]
+    opening = ctx.geometry.planform.outline(300) if kind == "cutter" else None
+    try:
+        return w.run(
+            "ductgen.sheets.preview:render_png", mesh[0], mesh[1], opening, timeout_s=120.0
+        )
+    except GeometryError as err:  # the renderer crashed the worker (no GL driver at all)
+        raise ExportError(_gl_message(err.detail)) from err

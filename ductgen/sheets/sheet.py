@@ -1,0 +1,371 @@
+"""``NAME-sheet.pdf``: one dimensioned drawing sheet of the inlet (matplotlib).
+
+A3 landscape (420 × 297 mm) for ``template.paper = "A4"``, ANSI B / tabloid landscape
+(431.8 × 279.4 mm) for ``"Letter"``. The views are drawn at a standard scale chosen to fit
+(stated under each view): plan view of the skin opening, centreline section (skin, ramp
+floor, lip, throat and transition), an enlarged lip detail; the table of offsets (x,
+half-width, floor depth) at every station of the profile (marked ``*``) and at 5 % steps,
+the key dimensions, a title block and the cautions (brief §7). Dimensions in mm.
+"""
+
+from __future__ import annotations
+
+import io
+import textwrap
+from typing import Any
+
+import numpy as np
+
+from ductgen.export.template_layout import CAUTIONS, build_date
+from ductgen.geometry.inlet import InletGeometry
+
+__all__ = ["SHEET_MM", "offset_rows", "sheet_pdf"]
+
+#: template.paper → drawing sheet (width, height) mm, landscape.
+SHEET_MM: dict[str, tuple[float, float]] = {"A4": (420.0, 297.0), "Letter": (431.8, 279.4)}
+_SCALES = (5.0, 2.0, 1.0, 0.5, 0.2, 0.1, 0.05, 0.02, 0.01)
+_INCH = 25.4
+_RC = {
+    "path.simplify": False,
+    "pdf.use14corefonts": True,
+    "font.family": "sans-serif",
+    "font.sans-serif": ["Helvetica"],
+}
+
+
+def offset_rows(g: InletGeometry) -> list[dict[str, Any]]:
+    """Offsets at the profile's stations and at 5 % steps of L, sorted by x.
+
+    Each row: ``x_over_L``, ``x_mm``, ``half_width_mm``, ``floor_depth_mm`` and ``station``
+    (True at a tabulated station of the profile). Values come from
+    :meth:`InletGeometry.offsets`, the same function ``report.json`` uses.
+    """
+    prof = np.asarray(g.planform.profile.x, dtype=float)
+    steps = np.round(np.linspace(0.0, 1.0, 21), 12)
+    s = np.array(sorted(set(np.round(prof, 12)) | set(steps)))
+    rows = g.offsets(s)
+    out = []
+    for si, r in zip(s, rows, strict=True):
+        out.append({"x_over_L": float(si), **r, "station": bool(np.any(np.abs(prof - si) < 1e-9))})
+    return out
+
+
+def _scale_for(extent: tuple[float, float], box: tuple[float, float]) -> float:
+    k = min(box[0] / extent[0], box[1] / extent[1])
+    return next((s for s in _SCALES if s <= k), _SCALES[-1])
+
+
+def _view(fig, page, box, centre, scale):  # type: ignore[no-untyped-def]
+    """Axes covering paper box (x, y, w, h) mm, data in true mm at ``scale`` around ``centre``."""
+    x, y, w, h = box
+    ax = fig.add_axes((x / page[0], y / page[1], w / page[0], h / page[1]))
+    ax.set_xlim(centre[0] - 0.5 * w / scale, centre[0] + 0.5 * w / scale)
+    ax.set_ylim(centre[1] - 0.5 * h / scale, centre[1] + 0.5 * h / scale)
+    ax.set_axis_off()
+    return ax
+
+
+def _scale_text(s: float) -> str:
+    return f"{s:g}:1" if s >= 1 else f"1:{1 / s:g}"
+
+
+def _dim(ax, a, b, off, text, horizontal=True, fs=6.5) -> None:  # type: ignore[no-untyped-def]
+    """Linear dimension between a and b, offset ``off`` (data mm) perpendicular to it."""
+    a, b = np.asarray(a, float), np.asarray(b, float)
+    if horizontal:
+        pa, pb = a + np.array([0.0, off]), np.array([b[0], a[1] + off])
+        ext = [(a, pa), (b, np.array([b[0], pa[1]]))]
+    else:
+        pa, pb = a + np.array([off, 0.0]), np.array([a[0] + off, b[1]])
+        ext = [(a, pa), (b, np.array([pa[0], b[1]]))]
+    for p, q in ext:
+        ax.plot([p[0], q[0]], [p[1], q[1]], color="0.45", lw=0.3)
+    ax.annotate(
+        "",
+        pa,
+        pb,
+        arrowprops={"arrowstyle": "<->", "lw": 0.5, "color": "0.2", "shrinkA": 0, "shrinkB": 0},
+    )
+    m = 0.5 * (pa + pb)
+    ax.text(
+        m[0],
+        m[1],
+        text,
+        fontsize=fs,
+        ha="center",
+        va="center",
+        rotation=0 if horizontal else 90,
+        bbox={"fc": "white", "ec": "none", "pad": 0.6},
+    )
+
+
+def _plan(fig, page, box, g: InletGeometry) -> float:  # type: ignore[no-untyped-def]
+    pf, length, w = g.planform, g.length_mm, g.width_mm
+    s = _scale_for((length * 1.25, w * 1.6), box[2:])
+    ax = _view(fig, page, box, (0.5 * length, 0.0), s)
+    o = pf.outline(400)
+    o = np.vstack([o, o[:1]])
+    ax.plot(o[:, 0], o[:, 1], color="k", lw=0.7)
+    ax.plot([-0.06 * length, 1.06 * length], [0, 0], color="0.4", lw=0.3, ls=(0, (8, 2, 1, 2)))
+    for x in pf.node_x_mm:
+        hw = float(pf.half_width(x))
+        ax.plot([x, x], [-hw, hw], color="0.75", lw=0.25)
+    _dim(ax, (length, -0.5 * w), (length, 0.5 * w), 0.08 * length, f"W {w:.2f}", horizontal=False)
+    _dim(ax, (0, -0.5 * w), (length, -0.5 * w), -0.18 * w, f"L {length:.2f}")
+    _dim(
+        ax,
+        (0, -0.5 * pf.apex_width_mm),
+        (0, 0.5 * pf.apex_width_mm),
+        -0.05 * length,
+        f"{pf.apex_width_mm:.2f}",
+        horizontal=False,
+    )
+    ax.annotate(
+        "FLOW",
+        (0.25 * length, 0.62 * w),
+        (0.05 * length, 0.62 * w),
+        fontsize=7,
+        va="center",
+        arrowprops={"arrowstyle": "->", "lw": 0.6},
+    )
+    return s
+
+
+def _section_profile(g: InletGeometry) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Centreline section: floor (x, z) from the ramp start to the outlet, and roof (x, z)."""
+    length = g.length_mm
+    x = np.linspace(0.0, length, 300)
+    floor = [np.column_stack([x, -g.floor.depth(x)])]
+    roof = [np.array([[g.lip.nose_end_mm, g.lip.roof_z_mm]])]
+    xe = g.throat_end_mm
+    floor.append(np.array([[xe, -g.drop_mm]]))
+    if g.transition is not None:
+        t = g.transition
+        floor.append(np.array([[t.x_end_mm, t.outlet_top_z_mm - t.outlet_height_mm]]))
+        roof.append(np.array([[t.x_end_mm, t.outlet_top_z_mm]]))
+    return np.vstack(floor), np.vstack(roof), g.lip.nose()
+
+
+def _section(fig, page, box, g: InletGeometry) -> float:  # type: ignore[no-untyped-def]
+    floor, roof, nose = _section_profile(g)
+    x_end = float(floor[-1, 0])
+    zmin = float(floor[:, 1].min())
+    s = _scale_for((x_end * 1.2, (-zmin + 2 * g.lip.thickness_mm) * 1.3), box[2:])
+    ax = _view(fig, page, box, (0.5 * x_end, 0.5 * zmin + 0.5 * g.lip.thickness_mm), s)
+    ax.plot([-0.06 * x_end, 1.03 * x_end], [0, 0], color="0.5", lw=0.4)  # skin outer surface
+    ax.plot([-0.06 * x_end, 0], [-g.skin_thickness_mm] * 2, color="0.7", lw=0.3)
+    ax.plot(floor[:, 0], floor[:, 1], color="k", lw=0.7)
+    ax.plot(roof[:, 0], roof[:, 1], color="k", lw=0.7)
+    ax.fill(nose[:, 0], nose[:, 1], color="0.85", ec="k", lw=0.6)
+    lip = g.lip
+    if lip.style == "raised" and lip.fairing_length_mm > 0:
+        ax.plot(
+            [lip.nose_end_mm, lip.nose_end_mm + lip.fairing_length_mm],
+            [lip.thickness_mm, 0],
+            color="k",
+            lw=0.6,
+        )
+    length = g.length_mm
+    _dim(
+        ax,
+        (length, -g.drop_mm),
+        (length, 0.0),
+        -0.06 * x_end,
+        f"H {g.drop_mm:.2f}",
+        horizontal=False,
+    )
+    _dim(
+        ax,
+        (g.throat_end_mm, -g.drop_mm),
+        (g.throat_end_mm, lip.roof_z_mm),
+        0.06 * x_end,
+        f"D {g.depth_mm:.2f}",
+        horizontal=False,
+    )
+    xa = 0.45 * length
+    ax.text(
+        xa,
+        -float(g.floor.depth(xa)) - 0.12 * g.drop_mm,
+        f"ramp {g.floor.angle_deg:.2f} deg",
+        fontsize=6.5,
+        ha="center",
+        va="top",
+    )
+    if g.transition is not None:
+        t = g.transition
+        ax.text(
+            t.x_end_mm,
+            t.outlet_top_z_mm + 2,
+            f"outlet {t.kind} {t.outlet_width_mm:.1f}",
+            fontsize=6,
+            ha="right",
+        )
+    return s
+
+
+def _lip_detail(fig, page, box, g: InletGeometry) -> float:  # type: ignore[no-untyped-def]
+    lip = g.lip
+    nose = lip.nose()
+    a, t = lip.semi_major_mm, lip.thickness_mm
+    s = _scale_for((3.2 * a + 2 * t, 3.0 * t), box[2:])
+    ax = _view(fig, page, box, (lip.station_mm + 0.8 * a, lip.centre_z_mm), s)
+    ax.fill(
+        np.r_[nose[:, 0], lip.nose_end_mm + 1.2 * a, lip.nose_end_mm + 1.2 * a],
+        np.r_[nose[:, 1], nose[-1, 1], nose[0, 1]],
+        color="0.85",
+        ec="k",
+        lw=0.6,
+    )
+    ax.plot([lip.station_mm - a, lip.nose_end_mm + 1.3 * a], [0, 0], color="0.5", lw=0.4)
+    _dim(
+        ax,
+        (lip.nose_end_mm + 1.2 * a, nose[-1, 1]),
+        (lip.nose_end_mm + 1.2 * a, nose[0, 1]),
+        0.25 * a,
+        f"t {t:.2f}",
+        horizontal=False,
+    )
+    _dim(ax, (lip.station_mm, nose[-1, 1]), (lip.nose_end_mm, nose[-1, 1]), -0.6 * t, f"a {a:.2f}")
+    ax.text(
+        lip.station_mm - 0.9 * a,
+        lip.centre_z_mm + 1.1 * t,
+        f"{lip.style} lip, elliptical nose {lip.nose_ratio:g}:1",
+        fontsize=6.5,
+    )
+    return s
+
+
+def sheet_pdf(
+    g: InletGeometry, spec: Any, spec_hash: str, version: str, preview: bytes | None = None
+) -> bytes:
+    """Encode the drawing sheet PDF.
+
+    Args:
+        g: inlet geometry; spec: the spec (name, template units and paper).
+        spec_hash: ``spec_sha256``; version: ductgen version for the title block.
+        preview: optional PNG drawn in the picture box.
+    """
+    import logging
+
+    from matplotlib import rc_context
+    from matplotlib.backends.backend_pdf import PdfPages
+    from matplotlib.figure import Figure
+    from matplotlib.patches import Rectangle
+
+    logging.getLogger("matplotlib.font_manager").setLevel(logging.ERROR)
+    page = SHEET_MM[spec.template.paper]
+    pw, ph = page
+    buf = io.BytesIO()
+    with (
+        rc_context(_RC),
+        PdfPages(
+            buf, metadata={"Title": f"{spec.name} drawing sheet", "Creator": "ductgen"}
+        ) as pdf,
+    ):
+        fig = Figure(figsize=(pw / _INCH, ph / _INCH))
+        bg = fig.add_axes((0, 0, 1, 1))
+        bg.set_xlim(0, pw)
+        bg.set_ylim(0, ph)
+        bg.set_axis_off()
+        bg.add_patch(Rectangle((10, 10), pw - 20, ph - 20, fill=False, lw=1.0))
+        tx = pw - 10 - 118  # right column: table, dimensions, title block
+        bg.plot([tx, tx], [10, ph - 10], color="k", lw=0.6)
+        views = [
+            ("PLAN VIEW (skin opening, outer surface)", (14, 160, tx - 18, ph - 160 - 16), _plan),
+            ("CENTRELINE SECTION", (14, 92, tx - 18, 62), _section),
+            ("LIP DETAIL", (14, 14, 0.45 * (tx - 18), 70), _lip_detail),
+        ]
+        for title, box, fn in views:
+            s = fn(fig, page, box, g)
+            bg.text(
+                box[0],
+                box[1] + box[3] - 1,
+                f"{title}   scale {_scale_text(s)}",
+                fontsize=7.5,
+                weight="bold",
+                va="top",
+            )
+        if preview:
+            from PIL import Image
+
+            img = np.asarray(Image.open(io.BytesIO(preview)).convert("RGB"))
+            bx = 14 + 0.45 * (tx - 18) + 4
+            bw = tx - 4 - bx
+            bh = min(74.0, bw * img.shape[0] / img.shape[1])
+            iax = fig.add_axes((bx / pw, 12 / ph, bw / pw, bh / ph))
+            iax.imshow(img, interpolation="bilinear")
+            iax.set_axis_off()
+        _table(bg, tx, ph, g)
+        _key_dims(bg, tx, g)
+        _title_block(bg, tx, pw, g, spec, spec_hash, version)
+        pdf.savefig(fig)
+    return buf.getvalue()
+
+
+def _table(bg, tx: float, ph: float, g: InletGeometry) -> None:  # type: ignore[no-untyped-def]
+    rows = offset_rows(g)
+    y = ph - 16
+    bg.text(tx + 4, y, "TABLE OF OFFSETS (mm)   * = profile station", fontsize=7.5, weight="bold")
+    y -= 5.5
+    cols = (tx + 4, tx + 22, tx + 48, tx + 78)
+    for cx, head in zip(cols, ("x/L", "x", "half-width", "floor depth"), strict=True):
+        bg.text(cx, y, head, fontsize=6.8, weight="bold")
+    step = min(3.6, (ph - 150 - 30) / max(len(rows), 1))
+    for r in rows:
+        y -= step
+        mark = "*" if r["station"] else " "
+        cells = (
+            f"{r['x_over_L']:.3f}{mark}",
+            f"{r['x_mm']:.2f}",
+            f"{r['half_width_mm']:.3f}",
+            f"{r['floor_depth_mm']:.3f}",
+        )
+        for cx, c in zip(cols, cells, strict=True):
+            bg.text(cx, y, c, fontsize=6.5, weight="bold" if r["station"] else "normal")
+
+
+def _key_dims(bg, tx: float, g: InletGeometry) -> None:  # type: ignore[no-untyped-def]
+    pf = g.planform
+    items = [
+        ("throat width W", f"{g.width_mm:.2f} mm"),
+        ("throat depth D", f"{g.depth_mm:.2f} mm"),
+        ("ramp length L", f"{g.length_mm:.2f} mm"),
+        ("ramp angle", f"{g.floor.angle_deg:.2f} deg"),
+        ("entry radius", f"{g.floor.entry_radius_mm:.2f} mm"),
+        ("floor drop H", f"{g.drop_mm:.2f} mm"),
+        ("apex width", f"{pf.apex_width_mm:.2f} mm"),
+        ("max wall divergence", f"{pf.max_divergence_deg:.1f} deg"),
+        ("lip", f"{g.lip.style}, t {g.lip.thickness_mm:.2f} mm, nose {g.lip.nose_ratio:g}:1"),
+        ("throat area W x D", f"{g.throat_area_mm2:.0f} mm2"),
+    ]
+    y = 150.0
+    bg.text(tx + 4, y, "KEY DIMENSIONS", fontsize=7.5, weight="bold")
+    for k, v in items:
+        y -= 3.9
+        bg.text(tx + 4, y, k, fontsize=6.8)
+        bg.text(tx + 50, y, v, fontsize=6.8)
+
+
+def _title_block(bg, tx, pw, g, spec, spec_hash, version) -> None:  # type: ignore[no-untyped-def]
+    from matplotlib.patches import Rectangle
+
+    bg.add_patch(Rectangle((tx, 10), pw - 10 - tx, 95, fill=False, lw=0.6))
+    bg.text(tx + 4, 99, "CAUTIONS", fontsize=7.5, weight="bold")
+    y = 95.0
+    for line in textwrap.wrap(CAUTIONS, 78):
+        bg.text(tx + 4, y, line, fontsize=6.2)
+        y -= 3.1
+    bg.plot([tx, pw - 10], [48, 48], color="k", lw=0.6)
+    units = "mm" if spec.template.units == "mm" else "mm (template in inches)"
+    rows = [
+        (spec.name, 11, "bold"),
+        ("NACA-type flush inlet - drawing sheet", 7.5, "normal"),
+        (f"date {build_date()}    units {units}", 7, "normal"),
+        (f"spec sha256 {spec_hash}", 5.6, "normal"),
+        (f"ductgen {version}    profile {g.planform.profile.name}", 7, "normal"),
+        ("Dimensions in mm. Do not scale from this sheet: use the 1:1 template.", 6.5, "normal"),
+    ]
+    y = 42.0
+    for text, fs, wt in rows:
+        bg.text(tx + 4, y, text, fontsize=fs, weight=wt)
+        y -= 5.6

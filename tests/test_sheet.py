@@ -1,0 +1,114 @@
+"""The drawing sheet and the preview picture of a real build (cutter + sheet).
+
+Sources: the offsets table must equal ``report.json`` ``geometry.offsets`` (brief §5, the
+project's own contract); the 5 % steps and the cautions are brief §3/§7; the NACA ACR 5I20
+stations x/L = 0, 0.1 … 1 (checks.md, [memory]) are the profile's stations.
+"""
+
+from __future__ import annotations
+
+import io
+import json
+
+import numpy as np
+import pymupdf
+import pytest
+from PIL import Image
+
+from ductgen.pipeline import build
+from ductgen.spec import parse_spec
+
+
+@pytest.fixture(scope="module")
+def built(tmp_path_factory):  # type: ignore[no-untyped-def]
+    out = tmp_path_factory.mktemp("sheet")
+    spec = parse_spec(
+        {
+            "name": "sh",
+            "throat": {"width": 100, "depth": 25},
+            "outlet": {"kind": "round", "diameter": 50, "transition_length": 120},
+        }
+    )
+    res = build(spec, out, only=["cutter", "sheet"])
+    return res, out
+
+
+def _rows(page) -> list[list[str]]:  # type: ignore[no-untyped-def]
+    """Table rows: words grouped by baseline, right of the table's 'x/L' header."""
+    words = page.get_text("words")
+    head = next(w for w in words if w[4] == "x/L")
+    rows: dict[float, list] = {}
+    for w in words:
+        if w[0] >= head[0] - 1 and w[1] > head[3]:
+            rows.setdefault(round(w[3], 0), []).append(w)
+    out = []
+    for _, ws in sorted(rows.items()):
+        cells = [w[4] for w in sorted(ws, key=lambda w: w[0])]
+        if len(cells) == 4 and cells[0].rstrip("*").replace(".", "").isdigit():
+            out.append(cells)
+    return out
+
+
+def test_offsets_table_equals_report(built) -> None:  # type: ignore[no-untyped-def]
+    _, out = built
+    report = json.loads((out / "report.json").read_text())
+    assert (
+        report["files"]["sheet_pdf"] == "sh-sheet.pdf"
+        and report["files"]["preview_png"] == "sh-preview.png"
+    )
+    offsets = report["geometry"]["offsets"]
+    doc = pymupdf.open(out / "sh-sheet.pdf")
+    assert len(doc) == 1
+    rows = _rows(doc[0])
+    stations = [r for r in rows if r[0].endswith("*")]
+    assert len(stations) == len(offsets) == 11  # NACA ACR 5I20 table: x/L = 0, 0.1 ... 1 ([memory])
+    for r, o in zip(stations, offsets, strict=True):
+        assert float(r[1]) == pytest.approx(o["x_mm"], abs=0.0051)
+        assert float(r[2]) == pytest.approx(o["half_width_mm"], abs=0.00051)
+        assert float(r[3]) == pytest.approx(o["floor_depth_mm"], abs=0.00051)
+    # 5 % steps: x/L = 0, 0.05 ... 1 all present (union with the stations: 21 rows)
+    xl = sorted(float(r[0].rstrip("*")) for r in rows)
+    assert np.allclose(xl, np.linspace(0, 1, 21), atol=5e-4)
+
+
+def test_sheet_has_views_dimensions_title_block_and_cautions(built) -> None:  # type: ignore[no-untyped-def]
+    res, out = built
+    g = res.report["geometry"]
+    text = " ".join(pymupdf.open(out / "sh-sheet.pdf")[0].get_text().split())
+    for s in (
+        "PLAN VIEW",
+        "CENTRELINE SECTION",
+        "LIP DETAIL",
+        "KEY DIMENSIONS",
+        "TABLE OF OFFSETS",
+        f"W {g['throat_width_mm']:.2f}",
+        f"L {g['ramp_length_mm']:.2f}",
+        f"D {g['throat_depth_mm']:.2f}",
+        f"{g['ramp_angle_deg']:.2f} deg",
+        res.report["spec_sha256"],
+        res.report["ductgen_version"],
+        "units mm",
+        "aviation authority",
+        "not a certification",
+        "Verify the printed template",
+    ):
+        assert s in text, s
+    page = pymupdf.open(out / "sh-sheet.pdf")[0]
+    w, h = sorted((page.rect.width, page.rect.height))
+    assert (w, h) == (
+        pytest.approx(297 * 72 / 25.4, abs=0.01),
+        pytest.approx(420 * 72 / 25.4, abs=0.01),
+    )  # A3
+
+
+def test_preview_is_a_shaded_picture(built) -> None:  # type: ignore[no-untyped-def]
+    _, out = built
+    img = np.asarray(
+        Image.open(io.BytesIO((out / "sh-preview.png").read_bytes())).convert("RGB")
+    ).astype(float)
+    assert img.shape[0] >= 600 and img.shape[1] >= 900
+    # shaded, not blank: many distinct grey levels and a warm-coloured part in the frame
+    grey = img.mean(axis=2)
+    assert len(np.unique(grey.round())) > 50
+    warm = (img[..., 0] - img[..., 2]) > 25
+    assert 0.01 < warm.mean() < 0.8
