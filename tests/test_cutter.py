@@ -9,6 +9,8 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 cq = pytest.importorskip("cadquery")
 
@@ -79,7 +81,8 @@ def test_ramp_cavity_volume_equals_width_times_depth_integral(built) -> None:  #
     g, c = built
     L = g.length_mm
     big = 10 * (g.width_mm + g.drop_mm + L)
-    clip = cq.Solid.makeBox(L + big, 2 * big, 2 * big, cq.Vector(-big, -big, -big))
+    # the ramp cavity: below the skin plane (the cutter's overcut rises above it), x <= L
+    clip = cq.Solid.makeBox(L + big, 2 * big, big, cq.Vector(-big, -big, -big))
     cavity = c.intersect(clip)
     # numerical integral of width x floor depth over 0 <= x <= L, by a plain trapezoid
     # rule on a dense grid (independent of the adaptive quadrature in the geometry layer)
@@ -133,3 +136,45 @@ def test_stl_is_watertight_and_close_to_the_brep(built, tmp_path: Path) -> None:
     mesh = trimesh.load(path, force="mesh")  # an independent reader
     assert mesh.is_watertight and mesh.is_winding_consistent
     assert mesh.volume == pytest.approx(g.cutter_volume_mm3, rel=5e-3)
+
+
+@settings(max_examples=8, deadline=None, derandomize=True)
+@given(
+    width=st.floats(30.0, 300.0),
+    aspect=st.floats(2.5, 6.0),
+    angle=st.floats(4.0, 10.0),
+    entry=st.floats(0.0, 2.0),
+    lip=st.sampled_from(["flush", "raised"]),
+    outlet=st.sampled_from(["none", "round", "rect"]),
+)
+def test_random_valid_specs_give_sound_cutters(
+    width: float, aspect: float, angle: float, entry: float, lip: str, outlet: str
+) -> None:
+    """Across the design space, every spec the geometry accepts gives a valid closed cutter
+    whose volume is the integrated one (the kernel's failure modes, brief §9)."""
+    from ductgen.solids.check import check_solid
+    from ductgen.tolerances import DEFAULT_TOLERANCES
+
+    depth = width / aspect
+    data: dict = {
+        "throat": {"width": width, "depth": depth},
+        "ramp": {"angle_deg": angle, "entry_radius": entry * depth},
+        "lip": {"style": lip, "thickness": min(6.0, depth / 3)},
+    }
+    if outlet == "round":
+        data["outlet"] = {
+            "kind": "round",
+            "diameter": 1.2 * (width * depth) ** 0.5,
+            "transition_length": 3 * depth,
+        }
+    elif outlet == "rect":
+        data["outlet"] = {
+            "kind": "rect",
+            "width": 0.8 * width,
+            "height": 1.4 * depth,
+            "transition_length": 3 * depth,
+        }
+    g = build_geometry(parse_spec(data))
+    res = check_solid(make_cutter(g), "cutter", g.cutter_volume_mm3, DEFAULT_TOLERANCES)
+    assert res.watertight and res.winding_consistent
+    assert res.volume_mm3 == pytest.approx(g.cutter_volume_mm3, rel=2e-3)

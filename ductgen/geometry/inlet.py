@@ -57,6 +57,9 @@ class InletGeometry:
         edge_radius_mm: round where the walls meet the skin (0 = sharp).
         skin_thickness_mm: panel thickness.
         spigot_length_mm: outlet spigot/collar length (0 without outlet).
+        overcut_mm: how far the cutter rises above the outer skin over the opening, so
+            the subtraction never meets coplanar faces and the tangent ramp entry is not a
+            zero-angle edge.
     """
 
     name: str
@@ -69,6 +72,7 @@ class InletGeometry:
     edge_radius_mm: float
     skin_thickness_mm: float
     spigot_length_mm: float = 0.0
+    overcut_mm: float = 1.0
 
     # --- stations ---------------------------------------------------------------------
     @property
@@ -110,46 +114,67 @@ class InletGeometry:
             lambda x: 2.0 * float(pf.half_width(x)) * float(fl.depth(x)), 0.0, self.length_mm
         )
 
+    def _air_band(self, x: float) -> list[tuple[float, float]]:
+        """Air intervals (z_lo, z_hi) of the cutter at station x inside the walls (mm, z
+        up): from the floor to the overcut top, less the lip nose where it stands."""
+        bands = [(-float(self.floor.depth(x)), self.overcut_mm)]
+        lip = self.lip
+        if x > lip.station_mm:
+            u = min((x - lip.nose_end_mm) / lip.semi_major_mm, 0.0)
+            s = lip.semi_minor_mm * math.sqrt(max(1.0 - u * u, 0.0))
+            lo_n, hi_n = lip.centre_z_mm - s, lip.centre_z_mm + s
+            out = []
+            for lo, hi in bands:
+                if lo < lo_n:
+                    out.append((lo, min(hi, lo_n)))
+                if hi > hi_n:
+                    out.append((max(lo, hi_n), hi))
+            bands = [(lo, hi) for lo, hi in out if hi > lo]
+        return bands
+
     @cached_property
     def throat_block_volume_mm3(self) -> float:
-        """Air between the lip station and the nose end, L ≤ x ≤ L + a (mm³)."""
-        a = self.lip.semi_major_mm
-        block = self.width_mm * self.drop_mm * a
-        if self.lip.style == "flush":
-            block -= self.width_mm * self.lip.nose_area_mm2
-        return block
+        """Cutter volume between the lip station and the nose end, L ≤ x ≤ L + a (mm³)."""
+        return self._quad(
+            lambda x: self.width_mm * sum(hi - lo for lo, hi in self._air_band(x)),
+            self.length_mm,
+            self.throat_end_mm,
+        )
 
-    def _air_band(self, x: float) -> list[tuple[float, float]]:
-        """Air intervals (z_lo, z_hi) at station x inside the walls (mm, z up)."""
-        top = 0.0
-        bot = -float(self.floor.depth(x))
-        lip = self.lip
-        if lip.style == "flush" and x > lip.station_mm:
-            u = min((x - lip.nose_end_mm) / lip.semi_major_mm, 0.0)
-            h = lip.semi_minor_mm * math.sqrt(max(1.0 - u * u, 0.0))
-            return [(bot, lip.centre_z_mm - h), (lip.centre_z_mm + h, top)]
-        return [(bot, top)]
+    @cached_property
+    def overcut_volume_mm3(self) -> float:
+        """Cutter volume above the skin plane over the ramp, 0 ≤ x ≤ L (mm³)."""
+        pf = self.planform
+        return self.overcut_mm * self._quad(
+            lambda x: 2.0 * float(pf.half_width(x)), 0.0, self.length_mm
+        )
 
     @cached_property
     def edge_round_volume_mm3(self) -> float:
-        """Extra volume of the two wall edge rounds (mm³), integrated along the wall."""
+        """Extra volume of the two wall edge rounds (mm³), integrated along the wall: the
+        flare below the skin plus the band of width r it adds to the overcut above it."""
         r = self.edge_radius_mm
         if r <= 0:
             return 0.0
         pf = self.planform
+        h = self.overcut_mm
 
         def per_x(x: float) -> float:
-            area = sum(fillet_flare_area_mm2(r, lo, hi) for lo, hi in self._air_band(x))
+            area = 0.0
+            for lo, hi in self._air_band(x):
+                area += fillet_flare_area_mm2(r, lo, min(hi, 0.0))
+                area += r * max(0.0, min(hi, h) - max(lo, 0.0))
             return 2.0 * area * math.sqrt(1.0 + float(pf.slope(x)) ** 2)
 
         return self._quad(per_x, 0.0, self.throat_end_mm)
 
     @cached_property
     def cutter_volume_mm3(self) -> float:
-        """Expected cutter volume: cavity + throat + edge rounds + transition (mm³)."""
+        """Expected cutter volume: cavity + overcut + throat + edge rounds + duct (mm³)."""
         duct = self.transition.volume_mm3() if self.transition else 0.0
         return (
-            self.ramp_cavity_volume_mm3
+            self.overcut_volume_mm3
+            + self.ramp_cavity_volume_mm3
             + self.throat_block_volume_mm3
             + self.edge_round_volume_mm3
             + duct
@@ -264,6 +289,7 @@ def build_geometry(spec: Spec, profile: Profile | None = None) -> InletGeometry:
         edge_radius_mm=r_edge,
         skin_thickness_mm=spec.skin.thickness,
         spigot_length_mm=spigot,
+        overcut_mm=spec.cutter.overcut,
     )
 
 

@@ -14,9 +14,17 @@ import math
 
 import cadquery as cq
 
+from ductgen.errors import GeometryError
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.geometry.transition import Transition
-from ductgen.solids.primitives import arc3, extrude_xz, polyline_edges, wall_spline, xz_ellipse_arc
+from ductgen.solids.primitives import (
+    arc3,
+    boolean,
+    extrude_xz,
+    polyline_edges,
+    wall_spline,
+    xz_ellipse_arc,
+)
 
 __all__ = ["make_cavity", "make_cutter", "make_transition"]
 
@@ -41,27 +49,35 @@ def _planform_prism(g: InletGeometry, x_end: float, z_bottom: float, z_top: floa
     return cq.Solid.extrudeLinear(face, V(0, 0, z_top - z_bottom))
 
 
-def _floor_wedge(g: InletGeometry, x_end: float, half_span: float) -> cq.Solid:
-    """Region between the floor and the skin plane for 0 ≤ x ≤ x_end, across ±half_span."""
+#: An entry arc shorter than this along x (mm) is built sharp: its largest departure from the
+#: arc is below 1e-9 mm, and the kernel cannot make a circle that short.
+MIN_ARC_MM = 1e-3
+
+
+def _floor_wedge(g: InletGeometry, x_end: float, half_span: float, top: float) -> cq.Solid:
+    """Region between the floor and z = ``top`` for 0 ≤ x ≤ x_end, across ±half_span.
+
+    With ``top`` above the skin the section starts with a vertical edge at x = 0, so the
+    tangent entry arc never meets a face at zero angle (a cusp the booleans mishandle)."""
     fl = g.floor
     H, L = g.drop_mm, g.length_mm
     y = -half_span
-    edges: list[cq.Edge] = []
+    edges: list[cq.Edge] = [cq.Edge.makeLine(V(0.0, y, top), V(0.0, y, 0.0))]
     r = fl.entry_radius_mm
     xa, za = fl.arc_end_mm
-    if r > 0:
+    if r > 0 and xa >= MIN_ARC_MM:
         half = math.radians(fl.angle_deg) / 2.0
         mid = (r * math.sin(half), y, -r * (1.0 - math.cos(half)))
         edges.append(arc3((0.0, y, 0.0), mid, (xa, y, -za)))
         start = (xa, y, -za)
     else:
         start = (0.0, y, 0.0)
-    edges += polyline_edges([start, (L, y, -H), (x_end, y, -H), (x_end, y, 0.0), (0.0, y, 0.0)])
+    edges += polyline_edges([start, (L, y, -H), (x_end, y, -H), (x_end, y, top), (0.0, y, top)])
     return extrude_xz(edges, y, half_span)
 
 
 def _lip_body(g: InletGeometry, half_span: float) -> cq.Solid:
-    """The flush lip's nose (half-ellipse) plus a short block behind it, across the span."""
+    """The lip's nose (half-ellipse) plus a short block behind it, across the span."""
     lip = g.lip
     xc, zc = lip.nose_end_mm, lip.centre_z_mm
     a, b = lip.semi_major_mm, lip.semi_minor_mm
@@ -76,12 +92,15 @@ def _lip_body(g: InletGeometry, half_span: float) -> cq.Solid:
 
 
 def make_cavity(g: InletGeometry) -> cq.Solid:
-    """Ramp cavity and straight throat, 0 ≤ x ≤ nose end, with edge round and lip cut."""
+    """Ramp cavity and straight throat, 0 ≤ x ≤ nose end, with edge round, overcut and
+    lip cut."""
     r = g.edge_radius_mm
+    h = g.overcut_mm
     x_end = g.throat_end_mm
     half_span = g.width_mm / 2.0 + 2.0 * r + 5.0
     x_prism = x_end + 2.0 * r + 2.0  # past the wedge's end, so the round there is cut away
-    prism = _planform_prism(g, x_prism, -g.drop_mm - 1.0, 0.0)
+    z_bot = -g.drop_mm - 1.0
+    prism = _planform_prism(g, x_prism, z_bot, 0.0 if r > 0 else h)
     if r > 0:
         margin = 2.0 * r + 5.0  # the slab must reach well past every flare
         slab = cq.Solid.makeBox(
@@ -102,11 +121,32 @@ def make_cavity(g: InletGeometry) -> cq.Solid:
             )
 
         rim = [e for e in body.Edges() if on_rim(e)]
-        prism = body.fillet(r, rim)
-    cavity = prism.intersect(_floor_wedge(g, x_end, half_span))
-    if g.lip.style == "flush":
-        cavity = cavity.cut(_lip_body(g, half_span))
-    return _one_solid(cavity.clean(), "cavity")
+        try:
+            rounded = body.fillet(r, rim)
+        except Exception as err:  # kernel exceptions share no base class
+            raise GeometryError("edge round", f"the {r:g} mm round failed: {err}") from err
+        # keep what lies below the skin, then raise the flared opening by the overcut
+        below = cq.Solid.makeBox(
+            x_prism + 2.0 * margin,
+            2.0 * half_span,
+            -z_bot + 1.0,
+            V(-margin, -half_span, z_bot - 1.0),
+        )
+        clipped = boolean("intersect", rounded, below, "edge round")
+        top = [f for f in clipped.Faces() if _is_plane_at_z(f, 0.0)]
+        if len(top) != 1:
+            raise GeometryError("edge round", f"expected one opening face, found {len(top)}")
+        up = cq.Solid.extrudeLinear(top[0], V(0, 0, h))
+        prism = boolean("fuse", clipped, up, "edge round overcut")
+    wedge = _floor_wedge(g, x_end, half_span, h)
+    cavity = boolean("intersect", prism, wedge, "cavity floor")
+    cavity = boolean("cut", cavity, _lip_body(g, half_span), "lip cut")
+    return _one_solid(cavity, "cavity")
+
+
+def _is_plane_at_z(face: cq.Face, z: float) -> bool:
+    bb = face.BoundingBox()
+    return face.geomType() == "PLANE" and abs(bb.zmin - z) < 1e-6 and abs(bb.zmax - z) < 1e-6
 
 
 def _section_wire(points: list[tuple[float, float, float]], arcs: list | None) -> cq.Wire:
@@ -142,13 +182,11 @@ def make_cutter(g: InletGeometry) -> cq.Solid:
     if g.transition is None:
         return cavity
     duct = make_transition(g.transition)
-    return _one_solid(cavity.fuse(duct).clean(), "cutter")
+    return _one_solid(boolean("fuse", cavity, duct, "transition"), "cutter")
 
 
 def _one_solid(shape: cq.Shape, stage: str) -> cq.Solid:
     solids = shape.Solids()
     if len(solids) != 1:
-        from ductgen.errors import GeometryError
-
         raise GeometryError(stage, f"expected one solid, the kernel produced {len(solids)}")
     return solids[0]

@@ -11,6 +11,7 @@ import numpy as np
 from ductgen.geometry.planform import Planform
 
 __all__ = [
+    "boolean",
     "extrude_xz",
     "polyline_edges",
     "wall_spline",
@@ -69,3 +70,28 @@ def arc3(p0: Sequence[float], pm: Sequence[float], p1: Sequence[float]) -> cq.Ed
 
 def np3(a: np.ndarray) -> list[tuple[float, float, float]]:
     return [tuple(float(v) for v in row) for row in a]  # type: ignore[misc]
+
+
+#: Fuzzy tolerances (mm) tried in turn when a boolean comes out invalid. A near-tangent
+#: contact (a short entry arc meeting a wall) was seen to give an invalid exact result on
+#: this kernel that a 1e-5 mm fuzzy boolean builds cleanly.
+FUZZY_STEPS_MM: tuple[float | None, ...] = (None, 1e-5, 1e-4)
+
+
+def boolean(op: str, a: cq.Shape, b: cq.Shape, stage: str) -> cq.Shape:
+    """``a.op(b)`` (op: fuse, cut, intersect), cleaned, retried with a fuzzy tolerance
+    while the result is invalid; raises :class:`GeometryError` naming ``stage``."""
+    from ductgen.errors import GeometryError
+
+    last = ""
+    for tol in FUZZY_STEPS_MM:
+        try:
+            res = getattr(a, op)(b, tol=tol) if tol else getattr(a, op)(b)
+            res = res.clean()
+        except Exception as err:  # kernel exceptions share no base class
+            last = f"{type(err).__name__}: {err}"
+            continue
+        if res.isValid() and len(res.Solids()) == 1:
+            return res
+        last = f"the result is invalid or not one solid ({len(res.Solids())} solids)"
+    raise GeometryError(stage, f"{op} failed: {last}")

@@ -111,11 +111,16 @@ def load_spec(path: str | Path) -> Spec:
 
 
 def spec_sha256(spec: Spec) -> str:
-    """Hash of the normalised spec (units resolved), plus a custom profile's bytes."""
+    """Hash of the normalised spec (units resolved), plus the bytes of every table it names
+    (a custom wall profile, a recovery table), so editing a table changes the hash."""
     h = hashlib.sha256(json.dumps(spec.model_dump(mode="json"), sort_keys=True).encode())
-    prof = Path(spec.planform.profile)
-    if prof.suffix.lower() == ".csv" and prof.is_file():
-        h.update(prof.read_bytes())
+    tables = [spec.planform.profile]
+    if spec.flow is not None and isinstance(spec.flow.recovery, str):
+        tables.append(spec.flow.recovery)
+    for name in tables:
+        p = Path(name)
+        if p.suffix.lower() == ".csv" and p.is_file():
+            h.update(p.read_bytes())
     return h.hexdigest()
 
 

@@ -19,6 +19,7 @@ from ductgen.spec.template import TemplateSpec
 from ductgen.spec.types import Deg, Mm, Section
 
 __all__ = [
+    "CutterSpec",
     "LipSpec",
     "NoOutlet",
     "OutletSpec",
@@ -145,6 +146,21 @@ class SkinSpec(Section):
     thickness: Annotated[Mm, Field(default=2.0, gt=0, le=100, description="skin thickness")]
 
 
+class CutterSpec(Section):
+    """The cutter solid for the user's own CAD."""
+
+    overcut: Annotated[
+        Mm,
+        Field(
+            default=1.0,
+            ge=0.1,
+            le=50,
+            description="height the cutter rises above the outer skin over the opening, so a "
+            "subtraction in CAD meets no coplanar faces",
+        ),
+    ]
+
+
 class Spec(Section):
     """A whole inlet: geometry, fabrication outputs and (optionally) the flow condition."""
 
@@ -162,6 +178,7 @@ class Spec(Section):
     lip: LipSpec = Field(default_factory=LipSpec)
     outlet: OutletSpec = Field(default_factory=NoOutlet)
     skin: SkinSpec = Field(default_factory=SkinSpec)
+    cutter: CutterSpec = Field(default_factory=CutterSpec)
     insert: InsertSpec = Field(default_factory=InsertSpec)
     plug: PlugSpec = Field(default_factory=PlugSpec)
     template: TemplateSpec = Field(default_factory=TemplateSpec)
