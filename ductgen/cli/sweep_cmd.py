@@ -1,1 +1,153 @@
-"""`ductgen sweep` (not yet registered)."""
+"""`ductgen sweep`: variants of one spec in parallel, and the comparison report."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Annotated
+
+import typer
+
+from ductgen.cli.app import app, err_console
+
+__all__ = ["sweep_command"]
+
+
+@app.command("sweep")
+def sweep_command(
+    spec: Annotated[Path, typer.Argument(help="base spec file (.toml, .yaml, .json)")],
+    vary: Annotated[
+        list[str],
+        typer.Option(
+            "--vary",
+            help="KEY=A:B:STEP (B included when on a step) or KEY=v1,v2,...; units allowed, "
+            "e.g. throat.width=100mm:140mm:10mm. Repeat for a grid.",
+        ),
+    ],
+    zip_values: Annotated[
+        bool, typer.Option("--zip", help="pair the --vary lists instead of a grid")
+    ] = False,
+    out: Annotated[
+        Path | None, typer.Option("-o", "--out", help="sweep folder [default: ./NAME-sweep]")
+    ] = None,
+    jobs: Annotated[
+        int | None, typer.Option("-j", "--jobs", help="worker processes [default: all cores]")
+    ] = None,
+    only: Annotated[
+        str | None, typer.Option("--only", help="comma list of outputs [default: all]")
+    ] = None,
+    quality: Annotated[
+        str, typer.Option("--quality", help="STL tessellation: draft | normal | fine")
+    ] = "normal",
+    baseline: Annotated[
+        str | None,
+        typer.Option("--baseline", help="variant id the solids are compared with [default: first]"),
+    ] = None,
+    scheduler: Annotated[
+        str | None,
+        typer.Option(
+            "--scheduler", help="Dask scheduler address (tcp://host:8786): run on that cluster"
+        ),
+    ] = None,
+    quiet: Annotated[bool, typer.Option("--quiet", "-q", help="print nothing on success")] = False,
+    as_json: Annotated[
+        bool, typer.Option("--json", help="print comparison.json to stdout")
+    ] = False,
+) -> None:
+    """Build variants of a spec in parallel and compare them side by side."""
+    from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
+
+    from ductgen.spec import load_spec
+    from ductgen.sweep import parse_vary, run_sweep
+
+    varies = [parse_vary(v) for v in vary]
+    kinds = [k.strip() for k in only.split(",") if k.strip()] if only else None
+    out_dir = out if out is not None else Path.cwd() / f"{load_spec(spec).name}-sweep"
+    show = not (quiet or as_json)
+    with Progress(
+        TextColumn("sweep"),
+        BarColumn(),
+        TextColumn("{task.fields[counts]}"),
+        TimeElapsedColumn(),
+        console=err_console,
+        transient=True,
+        disable=not show,
+    ) as bar:
+        task = bar.add_task("sweep", total=None, counts="validating")
+
+        def progress(result, done: int, failed: int, total: int) -> None:  # type: ignore[no-untyped-def]
+            counts = f"done {done - failed} · failed {failed} · remaining {total - done}"
+            bar.update(task, total=total, completed=done, counts=counts)
+            if result is not None and result.status == "failed":
+                bar.console.print(
+                    f"[red]failed[/] {result.id}: {result.error}", markup=True, soft_wrap=True
+                )
+
+        result = run_sweep(
+            spec,
+            varies,
+            out_dir,
+            zip_values=zip_values,
+            jobs=jobs,
+            only=kinds,
+            quality=quality,
+            baseline=baseline,
+            scheduler=scheduler,
+            progress=progress,
+        )
+    if as_json:
+        typer.echo(result.files["json"].read_text(encoding="utf-8"))
+    elif not quiet:
+        _summary(result, out_dir)
+    if result.failed:
+        err_console.print(
+            f"[bold red]{len(result.failed)} of {len(result.results)} variants failed[/]",
+            markup=True,
+        )
+        for r in result.failed:
+            err_console.print(f"  {r.id}: {r.error}", soft_wrap=True, markup=False)
+        raise typer.Exit(1)
+
+
+def _summary(result, out_dir: Path) -> None:  # type: ignore[no-untyped-def]
+    from rich.console import Console
+    from rich.table import Table
+
+    t = Table(title=f"sweep: {len(result.rows)} variants (baseline {result.baseline})")
+    heads = {
+        "variant": "variant",
+        "ramp_length_mm": "L mm",
+        "cutter_volume_mm3": "cutter cm³",
+        "sym_diff_volume_mm3": "Δvol cm³",
+        "hausdorff_mm": "Hausdorff mm",
+        "volume_flow_m3_s": "flow L/s",
+        "status": "status",
+    }
+    scale = {"cutter_volume_mm3": 1e-3, "sym_diff_volume_mm3": 1e-3, "volume_flow_m3_s": 1e3}
+    cols = [
+        c
+        for c in heads
+        if c in ("variant", "status") or any(r.get(c) is not None for r in result.rows)
+    ]
+    for c in cols:
+        t.add_column(
+            heads[c], justify="left" if c in ("variant", "status") else "right", overflow="fold"
+        )
+    for r in result.rows:
+        t.add_row(
+            *(
+                ""
+                if r.get(c) is None
+                else f"{r[c] * scale.get(c, 1.0):.4g}"
+                if isinstance(r[c], float)
+                else str(r[c])
+                for c in cols
+            )
+        )
+    con = Console()
+    con.print(t)
+    built = sum(r.status == "built" for r in result.results)
+    cached = sum(r.status == "cached" for r in result.results)
+    con.print(
+        f"built {built}, unchanged {cached}, in {result.seconds:.1f} s; "
+        f"wrote {out_dir / 'comparison.html'}"
+    )

@@ -1,0 +1,308 @@
+"""Running a sweep: every variant through the build pipeline, on a local process pool or a
+Dask cluster, then the comparison files.
+
+Local runs use :class:`concurrent.futures.ProcessPoolExecutor` (``jobs`` processes, fresh
+interpreters); ``scheduler="tcp://host:8786"`` uses Dask's own executor,
+``distributed.Client(address).get_executor()``, with the same task function. Each worker
+process builds through its own kernel worker (:func:`ductgen.worker.default_worker`). On a
+cluster the output folder must be on a file system every worker can see.
+
+A variant folder holds a stamp (:data:`~ductgen.sweep.variants.STAMP_FILE`) with the
+content hash of what was built; a re-run skips a variant whose stamp matches and whose
+files are all present. A variant that fails is reported and does not stop the others.
+"""
+
+from __future__ import annotations
+
+import json
+import multiprocessing
+import os
+import time
+from collections.abc import Callable, Iterator
+from concurrent.futures import Executor, Future, ProcessPoolExecutor, as_completed
+from contextlib import contextmanager
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from ductgen.errors import SpecError
+from ductgen.spec import Spec
+from ductgen.sweep.variants import STAMP_FILE, Variant, content_hash, make_variants, read_stamp
+from ductgen.sweep.vary import Vary
+
+__all__ = [
+    "SweepResult",
+    "VariantResult",
+    "VariantTask",
+    "build_variant",
+    "default_jobs",
+    "run_sweep",
+]
+
+
+@dataclass(frozen=True)
+class VariantTask:
+    """What a worker needs to build one variant (picklable)."""
+
+    id: str
+    spec: Spec
+    folder: str
+    kinds: tuple[str, ...]
+    quality: str
+    hash: str
+    raw: dict[str, Any]
+
+
+@dataclass
+class VariantResult:
+    """Outcome of one variant.
+
+    Attributes:
+        status: ``"built"``, ``"cached"`` (unchanged, skipped) or ``"failed"``.
+        report: the variant's report.json (None when failed).
+        build_s: wall-clock seconds of its build (s; the original build's for cached ones).
+        error: one-line reason when failed.
+    """
+
+    id: str
+    status: str
+    folder: str
+    report: dict[str, Any] | None = None
+    build_s: float | None = None
+    error: str | None = None
+
+
+@dataclass
+class SweepResult:
+    """A finished sweep: variants, their results (same order), comparison rows, files."""
+
+    variants: list[Variant]
+    results: list[VariantResult]
+    rows: list[dict[str, Any]]
+    baseline: str
+    files: dict[str, Path] = field(default_factory=dict)
+    seconds: float = 0.0
+
+    @property
+    def failed(self) -> list[VariantResult]:
+        return [r for r in self.results if r.status == "failed"]
+
+
+def default_jobs() -> int:
+    """Worker processes by default: every core this process may use."""
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except AttributeError:  # pragma: no cover - not Linux
+        return max(1, os.cpu_count() or 1)
+
+
+_FINALIZER: Any = None
+
+
+def _close_worker_at_exit() -> None:
+    """Pool and Dask worker processes skip ``atexit``; stop the kernel worker with them."""
+    global _FINALIZER
+    if _FINALIZER is None and multiprocessing.parent_process() is not None:
+        from multiprocessing.util import Finalize
+
+        from ductgen.worker import default_worker
+
+        _FINALIZER = Finalize(None, default_worker().close, exitpriority=10)
+
+
+def build_variant(task: VariantTask) -> VariantResult:
+    """Build one variant into its folder (runs in a worker process); never raises."""
+    from ductgen.export.atomic import write_atomic
+    from ductgen.pipeline.build import _version, build
+
+    folder = Path(task.folder)
+    try:
+        (folder / STAMP_FILE).unlink(missing_ok=True)
+        _close_worker_at_exit()
+        t0 = time.perf_counter()
+        result = build(task.spec, folder, only=list(task.kinds), force=True, quality=task.quality)
+        seconds = time.perf_counter() - t0
+        stamp = {
+            "id": task.id,
+            "hash": task.hash,
+            "values": task.raw,
+            "kinds": list(task.kinds),
+            "quality": task.quality,
+            "ductgen_version": _version(),
+            "build_s": seconds,
+            "files": sorted(p.name for p in result.files.values()),
+        }
+        write_atomic(folder / STAMP_FILE, (json.dumps(stamp, indent=2) + "\n").encode(), force=True)
+        return VariantResult(task.id, "built", str(folder), result.report, seconds)
+    except Exception as err:  # one failing variant must not stop the sweep
+        msg = str(err).replace("\n", " ").strip() or type(err).__name__
+        return VariantResult(task.id, "failed", str(folder), error=f"{type(err).__name__}: {msg}")
+
+
+def _cached(task: VariantTask) -> VariantResult | None:
+    """The stored result when the folder's stamp matches and its files are all there."""
+    folder = Path(task.folder)
+    stamp = read_stamp(folder)
+    if stamp is None or stamp.get("hash") != task.hash:
+        return None
+    names = stamp.get("files") or []
+    if "report.json" not in names or not all((folder / n).is_file() for n in names):
+        return None
+    try:
+        report = json.loads((folder / "report.json").read_text(encoding="utf-8"))
+    except (OSError, ValueError):
+        return None
+    return VariantResult(task.id, "cached", str(folder), report, stamp.get("build_s"))
+
+
+@contextmanager
+def _executor(jobs: int, scheduler: str | None) -> Iterator[Executor | None]:
+    """The pool to run on: None (this process) for one local job, a process pool, or a
+    Dask executor on the cluster at ``scheduler``."""
+    if scheduler:
+        from distributed import Client
+
+        try:
+            client = Client(scheduler, timeout="20s")
+        except (OSError, TimeoutError, ValueError) as err:
+            raise SpecError(
+                "--scheduler",
+                scheduler,
+                "the address of a running Dask scheduler, e.g. tcp://host:8786",
+                f"cannot connect: {err}",
+            ) from None
+        try:
+            yield client.get_executor(pure=False)
+        finally:
+            client.close()
+        return
+    if jobs <= 1:
+        yield None
+        return
+    pool = ProcessPoolExecutor(max_workers=jobs, mp_context=multiprocessing.get_context("spawn"))
+    try:
+        yield pool
+    except BaseException:
+        pool.shutdown(wait=True, cancel_futures=True)
+        raise
+    pool.shutdown(wait=True)
+
+
+def _run_all(
+    fn: Callable[[Any], Any], items: list[Any], ex: Executor | None, done: Callable[[Any], None]
+) -> None:
+    if ex is None:
+        for it in items:
+            done(fn(it))
+        return
+    futures: list[Future[Any]] = [ex.submit(fn, it) for it in items]
+    for fut in as_completed(futures):
+        done(fut.result())
+
+
+def run_sweep(
+    spec_path: str | Path,
+    varies: list[Vary],
+    out_dir: str | Path,
+    *,
+    zip_values: bool = False,
+    jobs: int | None = None,
+    only: list[str] | None = None,
+    quality: str = "normal",
+    baseline: str | None = None,
+    scheduler: str | None = None,
+    progress: Callable[[VariantResult | None, int, int, int], None] | None = None,
+) -> SweepResult:
+    """Build every variant of a sweep and write ``comparison.csv/json/html`` into ``out_dir``.
+
+    Args:
+        spec_path: the base spec file.
+        varies: parsed ``--vary`` options (:func:`~ductgen.sweep.vary.parse_vary`).
+        out_dir: sweep folder; each variant goes into ``out_dir/<variant id>/``.
+        zip_values: pair the varied values instead of the full grid.
+        jobs: local worker processes (default: all cores); ignored with ``scheduler``.
+        only: output kinds to build (default: every kind ``build`` knows).
+        quality: STL tessellation setting.
+        baseline: variant id the solids are compared against (default: the first).
+        scheduler: Dask scheduler address; runs the variants on that cluster.
+        progress: called as ``progress(result, done, failed, total)`` once before the first
+            build (result None) and after each variant.
+
+    Raises:
+        SpecError: (before anything is built) for a bad ``--vary``, an invalid variant, an
+            unknown ``--only`` kind, ``--baseline`` or ``--quality``, or an unreachable
+            scheduler.
+    """
+    from ductgen.pipeline.build import _version, output_kinds
+    from ductgen.sweep.compare import compare_all, comparison_rows
+    from ductgen.sweep.html import write_outputs
+    from ductgen.tolerances import STL_QUALITY
+
+    t_start = time.perf_counter()
+    kinds_all = output_kinds()
+    kinds = kinds_all if not only else [k for k in kinds_all if k in only]
+    bad = [k for k in (only or []) if k not in kinds_all]
+    if bad:
+        raise SpecError(
+            "--only",
+            ",".join(bad),
+            "a comma list of " + ", ".join(kinds_all),
+            "unknown output kind",
+        )
+    if quality not in STL_QUALITY:
+        raise SpecError("--quality", quality, " | ".join(STL_QUALITY), "STL tessellation setting")
+    if jobs is not None and jobs < 1:
+        raise SpecError("-j", jobs, ">= 1", "number of worker processes")
+    spec_path = Path(spec_path)
+    variants = make_variants(spec_path, varies, zip_values)
+    ids = [v.id for v in variants]
+    base = baseline if baseline is not None else ids[0]
+    if base not in ids:
+        raise SpecError(
+            "--baseline",
+            base,
+            "one of the variant ids: " + ", ".join(ids[:8]) + (" ..." if len(ids) > 8 else ""),
+            "the solids are compared against it",
+        )
+    out = Path(out_dir).resolve()
+    version = _version()
+    tasks = [
+        VariantTask(
+            v.id,
+            v.spec,
+            str(out / v.id),
+            tuple(kinds),
+            quality,
+            content_hash(v.spec, kinds, quality, version),
+            v.raw,
+        )
+        for v in variants
+    ]
+    results: dict[str, VariantResult] = {}
+    for t in tasks:
+        hit = _cached(t)
+        if hit is not None:
+            results[t.id] = hit
+    todo = [t for t in tasks if t.id not in results]
+    total = len(tasks)
+    counts = {"done": len(results), "failed": 0}
+    note = progress or (lambda *_a: None)
+    note(None, counts["done"], 0, total)
+
+    def done(r: VariantResult) -> None:
+        results[r.id] = r
+        counts["done"] += 1
+        counts["failed"] += r.status == "failed"
+        note(r, counts["done"], counts["failed"], total)
+
+    n_jobs = min(jobs or default_jobs(), max(1, len(todo)))
+    out.mkdir(parents=True, exist_ok=True)
+    ordered: list[VariantResult]
+    with _executor(n_jobs if todo else 1, scheduler if todo else None) as ex:
+        _run_all(build_variant, todo, ex, done)
+        ordered = [results[i] for i in ids]
+        comparison = compare_all(tasks, ordered, base, ex) if "cutter" in kinds else {}
+    rows = comparison_rows(variants, ordered, comparison)
+    sweep = SweepResult(variants, ordered, rows, base, seconds=time.perf_counter() - t_start)
+    sweep.files = write_outputs(sweep, out, spec_path, [v.key for v in varies])
+    return sweep
