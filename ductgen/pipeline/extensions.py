@@ -7,15 +7,72 @@ Each feature registers here, in its own block, so the pipeline itself stays unch
 * ``REPORT_HOOKS.append(hook)`` — ``hook(ctx)`` adds a section to ``ctx.report`` and may
   append :class:`~ductgen.errors.DesignWarning` records to ``ctx.warnings``.
 
-Imported once by :mod:`ductgen.pipeline.build`; keep the imports inside each block light.
+Imported once by :mod:`ductgen.pipeline.builder`; keep the imports inside each block light.
 """
 
 from __future__ import annotations
 
-from ductgen.pipeline.build import PRODUCERS, REPORT_HOOKS  # noqa: F401
+from ductgen.pipeline.builder import PRODUCERS, REPORT_HOOKS
 
 # --- airflow (flow/) -------------------------------------------------------------------
 
+
+def _airflow_report(ctx) -> None:  # type: ignore[no-untyped-def]
+    """Design warnings on the shape (always) and the ``flow`` section when [flow] is set."""
+    from ductgen.flow.warnings import geometry_warnings
+
+    ctx.warnings.extend(geometry_warnings(ctx.geometry))
+    if ctx.spec.flow is None:
+        return
+    from ductgen.flow.report import flow_section
+
+    section, warnings = flow_section(ctx.spec.flow, ctx.geometry)
+    ctx.report["flow"] = section
+    ctx.warnings.extend(warnings)
+
+
+REPORT_HOOKS.append(_airflow_report)
+
 # --- printability of the insert (insert/plug) ----------------------------------------
 
+
+def _printability(ctx):  # type: ignore[no-untyped-def]
+    """``print`` section from the insert mesh; hole, wall, heat and layup warnings."""
+    from ductgen.printability import printability_hook
+
+    printability_hook(ctx)
+
+
+REPORT_HOOKS.append(_printability)
+
 # --- marking template and drawing sheet (export/, sheets/) ---------------------------
+
+
+def _template_producer(ctx, out):  # type: ignore[no-untyped-def]
+    """``NAME-template.dxf`` (1:1, lines + arcs) and ``NAME-template.pdf`` (tiled 1:1)."""
+    from ductgen.export.template_layout import template_files
+
+    files = template_files(ctx.geometry, ctx.spec, ctx.report["spec_sha256"])
+    names = {}
+    for suffix, data in files.items():
+        name = f"{ctx.spec.name}-{suffix}"
+        out.add(name, data)
+        names[suffix.replace(".", "_")] = name
+    return names
+
+
+def _sheet_producer(ctx, out):  # type: ignore[no-untyped-def]
+    """``NAME-sheet.pdf`` (dimensioned drawing sheet) and ``NAME-preview.png`` (3D view)."""
+    from ductgen.sheets import sheet_files
+
+    files = sheet_files(ctx)
+    names = {}
+    for suffix, data in files.items():
+        name = f"{ctx.spec.name}-{suffix}"
+        out.add(name, data)
+        names[suffix.replace(".", "_")] = name
+    return names
+
+
+PRODUCERS["template"] = (_template_producer, ("template.dxf", "template.pdf"))
+PRODUCERS["sheet"] = (_sheet_producer, ("sheet.pdf", "preview.png"))

@@ -1,0 +1,371 @@
+"""The printable insert: cavity floor, walls, lip and transition as walls of ``insert.wall``,
+a flange (or surface bezel) with fastener holes, and a round hose spigot.
+
+Construction (brief §9: the kernel's shell/offset fails on these shapes): an explicit
+outer body is built from simple exact pieces and the inner body (the cutter, extended
+through the spigot and the top) is subtracted once.
+
+Outer pieces (mm, x downstream, z up, skin outer surface z = 0):
+
+* walls/floor — the top footprint offset in plan by wall + edge round (the kernel's planar
+  wire offset, round joins), as a prism, intersected with the floor profile offset
+  downward by the wall (arc radius R − wall, ramp line moved along its normal);
+* skin fill and flange — mount ``behind``: the cut-out prism through the skin thickness
+  (flush with the outer surface) and the flange under the skin; ``surface``: a bezel on
+  the outer surface whose outer edge is feathered to a 0.4 mm land;
+* transition — a ruled loft of the duct sections offset by wall·√(1 + slope²) of the
+  steepest ruling, so the wall normal to the duct is never below ``insert.wall``;
+* spigot — shoulder, tube of OD = hose ID − ``outlet.fit_clearance``, retention bead
+  (ramp towards the free end), with a bore of OD − 2·wall; a rectangular outlet gets a
+  plain collar; a raised lip is an exact nose plus its fairing wedge.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+
+import cadquery as cq
+import numpy as np
+
+from ductgen.errors import GeometryError
+from ductgen.geometry.fabrication import (
+    Fabrication,
+    fabrication_of,
+    flange_layout,
+    footprint_end_mm,
+    spigot_of,
+    transition_wall_mm,
+    validate_fabrication,
+)
+from ductgen.geometry.inlet import InletGeometry
+from ductgen.solids.cutter import make_cutter, make_transition
+from ductgen.solids.primitives import arc3, extrude_xz, polyline_edges, wall_spline, xz_ellipse_arc
+
+__all__ = ["FEATHER_LAND_MM", "floor_profile_solid", "footprint_face", "make_insert", "prism"]
+
+V = cq.Vector
+#: Thickness left at the feathered bezel edge (mm): about one 0.4 mm nozzle width.
+FEATHER_LAND_MM = 0.4
+
+
+def footprint_wire(g: InletGeometry, x_end: float, z: float = 0.0) -> cq.Wire:
+    """Closed plan wire of the planform, walls straight at ±W/2 past the lip to ``x_end``."""
+    pf = g.planform
+    hw0, hw1, L = float(pf.node_half_width_mm[0]), g.width_mm / 2.0, g.length_mm
+    edges = [wall_spline(pf, +1.0, z)]
+    if x_end > L + 1e-9:
+        edges += polyline_edges([(L, hw1, z), (x_end, hw1, z), (x_end, -hw1, z), (L, -hw1, z)])
+    else:
+        edges += polyline_edges([(L, hw1, z), (L, -hw1, z)])
+    edges += [wall_spline(pf, -1.0, z), cq.Edge.makeLine(V(0, -hw0, z), V(0, hw0, z))]
+    return cq.Wire.assembleEdges(edges)
+
+
+def _arc(cx: float, cy: float, d: float, a0: float, a1: float, z: float) -> cq.Edge:
+    am = 0.5 * (a0 + a1)
+    pts = [(cx + d * math.cos(a), cy + d * math.sin(a), z) for a in (a0, am, a1)]
+    return arc3(*pts)
+
+
+def offset_wire(
+    g: InletGeometry, x_end: float, d: float, z: float = 0.0, n: int = 40, square_end: bool = False
+) -> cq.Wire:
+    """The footprint wire offset outward by ``d`` (mm) with round corners, built from
+    B-spline, line and arc edges (the kernel's own offset curves make booleans ~10× slower).
+    The wall offset is interpolated through ``n`` exact offset points plus every station
+    (deviation ≪ 0.01 mm). ``square_end`` gives the downstream corners mitred, not round."""
+    if d <= 0:
+        return footprint_wire(g, x_end, z)
+    pf = g.planform
+    L, h1 = g.length_mm, g.width_mm / 2.0
+    x = np.union1d(np.linspace(0.0, L, n), pf.node_x_mm)
+    hw, s = pf.half_width(x), pf.slope(x)
+    den = np.sqrt(1.0 + s * s)
+    xo, yo = x - d * s / den, hw + d / den  # upper wall (y > 0) offset outward
+    upper = cq.Edge.makeSpline([V(float(a), float(b), z) for a, b in zip(xo, yo, strict=True)])
+    lower = cq.Edge.makeSpline([V(float(a), float(-b), z) for a, b in zip(xo, yo, strict=True)])
+    a_apex = math.atan2(1.0, -float(s[0]))
+    hw0 = float(hw[0])
+    edges = [lower]
+    if x_end > L + 1e-9:
+        edges.append(cq.Edge.makeLine(V(L, -h1 - d, z), V(x_end, -h1 - d, z)))
+    if square_end:
+        edges += polyline_edges(
+            [
+                (x_end, -h1 - d, z),
+                (x_end + d, -h1 - d, z),
+                (x_end + d, h1 + d, z),
+                (x_end, h1 + d, z),
+            ]
+        )
+    else:
+        edges += [
+            _arc(x_end, -h1, d, -0.5 * math.pi, 0.0, z),
+            cq.Edge.makeLine(V(x_end + d, -h1, z), V(x_end + d, h1, z)),
+            _arc(x_end, h1, d, 0.0, 0.5 * math.pi, z),
+        ]
+    if x_end > L + 1e-9:
+        edges.append(cq.Edge.makeLine(V(x_end, h1 + d, z), V(L, h1 + d, z)))
+    edges += [
+        upper,
+        _arc(0.0, hw0, d, a_apex, math.pi, z),
+        cq.Edge.makeLine(V(-d, hw0, z), V(-d, -hw0, z)),
+        _arc(0.0, -hw0, d, math.pi, 2.0 * math.pi - a_apex, z),
+    ]
+    return cq.Wire.assembleEdges(edges)
+
+
+def footprint_face(
+    g: InletGeometry, x_end: float, offset: float = 0.0, z: float = 0.0, square_end: bool = False
+) -> cq.Face:
+    """Plan face of the footprint offset outward by ``offset`` (mm, round joins) at height z."""
+    return cq.Face.makeFromWires(offset_wire(g, x_end, offset, z, square_end=square_end))
+
+
+def prism(face: cq.Face, z0: float, z1: float) -> cq.Solid:
+    """A plan face at z = 0 (or any z) extruded between heights z0 < z1 (mm)."""
+    f = face.translate(V(0, 0, z0 - face.Center().z))
+    return cq.Solid.extrudeLinear(f, V(0, 0, z1 - z0))
+
+
+def floor_profile_solid(
+    g: InletGeometry, offset: float, x_lo: float, x_end: float, half_span: float
+) -> cq.Solid:
+    """Region between the skin plane and the floor moved down by ``offset`` (mm, normal to
+    the floor), x_lo ≤ x ≤ x_end, across ±half_span. Offset 0 is the cavity's own floor."""
+    fl = g.floor
+    th = math.radians(fl.angle_deg)
+    r, H = fl.entry_radius_mm, g.drop_mm
+    xa, za = fl.arc_end_mm
+    y = -half_span
+    w = offset
+    edges: list[cq.Edge] = []
+    if r > w:
+        ri = r - w
+        p_arc = (ri * math.sin(th), -r + ri * math.cos(th))
+        mid = (ri * math.sin(th / 2), -r + ri * math.cos(th / 2))
+        if w > 0:
+            edges += polyline_edges([(x_lo, y, 0.0), (x_lo, y, -w), (0.0, y, -w)])
+        else:
+            edges += polyline_edges([(x_lo, y, 0.0), (0.0, y, 0.0)])
+        edges.append(arc3((0.0, y, -w), (mid[0], y, mid[1]), (p_arc[0], y, p_arc[1])))
+        p0 = p_arc
+    else:
+        # sharp start, or an entry arc smaller than the wall: offset the tangent lines by
+        # the wall plus the arc's sag below its tangent corner (conservative).
+        ww = w + (r * (1.0 / math.cos(th / 2) - 1.0) if r > 0 else 0.0)
+        px, pz = xa - ww * math.sin(th), -za - ww * math.cos(th)
+        xi = px + (pz + ww) / math.tan(th) if ww > 0 else 0.0
+        pts = [(x_lo, y, 0.0)]
+        if ww > 0:
+            pts += [(x_lo, y, -ww), (xi, y, -ww)]
+        else:
+            pts += [(0.0, y, 0.0)]
+        edges += polyline_edges(pts)
+        p0 = (xi, -ww) if ww > 0 else (0.0, 0.0)
+    # ramp line (through p0 at the ramp angle) down to the flat floor at -(H + w)
+    xc = p0[0] + (p0[1] + H + w) / math.tan(th)
+    edges += polyline_edges(
+        [(p0[0], y, p0[1]), (xc, y, -H - w), (x_end, y, -H - w), (x_end, y, 0.0), (x_lo, y, 0.0)]
+    )
+    return extrude_xz(edges, y, half_span)
+
+
+def _raised_lip(g: InletGeometry, half_span: float) -> cq.Solid:
+    """A raised lip above the skin: the elliptical nose and its fairing wedge."""
+    lip = g.lip
+    xc, t = lip.nose_end_mm, lip.thickness_mm
+    y = -half_span
+    edges = [
+        xz_ellipse_arc(xc, t / 2.0, lip.semi_major_mm, lip.semi_minor_mm, 90.0, 270.0, y),
+        *polyline_edges([(xc, y, 0.0), (xc + lip.fairing_length_mm, y, 0.0), (xc, y, t)]),
+    ]
+    return extrude_xz(edges, y, half_span)
+
+
+def _cylinder_x(radius: float, x0: float, x1: float, zc: float) -> cq.Solid:
+    return cq.Solid.makeCylinder(radius, x1 - x0, V(x0, 0.0, zc), V(1, 0, 0))
+
+
+def _bead(sp, radius: float) -> cq.Solid:  # type: ignore[no-untyped-def]
+    """Retention bead: a ring whose outer face ramps up towards the free end... reversed:
+    it rises gently from the free end (the hose slides on) and drops steeply behind."""
+    x0, x1, h, zc = sp.bead_x0_mm, sp.bead_x1_mm, sp.bead_height_mm, sp.centre_z_mm
+    r_in = radius - 0.5  # overlaps the tube
+    ramp = x1 - 0.2 * (x1 - x0)
+    pts = [(x0, r_in), (x1, r_in), (x1, radius), (ramp, radius + h), (x0, radius + h)]
+    # profile in the xz plane at y = 0, offset by the centre height, revolved about the axis
+    edges = polyline_edges([(x, 0.0, zc + r) for x, r in [*pts, pts[0]]])
+    wire = cq.Wire.assembleEdges(edges)
+    return cq.Solid.revolve(wire, [], 360.0, V(0, 0, zc), V(1, 0, zc))
+
+
+def boolean(kind: str, shape: cq.Shape, tools: list[cq.Shape]) -> cq.Shape:
+    """One boolean ("fuse", "cut", "common") with oriented bounding boxes and the
+    parallel mode on (about 1.7× faster than the default on these shapes)."""
+    from OCP.BRepAlgoAPI import BRepAlgoAPI_Common, BRepAlgoAPI_Cut, BRepAlgoAPI_Fuse
+    from OCP.TopTools import TopTools_ListOfShape
+
+    op = {"fuse": BRepAlgoAPI_Fuse, "cut": BRepAlgoAPI_Cut, "common": BRepAlgoAPI_Common}[kind]()
+    args, tls = TopTools_ListOfShape(), TopTools_ListOfShape()
+    args.Append(shape.wrapped)
+    for t in tools:
+        tls.Append(t.wrapped)
+    op.SetArguments(args)
+    op.SetTools(tls)
+    op.SetRunParallel(True)
+    op.SetUseOBB(True)
+    op.Build()
+    if not op.IsDone():
+        raise GeometryError("insert", f"the kernel's {kind} failed")
+    return cq.Shape.cast(op.Shape()).clean()
+
+
+def _box(x0: float, x1: float, y0: float, y1: float, z0: float, z1: float) -> cq.Solid:
+    return cq.Solid.makeBox(x1 - x0, y1 - y0, z1 - z0, V(x0, y0, z0))
+
+
+def _drilled(shape: cq.Shape, lay) -> cq.Shape:  # type: ignore[no-untyped-def]
+    """``shape`` with the flange's fastener holes drilled through (vertical, mm)."""
+    if not len(lay.hole_centres_xy):
+        return shape
+    d = lay.hole_diameter_mm
+    z0, z1 = lay.z_bottom_mm - 1.0, lay.z_top_mm + 1.0
+    holes = [
+        cq.Solid.makeCylinder(d / 2.0, z1 - z0, V(float(x), float(y), z0), V(0, 0, 1))
+        for x, y in lay.hole_centres_xy
+    ]
+    return boolean("cut", shape, holes)
+
+
+def make_insert(
+    g: InletGeometry, fab: Fabrication | None = None, cutter: cq.Solid | None = None
+) -> cq.Solid:
+    """The insert as one closed solid (mm): an outer body minus the cutter (``cutter``, if
+    already built for this geometry, saves building it again). Raises :class:`SpecError` for
+    parameters that cannot make a part, :class:`GeometryError` when the kernel fails."""
+    fab = fab or fabrication_of(g)
+    validate_fabrication(g, fab)
+    ins = fab.insert
+    w = ins.wall
+    r_edge = g.edge_radius_mm
+    off = w + r_edge
+    t_skin = g.skin_thickness_mm
+    lay = flange_layout(g, ins)
+    x_top = footprint_end_mm(g)
+    x_ne = g.throat_end_mm
+    H = g.drop_mm
+    span = g.width_mm / 2.0 + off + ins.flange_width + 10.0
+    try:
+        walls = boolean(
+            "common",
+            prism(footprint_face(g, x_ne, off, square_end=g.transition is None), -H - w - 2.0, 0.0),
+            [floor_profile_solid(g, w, -off - 2.0, x_ne + off + 1.0, span)],
+        )
+        square = g.transition is None and x_top == x_ne
+        pieces: list[cq.Shape] = [
+            prism(footprint_face(g, x_top, off, square_end=square), -t_skin, 0.0)
+        ]
+        outline = footprint_face(g, x_top, off + ins.flange_width)
+        if ins.mount == "behind":
+            pieces.append(_drilled(prism(outline, lay.z_bottom_mm, lay.z_top_mm), lay))
+        else:
+            tb = ins.bezel_thickness
+            land = min(FEATHER_LAND_MM, tb / 2.0)
+            pieces.append(_drilled(prism(outline, 0.0, land), lay))
+            if ins.feather_width > 0:
+                inset = offset_wire(g, x_top, off + ins.flange_width - ins.feather_width)
+                outer = offset_wire(g, x_top, off + ins.flange_width)
+                pieces.append(
+                    cq.Solid.makeLoft(
+                        [outer.translate(V(0, 0, land)), inset.translate(V(0, 0, tb))], True
+                    )
+                )
+                pieces.append(prism(cq.Face.makeFromWires(inset), 0.0, tb))
+            else:
+                pieces.append(prism(outline, 0.0, tb))
+        if g.lip.style == "raised":
+            pieces.append(_raised_lip(g, g.width_mm / 2.0 + off))
+        inner_extra: list[cq.Shape] = []
+        t = g.transition
+        if t is not None:
+            wt = transition_wall_mm(g, w)
+            t_out = dataclasses.replace(
+                t,
+                width_mm=t.width_mm + 2 * wt,
+                roof_z_mm=t.roof_z_mm + wt,
+                floor_z_mm=t.floor_z_mm - wt,
+                outlet_width_mm=t.outlet_width_mm + 2 * wt,
+                outlet_height_mm=t.outlet_height_mm + 2 * wt,
+                outlet_top_z_mm=t.outlet_top_z_mm + wt,
+            )
+            pieces.append(make_transition(t_out))
+            sp = spigot_of(g, fab)
+            if sp is not None:
+                zc = sp.centre_z_mm
+                pieces.append(
+                    _cylinder_x(sp.shoulder_radius_mm, sp.x0_mm, sp.x0_mm + sp.shoulder_mm, zc)
+                )
+                pieces.append(_cylinder_x(sp.od_mm / 2.0, sp.x0_mm, sp.x_end_mm, zc))
+                if sp.bead_height_mm > 0:
+                    pieces.append(_bead(sp, sp.od_mm / 2.0))
+                inner_extra.append(
+                    _cylinder_x(sp.bore_mm / 2.0, sp.x0_mm - 0.5, sp.x_end_mm + 1.0, zc)
+                )
+            else:  # rectangular collar
+                h, top = t.outlet_width_mm / 2.0, t.outlet_top_z_mm
+                bot = top - t.outlet_height_mm
+                x1 = t.x_end_mm + g.spigot_length_mm
+                pieces.append(_box(t.x_end_mm, x1, -h - wt, h + wt, bot - wt, top + wt))
+                inner_extra.append(_box(t.x_end_mm - 0.5, x1 + 1.0, -h, h, bot, top))
+        else:  # open throat exit through the downstream wall
+            # beyond the downstream wall the exit is open up to the skin (the flange is
+            # notched there, rather than left as a sliver over the throat's roof)
+            top = min(g.lip.roof_z_mm, -t_skin)
+            inner_extra.append(
+                _box(
+                    x_ne - 0.5,
+                    x_ne + off + 0.5,
+                    -g.width_mm / 2.0,
+                    g.width_mm / 2.0,
+                    -H,
+                    g.lip.roof_z_mm,
+                )
+            )
+            inner_extra.append(
+                _box(
+                    x_ne + off,
+                    x_ne + off + ins.flange_width + 2.0,
+                    -g.width_mm / 2.0,
+                    g.width_mm / 2.0,
+                    -H,
+                    max(top, -t_skin),
+                )
+            )
+        if ins.mount == "surface":
+            x_open = g.length_mm if g.lip.style == "raised" else x_ne
+            inner_extra.append(
+                prism(footprint_face(g, x_open, r_edge), 0.0, ins.bezel_thickness + 1.0)
+            )
+        outer = boolean("fuse", walls, pieces)
+        inner = cutter if cutter is not None else make_cutter(g)
+        if inner_extra:
+            inner = boolean("fuse", inner, inner_extra)
+        body = boolean("cut", outer, [inner])
+        if ins.mount == "surface" and len(lay.hole_centres_xy):
+            body = _drilled(body, lay)
+    except (GeometryError, ValueError) as err:
+        if isinstance(err, GeometryError):
+            raise
+        raise GeometryError("insert", f"kernel failure: {err}") from err
+    except Exception as err:  # kernel exceptions share no base class (brief §9)
+        from ductgen.errors import SpecError
+
+        if isinstance(err, SpecError):
+            raise
+        raise GeometryError("insert", f"kernel failure: {type(err).__name__}: {err}") from err
+    solids = body.Solids()
+    if len(solids) != 1:
+        raise GeometryError("insert", f"expected one solid, the kernel produced {len(solids)}")
+    return solids[0]

@@ -1,0 +1,142 @@
+"""The printable insert: a valid closed solid, the hose spigot's fit, the flange holes and
+the wall thickness measured on the mesh of every sample.
+
+Kernel work runs in this process (tests may import the solids layer directly).
+"""
+
+from __future__ import annotations
+
+import io
+import math
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+cq = pytest.importorskip("cadquery")
+
+from ductgen.export.cad import stl_bytes  # noqa: E402
+from ductgen.geometry import build_geometry  # noqa: E402
+from ductgen.geometry.fabrication import fabrication_params, flange_layout, spigot_of  # noqa: E402
+from ductgen.printability import min_wall_mm  # noqa: E402
+from ductgen.solids.check import CHECK_MESH, mesh_stats  # noqa: E402
+from ductgen.solids.insert import make_insert  # noqa: E402
+from ductgen.solids.mesh import triangulate  # noqa: E402
+from ductgen.spec import load_spec, parse_spec  # noqa: E402
+
+ROOT = Path(__file__).resolve().parents[1]
+SAMPLES = sorted((ROOT / "samples").glob("*.toml"))
+
+ROUND = {
+    "name": "t-round",
+    "throat": {"width": 100, "depth": 26},
+    "ramp": {"angle_deg": 7, "entry_radius": 100},
+    "lip": {"thickness": 5},
+    "outlet": {
+        "kind": "round",
+        "diameter": 70,
+        "transition_length": 150,
+        "spigot_length": 45,
+        "fit_clearance": 0.3,
+    },
+    "skin": {"thickness": 2.5},
+    "insert": {"wall": 2.4, "flange_width": 18, "holes": {"count": 7, "diameter": 4.2}},
+}
+
+
+def _build(spec):  # type: ignore[no-untyped-def]
+    g = build_geometry(spec)
+    fab = fabrication_params(spec)
+    solid = make_insert(g, fab)
+    return g, fab, solid, triangulate(solid, *CHECK_MESH)
+
+
+@pytest.fixture(scope="module")
+def round_insert():  # type: ignore[no-untyped-def]
+    return _build(parse_spec(ROUND))
+
+
+@pytest.fixture(scope="module")
+def surface_insert():  # type: ignore[no-untyped-def]
+    data = {**ROUND, "name": "t-surface", "insert": {**ROUND["insert"], "mount": "surface"}}
+    return _build(parse_spec(data))
+
+
+def _section_edges(solid, origin, normal):  # type: ignore[no-untyped-def]
+    plane = cq.Face.makePlane(2000, 2000, cq.Vector(*origin), cq.Vector(*normal))
+    return solid.intersect(plane).Edges()
+
+
+@pytest.mark.parametrize("which", ["round_insert", "surface_insert"])
+def test_insert_is_one_valid_closed_solid(which: str, request: pytest.FixtureRequest) -> None:
+    _, _, solid, (v, f) = request.getfixturevalue(which)
+    assert solid.isValid() and len(solid.Solids()) == 1
+    tight, winding, vol, _ = mesh_stats(v, f)
+    assert tight and winding and vol > 0
+    # the STL as written, read back independently: watertight and winding-consistent
+    import trimesh
+
+    m = trimesh.load(io.BytesIO(stl_bytes(v, f)), file_type="stl")
+    assert m.is_watertight and m.is_winding_consistent
+    assert m.volume == pytest.approx(vol, rel=1e-4)
+
+
+def test_spigot_outer_diameter_is_hose_id_minus_clearance(round_insert) -> None:  # type: ignore[no-untyped-def]
+    g, fab, solid, _ = round_insert
+    sp = spigot_of(g, fab)
+    x = 0.5 * (sp.x0_mm + sp.shoulder_mm + sp.bead_x0_mm)  # on the clamp land
+    radii = [
+        e.radius()
+        for e in _section_edges(solid, (x, 0, sp.centre_z_mm), (1, 0, 0))
+        if e.geomType() == "CIRCLE"
+    ]
+    # hose inner diameter 70 mm minus fit clearance 0.3 mm (the spec's own definition)
+    assert 2.0 * max(radii) == pytest.approx(70.0 - 0.3, abs=0.05)
+    assert 2.0 * min(radii) == pytest.approx(70.0 - 0.3 - 2 * 2.4, abs=0.05)  # bore: OD − 2·wall
+    assert sp.clamp_land_mm >= 15.0  # clamp land ≥ 15 mm (issue scope)
+
+
+def test_bead_stands_above_the_spigot(round_insert) -> None:  # type: ignore[no-untyped-def]
+    g, fab, solid, _ = round_insert
+    sp = spigot_of(g, fab)
+    x = sp.bead_x0_mm + 0.5 * (sp.bead_x1_mm - sp.bead_x0_mm) * 0.5
+    edges = _section_edges(solid, (x, 0, sp.centre_z_mm), (1, 0, 0))
+    r = max(e.radius() for e in edges if e.geomType() == "CIRCLE")
+    assert r == pytest.approx(sp.od_mm / 2.0 + fab.insert.bead_height, abs=0.05)
+
+
+@pytest.mark.parametrize("which", ["round_insert", "surface_insert"])
+def test_flange_slice_shows_the_requested_holes(which: str, request: pytest.FixtureRequest) -> None:
+    g, fab, solid, _ = request.getfixturevalue(which)
+    lay = flange_layout(g, fab.insert)
+    z = 0.5 * (lay.z_top_mm + lay.z_bottom_mm) if fab.insert.mount == "behind" else 0.2
+    d = fab.insert.holes.diameter
+    holes = [
+        e
+        for e in _section_edges(solid, (0, 0, z), (0, 0, 1))
+        if e.geomType() == "CIRCLE" and abs(2 * e.radius() - d) < 1e-6
+    ]
+    centres = {tuple(np.round(e.arcCenter().toTuple(), 3)) for e in holes}
+    assert len(centres) == 7
+    for c in centres:  # each lies where the layout (used by the template) puts it
+        assert np.min(np.hypot(*(lay.hole_centres_xy - np.array(c[:2])).T)) < 1e-3
+
+
+@pytest.mark.parametrize("path", SAMPLES, ids=[p.stem for p in SAMPLES])
+def test_min_wall_on_every_sample(path: Path) -> None:
+    spec = load_spec(path)
+    _, _, _, (v, f) = _build(spec)
+    wall = min_wall_mm(v, f)
+    # measured by ray casting on the check mesh (0.05 mm chord): ≥ insert.wall − 0.05 mm
+    assert wall["min_wall_mm"] >= spec.insert.wall - 0.05, wall
+    assert mesh_stats(v, f)[0]
+
+
+def test_behind_mount_is_flush_with_the_skin(round_insert) -> None:  # type: ignore[no-untyped-def]
+    g, fab, _, (v, _) = round_insert
+    assert float(np.max(v[:, 2])) == pytest.approx(
+        0.0, abs=1e-6
+    )  # ramp edge meets the outer surface
+    lay = flange_layout(g, fab.insert)
+    assert lay.z_top_mm == -2.5 and lay.z_bottom_mm == pytest.approx(-2.5 - 2.4)
+    assert math.isfinite(lay.spacing_mm)
