@@ -10,7 +10,7 @@ from ductgen.errors import DesignWarning
 from ductgen.flow.operating_point import solve
 from ductgen.flow.report import build_system, flow_section
 from ductgen.geometry.inlet import build_geometry
-from ductgen.pipeline.build import REPORT_HOOKS, BuildContext
+from ductgen.pipeline.builder import REPORT_HOOKS, BuildContext
 from ductgen.spec import parse_spec
 
 

@@ -117,8 +117,9 @@ def test_inch_template_units_header() -> None:
 def test_cut_holds_opening_and_flange_as_closed_polylines(mm_doc) -> None:  # type: ignore[no-untyped-def]
     _, doc = mm_doc
     cut = _cut(doc)
-    # the skin opening and the insert's flange outline (default mount "behind"), nothing else
-    assert len(cut) == 2
+    # the air opening, the skin cut-out the insert's walls pass through and the insert's
+    # flange outline (default mount "behind"), nothing else
+    assert len(cut) == 3
     for e in cut:
         assert e.dxftype() == "LWPOLYLINE" and e.closed
         p = np.array(list(e.get_points("xy")))

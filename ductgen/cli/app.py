@@ -36,8 +36,8 @@ def main(argv: list[str] | None = None) -> int:
     from ductgen.cli import commands  # noqa: F401  (registers the commands)
 
     try:
-        app(args=argv, standalone_mode=False)
-        code = 0
+        rv = app(args=argv, standalone_mode=False)
+        code = rv if isinstance(rv, int) else 0  # click returns Exit codes in this mode
     except click.exceptions.Exit as ex:
         code = ex.exit_code
     except click.exceptions.Abort:

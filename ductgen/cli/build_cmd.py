@@ -106,6 +106,17 @@ def _summary(result, out_dir: Path) -> None:  # type: ignore[no-untyped-def]
     for k in ("cutter", "insert", "plug"):
         if f"{k}_volume_mm3" in g:
             rows.append((f"{k} volume", f"{g[f'{k}_volume_mm3'] / 1000:.1f} cm³"))
+    pr = result.report.get("print")
+    if pr and pr.get("min_wall_mm") is not None:
+        mat = pr.get("material", "")
+        mass = pr.get("mass_g")
+        rows.append(
+            (
+                "insert print",
+                f"min wall {pr['min_wall_mm']:.2f} mm"
+                + (f", {mass:.0f} g {mat}" if mass is not None else f", {mat}"),
+            )
+        )
     flow = result.report.get("flow")
     if flow and "volume_flow_m3_s" in flow:
         rows.append(("delivered flow", f"{flow['volume_flow_m3_s'] * 1000:.1f} L/s"))

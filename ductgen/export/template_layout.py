@@ -109,7 +109,7 @@ class TemplateDrawing:
 
     Attributes:
         name: spec name; units: the DXF drawing unit (``"mm"`` or ``"in"``).
-        cuts: (role, contour) pairs on ``CUT``; role ``"opening"`` first.
+        cuts: (role, contour) pairs on ``CUT``; role ``"air opening"`` first.
         circles, lines, texts, bars: the other entities.
     """
 
@@ -176,7 +176,7 @@ def template_drawing(
     length, half = pf.length_mm, 0.5 * g.width_mm
     h0 = 0.5 * pf.apex_width_mm
     d = TemplateDrawing(name=spec.name, units=t.units)
-    d.cuts.append(("opening", opening_contour(pf, t.tolerance, 0.5 * t.kerf)))
+    d.cuts.append(("air opening", opening_contour(pf, t.tolerance, 0.5 * t.kerf)))
     for role, contour in outer or []:
         d.cuts.append((role, contour))
     for cx, cy in holes or []:
@@ -213,6 +213,7 @@ def template_drawing(
         f"ramp {g.floor.angle_deg:.2f} deg",
         f"spec sha256 {spec_hash[:16]}  date {build_date()}  {unit_note}",
         _kerf_note(t.kerf, len(d.cuts) > 1),
+        "CUT, inside out: " + ", ".join(role for role, _ in d.cuts),
         "VERIFY SCALE: the 100 mm bar must measure 100 mm before cutting",
         *CAUTIONS_SHORT,
     ]
@@ -234,6 +235,7 @@ def template_files(g: InletGeometry, spec: Spec, spec_hash: str) -> dict[str, by
         f"apex {g.planform.apex_width_mm:.2f} mm.",
         f"spec sha256 {spec_hash[:16]}, {build_date()}, paper {t.paper}.",
         _kerf_note(t.kerf, len(d.cuts) > 1) + ".",
+        "Red lines, inside out: " + ", ".join(role for role, _ in d.cuts) + ".",
     ]
     return {
         "template.dxf": dxf_bytes(d),
@@ -258,6 +260,13 @@ def _fabrication(g: InletGeometry, spec: Spec):  # type: ignore[no-untyped-def]
     fl = flange_layout(g, ins, spec.skin)
     dist = fl.cutout_offset_mm + fl.flange_width_mm + 0.5 * t.kerf
     role = "flange outline" if ins.mount == "behind" else "bezel outline"
-    outer = [(role, outward_contour(g.planform, footprint_end_mm(g), dist, t.tolerance))]
+    x_end = footprint_end_mm(g)
+    outer = []
+    if ins.mount == "behind" and fl.cutout_offset_mm > 0:
+        # the insert's walls pass up through the skin: this is the hole to cut in the skin;
+        # a hole, so the kerf moves its tool path inward
+        cut = fl.cutout_offset_mm - 0.5 * t.kerf
+        outer.append(("skin cut-out", outward_contour(g.planform, x_end, cut, t.tolerance)))
+    outer.append((role, outward_contour(g.planform, x_end, dist, t.tolerance)))
     holes = [(float(x), float(y)) for x, y in fl.hole_centres_xy]
     return outer, holes, float(fl.hole_diameter_mm)

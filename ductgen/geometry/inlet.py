@@ -11,9 +11,11 @@ the straight throat and of the transition) → L + a + transition length (outlet
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass
 from functools import cached_property
+from typing import Any
 
 import numpy as np
 from scipy.integrate import quad
@@ -60,6 +62,8 @@ class InletGeometry:
         overcut_mm: how far the cutter rises above the outer skin over the opening, so
             the subtraction never meets coplanar faces and the tangent ramp entry is not a
             zero-angle edge.
+        fabrication: the insert and plug values
+            (:class:`~ductgen.geometry.fabrication.Fabrication`) the solids are built with.
     """
 
     name: str
@@ -73,6 +77,7 @@ class InletGeometry:
     skin_thickness_mm: float
     spigot_length_mm: float = 0.0
     overcut_mm: float = 1.0
+    fabrication: Any = None
 
     # --- stations ---------------------------------------------------------------------
     @property
@@ -196,6 +201,8 @@ class InletGeometry:
 
 def build_geometry(spec: Spec, profile: Profile | None = None) -> InletGeometry:
     """Pure geometry from a spec; raises :class:`SpecError` on cross-field problems."""
+    from ductgen.geometry.fabrication import fabrication_params
+
     profile = profile or load_profile(spec.planform.profile)
     w, d = spec.throat.width, spec.throat.depth
     lip_t = spec.lip.thickness
@@ -232,16 +239,16 @@ def build_geometry(spec: Spec, profile: Profile | None = None) -> InletGeometry:
 
     r_edge = spec.planform.edge_radius
     if r_edge > 0:
-        limit = min(
-            d / 2.0, planform.apex_width_mm / 2.0, lip_t if spec.lip.style == "flush" else d / 2.0
-        )
+        # flush lip: the nose cut through a round larger than ~0.6 t was measured to fail
+        lip_limit = 0.6 * lip_t if spec.lip.style == "flush" else d / 2.0
+        limit = min(d / 2.0, planform.apex_width_mm / 2.0, lip_limit)
         if r_edge > limit:
             raise SpecError(
                 "planform.edge_radius",
                 r_edge,
                 f"<= {limit:.2f} mm",
                 "the round must fit in half the throat depth, half the apex width "
-                "and the lip thickness",
+                "and (flush lip) 0.6 x the lip thickness",
             )
 
     roof, flo = lip.roof_z_mm, -drop
@@ -249,7 +256,8 @@ def build_geometry(spec: Spec, profile: Profile | None = None) -> InletGeometry:
     spigot = 0.0
     out = spec.outlet
     if isinstance(out, RoundOutlet | RectOutlet):
-        top = min(roof, -spec.skin.thickness)
+        # roof-aligned, but low enough that the insert's wall over the duct clears the skin
+        top = min(roof, -(spec.skin.thickness + spec.insert.wall))
         if isinstance(out, RoundOutlet):
             ow = oh = out.diameter
         else:
@@ -265,6 +273,12 @@ def build_geometry(spec: Spec, profile: Profile | None = None) -> InletGeometry:
             outlet_height_mm=oh,
             outlet_top_z_mm=top,
         )
+        # the insert's wall over a sloping duct is thickened by √(1 + slope²) to stay square
+        # to the steepest ruling; lower the outlet until that wall clears the skin too
+        for _ in range(2):
+            wall = spec.insert.wall * transition.ruling_stretch
+            top = min(roof, -(spec.skin.thickness + wall))
+            transition = dataclasses.replace(transition, outlet_top_z_mm=top)
         spigot = out.spigot_length
         half = abs(transition.equivalent_cone_half_angle_deg)
         if half > 30.0:
@@ -290,6 +304,7 @@ def build_geometry(spec: Spec, profile: Profile | None = None) -> InletGeometry:
         skin_thickness_mm=spec.skin.thickness,
         spigot_length_mm=spigot,
         overcut_mm=spec.cutter.overcut,
+        fabrication=fabrication_params(spec),
     )
 
 

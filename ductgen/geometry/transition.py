@@ -107,6 +107,15 @@ class Transition:
             outlet = oc[k] * (1 - s) + oc[(k + 1) % 4] * s
         return throat, outlet
 
+    @property
+    def ruling_stretch(self) -> float:
+        """√(1 + (longest ruling's run / length)²): how much a wall of thickness w measured
+        along a section must grow to be w square to the steepest ruling (dimensionless)."""
+        u = np.linspace(0.0, 4.0, 400, endpoint=False)
+        a, b = self._edge_points(u)
+        run = float(np.max(np.linalg.norm(b - a, axis=1)))
+        return math.sqrt(1.0 + (run / self.length_mm) ** 2)
+
     def section_area_mm2(self, s: float, n: int = 2000) -> float:
         """Cross-section area (mm²) at fraction s ∈ [0, 1] of the transition length."""
         u = np.linspace(0.0, 4.0, 4 * n, endpoint=False)

@@ -22,9 +22,10 @@ __all__ = ["SOLID_KINDS", "SolidRecipe", "build_solids", "recipes", "warm_up"]
 
 @dataclass(frozen=True)
 class SolidRecipe:
-    """How to make one solid kind: ``build(g) -> cq.Solid``; ``expected(g) -> mm³ | None``."""
+    """How to make one solid kind: ``build(g, built) -> cq.Solid`` (``built``: the solids
+    made before it in this job, by kind); ``expected(g) -> mm³ | None``."""
 
-    build: Callable[[InletGeometry], Any]
+    build: Callable[[InletGeometry, dict[str, Any]], Any]
     expected: Callable[[InletGeometry], float | None]
     volume_rel: float | None = None
 
@@ -32,29 +33,52 @@ class SolidRecipe:
 def recipes() -> dict[str, SolidRecipe]:
     """Solid kind → recipe (imports the kernel, so only call inside the worker)."""
     from ductgen.solids.cutter import make_cutter
+    from ductgen.solids.insert import make_insert
+    from ductgen.solids.plug import make_plug, plug_volume_mm3
 
     return {
-        "cutter": SolidRecipe(make_cutter, lambda g: g.cutter_volume_mm3),
+        "cutter": SolidRecipe(lambda g, _: make_cutter(g), lambda g: g.cutter_volume_mm3),
+        # insert: a union of overlapping pieces minus the cutter has no independent
+        # integral; the watertight/validity checks and the printability hook apply.
+        "insert": SolidRecipe(
+            lambda g, built: make_insert(g, cutter=built.get("cutter")), lambda g: None
+        ),
+        "plug": SolidRecipe(lambda g, _: make_plug(g), plug_volume_mm3),
     }
 
 
 #: Solid kinds in build order (names only, importable without the kernel).
-SOLID_KINDS: tuple[str, ...] = ("cutter",)
+SOLID_KINDS: tuple[str, ...] = ("cutter", "insert", "plug")
 
 
-def _wetted_area(solid: Any, g: InletGeometry) -> float:
-    """Area of the cutter's air-washed surface (mm²): all faces except the open top in the
-    skin plane and the outlet (or throat exit) face."""
-    x_out = g.outlet_x_mm
-    total = 0.0
-    for f in solid.Faces():
-        bb = f.BoundingBox()
-        if f.geomType() == "PLANE" and abs(bb.zmax) < 1e-6 and abs(bb.zmin) < 1e-6:
-            continue
-        if f.geomType() == "PLANE" and abs(bb.xmin - x_out) < 1e-6 and abs(bb.xmax - x_out) < 1e-6:
-            continue
-        total += f.Area()
-    return total
+def wetted_area_mm2(vertices: Any, faces: Any, g: InletGeometry) -> float:
+    """Area of the cutter's air-washed surface (mm²) from its triangulation: everything below
+    the skin plane (triangles crossing it are clipped; the overcut above is left out) except
+    the outlet (or throat exit) face."""
+    import numpy as np
+
+    tri = np.asarray(vertices, dtype=float)[np.asarray(faces)]
+    on_exit = np.all(np.abs(tri[:, :, 0] - g.outlet_x_mm) < 1e-6, axis=1)
+    tri = tri[~on_exit]
+    z = tri[:, :, 2]
+    below = np.all(z <= 0.0, axis=1)
+    area = (
+        0.5
+        * np.linalg.norm(
+            np.cross(tri[below, 1] - tri[below, 0], tri[below, 2] - tri[below, 0]), axis=1
+        ).sum()
+    )
+    for t in tri[~below & np.any(z < 0.0, axis=1)]:  # crossing the skin plane: clip
+        poly = []
+        for i in range(3):
+            p, q = t[i], t[(i + 1) % 3]
+            if p[2] <= 0.0:
+                poly.append(p)
+            if (p[2] < 0.0) != (q[2] < 0.0) and p[2] != q[2]:
+                poly.append(p + (q - p) * (p[2] / (p[2] - q[2])))
+        for k in range(1, len(poly) - 1):
+            area += 0.5 * np.linalg.norm(np.cross(poly[k] - poly[0], poly[k + 1] - poly[0]))
+    return float(area)
 
 
 def build_solids(
@@ -74,6 +98,7 @@ def build_solids(
     from ductgen.solids.mesh import triangulate
 
     out: dict[str, dict[str, Any]] = {}
+    built: dict[str, Any] = {}
     book = recipes()
     tol = DEFAULT_TOLERANCES
     for kind in kinds:
@@ -81,7 +106,8 @@ def build_solids(
         times: dict[str, float] = {}
         t0 = time.perf_counter()
         stage(kind)
-        solid = recipe.build(g)
+        solid = recipe.build(g, built)
+        built[kind] = solid
         times["build_s"] = time.perf_counter() - t0
         t0 = time.perf_counter()
         stage(f"{kind} check")
@@ -119,7 +145,7 @@ def build_solids(
             "mesh": (verts.astype("float32"), faces.astype("int32")),
         }
         if kind == "cutter":
-            out[kind]["wetted_area_mm2"] = _wetted_area(solid, g)
+            out[kind]["wetted_area_mm2"] = wetted_area_mm2(*res.mesh, g)
     return out
 
 

@@ -9,7 +9,7 @@ __all__ = ["sheet_files"]
 
 def sheet_files(ctx: Any) -> dict[str, bytes]:
     """Encode ``sheet.pdf`` and ``preview.png`` (suffix → bytes) for a build context."""
-    from ductgen.pipeline.build import _version
+    from ductgen.pipeline.builder import package_version as _version
     from ductgen.sheets.preview import preview_png
     from ductgen.sheets.sheet import sheet_pdf
 

@@ -64,7 +64,11 @@ def mesh_stats(vertices: np.ndarray, faces: np.ndarray) -> tuple[bool, bool, flo
 
 
 def check_solid(
-    solid: cq.Shape, stage: str, expected_mm3: float | None, tol: Tolerances, volume_rel: float | None = None
+    solid: cq.Shape,
+    stage: str,
+    expected_mm3: float | None,
+    tol: Tolerances,
+    volume_rel: float | None = None,
 ) -> SolidCheck:
     """Check one solid; raise :class:`GeometryError` naming ``stage`` if it is unsound."""
     solids = solid.Solids()
@@ -91,7 +95,13 @@ def check_solid(
                 f"by {rel:.2%} (allowed {allowed:.2%})",
             )
     return SolidCheck(
-        stage=stage, valid=valid, watertight=watertight, winding_consistent=winding,
-        volume_mm3=volume, expected_volume_mm3=expected_mm3, area_mm2=area, faces=len(solid.Faces()),
+        stage=stage,
+        valid=valid,
+        watertight=watertight,
+        winding_consistent=winding,
+        volume_mm3=volume,
+        expected_volume_mm3=expected_mm3,
+        area_mm2=area,
+        faces=len(solid.Faces()),
         mesh=(verts, faces),
     )

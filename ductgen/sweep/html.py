@@ -235,7 +235,7 @@ def _previews(sweep: SweepResult) -> str:
 
 def page_html(sweep: SweepResult, spec_path: Path, keys: list[str]) -> str:
     """The whole comparison page as one HTML string."""
-    from ductgen.pipeline.build import _version
+    from ductgen.pipeline.builder import package_version as _version
 
     rows = sweep.rows
     ok = [v for v, r in zip(sweep.variants, sweep.results, strict=True) if r.status != "failed"]

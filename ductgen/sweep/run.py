@@ -113,7 +113,8 @@ def _close_worker_at_exit() -> None:
 def build_variant(task: VariantTask) -> VariantResult:
     """Build one variant into its folder (runs in a worker process); never raises."""
     from ductgen.export.atomic import write_atomic
-    from ductgen.pipeline.build import _version, build
+    from ductgen.pipeline.builder import build
+    from ductgen.pipeline.builder import package_version as _version
 
     folder = Path(task.folder)
     try:
@@ -233,7 +234,8 @@ def run_sweep(
             unknown ``--only`` kind, ``--baseline`` or ``--quality``, or an unreachable
             scheduler.
     """
-    from ductgen.pipeline.build import _version, output_kinds
+    from ductgen.pipeline.builder import output_kinds
+    from ductgen.pipeline.builder import package_version as _version
     from ductgen.sweep.compare import compare_all, comparison_rows
     from ductgen.sweep.html import write_outputs
     from ductgen.tolerances import STL_QUALITY

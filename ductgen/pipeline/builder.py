@@ -28,10 +28,18 @@ from ductgen.spec.model import Spec
 from ductgen.tolerances import STL_QUALITY
 from ductgen.worker import KernelWorker, default_worker
 
-__all__ = ["PRODUCERS", "BuildContext", "BuildResult", "build", "output_kinds", "planned_files"]
+__all__ = [
+    "PRODUCERS",
+    "BuildContext",
+    "BuildResult",
+    "build",
+    "output_kinds",
+    "package_version",
+    "planned_files",
+]
 
 
-def _version() -> str:
+def package_version() -> str:
     try:
         return version("ductgen")
     except PackageNotFoundError:  # pragma: no cover - running from a bare checkout
@@ -123,6 +131,10 @@ def build(
     t0 = time.perf_counter()
     note("geometry")
     geometry = build_geometry(spec)
+    if any(k in kinds for k in ("insert", "plug", "template")):
+        from ductgen.geometry.fabrication import validate_fabrication
+
+        validate_fabrication(geometry, geometry.fabrication)  # before the kernel starts
     seconds["geometry_s"] = time.perf_counter() - t0
     check_free([out_dir / n for n in planned_files(spec, kinds)], force)
 
@@ -149,7 +161,7 @@ def build(
         report: dict[str, Any] = {
             "name": spec.name,
             "spec_sha256": spec_sha256(spec),
-            "ductgen_version": _version(),
+            "ductgen_version": package_version(),
             "geometry": geometry_report(geometry, solids),
         }
         ctx = BuildContext(spec=spec, geometry=geometry, solids=solids, report=report)
