@@ -26,6 +26,7 @@ from typing import Any
 import numpy as np
 
 from ductgen.errors import DesignWarning
+from ductgen.geometry.meshstats import mesh_stats
 
 __all__ = [
     "FDM_MIN_WALL_MM",
@@ -77,25 +78,9 @@ def _trimesh(vertices: np.ndarray, faces: np.ndarray):  # type: ignore[no-untype
 
 
 def mesh_closure(vertices: np.ndarray, faces: np.ndarray) -> tuple[bool, bool, float, float]:
-    """(closed, winding consistent, signed volume mm³, area mm²), coincident vertices merged:
-    every undirected edge must be used by exactly two faces, in opposite directions."""
-    faces = np.asarray(faces, dtype=np.int64)
-    vertices = np.asarray(vertices, dtype=float)
-    if len(faces) == 0:
-        return False, False, 0.0, 0.0
-    key = np.round(vertices / 1e-5).astype(np.int64)
-    _, inverse = np.unique(key, axis=0, return_inverse=True)
-    f = inverse.reshape(-1)[faces]
-    f = f[(f[:, 0] != f[:, 1]) & (f[:, 1] != f[:, 2]) & (f[:, 0] != f[:, 2])]
-    e = np.concatenate([f[:, [0, 1]], f[:, [1, 2]], f[:, [2, 0]]])
-    _, counts = np.unique(np.sort(e, axis=1), axis=0, return_counts=True)
-    closed = bool(np.all(counts == 2))
-    _, dcounts = np.unique(e, axis=0, return_counts=True)
-    winding = closed and bool(np.all(dcounts == 1))
-    v = vertices[faces]
-    cross = np.cross(v[:, 1] - v[:, 0], v[:, 2] - v[:, 0])
-    volume = float(np.einsum("ij,ij->i", v[:, 0], cross).sum() / 6.0)
-    return closed, winding, volume, float(0.5 * np.linalg.norm(cross, axis=1).sum())
+    """(closed, winding consistent, signed volume mm³, area mm²); see
+    :func:`ductgen.geometry.meshstats.mesh_stats`."""
+    return mesh_stats(vertices, faces)
 
 
 def mesh_health(vertices: np.ndarray, faces: np.ndarray) -> dict[str, Any]:

@@ -18,8 +18,9 @@ cq = pytest.importorskip("cadquery")
 from ductgen.export.cad import stl_bytes  # noqa: E402
 from ductgen.geometry import build_geometry  # noqa: E402
 from ductgen.geometry.fabrication import fabrication_params, flange_layout, spigot_of  # noqa: E402
+from ductgen.geometry.meshstats import mesh_stats  # noqa: E402
 from ductgen.printability import min_wall_mm  # noqa: E402
-from ductgen.solids.check import CHECK_MESH, mesh_stats  # noqa: E402
+from ductgen.solids.check import CHECK_MESH  # noqa: E402
 from ductgen.solids.insert import make_insert  # noqa: E402
 from ductgen.solids.mesh import triangulate  # noqa: E402
 from ductgen.spec import load_spec, parse_spec  # noqa: E402

@@ -48,30 +48,28 @@ REPORT_HOOKS.append(_printability)
 # --- marking template and drawing sheet (export/, sheets/) ---------------------------
 
 
-def _template_producer(ctx, out):  # type: ignore[no-untyped-def]
-    """``NAME-template.dxf`` (1:1, lines + arcs) and ``NAME-template.pdf`` (tiled 1:1)."""
-    from ductgen.export.template_layout import template_files
-
-    files = template_files(ctx.geometry, ctx.spec, ctx.report["spec_sha256"])
+def _stage(ctx, out, files: dict[str, bytes]) -> dict[str, str]:  # type: ignore[no-untyped-def]
+    """Stage ``NAME-SUFFIX`` files; returns file kind (suffix with '_') → file name."""
     names = {}
     for suffix, data in files.items():
         name = f"{ctx.spec.name}-{suffix}"
         out.add(name, data)
         names[suffix.replace(".", "_")] = name
     return names
+
+
+def _template_producer(ctx, out):  # type: ignore[no-untyped-def]
+    """``NAME-template.dxf`` (1:1, lines + arcs) and ``NAME-template.pdf`` (tiled 1:1)."""
+    from ductgen.export.template_layout import template_files
+
+    return _stage(ctx, out, template_files(ctx.geometry, ctx.spec, ctx.report["spec_sha256"]))
 
 
 def _sheet_producer(ctx, out):  # type: ignore[no-untyped-def]
     """``NAME-sheet.pdf`` (dimensioned drawing sheet) and ``NAME-preview.png`` (3D view)."""
     from ductgen.sheets import sheet_files
 
-    files = sheet_files(ctx)
-    names = {}
-    for suffix, data in files.items():
-        name = f"{ctx.spec.name}-{suffix}"
-        out.add(name, data)
-        names[suffix.replace(".", "_")] = name
-    return names
+    return _stage(ctx, out, sheet_files(ctx))
 
 
 PRODUCERS["template"] = (_template_producer, ("template.dxf", "template.pdf"))

@@ -94,7 +94,8 @@ def build_solids(
 
     from ductgen.export.atomic import write_atomic
     from ductgen.export.cad import step_bytes, stl_bytes
-    from ductgen.solids.check import CHECK_MESH, check_solid, mesh_stats
+    from ductgen.geometry.meshstats import mesh_stats
+    from ductgen.solids.check import CHECK_MESH, check_solid
     from ductgen.solids.mesh import triangulate
 
     out: dict[str, dict[str, Any]] = {}

@@ -15,6 +15,7 @@ import cadquery as cq
 import numpy as np
 
 from ductgen.errors import GeometryError
+from ductgen.geometry.meshstats import mesh_stats
 from ductgen.solids.mesh import triangulate
 from ductgen.tolerances import Tolerances
 
@@ -38,29 +39,6 @@ class SolidCheck:
     area_mm2: float
     faces: int
     mesh: tuple[np.ndarray, np.ndarray] | None = None
-
-
-def mesh_stats(vertices: np.ndarray, faces: np.ndarray) -> tuple[bool, bool, float, float]:
-    """(watertight, winding consistent, signed volume mm³, area mm²) of a triangle mesh,
-    merging coincident vertices first. Pure numpy: every undirected edge must be used by
-    exactly two faces, in opposite directions."""
-    if len(faces) == 0:
-        return False, False, 0.0, 0.0
-    key = np.round(vertices / 1e-7).astype(np.int64)
-    _, inverse = np.unique(key, axis=0, return_inverse=True)
-    f = inverse.reshape(-1)[faces]
-    f = f[(f[:, 0] != f[:, 1]) & (f[:, 1] != f[:, 2]) & (f[:, 0] != f[:, 2])]
-    e = np.concatenate([f[:, [0, 1]], f[:, [1, 2]], f[:, [2, 0]]])
-    und = np.sort(e, axis=1)
-    _, counts = np.unique(und, axis=0, return_counts=True)
-    watertight = bool(np.all(counts == 2))
-    _, dcounts = np.unique(e, axis=0, return_counts=True)
-    winding = watertight and bool(np.all(dcounts == 1))
-    v = vertices[faces]
-    cross = np.cross(v[:, 1] - v[:, 0], v[:, 2] - v[:, 0])
-    volume = float(np.einsum("ij,ij->i", v[:, 0], cross).sum() / 6.0)
-    area = float(0.5 * np.linalg.norm(cross, axis=1).sum())
-    return watertight, winding, volume, area
 
 
 def check_solid(

@@ -67,37 +67,30 @@ def read_spec_data(path: Path) -> dict[str, Any]:
     return data
 
 
-def _resolve_profile(data: dict[str, Any], base_dir: Path | None) -> dict[str, Any]:
-    planform = data.get("planform")
-    if base_dir is None or not isinstance(planform, dict):
+def _resolve_csv(
+    data: dict[str, Any], section: str, key: str, base_dir: Path | None, must_exist: bool
+) -> dict[str, Any]:
+    """Make a relative ``section.key`` CSV path relative to the spec's folder. With
+    ``must_exist`` the path is only rewritten when the file is there (so a bare name can
+    still name a bundled table)."""
+    sec = data.get(section)
+    if base_dir is None or not isinstance(sec, dict):
         return data
-    profile = planform.get("profile")
-    if isinstance(profile, str) and profile.lower().endswith(".csv"):
-        p = Path(profile).expanduser()
-        if not p.is_absolute():
-            p = (base_dir / p).resolve()
-        data = {**data, "planform": {**planform, "profile": str(p)}}
-    return data
-
-
-def _resolve_flow_table(data: dict[str, Any], base_dir: Path | None) -> dict[str, Any]:
-    """A relative ``flow.recovery`` CSV path is relative to the spec's folder (if there)."""
-    flow = data.get("flow")
-    if base_dir is None or not isinstance(flow, dict):
+    value = sec.get(key)
+    if not (isinstance(value, str) and value.strip().lower().endswith(".csv")):
         return data
-    table = flow.get("recovery")
-    if isinstance(table, str) and table.strip().lower().endswith(".csv"):
-        p = Path(table.strip()).expanduser()
-        if not p.is_absolute() and (base_dir / p).is_file():
-            data = {**data, "flow": {**flow, "recovery": str((base_dir / p).resolve())}}
-    return data
+    p = Path(value.strip()).expanduser()
+    if p.is_absolute() or (must_exist and not (base_dir / p).is_file()):
+        return data
+    return {**data, section: {**sec, key: str((base_dir / p).resolve())}}
 
 
 def parse_spec(
     data: dict[str, Any], source: str | None = None, base_dir: Path | None = None
 ) -> Spec:
     """Validate plain data (a dict as read from a file) into a :class:`Spec`."""
-    data = _resolve_flow_table(_resolve_profile(data, base_dir), base_dir)
+    data = _resolve_csv(data, "planform", "profile", base_dir, must_exist=False)
+    data = _resolve_csv(data, "flow", "recovery", base_dir, must_exist=True)
     try:
         return Spec.model_validate(data)
     except ValidationError as err:
