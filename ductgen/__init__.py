@@ -1,0 +1,42 @@
+"""ductgen: flush (NACA-type) submerged air inlets from one spec file.
+
+The curated public API (imported on first use, so ``import ductgen`` stays light)::
+
+    from ductgen import load_spec, build_geometry, build
+    spec = load_spec("samples/ekart-battery-vent.toml")
+    g = build_geometry(spec)           # pure geometry, mm
+    result = build(spec, "out/")       # solids, files, report.json
+"""
+
+from __future__ import annotations
+
+from importlib import import_module
+from importlib.metadata import PackageNotFoundError, version
+from typing import Any
+
+try:
+    __version__ = version("ductgen")
+except PackageNotFoundError:  # pragma: no cover - running from a bare checkout
+    __version__ = "0+unknown"
+
+_EXPORTS = {
+    "load_spec": "ductgen.spec",
+    "parse_spec": "ductgen.spec",
+    "Spec": "ductgen.spec",
+    "build_geometry": "ductgen.geometry",
+    "InletGeometry": "ductgen.geometry",
+    "build": "ductgen.pipeline",
+    "BuildResult": "ductgen.pipeline",
+    "DuctgenError": "ductgen.errors",
+    "SpecError": "ductgen.errors",
+    "GeometryError": "ductgen.errors",
+    "DesignWarning": "ductgen.errors",
+}
+
+__all__ = ["__version__", *_EXPORTS]
+
+
+def __getattr__(name: str) -> Any:
+    if name in _EXPORTS:
+        return getattr(import_module(_EXPORTS[name]), name)
+    raise AttributeError(f"module 'ductgen' has no attribute {name!r}")

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import io
 import json
+from pathlib import Path
 
 import numpy as np
 import pymupdf
@@ -112,3 +113,22 @@ def test_preview_is_a_shaded_picture(built) -> None:  # type: ignore[no-untyped-
     assert len(np.unique(grey.round())) > 50
     warm = (img[..., 0] - img[..., 2]) > 25
     assert 0.01 < warm.mean() < 0.8
+
+
+def test_sheet_without_opengl_still_builds_and_warns(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    """No offscreen GL (a bare server): the sheet is made without its picture, the build goes
+    on, and a warning says how to get the picture."""
+    import ductgen.sheets.preview as preview
+    from ductgen.errors import ExportError
+
+    def no_gl(ctx, worker=None):  # type: ignore[no-untyped-def]
+        raise ExportError("preview.png: offscreen OpenGL rendering failed (test)")
+
+    monkeypatch.setattr(preview, "preview_png", no_gl)
+    spec = parse_spec({"name": "nogl", "throat": {"width": 80, "depth": 20}})
+    res = build(spec, tmp_path, only=["sheet"])
+    assert (tmp_path / "nogl-sheet.pdf").stat().st_size > 0
+    assert not (tmp_path / "nogl-preview.png").exists()
+    assert "preview_unavailable" in [w["code"] for w in res.report["warnings"]]

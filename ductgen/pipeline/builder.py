@@ -14,7 +14,6 @@ from __future__ import annotations
 import time
 from collections.abc import Callable
 from dataclasses import dataclass, field
-from importlib.metadata import PackageNotFoundError, version
 from pathlib import Path
 from typing import Any
 
@@ -40,10 +39,10 @@ __all__ = [
 
 
 def package_version() -> str:
-    try:
-        return version("ductgen")
-    except PackageNotFoundError:  # pragma: no cover - running from a bare checkout
-        return "0+unknown"
+    """The installed ductgen version (``ductgen.__version__``)."""
+    from ductgen import __version__
+
+    return __version__
 
 
 @dataclass

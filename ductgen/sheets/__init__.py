@@ -8,17 +8,24 @@ __all__ = ["sheet_files"]
 
 
 def sheet_files(ctx: Any) -> dict[str, bytes]:
-    """Encode ``sheet.pdf`` and ``preview.png`` (suffix → bytes) for a build context."""
-    from ductgen.pipeline.builder import package_version as _version
+    """Encode ``sheet.pdf`` and ``preview.png`` (suffix → bytes) for a build context.
+
+    Without an offscreen OpenGL context the sheet is still made, without its picture, and a
+    ``preview_unavailable`` warning says how to get one.
+    """
+    from ductgen.errors import DesignWarning, ExportError
     from ductgen.sheets.preview import preview_png
     from ductgen.sheets.sheet import sheet_pdf
 
-    png = preview_png(ctx)
+    try:
+        png: bytes | None = preview_png(ctx)
+    except ExportError as err:
+        ctx.warnings.append(DesignWarning("preview_unavailable", str(err)))
+        png = None
     pdf = sheet_pdf(
-        ctx.geometry,
-        ctx.spec,
-        ctx.report["spec_sha256"],
-        ctx.report.get("ductgen_version", _version()),
-        png,
+        ctx.geometry, ctx.spec, ctx.report["spec_sha256"], ctx.report["ductgen_version"], png
     )
-    return {"sheet.pdf": pdf, "preview.png": png}
+    files = {"sheet.pdf": pdf}
+    if png is not None:
+        files["preview.png"] = png
+    return files
