@@ -21,13 +21,12 @@ from ductgen.errors import GeometryError
 from ductgen.geometry.fabrication import Fabrication, fabrication_of, validate_fabrication
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.solids.insert import (
-    boolean,
     floor_profile_solid,
     footprint_face,
     footprint_wire,
     prism,
 )
-from ductgen.solids.primitives import polyline_edges
+from ductgen.solids.primitives import boolean, polyline_edges
 
 __all__ = ["make_plug", "plug_volume_mm3"]
 
@@ -50,9 +49,9 @@ def make_plug(g: InletGeometry, fab: Fabrication | None = None) -> cq.Solid:
             body = cq.Solid.extrudeLinear(cq.Face.makeFromWires(base), V(0, 0, height))
         span = g.width_mm / 2.0 + 10.0
         wedge = floor_profile_solid(g, 0.0, -5.0, x_ne + 5.0, span).mirror("XY")
-        cavity = boolean("common", body, [wedge])
+        cavity = boolean("intersect", body, [wedge], "plug cavity")
         plate = prism(footprint_face(g, x_ne, plug.trim_margin), -plug.base_thickness, 0.0)
-        shape = boolean("fuse", plate, [cavity])
+        shape = boolean("fuse", plate, [cavity], "plug")
     except GeometryError:
         raise
     except Exception as err:  # kernel exceptions share no base class (brief §9)

@@ -78,22 +78,47 @@ def np3(a: np.ndarray) -> list[tuple[float, float, float]]:
 FUZZY_STEPS_MM: tuple[float | None, ...] = (None, 1e-5, 1e-4)
 
 
-def boolean(op: str, a: cq.Shape, b: cq.Shape, stage: str, glue: bool = False) -> cq.Shape:
-    """``a.op(b)`` (op: fuse, cut, intersect), cleaned, retried with a fuzzy tolerance
-    while the result is invalid; raises :class:`GeometryError` naming ``stage``.
+def _run_boolean(op: str, a: cq.Shape, tools: list[cq.Shape], tol: float | None, glue: bool):
+    from OCP.BOPAlgo import BOPAlgo_GlueShift
+    from OCP.BRepAlgoAPI import BRepAlgoAPI_Common, BRepAlgoAPI_Cut, BRepAlgoAPI_Fuse
+    from OCP.TopTools import TopTools_ListOfShape
+
+    algo = {"fuse": BRepAlgoAPI_Fuse, "cut": BRepAlgoAPI_Cut, "intersect": BRepAlgoAPI_Common}
+    builder = algo[op]()
+    args, tls = TopTools_ListOfShape(), TopTools_ListOfShape()
+    args.Append(a.wrapped)
+    for t in tools:
+        tls.Append(t.wrapped)
+    builder.SetArguments(args)
+    builder.SetTools(tls)
+    builder.SetRunParallel(True)
+    builder.SetUseOBB(True)  # oriented bounding boxes: ~1.7x faster on the insert's booleans
+    if glue:
+        builder.SetGlue(BOPAlgo_GlueShift)
+    if tol:
+        builder.SetFuzzyValue(tol)
+    builder.Build()
+    if not builder.IsDone():
+        raise RuntimeError(f"the kernel's {op} did not finish")
+    return cq.Shape.cast(builder.Shape()).clean()
+
+
+def boolean(
+    op: str, a: cq.Shape, b: cq.Shape | list[cq.Shape], stage: str, glue: bool = False
+) -> cq.Shape:
+    """``a`` op ``b`` (op: fuse, cut, intersect; ``b`` one tool or several), cleaned, retried
+    with a fuzzy tolerance while the result is invalid or not one solid; raises
+    :class:`GeometryError` naming ``stage``.
 
     ``glue`` (fuse only): the operands touch along shared faces and do not otherwise
     overlap, which lets the kernel skip face-face intersection (measured 8x faster)."""
     from ductgen.errors import GeometryError
 
+    tools = b if isinstance(b, list) else [b]
     last = ""
     for tol in FUZZY_STEPS_MM:
         try:
-            kw: dict = {"glue": True} if glue else {}
-            if tol:
-                kw["tol"] = tol
-            res = getattr(a, op)(b, **kw)
-            res = res.clean()
+            res = _run_boolean(op, a, tools, tol, glue)
         except Exception as err:  # kernel exceptions share no base class
             last = f"{type(err).__name__}: {err}"
             continue
