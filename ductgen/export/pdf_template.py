@@ -289,15 +289,12 @@ def _tile_page(pdf, d, lay: TileLayout, k: int, marks, title: str) -> None:  # t
         p = to_page(np.array([m]))[0]
         _crosshair(ax, p[0], p[1], frame)
     n = len(lay.tiles)
-    _pw, ph = lay.page_mm
-    ax.text(
-        _MARGIN,
-        ph - _MARGIN - 4,
+    _header(
+        ax,
+        lay,
         f"{title}   TILE R{t.row + 1} C{t.col + 1}  ({k + 1} of {n})   page {k + 3} of {n + 2}",
-        fontsize=9,
-        weight="bold",
+        9,
     )
-    _note(ax, lay.page_mm, _PRINT_NOTE)
     nb = [
         f"{s} R{r + 1} C{c + 1}"
         for s, r, c in (
@@ -326,19 +323,18 @@ def _tile_page(pdf, d, lay: TileLayout, k: int, marks, title: str) -> None:  # t
     pdf.savefig(fig)
 
 
+def _header(ax, lay: TileLayout, text: str, size: float = 10) -> None:  # type: ignore[no-untyped-def]
+    """Bold page title at the top left and the print-at-100 % note."""
+    ax.text(_MARGIN, lay.page_mm[1] - _MARGIN - 4, text, fontsize=size, weight="bold")
+    _note(ax, lay.page_mm, _PRINT_NOTE)
+
+
 def _cover_page(pdf, d, lay: TileLayout, title: str, info: list[str], cautions: str) -> None:  # type: ignore[no-untyped-def]
     from matplotlib.patches import Rectangle
 
     pw, ph = lay.page_mm
     fig, ax = _figure(lay.page_mm)
-    ax.text(
-        _MARGIN,
-        ph - _MARGIN - 4,
-        f"{title}   ASSEMBLY MAP   page 1 of {len(lay.tiles) + 2}",
-        fontsize=10,
-        weight="bold",
-    )
-    _note(ax, lay.page_mm, _PRINT_NOTE)
+    _header(ax, lay, f"{title}   ASSEMBLY MAP   page 1 of {len(lay.tiles) + 2}")
     # map box: upper part of the page
     by = _MARGIN + 4 * _INCH + 8
     bx, bw, bh = _MARGIN, pw - 2 * _MARGIN, ph - by - _MARGIN - 16
@@ -399,16 +395,8 @@ def _cover_page(pdf, d, lay: TileLayout, title: str, info: list[str], cautions: 
 
 
 def _calibration_page(pdf, lay: TileLayout, title: str) -> None:  # type: ignore[no-untyped-def]
-    _pw, ph = lay.page_mm
     fig, ax = _figure(lay.page_mm)
-    ax.text(
-        _MARGIN,
-        ph - _MARGIN - 4,
-        f"{title}   CALIBRATION   page 2 of {len(lay.tiles) + 2}",
-        fontsize=10,
-        weight="bold",
-    )
-    _note(ax, lay.page_mm, _PRINT_NOTE)
+    _header(ax, lay, f"{title}   CALIBRATION   page 2 of {len(lay.tiles) + 2}")
     x0, y0 = _MARGIN + 8, _MARGIN + 30
     _squares(ax, x0, y0)
     # rulers: 100 mm along x above the squares, 100 mm along y beside them, mm ticks
