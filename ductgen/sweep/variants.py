@@ -29,7 +29,7 @@ __all__ = [
     "variant_id",
 ]
 
-#: File in each variant folder recording what was built there (hash, values, seconds).
+#: File in each variant folder noting what was built there (hash, values, seconds).
 STAMP_FILE = "sweep-variant.json"
 
 _UNSAFE = re.compile(r"[^A-Za-z0-9._=+,\-]")
