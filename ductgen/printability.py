@@ -10,7 +10,7 @@ kernel worker returned, and in ``ductgen check`` on any STL.
   (unsupported overhang ≤ 45° is FDM common practice, no source), for each of the six axis
   directions as "up"; faces on the build plate do not count. The orientation with the
   least overhang area is suggested.
-* Mass — volume × density from ``profiles/tables/materials.csv`` (values recalled from
+* Mass — volume × density from ``ductgen/data/materials.csv`` (values recalled from
   typical data sheets, marked so in the table).
 """
 
@@ -27,6 +27,7 @@ import numpy as np
 
 from ductgen.errors import DesignWarning
 from ductgen.geometry.meshstats import mesh_stats
+from ductgen.resources import materials_path
 
 __all__ = [
     "FDM_MIN_WALL_MM",
@@ -43,7 +44,6 @@ __all__ = [
 #: FDM: walls ≥ 2 mm by default, warn below 1.2 mm (common practice, no source).
 FDM_MIN_WALL_MM = 1.2
 OVERHANG_DEG = 45.0
-_TABLE = Path(__file__).resolve().parents[1] / "profiles" / "tables" / "materials.csv"
 
 
 @dataclass(frozen=True)
@@ -59,7 +59,7 @@ class Material:
 @cache
 def load_materials(path: str | None = None) -> dict[str, Material]:
     """Material name → :class:`Material` from the CSV table (``#`` lines are sources)."""
-    p = Path(path) if path else _TABLE
+    p = Path(path) if path else materials_path()
     rows = [ln for ln in p.read_text().splitlines() if ln.strip() and not ln.startswith("#")]
     out = {}
     for r in csv.DictReader(rows):

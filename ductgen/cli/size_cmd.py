@@ -9,6 +9,7 @@ from typing import Annotated
 import typer
 
 from ductgen.cli.app import app, err_console
+from ductgen.spec.model import DEFAULT_RAMP_ANGLE_DEG
 
 __all__ = ["size_command"]
 
@@ -42,7 +43,7 @@ def size_command(
     ] = 4.0,
     angle: Annotated[
         float, typer.Option("--angle", help="ramp angle, deg (5-7 recommended)")
-    ] = 7.0,
+    ] = DEFAULT_RAMP_ANGLE_DEG,
     max_ivr: Annotated[
         float,
         typer.Option(

@@ -160,20 +160,20 @@ class ShiftedRecovery(RecoveryModel):
 
 def find_recovery_table(text: str) -> Path:
     """Resolve a recovery-table path: as given (the loader makes it relative to the spec's
-    folder), else in the bundled ``profiles/tables/`` or ``profiles/``.
+    folder), else among the bundled data (``ductgen/data/``, its ``profiles/``).
 
     Raises:
         ValueError: no such file.
     """
-    from ductgen.geometry.profile import profiles_dir
+    from ductgen.resources import data_path, profiles_dir
 
     p = Path(text).expanduser()
-    candidates = [p] if p.is_absolute() else [p, profiles_dir() / "tables" / p, profiles_dir() / p]
+    candidates = [p] if p.is_absolute() else [p, data_path() / p, profiles_dir() / p]
     for c in candidates:
         if c.is_file():
             return c.resolve()
     raise ValueError(
-        f"recovery table {text!r} not found (looked in the spec's folder and profiles/)"
+        f"recovery table {text!r} not found (looked in the spec's folder and the bundled data)"
     )
 
 

@@ -26,7 +26,7 @@ from ductgen.flow.warnings import geometry_warnings
 from ductgen.geometry.inlet import InletGeometry, build_geometry
 from ductgen.geometry.profile import Profile, load_profile
 from ductgen.spec.flow import FlowSpec, flow_data
-from ductgen.spec.model import RampSpec, Spec, ThroatSpec
+from ductgen.spec.model import DEFAULT_RAMP_ANGLE_DEG, RampSpec, Spec, ThroatSpec
 
 __all__ = [
     "MAX_IVR",
@@ -108,7 +108,7 @@ def size_throat(
     speed_m_s: float,
     *,
     aspect: float = 4.0,
-    angle_deg: float = 7.0,
+    angle_deg: float = DEFAULT_RAMP_ANGLE_DEG,
     base: Spec | None = None,
     name: str | None = None,
     max_ivr: float = MAX_IVR,

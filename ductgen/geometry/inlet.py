@@ -26,7 +26,7 @@ from ductgen.geometry.lip import Lip
 from ductgen.geometry.planform import Planform
 from ductgen.geometry.profile import Profile, load_profile
 from ductgen.geometry.transition import Transition
-from ductgen.spec.model import NoOutlet, RectOutlet, RoundOutlet, Spec
+from ductgen.spec.model import DEFAULT_RAMP_ANGLE_DEG, NoOutlet, RectOutlet, RoundOutlet, Spec
 
 __all__ = ["InletGeometry", "build_geometry", "fillet_flare_area_mm2"]
 
@@ -212,7 +212,7 @@ def build_geometry(spec: Spec, profile: Profile | None = None) -> InletGeometry:
     if spec.ramp.length is not None:
         angle = ramp_angle_for_length(spec.ramp.length, drop, r_entry)
     else:
-        angle = spec.ramp.angle_deg if spec.ramp.angle_deg is not None else 7.0
+        angle = spec.ramp.angle_deg if spec.ramp.angle_deg is not None else DEFAULT_RAMP_ANGLE_DEG
     floor = Floor(angle_deg=angle, entry_radius_mm=r_entry, drop_mm=drop)
     length = floor.length_mm
     planform = Planform(profile=profile, width_mm=w, length_mm=length)

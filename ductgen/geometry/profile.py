@@ -1,4 +1,4 @@
-"""Wall-curve tables (``profiles/*.csv``): loading, validation and the registry.
+"""Wall-curve tables (``ductgen/data/profiles/*.csv``): loading, validation and the registry.
 
 A table gives the planform as ``2y/W`` against ``x/L`` (brief §2). Comment lines at the top
 of the CSV (``# key: value``) carry its name, title, source and a note on how the values
@@ -7,23 +7,17 @@ were obtained.
 
 from __future__ import annotations
 
-import os
 from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
 
 from ductgen.errors import SpecError
+from ductgen.resources import profiles_dir
 
 __all__ = ["Profile", "available_profiles", "load_profile", "profiles_dir"]
 
 
-def profiles_dir() -> Path:
-    """Folder of the bundled tables: ``$DUCTGEN_PROFILES`` or ``profiles/`` beside the package."""
-    env = os.environ.get("DUCTGEN_PROFILES")
-    if env:
-        return Path(env)
-    return Path(__file__).resolve().parents[2] / "profiles"
 
 
 @dataclass(frozen=True)

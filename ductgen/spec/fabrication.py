@@ -16,7 +16,7 @@ from ductgen.spec.types import Deg, Mm, Section
 
 __all__ = ["MATERIALS", "HolesSpec", "InsertSpec", "PlugSpec"]
 
-#: Print materials with a row in ``profiles/tables/materials.csv``.
+#: Print materials with a row in ``ductgen/data/materials.csv``.
 MATERIALS = ("PLA", "PETG", "ASA", "ABS", "PA-CF", "PC", "PEKK")
 
 Material = Literal["PLA", "PETG", "ASA", "ABS", "PA-CF", "PC", "PEKK"]

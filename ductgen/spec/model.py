@@ -40,10 +40,15 @@ class ThroatSpec(Section):
     depth: Annotated[Mm, Field(gt=0, le=1000, description="throat depth D, floor to lip underside")]
 
 
+#: Ramp angle used when a spec gives neither ``ramp.angle_deg`` nor ``ramp.length`` (deg):
+#: the top of the 5°–7° range NACA RM A7I30 recommends (shortest ramp in that range).
+DEFAULT_RAMP_ANGLE_DEG = 7.0
+
+
 class RampSpec(Section):
     """The ramp floor: a straight section at ``angle_deg`` joined to the skin by a convex
     tangent arc of ``entry_radius`` (0 = sharp). Give the angle or the ``length`` L, not
-    both; with neither, 7° is used."""
+    both; with neither, :data:`DEFAULT_RAMP_ANGLE_DEG` is used."""
 
     angle_deg: Annotated[
         Deg | None,

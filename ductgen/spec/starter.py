@@ -4,6 +4,8 @@ from __future__ import annotations
 
 from pathlib import Path
 
+from ductgen.resources import samples_dir
+
 __all__ = ["STARTER", "example_names", "example_path", "samples_dir"]
 
 STARTER = """\
@@ -47,9 +49,6 @@ thickness = 2.0
 """
 
 
-def samples_dir() -> Path:
-    """The bundled example specs (``samples/`` beside the package)."""
-    return Path(__file__).resolve().parents[2] / "samples"
 
 
 def example_names() -> list[str]:
