@@ -2,9 +2,9 @@
 
 The curated public API (imported on first use, so ``import ductgen`` stays light)::
 
-    from ductgen import load_spec, build_geometry, build
+    from ductgen import load_spec, build_design, build
     spec = load_spec("samples/ekart-battery-vent.toml")
-    g = build_geometry(spec)           # pure geometry, mm
+    d = build_design(spec)             # the design, checked once: geometry in mm, layout
     result = build(spec, "out/")       # solids, files, report.json
 """
 
@@ -23,7 +23,8 @@ _EXPORTS = {
     "load_spec": "ductgen.spec",
     "parse_spec": "ductgen.spec",
     "Spec": "ductgen.spec",
-    "build_geometry": "ductgen.geometry",
+    "build_design": "ductgen.design",
+    "Design": "ductgen.design",
     "InletGeometry": "ductgen.geometry",
     "build": "ductgen.pipeline",
     "BuildResult": "ductgen.pipeline",

@@ -26,7 +26,7 @@ from typing import Any
 import numpy as np
 
 from ductgen.errors import DesignWarning
-from ductgen.geometry.meshstats import mesh_stats
+from ductgen.meshstats import mesh_stats
 from ductgen.resources import materials_path
 
 __all__ = [
@@ -37,8 +37,8 @@ __all__ = [
     "mesh_health",
     "min_wall_mm",
     "overhang_by_orientation",
+    "plug_section",
     "print_section",
-    "printability_hook",
 ]
 
 #: FDM: walls ≥ 2 mm by default, warn below 1.2 mm (common practice, no source).
@@ -79,7 +79,7 @@ def _trimesh(vertices: np.ndarray, faces: np.ndarray):  # type: ignore[no-untype
 
 def mesh_closure(vertices: np.ndarray, faces: np.ndarray) -> tuple[bool, bool, float, float]:
     """(closed, winding consistent, signed volume mm³, area mm²); see
-    :func:`ductgen.geometry.meshstats.mesh_stats`."""
+    :func:`ductgen.meshstats.mesh_stats`."""
     return mesh_stats(vertices, faces)
 
 
@@ -181,7 +181,6 @@ def print_section(
     material: str = "PETG",
     near_heat: bool = False,
     service_temperature_c: float | None = None,
-    wall_mm: float | None = None,
 ) -> tuple[dict[str, Any], list[DesignWarning]]:
     """The ``print`` report section and its warnings for one printed part."""
     health = mesh_health(vertices, faces)
@@ -240,61 +239,31 @@ def print_section(
                 f"{mat.name} ({mat.hdt_c:.0f} °C)",
             )
         )
-    del wall_mm
     return sec, warns
 
 
-def printability_hook(ctx) -> None:  # type: ignore[no-untyped-def]
-    """REPORT_HOOK: fill ``ctx.report["print"]`` from the insert mesh and add warnings."""
-    from ductgen.geometry.fabrication import (
-        fabrication_of,
-        fabrication_params,
-        fabrication_warnings,
-        validate_fabrication,
-    )
-
-    if "insert" not in ctx.solids and "plug" not in ctx.solids:
-        return
-    fab = fabrication_params(ctx.spec)
-    validate_fabrication(ctx.geometry, fab)  # bad input → SpecError, nothing is published
-    if fabrication_of(ctx.geometry) != fab:
-        ctx.warnings.append(
+def plug_section(plug: Any, edge_radius_mm: float) -> tuple[dict[str, Any], list[DesignWarning]]:
+    """The plug's layup facts for the ``print`` section, and its warnings (inside radius,
+    draft; common practice, no source). ``plug`` has ``draft_deg`` and ``trim_margin``."""
+    section = {
+        "draft_deg": plug.draft_deg,
+        "trim_margin_mm": plug.trim_margin,
+        "inside_radius_wall_to_plate_mm": 0.0,
+        "laminate_edge_round_mm": edge_radius_mm,
+    }
+    warns = [
+        DesignWarning(
+            "layup_inside_radius",
+            "the plug's walls meet its plate with a sharp "
+            "inside corner: radius it ≥ ~3 mm for carbon (common practice)",
+        )
+    ]
+    if plug.draft_deg < 2.0:
+        warns.append(
             DesignWarning(
-                "fabrication_defaults",
-                "the insert/plug solids were built with default [insert]/[plug] values: "
-                "the geometry passed to the kernel carries no fabrication parameters "
-                "(pipeline wiring pending)",
+                "layup_draft",
+                f"plug draft {plug.draft_deg:g}° is under 2° "
+                "(2°–5° is common practice for release)",
             )
         )
-    ins = fab.insert
-    if "insert" in ctx.solids:
-        verts, faces = ctx.solids["insert"]["mesh"]
-        sec, warns = print_section(
-            verts, faces, ins.material, ins.near_heat, ins.service_temperature, ins.wall
-        )
-        ctx.report["print"] = sec
-        ctx.warnings.extend(warns)
-        ctx.warnings.extend(fabrication_warnings(ctx.geometry, fab))
-    if "plug" in ctx.solids:
-        r = ctx.geometry.edge_radius_mm
-        ctx.report.setdefault("print", {})["plug"] = {
-            "draft_deg": fab.plug.draft_deg,
-            "trim_margin_mm": fab.plug.trim_margin,
-            "inside_radius_wall_to_plate_mm": 0.0,
-            "laminate_edge_round_mm": r,
-        }
-        ctx.warnings.append(
-            DesignWarning(
-                "layup_inside_radius",
-                "the plug's walls meet its plate with a sharp "
-                "inside corner: radius it ≥ ~3 mm for carbon (common practice)",
-            )
-        )
-        if fab.plug.draft_deg < 2.0:
-            ctx.warnings.append(
-                DesignWarning(
-                    "layup_draft",
-                    f"plug draft {fab.plug.draft_deg:g}° is under 2° "
-                    "(2°–5° is common practice for release)",
-                )
-            )
+    return section, warns

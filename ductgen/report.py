@@ -1,8 +1,10 @@
-"""``report.json``: the numbers behind a build (brief §5).
+"""``report.json``: the numbers behind a build (brief §5), assembled here and only here.
 
 Keys carry their units (``_mm``, ``_deg``, ``_m_s``...): mm and degrees under
 ``geometry``, SI under ``flow``. Only values this build actually computed are written;
-nothing is null-filled with guesses.
+nothing is null-filled with guesses. Sections: ``geometry`` (the design and the measured
+solids), ``flow`` (when the spec has ``[flow]``), ``print`` (when the insert or plug was
+built), ``warnings`` and ``files``.
 """
 
 from __future__ import annotations
@@ -10,13 +12,15 @@ from __future__ import annotations
 import json
 from typing import Any
 
+from ductgen.design import Design
 from ductgen.errors import DesignWarning
 from ductgen.geometry.inlet import InletGeometry
+from ductgen.spec.model import Spec
 
-__all__ = ["geometry_report", "report_bytes"]
+__all__ = ["finish_report", "geometry_section", "report_bytes", "start_report"]
 
 
-def geometry_report(g: InletGeometry, solids: dict[str, dict[str, Any]]) -> dict[str, Any]:
+def geometry_section(g: InletGeometry, solids: dict[str, dict[str, Any]]) -> dict[str, Any]:
     """The ``geometry`` section from the pure geometry and the measured solids."""
     pf, fl = g.planform, g.floor
     geo: dict[str, Any] = {
@@ -55,6 +59,66 @@ def geometry_report(g: InletGeometry, solids: dict[str, dict[str, Any]]) -> dict
             geo["wetted_area_mm2"] = m["wetted_area_mm2"]
     geo["offsets"] = g.offsets()
     return geo
+
+
+def _print_section(
+    spec: Spec, d: Design, solids: dict[str, dict[str, Any]]
+) -> tuple[dict[str, Any] | None, list[DesignWarning]]:
+    """``print`` section from the insert mesh, and the plug's layup facts."""
+    from ductgen.printability import plug_section, print_section
+
+    warnings: list[DesignWarning] = []
+    section: dict[str, Any] | None = None
+    ins = spec.insert
+    if "insert" in solids:
+        verts, faces = solids["insert"]["mesh"]
+        section, warns = print_section(
+            verts, faces, ins.material, ins.near_heat, ins.service_temperature
+        )
+        warnings += warns
+    if "plug" in solids:
+        plug, warns = plug_section(d.fab.plug, d.geometry.edge_radius_mm)
+        section = {**(section or {}), "plug": plug}
+        warnings += warns
+    return section, warnings
+
+
+def start_report(
+    spec: Spec,
+    d: Design,
+    solids: dict[str, dict[str, Any]],
+    spec_sha256: str,
+    version: str,
+) -> tuple[dict[str, Any], list[DesignWarning]]:
+    """Every computed section of ``report.json`` and the warnings so far (the design's, the
+    flow model's, the printability check's); :func:`finish_report` adds files and warnings.
+    """
+    report: dict[str, Any] = {
+        "name": spec.name,
+        "spec_sha256": spec_sha256,
+        "ductgen_version": version,
+        "geometry": geometry_section(d.geometry, solids),
+    }
+    warnings = list(d.warnings)
+    if spec.flow is not None:
+        from ductgen.flow.report import flow_section
+
+        report["flow"], flow_warnings = flow_section(spec.flow, d.geometry)
+        warnings += flow_warnings
+    section, print_warnings = _print_section(spec, d, solids)
+    if section is not None:
+        report["print"] = section
+    warnings += print_warnings
+    return report, warnings
+
+
+def finish_report(
+    report: dict[str, Any], warnings: list[DesignWarning], files: dict[str, str]
+) -> dict[str, Any]:
+    """Add the ``warnings`` and ``files`` sections (kind → file name)."""
+    report["warnings"] = [w.to_dict() for w in warnings]
+    report["files"] = files
+    return report
 
 
 def report_bytes(report: dict[str, Any]) -> bytes:

@@ -16,12 +16,21 @@ Pydantic field types are made with :func:`quantity`, for example::
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
 from functools import lru_cache
 from typing import Any
 
 from pydantic import BeforeValidator
 
-__all__ = ["DIMENSIONS", "convert", "quantity", "ureg"]
+__all__ = [
+    "DIMENSIONS",
+    "FILE_UNITS",
+    "MM_PER_INCH",
+    "FileUnit",
+    "convert",
+    "quantity",
+    "ureg",
+]
 
 #: Dimension name → (pint dimensionality string, an example written for error messages).
 DIMENSIONS: dict[str, tuple[str, str]] = {
@@ -109,3 +118,22 @@ def quantity(dimension: str, unit: str, default_unit: str | None = None) -> Befo
         return convert(value, dimension, unit, default_unit)
 
     return BeforeValidator(_validate)
+
+
+@dataclass(frozen=True)
+class FileUnit:
+    """How one drawing/file unit is written: millimetres per unit, the DXF ``$INSUNITS``
+    code (DXF reference: 1 = inches, 4 = millimetres) and the STEP writer's unit name."""
+
+    mm_per_unit: float
+    insunits: int
+    step: str
+
+
+#: The one table of file units (1 in = 25.4 mm exactly, by the 1959 international inch).
+FILE_UNITS: dict[str, FileUnit] = {
+    "mm": FileUnit(1.0, 4, "MM"),
+    "in": FileUnit(25.4, 1, "INCH"),
+}
+#: Millimetres per inch.
+MM_PER_INCH = FILE_UNITS["in"].mm_per_unit

@@ -16,7 +16,7 @@ cq = pytest.importorskip("cadquery")
 
 from ductgen.export.cad import read_step, step_bytes, stl_bytes  # noqa: E402
 from ductgen.geometry import build_geometry  # noqa: E402
-from ductgen.geometry.meshstats import mesh_stats  # noqa: E402
+from ductgen.meshstats import mesh_stats  # noqa: E402
 from ductgen.solids.cutter import make_cutter  # noqa: E402
 from ductgen.solids.mesh import triangulate  # noqa: E402
 from ductgen.solids.primitives import wall_spline  # noqa: E402

@@ -18,7 +18,7 @@ cq = pytest.importorskip("cadquery")
 from ductgen.export.cad import stl_bytes  # noqa: E402
 from ductgen.geometry import build_geometry  # noqa: E402
 from ductgen.geometry.fabrication import fabrication_params, flange_layout, spigot_of  # noqa: E402
-from ductgen.geometry.meshstats import mesh_stats  # noqa: E402
+from ductgen.meshstats import mesh_stats  # noqa: E402
 from ductgen.printability import min_wall_mm  # noqa: E402
 from ductgen.solids.check import CHECK_MESH  # noqa: E402
 from ductgen.solids.insert import make_insert  # noqa: E402

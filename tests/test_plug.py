@@ -18,7 +18,7 @@ from ductgen.geometry.fabrication import (  # noqa: E402
     plug_trim_outline,
     polygon_area,
 )
-from ductgen.geometry.meshstats import mesh_stats  # noqa: E402
+from ductgen.meshstats import mesh_stats  # noqa: E402
 from ductgen.solids.check import CHECK_MESH  # noqa: E402
 from ductgen.solids.mesh import triangulate  # noqa: E402
 from ductgen.solids.plug import make_plug, plug_volume_mm3  # noqa: E402

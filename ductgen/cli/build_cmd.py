@@ -41,9 +41,10 @@ def build_command(
 
     from ductgen.pipeline import build
     from ductgen.spec import load_spec
+    from ductgen.spec.template import with_template_options
 
     s = load_spec(spec)
-    s = _template_overrides(s, kerf=kerf, paper=paper)
+    s = with_template_options(s, kerf=kerf, paper=paper)
     out_dir = out if out is not None else Path.cwd() / s.name
     kinds = [k.strip() for k in only.split(",") if k.strip()] if only else None
     show = not (quiet or as_json)
@@ -70,24 +71,6 @@ def build_command(
     if quiet:
         return
     _summary(result, out_dir)
-
-
-def _template_overrides(s, **values):  # type: ignore[no-untyped-def]
-    """Apply ``--kerf`` / ``--paper`` to the spec's [template] section, validated."""
-    given = {k: v for k, v in values.items() if v is not None}
-    if not given:
-        return s
-    from pydantic import ValidationError
-
-    from ductgen.errors import SpecError
-
-    try:
-        tpl = type(s.template).model_validate({**s.template.model_dump(), **given})
-    except ValidationError as err:
-        e = err.errors(include_url=False)[0]
-        key = f"--{e['loc'][0]}" if e["loc"] else "--template"
-        raise SpecError(key, e.get("input"), "", str(e["msg"])) from None
-    return s.model_copy(update={"template": tpl})
 
 
 def _summary(result, out_dir: Path) -> None:  # type: ignore[no-untyped-def]
@@ -139,8 +122,8 @@ def init_command(
     force: Annotated[bool, typer.Option("--force", help="replace an existing file")] = False,
 ) -> None:
     """Write a commented starter spec."""
+    from ductgen.atomic import write_atomic
     from ductgen.errors import SpecError
-    from ductgen.export.atomic import write_atomic
     from ductgen.spec.starter import STARTER, example_names, example_path
 
     if example is not None:

@@ -34,7 +34,7 @@ def _read_mesh(path: Path) -> tuple[Any, Any]:
         m = trimesh.load(str(path), file_type="stl", force="mesh", process=False)
         return np.asarray(m.vertices, dtype=float), np.asarray(m.faces, dtype=np.int64)
     if suffix in (".step", ".stp"):
-        from ductgen.export.cad import read_step  # needs the CAD kernel: import here only
+        from ductgen.solids.cad_io import read_step  # needs the CAD kernel: import here only
         from ductgen.solids.mesh import triangulate
 
         return triangulate(read_step(path), 0.05, 0.2)

@@ -65,8 +65,8 @@ def size_command(
     ] = False,
 ) -> None:
     """Throat W, D and ramp length L that deliver a flow at a speed, through the spec's losses."""
+    from ductgen.atomic import check_free, write_atomic
     from ductgen.errors import SpecError
-    from ductgen.export.atomic import check_free, write_atomic
     from ductgen.flow.size import size_result_dict, size_throat, sized_spec_data, toml_text
     from ductgen.spec import load_spec, parse_spec, read_spec_data
 

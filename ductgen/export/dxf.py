@@ -11,14 +11,16 @@ from __future__ import annotations
 import io
 
 import ezdxf
-from ezdxf import units as dxf_units
 
 from ductgen.export.template_layout import LAYERS, TemplateDrawing
+from ductgen.units import FILE_UNITS
 
 __all__ = ["INSUNITS", "dxf_bytes"]
 
 #: Template unit → (``$INSUNITS`` code, mm per drawing unit).
-INSUNITS: dict[str, tuple[int, float]] = {"mm": (dxf_units.MM, 1.0), "in": (dxf_units.IN, 25.4)}
+INSUNITS: dict[str, tuple[int, float]] = {
+    k: (u.insunits, u.mm_per_unit) for k, u in FILE_UNITS.items()
+}
 
 
 def dxf_bytes(d: TemplateDrawing) -> bytes:

@@ -22,6 +22,7 @@ from dataclasses import dataclass
 from itertools import pairwise
 
 import numpy as np
+from ezdxf.math import Vec2, bulge_3_points, bulge_center, bulge_radius
 from scipy.optimize import brentq
 
 from ductgen.errors import SpecError
@@ -43,33 +44,18 @@ _CHECK_SAMPLES = 24
 _MAX_DEPTH = 24
 
 
-def _cross(u: np.ndarray, v: np.ndarray) -> float:
-    return float(u[0] * v[1] - u[1] * v[0])
-
-
 def _bulge3(a: np.ndarray, m: np.ndarray, b: np.ndarray) -> float:
-    """Bulge of the arc from ``a`` to ``b`` through ``m`` (0 for collinear points).
-
-    By the inscribed-angle theorem the included angle is θ = 2(π − γ), γ the angle at ``m``,
-    so the bulge tan(θ/4) = cot(γ/2); positive when ``m`` lies right of a→b (CCW arc).
-    """
-    u, v = a - m, b - m
-    cr = _cross(b - a, m - a)
-    gamma = math.atan2(abs(_cross(u, v)), float(np.dot(u, v)))
-    if gamma <= 0.0 or abs(cr) < 1e-15 * float(np.dot(b - a, b - a)):
-        return 0.0
-    bulge = 1.0 / math.tan(gamma / 2.0)
-    return bulge if cr < 0 else -bulge
+    """Bulge of the arc from ``a`` to ``b`` through ``m`` (0 for collinear points; positive
+    for a counter-clockwise arc), by ``ezdxf.math.bulge_3_points``."""
+    return float(bulge_3_points(Vec2(a), Vec2(b), Vec2(m)))
 
 
 def arc_centre(a: np.ndarray, b: np.ndarray, bulge: float) -> tuple[np.ndarray, float]:
-    """Centre (mm, shape (2,)) and radius (mm) of the bulged segment a→b (``bulge`` ≠ 0)."""
-    u = b - a
-    c = float(math.hypot(u[0], u[1]))
-    left = np.array([-u[1], u[0]]) / c
-    h = 0.25 * c * (1.0 / bulge - bulge)
-    centre = 0.5 * (a + b) + left * h
-    return centre, float(math.hypot(*(a - centre)))
+    """Centre (mm, shape (2,)) and radius (mm) of the bulged segment a→b (``bulge`` ≠ 0),
+    by ``ezdxf.math``."""
+    pa, pb = Vec2(a), Vec2(b)
+    c = bulge_center(pa, pb, bulge)
+    return np.array([c.x, c.y]), float(bulge_radius(pa, pb, bulge))
 
 
 def sample_segment(a: np.ndarray, b: np.ndarray, bulge: float, n: int) -> np.ndarray:
@@ -201,16 +187,10 @@ class Contour:
 
 def _wall_curve(pf: Planform, inset_mm: float) -> Callable[[np.ndarray], np.ndarray]:
     """The y > 0 wall offset by ``inset_mm`` toward the centreline, parametrised by the
-    base curve's x (mm): P(x) = (x, h) − k·n, n = (−h′, 1)/√(1 + h′²) the outward normal."""
+    base curve's x (mm): :meth:`~ductgen.geometry.planform.Planform.wall_offset`."""
 
     def curve(x: np.ndarray) -> np.ndarray:
-        x = np.asarray(x, dtype=float)
-        h = pf.half_width(x)
-        if inset_mm == 0.0:
-            return np.column_stack([x, h])
-        d = pf.slope(x)
-        s = np.sqrt(1.0 + d * d)
-        return np.column_stack([x + inset_mm * d / s, h - inset_mm / s])
+        return pf.wall_offset(np.asarray(x, dtype=float), -inset_mm)
 
     return curve
 

@@ -23,6 +23,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ductgen.export.template_layout import TemplateDrawing
+from ductgen.units import MM_PER_INCH
 
 __all__ = ["PAPER_MM", "Tile", "TileLayout", "pdf_bytes", "tile_layout"]
 
@@ -32,7 +33,7 @@ _MARGIN = 10.0  # paper edge to printed content (mm); shop practice: keep >= 6 m
 _TOP = 13.0  # label strip above the window (mm)
 _BOTTOM = 9.0  # note strip below the window (mm)
 _PT = 72.0 / 25.4  # points per mm
-_INCH = 25.4
+_INCH = MM_PER_INCH
 _CUT_RGB = (0.85, 0.0, 0.0)
 _SQUARE_RGB = (0.0, 0.35, 0.75)
 #: No path simplification (exact 1:1); the PDF core fonts (Helvetica: fast, no embedding).

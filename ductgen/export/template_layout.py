@@ -26,6 +26,7 @@ import numpy as np
 from ductgen.export.outline import Contour, opening_contour
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.spec.model import Spec
+from ductgen.units import MM_PER_INCH
 
 __all__ = [
     "CAUTIONS",
@@ -63,7 +64,7 @@ CAUTIONS_SHORT: tuple[str, ...] = (
     "Follow local codes and rules; ductgen estimates are not a certification.",
 )
 
-_INCH_MM = 25.4
+_INCH_MM = MM_PER_INCH
 
 
 @dataclass(frozen=True)
@@ -221,52 +222,3 @@ def template_drawing(
     for i, s in enumerate(lines):
         d.texts.append(Text((0.0, y - 5.0 * i), s, 3.0 if i else 3.5))
     return d
-
-
-def template_files(g: InletGeometry, spec: Spec, spec_hash: str) -> dict[str, bytes]:
-    """Encode ``template.dxf`` and ``template.pdf`` (suffix → bytes) for one inlet."""
-    from ductgen.export.dxf import dxf_bytes
-    from ductgen.export.pdf_template import pdf_bytes
-
-    t = spec.template
-    d = template_drawing(g, spec, spec_hash, *_fabrication(g, spec))
-    info = [
-        f"Skin opening of {spec.name}: W {g.width_mm:.2f} mm, L {g.length_mm:.2f} mm, "
-        f"apex {g.planform.apex_width_mm:.2f} mm.",
-        f"spec sha256 {spec_hash[:16]}, {build_date()}, paper {t.paper}.",
-        _kerf_note(t.kerf, len(d.cuts) > 1) + ".",
-        "Red lines, inside out: " + ", ".join(role for role, _ in d.cuts) + ".",
-    ]
-    return {
-        "template.dxf": dxf_bytes(d),
-        "template.pdf": pdf_bytes(
-            d, t.paper, t.overlap, (t.scale_x, t.scale_y), spec.name, info, CAUTIONS
-        ),
-    }
-
-
-def _fabrication(g: InletGeometry, spec: Spec):  # type: ignore[no-untyped-def]
-    """The insert's flange (or surface bezel) outline as an outer CUT contour, offset outward
-    by kerf/2, and its fastener holes, from :mod:`ductgen.geometry.fabrication`.
-
-    The outline is rebuilt here from the true wall curve with the same construction (the
-    footprint to ``footprint_end_mm`` offset by wall + edge round + flange width, round
-    corners), so it can be fitted with arcs instead of copying the sampled polyline.
-    """
-    from ductgen.export.outline import outward_contour
-    from ductgen.geometry.fabrication import flange_layout, footprint_end_mm
-
-    ins, t = spec.insert, spec.template
-    fl = flange_layout(g, ins, spec.skin)
-    dist = fl.cutout_offset_mm + fl.flange_width_mm + 0.5 * t.kerf
-    role = "flange outline" if ins.mount == "behind" else "bezel outline"
-    x_end = footprint_end_mm(g)
-    outer = []
-    if ins.mount == "behind" and fl.cutout_offset_mm > 0:
-        # the insert's walls pass up through the skin: this is the hole to cut in the skin;
-        # a hole, so the kerf moves its tool path inward
-        cut = fl.cutout_offset_mm - 0.5 * t.kerf
-        outer.append(("skin cut-out", outward_contour(g.planform, x_end, cut, t.tolerance)))
-    outer.append((role, outward_contour(g.planform, x_end, dist, t.tolerance)))
-    holes = [(float(x), float(y)) for x, y in fl.hole_centres_xy]
-    return outer, holes, float(fl.hole_diameter_mm)

@@ -19,11 +19,12 @@ from typing import Any
 import numpy as np
 from scipy.optimize import brentq
 
+from ductgen.design.build import geometry_from_spec
 from ductgen.errors import SpecError
 from ductgen.flow.operating_point import solve
 from ductgen.flow.report import build_system, flow_section
 from ductgen.flow.warnings import geometry_warnings
-from ductgen.geometry.inlet import InletGeometry, build_geometry
+from ductgen.geometry.inlet import InletGeometry
 from ductgen.geometry.profile import Profile, load_profile
 from ductgen.spec.flow import FlowSpec, flow_data
 from ductgen.spec.model import DEFAULT_RAMP_ANGLE_DEG, RampSpec, Spec, ThroatSpec
@@ -79,7 +80,7 @@ def delivered_flow(spec: Spec, profile: Profile | None = None) -> float:
     or the geometry is impossible at this size (``profile``: the loaded wall table, reused)."""
     assert spec.flow is not None
     try:
-        g = build_geometry(spec, profile)
+        g = geometry_from_spec(spec, profile)
     except SpecError:
         return 0.0
     p = solve(build_system(spec.flow, g)[0])
@@ -187,7 +188,7 @@ def size_throat(
     throat = ThroatSpec(width=round(width, 6), depth=round(depth, 6))
     ramp = RampSpec(angle_deg=angle_deg, entry_radius=spec0.ramp.entry_radius)
     spec = spec0.model_copy(update={"throat": throat, "ramp": ramp})
-    g = build_geometry(spec)
+    g = geometry_from_spec(spec)
     assert spec.flow is not None
     section, warnings = flow_section(spec.flow, g)
     return SizeResult(

@@ -1,7 +1,7 @@
-"""Pure geometry of the inlet (numpy/scipy only; no CAD kernel)."""
+"""Pure geometry of the inlet (numpy/scipy only; no CAD kernel, no spec)."""
 
 from ductgen.geometry.floor import Floor, ramp_angle_for_length, ramp_length
-from ductgen.geometry.inlet import InletGeometry, build_geometry
+from ductgen.geometry.inlet import InletGeometry
 from ductgen.geometry.lip import Lip
 from ductgen.geometry.planform import Planform
 from ductgen.geometry.profile import Profile, available_profiles, load_profile
@@ -15,7 +15,6 @@ __all__ = [
     "Profile",
     "Transition",
     "available_profiles",
-    "build_geometry",
     "load_profile",
     "ramp_angle_for_length",
     "ramp_length",

@@ -19,7 +19,15 @@ from scipy.optimize import brentq
 
 from ductgen.errors import SpecError
 
-__all__ = ["Floor", "ramp_angle_for_length", "ramp_length"]
+__all__ = [
+    "MIN_ARC_MM",
+    "Floor",
+    "FloorSection",
+    "floor_section",
+    "ramp_angle_for_length",
+    "ramp_length",
+    "x_at_depth",
+]
 
 
 def ramp_length(drop_mm: float, angle_deg: float, entry_radius_mm: float = 0.0) -> float:
@@ -113,3 +121,83 @@ class Floor:
         line = za + (xc - xa) * math.tan(t)
         d = np.where(xc <= xa, arc, line)
         return np.clip(d, 0.0, self.drop_mm) * (x >= 0)
+
+
+#: An entry arc shorter than this along x (mm) is drawn sharp: its largest departure from the
+#: arc is below 1e-9 mm, and the CAD kernel cannot make a circle that short.
+MIN_ARC_MM = 1e-3
+
+
+@dataclass(frozen=True)
+class FloorSection:
+    """Centreline section of the floor moved down by ``offset_mm`` along its normal (mm;
+    x downstream, z up, skin at z = 0). The one description of the floor that the cutter,
+    the insert's outer floor and the plug are all built from.
+
+    The section runs: ``entry`` (where the offset floor starts, below the ramp start) →
+    the entry arc through ``arc_mid`` to ``ramp_start`` (when ``arc_mid`` is not None) →
+    the straight ramp to ``ramp_end`` → flat at ``ramp_end[1]`` downstream.
+
+    Attributes:
+        offset_mm: normal offset w (0 = the cavity floor itself).
+        entry: (x, z) start of the offset floor; (0, −w) with an arc, else the corner of
+            the offset tangent lines.
+        arc_mid: (x, z) a point on the offset entry arc, or None for a sharp start.
+        ramp_start: (x, z) start of the straight ramp (the arc's end, or ``entry``).
+        ramp_end: (x, z) where the straight ramp meets the flat floor at z = −(H + w).
+    """
+
+    offset_mm: float
+    entry: tuple[float, float]
+    arc_mid: tuple[float, float] | None
+    ramp_start: tuple[float, float]
+    ramp_end: tuple[float, float]
+
+
+def floor_section(floor: Floor, offset_mm: float = 0.0) -> FloorSection:
+    """The floor's centreline section offset by ``offset_mm`` ≥ 0 (mm) along its normal.
+
+    With an entry arc of radius R > w the offset arc has radius R − w about the same centre
+    (0, −R). A sharp start, or an arc smaller than the wall, is offset as two tangent lines
+    moved by w plus the arc's sag below their corner, R·(1/cos(θ/2) − 1) (conservative).
+    """
+    th = math.radians(floor.angle_deg)
+    r, h = floor.entry_radius_mm, floor.drop_mm
+    xa, za = floor.arc_end_mm
+    w = float(offset_mm)
+    arc_ok = r > w and (w > 0 or xa >= MIN_ARC_MM)
+    if arc_ok:
+        ri = r - w
+        entry = (0.0, -w)
+        if w == 0.0:  # written as the arc's own end point, bit for bit
+            mid = (r * math.sin(th / 2.0), -r * (1.0 - math.cos(th / 2.0)))
+            p0 = (xa, -za)
+        else:
+            mid = (ri * math.sin(th / 2.0), -r + ri * math.cos(th / 2.0))
+            p0 = (ri * math.sin(th), -r + ri * math.cos(th))
+        arc_mid: tuple[float, float] | None = mid
+    else:
+        ww = w + (r * (1.0 / math.cos(th / 2.0) - 1.0) if (r > 0 and w > 0) else 0.0)
+        if ww > 0:
+            px, pz = xa - ww * math.sin(th), -za - ww * math.cos(th)
+            p0 = (px + (pz + ww) / math.tan(th), -ww)
+        else:
+            p0 = (0.0, 0.0)
+        entry, arc_mid = p0, None
+    if w == 0.0:  # the cavity floor: the ramp ends at the lip station by definition
+        return FloorSection(w, entry, arc_mid, p0, (floor.length_mm, -h))
+    xc = p0[0] + (p0[1] + h + w) / math.tan(th)
+    return FloorSection(w, entry, arc_mid, p0, (xc, -h - w))
+
+
+def x_at_depth(floor: Floor, depth_mm: float) -> float:
+    """x (mm) where the floor's depth below the skin reaches ``depth_mm`` (the inverse of
+    :meth:`Floor.depth` on 0 ≤ depth ≤ H)."""
+    if depth_mm <= 0:
+        return 0.0
+    th = math.radians(floor.angle_deg)
+    xa, za = floor.arc_end_mm
+    r = floor.entry_radius_mm
+    if depth_mm <= za and r > 0:
+        return math.sqrt(max(r * r - (r - depth_mm) ** 2, 0.0))
+    return xa + (depth_mm - za) / math.tan(th)

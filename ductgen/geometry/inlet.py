@@ -1,9 +1,9 @@
 """The whole inlet as pure geometry: planform, floor, lip, transition, offsets, volumes.
 
-:func:`build_geometry` turns a validated :class:`~ductgen.spec.Spec` into an
-:class:`InletGeometry` (floats and arrays in mm and degrees, no CAD kernel), checking the
-cross-field rules a spec model cannot see on its own. The solids are built from this object
-and checked against the volumes it integrates independently.
+:class:`InletGeometry` holds floats and arrays in mm and degrees (no CAD kernel, no spec):
+:func:`ductgen.design.build_design` makes it from a validated spec, checking the cross-field
+rules. The solids are built from it and checked against the volumes it integrates
+independently.
 
 Stations along x (mm): 0 ramp start → L lip station (nose tip) → L + a nose end (start of
 the straight throat and of the transition) → L + a + transition length (outlet face).
@@ -11,24 +11,19 @@ the straight throat and of the transition) → L + a + transition length (outlet
 
 from __future__ import annotations
 
-import dataclasses
 import math
 from dataclasses import dataclass
 from functools import cached_property
-from typing import Any
 
 import numpy as np
 from scipy.integrate import quad
 
-from ductgen.errors import SpecError
-from ductgen.geometry.floor import Floor, ramp_angle_for_length
+from ductgen.geometry.floor import Floor
 from ductgen.geometry.lip import Lip
 from ductgen.geometry.planform import Planform
-from ductgen.geometry.profile import Profile, load_profile
 from ductgen.geometry.transition import Transition
-from ductgen.spec.model import DEFAULT_RAMP_ANGLE_DEG, NoOutlet, RectOutlet, RoundOutlet, Spec
 
-__all__ = ["InletGeometry", "build_geometry", "fillet_flare_area_mm2"]
+__all__ = ["InletGeometry", "fillet_flare_area_mm2", "min_transition_length_mm"]
 
 
 def fillet_flare_area_mm2(radius_mm: float, z_lo: float, z_hi: float) -> float:
@@ -62,8 +57,6 @@ class InletGeometry:
         overcut_mm: how far the cutter rises above the outer skin over the opening, so
             the subtraction never meets coplanar faces and the tangent ramp entry is not a
             zero-angle edge.
-        fabrication: the insert and plug values
-            (:class:`~ductgen.geometry.fabrication.Fabrication`) the solids are built with.
     """
 
     name: str
@@ -77,7 +70,6 @@ class InletGeometry:
     skin_thickness_mm: float
     spigot_length_mm: float = 0.0
     overcut_mm: float = 1.0
-    fabrication: Any = None
 
     # --- stations ---------------------------------------------------------------------
     @property
@@ -199,115 +191,7 @@ class InletGeometry:
         ]
 
 
-def build_geometry(spec: Spec, profile: Profile | None = None) -> InletGeometry:
-    """Pure geometry from a spec; raises :class:`SpecError` on cross-field problems."""
-    from ductgen.geometry.fabrication import fabrication_params
-
-    profile = profile or load_profile(spec.planform.profile)
-    w, d = spec.throat.width, spec.throat.depth
-    lip_t = spec.lip.thickness
-    drop = d + lip_t if spec.lip.style == "flush" else d
-    r_entry = spec.ramp.entry_radius
-
-    if spec.ramp.length is not None:
-        angle = ramp_angle_for_length(spec.ramp.length, drop, r_entry)
-    else:
-        angle = spec.ramp.angle_deg if spec.ramp.angle_deg is not None else DEFAULT_RAMP_ANGLE_DEG
-    floor = Floor(angle_deg=angle, entry_radius_mm=r_entry, drop_mm=drop)
-    length = floor.length_mm
-    planform = Planform(profile=profile, width_mm=w, length_mm=length)
-
-    if spec.lip.style == "raised":
-        fairing = spec.lip.fairing_length if spec.lip.fairing_length is not None else 6.0 * lip_t
-    else:
-        if spec.lip.fairing_length is not None:
-            raise SpecError(
-                "lip.fairing_length",
-                spec.lip.fairing_length,
-                "only with lip.style = 'raised'",
-                "a flush lip has no fairing: its top is the skin",
-            )
-        fairing = 0.0
-    lip = Lip(spec.lip.style, lip_t, spec.lip.nose_ratio, length, fairing)
-    if lip.semi_major_mm > 0.5 * length:
-        raise SpecError(
-            "lip.nose_ratio",
-            spec.lip.nose_ratio,
-            f"<= {length / lip_t:.2f} for this lip",
-            "the elliptical nose would be longer than half the ramp",
-        )
-
-    r_edge = spec.planform.edge_radius
-    if r_edge > 0:
-        # flush lip: the nose cut through a round larger than ~0.6 t was measured to fail
-        lip_limit = 0.6 * lip_t if spec.lip.style == "flush" else d / 2.0
-        limit = min(d / 2.0, planform.apex_width_mm / 2.0, lip_limit)
-        if r_edge > limit:
-            raise SpecError(
-                "planform.edge_radius",
-                r_edge,
-                f"<= {limit:.2f} mm",
-                "the round must fit in half the throat depth, half the apex width "
-                "and (flush lip) 0.6 x the lip thickness",
-            )
-
-    roof, flo = lip.roof_z_mm, -drop
-    transition: Transition | None = None
-    spigot = 0.0
-    out = spec.outlet
-    if isinstance(out, RoundOutlet | RectOutlet):
-        # roof-aligned, but low enough that the insert's wall over the duct clears the skin
-        top = min(roof, -(spec.skin.thickness + spec.insert.wall))
-        if isinstance(out, RoundOutlet):
-            ow = oh = out.diameter
-        else:
-            ow, oh = out.width, out.height
-        transition = Transition(
-            x_start_mm=lip.nose_end_mm,
-            length_mm=out.transition_length,
-            width_mm=w,
-            roof_z_mm=roof,
-            floor_z_mm=flo,
-            kind=out.kind,
-            outlet_width_mm=ow,
-            outlet_height_mm=oh,
-            outlet_top_z_mm=top,
-        )
-        # the insert's wall over a sloping duct is thickened by √(1 + slope²) to stay square
-        # to the steepest ruling; lower the outlet until that wall clears the skin too
-        for _ in range(2):
-            wall = spec.insert.wall * transition.ruling_stretch
-            top = min(roof, -(spec.skin.thickness + wall))
-            transition = dataclasses.replace(transition, outlet_top_z_mm=top)
-        spigot = out.spigot_length
-        half = abs(transition.equivalent_cone_half_angle_deg)
-        if half > 30.0:
-            raise SpecError(
-                "outlet.transition_length",
-                out.transition_length,
-                f">= {_min_transition(transition):.0f} mm for this outlet",
-                f"equivalent-cone half-angle {half:.1f}° > 30°: "
-                "the duct would be a sudden step, not a transition",
-            )
-    else:
-        assert isinstance(out, NoOutlet)
-
-    return InletGeometry(
-        name=spec.name,
-        width_mm=w,
-        depth_mm=d,
-        planform=planform,
-        floor=floor,
-        lip=lip,
-        transition=transition,
-        edge_radius_mm=r_edge,
-        skin_thickness_mm=spec.skin.thickness,
-        spigot_length_mm=spigot,
-        overcut_mm=spec.cutter.overcut,
-        fabrication=fabrication_params(spec),
-    )
-
-
-def _min_transition(t: Transition) -> float:
+def min_transition_length_mm(t: Transition) -> float:
+    """Shortest transition (mm) whose equivalent-cone half-angle stays within 30°."""
     r1 = math.sqrt(t.throat_area_mm2 / math.pi)
     return abs(math.sqrt(t.area_ratio) - 1.0) * r1 / math.tan(math.radians(30.0))

@@ -76,6 +76,26 @@ class Planform:
         d = self._spline.derivative()(np.clip(s, 0, 1)) * 0.5 * self.width_mm / self.length_mm
         return np.where(inside, d, 0.0)
 
+    def wall_normal(self, x_mm: np.ndarray | float) -> np.ndarray:
+        """Outward unit normal (n_x, n_y) of the y > 0 wall at x (mm), shape (N, 2):
+        n = (−y′, 1)/√(1 + y′²). The y < 0 wall's normal is its mirror image."""
+        d = np.atleast_1d(self.slope(x_mm))
+        s = np.sqrt(1.0 + d * d)
+        return np.column_stack([-d / s, 1.0 / s])
+
+    def wall_offset(self, x_mm: np.ndarray | float, d_mm: float) -> np.ndarray:
+        """The y > 0 wall moved along its outward normal by ``d_mm`` (mm; negative: toward
+        the centreline), parametrised by the base curve's x: P(x) = (x, y(x)) + d·n(x).
+        Returns (N, 2) in mm. This is the one normal offset of the wall curve that the
+        flange, trim line, template kerf, insert walls and plug draft all use."""
+        x = np.atleast_1d(np.asarray(x_mm, dtype=float))
+        hw = self.half_width(x)
+        if d_mm == 0.0:
+            return np.column_stack([x, hw])
+        s = np.atleast_1d(self.slope(x))
+        den = np.sqrt(1.0 + s * s)
+        return np.column_stack([x - d_mm * s / den, hw + d_mm / den])
+
     @property
     def apex_width_mm(self) -> float:
         """Wall-to-wall width at the ramp start (mm)."""

@@ -17,7 +17,7 @@ import numpy as np
 
 from ductgen.errors import ExportError, GeometryError
 
-__all__ = ["GL_PACKAGES", "cutter_mesh_job", "preview_png", "render_png"]
+__all__ = ["GL_PACKAGES", "preview_png", "render_png"]
 
 #: Debian/Ubuntu packages that offscreen VTK rendering needs on a bare machine.
 GL_PACKAGES = "libgl1 libegl1 libegl-mesa0 libgl1-mesa-dri libx11-6 libxrender1"
@@ -112,21 +112,11 @@ def _gl_message(detail: str) -> str:
     )
 
 
-def cutter_mesh_job(g: Any) -> tuple[np.ndarray, np.ndarray]:
-    """Kernel-worker job: draft triangulation of the cutter (mm) for a preview."""
-    from ductgen.solids.cutter import make_cutter
-    from ductgen.solids.mesh import triangulate
-    from ductgen.tolerances import STL_QUALITY
-
-    verts, faces = triangulate(make_cutter(g), *STL_QUALITY["draft"])
-    return verts.astype("float32"), faces.astype("int32")
-
-
 def preview_png(ctx: Any, worker: Any = None) -> bytes:
     """PNG of the built insert, else the cutter or plug; builds a draft cutter mesh if none.
 
     Args:
-        ctx: the :class:`~ductgen.pipeline.builder.BuildContext`.
+        ctx: the build context (its design and any solids already built).
         worker: a :class:`~ductgen.worker.KernelWorker` (default: the process-wide one).
     """
     from ductgen.worker import default_worker
@@ -134,10 +124,10 @@ def preview_png(ctx: Any, worker: Any = None) -> bytes:
     w = worker or default_worker()
     kind = next((k for k in _KINDS if "mesh" in ctx.solids.get(k, {})), None)
     if kind is None:
-        kind, mesh = "cutter", w.run("ductgen.sheets.preview:cutter_mesh_job", ctx.geometry)
+        kind, mesh = "cutter", w.run("ductgen.solids.jobs:cutter_mesh_job", ctx.design)
     else:
         mesh = ctx.solids[kind]["mesh"]
-    opening = ctx.geometry.planform.outline(300) if kind == "cutter" else None
+    opening = ctx.design.geometry.planform.outline(300) if kind == "cutter" else None
     try:
         return w.run(
             "ductgen.sheets.preview:render_png", mesh[0], mesh[1], opening, timeout_s=120.0

@@ -18,13 +18,14 @@ import numpy as np
 
 from ductgen.export.template_layout import CAUTIONS, build_date
 from ductgen.geometry.inlet import InletGeometry
+from ductgen.units import MM_PER_INCH
 
 __all__ = ["SHEET_MM", "offset_rows", "sheet_pdf"]
 
 #: template.paper → drawing sheet (width, height) mm, landscape.
 SHEET_MM: dict[str, tuple[float, float]] = {"A4": (420.0, 297.0), "Letter": (431.8, 279.4)}
 _SCALES = (5.0, 2.0, 1.0, 0.5, 0.2, 0.1, 0.05, 0.02, 0.01)
-_INCH = 25.4
+_INCH = MM_PER_INCH
 _RC = {
     "path.simplify": False,
     "pdf.use14corefonts": True,

@@ -15,7 +15,7 @@ import cadquery as cq
 import numpy as np
 
 from ductgen.errors import GeometryError
-from ductgen.geometry.meshstats import mesh_stats
+from ductgen.meshstats import mesh_stats
 from ductgen.solids.mesh import triangulate
 from ductgen.tolerances import Tolerances
 

@@ -14,14 +14,18 @@ import math
 
 import cadquery as cq
 
+from ductgen.design import Design
 from ductgen.errors import GeometryError
+from ductgen.geometry.floor import floor_section
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.geometry.transition import Transition
 from ductgen.solids.primitives import (
     arc3,
     boolean,
     extrude_xz,
+    floor_edges,
     polyline_edges,
+    to_model,
     wall_spline,
     xz_ellipse_arc,
 )
@@ -49,30 +53,17 @@ def _planform_prism(g: InletGeometry, x_end: float, z_bottom: float, z_top: floa
     return cq.Solid.extrudeLinear(face, V(0, 0, z_top - z_bottom))
 
 
-#: An entry arc shorter than this along x (mm) is built sharp: its largest departure from the
-#: arc is below 1e-9 mm, and the kernel cannot make a circle that short.
-MIN_ARC_MM = 1e-3
-
-
 def _floor_wedge(g: InletGeometry, x_end: float, half_span: float, top: float) -> cq.Solid:
     """Region between the floor and z = ``top`` for 0 ≤ x ≤ x_end, across ±half_span.
 
     With ``top`` above the skin the section starts with a vertical edge at x = 0, so the
     tangent entry arc never meets a face at zero angle (a cusp the booleans mishandle)."""
-    fl = g.floor
-    H, L = g.drop_mm, g.length_mm
+    sec = floor_section(g.floor)
     y = -half_span
+    xr, zr = sec.ramp_end
     edges: list[cq.Edge] = [cq.Edge.makeLine(V(0.0, y, top), V(0.0, y, 0.0))]
-    r = fl.entry_radius_mm
-    xa, za = fl.arc_end_mm
-    if r > 0 and xa >= MIN_ARC_MM:
-        half = math.radians(fl.angle_deg) / 2.0
-        mid = (r * math.sin(half), y, -r * (1.0 - math.cos(half)))
-        edges.append(arc3((0.0, y, 0.0), mid, (xa, y, -za)))
-        start = (xa, y, -za)
-    else:
-        start = (0.0, y, 0.0)
-    edges += polyline_edges([start, (L, y, -H), (x_end, y, -H), (x_end, y, top), (0.0, y, top)])
+    edges += floor_edges(sec, y)
+    edges += polyline_edges([(xr, y, zr), (x_end, y, zr), (x_end, y, top), (0.0, y, top)])
     return extrude_xz(edges, y, half_span)
 
 
@@ -176,13 +167,15 @@ def make_transition(t: Transition) -> cq.Solid:
     return cq.Solid.makeLoft([w0, w1], True)
 
 
-def make_cutter(g: InletGeometry) -> cq.Solid:
-    """The whole cutter as one closed solid (mm)."""
+def make_cutter(d: Design) -> cq.Solid:
+    """The whole cutter as one closed solid (mm, model coordinates)."""
+    g = d.geometry
     cavity = make_cavity(g)
     if g.transition is None:
-        return cavity
+        return to_model(cavity, d.skin, "cutter")
     duct = make_transition(g.transition)
-    return _one_solid(boolean("fuse", cavity, duct, "transition"), "cutter")
+    cutter = _one_solid(boolean("fuse", cavity, duct, "transition"), "cutter")
+    return to_model(cutter, d.skin, "cutter")
 
 
 def _one_solid(shape: cq.Shape, stage: str) -> cq.Solid:

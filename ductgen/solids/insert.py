@@ -28,23 +28,19 @@ import math
 import cadquery as cq
 import numpy as np
 
+from ductgen.design import Design
 from ductgen.errors import GeometryError
-from ductgen.geometry.fabrication import (
-    Fabrication,
-    fabrication_of,
-    flange_layout,
-    footprint_end_mm,
-    spigot_of,
-    transition_wall_mm,
-    validate_fabrication,
-)
+from ductgen.geometry.fabrication import footprint_end_mm, transition_wall_mm
+from ductgen.geometry.floor import floor_section
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.solids.cutter import make_cutter, make_transition
 from ductgen.solids.primitives import (
     arc3,
     boolean,
     extrude_xz,
+    floor_edges,
     polyline_edges,
+    to_model,
     wall_spline,
     xz_ellipse_arc,
 )
@@ -87,13 +83,11 @@ def offset_wire(
     pf = g.planform
     L, h1 = g.length_mm, g.width_mm / 2.0
     x = np.union1d(np.linspace(0.0, L, n), pf.node_x_mm)
-    hw, s = pf.half_width(x), pf.slope(x)
-    den = np.sqrt(1.0 + s * s)
-    xo, yo = x - d * s / den, hw + d / den  # upper wall (y > 0) offset outward
+    xo, yo = pf.wall_offset(x, d).T  # upper wall (y > 0) offset outward
     upper = cq.Edge.makeSpline([V(float(a), float(b), z) for a, b in zip(xo, yo, strict=True)])
     lower = cq.Edge.makeSpline([V(float(a), float(-b), z) for a, b in zip(xo, yo, strict=True)])
-    a_apex = math.atan2(1.0, -float(s[0]))
-    hw0 = float(hw[0])
+    a_apex = math.atan2(1.0, -float(pf.slope(0.0)))
+    hw0 = float(pf.half_width(0.0))
     edges = [lower]
     if x_end > L + 1e-9:
         edges.append(cq.Edge.makeLine(V(L, -h1 - d, z), V(x_end, -h1 - d, z)))
@@ -141,41 +135,12 @@ def floor_profile_solid(
 ) -> cq.Solid:
     """Region between the skin plane and the floor moved down by ``offset`` (mm, normal to
     the floor), x_lo ≤ x ≤ x_end, across ±half_span. Offset 0 is the cavity's own floor."""
-    fl = g.floor
-    th = math.radians(fl.angle_deg)
-    r, H = fl.entry_radius_mm, g.drop_mm
-    xa, za = fl.arc_end_mm
+    sec = floor_section(g.floor, offset)
     y = -half_span
-    w = offset
-    edges: list[cq.Edge] = []
-    if r > w:
-        ri = r - w
-        p_arc = (ri * math.sin(th), -r + ri * math.cos(th))
-        mid = (ri * math.sin(th / 2), -r + ri * math.cos(th / 2))
-        if w > 0:
-            edges += polyline_edges([(x_lo, y, 0.0), (x_lo, y, -w), (0.0, y, -w)])
-        else:
-            edges += polyline_edges([(x_lo, y, 0.0), (0.0, y, 0.0)])
-        edges.append(arc3((0.0, y, -w), (mid[0], y, mid[1]), (p_arc[0], y, p_arc[1])))
-        p0 = p_arc
-    else:
-        # sharp start, or an entry arc smaller than the wall: offset the tangent lines by
-        # the wall plus the arc's sag below its tangent corner (conservative).
-        ww = w + (r * (1.0 / math.cos(th / 2) - 1.0) if r > 0 else 0.0)
-        px, pz = xa - ww * math.sin(th), -za - ww * math.cos(th)
-        xi = px + (pz + ww) / math.tan(th) if ww > 0 else 0.0
-        pts = [(x_lo, y, 0.0)]
-        if ww > 0:
-            pts += [(x_lo, y, -ww), (xi, y, -ww)]
-        else:
-            pts += [(0.0, y, 0.0)]
-        edges += polyline_edges(pts)
-        p0 = (xi, -ww) if ww > 0 else (0.0, 0.0)
-    # ramp line (through p0 at the ramp angle) down to the flat floor at -(H + w)
-    xc = p0[0] + (p0[1] + H + w) / math.tan(th)
-    edges += polyline_edges(
-        [(p0[0], y, p0[1]), (xc, y, -H - w), (x_end, y, -H - w), (x_end, y, 0.0), (x_lo, y, 0.0)]
-    )
+    (xe, ze), (xr, zr) = sec.entry, sec.ramp_end
+    lead = [(x_lo, y, 0.0), (x_lo, y, ze), (xe, y, ze)] if ze < 0 else [(x_lo, y, 0.0), (xe, y, ze)]
+    edges = polyline_edges(lead) + floor_edges(sec, y)
+    edges += polyline_edges([(xr, y, zr), (x_end, y, zr), (x_end, y, 0.0), (x_lo, y, 0.0)])
     return extrude_xz(edges, y, half_span)
 
 
@@ -225,20 +190,17 @@ def _drilled(shape: cq.Shape, lay) -> cq.Shape:  # type: ignore[no-untyped-def]
     return boolean("cut", shape, holes, "insert holes")
 
 
-def make_insert(
-    g: InletGeometry, fab: Fabrication | None = None, cutter: cq.Solid | None = None
-) -> cq.Solid:
+def make_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
     """The insert as one closed solid (mm): an outer body minus the cutter (``cutter``, if
-    already built for this geometry, saves building it again). Raises :class:`SpecError` for
-    parameters that cannot make a part, :class:`GeometryError` when the kernel fails."""
-    fab = fab or fabrication_of(g)
-    validate_fabrication(g, fab)
+    already built for this design, saves building it again). Raises
+    :class:`GeometryError` when the kernel fails (the design was checked when it was built).
+    """
+    g, fab, lay = d.geometry, d.fab, d.layout
     ins = fab.insert
     w = ins.wall
     r_edge = g.edge_radius_mm
     off = w + r_edge
     t_skin = g.skin_thickness_mm
-    lay = flange_layout(g, ins)
     x_top = footprint_end_mm(g)
     x_ne = g.throat_end_mm
     H = g.drop_mm
@@ -288,7 +250,7 @@ def make_insert(
                 outlet_top_z_mm=t.outlet_top_z_mm + wt,
             )
             pieces.append(make_transition(t_out))
-            sp = spigot_of(g, fab)
+            sp = d.spigot
             if sp is not None:
                 zc = sp.centre_z_mm
                 pieces.append(
@@ -336,7 +298,7 @@ def make_insert(
                 prism(footprint_face(g, x_open, r_edge), 0.0, ins.bezel_thickness + 1.0)
             )
         outer = boolean("fuse", walls, pieces, "insert outer body")
-        inner = cutter if cutter is not None else make_cutter(g)
+        inner = cutter if cutter is not None else make_cutter(d)
         if inner_extra:
             inner = boolean("fuse", inner, inner_extra, "insert inner body")
         body = boolean("cut", outer, [inner], "insert")
@@ -355,4 +317,4 @@ def make_insert(
     solids = body.Solids()
     if len(solids) != 1:
         raise GeometryError("insert", f"expected one solid, the kernel produced {len(solids)}")
-    return solids[0]
+    return to_model(solids[0], d.skin, "insert")

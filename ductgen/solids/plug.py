@@ -17,8 +17,9 @@ import math
 import cadquery as cq
 import numpy as np
 
+from ductgen.design import Design
 from ductgen.errors import GeometryError
-from ductgen.geometry.fabrication import Fabrication, fabrication_of, validate_fabrication
+from ductgen.geometry.floor import x_at_depth
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.solids.insert import (
     floor_profile_solid,
@@ -26,18 +27,16 @@ from ductgen.solids.insert import (
     footprint_wire,
     prism,
 )
-from ductgen.solids.primitives import boolean, polyline_edges
+from ductgen.solids.primitives import boolean, polyline_edges, to_model
 
 __all__ = ["make_plug", "plug_volume_mm3"]
 
 V = cq.Vector
 
 
-def make_plug(g: InletGeometry, fab: Fabrication | None = None) -> cq.Solid:
+def make_plug(d: Design) -> cq.Solid:
     """The plug as one closed solid (mm; plate top z = 0, cavity above)."""
-    fab = fab or fabrication_of(g)
-    validate_fabrication(g, fab)
-    plug = fab.plug
+    g, plug = d.geometry, d.fab.plug
     x_ne, H = g.throat_end_mm, g.drop_mm
     try:
         base = footprint_wire(g, x_ne, 0.0)
@@ -59,7 +58,7 @@ def make_plug(g: InletGeometry, fab: Fabrication | None = None) -> cq.Solid:
     solids = shape.Solids()
     if len(solids) != 1:
         raise GeometryError("plug", f"expected one solid, the kernel produced {len(solids)}")
-    return solids[0]
+    return to_model(solids[0], d.skin, "plug")
 
 
 def _inset_wire(g: InletGeometry, x_end: float, d: float, z: float, n: int = 40) -> cq.Wire:
@@ -70,9 +69,7 @@ def _inset_wire(g: InletGeometry, x_end: float, d: float, z: float, n: int = 40)
     pf = g.planform
     L, h1 = g.length_mm, g.width_mm / 2.0
     x = np.union1d(np.linspace(0.0, L, n), pf.node_x_mm)
-    hw, s = pf.half_width(x), pf.slope(x)
-    den = np.sqrt(1.0 + s * s)
-    xo, yo = x + d * s / den, hw - d / den
+    xo, yo = pf.wall_offset(x, -d).T
     par = [float(v) for v in x]
     upper = cq.Edge.makeSpline(
         [V(float(a), float(b), z) for a, b in zip(xo, yo, strict=True)], parameters=par
@@ -92,7 +89,7 @@ def _inset_wire(g: InletGeometry, x_end: float, d: float, z: float, n: int = 40)
     return cq.Wire.assembleEdges(edges)
 
 
-def plug_volume_mm3(g: InletGeometry, fab: Fabrication | None = None, n: int = 4000) -> float:
+def plug_volume_mm3(d: Design, n: int = 4000) -> float:
     """Expected plug volume (mm³), integrated without the kernel.
 
     Plate: the opening offset by the margin m has area A + P·m + π·m² (Steiner's formula
@@ -101,13 +98,11 @@ def plug_volume_mm3(g: InletGeometry, fab: Fabrication | None = None, n: int = 4
     throat end face), cut by the floor; its area is integrated over x along the offset
     wall, then over z (trapezoid rule on ``n`` × 200 points).
     """
-    fab = fab or fabrication_of(g)
-    plug = fab.plug
+    g, plug = d.geometry, d.fab.plug
     pf, fl = g.planform, g.floor
-    x_ne, L = g.throat_end_mm, g.length_mm
+    x_ne = g.throat_end_mm
     x = np.union1d(np.linspace(0.0, x_ne, n), pf.node_x_mm[pf.node_x_mm <= x_ne])
-    hw, s = pf.half_width(x), pf.slope(x)
-    den = np.sqrt(1.0 + s * s)
+    hw = pf.half_width(x)
     seg = np.hypot(np.diff(x), np.diff(hw))
     perimeter = 2.0 * seg.sum() + (g.width_mm) + float(2.0 * hw[0])
     area = 2.0 * np.trapezoid(hw, x)
@@ -117,27 +112,14 @@ def plug_volume_mm3(g: InletGeometry, fab: Fabrication | None = None, n: int = 4
     zs = np.linspace(0.0, g.drop_mm, 200)
     areas = []
     for z in zs:
-        d = z * tan_a
-        xo, yo = x + d * s / den, hw - d / den  # wall moved inward along its normal
-        x_lo = _floor_x(fl, z)
-        x_hi = x_ne - d
+        delta = z * tan_a
+        xo, yo = pf.wall_offset(x, -delta).T  # wall moved inward along its normal
+        x_lo = x_at_depth(fl, z)
+        x_hi = x_ne - delta
         if x_hi <= x_lo:
             areas.append(0.0)
             continue
         grid = np.linspace(x_lo, x_hi, 800)
         half = np.interp(grid, xo, yo)
         areas.append(float(2.0 * np.trapezoid(np.clip(half, 0.0, None), grid)))
-    del L
     return float(plate + np.trapezoid(np.array(areas), zs))
-
-
-def _floor_x(fl, z: float) -> float:  # type: ignore[no-untyped-def]
-    """x (mm) where the floor depth reaches z (mm)."""
-    if z <= 0:
-        return 0.0
-    th = math.radians(fl.angle_deg)
-    xa, za = fl.arc_end_mm
-    r = fl.entry_radius_mm
-    if z <= za and r > 0:
-        return math.sqrt(max(r * r - (r - z) ** 2, 0.0))
-    return xa + (z - za) / math.tan(th)

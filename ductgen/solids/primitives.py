@@ -8,12 +8,17 @@ from collections.abc import Sequence
 import cadquery as cq
 import numpy as np
 
+from ductgen.errors import GeometryError
+from ductgen.geometry.floor import FloorSection
 from ductgen.geometry.planform import Planform
+from ductgen.geometry.skin import SkinMap
 
 __all__ = [
     "boolean",
     "extrude_xz",
+    "floor_edges",
     "polyline_edges",
+    "to_model",
     "wall_spline",
     "xz_ellipse_arc",
 ]
@@ -66,6 +71,30 @@ def extrude_xz(edges: list[cq.Edge], y0: float, y1: float) -> cq.Solid:
 def arc3(p0: Sequence[float], pm: Sequence[float], p1: Sequence[float]) -> cq.Edge:
     """Circular arc through three 3D points."""
     return cq.Edge.makeThreePointArc(V(*p0), V(*pm), V(*p1))
+
+
+def floor_edges(sec: FloorSection, y: float) -> list[cq.Edge]:
+    """Edges of a floor section in the plane at ``y``: the entry arc (if any) and the
+    straight ramp, from ``sec.entry`` to ``sec.ramp_end`` (mm)."""
+    (xe, ze), (xs, zs), (xr, zr) = sec.entry, sec.ramp_start, sec.ramp_end
+    edges: list[cq.Edge] = []
+    if sec.arc_mid is not None:
+        xm, zm = sec.arc_mid
+        edges.append(arc3((xe, y, ze), (xm, y, zm), (xs, y, zs)))
+    edges += polyline_edges([(xs, y, zs), (xr, y, zr)])
+    return edges
+
+
+def to_model(shape: cq.Solid, skin: SkinMap, stage: str) -> cq.Solid:
+    """Place a solid built in design coordinates on the skin (identity for a flat skin).
+
+    Raises:
+        GeometryError: the skin is curved; solids for curved skins are built from mapped
+            sections, which this release does not do yet.
+    """
+    if skin.is_flat:
+        return shape
+    raise GeometryError(stage, f"solids on a {skin.name} skin are not available yet")
 
 
 def np3(a: np.ndarray) -> list[tuple[float, float, float]]:

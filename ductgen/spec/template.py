@@ -8,13 +8,13 @@ calibration page, measure the 100 mm square: ``scale_x = 100 / measured width``)
 
 from __future__ import annotations
 
-from typing import Annotated, Literal
+from typing import Annotated, Any, Literal
 
 from pydantic import Field
 
 from ductgen.spec.types import Mm, Section
 
-__all__ = ["TemplateSpec"]
+__all__ = ["TemplateSpec", "with_template_options"]
 
 
 class TemplateSpec(Section):
@@ -49,3 +49,26 @@ class TemplateSpec(Section):
         float,
         Field(default=1.0, ge=0.9, le=1.1, description="printer correction along the page height"),
     ]
+
+
+def with_template_options(spec: Any, **values: Any) -> Any:
+    """``spec`` with command-line template options (``kerf``, ``paper``, ...) applied to its
+    ``[template]`` section and validated like the file's own values; None means not given.
+
+    Raises:
+        SpecError: an option's value is outside its range (the key is ``--OPTION``).
+    """
+    given = {k: v for k, v in values.items() if v is not None}
+    if not given:
+        return spec
+    from pydantic import ValidationError
+
+    from ductgen.errors import SpecError
+
+    try:
+        tpl = type(spec.template).model_validate({**spec.template.model_dump(), **given})
+    except ValidationError as err:
+        e = err.errors(include_url=False)[0]
+        key = f"--{e['loc'][0]}" if e["loc"] else "--template"
+        raise SpecError(key, e.get("input"), "", str(e["msg"])) from None
+    return spec.model_copy(update={"template": tpl})

@@ -6,7 +6,8 @@ variant through the same pipeline as ``ductgen build`` into ``DIR/<variant id>/`
 :mod:`ductgen.sweep.html`).
 """
 
-from ductgen.sweep.run import SweepResult, VariantResult, run_sweep
+from ductgen.sweep.results import SweepResult, VariantResult
+from ductgen.sweep.run import run_sweep
 from ductgen.sweep.vary import Vary, parse_vary
 
 __all__ = ["SweepResult", "VariantResult", "Vary", "parse_vary", "run_sweep"]

@@ -23,7 +23,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
 if TYPE_CHECKING:
-    from ductgen.sweep.run import VariantResult, VariantTask
+    from ductgen.sweep.results import VariantResult, VariantTask
     from ductgen.sweep.variants import Variant
 
 __all__ = [
@@ -140,7 +140,7 @@ def _compare_task(item: tuple[str, str, str, str, str]) -> tuple[str, dict[str, 
             metrics = compare_meshes(_load(path), _load(base_path))
     except Exception as err:  # a bad mesh leaves this variant's comparison empty
         return vid, {"error": f"comparison failed: {type(err).__name__}: {err}"}
-    from ductgen.export.atomic import write_atomic
+    from ductgen.atomic import write_atomic
 
     data = json.dumps({"key": key, "metrics": metrics}, indent=2) + "\n"
     write_atomic(cache, data.encode(), force=True)

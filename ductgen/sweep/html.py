@@ -19,7 +19,7 @@ from typing import TYPE_CHECKING, Any
 from ductgen.sweep.compare import METRICS, csv_text
 
 if TYPE_CHECKING:
-    from ductgen.sweep.run import SweepResult
+    from ductgen.sweep.results import SweepResult
     from ductgen.sweep.variants import Variant
 
 __all__ = ["MAX_OVERLAY", "MAX_PREVIEWS", "page_html", "write_outputs"]
@@ -62,13 +62,11 @@ def _overlays(variants: list[Variant], baseline: str) -> str:
     import numpy as np
     from matplotlib.figure import Figure
 
-    from ductgen.geometry.inlet import build_geometry
-
     fig = Figure(figsize=(11, 7.5))
     ax_p, ax_s = fig.subplots(2, 1)
     shown = variants[:MAX_OVERLAY]
     for i, v in enumerate(shown):
-        g = build_geometry(v.spec)
+        g = v.design.geometry
         lw = 2.2 if v.id == baseline else 1.1
         colour = f"C{i % 10}"
         o = g.planform.outline()
@@ -287,7 +285,7 @@ def write_outputs(
 ) -> dict[str, Path]:
     """Write ``comparison.csv``, ``comparison.json`` and ``comparison.html`` (atomic,
     replacing the previous run's)."""
-    from ductgen.export.atomic import write_atomic
+    from ductgen.atomic import write_atomic
 
     doc = {
         "spec": str(spec_path),

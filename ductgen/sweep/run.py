@@ -21,13 +21,12 @@ import time
 from collections.abc import Callable, Iterator
 from concurrent.futures import Executor, Future, ProcessPoolExecutor, as_completed
 from contextlib import contextmanager
-from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
 from ductgen.errors import SpecError
-from ductgen.spec import Spec
-from ductgen.sweep.variants import STAMP_FILE, Variant, content_hash, make_variants, read_stamp
+from ductgen.sweep.results import SweepResult, VariantResult, VariantTask
+from ductgen.sweep.variants import STAMP_FILE, content_hash, make_variants, read_stamp
 from ductgen.sweep.vary import Vary
 
 __all__ = [
@@ -39,53 +38,6 @@ __all__ = [
     "run_sweep",
 ]
 
-
-@dataclass(frozen=True)
-class VariantTask:
-    """What a worker needs to build one variant (picklable)."""
-
-    id: str
-    spec: Spec
-    folder: str
-    kinds: tuple[str, ...]
-    quality: str
-    hash: str
-    raw: dict[str, Any]
-
-
-@dataclass
-class VariantResult:
-    """Outcome of one variant.
-
-    Attributes:
-        status: ``"built"``, ``"cached"`` (unchanged, skipped) or ``"failed"``.
-        report: the variant's report.json (None when failed).
-        build_s: wall-clock seconds of its build (s; the original build's for cached ones).
-        error: one-line reason when failed.
-    """
-
-    id: str
-    status: str
-    folder: str
-    report: dict[str, Any] | None = None
-    build_s: float | None = None
-    error: str | None = None
-
-
-@dataclass
-class SweepResult:
-    """A finished sweep: variants, their results (same order), comparison rows, files."""
-
-    variants: list[Variant]
-    results: list[VariantResult]
-    rows: list[dict[str, Any]]
-    baseline: str
-    files: dict[str, Path] = field(default_factory=dict)
-    seconds: float = 0.0
-
-    @property
-    def failed(self) -> list[VariantResult]:
-        return [r for r in self.results if r.status == "failed"]
 
 
 def default_jobs() -> int:
@@ -112,7 +64,7 @@ def _close_worker_at_exit() -> None:
 
 def build_variant(task: VariantTask) -> VariantResult:
     """Build one variant into its folder (runs in a worker process); never raises."""
-    from ductgen.export.atomic import write_atomic
+    from ductgen.atomic import write_atomic
     from ductgen.pipeline.builder import build
     from ductgen.pipeline.builder import package_version as _version
 
@@ -121,7 +73,14 @@ def build_variant(task: VariantTask) -> VariantResult:
         (folder / STAMP_FILE).unlink(missing_ok=True)
         _close_worker_at_exit()
         t0 = time.perf_counter()
-        result = build(task.spec, folder, only=list(task.kinds), force=True, quality=task.quality)
+        result = build(
+            task.spec,
+            folder,
+            only=list(task.kinds),
+            force=True,
+            quality=task.quality,
+            design=task.design,
+        )
         seconds = time.perf_counter() - t0
         stamp = {
             "id": task.id,
@@ -277,6 +236,7 @@ def run_sweep(
             quality,
             content_hash(v.spec, kinds, quality, version),
             v.raw,
+            v.design,
         )
         for v in variants
     ]

@@ -3,8 +3,8 @@ skip variants that are already built and unchanged.
 
 Each variant is the base spec file's *raw* data with the varied keys set, validated by
 :func:`ductgen.spec.parse_spec` exactly as a spec file is, and checked by
-:func:`ductgen.geometry.build_geometry` for the cross-field rules; so every variant of a
-sweep is known to be valid before anything is built.
+:func:`ductgen.design.build_design` for the cross-field rules; so every variant of a
+sweep is known to be valid before anything is built, and its design is built only once.
 """
 
 from __future__ import annotations
@@ -16,6 +16,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
+from ductgen.design import Design, build_design
 from ductgen.errors import SpecError
 from ductgen.spec import Spec, parse_spec, read_spec_data, spec_sha256
 from ductgen.sweep.vary import Vary, combinations, get_dotted, set_dotted
@@ -44,12 +45,14 @@ class Variant:
         raw: varied key → raw value as given (number or unit string).
         resolved: varied key → value as resolved by the spec (mm, deg, SI; str for choices).
         spec: the validated spec.
+        design: its design, built and checked once (the build and the page reuse it).
     """
 
     id: str
     raw: dict[str, Any]
     resolved: dict[str, Any]
     spec: Spec
+    design: Design
 
 
 def _value_text(value: Any) -> str:
@@ -85,8 +88,6 @@ def make_variants(spec_path: Path, varies: list[Vary], zip_values: bool = False)
         SpecError: (exit 2) for a bad ``--vary`` or any variant whose spec is invalid; the
             message names the variant. Nothing is built or written.
     """
-    from ductgen.geometry.inlet import build_geometry
-
     spec_path = Path(spec_path)
     data = read_spec_data(spec_path)
     combos = combinations(varies, zip_values)
@@ -107,13 +108,13 @@ def make_variants(spec_path: Path, varies: list[Vary], zip_values: bool = False)
             for k, v in raw.items():
                 d = set_dotted(d, k, v)
             spec = parse_spec(d, source=source, base_dir=spec_path.parent)
-            build_geometry(spec)
+            design = build_design(spec)
         except SpecError as err:
             raise SpecError.many(
                 [(p.key, p.value, p.allowed, p.reason) for p in err.problems], source=source
             ) from None
         resolved = {k: _resolved(get_dotted(spec, k)) for k in keys}
-        out.append(Variant(id=vid, raw=raw, resolved=resolved, spec=spec))
+        out.append(Variant(id=vid, raw=raw, resolved=resolved, spec=spec, design=design))
     return out
 
 

@@ -1,4 +1,5 @@
-"""Jobs that run inside the kernel worker: build, check and encode the solids.
+"""Jobs that run inside the kernel worker: build, check and encode the solids; the
+preview's cutter mesh.
 
 Each solid kind has a recipe: how to build it from the pure geometry and what its volume
 should be by an independent integral (None where no closed form is available; then the
@@ -13,20 +14,29 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
+from ductgen.design import Design
 from ductgen.geometry.inlet import InletGeometry
+from ductgen.solids.kinds import SOLID_KINDS
 from ductgen.tolerances import DEFAULT_TOLERANCES, STL_QUALITY
 from ductgen.worker import stage
 
-__all__ = ["SOLID_KINDS", "SolidRecipe", "build_solids", "recipes", "warm_up"]
+__all__ = [
+    "SOLID_KINDS",
+    "SolidRecipe",
+    "build_solids",
+    "cutter_mesh_job",
+    "recipes",
+    "warm_up",
+]
 
 
 @dataclass(frozen=True)
 class SolidRecipe:
-    """How to make one solid kind: ``build(g, built) -> cq.Solid`` (``built``: the solids
-    made before it in this job, by kind); ``expected(g) -> mm³ | None``."""
+    """How to make one solid kind: ``build(d, built) -> cq.Solid`` (``built``: the solids
+    made before it in this job, by kind); ``expected(d) -> mm³ | None``."""
 
-    build: Callable[[InletGeometry, dict[str, Any]], Any]
-    expected: Callable[[InletGeometry], float | None]
+    build: Callable[[Design, dict[str, Any]], Any]
+    expected: Callable[[Design], float | None]
     volume_rel: float | None = None
 
 
@@ -37,18 +47,16 @@ def recipes() -> dict[str, SolidRecipe]:
     from ductgen.solids.plug import make_plug, plug_volume_mm3
 
     return {
-        "cutter": SolidRecipe(lambda g, _: make_cutter(g), lambda g: g.cutter_volume_mm3),
+        "cutter": SolidRecipe(lambda d, _: make_cutter(d), lambda d: d.geometry.cutter_volume_mm3),
         # insert: a union of overlapping pieces minus the cutter has no independent
         # integral; the watertight/validity checks and the printability hook apply.
         "insert": SolidRecipe(
-            lambda g, built: make_insert(g, cutter=built.get("cutter")), lambda g: None
+            lambda d, built: make_insert(d, cutter=built.get("cutter")), lambda d: None
         ),
-        "plug": SolidRecipe(lambda g, _: make_plug(g), plug_volume_mm3),
+        "plug": SolidRecipe(lambda d, _: make_plug(d), plug_volume_mm3),
     }
 
 
-#: Solid kinds in build order (names only, importable without the kernel).
-SOLID_KINDS: tuple[str, ...] = ("cutter", "insert", "plug")
 
 
 def wetted_area_mm2(vertices: Any, faces: Any, g: InletGeometry) -> float:
@@ -82,7 +90,7 @@ def wetted_area_mm2(vertices: Any, faces: Any, g: InletGeometry) -> float:
 
 
 def build_solids(
-    g: InletGeometry, kinds: list[str], quality: str, prefix: str, staging: str
+    d: Design, kinds: list[str], quality: str, prefix: str, staging: str
 ) -> dict[str, dict[str, Any]]:
     """Build, check and encode each kind; write ``PREFIX-KIND.step/.stl`` into ``staging``.
 
@@ -92,9 +100,9 @@ def build_solids(
     """
     import time
 
-    from ductgen.export.atomic import write_atomic
-    from ductgen.export.cad import step_bytes, stl_bytes
-    from ductgen.geometry.meshstats import mesh_stats
+    from ductgen.atomic import write_atomic
+    from ductgen.meshstats import mesh_stats
+    from ductgen.solids.cad_io import step_bytes, stl_bytes
     from ductgen.solids.check import CHECK_MESH, check_solid
     from ductgen.solids.mesh import triangulate
 
@@ -107,12 +115,12 @@ def build_solids(
         times: dict[str, float] = {}
         t0 = time.perf_counter()
         stage(kind)
-        solid = recipe.build(g, built)
+        solid = recipe.build(d, built)
         built[kind] = solid
         times["build_s"] = time.perf_counter() - t0
         t0 = time.perf_counter()
         stage(f"{kind} check")
-        res = check_solid(solid, kind, recipe.expected(g), tol, recipe.volume_rel)
+        res = check_solid(solid, kind, recipe.expected(d), tol, recipe.volume_rel)
         times["check_s"] = time.perf_counter() - t0
         t0 = time.perf_counter()
         stage(f"{kind} STEP")
@@ -146,8 +154,19 @@ def build_solids(
             "mesh": (verts.astype("float32"), faces.astype("int32")),
         }
         if kind == "cutter":
-            out[kind]["wetted_area_mm2"] = wetted_area_mm2(*res.mesh, g)
+            out[kind]["wetted_area_mm2"] = wetted_area_mm2(*res.mesh, d.geometry)
     return out
+
+
+def cutter_mesh_job(d: Design) -> tuple[Any, Any]:
+    """The cutter's triangulation (vertices mm, faces) for the preview, when the build
+    made no solids (``--only sheet``)."""
+    from ductgen.solids.cutter import make_cutter
+    from ductgen.solids.mesh import triangulate
+
+    stage("preview cutter")
+    verts, faces = triangulate(make_cutter(d), *STL_QUALITY["draft"])
+    return verts.astype("float32"), faces.astype("int32")
 
 
 def warm_up() -> str:

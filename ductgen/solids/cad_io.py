@@ -1,23 +1,21 @@
-"""CAD encoders: B-rep → STEP bytes, triangle mesh → binary STL bytes.
+"""CAD file encoders: B-rep → STEP bytes, triangle mesh → binary STL bytes; STEP reading.
 
-Encoders return bytes; :mod:`ductgen.export.atomic` writes them. The file unit is stated
-from one lookup table (:data:`STEP_UNITS`). The STEP encoder needs the CAD kernel and so
+Encoders return bytes; :mod:`ductgen.atomic` writes them. The STEP unit comes from
+the one unit table, :data:`ductgen.units.FILE_UNITS`. STEP needs the CAD kernel and so
 runs in the kernel worker process.
 """
 
 from __future__ import annotations
 
-import struct
 import tempfile
 from pathlib import Path
 from typing import Any
 
 import numpy as np
 
-__all__ = ["STEP_UNITS", "read_step", "step_bytes", "stl_bytes"]
+from ductgen.units import FILE_UNITS
 
-#: Internal unit name → STEP ``write.step.unit`` value.
-STEP_UNITS = {"mm": "MM", "in": "INCH"}
+__all__ = ["read_step", "step_bytes", "stl_bytes"]
 
 
 def step_bytes(shape: Any, name: str = "ductgen", unit: str = "mm") -> bytes:
@@ -27,7 +25,7 @@ def step_bytes(shape: Any, name: str = "ductgen", unit: str = "mm") -> bytes:
     from OCP.STEPControl import STEPControl_AsIs, STEPControl_Writer
 
     Interface_Static.SetCVal_s("write.step.schema", "AP214IS")
-    Interface_Static.SetCVal_s("write.step.unit", STEP_UNITS[unit])
+    Interface_Static.SetCVal_s("write.step.unit", FILE_UNITS[unit].step)
     Interface_Static.SetCVal_s("write.step.product.name", name)
     writer = STEPControl_Writer()
     writer.Transfer(shape.wrapped, STEPControl_AsIs)
@@ -48,12 +46,12 @@ def read_step(path: str | Path) -> Any:
 
 
 def stl_bytes(vertices: np.ndarray, faces: np.ndarray, name: str = "ductgen") -> bytes:
-    """Encode a triangle mesh (mm) as binary STL with outward facet normals."""
-    v = np.asarray(vertices, dtype=np.float64)[np.asarray(faces)]
-    n = np.cross(v[:, 1] - v[:, 0], v[:, 2] - v[:, 0])
-    lens = np.linalg.norm(n, axis=1)
-    n = n / np.where(lens > 0, lens, 1.0)[:, None]
-    rec = np.zeros(len(v), dtype=[("n", "<f4", 3), ("v", "<f4", (3, 3)), ("attr", "<u2")])
-    rec["n"], rec["v"] = n, v
-    header = f"ductgen {name} (mm)".encode()[:80].ljust(80, b" ")
-    return header + struct.pack("<I", len(v)) + rec.tobytes()
+    """Encode a triangle mesh (mm) as binary STL with outward facet normals (trimesh's
+    exporter)."""
+    import trimesh
+
+    mesh = trimesh.Trimesh(
+        np.asarray(vertices, dtype=np.float64), np.asarray(faces), process=False, validate=False
+    )
+    del name  # binary STL headers carry no reliable metadata; the file name says it
+    return bytes(trimesh.exchange.stl.export_stl(mesh))

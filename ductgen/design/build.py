@@ -1,0 +1,225 @@
+"""One inlet design, built and checked once from a validated spec.
+
+:func:`build_design` is the only place that reads the spec's geometry and fabrication
+sections: it makes the pure :class:`~ductgen.geometry.inlet.InletGeometry`, the insert and
+plug values, the flange and trim layout and the skin map, checks every cross-field rule
+(raising :class:`~ductgen.errors.SpecError` naming the key) and gathers the design warnings.
+Solids, templates, sheets and the report all read the resulting frozen :class:`Design`.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from dataclasses import dataclass
+
+import numpy as np
+
+from ductgen.errors import DesignWarning, SpecError
+from ductgen.geometry.fabrication import (
+    Fabrication,
+    FlangeLayout,
+    HolesParams,
+    InsertParams,
+    PlugParams,
+    Spigot,
+    flange_layout,
+    plug_trim_outline,
+    spigot_of,
+)
+from ductgen.geometry.fabrication_rules import fabrication_warnings, validate_fabrication
+from ductgen.geometry.floor import Floor, ramp_angle_for_length
+from ductgen.geometry.inlet import InletGeometry, min_transition_length_mm
+from ductgen.geometry.lip import Lip
+from ductgen.geometry.planform import Planform
+from ductgen.geometry.profile import Profile, load_profile
+from ductgen.geometry.skin import FLAT, SkinMap
+from ductgen.geometry.transition import Transition
+from ductgen.spec.model import DEFAULT_RAMP_ANGLE_DEG, NoOutlet, RectOutlet, RoundOutlet, Spec
+
+__all__ = ["Design", "build_design", "fabrication_from_spec", "geometry_from_spec"]
+
+
+@dataclass(frozen=True)
+class Design:
+    """Everything a build needs to know about one inlet, in design coordinates (mm, deg).
+
+    Attributes:
+        name: file prefix (the spec's ``name``).
+        geometry: planform, floor, lip, transition and their integrals.
+        fab: insert, plug and hose-fit values.
+        layout: the insert's flange, skin cut-out and fastener holes in plan.
+        spigot: the round hose spigot, or None (rectangular collar / no outlet).
+        plug_trim_xy: the plug's base-plate edge in plan, (N, 2) CCW.
+        skin: the skin map from design to model coordinates.
+        warnings: design warnings on the shape and the fabrication layout.
+        fabrication_checked: whether the insert/plug rules were checked (a cutter-only
+            build skips them, so a cutter can be made for a throat too small for a part).
+    """
+
+    name: str
+    geometry: InletGeometry
+    fab: Fabrication
+    layout: FlangeLayout
+    spigot: Spigot | None
+    plug_trim_xy: np.ndarray
+    skin: SkinMap
+    warnings: tuple[DesignWarning, ...]
+    fabrication_checked: bool = True
+
+
+def fabrication_from_spec(spec: Spec) -> Fabrication:
+    """The ``[insert]``, ``[plug]`` and hose-fit values of a spec as plain numbers."""
+    ins, plug, holes = spec.insert, spec.plug, spec.insert.holes
+    return Fabrication(
+        insert=InsertParams(
+            wall=ins.wall,
+            flange_width=ins.flange_width,
+            flange_thickness_mm=ins.flange_thickness_mm,
+            mount=ins.mount,
+            bezel_thickness=ins.bezel_thickness,
+            feather_width=ins.feather_width,
+            holes=HolesParams(holes.count, holes.diameter, holes.edge_distance),
+            bead_height=ins.bead_height,
+            clamp_land=ins.clamp_land,
+        ),
+        plug=PlugParams(plug.draft_deg, plug.trim_margin, plug.base_thickness),
+        fit_clearance_mm=float(getattr(spec.outlet, "fit_clearance", 0.2)),
+    )
+
+
+def build_design(
+    spec: Spec, profile: Profile | None = None, *, check_fabrication: bool = True
+) -> Design:
+    """The design of ``spec``: geometry, fabrication layout, skin map, warnings.
+
+    Raises:
+        SpecError: a cross-field rule is broken (every fabrication problem at once).
+    """
+    from ductgen.flow.warnings import geometry_warnings
+
+    g = geometry_from_spec(spec, profile)
+    fab = fabrication_from_spec(spec)
+    warnings: list[DesignWarning] = list(geometry_warnings(g))
+    if check_fabrication:
+        validate_fabrication(g, fab)
+        warnings += fabrication_warnings(g, fab)
+    return Design(
+        name=spec.name,
+        geometry=g,
+        fab=fab,
+        layout=flange_layout(g, fab.insert),
+        spigot=spigot_of(g, fab),
+        plug_trim_xy=plug_trim_outline(g, fab.plug),
+        skin=FLAT,
+        warnings=tuple(warnings),
+        fabrication_checked=check_fabrication,
+    )
+
+
+def geometry_from_spec(spec: Spec, profile: Profile | None = None) -> InletGeometry:
+    """Pure geometry from a spec; raises :class:`SpecError` on cross-field problems."""
+
+    profile = profile or load_profile(spec.planform.profile)
+    w, d = spec.throat.width, spec.throat.depth
+    lip_t = spec.lip.thickness
+    drop = d + lip_t if spec.lip.style == "flush" else d
+    r_entry = spec.ramp.entry_radius
+
+    if spec.ramp.length is not None:
+        angle = ramp_angle_for_length(spec.ramp.length, drop, r_entry)
+    else:
+        angle = spec.ramp.angle_deg if spec.ramp.angle_deg is not None else DEFAULT_RAMP_ANGLE_DEG
+    floor = Floor(angle_deg=angle, entry_radius_mm=r_entry, drop_mm=drop)
+    length = floor.length_mm
+    planform = Planform(profile=profile, width_mm=w, length_mm=length)
+
+    if spec.lip.style == "raised":
+        fairing = spec.lip.fairing_length if spec.lip.fairing_length is not None else 6.0 * lip_t
+    else:
+        if spec.lip.fairing_length is not None:
+            raise SpecError(
+                "lip.fairing_length",
+                spec.lip.fairing_length,
+                "only with lip.style = 'raised'",
+                "a flush lip has no fairing: its top is the skin",
+            )
+        fairing = 0.0
+    lip = Lip(spec.lip.style, lip_t, spec.lip.nose_ratio, length, fairing)
+    if lip.semi_major_mm > 0.5 * length:
+        raise SpecError(
+            "lip.nose_ratio",
+            spec.lip.nose_ratio,
+            f"<= {length / lip_t:.2f} for this lip",
+            "the elliptical nose would be longer than half the ramp",
+        )
+
+    r_edge = spec.planform.edge_radius
+    if r_edge > 0:
+        # flush lip: the nose cut through a round larger than ~0.6 t was measured to fail
+        lip_limit = 0.6 * lip_t if spec.lip.style == "flush" else d / 2.0
+        limit = min(d / 2.0, planform.apex_width_mm / 2.0, lip_limit)
+        if r_edge > limit:
+            raise SpecError(
+                "planform.edge_radius",
+                r_edge,
+                f"<= {limit:.2f} mm",
+                "the round must fit in half the throat depth, half the apex width "
+                "and (flush lip) 0.6 x the lip thickness",
+            )
+
+    roof, flo = lip.roof_z_mm, -drop
+    transition: Transition | None = None
+    spigot = 0.0
+    out = spec.outlet
+    if isinstance(out, RoundOutlet | RectOutlet):
+        # roof-aligned, but low enough that the insert's wall over the duct clears the skin
+        top = min(roof, -(spec.skin.thickness + spec.insert.wall))
+        if isinstance(out, RoundOutlet):
+            ow = oh = out.diameter
+        else:
+            ow, oh = out.width, out.height
+        transition = Transition(
+            x_start_mm=lip.nose_end_mm,
+            length_mm=out.transition_length,
+            width_mm=w,
+            roof_z_mm=roof,
+            floor_z_mm=flo,
+            kind=out.kind,
+            outlet_width_mm=ow,
+            outlet_height_mm=oh,
+            outlet_top_z_mm=top,
+        )
+        # the insert's wall over a sloping duct is thickened by √(1 + slope²) to stay square
+        # to the steepest ruling; lower the outlet until that wall clears the skin too
+        for _ in range(2):
+            wall = spec.insert.wall * transition.ruling_stretch
+            top = min(roof, -(spec.skin.thickness + wall))
+            transition = dataclasses.replace(transition, outlet_top_z_mm=top)
+        spigot = out.spigot_length
+        half = abs(transition.equivalent_cone_half_angle_deg)
+        if half > 30.0:
+            raise SpecError(
+                "outlet.transition_length",
+                out.transition_length,
+                f">= {min_transition_length_mm(transition):.0f} mm for this outlet",
+                f"equivalent-cone half-angle {half:.1f}° > 30°: "
+                "the duct would be a sudden step, not a transition",
+            )
+    else:
+        assert isinstance(out, NoOutlet)
+
+    return InletGeometry(
+        name=spec.name,
+        width_mm=w,
+        depth_mm=d,
+        planform=planform,
+        floor=floor,
+        lip=lip,
+        transition=transition,
+        edge_radius_mm=r_edge,
+        skin_thickness_mm=spec.skin.thickness,
+        spigot_length_mm=spigot,
+        overcut_mm=spec.cutter.overcut,
+    )
+
+

@@ -1,0 +1,87 @@
+"""Plan outlines of the opening and its offsets (pure numpy, mm).
+
+Every outline is a closed polyline, counter-clockwise, first point not repeated, in design
+coordinates (x downstream from the ramp start, y across the flow). Offsets are taken normal
+to the outline with round joins at the corners — the same construction as the wall offset
+:meth:`~ductgen.geometry.planform.Planform.wall_offset` — so the drawn flange, the trim line
+and the solids' offset edges agree to the sampling error (< 0.01 mm at the default sampling).
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from ductgen.geometry.planform import Planform
+
+__all__ = [
+    "Piece",
+    "footprint_pieces",
+    "offset_outline",
+    "opening_outline",
+    "polygon_area",
+    "polyline_lengths",
+]
+
+#: A smooth piece of an outline: points (k, 2) and their outward unit normals (k, 2).
+Piece = tuple[np.ndarray, np.ndarray]
+
+
+def footprint_pieces(pf: Planform, x_end: float, n: int = 400) -> list[Piece]:
+    """Smooth pieces of the CCW footprint 0 ≤ x ≤ ``x_end`` (mm): the y < 0 wall, the
+    downstream end line, the y > 0 wall, the apex line; walls straight at ±W/2 past L."""
+    x = np.union1d(np.linspace(0.0, pf.length_mm, n), pf.node_x_mm)
+    if x_end > pf.length_mm:
+        x = np.append(x, x_end)
+    hw = pf.half_width(x)
+    nrm = pf.wall_normal(x)
+    lower = (np.column_stack([x, -hw]), nrm * np.array([1.0, -1.0]))
+    upper = (np.column_stack([x, hw])[::-1], nrm[::-1])
+    h1, h0 = pf.width_mm / 2.0, float(hw[0])
+    end = (np.array([[x_end, -h1], [x_end, h1]]), np.array([[1.0, 0.0], [1.0, 0.0]]))
+    apex = (np.array([[0.0, h0], [0.0, -h0]]), np.array([[-1.0, 0.0], [-1.0, 0.0]]))
+    return [lower, end, upper, apex]
+
+
+def offset_outline(pieces: list[Piece], d: float, arc_step_deg: float = 3.0) -> np.ndarray:
+    """Offset a closed CCW outline made of smooth pieces outward by ``d`` ≥ 0 (mm), with
+    round joins at the convex corners between pieces. Returns (N, 2), first point not
+    repeated."""
+    out: list[np.ndarray] = []
+    k = len(pieces)
+    for i, (pts, nrm) in enumerate(pieces):
+        seg = pts + d * nrm
+        out.append(seg[:-1] if d == 0 else seg)
+        _, nxt_n = pieces[(i + 1) % k]
+        if d > 0:
+            a0 = math.atan2(nrm[-1, 1], nrm[-1, 0])
+            a1 = math.atan2(nxt_n[0, 1], nxt_n[0, 0])
+            turn = (a1 - a0) % (2 * math.pi)
+            if 1e-9 < turn < math.pi:
+                m = max(math.ceil(math.degrees(turn) / arc_step_deg), 1)
+                ang = a0 + turn * np.arange(1, m) / m
+                c = pts[-1]
+                out.append(np.column_stack([c[0] + d * np.cos(ang), c[1] + d * np.sin(ang)]))
+    poly = np.vstack(out)
+    keep = np.ones(len(poly), dtype=bool)
+    keep[1:] = np.linalg.norm(np.diff(poly, axis=0), axis=1) > 1e-9
+    return poly[keep]
+
+
+def opening_outline(pf: Planform, x_end: float, n: int = 400) -> np.ndarray:
+    """The air opening in the skin, 0 ≤ x ≤ ``x_end`` (the throat end), CCW (N, 2) in mm."""
+    return offset_outline(footprint_pieces(pf, x_end, n), 0.0)
+
+
+def polygon_area(xy: np.ndarray) -> float:
+    """Signed area of a closed polygon (mm², positive when counter-clockwise; shoelace)."""
+    x, y = xy[:, 0], xy[:, 1]
+    return float(0.5 * (np.dot(x, np.roll(y, -1)) - np.dot(y, np.roll(x, -1))))
+
+
+def polyline_lengths(xy: np.ndarray, closed: bool = True) -> np.ndarray:
+    """Cumulative arc length (mm) at each vertex, starting at 0; for a closed polyline the
+    last entry is the full perimeter (back to the first point)."""
+    p = np.vstack([xy, xy[:1]]) if closed else xy
+    return np.concatenate([[0.0], np.cumsum(np.linalg.norm(np.diff(p, axis=0), axis=1))])

@@ -1,0 +1,59 @@
+"""The build's file outputs other than the solids: one static table, no registration.
+
+Each entry maps an output kind (a name ``--only`` accepts) to its encoder, a function
+``(ctx) -> {suffix: bytes}`` that may add warnings to ``ctx.warnings``, and the file
+suffixes it writes after ``NAME-``. To add an output, add a line here.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass, field
+from typing import Any
+
+from ductgen.design import Design
+from ductgen.errors import DesignWarning
+from ductgen.spec.model import Spec
+
+__all__ = ["OUTPUTS", "BuildContext", "Output"]
+
+
+@dataclass
+class BuildContext:
+    """What an encoder may read (the spec, the design, the measured solids, the report so
+    far) and the warnings it may add."""
+
+    spec: Spec
+    design: Design
+    solids: dict[str, dict[str, Any]]
+    report: dict[str, Any]
+    warnings: list[DesignWarning] = field(default_factory=list)
+
+
+def _template(ctx: BuildContext) -> dict[str, bytes]:
+    """``template.dxf`` (1:1, lines + arcs) and ``template.pdf`` (tiled 1:1)."""
+    from ductgen.export.template import template_files
+
+    return template_files(ctx.design, ctx.spec, ctx.report["spec_sha256"])
+
+
+def _sheet(ctx: BuildContext) -> dict[str, bytes]:
+    """``sheet.pdf`` (dimensioned drawing sheet) and ``preview.png`` (3D view)."""
+    from ductgen.sheets import sheet_files
+
+    return sheet_files(ctx)
+
+
+@dataclass(frozen=True)
+class Output:
+    """One output kind: its encoder and the suffixes of the files it writes."""
+
+    encode: Callable[[BuildContext], dict[str, bytes]]
+    suffixes: tuple[str, ...]
+
+
+#: Output kind → encoder and suffixes, in build order.
+OUTPUTS: dict[str, Output] = {
+    "template": Output(_template, ("template.dxf", "template.pdf")),
+    "sheet": Output(_sheet, ("sheet.pdf", "preview.png")),
+}

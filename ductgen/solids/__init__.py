@@ -1,0 +1,1 @@
+"""Solids: the only package that imports the CAD kernel (cadquery / OCP)."""
