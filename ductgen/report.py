@@ -11,9 +11,40 @@ import json
 from typing import Any
 
 from ductgen.errors import DesignWarning
+from ductgen.flow.inputs import DuctShape
 from ductgen.geometry.inlet import InletGeometry
 
-__all__ = ["geometry_report", "report_bytes"]
+__all__ = ["duct_shape", "geometry_report", "report_bytes"]
+
+#: Name of the bundled standard wall table (the spec's default profile).
+_STANDARD_PROFILE = "naca-standard"
+
+
+def duct_shape(g: InletGeometry) -> DuctShape:
+    """The numbers the flow model needs from a built inlet (mm, mm², deg). The walls count
+    as standard when their table has the bundled standard table's ordinates."""
+    import numpy as np
+
+    from ductgen.geometry.profile import load_profile
+
+    t, pf, std = g.transition, g.planform.profile, load_profile(_STANDARD_PROFILE)
+    same = pf.x.shape == std.x.shape and bool(
+        np.allclose(pf.x, std.x, rtol=0, atol=1e-12)
+        and np.allclose(pf.f, std.f, rtol=0, atol=1e-12)
+    )
+    return DuctShape(
+        throat_width_mm=g.width_mm,
+        throat_depth_mm=g.depth_mm,
+        throat_area_mm2=g.throat_area_mm2,
+        ramp_angle_deg=g.floor.angle_deg,
+        ramp_length_mm=g.length_mm,
+        max_wall_divergence_deg=g.planform.max_divergence_deg,
+        standard_walls=same,
+        transition_length_mm=None if t is None else t.length_mm,
+        transition_inlet_area_mm2=None if t is None else t.throat_area_mm2,
+        transition_outlet_area_mm2=None if t is None else t.outlet_area_mm2,
+        transition_cone_half_angle_deg=None if t is None else t.equivalent_cone_half_angle_deg,
+    )
 
 
 def geometry_report(g: InletGeometry, solids: dict[str, dict[str, Any]]) -> dict[str, Any]:

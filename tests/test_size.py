@@ -8,7 +8,7 @@ from pathlib import Path
 import pytest
 
 from ductgen.cli.app import main
-from ductgen.flow.size import _with_throat, delivered_flow, size_throat
+from ductgen.sizing import _with_throat, delivered_flow, size_throat
 from ductgen.spec import load_spec, parse_spec
 
 TARGET = 0.05  # m^3/s

@@ -20,13 +20,15 @@ from ductgen.pipeline.builder import PRODUCERS, REPORT_HOOKS
 def _airflow_report(ctx) -> None:  # type: ignore[no-untyped-def]
     """Design warnings on the shape (always) and the ``flow`` section when [flow] is set."""
     from ductgen.flow.warnings import geometry_warnings
+    from ductgen.report import duct_shape
 
-    ctx.warnings.extend(geometry_warnings(ctx.geometry))
+    shape = duct_shape(ctx.geometry)
+    ctx.warnings.extend(geometry_warnings(shape))
     if ctx.spec.flow is None:
         return
     from ductgen.flow.report import flow_section
 
-    section, warnings = flow_section(ctx.spec.flow, ctx.geometry)
+    section, warnings = flow_section(ctx.spec.flow, shape)
     ctx.report["flow"] = section
     ctx.warnings.extend(warnings)
 
