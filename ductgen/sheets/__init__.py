@@ -23,7 +23,12 @@ def sheet_files(ctx: Any) -> dict[str, bytes]:
         ctx.warnings.append(DesignWarning("preview_unavailable", str(err)))
         png = None
     pdf = sheet_pdf(
-        ctx.geometry, ctx.spec, ctx.report["spec_sha256"], ctx.report["ductgen_version"], png
+        ctx.geometry,
+        ctx.spec,
+        ctx.report["spec_sha256"],
+        ctx.report["ductgen_version"],
+        png,
+        ctx.report.get("flow"),
     )
     files = {"sheet.pdf": pdf}
     if png is not None:
