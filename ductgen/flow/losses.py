@@ -11,9 +11,8 @@ Loss coefficients come from the ``fluids`` package rather than hand-written tabl
   the small-end velocity);
 * coolers: a stated K on the face velocity, or a measured pressure drop scaled with Q².
 
-The inlet's internal transition (rectangle → outlet) is treated as a conical diffuser of
-the same area ratio and equivalent-cone angle (Sovran & Klomp via Dixon), with diameters of
-circles of the same areas — an approximation for a non-round duct.
+The inlet's own internal transition (rectangle → outlet), where the methods disagree
+widely, has its own element with several methods: :mod:`ductgen.flow.transition`.
 """
 
 from __future__ import annotations

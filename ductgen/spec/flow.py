@@ -7,7 +7,11 @@ in several units; zero may be written bare. Dimensionless numbers (``recovery``,
 
 Losses behind the throat are a list of elements keyed by ``kind``: ``hose``, ``bend``,
 ``cooler`` (heat exchanger) and ``diffuser``. The inlet's own internal transition is added
-automatically from the geometry; the exit (``exit_cp``, ``exit_area``) closes the balance.
+automatically from the geometry (its loss method: ``transition_loss``,
+``transition_effectiveness``); the exit (``exit_cp``, ``exit_area``) closes the balance, and
+``exit_direction`` says whether the air is dumped inside the body (ram drag) or discharged
+rearward into the free stream (net momentum drag). ``flow_angle_deg`` is the local flow's yaw
+to the inlet centreline.
 """
 
 from __future__ import annotations
