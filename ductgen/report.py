@@ -103,7 +103,7 @@ def start_report(
     if spec.flow is not None:
         from ductgen.flow.report import flow_section
 
-        report["flow"], flow_warnings = flow_section(spec.flow, d.geometry)
+        report["flow"], flow_warnings = flow_section(spec.flow, d.duct)
         warnings += flow_warnings
     section, print_warnings = _print_section(spec, d, solids)
     if section is not None:

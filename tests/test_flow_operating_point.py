@@ -11,6 +11,7 @@ from ductgen.flow.operating_point import solve
 from ductgen.flow.report import build_system, flow_section
 from ductgen.geometry.inlet import build_geometry
 from ductgen.pipeline.builder import REPORT_HOOKS, BuildContext
+from ductgen.report import duct_shape
 from ductgen.spec import parse_spec
 
 
@@ -40,7 +41,7 @@ BASE_FLOW = {
 
 
 def _section(spec: Any) -> tuple[dict[str, Any], list[DesignWarning]]:
-    return flow_section(spec.flow, build_geometry(spec))
+    return flow_section(spec.flow, duct_shape(build_geometry(spec)))
 
 
 def test_energy_balance_and_budget_close() -> None:
@@ -72,7 +73,7 @@ def test_energy_balance_and_budget_close() -> None:
         "exit dynamic head",
     ]
     # re-evaluate the balance independently at the reported flow
-    system, _, _ = build_system(spec.flow, build_geometry(spec))
+    system, _, _ = build_system(spec.flow, duct_shape(build_geometry(spec)))
     q = f["volume_flow_m3_s"]
     assert abs(system.residual_pa(q)) <= 1e-6 * recovered
     assert f["mass_flow_kg_s"] == pytest.approx(f["density_kg_m3"] * q, rel=1e-12)
@@ -83,9 +84,10 @@ def test_energy_balance_and_budget_close() -> None:
     assert f["exit_area_m2"] == pytest.approx(0.015, rel=1e-12)
     v_exit = q / 0.015
     assert f["exit_velocity_m_s"] == pytest.approx(v_exit, rel=1e-12)
-    assert f["momentum_drag_n"] == pytest.approx(
-        f["mass_flow_kg_s"] * (f["speed_m_s"] - v_exit), rel=1e-9
-    )
+    # default: the air is dumped internally, so the drag is the ram drag m*V0 (issue 10)
+    assert f["exit_direction"] == "internal" and "net_momentum_drag_n" not in f
+    assert f["ram_drag_n"] == pytest.approx(f["mass_flow_kg_s"] * f["speed_m_s"], rel=1e-9)
+    assert f["momentum_drag_n"] == f["ram_drag_n"]
 
 
 def test_longer_hose_lowers_flow() -> None:
@@ -147,7 +149,7 @@ def test_no_operating_point_is_said_not_numbered() -> None:
     assert f["meets_required_flow"] is False
     codes = {w.code for w in warns}
     assert {"no_operating_point", "required_flow_not_met"} <= codes
-    system, _, _ = build_system(spec.flow, build_geometry(spec))
+    system, _, _ = build_system(spec.flow, duct_shape(build_geometry(spec)))
     assert not solve(system).found
 
 

@@ -14,9 +14,15 @@ from ductgen.flow.recovery import (
     ConstantRecovery,
     capture_height_ratio,
     capture_recovery,
-    load_recovery_table,
+    table_recovery,
 )
+from ductgen.flow.warnings import IVR_LOW
 from ductgen.spec import load_spec
+from ductgen.spec.recovery_table import read_recovery_table
+
+
+def load_recovery_table(path: Path):  # type: ignore[no-untyped-def]
+    return table_recovery(*read_recovery_table(path), path=str(path))
 
 
 def _numeric_capture(s: float) -> tuple[float, float]:
@@ -50,7 +56,7 @@ def test_capture_model_closed_form(s: float) -> None:
 def test_capture_recovery_rises_with_ivr() -> None:
     # [derived] a larger IVR swallows a taller layer of faster air
     model = CaptureRecovery(delta_over_depth=1.2, loss_factor=0.95)
-    ivr = np.linspace(0.05, 2.0, 200)
+    ivr = np.linspace(0.3, 2.0, 200)  # above the zero-flow floor
     r = np.array([model(v) for v in ivr])
     assert np.all(np.diff(r) > 0)
     assert r[-1] < 0.95  # never above the loss factor times free-stream recovery
@@ -117,3 +123,22 @@ def test_table_path_relative_to_spec_folder(tmp_path: Path) -> None:
     s = load_spec(spec)
     assert s.flow is not None and s.flow.recovery_kind == "table"
     assert Path(str(s.flow.recovery)) == (sub / "rec.csv").resolve()
+
+
+def test_low_flow_recovery_floor() -> None:
+    # issue 10: the capture estimate alone falls to 0 as IVR -> 0, while a flush inlet at zero
+    # flow keeps part of the boundary layer's total pressure (about 0.5: a recalled figure,
+    # not verified here). The model must be continuous, monotone, finite and > 0 at IVR -> 0.
+    for d_over in (0.3, 1.0, 2.5):
+        model = CaptureRecovery(delta_over_depth=d_over, loss_factor=0.95)
+        ivr = np.concatenate([[0.0, 1e-12, 1e-6], np.linspace(1e-4, 2.0, 4001)])
+        r = np.array([model(v) for v in ivr])
+        assert np.all(np.isfinite(r)) and r[0] > 0
+        assert r[0] == pytest.approx(0.5, abs=1e-12)  # the stated floor
+        assert np.all(np.diff(r) >= 0)  # monotone (non-decreasing) in IVR
+        # continuous: no jump larger than the fine grid's slope allows
+        assert np.max(np.abs(np.diff(r))) < 5e-3
+        # above the floor the capture estimate is used unchanged
+        hi = ivr > IVR_LOW * 3
+        expect = [0.95 * capture_recovery(v / d_over) for v in ivr[hi]]
+        assert np.allclose(r[hi], np.maximum(expect, 0.5), rtol=0, atol=1e-15)

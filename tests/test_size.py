@@ -8,7 +8,7 @@ from pathlib import Path
 import pytest
 
 from ductgen.cli.app import main
-from ductgen.flow.size import _with_throat, delivered_flow, size_throat
+from ductgen.sizing import _with_throat, delivered_flow, size_throat
 from ductgen.spec import load_spec, parse_spec
 
 TARGET = 0.05  # m^3/s
@@ -169,3 +169,21 @@ def test_size_then_build_delivers_flow(tmp_path: Path) -> None:
     assert flow["volume_flow_m3_s"] == pytest.approx(0.040, rel=0.01)
     assert flow["meets_required_flow"] is True
     assert (tmp_path / "out" / "report.json").is_file()
+
+
+def test_written_spec_loads_back_as_toml_and_json(tmp_path: Path, plain) -> None:  # type: ignore[no-untyped-def]
+    # the TOML comes from tomli-w (a maintained writer); both files must load back to the
+    # same validated spec, and TOML keeps the header as comments
+    from ductgen.sizing import sized_spec_data
+    from ductgen.spec.write import spec_text
+
+    data = sized_spec_data(plain)
+    specs = []
+    for suffix in (".toml", ".json"):
+        path = tmp_path / f"s{suffix}"
+        path.write_text(spec_text(data, path, "made by a test\nsecond line"), encoding="utf-8")
+        specs.append(load_spec(path))
+    assert specs[0] == specs[1] == parse_spec(data)
+    assert (tmp_path / "s.toml").read_text().startswith("# made by a test\n# second line\n")
+    with pytest.raises(ValueError):
+        spec_text(data, tmp_path / "s.yaml")

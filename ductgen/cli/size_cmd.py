@@ -45,11 +45,11 @@ def size_command(
         float, typer.Option("--angle", help="ramp angle, deg (5-7 recommended)")
     ] = DEFAULT_RAMP_ANGLE_DEG,
     max_ivr: Annotated[
-        float,
+        float | None,
         typer.Option(
-            "--max-ivr", help="largest inlet velocity ratio accepted (common practice: 1)"
+            "--max-ivr", help="largest inlet velocity ratio accepted (default 1, common practice)"
         ),
-    ] = 1.0,
+    ] = None,
     spec: Annotated[
         Path | None, typer.Option("--spec", help="spec whose lip, outlet and flow losses to use")
     ] = None,
@@ -65,43 +65,28 @@ def size_command(
     ] = False,
 ) -> None:
     """Throat W, D and ramp length L that deliver a flow at a speed, through the spec's losses."""
-    from ductgen.atomic import check_free, write_atomic
-    from ductgen.errors import SpecError
-    from ductgen.flow.size import size_result_dict, size_throat, sized_spec_data, toml_text
-    from ductgen.spec import load_spec, parse_spec, read_spec_data
+    from ductgen.sizing import SizeRequest, run_size
 
     q = _quantity("--flow", flow, "volume_flow", "m^3/s")
     v = _quantity("--speed", speed, "speed", "m/s")
-    suffix = None
-    if write_spec is not None:
-        suffix = write_spec.suffix.lower()
-        if suffix not in (".toml", ".json"):
-            raise SpecError(
-                "--write-spec",
-                str(write_spec),
-                "a .toml or .json path",
-                "the format follows the suffix",
-            )
-        check_free([write_spec], force)  # refuse before any work
-    base = load_spec(spec) if spec is not None else None
-    raw = read_spec_data(spec) if spec is not None else None
-    result = size_throat(
-        q, v, aspect=aspect, angle_deg=angle, base=base, name=name, max_ivr=max_ivr
+    header = (
+        f"written by ductgen size --flow '{flow}' --speed '{speed}'"
+        f" --aspect {aspect:g} --angle {angle:g}" + (f" --spec {spec}" if spec is not None else "")
     )
-    out = size_result_dict(result)
-
-    if write_spec is not None:
-        data = sized_spec_data(result, raw)
-        parse_spec(data, source="(sized spec)")  # it must load back as written
-        header = (
-            f"written by ductgen size --flow '{flow}' --speed '{speed}'"
-            f" --aspect {aspect:g} --angle {angle:g}"
-            + (f" --spec {spec}" if spec is not None else "")
+    out = run_size(
+        SizeRequest(
+            flow_m3_s=q,
+            speed_m_s=v,
+            aspect=aspect,
+            angle_deg=angle,
+            max_ivr=max_ivr,
+            spec_path=spec,
+            name=name,
+            write_spec=write_spec,
+            force=force,
+            header=header,
         )
-        text = toml_text(data, header) if suffix == ".toml" else json.dumps(data, indent=2) + "\n"
-        write_atomic(write_spec, text.encode(), force=force)
-        out["spec_file"] = str(write_spec)
-
+    )
     if as_json:
         typer.echo(json.dumps(out, indent=2, allow_nan=False))
         return

@@ -15,6 +15,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from ductgen.errors import DesignWarning, SpecError
+from ductgen.flow.inputs import DuctShape
+from ductgen.flow.warnings import geometry_warnings
 from ductgen.geometry.fabrication import (
     Fabrication,
     FlangeLayout,
@@ -34,9 +36,22 @@ from ductgen.geometry.planform import Planform
 from ductgen.geometry.profile import Profile, load_profile
 from ductgen.geometry.skin import FLAT, SkinMap
 from ductgen.geometry.transition import Transition
-from ductgen.spec.model import DEFAULT_RAMP_ANGLE_DEG, NoOutlet, RectOutlet, RoundOutlet, Spec
+from ductgen.spec.model import (
+    DEFAULT_RAMP_ANGLE_DEG,
+    NoOutlet,
+    PlanformSpec,
+    RectOutlet,
+    RoundOutlet,
+    Spec,
+)
 
-__all__ = ["Design", "build_design", "fabrication_from_spec", "geometry_from_spec"]
+__all__ = [
+    "Design",
+    "build_design",
+    "duct_shape",
+    "fabrication_from_spec",
+    "geometry_from_spec",
+]
 
 
 @dataclass(frozen=True)
@@ -51,6 +66,7 @@ class Design:
         spigot: the round hose spigot, or None (rectangular collar / no outlet).
         plug_trim_xy: the plug's base-plate edge in plan, (N, 2) CCW.
         skin: the skin map from design to model coordinates.
+        duct: the numbers the airflow model reads.
         warnings: design warnings on the shape and the fabrication layout.
         fabrication_checked: whether the insert/plug rules were checked (a cutter-only
             build skips them, so a cutter can be made for a throat too small for a part).
@@ -63,8 +79,33 @@ class Design:
     spigot: Spigot | None
     plug_trim_xy: np.ndarray
     skin: SkinMap
+    duct: DuctShape
     warnings: tuple[DesignWarning, ...]
     fabrication_checked: bool = True
+
+
+def duct_shape(g: InletGeometry) -> DuctShape:
+    """The numbers the flow model needs from the geometry (mm, mm², deg). The walls count
+    as standard when their table has the ordinates of the spec's default wall table."""
+    t, pf = g.transition, g.planform.profile
+    std = load_profile(PlanformSpec.model_fields["profile"].default)
+    same = pf.x.shape == std.x.shape and bool(
+        np.allclose(pf.x, std.x, rtol=0, atol=1e-12)
+        and np.allclose(pf.f, std.f, rtol=0, atol=1e-12)
+    )
+    return DuctShape(
+        throat_width_mm=g.width_mm,
+        throat_depth_mm=g.depth_mm,
+        throat_area_mm2=g.throat_area_mm2,
+        ramp_angle_deg=g.floor.angle_deg,
+        ramp_length_mm=g.length_mm,
+        max_wall_divergence_deg=g.planform.max_divergence_deg,
+        standard_walls=same,
+        transition_length_mm=None if t is None else t.length_mm,
+        transition_inlet_area_mm2=None if t is None else t.throat_area_mm2,
+        transition_outlet_area_mm2=None if t is None else t.outlet_area_mm2,
+        transition_cone_half_angle_deg=None if t is None else t.equivalent_cone_half_angle_deg,
+    )
 
 
 def fabrication_from_spec(spec: Spec) -> Fabrication:
@@ -95,11 +136,10 @@ def build_design(
     Raises:
         SpecError: a cross-field rule is broken (every fabrication problem at once).
     """
-    from ductgen.flow.warnings import geometry_warnings
-
     g = geometry_from_spec(spec, profile)
     fab = fabrication_from_spec(spec)
-    warnings: list[DesignWarning] = list(geometry_warnings(g))
+    duct = duct_shape(g)
+    warnings: list[DesignWarning] = list(geometry_warnings(duct))
     if check_fabrication:
         validate_fabrication(g, fab)
         warnings += fabrication_warnings(g, fab)
@@ -111,6 +151,7 @@ def build_design(
         spigot=spigot_of(g, fab),
         plug_trim_xy=plug_trim_outline(g, fab.plug),
         skin=FLAT,
+        duct=duct,
         warnings=tuple(warnings),
         fabrication_checked=check_fabrication,
     )

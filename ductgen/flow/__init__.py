@@ -1,8 +1,9 @@
 """Airflow estimate (brief §6): air, boundary layer, ram recovery, losses, operating point.
 
 Pure functions in SI units; no CAD kernel. The report section is made by
-:func:`ductgen.flow.report.flow_section`; ``ductgen size`` uses
-:func:`ductgen.flow.size.size_throat`.
+:func:`ductgen.flow.report.flow_section` from a
+:class:`~ductgen.flow.inputs.DuctShape` (plain numbers; this package never imports the
+geometry); ``ductgen size`` lives above both, in :mod:`ductgen.sizing`.
 """
 
 from ductgen.flow.atmosphere import Air, standard_air

@@ -7,6 +7,10 @@ u/V = (y/δ)^(1/7) (Prandtl/Schlichting, *Boundary-Layer Theory*):
 * δ/x = 0.37 Re_x^(−1/5)
 * displacement thickness δ* = ∫(1 − u/V) dy = δ/8
 * momentum thickness θ = ∫(u/V)(1 − u/V) dy = 7δ/72
+
+White (*Fluid Mechanics*) gives δ/x ≈ 0.16 Re_x^(−1/7) for the same layer; the two agree
+within a few per cent, but a warning threshold can fall between them, so both are reported
+(``thickness_white_m``). The recovery model uses the 0.37 Re^(−1/5) value.
 """
 
 from __future__ import annotations
@@ -39,6 +43,11 @@ class BoundaryLayer:
     def momentum_thickness_m(self) -> float:
         """θ = 7δ/72 (m)."""
         return 7.0 * self.thickness_m / 72.0
+
+    @property
+    def thickness_white_m(self) -> float:
+        """δ by White's 0.16 Re_x^(−1/7) (m)."""
+        return 0.16 * self.run_length_m * self.reynolds ** (-1.0 / 7.0)
 
 
 def turbulent_flat_plate(

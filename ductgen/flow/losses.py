@@ -11,9 +11,8 @@ Loss coefficients come from the ``fluids`` package rather than hand-written tabl
   the small-end velocity);
 * coolers: a stated K on the face velocity, or a measured pressure drop scaled with Q².
 
-The inlet's internal transition (rectangle → outlet) is treated as a conical diffuser of
-the same area ratio and equivalent-cone angle (Sovran & Klomp via Dixon), with diameters of
-circles of the same areas — an approximation for a non-round duct.
+The inlet's own internal transition (rectangle → outlet), where the methods disagree
+widely, has its own element with several methods: :mod:`ductgen.flow.transition`.
 """
 
 from __future__ import annotations
@@ -33,6 +32,7 @@ __all__ = [
     "CoolerElement",
     "Element",
     "HoseElement",
+    "budget_item",
     "cone_k",
     "equivalent_cone_included_angle_deg",
     "gradual_expansion_k",
@@ -97,7 +97,7 @@ class Element:
         raise NotImplementedError
 
 
-def _item(name: str, v_m_s: float, k: float, air: Air) -> BudgetItem:
+def budget_item(name: str, v_m_s: float, k: float, air: Air) -> BudgetItem:
     """Budget line of a loss K at velocity V: Δp = K·½ρV² (Pa)."""
     return BudgetItem(name, v_m_s, k, k * 0.5 * air.density_kg_m3 * v_m_s * v_m_s)
 
@@ -125,7 +125,7 @@ class HoseElement(Element):
         v = q_m3_s / _area(self.diameter_m)
         re = v * self.diameter_m / air.kinematic_viscosity_m2_s
         k = _darcy(re, self.roughness_m / self.diameter_m) * self.length_m / self.diameter_m
-        return _item(self.name, v, k, air)
+        return budget_item(self.name, v, k, air)
 
 
 @dataclass(frozen=True)
@@ -147,7 +147,7 @@ class BendElement(Element):
         re = max(v * self.diameter_m / air.kinematic_viscosity_m2_s, 1.0)
         fd = _darcy(re, self.roughness_m / self.diameter_m)  # laminar-safe, unlike Clamond alone
         k = float(bend_rounded(self.diameter_m, self.angle_deg, fd=fd, rc=self.radius_m, Re=re))
-        return _item(self.name, v, k, air)
+        return budget_item(self.name, v, k, air)
 
 
 @dataclass(frozen=True)
@@ -185,7 +185,7 @@ class ConeElement(Element):
 
     def evaluate(self, q_m3_s: float, air: Air) -> BudgetItem:
         v = q_m3_s / self.area_m2
-        return _item(self.name, v, self.k_value, air)
+        return budget_item(self.name, v, self.k_value, air)
 
 
 @dataclass(frozen=True)
@@ -205,7 +205,7 @@ class CoolerElement(Element):
     def evaluate(self, q_m3_s: float, air: Air) -> BudgetItem:
         v = q_m3_s / self.face_area_m2 if self.face_area_m2 else None
         if self.k_value is not None and v is not None:
-            return _item(self.name, v, self.k_value, air)
+            return budget_item(self.name, v, self.k_value, air)
         assert self.dp_ref_pa is not None and self.q_ref_m3_s is not None
         dp = self.dp_ref_pa * (q_m3_s / self.q_ref_m3_s) ** 2
         k = dp / (0.5 * air.density_kg_m3 * v * v) if v else None

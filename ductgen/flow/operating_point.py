@@ -85,7 +85,10 @@ class OperatingPoint:
     """Result of :func:`solve`.
 
     ``found`` is False when no positive flow balances; then the flow fields are None and
-    ``reason`` says why.
+    ``reason`` says why. ``ram_drag_n`` is the ram (internal) drag ṁ·V∞ (N): the free-stream
+    momentum the inlet takes in. ``net_momentum_drag_n`` = ṁ·(V∞ − V_exit) (N) credits the
+    exit jet as thrust, which holds only where the exit discharges rearward into the free
+    stream (and still omits the (p_e − p∞)·A_e term).
     """
 
     found: bool
@@ -95,7 +98,8 @@ class OperatingPoint:
     ram_recovery: float | None = None
     recovered_pa: float | None = None
     exit_velocity_m_s: float | None = None
-    momentum_drag_n: float | None = None
+    ram_drag_n: float | None = None
+    net_momentum_drag_n: float | None = None
     residual_pa: float | None = None
     budget: list[BudgetItem] = field(default_factory=list)
     reason: str = ""
@@ -147,14 +151,24 @@ def solve(system: System) -> OperatingPoint:
         ram_recovery=system.recovery(system.ivr(q)),
         recovered_pa=system.recovered_pa(q),
         exit_velocity_m_s=v_e,
-        momentum_drag_n=m * (system.speed_m_s - v_e),
+        ram_drag_n=m * system.speed_m_s,
+        net_momentum_drag_n=m * (system.speed_m_s - v_e),
         residual_pa=system.residual_pa(q),
         budget=budget,
     )
 
 
-def solve_band(system: System, delta: float = 0.1) -> tuple[OperatingPoint, OperatingPoint]:
-    """Operating points with the recovery lowered and raised by ``delta`` (capped at 1)."""
-    low = solve(replace(system, recovery=ShiftedRecovery(system.recovery, -delta)))
-    high = solve(replace(system, recovery=ShiftedRecovery(system.recovery, +delta)))
+def solve_band(
+    system: System,
+    delta: float = 0.1,
+    low_system: System | None = None,
+    high_system: System | None = None,
+) -> tuple[OperatingPoint, OperatingPoint]:
+    """Operating points with the recovery lowered and raised by ``delta`` (capped at 1).
+
+    ``low_system``/``high_system`` replace the system's elements on that side (e.g. the
+    lossiest and the least lossy transition method); their recovery is ignored.
+    """
+    low = solve(replace(low_system or system, recovery=ShiftedRecovery(system.recovery, -delta)))
+    high = solve(replace(high_system or system, recovery=ShiftedRecovery(system.recovery, delta)))
     return low, high

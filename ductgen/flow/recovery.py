@@ -24,21 +24,36 @@ Above δ the free stream (recovery 1) is added: with s = Q/(W V δ) = IVR·D/δ,
     h > δ  (s > 7/8):  η = (7/10 + s − 7/8) / s = 1 − 0.175/s,
 
 continuous at h = δ (η = 0.8) and rising monotonically with IVR. The lip and ramp losses are
-lumped into a factor ``flow.inlet_loss_factor`` (default 0.95, an assumption): the model's
-ram recovery is that factor times η. A constant or tabulated recovery is used exactly as
-given (the factor does not apply to it).
+lumped into a factor ``flow.inlet_loss_factor`` (default 0.95, an assumption, no source):
+the model's ram recovery is that factor times η. A constant or tabulated recovery is used
+exactly as given (neither the factor nor the floor below applies to it).
+
+Low flow: a floor
+-----------------
+As IVR → 0 the capture height h → 0 and the estimate falls to 0, but a real flush inlet at
+zero through-flow is a dead-ended cavity under the boundary layer: the air that stagnates
+against the lip and fills the cavity keeps part of its total pressure, so the recovery stays
+well above zero. The capture picture (only a streamtube of height h feeds the throat) fails
+there, where spillage and recirculation at the lip set the pressure. ductgen therefore uses
+
+    η = max(η_floor, factor · η_capture),   η_floor = 0.5,
+
+continuous and non-decreasing in IVR. The 0.5 is a *recalled* figure for flush inlets at
+zero flow, not verified here: an assumption. The capture estimate is meant for
+0.3 ≤ IVR ≤ 1 (``CAPTURE_IVR_RANGE``); below 0.3, where high-loss systems run, the report
+warns (``ivr_low``).
 """
 
 from __future__ import annotations
 
-import csv
-import math
 from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
 
 __all__ = [
+    "CAPTURE_IVR_RANGE",
+    "ZERO_FLOW_RECOVERY",
     "CaptureRecovery",
     "ConstantRecovery",
     "RecoveryModel",
@@ -46,9 +61,15 @@ __all__ = [
     "TableRecovery",
     "capture_height_ratio",
     "capture_recovery",
-    "find_recovery_table",
-    "load_recovery_table",
+    "table_recovery",
 ]
+
+#: Ram recovery of a flush inlet at zero through-flow: a recalled figure, not verified here
+#: (an assumption); the floor of the capture estimate.
+ZERO_FLOW_RECOVERY = 0.5
+#: IVR range the capture estimate is meant for (below it the report warns ``ivr_low``;
+#: common practice, no source).
+CAPTURE_IVR_RANGE = (0.3, 1.0)
 
 
 def capture_height_ratio(s: float) -> float:
@@ -95,17 +116,20 @@ class CaptureRecovery(RecoveryModel):
 
     delta_over_depth: float
     loss_factor: float = 0.95
+    floor: float = ZERO_FLOW_RECOVERY
     kind: str = "capture"
     assumption: str = (
         "first-principles estimate, not a published curve: the inlet swallows the lowest "
         "layer of a 1/7-power turbulent boundary layer, recovery = mass-averaged total "
-        "pressure of that layer, 0.8 (h/delta)^(2/7), times inlet_loss_factor"
+        "pressure of that layer, 0.8 (h/delta)^(2/7), times inlet_loss_factor (an "
+        "assumption); floored at 0.5, a recalled zero-flow figure not verified here (an "
+        "assumption); meant for IVR 0.3-1"
     )
 
     def __call__(self, ivr: float) -> float:
         if self.delta_over_depth <= 0.0:
-            return self.loss_factor
-        return self.loss_factor * capture_recovery(ivr / self.delta_over_depth)
+            return max(self.floor, self.loss_factor)
+        return max(self.floor, self.loss_factor * capture_recovery(ivr / self.delta_over_depth))
 
 
 @dataclass(frozen=True)
@@ -158,64 +182,10 @@ class ShiftedRecovery(RecoveryModel):
         return min(self.base(ivr) + self.delta, 1.0)
 
 
-def find_recovery_table(text: str) -> Path:
-    """Resolve a recovery-table path: as given (the loader makes it relative to the spec's
-    folder), else among the bundled data (``ductgen/data/``, its ``profiles/``).
-
-    Raises:
-        ValueError: no such file.
-    """
-    from ductgen.resources import data_path, profiles_dir
-
-    p = Path(text).expanduser()
-    candidates = [p] if p.is_absolute() else [p, data_path() / p, profiles_dir() / p]
-    for c in candidates:
-        if c.is_file():
-            return c.resolve()
-    raise ValueError(
-        f"recovery table {text!r} not found (looked in the spec's folder and the bundled data)"
+def table_recovery(
+    ivr: tuple[float, ...], recovery: tuple[float, ...], path: str = ""
+) -> TableRecovery:
+    """A :class:`TableRecovery` from validated columns (see ``ductgen.spec.recovery_table``)."""
+    return TableRecovery(
+        ivr=np.asarray(ivr, float), recovery=np.asarray(recovery, float), path=path
     )
-
-
-def load_recovery_table(path: str | Path) -> TableRecovery:
-    """Read and validate a recovery table: CSV with columns ``ivr,recovery`` (a header row
-    and ``#`` comment lines allowed); IVR ≥ 0 strictly increasing, recovery in [0, 1].
-
-    Raises:
-        ValueError: a row that breaks a rule, named by line number.
-    """
-    path = Path(path)
-    try:
-        text = path.read_text(encoding="utf-8")
-    except OSError as err:
-        raise ValueError(f"cannot read recovery table {path}: {err.strerror or err}") from err
-    rows: list[tuple[float, float]] = []
-    lines = [
-        (n, ln)
-        for n, ln in enumerate(text.splitlines(), 1)
-        if ln.strip() and not ln.lstrip().startswith("#")
-    ]
-    for n, cells in ((n, next(csv.reader([ln]))) for n, ln in lines):
-        if len(cells) != 2:
-            raise ValueError(f"{path.name} line {n}: expected two columns 'ivr,recovery'")
-        try:
-            a, b = float(cells[0]), float(cells[1])
-        except ValueError:
-            if not rows and n == lines[0][0]:
-                continue  # header row
-            raise ValueError(f"{path.name} line {n}: not numbers: {','.join(cells)}") from None
-        if not (math.isfinite(a) and math.isfinite(b)):
-            raise ValueError(f"{path.name} line {n}: values must be finite")
-        if a < 0:
-            raise ValueError(f"{path.name} line {n}: IVR {a:g} is negative")
-        if not 0.0 <= b <= 1.0:
-            raise ValueError(f"{path.name} line {n}: recovery {b:g} outside [0, 1]")
-        if rows and a <= rows[-1][0]:
-            raise ValueError(
-                f"{path.name} line {n}: IVR must increase strictly ({a:g} after {rows[-1][0]:g})"
-            )
-        rows.append((a, b))
-    if len(rows) < 2:
-        raise ValueError(f"{path.name}: a recovery table needs at least two rows")
-    arr = np.array(rows)
-    return TableRecovery(ivr=arr[:, 0], recovery=arr[:, 1], path=str(path))

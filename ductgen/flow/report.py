@@ -1,39 +1,62 @@
-"""The ``flow`` section of ``report.json`` (brief §5, §6) from ``[flow]`` and the geometry.
+"""The ``flow`` section of ``report.json`` (brief §5, §6) from ``[flow]`` and the duct shape.
 
 :func:`flow_analysis` assembles the air, the boundary layer, the recovery model, the loss
-elements (the internal transition first, taken from the geometry) and the exit into a
-:class:`~ductgen.flow.operating_point.System`, solves it, and :func:`flow_section` turns the
-result into report keys (SI, unit in each name) and design warnings.
+elements (the internal transition first, from the :class:`~ductgen.flow.inputs.DuctShape`)
+and the exit into a :class:`~ductgen.flow.operating_point.System`, solves it and its
+sensitivity band; :func:`flow_section` turns the result into report keys (SI, unit in each
+name) and flow warnings.
+
+The sensitivity band shifts the recovery by ± 0.1 *and* takes the lossiest (low end) and the
+least lossy (high end) of the transition-loss methods, whose spread is as large as the
+recovery's uncertainty on short ducts (:mod:`ductgen.flow.transition`).
 """
 
 from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import Any
+from typing import Any, Literal
 
 from ductgen.errors import DesignWarning
 from ductgen.flow.atmosphere import Air, standard_air
 from ductgen.flow.boundary_layer import BoundaryLayer, turbulent_flat_plate
+from ductgen.flow.inputs import DuctShape
 from ductgen.flow.losses import BendElement, ConeElement, CoolerElement, Element, HoseElement
 from ductgen.flow.operating_point import OperatingPoint, System, solve, solve_band
 from ductgen.flow.recovery import (
+    CAPTURE_IVR_RANGE,
     CaptureRecovery,
     ConstantRecovery,
     RecoveryModel,
     TableRecovery,
-    load_recovery_table,
+    table_recovery,
 )
-from ductgen.flow.warnings import DELTA_OVER_DEPTH_MAX, MACH_MAX
-from ductgen.geometry.inlet import InletGeometry
+from ductgen.flow.transition import TransitionElement, ideal_pressure_recovery
+from ductgen.flow.warnings import flow_warnings
 from ductgen.spec.flow import BendLoss, CoolerLoss, DiffuserLoss, FlowSpec, HoseLoss
+from ductgen.spec.recovery_table import read_recovery_table
 
-__all__ = ["SENSITIVITY_DELTA", "FlowAnalysis", "build_system", "flow_analysis", "flow_section"]
+__all__ = [
+    "DRAG_NOTE",
+    "SENSITIVITY_DELTA",
+    "FlowAnalysis",
+    "build_system",
+    "flow_analysis",
+    "flow_section",
+]
 
 #: Recovery shift of the sensitivity band (brief §6).
 SENSITIVITY_DELTA = 0.1
 
 TRANSITION_NAME = "internal transition"
+
+DRAG_NOTE = (
+    "momentum_drag_n is the ram (internal) drag m*V0 unless flow.exit_direction = 'rearward', "
+    "when it is the net m*(V0 - V_exit) (still without the (p_e - p0)*A_e term). The external "
+    "drag increment of the opening (lip, ramp, spillage) is not included: no sourced table "
+    "for it is available to ductgen"
+)
+INLET_LOSS_NOTE = "assumption, no source: lip and ramp losses lumped into one factor"
 
 
 def _elements(flow: FlowSpec) -> list[Element]:
@@ -66,8 +89,27 @@ def _recovery(flow: FlowSpec, delta_over_depth: float) -> RecoveryModel:
         assert isinstance(flow.recovery, float)
         return ConstantRecovery(flow.recovery)
     if kind == "table":
-        return load_recovery_table(str(flow.recovery))
+        path = str(flow.recovery)
+        return table_recovery(*read_recovery_table(path), path=path)
     return CaptureRecovery(delta_over_depth=delta_over_depth, loss_factor=flow.inlet_loss_factor)
+
+
+def _transition(
+    flow: FlowSpec, shape: DuctShape, pick: Literal["method", "min", "max"]
+) -> TransitionElement | None:
+    if not shape.has_transition:
+        return None
+    assert shape.transition_inlet_area_mm2 and shape.transition_outlet_area_mm2
+    assert shape.transition_cone_half_angle_deg is not None
+    return TransitionElement(
+        TRANSITION_NAME,
+        shape.transition_inlet_area_mm2 * 1e-6,
+        shape.transition_outlet_area_mm2 * 1e-6,
+        2.0 * shape.transition_cone_half_angle_deg,
+        method=flow.transition_loss,
+        effectiveness=flow.transition_effectiveness,
+        pick=pick,
+    )
 
 
 @dataclass(frozen=True)
@@ -82,22 +124,20 @@ class FlowAnalysis:
     flow: FlowSpec
 
 
-def build_system(flow: FlowSpec, g: InletGeometry) -> tuple[System, Air, BoundaryLayer]:
-    """The duct system of a spec's flow section and the inlet's geometry."""
+def build_system(
+    flow: FlowSpec, shape: DuctShape, pick: Literal["method", "min", "max"] = "method"
+) -> tuple[System, Air, BoundaryLayer]:
+    """The duct system of a spec's flow section and the inlet's shape.
+
+    ``pick`` chooses the transition's K: the spec's method, or the min/max over methods.
+    """
     air = standard_air(flow.altitude, flow.temperature_offset, flow.density)
     bl = turbulent_flat_plate(flow.speed, flow.run_length, air.kinematic_viscosity_m2_s)
-    depth_m, throat_m2 = g.depth_mm * 1e-3, g.throat_area_mm2 * 1e-6
+    depth_m, throat_m2 = shape.throat_depth_mm * 1e-3, shape.throat_area_mm2 * 1e-6
     elements: list[Element] = []
-    t = g.transition
+    t = _transition(flow, shape, pick)
     if t is not None:
-        elements.append(
-            ConeElement.from_areas(
-                TRANSITION_NAME,
-                t.throat_area_mm2 * 1e-6,
-                t.outlet_area_mm2 * 1e-6,
-                2.0 * t.equivalent_cone_half_angle_deg,
-            )
-        )
+        elements.append(t)
     elements += _elements(flow)
     exit_area = flow.exit_area
     if exit_area is None:
@@ -110,28 +150,66 @@ def build_system(flow: FlowSpec, g: InletGeometry) -> tuple[System, Air, Boundar
         recovery=_recovery(flow, bl.thickness_m / depth_m),
         elements=tuple(elements),
         exit_area_m2=exit_area,
-        exit_cp=flow.exit_cp,
+        exit_cp=flow.exit_cp_value,
     )
     return system, air, bl
 
 
-def flow_analysis(flow: FlowSpec, g: InletGeometry) -> FlowAnalysis:
+def flow_analysis(flow: FlowSpec, shape: DuctShape) -> FlowAnalysis:
     """Solve the operating point and its sensitivity band."""
-    system, air, bl = build_system(flow, g)
+    system, air, bl = build_system(flow, shape)
     point = solve(system)
-    band = solve_band(system, SENSITIVITY_DELTA)
+    band = solve_band(
+        system,
+        SENSITIVITY_DELTA,
+        low_system=build_system(flow, shape, "max")[0],
+        high_system=build_system(flow, shape, "min")[0],
+    )
     return FlowAnalysis(
         air=air, boundary_layer=bl, system=system, point=point, band=band, flow=flow
     )
 
 
-def flow_section(flow: FlowSpec, g: InletGeometry) -> tuple[dict[str, Any], list[DesignWarning]]:
+def _transition_report(fa: FlowAnalysis) -> dict[str, Any] | None:
+    t = next((e for e in fa.system.elements if isinstance(e, TransitionElement)), None)
+    if t is None or not fa.point.found:
+        return None
+    assert fa.point.volume_flow_m3_s is not None
+    ks = t.k_by_method(fa.point.volume_flow_m3_s, fa.air)
+    return {
+        "method": t.method,
+        "effectiveness": t.effectiveness,
+        "ideal_pressure_recovery": ideal_pressure_recovery(t.a_out_m2 / t.a_in_m2),
+        "k": ks[t.method],
+        "k_by_method": ks,
+        "basis": "conical diffuser of the same area ratio and equivalent-cone angle; "
+        "effectiveness: K = (1 - eta_D)(1 - (A1/A2)^2), Blevins 7.4, default eta_D 0.6 for "
+        "an offset rectangle-to-round duct fed with distorted air; crane/rennels/idelchik: "
+        "fluids.fittings.diffuser_conical; K on the small-end velocity",
+    }
+
+
+def _drag(flow: FlowSpec, p: OperatingPoint) -> dict[str, Any]:
+    out: dict[str, Any] = {
+        "exit_direction": flow.exit_direction,
+        "ram_drag_n": p.ram_drag_n,
+        "momentum_drag_n": p.ram_drag_n,
+        "drag_note": DRAG_NOTE,
+    }
+    if flow.exit_direction == "rearward":
+        out["net_momentum_drag_n"] = p.net_momentum_drag_n
+        out["momentum_drag_n"] = p.net_momentum_drag_n
+    return out
+
+
+def flow_section(flow: FlowSpec, shape: DuctShape) -> tuple[dict[str, Any], list[DesignWarning]]:
     """The report's ``flow`` section and the flow warnings."""
-    fa = flow_analysis(flow, g)
+    fa = flow_analysis(flow, shape)
     air, bl, sys_, p = fa.air, fa.boundary_layer, fa.system, fa.point
     warnings: list[DesignWarning] = []
     mach = air.mach(flow.speed)
-    d_over = bl.thickness_m / (g.depth_mm * 1e-3)
+    depth_m = shape.throat_depth_mm * 1e-3
+    d_over, d_over_white = bl.thickness_m / depth_m, bl.thickness_white_m / depth_m
     rec = sys_.recovery
     out: dict[str, Any] = {
         "density_kg_m3": air.density_kg_m3,
@@ -144,19 +222,32 @@ def flow_section(flow: FlowSpec, g: InletGeometry) -> tuple[dict[str, Any], list
         "speed_m_s": flow.speed,
         "mach": mach,
         "dynamic_pressure_pa": sys_.dynamic_pressure_pa,
+        "flow_angle_deg": flow.flow_angle_deg,
         "run_length_m": bl.run_length_m,
         "reynolds_run": bl.reynolds,
         "boundary_layer_thickness_m": bl.thickness_m,
+        "boundary_layer_thickness_white_m": bl.thickness_white_m,
         "displacement_thickness_m": bl.displacement_thickness_m,
         "momentum_thickness_m": bl.momentum_thickness_m,
         "delta_over_depth": d_over,
+        "delta_over_depth_white": d_over_white,
+        "delta_over_depth_max": max(d_over, d_over_white),
         "recovery_model": rec.kind,
         "recovery_assumption": rec.assumption,
         "exit_area_m2": sys_.exit_area_m2,
         "exit_cp": sys_.exit_cp,
+        "exit_cp_source": "given" if flow.exit_cp is not None else "default",
     }
-    if rec.kind == "capture":
+    if flow.exit_cp is None:
+        out["exit_cp_note"] = (
+            "defaulted to 0 (ambient): the static pressure where the duct dumps is rarely "
+            "ambient and can dominate a small budget"
+        )
+    if isinstance(rec, CaptureRecovery):
         out["inlet_loss_factor"] = flow.inlet_loss_factor
+        out["inlet_loss_factor_note"] = INLET_LOSS_NOTE
+        out["recovery_floor"] = rec.floor
+        out["recovery_valid_ivr_range"] = list(CAPTURE_IVR_RANGE)
     if rec.kind == "table":
         out["recovery_table"] = str(flow.recovery)
     if p.found:
@@ -173,21 +264,14 @@ def flow_section(flow: FlowSpec, g: InletGeometry) -> tuple[dict[str, Any], list
                 "total_pressure_ratio": (air.pressure_pa + p.recovered_pa)
                 / (air.pressure_pa + sys_.dynamic_pressure_pa),
                 "exit_velocity_m_s": p.exit_velocity_m_s,
-                "momentum_drag_n": p.momentum_drag_n,
+                **_drag(flow, p),
                 "budget": [b.to_dict() for b in p.budget],
                 "budget_sum_pa": sum(b.dp_pa for b in p.budget),
             }
         )
-        if (p.inlet_velocity_ratio or 0.0) > 1.0:
-            warnings.append(
-                DesignWarning(
-                    "ivr_above_one",
-                    f"inlet velocity ratio {p.inlet_velocity_ratio:.2f} > 1: the throat air "
-                    "would be faster than the free stream, which a passive inlet delivers only "
-                    "on paper (the diffuser pays it back in the 1-D balance); enlarge the "
-                    "throat (common practice, no source)",
-                )
-            )
+        tr = _transition_report(fa)
+        if tr is not None:
+            out["transition_loss"] = tr
         if isinstance(rec, TableRecovery) and not rec.covers(p.inlet_velocity_ratio or 0.0):
             warnings.append(
                 DesignWarning(
@@ -200,15 +284,7 @@ def flow_section(flow: FlowSpec, g: InletGeometry) -> tuple[dict[str, Any], list
         out["operating_point"] = "none"
         out["operating_point_note"] = p.reason
         warnings.append(DesignWarning("no_operating_point", p.reason))
-    low, high = fa.band
-    band: dict[str, Any] = {"recovery_delta": SENSITIVITY_DELTA}
-    for tag, bp in (("low", low), ("high", high)):
-        if bp.found:
-            band[f"volume_flow_{tag}_m3_s"] = bp.volume_flow_m3_s
-            band[f"mass_flow_{tag}_kg_s"] = bp.mass_flow_kg_s
-        else:
-            band[f"{tag}_note"] = bp.reason
-    out["sensitivity"] = band
+    out["sensitivity"] = _band(fa)
     if flow.required_flow is not None:
         out["required_flow_m3_s"] = flow.required_flow
         meets = bool(p.found and (p.volume_flow_m3_s or 0.0) >= flow.required_flow)
@@ -222,22 +298,31 @@ def flow_section(flow: FlowSpec, g: InletGeometry) -> tuple[dict[str, Any], list
                     f"{flow.required_flow:.4g} m^3/s",
                 )
             )
-    if mach > MACH_MAX:
-        warnings.append(
-            DesignWarning(
-                "mach_above_incompressible",
-                f"Mach {mach:.2f} exceeds {MACH_MAX:g}: the incompressible flow estimate "
-                "is no longer reliable",
-            )
-        )
-    if d_over > DELTA_OVER_DEPTH_MAX:
-        warnings.append(
-            DesignWarning(
-                "boundary_layer_thick",
-                f"boundary layer delta = {bl.thickness_m * 1e3:.1f} mm is {d_over:.2f} x the "
-                "throat depth: the throat swallows only slow air (NACA RM A7I30: "
-                "boundary-layer thickness has a large "
-                "effect on recovery); move the inlet forward or deepen it",
-            )
-        )
+    warnings += flow_warnings(
+        mach=mach,
+        delta_over_depth=max(d_over, d_over_white),
+        delta_m=max(bl.thickness_m, bl.thickness_white_m),
+        flow_angle_deg=flow.flow_angle_deg,
+        exit_cp_given=flow.exit_cp is not None,
+        ivr=p.inlet_velocity_ratio if p.found else None,
+    )
     return out, warnings
+
+
+def _band(fa: FlowAnalysis) -> dict[str, Any]:
+    low, high = fa.band
+    band: dict[str, Any] = {"recovery_delta": SENSITIVITY_DELTA}
+    for tag, bp in (("low", low), ("high", high)):
+        if bp.found:
+            band[f"volume_flow_{tag}_m3_s"] = bp.volume_flow_m3_s
+            band[f"mass_flow_{tag}_kg_s"] = bp.mass_flow_kg_s
+            k = next((b.k for b in bp.budget if b.element == TRANSITION_NAME), None)
+            if k is not None:
+                band[f"transition_k_{tag}"] = k
+        else:
+            band[f"{tag}_note"] = bp.reason
+    band["basis"] = (
+        "low: recovery - 0.1 with the lossiest transition method; high: recovery + 0.1 with "
+        "the least lossy one"
+    )
+    return band

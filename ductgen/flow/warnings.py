@@ -1,51 +1,66 @@
 """Design warnings with stable codes (brief §6). They never block a build.
 
-Geometry warnings apply with or without a ``[flow]`` section:
+Shape warnings (:func:`geometry_warnings`) apply with or without a ``[flow]`` section:
 
 * ``ramp_angle_outside_tested`` — ramp angle outside 5°–7° (NACA RM A7I30, abstract);
 * ``aspect_ratio_outside_tested`` — W/D outside 3–5 (NACA RM A7I30, abstract);
-* ``wall_divergence_outside_vortex_range`` — largest wall angle outside ~20°–30°, where the
-  vortex pair forms (common practice, no source);
+* ``wall_divergence_too_small`` — only for a user's own wall table: its steepest wall angle
+  stays below 12°, so the walls are straight-sided or nearly parallel and may not shed the
+  vortex pair that wall divergence forms (NACA TN 2323, abstract). Basis of the number:
+  with the standard table the steepest wall angle only restates the ramp angle and W/D
+  (W/L = (W/D)·tan θ); its smallest value over NACA's recommended designs is 12.2° at 5°,
+  W/D 3 (checks.md, derived by PCHIP). Walls that never diverge that steeply diverge less
+  than any recommended design. With the standard table the angle is reported, not warned;
 * ``diffuser_angle_large`` — internal transition's equivalent-cone included angle above ~8°
   (common practice, no source: good diffusers keep 5°–8°).
 
-Flow warnings: ``mach_above_incompressible`` (Mach > 0.3), ``boundary_layer_thick``
-(δ/D > 1, the whole throat sits inside the boundary layer; NACA RM A7I30 reports the large
-effect of boundary-layer thickness on recovery), ``no_operating_point``,
-``required_flow_not_met``, ``recovery_table_extrapolated``, ``ivr_above_one`` (throat faster
-than the free stream; common practice, no source).
+Flow warnings (:func:`flow_warnings`): ``mach_above_incompressible`` (Mach > 0.3),
+``boundary_layer_thick`` (δ/D > 1 by the larger of two boundary-layer methods; NACA RM
+A7I30 reports the large effect of boundary-layer thickness on recovery),
+``flow_angle_large`` (|yaw| > 5°: a rounded lip tolerates about 5°–10°, a sharp edge
+1°–2°, common practice, no source; NACA RM A50C13, abstract, shows recovery falling with
+flow angle; no penalty is applied), ``exit_cp_defaulted`` (no ``exit_cp`` given, ambient
+assumed), ``ivr_low`` (IVR < 0.3), ``ivr_above_one``, ``no_operating_point``,
+``required_flow_not_met``, ``recovery_table_extrapolated``.
 """
 
 from __future__ import annotations
 
 from ductgen.errors import DesignWarning
-from ductgen.geometry.inlet import InletGeometry
+from ductgen.flow.inputs import DuctShape
 
 __all__ = [
     "ASPECT_RANGE",
     "DELTA_OVER_DEPTH_MAX",
     "DIFFUSER_INCLUDED_MAX_DEG",
-    "DIVERGENCE_RANGE_DEG",
+    "FLOW_ANGLE_MAX_DEG",
+    "IVR_LOW",
     "MACH_MAX",
     "RAMP_ANGLE_RANGE_DEG",
+    "WALL_DIVERGENCE_MIN_DEG",
+    "flow_warnings",
     "geometry_warnings",
 ]
 
 RAMP_ANGLE_RANGE_DEG = (5.0, 7.0)  # NACA RM A7I30
 ASPECT_RANGE = (3.0, 5.0)  # NACA RM A7I30
-DIVERGENCE_RANGE_DEG = (20.0, 30.0)  # common practice, no source
+#: 12.2° (checks.md, derived) rounded down: a standard-shaped user table at 5°, W/D 3
+#: must not warn on rounding.
+WALL_DIVERGENCE_MIN_DEG = 12.0
 DIFFUSER_INCLUDED_MAX_DEG = 8.0  # common practice, no source
 MACH_MAX = 0.3  # incompressible model
 DELTA_OVER_DEPTH_MAX = 1.0  # throat fully immersed in the boundary layer
+FLOW_ANGLE_MAX_DEG = 5.0  # low end of a rounded lip's 5-10 deg (common practice, no source)
+IVR_LOW = 0.3  # below: high-loss systems, capture estimate out of range (no source)
 
 _EPS = 1e-9
 
 
-def geometry_warnings(g: InletGeometry) -> list[DesignWarning]:
+def geometry_warnings(shape: DuctShape) -> list[DesignWarning]:
     """Warnings about the shape alone (no flow condition needed)."""
     out: list[DesignWarning] = []
     lo, hi = RAMP_ANGLE_RANGE_DEG
-    a = g.floor.angle_deg
+    a = shape.ramp_angle_deg
     if not lo - _EPS <= a <= hi + _EPS:
         out.append(
             DesignWarning(
@@ -55,7 +70,7 @@ def geometry_warnings(g: InletGeometry) -> list[DesignWarning]:
             )
         )
     lo, hi = ASPECT_RANGE
-    ar = g.width_mm / g.depth_mm
+    ar = shape.aspect_ratio
     if not lo - _EPS <= ar <= hi + _EPS:
         out.append(
             DesignWarning(
@@ -63,27 +78,107 @@ def geometry_warnings(g: InletGeometry) -> list[DesignWarning]:
                 f"width/depth {ar:.2f} is outside the {lo:g}-{hi:g} recommended by NACA RM A7I30",
             )
         )
-    lo, hi = DIVERGENCE_RANGE_DEG
-    dv = g.planform.max_divergence_deg
-    if not lo <= dv <= hi:
+    dv = shape.max_wall_divergence_deg
+    if not shape.standard_walls and dv < WALL_DIVERGENCE_MIN_DEG:
         out.append(
             DesignWarning(
-                "wall_divergence_outside_vortex_range",
-                f"largest wall divergence {dv:.1f} deg is outside ~{lo:g}-{hi:g} deg, where the "
-                "vortex pair forms (common practice, no source)",
+                "wall_divergence_too_small",
+                f"the wall table's steepest wall angle is {dv:.1f} deg, below "
+                f"{WALL_DIVERGENCE_MIN_DEG:g} deg: straight or nearly parallel walls may not "
+                "shed the vortex pair that wall divergence forms (NACA TN 2323); the standard "
+                "table reaches at least 12.2 deg on every NACA-recommended design",
             )
         )
-    t = g.transition
-    if t is not None:
-        inc = 2.0 * t.equivalent_cone_half_angle_deg
+    if shape.has_transition:
+        assert shape.transition_cone_half_angle_deg is not None
+        inc = 2.0 * shape.transition_cone_half_angle_deg
         if inc > DIFFUSER_INCLUDED_MAX_DEG:
             out.append(
                 DesignWarning(
                     "diffuser_angle_large",
                     f"internal transition's equivalent-cone included angle {inc:.1f} deg exceeds "
                     f"~{DIFFUSER_INCLUDED_MAX_DEG:g} deg (common practice: 5-8 deg); "
-                    "expect separation "
-                    "and more loss than the Crane estimate - lengthen outlet.transition_length",
+                    "expect separation and more loss than estimated - lengthen "
+                    "outlet.transition_length",
                 )
             )
+    return out
+
+
+def flow_warnings(
+    *,
+    mach: float,
+    delta_over_depth: float,
+    delta_m: float,
+    flow_angle_deg: float,
+    exit_cp_given: bool,
+    ivr: float | None,
+) -> list[DesignWarning]:
+    """Warnings on the flight condition and the operating point (``ivr`` None = none found).
+
+    Args:
+        mach: free-stream Mach number.
+        delta_over_depth: the larger δ/D of the boundary-layer methods; ``delta_m`` its δ (m).
+        flow_angle_deg: local flow angle to the inlet centreline (deg).
+        exit_cp_given: False when ``flow.exit_cp`` was left to its default.
+        ivr: inlet velocity ratio at the operating point.
+    """
+    out: list[DesignWarning] = []
+    if mach > MACH_MAX:
+        out.append(
+            DesignWarning(
+                "mach_above_incompressible",
+                f"Mach {mach:.2f} exceeds {MACH_MAX:g}: the incompressible flow estimate "
+                "is no longer reliable",
+            )
+        )
+    if delta_over_depth > DELTA_OVER_DEPTH_MAX:
+        out.append(
+            DesignWarning(
+                "boundary_layer_thick",
+                f"boundary layer delta = {delta_m * 1e3:.1f} mm is {delta_over_depth:.2f} x the "
+                "throat depth (larger of the 0.37 Re^-1/5 and White 0.16 Re^-1/7 estimates): "
+                "the throat swallows only slow air (NACA RM A7I30: boundary-layer thickness "
+                "has a large effect on recovery); move the inlet forward or deepen it",
+            )
+        )
+    if abs(flow_angle_deg) > FLOW_ANGLE_MAX_DEG:
+        out.append(
+            DesignWarning(
+                "flow_angle_large",
+                f"local flow meets the inlet at {abs(flow_angle_deg):.1f} deg: a rounded lip "
+                "tolerates about 5-10 deg, a sharp edge stalls above 1-2 deg (common practice, "
+                "no source) and recovery falls with flow angle (NACA RM A50C13); the estimate "
+                "applies no penalty for it - align the inlet with the local flow",
+            )
+        )
+    if not exit_cp_given:
+        out.append(
+            DesignWarning(
+                "exit_cp_defaulted",
+                "flow.exit_cp not given: the air is assumed to leave at ambient static pressure "
+                "(exit_cp = 0). Where a brake or cooler duct dumps (wheel well, engine bay, "
+                "cowling) the pressure is rarely ambient, and in a small budget it can decide "
+                "the flow: give exit_cp from a measurement or a pressure map",
+            )
+        )
+    if ivr is not None and ivr < IVR_LOW:
+        out.append(
+            DesignWarning(
+                "ivr_low",
+                f"inlet velocity ratio {ivr:.2f} < {IVR_LOW:g}: a high-loss system spends most "
+                "of the ram pressure before the air moves, and the recovery estimate is least "
+                "certain here (the capture estimate is meant for IVR 0.3-1 and is floored at a "
+                "recalled zero-flow value); reduce the losses behind the inlet",
+            )
+        )
+    if ivr is not None and ivr > 1.0:
+        out.append(
+            DesignWarning(
+                "ivr_above_one",
+                f"inlet velocity ratio {ivr:.2f} > 1: the throat air would be faster than the "
+                "free stream, which a passive inlet delivers only on paper (the diffuser pays "
+                "it back in the 1-D balance); enlarge the throat (common practice, no source)",
+            )
+        )
     return out

@@ -28,6 +28,7 @@ def sheet_files(ctx: Any) -> dict[str, bytes]:
         ctx.report["spec_sha256"],
         ctx.report["ductgen_version"],
         png,
+        ctx.report.get("flow"),
     )
     files = {"sheet.pdf": pdf}
     if png is not None:

@@ -237,7 +237,12 @@ def _lip_detail(fig, page, box, g: InletGeometry) -> float:  # type: ignore[no-u
 
 
 def sheet_pdf(
-    g: InletGeometry, spec: Any, spec_hash: str, version: str, preview: bytes | None = None
+    g: InletGeometry,
+    spec: Any,
+    spec_hash: str,
+    version: str,
+    preview: bytes | None = None,
+    flow: dict[str, Any] | None = None,
 ) -> bytes:
     """Encode the drawing sheet PDF.
 
@@ -245,6 +250,7 @@ def sheet_pdf(
         g: inlet geometry; spec: the spec (name, template units and paper).
         spec_hash: ``spec_sha256``; version: ductgen version for the title block.
         preview: optional PNG drawn in the picture box.
+        flow: the report's ``flow`` section, drawn as the AIRFLOW block when given.
     """
     import logging
 
@@ -296,14 +302,24 @@ def sheet_pdf(
             iax = fig.add_axes((bx / pw, 12 / ph, bw / pw, bh / ph))
             iax.imshow(img, interpolation="bilinear")
             iax.set_axis_off()
-        _table(bg, tx, ph, g)
+        _table(bg, tx, ph, g, 200.0 if flow else 150.0)
         _key_dims(bg, tx, g)
+        if flow:
+            _flow_block(bg, tx, flow)
         _title_block(bg, tx, pw, g, spec, spec_hash, version)
         pdf.savefig(fig)
     return buf.getvalue()
 
 
-def _table(bg, tx: float, ph: float, g: InletGeometry) -> None:  # type: ignore[no-untyped-def]
+def _flow_block(bg, tx: float, flow: dict[str, Any]) -> None:  # type: ignore[no-untyped-def]
+    from ductgen.flow.sheet_block import FLOW_BLOCK_TITLE, flow_block_lines
+
+    bg.text(tx + 4, 193.0, FLOW_BLOCK_TITLE, fontsize=7.5, weight="bold")
+    for i, line in enumerate(flow_block_lines(flow)):
+        bg.text(tx + 4, 189.0 - 3.7 * i, line, fontsize=6.5)
+
+
+def _table(bg, tx: float, ph: float, g: InletGeometry, bottom: float = 150.0) -> None:  # type: ignore[no-untyped-def]
     rows = offset_rows(g)
     y = ph - 16
     bg.text(tx + 4, y, "TABLE OF OFFSETS (mm)   * = profile station", fontsize=7.5, weight="bold")
@@ -311,7 +327,7 @@ def _table(bg, tx: float, ph: float, g: InletGeometry) -> None:  # type: ignore[
     cols = (tx + 4, tx + 22, tx + 48, tx + 78)
     for cx, head in zip(cols, ("x/L", "x", "half-width", "floor depth"), strict=True):
         bg.text(cx, y, head, fontsize=6.8, weight="bold")
-    step = min(3.6, (ph - 150 - 30) / max(len(rows), 1))
+    step = min(3.6, (ph - bottom - 30) / max(len(rows), 1))
     for r in rows:
         y -= step
         mark = "*" if r["station"] else " "

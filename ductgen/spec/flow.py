@@ -7,7 +7,11 @@ in several units; zero may be written bare. Dimensionless numbers (``recovery``,
 
 Losses behind the throat are a list of elements keyed by ``kind``: ``hose``, ``bend``,
 ``cooler`` (heat exchanger) and ``diffuser``. The inlet's own internal transition is added
-automatically from the geometry; the exit (``exit_cp``, ``exit_area``) closes the balance.
+automatically from the geometry (its loss method: ``transition_loss``,
+``transition_effectiveness``); the exit (``exit_cp``, ``exit_area``) closes the balance, and
+``exit_direction`` says whether the air is dumped inside the body (ram drag) or discharged
+rearward into the free stream (net momentum drag). ``flow_angle_deg`` is the local flow's yaw
+to the inlet centreline.
 """
 
 from __future__ import annotations
@@ -17,11 +21,14 @@ from typing import Annotated, Any, Literal
 
 from pydantic import BeforeValidator, Field, model_validator
 
+from ductgen.spec.recovery_table import find_recovery_table, read_recovery_table
 from ductgen.spec.types import Deg, M, MPerS, Section, si
 
 __all__ = [
     "FLOW_UNITS",
     "HOSE_ROUGHNESS_M",
+    "INLET_LOSS_FACTOR",
+    "TRANSITION_EFFECTIVENESS",
     "BendLoss",
     "CoolerLoss",
     "DiffuserLoss",
@@ -34,6 +41,15 @@ __all__ = [
 #: Default roughness of a flexible / corrugated hose (m): 0.5 mm, inside the 0.09–0.9 mm
 #: range quoted for such hoses (common practice, no source; measure or pass your own).
 HOSE_ROUGHNESS_M = 0.5e-3
+
+#: Default lip and ramp loss factor on the capture estimate: an assumption (no source).
+INLET_LOSS_FACTOR = 0.95
+
+#: Default diffuser effectiveness of the internal transition, the lossy end of the 0.6–0.8
+#: range Blevins (*Applied Fluid Dynamics Handbook*, §7.4) gives for diffusers: the
+#: transition is offset, rectangle-to-round and fed by the ramp's vortex-laden, distorted
+#: boundary-layer air, all of which lower a diffuser's effectiveness.
+TRANSITION_EFFECTIVENESS = 0.6
 
 #: Unit in which each dimensional field of this section is held (and written back).
 FLOW_UNITS: dict[str, str] = {
@@ -180,10 +196,8 @@ def _recovery_value(value: Any) -> Any:
         return text
     if not text.lower().endswith(".csv"):
         raise ValueError("expected 'capture', a number in (0, 1] or a path ending in .csv")
-    from ductgen.flow.recovery import find_recovery_table, load_recovery_table
-
     path = find_recovery_table(text)
-    load_recovery_table(path)  # raises ValueError naming the row
+    read_recovery_table(path)  # raises ValueError naming the row
     return str(path)
 
 
@@ -241,13 +255,56 @@ class FlowSpec(Section):
     inlet_loss_factor: Annotated[
         float,
         Field(
-            default=0.95, gt=0, le=1, description="lip and ramp loss factor on the capture estimate"
+            default=INLET_LOSS_FACTOR,
+            gt=0,
+            le=1,
+            description="lip and ramp loss factor on the capture estimate (0.95 is an "
+            "assumption, no source)",
         ),
     ]
     exit_cp: Annotated[
+        float | None,
+        Field(
+            default=None,
+            ge=-5,
+            le=1,
+            description="static-pressure coefficient where the air leaves; unset = 0 "
+            "(ambient), which the report flags as defaulted",
+        ),
+    ]
+    exit_direction: Annotated[
+        Literal["internal", "rearward"],
+        Field(
+            default="internal",
+            description="internal: air dumped in a wheel well, bay or cowling (ram drag m*V0); "
+            "rearward: the exit discharges rearward into the free stream (net m*(V0 - Ve))",
+        ),
+    ]
+    flow_angle_deg: Annotated[
+        Deg,
+        Field(
+            default=0.0,
+            ge=-45,
+            le=45,
+            description="angle between the local surface flow and the inlet centreline (yaw)",
+        ),
+    ]
+    transition_loss: Annotated[
+        Literal["effectiveness", "crane", "rennels", "idelchik"],
+        Field(
+            default="effectiveness",
+            description="loss method of the internal transition: diffuser effectiveness on "
+            "the ideal recovery (Blevins 7.4) or fluids' conical-diffuser method",
+        ),
+    ]
+    transition_effectiveness: Annotated[
         float,
         Field(
-            default=0.0, ge=-5, le=1, description="static-pressure coefficient where the air leaves"
+            default=TRANSITION_EFFECTIVENESS,
+            gt=0,
+            le=1,
+            description="diffuser effectiveness of the internal transition (Blevins 7.4: "
+            "0.6-0.8; default 0.6 for an offset rectangle-to-round duct)",
         ),
     ]
     exit_area: Annotated[
@@ -255,6 +312,11 @@ class FlowSpec(Section):
         Field(default=None, gt=0, description="area of the final exit (default: last element)"),
     ]
     losses: list[LossElement] = Field(default_factory=list)
+
+    @property
+    def exit_cp_value(self) -> float:
+        """The exit static-pressure coefficient used: ``exit_cp``, or 0 when unset."""
+        return 0.0 if self.exit_cp is None else self.exit_cp
 
     @property
     def recovery_kind(self) -> str:

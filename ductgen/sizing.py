@@ -1,5 +1,9 @@
 """``ductgen size``: the smallest throat that delivers a flow target (brief §4, §6).
 
+This module sits above the geometry and the flow model: it composes a spec from both, so
+neither of them has to know about the other. :func:`run_size` is the whole command (size,
+optionally write a buildable spec); the CLI only parses options and prints.
+
 At a fixed width-to-depth ratio W/D and ramp angle, the delivered volume flow of the
 operating point (:mod:`ductgen.flow.operating_point`) is evaluated as a function of the
 throat depth D, with everything else (lip, outlet, losses, flight condition) taken from a
@@ -10,16 +14,15 @@ to 0.01 mm so the written spec still meets the target.
 
 from __future__ import annotations
 
-import json
 import math
-import re
 from dataclasses import dataclass
+from pathlib import Path
 from typing import Any
 
 import numpy as np
 from scipy.optimize import brentq
 
-from ductgen.design.build import geometry_from_spec
+from ductgen.design.build import duct_shape, geometry_from_spec
 from ductgen.errors import SpecError
 from ductgen.flow.operating_point import solve
 from ductgen.flow.report import build_system, flow_section
@@ -31,12 +34,13 @@ from ductgen.spec.model import DEFAULT_RAMP_ANGLE_DEG, RampSpec, Spec, ThroatSpe
 
 __all__ = [
     "MAX_IVR",
+    "SizeRequest",
     "SizeResult",
     "delivered_flow",
+    "run_size",
     "size_result_dict",
     "size_throat",
     "sized_spec_data",
-    "toml_text",
 ]
 
 _D_MIN_MM = 0.5
@@ -83,7 +87,7 @@ def delivered_flow(spec: Spec, profile: Profile | None = None) -> float:
         g = geometry_from_spec(spec, profile)
     except SpecError:
         return 0.0
-    p = solve(build_system(spec.flow, g)[0])
+    p = solve(build_system(spec.flow, duct_shape(g))[0])
     return float(p.volume_flow_m3_s) if p.found and p.volume_flow_m3_s else 0.0
 
 
@@ -190,12 +194,13 @@ def size_throat(
     spec = spec0.model_copy(update={"throat": throat, "ramp": ramp})
     g = geometry_from_spec(spec)
     assert spec.flow is not None
-    section, warnings = flow_section(spec.flow, g)
+    shape = duct_shape(g)
+    section, warnings = flow_section(spec.flow, shape)
     return SizeResult(
         spec=spec,
         geometry=g,
         flow=section,
-        warnings=geometry_warnings(g) + warnings,
+        warnings=geometry_warnings(shape) + warnings,
         target_m3_s=flow_m3_s,
         aspect=aspect,
         limited_by=limited_by,
@@ -240,50 +245,70 @@ def sized_spec_data(r: SizeResult, raw: dict[str, Any] | None = None) -> dict[st
     return {k: data[k] for k in keys}
 
 
-_BARE = re.compile(r"^[A-Za-z0-9_-]+$")
+@dataclass(frozen=True)
+class SizeRequest:
+    """What ``ductgen size`` was asked (quantities already in SI).
+
+    Attributes:
+        flow_m3_s: target volume flow (m³/s); speed_m_s: vehicle speed (m/s).
+        aspect: W/D; angle_deg: ramp angle (deg); max_ivr: largest IVR accepted (None:
+            :data:`MAX_IVR`).
+        spec_path: base spec file (lip, outlet, [flow] losses...), or None.
+        name: spec name of the result, or None.
+        write_spec: path of a .toml/.json spec to write, or None; force: replace it.
+        header: comment line(s) at the top of a written TOML spec.
+    """
+
+    flow_m3_s: float
+    speed_m_s: float
+    aspect: float = 4.0
+    angle_deg: float = DEFAULT_RAMP_ANGLE_DEG
+    max_ivr: float | None = None
+    spec_path: Path | None = None
+    name: str | None = None
+    write_spec: Path | None = None
+    force: bool = False
+    header: str = ""
 
 
-def _key(k: str) -> str:
-    return k if _BARE.match(k) else json.dumps(k)
+def run_size(req: SizeRequest) -> dict[str, Any]:
+    """Size the throat and, when asked, write a buildable spec of it (atomically).
 
+    Returns the result with report.json key names (:func:`size_result_dict`), plus
+    ``spec_file`` when a spec was written.
 
-def _value(v: Any) -> str:
-    if isinstance(v, bool):
-        return "true" if v else "false"
-    if isinstance(v, int | float):
-        if isinstance(v, float) and not math.isfinite(v):
-            raise ValueError(f"cannot write {v} to TOML")
-        return repr(v)
-    if isinstance(v, str):
-        return json.dumps(v, ensure_ascii=False)
-    if isinstance(v, dict):
-        return (
-            "{ "
-            + ", ".join(f"{_key(k)} = {_value(x)}" for k, x in v.items() if x is not None)
-            + " }"
-        )
-    if isinstance(v, list | tuple):
-        return "[" + ", ".join(_value(x) for x in v) + "]"
-    raise ValueError(f"cannot write a {type(v).__name__} to TOML")
+    Raises:
+        SpecError: bad input (nothing written); ExportError: the spec file exists.
+    """
+    from ductgen.export.atomic import check_free, write_atomic
+    from ductgen.spec import load_spec, parse_spec, read_spec_data
+    from ductgen.spec.write import SPEC_SUFFIXES, spec_text
 
-
-def toml_text(data: dict[str, Any], header: str = "") -> str:
-    """Spec data as TOML: top-level values, then one ``[section]`` per table; lists of
-    tables (``flow.losses``) as arrays of inline tables."""
-    lines = [f"# {ln}" for ln in header.splitlines()]
-    for k, v in data.items():
-        if not isinstance(v, dict) and v is not None:
-            lines.append(f"{_key(k)} = {_value(v)}")
-    for k, v in data.items():
-        if isinstance(v, dict):
-            lines += ["", f"[{_key(k)}]"]
-            for kk, vv in v.items():
-                if vv is None:
-                    continue
-                if isinstance(vv, list) and vv and all(isinstance(x, dict) for x in vv):
-                    lines.append(f"{_key(kk)} = [")
-                    lines += [f"  {_value(x)}," for x in vv]
-                    lines.append("]")
-                else:
-                    lines.append(f"{_key(kk)} = {_value(vv)}")
-    return "\n".join(lines) + "\n"
+    if req.write_spec is not None:
+        if req.write_spec.suffix.lower() not in SPEC_SUFFIXES:
+            raise SpecError(
+                "--write-spec",
+                str(req.write_spec),
+                "a .toml or .json path",
+                "the format follows the suffix",
+            )
+        check_free([req.write_spec], req.force)  # refuse before any work
+    base = load_spec(req.spec_path) if req.spec_path is not None else None
+    raw = read_spec_data(req.spec_path) if req.spec_path is not None else None
+    result = size_throat(
+        req.flow_m3_s,
+        req.speed_m_s,
+        aspect=req.aspect,
+        angle_deg=req.angle_deg,
+        base=base,
+        name=req.name,
+        max_ivr=MAX_IVR if req.max_ivr is None else req.max_ivr,
+    )
+    out = size_result_dict(result)
+    if req.write_spec is not None:
+        data = sized_spec_data(result, raw)
+        parse_spec(data, source="(sized spec)")  # it must load back as written
+        text = spec_text(data, req.write_spec, req.header)
+        write_atomic(req.write_spec, text.encode(), force=req.force)
+        out["spec_file"] = str(req.write_spec)
+    return out

@@ -1,0 +1,53 @@
+"""The drawing sheet's AIRFLOW block: a few lines of text from the report's ``flow`` section.
+
+The workshop wall is where people look, so the sheet carries the result at the design speed:
+delivered flow, its sensitivity band, IVR, recovery, whether the requirement is met, the ram
+drag and the assumptions that move the answer most. Plain ASCII (the sheet uses the PDF core
+fonts). Pure: no drawing here.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from typing import Any
+
+__all__ = ["FLOW_BLOCK_TITLE", "flow_block_lines"]
+
+FLOW_BLOCK_TITLE = "AIRFLOW (1-D estimate, not a test result)"
+
+
+def flow_block_lines(flow: Mapping[str, Any]) -> list[str]:
+    """Lines of the block, top to bottom, from a report ``flow`` section (SI keys)."""
+    v = float(flow["speed_m_s"])
+    lines = [f"design speed {v * 3.6:.0f} km/h ({v:.1f} m/s), Mach {flow['mach']:.2f}"]
+    if flow.get("operating_point") == "found":
+        q = float(flow["volume_flow_m3_s"])
+        lines.append(f"delivered flow {q * 1000:.1f} L/s ({q:.4f} m3/s)")
+        band = flow.get("sensitivity", {})
+        lo, hi = band.get("volume_flow_low_m3_s"), band.get("volume_flow_high_m3_s")
+        lo_t = "none" if lo is None else f"{lo * 1000:.1f}"
+        hi_t = "none" if hi is None else f"{hi * 1000:.1f}"
+        lines.append(f"band {lo_t} - {hi_t} L/s (recovery +/-0.1, transition-loss spread)")
+        lines.append(
+            f"inlet velocity ratio {flow['inlet_velocity_ratio']:.2f}, ram recovery "
+            f"{flow['ram_recovery']:.3f} ({flow['recovery_model']})"
+        )
+        lines.append(
+            f"drag {flow['momentum_drag_n']:.2f} N "
+            + (
+                "(ram, m*V0)"
+                if flow.get("exit_direction") != "rearward"
+                else "(net, rearward exit)"
+            )
+            + "; external drag not included"
+        )
+    else:
+        lines.append("no operating point: the losses exceed the recovered pressure")
+    if "required_flow_m3_s" in flow:
+        met = "MET" if flow.get("meets_required_flow") else "NOT MET"
+        lines.append(f"required {flow['required_flow_m3_s'] * 1000:.1f} L/s: {met}")
+    cp = f"exit_cp {flow['exit_cp']:g}"
+    if flow.get("exit_cp_source") == "default":
+        cp += " (not given: ambient assumed)"
+    lines.append(f"delta/D {flow['delta_over_depth_max']:.2f} (boundary layer), {cp}")
+    return lines
