@@ -30,7 +30,7 @@ def main() -> None:
 
     t_import = time.perf_counter() - t0
     t0 = time.perf_counter()
-    default_worker().run("ductgen.pipeline.jobs:warm_up")  # starts the child, imports the kernel
+    default_worker().run("ductgen.solids.jobs:warm_up")  # starts the child, imports the kernel
     t_kernel = time.perf_counter() - t0
     print(
         f"import ductgen: {t_import:.2f} s; kernel worker start + import cadquery: {t_kernel:.2f} s"

@@ -280,7 +280,7 @@ def run_size(req: SizeRequest) -> dict[str, Any]:
     Raises:
         SpecError: bad input (nothing written); ExportError: the spec file exists.
     """
-    from ductgen.export.atomic import check_free, write_atomic
+    from ductgen.atomic import check_free, write_atomic
     from ductgen.spec import load_spec, parse_spec, read_spec_data
     from ductgen.spec.write import SPEC_SUFFIXES, spec_text
 

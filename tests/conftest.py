@@ -10,6 +10,18 @@ ROOT = Path(__file__).resolve().parents[1]
 SAMPLES = sorted((ROOT / "samples").glob("*.toml"))
 
 
+DATA = Path(__file__).resolve().parent / "data"
+
+
+def naca_ordinates() -> list[tuple[float, float]]:
+    """The standard wall table (x/L, 2y/W) from ``tests/data/naca_ordinates.json``, the one
+    test copy of it (source: NACA ACR 5I20, recalled from memory; see the file)."""
+    import json
+
+    doc = json.loads((DATA / "naca_ordinates.json").read_text(encoding="utf-8"))
+    return [(float(x), float(f)) for x, f in doc["rows"]]
+
+
 def sample_ids() -> list[str]:
     return [p.stem for p in SAMPLES]
 

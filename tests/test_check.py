@@ -10,7 +10,7 @@ import pytest
 import trimesh
 
 from ductgen.cli.app import main
-from ductgen.export.cad import stl_bytes
+from ductgen.solids.cad_io import stl_bytes
 
 
 def _write_stl(path, mesh: trimesh.Trimesh) -> None:  # type: ignore[no-untyped-def]
@@ -46,7 +46,7 @@ def test_thin_wall_flag(tmp_path) -> None:  # type: ignore[no-untyped-def]
 
 def test_step_file(tmp_path, capsys) -> None:  # type: ignore[no-untyped-def]
     cq = pytest.importorskip("cadquery")
-    from ductgen.export.cad import step_bytes
+    from ductgen.solids.cad_io import step_bytes
 
     p = tmp_path / "cyl.step"
     p.write_bytes(step_bytes(cq.Solid.makeCylinder(10.0, 20.0)))

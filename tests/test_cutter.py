@@ -14,9 +14,9 @@ from hypothesis import strategies as st
 
 cq = pytest.importorskip("cadquery")
 
-from ductgen.export.cad import read_step, step_bytes, stl_bytes  # noqa: E402
-from ductgen.geometry import build_geometry  # noqa: E402
+from ductgen.design import build_design, geometry_from_spec  # noqa: E402
 from ductgen.meshstats import mesh_stats  # noqa: E402
+from ductgen.solids.cad_io import read_step, step_bytes, stl_bytes  # noqa: E402
 from ductgen.solids.cutter import make_cutter  # noqa: E402
 from ductgen.solids.mesh import triangulate  # noqa: E402
 from ductgen.solids.primitives import wall_spline  # noqa: E402
@@ -59,8 +59,8 @@ def _gprop_volume(shape) -> float:  # type: ignore[no-untyped-def]
 
 @pytest.fixture(scope="module", params=list(CASES))
 def built(request: pytest.FixtureRequest):  # type: ignore[no-untyped-def]
-    g = build_geometry(parse_spec(CASES[request.param]))
-    return g, make_cutter(g)
+    d = build_design(parse_spec(CASES[request.param]), check_fabrication=False)
+    return d.geometry, make_cutter(d)
 
 
 def test_cutter_is_one_valid_closed_solid(built) -> None:  # type: ignore[no-untyped-def]
@@ -107,7 +107,7 @@ def test_cutter_is_symmetric_about_the_centreline(built) -> None:  # type: ignor
 
 
 def test_wall_spline_is_the_hermite_planform() -> None:
-    g = build_geometry(parse_spec(CASES["straight-raised"]))
+    g = geometry_from_spec(parse_spec(CASES["straight-raised"]))
     edge = wall_spline(g.planform)
     for x in np.linspace(0.0, g.length_mm, 37):
         p = edge.positionAt(float(x), mode="parameter")
@@ -174,7 +174,8 @@ def test_random_valid_specs_give_sound_cutters(
             "height": 1.4 * depth,
             "transition_length": 3 * depth,
         }
-    g = build_geometry(parse_spec(data))
-    res = check_solid(make_cutter(g), "cutter", g.cutter_volume_mm3, DEFAULT_TOLERANCES)
+    d = build_design(parse_spec(data), check_fabrication=False)
+    g = d.geometry
+    res = check_solid(make_cutter(d), "cutter", g.cutter_volume_mm3, DEFAULT_TOLERANCES)
     assert res.watertight and res.winding_consistent
     assert res.volume_mm3 == pytest.approx(g.cutter_volume_mm3, rel=2e-3)

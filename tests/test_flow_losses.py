@@ -13,6 +13,7 @@ import pytest
 from fluids.core import dP_from_K
 from fluids.fittings import bend_rounded, contraction_conical, diffuser_conical
 
+from ductgen.design import geometry_from_spec
 from ductgen.flow.atmosphere import standard_air
 from ductgen.flow.losses import (
     BendElement,
@@ -22,7 +23,6 @@ from ductgen.flow.losses import (
     equivalent_cone_included_angle_deg,
     gradual_expansion_k,
 )
-from ductgen.geometry.inlet import build_geometry
 from ductgen.spec import parse_spec
 
 AIR = standard_air(0.0)
@@ -44,7 +44,7 @@ def test_transition_angle_of_a_built_inlet_is_dixons_formula() -> None:
             "outlet": {"kind": "round", "diameter": 70, "transition_length": 150},
         }
     )
-    t = build_geometry(spec).transition
+    t = geometry_from_spec(spec).transition
     assert t is not None
     a1, a2 = 2500.0, math.pi * 35.0**2
     r1 = math.sqrt(a1 / math.pi)

@@ -6,12 +6,11 @@ from typing import Any
 
 import pytest
 
+from ductgen.design import build_design
 from ductgen.errors import DesignWarning
 from ductgen.flow.operating_point import solve
 from ductgen.flow.report import build_system, flow_section
-from ductgen.geometry.inlet import build_geometry
-from ductgen.pipeline.builder import REPORT_HOOKS, BuildContext
-from ductgen.report import duct_shape
+from ductgen.report import start_report
 from ductgen.spec import parse_spec
 
 
@@ -41,7 +40,7 @@ BASE_FLOW = {
 
 
 def _section(spec: Any) -> tuple[dict[str, Any], list[DesignWarning]]:
-    return flow_section(spec.flow, duct_shape(build_geometry(spec)))
+    return flow_section(spec.flow, build_design(spec).duct)
 
 
 def test_energy_balance_and_budget_close() -> None:
@@ -73,7 +72,7 @@ def test_energy_balance_and_budget_close() -> None:
         "exit dynamic head",
     ]
     # re-evaluate the balance independently at the reported flow
-    system, _, _ = build_system(spec.flow, duct_shape(build_geometry(spec)))
+    system, _, _ = build_system(spec.flow, build_design(spec).duct)
     q = f["volume_flow_m3_s"]
     assert abs(system.residual_pa(q)) <= 1e-6 * recovered
     assert f["mass_flow_kg_s"] == pytest.approx(f["density_kg_m3"] * q, rel=1e-12)
@@ -149,7 +148,7 @@ def test_no_operating_point_is_said_not_numbered() -> None:
     assert f["meets_required_flow"] is False
     codes = {w.code for w in warns}
     assert {"no_operating_point", "required_flow_not_met"} <= codes
-    system, _, _ = build_system(spec.flow, duct_shape(build_geometry(spec)))
+    system, _, _ = build_system(spec.flow, build_design(spec).duct)
     assert not solve(system).found
 
 
@@ -161,11 +160,15 @@ def test_flow_warnings() -> None:
     assert "boundary_layer_thick" in codes
 
 
-def _run_hooks(spec: Any) -> BuildContext:
-    ctx = BuildContext(spec=spec, geometry=build_geometry(spec), solids={}, report={})
-    for hook in REPORT_HOOKS:
-        hook(ctx)
-    return ctx
+class _Report:
+    """The report sections and warnings a build without solids writes."""
+
+    def __init__(self, spec: Any) -> None:
+        self.report, self.warnings = start_report(spec, build_design(spec), {}, "0" * 64, "t")
+
+
+def _run_hooks(spec: Any) -> _Report:
+    return _Report(spec)
 
 
 def test_report_hook_fills_flow_keys() -> None:

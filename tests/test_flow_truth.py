@@ -16,21 +16,21 @@ import pymupdf
 import pytest
 from fluids.fittings import diffuser_conical
 
+from ductgen.design import build_design, geometry_from_spec
 from ductgen.flow.boundary_layer import turbulent_flat_plate
 from ductgen.flow.report import flow_section
 from ductgen.flow.warnings import geometry_warnings
-from ductgen.geometry.inlet import build_geometry
 from ductgen.pipeline import build
-from ductgen.report import duct_shape
 from ductgen.resources import data_path
 from ductgen.sheets.sheet import sheet_pdf
 from ductgen.spec import load_spec, parse_spec, read_spec_data
+from tests.conftest import naca_ordinates
 
 SAMPLE = data_path() / "samples" / "club-racer-brake.toml"
 
 
 def _section(spec: Any) -> tuple[dict[str, Any], set[str]]:
-    f, warns = flow_section(spec.flow, duct_shape(build_geometry(spec)))
+    f, warns = flow_section(spec.flow, build_design(spec).duct)
     return f, {w.code for w in warns}
 
 
@@ -78,7 +78,7 @@ def test_net_drag_only_with_rearward_exit() -> None:
 def test_transition_methods_are_fluids_and_blevins() -> None:
     spec = load_spec(SAMPLE)
     f, _ = _section(spec)
-    t = build_geometry(spec).transition
+    t = geometry_from_spec(spec).transition
     assert t is not None
     a1, a2 = t.throat_area_mm2 * 1e-6, t.outlet_area_mm2 * 1e-6
     d1, d2 = math.sqrt(4 * a1 / math.pi), math.sqrt(4 * a2 / math.pi)
@@ -160,7 +160,7 @@ def _grid_spec(angle: float, aspect: float, profile: str = "naca-standard") -> A
 @pytest.mark.parametrize("aspect", [3.0, 4.0, 5.0])
 def test_no_shape_warning_on_naca_recommended_grid(angle: float, aspect: float) -> None:
     # NACA RM A7I30 (abstract): ramp 5-7 deg, W/D 3-5, curved divergent walls [published]
-    shape = duct_shape(build_geometry(_grid_spec(angle, aspect)))
+    shape = build_design(_grid_spec(angle, aspect)).duct
     assert shape.standard_walls
     assert geometry_warnings(shape) == []
 
@@ -170,7 +170,7 @@ def test_no_shape_warning_on_naca_recommended_grid(angle: float, aspect: float) 
 )
 def test_divergence_reported_as_information(angle: float, aspect: float, steepest: float) -> None:
     # checks.md [derived, PCHIP on the standard table]: 12.2, 19.2, 26.9 deg
-    g = build_geometry(_grid_spec(angle, aspect))
+    g = geometry_from_spec(_grid_spec(angle, aspect))
     assert g.planform.max_divergence_deg == pytest.approx(steepest, abs=0.05)
 
 
@@ -185,13 +185,12 @@ def test_straight_wall_user_table_warns(tmp_path: Path) -> None:
     parallel = _table(tmp_path, "parallel.csv", [(x, 1.0) for x in xs])
     nearly = _table(tmp_path, "nearly.csv", [(x, 0.8 + 0.2 * x) for x in xs])
     for table in (parallel, nearly):
-        shape = duct_shape(build_geometry(_grid_spec(7.0, 4.0, table)))
+        shape = build_design(_grid_spec(7.0, 4.0, table)).duct
         assert not shape.standard_walls
         assert "wall_divergence_too_small" in {w.code for w in geometry_warnings(shape)}
     # a user's copy of the standard ordinates (checks.md, NACA ACR 5I20 [memory]) is standard
-    std = [(0.0, 0.083), (0.1, 0.158), (0.2, 0.236), (0.3, 0.312), (0.4, 0.388), (0.5, 0.466)]
-    std += [(0.6, 0.614), (0.7, 0.766), (0.8, 0.916), (0.9, 0.996), (1.0, 1.0)]
-    copy = duct_shape(build_geometry(_grid_spec(5.0, 3.0, _table(tmp_path, "copy.csv", std))))
+    std = naca_ordinates()
+    copy = build_design(_grid_spec(5.0, 3.0, _table(tmp_path, "copy.csv", std))).duct
     assert copy.standard_walls and geometry_warnings(copy) == []
 
 
@@ -235,8 +234,8 @@ def test_small_flow_angle_and_given_exit_cp_do_not_warn() -> None:
 
 def test_sheet_shows_flow_block() -> None:
     spec = load_spec(SAMPLE)
-    g = build_geometry(spec)
-    f, _ = flow_section(spec.flow, duct_shape(g))
+    g = geometry_from_spec(spec)
+    f, _ = flow_section(spec.flow, build_design(spec).duct)
     pdf = sheet_pdf(g, spec, "0" * 64, "test", None, f)
     text = pymupdf.open(stream=pdf, filetype="pdf")[0].get_text()
     assert "AIRFLOW" in text

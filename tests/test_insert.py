@@ -15,11 +15,11 @@ import pytest
 
 cq = pytest.importorskip("cadquery")
 
-from ductgen.export.cad import stl_bytes  # noqa: E402
-from ductgen.geometry import build_geometry  # noqa: E402
-from ductgen.geometry.fabrication import fabrication_params, flange_layout, spigot_of  # noqa: E402
+from ductgen.design import build_design  # noqa: E402
+from ductgen.geometry.fabrication import flange_layout, spigot_of  # noqa: E402
 from ductgen.meshstats import mesh_stats  # noqa: E402
 from ductgen.printability import min_wall_mm  # noqa: E402
+from ductgen.solids.cad_io import stl_bytes  # noqa: E402
 from ductgen.solids.check import CHECK_MESH  # noqa: E402
 from ductgen.solids.insert import make_insert  # noqa: E402
 from ductgen.solids.mesh import triangulate  # noqa: E402
@@ -46,10 +46,9 @@ ROUND = {
 
 
 def _build(spec):  # type: ignore[no-untyped-def]
-    g = build_geometry(spec)
-    fab = fabrication_params(spec)
-    solid = make_insert(g, fab)
-    return g, fab, solid, triangulate(solid, *CHECK_MESH)
+    d = build_design(spec)
+    solid = make_insert(d)
+    return d.geometry, d.fab, solid, triangulate(solid, *CHECK_MESH)
 
 
 @pytest.fixture(scope="module")

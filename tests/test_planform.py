@@ -10,22 +10,10 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from ductgen.geometry import Planform, load_profile
+from tests.conftest import naca_ordinates
 
-# NACA ACR 5I20 (Frick, Davis, Randall, Mossman, 1945), reused in NACA RM A7I30: divergent
-# ramp-wall ordinates 2y/W at x/L. Values recalled from memory (checks.md, tag [memory]).
-NACA_TABLE = {
-    0.0: 0.083,
-    0.1: 0.158,
-    0.2: 0.236,
-    0.3: 0.312,
-    0.4: 0.388,
-    0.5: 0.466,
-    0.6: 0.614,
-    0.7: 0.766,
-    0.8: 0.916,
-    0.9: 0.996,
-    1.0: 1.000,
-}
+# NACA ACR 5I20 divergent-wall ordinates (tests/data/naca_ordinates.json, [memory])
+NACA_TABLE = dict(naca_ordinates())
 
 
 def test_bundled_table_is_the_naca_table() -> None:

@@ -11,13 +11,9 @@ import pytest
 cq = pytest.importorskip("cadquery")
 
 from ductgen.cli.app import main  # noqa: E402
-from ductgen.geometry import build_geometry  # noqa: E402
-from ductgen.geometry.fabrication import (  # noqa: E402
-    fabrication_params,
-    opening_outline,
-    plug_trim_outline,
-    polygon_area,
-)
+from ductgen.design import build_design  # noqa: E402
+from ductgen.geometry.fabrication import plug_trim_outline  # noqa: E402
+from ductgen.geometry.outline import opening_outline, polygon_area  # noqa: E402
 from ductgen.meshstats import mesh_stats  # noqa: E402
 from ductgen.solids.check import CHECK_MESH  # noqa: E402
 from ductgen.solids.mesh import triangulate  # noqa: E402
@@ -42,19 +38,18 @@ CASES = {
 @pytest.fixture(scope="module", params=list(CASES))
 def plug(request: pytest.FixtureRequest):  # type: ignore[no-untyped-def]
     spec = parse_spec(CASES[request.param])
-    g = build_geometry(spec)
-    fab = fabrication_params(spec)
-    return g, fab, make_plug(g, fab)
+    d = build_design(spec)
+    return d, d.fab, make_plug(d)
 
 
 def test_plug_is_valid_closed_with_integrated_volume(plug) -> None:  # type: ignore[no-untyped-def]
-    g, fab, solid = plug
+    d, _, solid = plug
     assert solid.isValid() and len(solid.Solids()) == 1
     v, f = triangulate(solid, *CHECK_MESH)
     tight, winding, vol, _ = mesh_stats(v, f)
     assert tight and winding
     # independent integral: Steiner plate area × thickness + drafted cavity sections
-    assert vol == pytest.approx(plug_volume_mm3(g, fab), rel=2e-3)
+    assert vol == pytest.approx(plug_volume_mm3(d), rel=2e-3)
 
 
 def test_plug_walls_drafted_at_least_draft_deg(plug) -> None:  # type: ignore[no-untyped-def]
@@ -77,9 +72,10 @@ def test_plug_walls_drafted_at_least_draft_deg(plug) -> None:  # type: ignore[no
 
 
 def test_trim_outline_is_the_opening_offset_by_the_margin(plug) -> None:  # type: ignore[no-untyped-def]
-    g, fab, _ = plug
+    d, fab, _ = plug
+    g = d.geometry
     m = fab.plug.trim_margin
-    op = opening_outline(g, 2000)
+    op = opening_outline(g.planform, g.throat_end_mm, 2000)
     per = float(np.sum(np.linalg.norm(np.diff(np.vstack([op, op[:1]]), axis=0), axis=1)))
     # Steiner: outward offset with round corners has area A + P·m + π·m² (exact geometry)
     steiner = polygon_area(op) + per * m + math.pi * m * m

@@ -4,21 +4,14 @@ input."""
 
 from __future__ import annotations
 
-import math
-
 import numpy as np
 import pytest
 import trimesh
 
+from ductgen.design import build_design, fabrication_from_spec, geometry_from_spec
 from ductgen.errors import SpecError
-from ductgen.geometry import build_geometry
-from ductgen.geometry.fabrication import (
-    Fabrication,
-    fabrication_params,
-    fabrication_warnings,
-    flange_layout,
-    validate_fabrication,
-)
+from ductgen.geometry.fabrication import flange_layout
+from ductgen.geometry.fabrication_rules import fabrication_warnings, validate_fabrication
 from ductgen.printability import load_materials, min_wall_mm, overhang_by_orientation, print_section
 from ductgen.spec import parse_spec
 
@@ -76,7 +69,7 @@ BASE = {
 
 def _g_fab(**over):  # type: ignore[no-untyped-def]
     spec = parse_spec({**BASE, **over})
-    return build_geometry(spec), fabrication_params(spec)
+    return geometry_from_spec(spec), fabrication_from_spec(spec)
 
 
 def test_holes_spaced_evenly_and_symmetric() -> None:
@@ -119,7 +112,10 @@ def test_bad_fabrication_input_names_the_key(over: dict, key: str) -> None:
 
 
 def test_defaults_are_valid() -> None:
-    g, fab = _g_fab()
-    validate_fabrication(g, fab)
-    assert fab == Fabrication(fab.insert, fab.plug, 0.2)
-    assert math.isclose(fab.fit_clearance_mm, 0.2)
+    # the default insert and plug make a part for an ordinary throat: no error, and no
+    # hole or thin-wall warning (FDM wall ≥ 2 mm, edge ≥ 2 d, spacing ≥ 4 d: common
+    # practice, no source)
+    d = build_design(parse_spec(BASE))
+    codes = {w.code for w in d.warnings}
+    assert not codes & {"hole_edge_distance", "hole_spacing", "thin_wall"}
+    assert d.fab.insert.wall >= 2.0

@@ -6,8 +6,9 @@ from pathlib import Path
 
 import pytest
 
+from ductgen.design import geometry_from_spec
 from ductgen.errors import SpecError
-from ductgen.geometry import available_profiles, build_geometry
+from ductgen.geometry import available_profiles
 from ductgen.spec import load_spec
 
 
@@ -26,7 +27,7 @@ def _spec_with(tmp_path: Path, rows: str) -> Path:
 
 def test_custom_profile_relative_to_the_spec(tmp_path: Path) -> None:
     spec = _spec_with(tmp_path, "0,0.1\n0.4,0.4\n0.8,0.9\n1,1\n")
-    g = build_geometry(load_spec(spec))
+    g = geometry_from_spec(load_spec(spec))
     assert float(g.planform.half_width(0.4 * g.length_mm)) == pytest.approx(20.0, abs=1e-9)
 
 
@@ -45,6 +46,6 @@ def test_custom_profile_relative_to_the_spec(tmp_path: Path) -> None:
 def test_invalid_custom_profile_is_a_spec_error(tmp_path: Path, rows: str, words: str) -> None:
     spec = _spec_with(tmp_path, rows)
     with pytest.raises(SpecError) as err:
-        build_geometry(load_spec(spec))
+        geometry_from_spec(load_spec(spec))
     assert err.value.key == "planform.profile"
     assert words in err.value.allowed or words in err.value.reason

@@ -16,25 +16,15 @@ import pytest
 from ezdxf import path as dxf_path
 from ezdxf.math import bulge_to_arc
 
+from ductgen.design import build_design
 from ductgen.export.dxf import dxf_bytes
-from ductgen.export.template_layout import _fabrication, template_drawing
-from ductgen.geometry import build_geometry
+from ductgen.export.template import _fabrication
+from ductgen.export.template_layout import template_drawing
 from ductgen.spec import parse_spec, spec_sha256
+from tests.conftest import naca_ordinates
 
-# NACA ACR 5I20 divergent-wall ordinates, x/L : 2y/W (checks.md, [memory])
-NACA = [
-    (0.0, 0.083),
-    (0.1, 0.158),
-    (0.2, 0.236),
-    (0.3, 0.312),
-    (0.4, 0.388),
-    (0.5, 0.466),
-    (0.6, 0.614),
-    (0.7, 0.766),
-    (0.8, 0.916),
-    (0.9, 0.996),
-    (1.0, 1.000),
-]
+# NACA ACR 5I20 divergent-wall ordinates (tests/data/naca_ordinates.json, [memory])
+NACA = naca_ordinates()
 TOL = 0.02  # default template.tolerance (mm)
 
 
@@ -43,8 +33,9 @@ def _spec(**template):  # type: ignore[no-untyped-def]
 
 
 def _read(spec):  # type: ignore[no-untyped-def]
-    g = build_geometry(spec)
-    data = dxf_bytes(template_drawing(g, spec, spec_sha256(spec), *_fabrication(g, spec)))
+    d = build_design(spec)
+    g = d.geometry
+    data = dxf_bytes(template_drawing(g, spec, spec_sha256(spec), *_fabrication(d, spec)))
     return g, ezdxf.read(io.StringIO(data.decode("utf-8")))
 
 
@@ -222,11 +213,12 @@ def test_kerf_shrinks_opening_by_half_kerf_times_perimeter(mm_doc) -> None:  # t
 
 def test_flange_outline_matches_fabrication_layout(mm_doc) -> None:  # type: ignore[no-untyped-def]
     """The arc-fitted flange outline agrees with the fabrication module's sampled outline."""
+    from ductgen.design import fabrication_from_spec
     from ductgen.geometry.fabrication import flange_layout
 
     g, doc = mm_doc
     spec = _spec()
-    fl = flange_layout(g, spec.insert, spec.skin, n=4000)
+    fl = flange_layout(g, fabrication_from_spec(spec).insert, n=4000)
     flange = max(_cut(doc), key=_area)
     p = _sample(flange, step=0.5)
     ref = fl.outline_xy

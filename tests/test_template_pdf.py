@@ -15,8 +15,8 @@ import numpy as np
 import pymupdf
 import pytest
 
-from ductgen.export.template_layout import template_files
-from ductgen.geometry import build_geometry
+from ductgen.design import build_design
+from ductgen.export.template import template_files
 from ductgen.spec import parse_spec, spec_sha256
 
 PT = 72.0 / 25.4
@@ -30,8 +30,9 @@ def _pdf(width: float, depth: float, **template):  # type: ignore[no-untyped-def
     spec = parse_spec(
         {"name": "p", "throat": {"width": width, "depth": depth}, "template": template}
     )
-    g = build_geometry(spec)
-    data = template_files(g, spec, spec_sha256(spec))["template.pdf"]
+    d = build_design(spec)
+    g = d.geometry
+    data = template_files(d, spec, spec_sha256(spec))["template.pdf"]
     return g, spec, pymupdf.open(stream=data, filetype="pdf")
 
 
@@ -95,9 +96,10 @@ def test_tiles_cover_outline_with_overlap(big) -> None:  # type: ignore[no-untyp
     wins = _windows(doc)
     assert len(wins) > 1
     # every point of the opening and the flange lies inside some tile window
-    from ductgen.export.template_layout import _fabrication, template_drawing
+    from ductgen.export.template import _fabrication
+    from ductgen.export.template_layout import template_drawing
 
-    d = template_drawing(g, spec, "0" * 64, *_fabrication(g, spec))
+    d = template_drawing(g, spec, "0" * 64, *_fabrication(build_design(spec), spec))
     pts = np.vstack([c.sample(1.0) for _, c in d.cuts])
     for p in pts:
         assert any(x0 <= p[0] <= x1 and y0 <= p[1] <= y1 for x0, x1, y0, y1 in wins)
