@@ -23,7 +23,7 @@ def main() -> None:
     args = ap.parse_args()
 
     t0 = time.perf_counter()
-    from ductgen.geometry import build_geometry
+    from ductgen.design import build_design
     from ductgen.pipeline import build
     from ductgen.spec import load_spec
     from ductgen.worker import default_worker
@@ -36,7 +36,7 @@ def main() -> None:
         f"import ductgen: {t_import:.2f} s; kernel worker start + import cadquery: {t_kernel:.2f} s"
     )
 
-    cols = ["spec", "geometry", "cutter", "check", "STEP", "STL", "cutter+STEP+STL", "build()"]
+    cols = ["spec", "design", "cutter", "check", "STEP", "STL", "cutter+STEP+STL", "build()"]
     print(f"{'sample':24s}" + "".join(f"{c:>17s}" for c in cols))
     for path in sorted((ROOT / "samples").glob("*.toml")):
         best: dict[str, float] = {}
@@ -45,7 +45,7 @@ def main() -> None:
             spec = load_spec(path)
             t_spec = time.perf_counter() - t0
             t0 = time.perf_counter()
-            build_geometry(spec)
+            build_design(spec)
             t_geo = time.perf_counter() - t0
             with tempfile.TemporaryDirectory() as tmp:
                 t0 = time.perf_counter()
@@ -54,7 +54,7 @@ def main() -> None:
             s = res.seconds
             row = {
                 "spec": t_spec,
-                "geometry": t_geo,
+                "design": t_geo,
                 "cutter": s["cutter_build_s"],
                 "check": s["cutter_check_s"],
                 "STEP": s["cutter_step_s"],

@@ -28,8 +28,7 @@ def main() -> None:
     t0 = time.perf_counter()
     import cadquery  # noqa: F401
 
-    from ductgen.geometry import build_geometry
-    from ductgen.geometry.fabrication import fabrication_params
+    from ductgen.design import build_design
     from ductgen.printability import print_section
     from ductgen.solids.check import CHECK_MESH
     from ductgen.solids.cutter import make_cutter
@@ -45,19 +44,19 @@ def main() -> None:
     )
     for path in args.specs:
         spec = load_spec(path)
-        g, fab = build_geometry(spec), fabrication_params(spec)
+        d = build_design(spec)
         best = {}
-        cutter = make_cutter(g)
+        cutter = make_cutter(d)
         jobs = (
-            ("insert", lambda g, fab, c=cutter: make_insert(g, fab, cutter=c)),  # as the pipeline
-            ("insert+cutter", lambda g, fab: make_insert(g, fab)),
+            ("insert", lambda d, c=cutter: make_insert(d, cutter=c)),  # as the pipeline
+            ("insert+cutter", lambda d: make_insert(d)),
             ("plug", make_plug),
         )
         for kind, fn in jobs:
             times = []
             for _ in range(args.n):
                 t = time.perf_counter()
-                solid = fn(g, fab)
+                solid = fn(d)
                 times.append(time.perf_counter() - t)
                 if kind == "insert":
                     insert = solid
