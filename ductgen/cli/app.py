@@ -15,7 +15,7 @@ from rich.console import Console
 
 from ductgen.errors import DuctgenError
 
-__all__ = ["app", "err_console", "main"]
+__all__ = ["Terminated", "app", "err_console", "main"]
 
 app = typer.Typer(
     name="ductgen",
@@ -24,9 +24,36 @@ app = typer.Typer(
     no_args_is_help=True,
     add_completion=False,
     pretty_exceptions_enable=False,
+    rich_markup_mode=None,  # help text is printed literally (no markup, no :emoji: codes)
 )
 
-err_console = Console(stderr=True, highlight=False)
+#: stderr console; user text is never read as markup or emoji codes (``120:100:10`` stays).
+err_console = Console(stderr=True, highlight=False, emoji=False, markup=False)
+
+
+class Terminated(KeyboardInterrupt):
+    """``SIGTERM`` (or ``SIGHUP``) received: unwinds like Ctrl-C, so every ``finally`` and
+    staging clean-up runs and kernel workers are stopped."""
+
+    def __init__(self, signum: int) -> None:
+        super().__init__(signum)
+        self.signum = signum
+
+
+def _on_terminate(signum: int, _frame: object) -> None:
+    raise Terminated(signum)
+
+
+def _install_signal_handlers() -> None:
+    import signal
+    import threading
+
+    if threading.current_thread() is not threading.main_thread():
+        return
+    for name in ("SIGTERM", "SIGHUP"):
+        sig = getattr(signal, name, None)
+        if sig is not None and signal.getsignal(sig) in (signal.SIG_DFL, None):
+            signal.signal(sig, _on_terminate)
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -35,29 +62,38 @@ def main(argv: list[str] | None = None) -> int:
 
     from ductgen.cli import commands  # noqa: F401  (registers the commands)
 
+    _install_signal_handlers()
     try:
         rv = app(args=argv, standalone_mode=False)
         code = rv if isinstance(rv, int) else 0  # click returns Exit codes in this mode
     except click.exceptions.Exit as ex:
         code = ex.exit_code
     except click.exceptions.Abort:
-        err_console.print("aborted")
-        code = 1
+        err_console.print("interrupted: nothing was written (previous files are unchanged)")
+        code = 130
     except click.ClickException as ex:
         ex.show(file=sys.stderr)
         code = 2
     except DuctgenError as ex:
-        err_console.print(f"[bold red]error:[/] {ex}", markup=True, soft_wrap=True)
+        err_console.print(f"error: {ex}", soft_wrap=True)
         code = ex.exit_code
-    except KeyboardInterrupt:
-        code = 130
+    except KeyboardInterrupt as ex:
+        signum = getattr(ex, "signum", 2)
+        err_console.print(
+            "interrupted: nothing partial was published (previous files are unchanged)"
+        )
+        code = 128 + signum
+    except RecursionError:
+        err_console.print("error: the input is nested too deeply to read")
+        code = 2
     except Exception as ex:  # an internal failure: short message, traceback on request
         if os.environ.get("DUCTGEN_DEBUG"):
             raise
+        from ductgen.errors import excerpt
+
         err_console.print(
-            f"[bold red]internal error:[/] {type(ex).__name__}: {ex} "
+            f"internal error: {type(ex).__name__}: {excerpt(str(ex), 400)} "
             "(set DUCTGEN_DEBUG=1 for the traceback)",
-            markup=True,
             soft_wrap=True,
         )
         code = 1

@@ -95,7 +95,7 @@ def _summary(result, out_dir: Path) -> None:  # type: ignore[no-untyped-def]
     from rich.table import Table
 
     g = result.report["geometry"]
-    con = Console()
+    con = Console(emoji=False, markup=False, highlight=False)
     t = Table(title=f"{result.report['name']}", show_header=False, box=None)
     rows = [
         ("throat W × D", f"{g['throat_width_mm']:.1f} × {g['throat_depth_mm']:.1f} mm"),
@@ -124,9 +124,7 @@ def _summary(result, out_dir: Path) -> None:  # type: ignore[no-untyped-def]
         t.add_row(a, b)
     con.print(t)
     for w in result.report.get("warnings", []):
-        err_console.print(
-            f"[yellow]warning[/] {w['code']}: {w['message']}", markup=True, soft_wrap=True
-        )
+        err_console.print(f"warning {w['code']}: {w['message']}", soft_wrap=True)
     con.print(f"wrote {len(result.files)} files to {out_dir}")
 
 
@@ -186,4 +184,4 @@ def profiles_command(
     t = Table("name", "stations", "source", "note")
     for p in profs:
         t.add_row(p.name, str(len(p.x)), p.source, p.note)
-    Console().print(t)
+    Console(emoji=False, markup=False, highlight=False).print(t)

@@ -98,6 +98,6 @@ def check_command(
         if rep.get("min_wall_mm") is not None:
             typer.echo(f"  thinnest wall {rep['min_wall_mm']:.2f} mm at {rep['min_wall_at_mm']}")
         for p in rep["problems"]:
-            err_console.print(f"[yellow]problem[/] {p}", markup=True)
+            err_console.print(f"problem {p}")
     if not rep["healthy"]:
         raise UnhealthyFileError(f"{file} is not healthy: " + "; ".join(rep["problems"]))

@@ -79,7 +79,7 @@ def sweep_command(
             bar.update(task, total=total, completed=done, counts=counts)
             if result is not None and result.status == "failed":
                 bar.console.print(
-                    f"[red]failed[/] {result.id}: {result.error}", markup=True, soft_wrap=True
+                    f"failed {result.id}: {result.error}", soft_wrap=True, markup=False, emoji=False
                 )
 
         result = run_sweep(
@@ -100,8 +100,7 @@ def sweep_command(
         _summary(result, out_dir)
     if result.failed:
         err_console.print(
-            f"[bold red]{len(result.failed)} of {len(result.results)} variants failed[/]",
-            markup=True,
+            f"{len(result.failed)} of {len(result.results)} variants failed",
         )
         for r in result.failed:
             err_console.print(f"  {r.id}: {r.error}", soft_wrap=True, markup=False)
@@ -143,7 +142,7 @@ def _summary(result, out_dir: Path) -> None:  # type: ignore[no-untyped-def]
                 for c in cols
             )
         )
-    con = Console()
+    con = Console(emoji=False, markup=False, highlight=False)
     con.print(t)
     built = sum(r.status == "built" for r in result.results)
     cached = sum(r.status == "cached" for r in result.results)
