@@ -9,13 +9,14 @@ from __future__ import annotations
 
 import os
 import sys
+from pathlib import Path
 
 import typer
 from rich.console import Console
 
 from ductgen.errors import DuctgenError
 
-__all__ = ["Terminated", "app", "err_console", "main"]
+__all__ = ["Terminated", "app", "err_console", "main", "only_kinds", "out_folder"]
 
 app = typer.Typer(
     name="ductgen",
@@ -54,6 +55,35 @@ def _install_signal_handlers() -> None:
         sig = getattr(signal, name, None)
         if sig is not None and signal.getsignal(sig) in (signal.SIG_DFL, None):
             signal.signal(sig, _on_terminate)
+
+
+def out_folder(out: str | None, default: Path) -> Path:
+    """The ``-o/--out`` folder: ``default`` when not given; an empty text is refused
+    (it would silently mean the current folder)."""
+    from ductgen.errors import SpecError
+
+    if out is None:
+        return default
+    if not out.strip():
+        raise SpecError("-o/--out", out, "a folder path", "the path is empty")
+    return Path(out)
+
+
+def only_kinds(only: str | None) -> list[str] | None:
+    """The ``--only`` list; None when not given. An empty list is refused (it would
+    silently build everything)."""
+    from ductgen.errors import SpecError
+
+    if only is None:
+        return None
+    kinds = [k.strip() for k in only.split(",") if k.strip()]
+    if not kinds:
+        from ductgen.pipeline.builder import output_kinds
+
+        raise SpecError(
+            "--only", only, "a comma list of " + ", ".join(output_kinds()), "the list is empty"
+        )
+    return kinds
 
 
 def main(argv: list[str] | None = None) -> int:

@@ -27,7 +27,7 @@ def sweep_command(
         bool, typer.Option("--zip", help="pair the --vary lists instead of a grid")
     ] = False,
     out: Annotated[
-        Path | None, typer.Option("-o", "--out", help="sweep folder [default: ./NAME-sweep]")
+        str | None, typer.Option("-o", "--out", help="sweep folder [default: ./NAME-sweep]")
     ] = None,
     jobs: Annotated[
         int | None, typer.Option("-j", "--jobs", help="worker processes [default: all cores]")
@@ -56,12 +56,15 @@ def sweep_command(
     """Build variants of a spec in parallel and compare them side by side."""
     from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
 
+    from ductgen.cli.app import only_kinds, out_folder
     from ductgen.spec import load_spec
     from ductgen.sweep import parse_vary, run_sweep
 
     varies = [parse_vary(v) for v in vary]
-    kinds = [k.strip() for k in only.split(",") if k.strip()] if only else None
-    out_dir = out if out is not None else Path.cwd() / f"{load_spec(spec).name}-sweep"
+    kinds = only_kinds(only)
+    out_dir = (
+        out_folder(out, Path()) if out is not None else Path.cwd() / f"{load_spec(spec).name}-sweep"
+    )
     show = not (quiet or as_json)
     with Progress(
         TextColumn("sweep"),
