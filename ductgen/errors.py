@@ -83,7 +83,7 @@ class SpecError(DuctgenError):
         )
 
     def _format(self) -> str:
-        head = f"invalid spec{f' {self.source}' if self.source else ''}:"
+        head = f"invalid spec {self.source}:" if self.source else "invalid input:"
         lines = [head]
         for p in self.problems:
             line = f"  {p.key}"

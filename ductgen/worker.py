@@ -65,21 +65,25 @@ def die_with_parent(parent_pid: int, sig: int = signal.SIGKILL) -> None:
     (crash, ``SIGKILL``, ``SIGTERM``, normal exit).
 
     On Linux the kernel delivers ``sig`` when the parent dies (``PR_SET_PDEATHSIG`` via
-    ``prctl``); everywhere, a daemon thread checks once a second that ``parent_pid`` is
-    still the parent and exits quietly otherwise. Interrupts (``SIGINT`` from the terminal
+    ``prctl``); where that is not available a daemon thread checks once a second that
+    ``parent_pid`` is still the parent. Between jobs the child also leaves when its pipe
+    to the parent closes (end of file on the socket). Interrupts (``SIGINT`` from the terminal
     reaches the whole process group) are ignored here: the parent decides.
     """
     signal.signal(signal.SIGINT, signal.SIG_IGN)
+    armed = False
     if sys.platform.startswith("linux"):
         try:
             import ctypes
 
             libc = ctypes.CDLL(None, use_errno=True)
-            libc.prctl(_PR_SET_PDEATHSIG, int(sig), 0, 0, 0)
+            armed = libc.prctl(_PR_SET_PDEATHSIG, int(sig), 0, 0, 0) == 0
         except (OSError, AttributeError):  # pragma: no cover - no libc prctl
-            pass
+            armed = False
     if os.getppid() != parent_pid:  # the parent died before prctl took effect
         os._exit(0)
+    if armed:
+        return  # no extra thread: its stack and malloc arena count against RLIMIT_AS
 
     def _watch() -> None:  # pragma: no cover - runs in the child
         import time

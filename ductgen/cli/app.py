@@ -41,7 +41,11 @@ class Terminated(KeyboardInterrupt):
         self.signum = signum
 
 
+_SIGNAL: list[int] = []  # the terminating signal received, if any
+
+
 def _on_terminate(signum: int, _frame: object) -> None:
+    _SIGNAL.append(signum)
     raise Terminated(signum)
 
 
@@ -99,7 +103,6 @@ def main(argv: list[str] | None = None) -> int:
     except click.exceptions.Exit as ex:
         code = ex.exit_code
     except click.exceptions.Abort:
-        err_console.print("interrupted: nothing was written (previous files are unchanged)")
         code = 130
     except click.ClickException as ex:
         ex.show(file=sys.stderr)
@@ -107,12 +110,8 @@ def main(argv: list[str] | None = None) -> int:
     except DuctgenError as ex:
         err_console.print(f"error: {ex}", soft_wrap=True)
         code = ex.exit_code
-    except KeyboardInterrupt as ex:
-        signum = getattr(ex, "signum", 2)
-        err_console.print(
-            "interrupted: nothing partial was published (previous files are unchanged)"
-        )
-        code = 128 + signum
+    except KeyboardInterrupt:
+        code = 130
     except RecursionError:
         err_console.print("error: the input is nested too deeply to read")
         code = 2
@@ -127,6 +126,12 @@ def main(argv: list[str] | None = None) -> int:
             soft_wrap=True,
         )
         code = 1
+    if code == 130 or _SIGNAL:  # typer turns an interrupt into exit code 130 itself
+        err_console.print(
+            "interrupted: nothing partial was published (previous files are unchanged)"
+        )
+        code = 128 + (_SIGNAL[0] if _SIGNAL else 2)
+        _SIGNAL.clear()
     if argv is None:
         sys.exit(code)
     return code
