@@ -9,7 +9,51 @@ import typer
 
 from ductgen.cli.app import app, err_console
 
-__all__ = ["sweep_command"]
+__all__ = ["CONFIRM_ABOVE", "SECONDS_PER_VARIANT", "sweep_command"]
+
+#: A sweep of more variants than this needs ``--yes`` (or a ``--max-variants`` at least as
+#: large): a typo in a step must not start hours of work silently.
+CONFIRM_ABOVE = 50
+
+#: Rough wall-clock seconds of one variant on one worker, for the estimate printed before a
+#: sweep starts: measured with the club-racer-brake sample on a shared 2-core machine
+#: (all outputs; cutter only). A guide, not a promise.
+SECONDS_PER_VARIANT = {"all": 60.0, "cutter": 12.0}
+
+
+def _announce(varies, zip_values, jobs, kinds, yes, max_variants, silent):  # type: ignore[no-untyped-def]
+    """Say how many variants and roughly how long, and refuse a large sweep without
+    ``--yes`` or beyond ``--max-variants`` (exit 2, before anything is built)."""
+    from ductgen.errors import SpecError
+    from ductgen.sweep.run import default_jobs
+    from ductgen.sweep.vary import combinations
+
+    if max_variants is not None and max_variants < 1:
+        raise SpecError("--max-variants", max_variants, ">= 1", "a limit on the variant count")
+    n = len(combinations(varies, zip_values))
+    workers = max(1, min(jobs or default_jobs(), n))
+    per = SECONDS_PER_VARIANT["cutter" if kinds == ["cutter"] else "all"]
+    est = n * per / workers
+    when = f"{est / 60:.0f} min" if est < 5400 else f"{est / 3600:.1f} h"
+    line = (
+        f"sweep: {n} variants on {workers} worker(s), roughly {when} (unchanged ones are skipped)"
+    )
+    if max_variants is not None and n > max_variants:
+        raise SpecError(
+            "--max-variants",
+            max_variants,
+            f">= {n} for this sweep",
+            f"the --vary grid has {n} variants",
+        )
+    if n > CONFIRM_ABOVE and not yes and max_variants is None:
+        raise SpecError(
+            "--yes",
+            None,
+            f"--yes (or --max-variants {n}) to start more than {CONFIRM_ABOVE} variants",
+            line,
+        )
+    if not silent:
+        err_console.print(line)
 
 
 @app.command("sweep")
@@ -48,6 +92,14 @@ def sweep_command(
             "--scheduler", help="Dask scheduler address (tcp://host:8786): run on that cluster"
         ),
     ] = None,
+    yes: Annotated[
+        bool,
+        typer.Option("--yes", "-y", help=f"start a sweep of more than {CONFIRM_ABOVE} variants"),
+    ] = False,
+    max_variants: Annotated[
+        int | None,
+        typer.Option("--max-variants", help="refuse a sweep with more variants than this"),
+    ] = None,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="print nothing on success")] = False,
     as_json: Annotated[
         bool, typer.Option("--json", help="print comparison.json to stdout")
@@ -62,6 +114,7 @@ def sweep_command(
 
     varies = [parse_vary(v) for v in vary]
     kinds = only_kinds(only)
+    _announce(varies, zip_values, jobs, kinds, yes, max_variants, quiet or as_json)
     out_dir = (
         out_folder(out, Path()) if out is not None else Path.cwd() / f"{load_spec(spec).name}-sweep"
     )
