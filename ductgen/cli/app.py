@@ -90,21 +90,40 @@ def only_kinds(only: str | None) -> list[str] | None:
     return kinds
 
 
+def _click_exceptions() -> tuple[tuple[type, ...], tuple[type, ...], tuple[type, ...]]:
+    """(Exit, Abort, ClickException) classes of click and of typer's own copy of click
+    (typer >= 0.2x raises the latter)."""
+    import click
+    import typer
+
+    mods = [click.exceptions, typer, typer.exceptions]
+    try:
+        from typer._click import exceptions as typer_click
+
+        mods.append(typer_click)
+    except ImportError:  # pragma: no cover - typer without a vendored click
+        pass
+
+    def found(name: str) -> tuple[type, ...]:
+        return tuple({getattr(m, name) for m in mods if isinstance(getattr(m, name, None), type)})
+
+    return found("Exit"), found("Abort"), found("ClickException")
+
+
 def main(argv: list[str] | None = None) -> int:
     """Console entry point; returns (and exits with) the process exit code."""
-    import click
-
     from ductgen.cli import commands  # noqa: F401  (registers the commands)
 
     _install_signal_handlers()
+    exits, aborts, usage = _click_exceptions()
     try:
         rv = app(args=argv, standalone_mode=False)
         code = rv if isinstance(rv, int) else 0  # click returns Exit codes in this mode
-    except click.exceptions.Exit as ex:
+    except exits as ex:
         code = ex.exit_code
-    except click.exceptions.Abort:
+    except aborts:
         code = 130
-    except click.ClickException as ex:
+    except usage as ex:
         ex.show(file=sys.stderr)
         code = 2
     except DuctgenError as ex:
