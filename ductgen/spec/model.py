@@ -115,7 +115,14 @@ class LipSpec(Section):
     ]
     thickness: Annotated[Mm, Field(default=4.0, gt=0, le=100, description="lip thickness")]
     nose_ratio: Annotated[
-        float, Field(default=2.0, ge=1, le=8, description="elliptical nose major/minor ratio")
+        float,
+        Field(
+            default=2.0,
+            ge=1.1,
+            le=8,
+            description="elliptical nose major/minor ratio; from 1.1 (at 1.0, a circle, the "
+            "kernel's nose cut fails: found by the hardening property test)",
+        ),
     ]
     fairing_length: Annotated[
         Mm | None,
