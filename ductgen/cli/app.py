@@ -114,7 +114,8 @@ def main(argv: list[str] | None = None) -> int:
     """Console entry point; returns (and exits with) the process exit code."""
     from ductgen.cli import commands  # noqa: F401  (registers the commands)
 
-    _install_signal_handlers()
+    if argv is None:  # the real command line (not a caller embedding main())
+        _install_signal_handlers()
     exits, aborts, usage = _click_exceptions()
     try:
         rv = app(args=argv, standalone_mode=False)

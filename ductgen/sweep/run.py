@@ -329,9 +329,9 @@ def run_sweep(
         note(r, counts["done"], counts["failed"], total)
 
     n_jobs = min(jobs or default_jobs(), max(1, len(todo)))
-    out.mkdir(parents=True, exist_ok=True)
     ordered: list[VariantResult]
     with _executor(n_jobs if todo else 1, scheduler if todo else None) as ex:
+        out.mkdir(parents=True, exist_ok=True)  # only once the executor is reachable
         _run_all(build_variant, todo, ex, done)
         ordered = [results[i] for i in ids]
         comparison = compare_all(tasks, ordered, base, ex) if "cutter" in kinds else {}
