@@ -8,16 +8,104 @@ overwritten unless ``force`` is set.
 
 from __future__ import annotations
 
+import errno
 import os
 import shutil
+import socket
 import tempfile
 from collections.abc import Iterable
 from pathlib import Path
 from types import TracebackType
 
-from ductgen.errors import ExportError, OverwriteError
+from ductgen.errors import ExportError, OverwriteError, SpecError
 
-__all__ = ["OutputSet", "check_free", "write_atomic"]
+__all__ = [
+    "STAGING_PREFIX",
+    "OutputSet",
+    "check_free",
+    "check_out_dir",
+    "clean_stale_staging",
+    "write_atomic",
+]
+
+#: Hidden staging folders are named ``STAGING_PREFIX + host + "-" + pid + "-" + random``,
+#: so a later run can tell a dead run's leftovers from a live build's.
+STAGING_PREFIX = ".ductgen-staging-"
+
+_DISK_FULL = {errno.ENOSPC, getattr(errno, "EDQUOT", errno.ENOSPC)}
+
+
+def _host() -> str:
+    return "".join(c if c.isalnum() else "_" for c in socket.gethostname())[:40] or "host"
+
+
+def _existing_ancestor(path: Path) -> Path:
+    p = Path(os.path.abspath(path))
+    while not p.exists() and p != p.parent:
+        p = p.parent
+    return p
+
+
+def check_out_dir(out_dir: Path, option: str = "-o/--out") -> Path:
+    """The existing folder where ``out_dir``'s staging folder goes (``out_dir`` itself or
+    its nearest existing parent), after checking ``out_dir`` can be a writable folder.
+
+    Raises:
+        SpecError: on ``option`` when the path is empty, a file, under a file, or in a
+            folder this process may not write to.
+    """
+    if str(out_dir).strip() == "":
+        raise SpecError(option, str(out_dir), "a folder path", "the path is empty")
+    base = _existing_ancestor(out_dir)
+    if not base.is_dir():
+        where = "is" if base == Path(os.path.abspath(out_dir)) else f"is under {base}, which is"
+        raise SpecError(
+            option, str(out_dir), "a folder (existing or new)", f"the path {where} a file"
+        )
+    if not os.access(base, os.W_OK | os.X_OK):
+        raise SpecError(
+            option, str(out_dir), "a folder you may write to", f"{base} is not writable"
+        )
+    return base
+
+
+def clean_stale_staging(folder: Path) -> list[Path]:
+    """Remove staging folders in ``folder`` left by runs of this host that were killed
+    (their process no longer exists); returns what was removed."""
+    removed: list[Path] = []
+    prefix = f"{STAGING_PREFIX}{_host()}-"
+    try:
+        entries = list(Path(folder).iterdir())
+    except OSError:
+        return removed
+    for entry in entries:
+        if not entry.name.startswith(prefix) or not entry.is_dir():
+            continue
+        pid_text = entry.name[len(prefix) :].split("-", 1)[0]
+        if not pid_text.isdigit():
+            continue
+        pid = int(pid_text)
+        alive = True
+        try:
+            os.kill(pid, 0)
+        except ProcessLookupError:
+            alive = False
+        except PermissionError:
+            alive = True
+        if not alive:
+            shutil.rmtree(entry, ignore_errors=True)
+            removed.append(entry)
+    return removed
+
+
+def _write_error(err: OSError, path: Path) -> ExportError:
+    """An :class:`ExportError` that says what went wrong writing ``path``."""
+    if err.errno in _DISK_FULL:
+        return ExportError(
+            f"the disk is full: no space left writing {path.name} in {path.parent}; "
+            "nothing was published and existing files are unchanged"
+        )
+    return ExportError(f"cannot write {path}: {err.strerror or err}")
 
 
 def _umask() -> int:
@@ -41,8 +129,11 @@ def write_atomic(path: Path, data: bytes, force: bool = False) -> Path:
     """Write ``data`` to ``path`` through a temporary file and a rename."""
     path = Path(path)
     check_free([path], force)
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
+    try:
+        path.parent.mkdir(parents=True, exist_ok=True)
+        fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
+    except OSError as err:
+        raise _write_error(err, path) from None
     try:
         with os.fdopen(fd, "wb") as fh:
             fh.write(data)
@@ -50,6 +141,9 @@ def write_atomic(path: Path, data: bytes, force: bool = False) -> Path:
             os.fsync(fh.fileno())
         os.chmod(tmp, 0o666 & ~_umask())
         os.replace(tmp, path)
+    except OSError as err:
+        Path(tmp).unlink(missing_ok=True)
+        raise _write_error(err, path) from None
     except BaseException:
         Path(tmp).unlink(missing_ok=True)
         raise
@@ -71,8 +165,19 @@ class OutputSet:
         self._staging: Path | None = None
 
     def __enter__(self) -> OutputSet:
-        self.out_dir.mkdir(parents=True, exist_ok=True)
-        self._staging = Path(tempfile.mkdtemp(prefix=".ductgen-staging-", dir=self.out_dir))
+        # Stage in the output folder, or in its nearest existing parent while the folder
+        # does not exist yet (same file system either way): the folder itself is made
+        # only when publishing, so a failed build leaves no empty folder behind.
+        base = check_out_dir(self.out_dir)
+        clean_stale_staging(base)
+        if base != Path(os.path.abspath(self.out_dir)) and self.out_dir.is_dir():
+            clean_stale_staging(self.out_dir)
+        try:
+            self._staging = Path(
+                tempfile.mkdtemp(prefix=f"{STAGING_PREFIX}{_host()}-{os.getpid()}-", dir=base)
+            )
+        except OSError as err:
+            raise _write_error(err, base / "staging") from None
         return self
 
     def __exit__(
@@ -113,7 +218,11 @@ class OutputSet:
         if missing:
             raise ExportError(f"internal: staged files never written: {', '.join(missing)}")
         mode = 0o666 & ~_umask()
-        for name, final in finals.items():
-            os.chmod(self.staging / name, mode)
-            os.replace(self.staging / name, final)
+        try:
+            self.out_dir.mkdir(parents=True, exist_ok=True)
+            for name, final in finals.items():
+                os.chmod(self.staging / name, mode)
+                os.replace(self.staging / name, final)
+        except OSError as err:
+            raise _write_error(err, self.out_dir / "(publishing)") from None
         return finals

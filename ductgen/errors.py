@@ -13,12 +13,14 @@ from dataclasses import dataclass
 from typing import Any
 
 __all__ = [
+    "EXCERPT_CHARS",
     "DesignWarning",
     "DuctgenError",
     "ExportError",
     "GeometryError",
     "OverwriteError",
     "SpecError",
+    "excerpt",
 ]
 
 
@@ -81,12 +83,12 @@ class SpecError(DuctgenError):
         )
 
     def _format(self) -> str:
-        head = f"invalid spec{f' {self.source}' if self.source else ''}:"
+        head = f"invalid spec {self.source}:" if self.source else "invalid input:"
         lines = [head]
         for p in self.problems:
             line = f"  {p.key}"
             if p.value is not None:
-                line += f" = {p.value!r}"
+                line += f" = {excerpt(p.value)}"
             if p.allowed:
                 line += f": allowed {p.allowed}"
             if p.reason:
@@ -115,6 +117,25 @@ class OverwriteError(ExportError):
     """An output file exists and ``--force`` was not given (bad input: exit 2)."""
 
     exit_code = 2
+
+
+#: Longest echo of a user's value in a message (characters).
+EXCERPT_CHARS = 80
+
+
+def excerpt(value: Any, limit: int = EXCERPT_CHARS) -> str:
+    """A short ``repr`` of ``value`` for messages: a 50 MB string or a huge table is cut to
+    ``limit`` characters with its full length stated."""
+    import reprlib
+
+    r = reprlib.Repr()
+    r.maxstring = r.maxother = r.maxlong = limit
+    r.maxlist = r.maxtuple = r.maxdict = r.maxset = 6
+    r.maxlevel = 3
+    text = r.repr(value)
+    if isinstance(value, str | bytes) and len(value) > limit:
+        text += f" ({len(value):,} characters)"
+    return text if len(text) <= 2 * limit else text[: 2 * limit] + "…"
 
 
 def _rebuild_spec_error(problems: list[dict[str, Any]], source: str | None) -> SpecError:

@@ -32,6 +32,7 @@ from ductgen.resources import materials_path
 __all__ = [
     "FDM_MIN_WALL_MM",
     "Material",
+    "check_file",
     "load_materials",
     "mesh_closure",
     "mesh_health",
@@ -267,3 +268,57 @@ def plug_section(plug: Any, edge_radius_mm: float) -> tuple[dict[str, Any], list
             )
         )
     return section, warns
+
+
+# --- `ductgen check`: the health decision for one user file --------------------------------
+
+
+def check_file(path: str | Path, min_wall: float = 0.0) -> dict[str, Any]:
+    """Health report of one STL or STEP file (mm): ``healthy`` means closed, consistently
+    wound, positive volume and (when ``min_wall`` > 0 mm) no wall thinner than ``min_wall``.
+
+    STL is read with numpy (:func:`ductgen.solids.read.read_stl`); STEP in the kernel
+    worker (memory cap, timeout).
+
+    Raises:
+        SpecError: on ``FILE`` when the file is missing, a folder, empty, truncated, garbage
+            or holds NaN vertices; on ``--min-wall`` when it is negative or not finite.
+    """
+    from ductgen.errors import SpecError
+    from ductgen.solids.read import check_readable, read_stl
+
+    if not (math.isfinite(min_wall) and min_wall >= 0):
+        raise SpecError(
+            "--min-wall", min_wall, "a finite thickness >= 0 mm", "0 reports the wall only"
+        )
+    p = Path(path)
+    suffix = p.suffix.lower()
+    check_readable(p)  # missing, a folder, empty, a pipe, too large
+    if suffix == ".stl":
+        verts, faces = read_stl(p)
+    elif suffix in (".step", ".stp"):
+        from ductgen.worker import default_worker
+
+        verts, faces = default_worker().run("ductgen.solids.read:step_mesh", str(p))
+    else:
+        raise SpecError("FILE", str(p), "a .stl, .step or .stp file", "unknown file type")
+    health = mesh_health(verts, faces)
+    report: dict[str, Any] = {"file": str(path), **health}
+    report["manifold"] = bool(health["watertight"] and health["winding_consistent"])
+    problems = []
+    if not health["watertight"]:
+        problems.append("not closed: some edges are not shared by exactly two triangles")
+    elif not health["winding_consistent"]:
+        problems.append("inconsistent triangle orientation")
+    if health["volume_mm3"] <= 0:
+        problems.append("non-positive volume (inverted or open)")
+    if report["manifold"] and len(faces):
+        wall = min_wall_mm(verts, faces)
+        report["min_wall_mm"] = wall["min_wall_mm"]
+        report["min_wall_at_mm"] = wall["at_mm"]
+        thin = wall["min_wall_mm"]
+        if min_wall > 0 and thin is not None and thin < min_wall:
+            problems.append(f"thin wall {thin:.2f} mm < {min_wall:g} mm at {wall['at_mm']}")
+    report["problems"] = problems
+    report["healthy"] = not problems
+    return report

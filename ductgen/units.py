@@ -1,21 +1,29 @@
-"""Quantities with units at the edge of the package.
+"""Quantities with units at the edge of the package: THE one quantity parser.
 
 Spec files may write ``width = "4.5 in"`` or ``speed = "160 km/h"``; this module turns such
 values into plain floats once, at load, in the package's internal units: mm for geometry
 lengths, degrees for angles, SI for flow. Nothing inside the package sees a unit string.
 
+A quantity is read by a small, bounded grammar and never evaluated as an expression::
+
+    quantity := number [unit]          (at most MAX_QUANTITY_CHARS characters)
+    number   := [+-] digits [. digits] [e [+-] d{1,3}]
+    unit     := factor ((" " | "*" | "·" | "/") factor)*     (at most MAX_UNIT_FACTORS)
+    factor   := name [("^" | "**") [+-] d]                   (exponent -9..9)
+    name     := letters, digits, "_" (a pint unit name: mm, in, km, h, inH2O, delta_degC)
+
+so ``"10**10**10 mm"`` or ``"__import__('os')"`` is refused in microseconds with a sentence.
+pint is used only to look up single unit names and to convert.
+
 Rule for bare numbers: a *geometry* length written without a unit is in mm. Quantities whose
 bare number could be misread (speeds, flows, pressures, flow-path lengths) need a unit,
 except zero, which is the same in every unit.
-
-Pydantic field types are made with :func:`quantity`, for example::
-
-    width: Annotated[float, quantity("length", "mm", default_unit="mm")]
 """
 
 from __future__ import annotations
 
 import math
+import re
 from dataclasses import dataclass
 from functools import lru_cache
 from typing import Any
@@ -25,12 +33,22 @@ from pydantic import BeforeValidator
 __all__ = [
     "DIMENSIONS",
     "FILE_UNITS",
+    "MAX_QUANTITY_CHARS",
+    "MAX_UNIT_FACTORS",
     "MM_PER_INCH",
     "FileUnit",
     "convert",
+    "describe_dimension",
     "quantity",
+    "rescale",
+    "split_quantity",
     "ureg",
 ]
+
+#: Longest quantity text read (characters); longer text is refused before any parsing.
+MAX_QUANTITY_CHARS = 64
+#: Most unit factors in one quantity (``kg/m^3`` has two).
+MAX_UNIT_FACTORS = 4
 
 #: Dimension name → (pint dimensionality string, an example written for error messages).
 DIMENSIONS: dict[str, tuple[str, str]] = {
@@ -45,6 +63,24 @@ DIMENSIONS: dict[str, tuple[str, str]] = {
     "angle": ("", "'7 deg'"),
 }
 
+#: Names for dimensionalities a user may write by mistake (for error messages only).
+_OTHER_NAMES: dict[str, str] = {
+    "[mass]": "mass",
+    "[time]": "time",
+    "[length] ** 3": "volume",
+    "[mass] * [length] / [time] ** 2": "force",
+    "[mass] * [length] ** 2 / [time] ** 2": "energy",
+    "[mass] * [length] ** 2 / [time] ** 3": "power",
+    "1 / [time]": "frequency",
+    "[length] / [time] ** 2": "acceleration",
+}
+
+_NUMBER = r"[-+]?(?:\d{1,30}(?:\.\d{0,30})?|\.\d{1,30})(?:[eE][-+]?\d{1,3})?"
+_QUANTITY_RE = re.compile(rf"^\s*({_NUMBER})\s*(.*?)\s*$")
+_FACTOR_RE = re.compile(
+    r"\s*([*/·])?\s*([A-Za-z_µμ°][A-Za-z0-9_]{0,20})(?:\s*(?:\^|\*\*)\s*([-+]?\d))?"
+)
+
 
 @lru_cache(maxsize=1)
 def ureg() -> Any:
@@ -54,6 +90,117 @@ def ureg() -> Any:
     reg = pint.UnitRegistry()
     reg.define("cfm = foot ** 3 / minute")
     return reg
+
+
+def _a(word: str) -> str:
+    """``word`` with its indefinite article (``"an area"``, ``"a length"``)."""
+    return ("an " if word[:1].lower() in "aeiou" else "a ") + word
+
+
+def _excerpt(text: str, limit: int = 40) -> str:
+    return text if len(text) <= limit else text[: limit - 1] + "…"
+
+
+def split_quantity(text: str) -> tuple[float, str]:
+    """Split ``"4.5 in"`` into ``(4.5, "in")`` by the bounded grammar (``""`` for a bare
+    number); the unit is normalised (``"m^3/s"`` → ``"m**3/s"``) and known to pint.
+
+    Raises:
+        ValueError: a sentence saying what could not be read and what is accepted.
+    """
+    t = text.strip()
+    if len(t) > MAX_QUANTITY_CHARS:
+        raise ValueError(
+            f"{_excerpt(t)!r} is {len(t)} characters long; a quantity is a number and a "
+            f"unit of at most {MAX_QUANTITY_CHARS} characters"
+        )
+    m = _QUANTITY_RE.match(t)
+    if m is None:
+        raise ValueError(f"cannot read {t!r}: a quantity is a number followed by a unit")
+    magnitude = float(m.group(1))
+    if not math.isfinite(magnitude):
+        raise ValueError(f"{t!r}: the number is too large to be finite")
+    rest = m.group(2)
+    if rest[:1] in tuple("*^/+-(%"):
+        raise ValueError(
+            f"cannot read {_excerpt(t)!r}: a quantity is one number followed by a unit; "
+            "arithmetic is not evaluated"
+        )
+    unit = _parse_unit_text(rest, t) if rest else ""
+    return magnitude, unit
+
+
+def _parse_unit_text(text: str, whole: str) -> str:
+    """Normalised unit text of ``text`` (checked factor by factor against pint)."""
+    reg = ureg()
+    pos, parts = 0, []
+    while pos < len(text):
+        m = _FACTOR_RE.match(text, pos)
+        if m is None or m.end() == pos or (parts and m.group(1) is None and text[pos] != " "):
+            raise ValueError(
+                f"cannot read the unit in {whole!r}: write unit names joined by ' ', '*' or "
+                "'/', with integer powers such as m^3"
+            )
+        op, name, power = m.group(1), m.group(2), m.group(3)
+        if op and not parts:
+            raise ValueError(f"cannot read the unit in {whole!r}: it starts with {op!r}")
+        try:
+            reg.Unit(name)
+        except Exception:  # pint raises several unrelated classes for unknown names
+            raise ValueError(f"unknown unit {name!r} in {whole!r}") from None
+        parts.append(
+            ("/" if op == "/" else "*" if parts else "") + name + (f"**{power}" if power else "")
+        )
+        pos = m.end()
+    if len(parts) > MAX_UNIT_FACTORS:
+        raise ValueError(f"{whole!r} has more than {MAX_UNIT_FACTORS} unit factors")
+    return "".join(parts)
+
+
+def _unit(unit_text: str) -> Any:
+    """pint Unit of a normalised unit text (names and small integer powers only)."""
+    reg = ureg()
+    out = reg.Unit("")
+    for m in re.finditer(r"([*/]?)([^*/]+)(?:\*\*([-+]?\d))?", unit_text):
+        u = reg.Unit(m.group(2)) ** int(m.group(3) or 1)
+        out = out / u if m.group(1) == "/" else out * u
+    return out
+
+
+def _quantity_of(magnitude: float, unit_text: str) -> Any:
+    reg = ureg()
+    return reg.Quantity(magnitude, _unit(unit_text) if unit_text else reg.Unit(""))
+
+
+def describe_dimension(unit_text: str) -> str:
+    """Plain name of what ``unit_text`` measures (``"kg"`` → ``"mass"``), for messages."""
+    reg = ureg()
+    dims = _unit(unit_text).dimensionality if unit_text else reg.Unit("").dimensionality
+    if not dims:
+        return "plain number"
+    for name, (dimstr, _) in DIMENSIONS.items():
+        if dimstr and reg.get_dimensionality(dimstr) == dims:
+            return name.replace("_", " ")
+    for dimstr, name in _OTHER_NAMES.items():
+        if reg.get_dimensionality(dimstr) == dims:
+            return name
+    return f"quantity of dimension {dims}"
+
+
+def rescale(magnitude: float, unit_text: str, to_unit: str) -> float:
+    """``magnitude`` in ``unit_text`` expressed in ``to_unit`` (both normalised texts).
+
+    Raises:
+        ValueError: the units measure different things.
+    """
+    q = _quantity_of(magnitude, unit_text)
+    target = _unit(to_unit)
+    if not q.check(target.dimensionality):
+        raise ValueError(
+            f"'{unit_text}' is a unit of {describe_dimension(unit_text)} and "
+            f"'{to_unit}' of {describe_dimension(to_unit)}"
+        )
+    return float(q.to(target).magnitude)
 
 
 def convert(value: Any, dimension: str, unit: str, default_unit: str | None = None) -> float:
@@ -71,43 +218,58 @@ def convert(value: Any, dimension: str, unit: str, default_unit: str | None = No
             into a validation error located at the spec key).
     """
     dim, example = DIMENSIONS[dimension]
+    what = dimension.replace("_", " ")
     if isinstance(value, bool):
-        raise ValueError(f"expected a {dimension} such as {example}, got a boolean")
+        raise ValueError(f"expected a {what} such as {example}, got a boolean")
     if isinstance(value, int | float):
+        if isinstance(value, int) and abs(value) > 10**30:
+            raise ValueError(
+                f"expected a {what} such as {example}, got a {len(str(value))}-digit number"
+            )
         if not math.isfinite(value):
-            raise ValueError(f"expected a finite {dimension}, got {value}")
+            raise ValueError(f"expected a finite {what}, got {value}")
         if default_unit is None:
             if value == 0:
                 return 0.0
             raise ValueError(
-                f"a bare number is ambiguous for a {dimension}: write the unit, e.g. {example}"
+                f"a bare number is ambiguous for a {what}: write the unit, e.g. {example}"
             )
-        return float(f"{ureg().Quantity(value, default_unit).to(unit).magnitude:.12g}")
+        return _finite(rescale(float(value), default_unit, unit), what, repr(value))
     if not isinstance(value, str):
-        raise ValueError(f"expected a {dimension} such as {example}, got {type(value).__name__}")
+        raise ValueError(f"expected a {what} such as {example}, got {type(value).__name__}")
     text = value.strip()
-    reg = ureg()
     try:
-        q = reg.Quantity(text)
-    except Exception as err:  # pint raises several unrelated classes for bad strings
-        raise ValueError(
-            f"cannot read {text!r} as a {dimension}: {err}; write e.g. {example}"
-        ) from err
-    if not isinstance(q, reg.Quantity) or (q.dimensionless and dimension != "angle"):
+        magnitude, unit_text = split_quantity(text)
+    except ValueError as err:
+        raise ValueError(f"{err}; write a {what} such as {example}") from None
+    reg = ureg()
+    if not unit_text or (not _unit(unit_text).dimensionality and dimension != "angle"):
         if default_unit is None:
+            if magnitude == 0 and not unit_text:
+                return 0.0
             raise ValueError(f"{text!r} has no unit: write the unit, e.g. {example}")
-        q = reg.Quantity(float(q), default_unit)
-    if dimension == "angle" and q.dimensionless and not str(q.units):
-        q = reg.Quantity(float(q.magnitude), "deg")
-    if dimension == "temperature" and q.units in (reg.degC, reg.degF):
+        unit_text = unit_text or default_unit
+        if not _unit(unit_text).dimensionality and dimension != "angle":
+            raise ValueError(f"{text!r} has no unit: write the unit, e.g. {example}")
+    u = _unit(unit_text)
+    if dimension == "temperature" and u in (reg.degC, reg.degF):
         raise ValueError(f"{text!r}: give a temperature difference in K or delta_degC")
-    if not q.check(dim) and not (dimension == "angle" and q.dimensionless):
+    target_dims = reg.get_dimensionality(dim) if dim else _unit("").dimensionality
+    if u.dimensionality != target_dims:
         raise ValueError(
-            f"{text!r} is a {q.dimensionality}, not a {dimension}: write e.g. {example}"
+            f"{text!r} is {_a(describe_dimension(unit_text))}, not {_a(what)}: write e.g. {example}"
         )
-    out = float(f"{q.to(unit).magnitude:.12g}")  # drop float noise of unit factors
+    try:
+        out = rescale(magnitude, unit_text, unit)
+    except Exception as err:  # offset units in products and the like
+        raise ValueError(f"cannot convert {text!r} to {unit}: {err}") from None
+    return _finite(out, what, repr(text))
+
+
+def _finite(value: float, what: str, shown: str) -> float:
+    out = float(f"{value:.12g}")  # drop float noise of unit factors
     if not math.isfinite(out):
-        raise ValueError(f"expected a finite {dimension}, got {text!r}")
+        raise ValueError(f"expected a finite {what}, got {shown}")
     return out
 
 

@@ -14,10 +14,13 @@ may call :func:`stage` to say what it is doing, so a timeout or crash can name t
 from __future__ import annotations
 
 import atexit
+import contextlib
 import os
+import signal
 import socket
 import subprocess
 import sys
+import threading
 import traceback
 from dataclasses import dataclass
 from importlib import import_module
@@ -26,7 +29,7 @@ from typing import Any
 
 from ductgen.errors import DuctgenError, GeometryError
 
-__all__ = ["KernelWorker", "WorkerLimits", "default_worker", "stage"]
+__all__ = ["KernelWorker", "WorkerLimits", "default_worker", "die_with_parent", "stage"]
 
 _stage_conn: Any = None
 
@@ -54,11 +57,64 @@ class WorkerLimits:
 def stage(name: str) -> None:
     """Tell the parent which stage the current job has reached (no-op outside a worker)."""
     if _stage_conn is not None:
-        _stage_conn.send(("stage", name))
+        _send(_stage_conn, ("stage", name))
 
 
-def _main(fd: int, memory_mb: int) -> None:  # pragma: no cover - runs in the child
-    _child(Connection(fd), memory_mb)
+def die_with_parent(parent_pid: int, sig: int = signal.SIGKILL) -> None:
+    """Make the calling process die with its parent, on every exit path of the parent
+    (crash, ``SIGKILL``, ``SIGTERM``, normal exit).
+
+    On Linux the kernel delivers ``sig`` when the parent dies (``PR_SET_PDEATHSIG`` via
+    ``prctl``); where that is not available a daemon thread checks once a second that
+    ``parent_pid`` is still the parent. Between jobs the child also leaves when its pipe
+    to the parent closes (end of file on the socket). Interrupts (``SIGINT`` from the terminal
+    reaches the whole process group) are ignored here: the parent decides.
+    """
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    armed = False
+    if sys.platform.startswith("linux"):
+        try:
+            import ctypes
+
+            libc = ctypes.CDLL(None, use_errno=True)
+            armed = libc.prctl(_PR_SET_PDEATHSIG, int(sig), 0, 0, 0) == 0
+        except (OSError, AttributeError):  # pragma: no cover - no libc prctl
+            armed = False
+    if os.getppid() != parent_pid:  # the parent died before prctl took effect
+        os._exit(0)
+    if armed:
+        return  # no extra thread: its stack and malloc arena count against RLIMIT_AS
+
+    def _watch() -> None:  # pragma: no cover - runs in the child
+        import time
+
+        while True:
+            time.sleep(1.0)
+            if os.getppid() != parent_pid:
+                os._exit(0)
+
+    threading.Thread(target=_watch, name="ductgen-parent-watch", daemon=True).start()
+
+
+_PR_SET_PDEATHSIG = 1
+
+
+def _main(fd: int, memory_mb: int, parent_pid: int = 0) -> None:  # pragma: no cover - child
+    if parent_pid:
+        die_with_parent(parent_pid)
+    # the parent went away or gave up: leave quietly, without a traceback
+    with contextlib.suppress(BrokenPipeError, ConnectionError, EOFError, KeyboardInterrupt):
+        _child(Connection(fd), memory_mb)
+    sys.stdout.flush()
+    os._exit(0)
+
+
+def _send(conn: Any, msg: Any) -> None:  # pragma: no cover - runs in the child
+    """Send to the parent; exit quietly (no traceback) when it is gone."""
+    try:
+        conn.send(msg)
+    except (OSError, EOFError):
+        os._exit(0)
 
 
 def _child(conn: Any, memory_mb: int) -> None:  # pragma: no cover - runs in the child
@@ -82,13 +138,13 @@ def _child(conn: Any, memory_mb: int) -> None:  # pragma: no cover - runs in the
             target, args, kwargs = msg
             mod, fn = target.split(":")
             result = getattr(import_module(mod), fn)(*args, **kwargs)
-            conn.send(("ok", result))
+            _send(conn, ("ok", result))
         except MemoryError:
-            conn.send(("memory", "", traceback.format_exc()))
+            _send(conn, ("memory", "", traceback.format_exc()))
         except DuctgenError as err:
-            conn.send(("ductgen", err, traceback.format_exc()))
+            _send(conn, ("ductgen", err, traceback.format_exc()))
         except BaseException as err:  # kernel exceptions share no base class
-            conn.send(("error", f"{type(err).__name__}: {err}", traceback.format_exc()))
+            _send(conn, ("error", f"{type(err).__name__}: {err}", traceback.format_exc()))
 
 
 class KernelWorker:
@@ -108,7 +164,8 @@ class KernelWorker:
             [
                 sys.executable,
                 "-c",
-                f"from ductgen.worker import _main; _main({fd}, {self.limits.memory_mb})",
+                "from ductgen.worker import _main; "
+                f"_main({fd}, {self.limits.memory_mb}, {os.getpid()})",
             ],
             pass_fds=(fd,),
             stdin=subprocess.DEVNULL,
@@ -145,6 +202,16 @@ class KernelWorker:
         import time
 
         deadline = time.monotonic() + timeout
+        try:
+            return self._wait(current, timeout, deadline)
+        except BaseException as err:
+            if not isinstance(err, DuctgenError):  # interrupted: stop the job now
+                self._kill()
+            raise
+
+    def _wait(self, current: str, timeout: float, deadline: float) -> Any:
+        import time
+
         while True:
             left = deadline - time.monotonic()
             if left <= 0 or not self._conn.poll(left):

@@ -68,8 +68,8 @@ def test_build_writes_cutter_and_report(tmp_path: Path, capsys: pytest.CaptureFi
 @pytest.mark.parametrize(
     ("text", "words"),
     [
-        (GOOD.replace("width = 80", "width = -80"), ["throat.width", "-80", "> 0"]),
-        (GOOD.replace("depth = 20", "depth = 0"), ["throat.depth", "> 0"]),
+        (GOOD.replace("width = 80", "width = -80"), ["throat.width", "-80", ">= 5 mm"]),
+        (GOOD.replace("depth = 20", "depth = 0"), ["throat.depth", ">= 2 mm"]),
         (GOOD.replace("width = 80", "widht = 80"), ["throat.widht", "did you mean 'width'"]),
         (GOOD.replace("angle_deg = 7", "angle_deg = 7\nlength = 200"), ["ramp", "not both"]),
         (GOOD.replace("width = 80", 'width = "12 kg"'), ["throat.width", "12 kg", "not a length"]),

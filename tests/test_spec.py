@@ -45,8 +45,8 @@ def test_spec_is_frozen() -> None:
 @pytest.mark.parametrize(
     ("data", "key", "words"),
     [
-        ({"throat": {"width": 0, "depth": 25}}, "throat.width", "> 0"),
-        ({"throat": {"width": 100, "depth": -3}}, "throat.depth", "> 0"),
+        ({"throat": {"width": 0, "depth": 25}}, "throat.width", ">= 5 mm"),
+        ({"throat": {"width": 100, "depth": -3}}, "throat.depth", ">= 2 mm"),
         ({"throat": {"widht": 100, "depth": 25}}, "throat.widht", "did you mean 'width'"),
         ({**BASE, "ramp": {"angle_deg": 7, "length": 200}}, "ramp", "not both"),
         ({"throat": {"width": "12 kg", "depth": 25}}, "throat.width", "not a length"),

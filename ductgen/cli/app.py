@@ -9,13 +9,14 @@ from __future__ import annotations
 
 import os
 import sys
+from pathlib import Path
 
 import typer
 from rich.console import Console
 
 from ductgen.errors import DuctgenError
 
-__all__ = ["app", "err_console", "main"]
+__all__ = ["Terminated", "app", "err_console", "main", "only_kinds", "out_folder"]
 
 app = typer.Typer(
     name="ductgen",
@@ -24,43 +25,133 @@ app = typer.Typer(
     no_args_is_help=True,
     add_completion=False,
     pretty_exceptions_enable=False,
+    rich_markup_mode=None,  # help text is printed literally (no markup, no :emoji: codes)
 )
 
-err_console = Console(stderr=True, highlight=False)
+#: stderr console; user text is never read as markup or emoji codes (``120:100:10`` stays).
+err_console = Console(stderr=True, highlight=False, emoji=False, markup=False)
+
+
+class Terminated(KeyboardInterrupt):
+    """``SIGTERM`` (or ``SIGHUP``) received: unwinds like Ctrl-C, so every ``finally`` and
+    staging clean-up runs and kernel workers are stopped."""
+
+    def __init__(self, signum: int) -> None:
+        super().__init__(signum)
+        self.signum = signum
+
+
+_SIGNAL: list[int] = []  # the terminating signal received, if any
+
+
+def _on_terminate(signum: int, _frame: object) -> None:
+    _SIGNAL.append(signum)
+    raise Terminated(signum)
+
+
+def _install_signal_handlers() -> None:
+    import signal
+    import threading
+
+    if threading.current_thread() is not threading.main_thread():
+        return
+    for name in ("SIGTERM", "SIGHUP"):
+        sig = getattr(signal, name, None)
+        if sig is not None and signal.getsignal(sig) in (signal.SIG_DFL, None):
+            signal.signal(sig, _on_terminate)
+
+
+def out_folder(out: str | None, default: Path) -> Path:
+    """The ``-o/--out`` folder: ``default`` when not given; an empty text is refused
+    (it would silently mean the current folder)."""
+    from ductgen.errors import SpecError
+
+    if out is None:
+        return default
+    if not out.strip():
+        raise SpecError("-o/--out", out, "a folder path", "the path is empty")
+    return Path(out)
+
+
+def only_kinds(only: str | None) -> list[str] | None:
+    """The ``--only`` list; None when not given. An empty list is refused (it would
+    silently build everything)."""
+    from ductgen.errors import SpecError
+
+    if only is None:
+        return None
+    kinds = [k.strip() for k in only.split(",") if k.strip()]
+    if not kinds:
+        from ductgen.pipeline.builder import output_kinds
+
+        raise SpecError(
+            "--only", only, "a comma list of " + ", ".join(output_kinds()), "the list is empty"
+        )
+    return kinds
+
+
+def _click_exceptions() -> tuple[tuple[type, ...], tuple[type, ...], tuple[type, ...]]:
+    """(Exit, Abort, ClickException) classes of click and of typer's own copy of click
+    (typer >= 0.2x raises the latter)."""
+    import click
+    import typer
+
+    mods = [click.exceptions, typer, typer.exceptions]
+    try:
+        from typer._click import exceptions as typer_click
+
+        mods.append(typer_click)
+    except ImportError:  # pragma: no cover - typer without a vendored click
+        pass
+
+    def found(name: str) -> tuple[type, ...]:
+        return tuple({getattr(m, name) for m in mods if isinstance(getattr(m, name, None), type)})
+
+    return found("Exit"), found("Abort"), found("ClickException")
 
 
 def main(argv: list[str] | None = None) -> int:
     """Console entry point; returns (and exits with) the process exit code."""
-    import click
-
     from ductgen.cli import commands  # noqa: F401  (registers the commands)
 
+    if argv is None:  # the real command line (not a caller embedding main())
+        _install_signal_handlers()
+    exits, aborts, usage = _click_exceptions()
     try:
         rv = app(args=argv, standalone_mode=False)
         code = rv if isinstance(rv, int) else 0  # click returns Exit codes in this mode
-    except click.exceptions.Exit as ex:
+    except exits as ex:
         code = ex.exit_code
-    except click.exceptions.Abort:
-        err_console.print("aborted")
-        code = 1
-    except click.ClickException as ex:
+    except aborts:
+        code = 130
+    except usage as ex:
         ex.show(file=sys.stderr)
         code = 2
     except DuctgenError as ex:
-        err_console.print(f"[bold red]error:[/] {ex}", markup=True, soft_wrap=True)
+        err_console.print(f"error: {ex}", soft_wrap=True)
         code = ex.exit_code
     except KeyboardInterrupt:
         code = 130
+    except RecursionError:
+        err_console.print("error: the input is nested too deeply to read")
+        code = 2
     except Exception as ex:  # an internal failure: short message, traceback on request
         if os.environ.get("DUCTGEN_DEBUG"):
             raise
+        from ductgen.errors import excerpt
+
         err_console.print(
-            f"[bold red]internal error:[/] {type(ex).__name__}: {ex} "
+            f"internal error: {type(ex).__name__}: {excerpt(str(ex), 400)} "
             "(set DUCTGEN_DEBUG=1 for the traceback)",
-            markup=True,
             soft_wrap=True,
         )
         code = 1
+    if code == 130 or _SIGNAL:  # typer turns an interrupt into exit code 130 itself
+        err_console.print(
+            "interrupted: nothing partial was published (previous files are unchanged)"
+        )
+        code = 128 + (_SIGNAL[0] if _SIGNAL else 2)
+        _SIGNAL.clear()
     if argv is None:
         sys.exit(code)
     return code

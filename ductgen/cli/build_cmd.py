@@ -17,7 +17,7 @@ __all__ = ["build_command", "init_command", "profiles_command"]
 def build_command(
     spec: Annotated[Path, typer.Argument(help="spec file (.toml, .yaml, .json)")],
     out: Annotated[
-        Path | None, typer.Option("-o", "--out", help="output folder [default: ./NAME]")
+        str | None, typer.Option("-o", "--out", help="output folder [default: ./NAME]")
     ] = None,
     only: Annotated[
         str | None, typer.Option("--only", help="comma list of outputs, e.g. cutter,template")
@@ -39,14 +39,15 @@ def build_command(
     """Build solids, files and report.json from a spec."""
     from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
 
+    from ductgen.cli.app import only_kinds, out_folder
     from ductgen.pipeline import build
     from ductgen.spec import load_spec
     from ductgen.spec.template import with_template_options
 
     s = load_spec(spec)
     s = with_template_options(s, kerf=kerf, paper=paper)
-    out_dir = out if out is not None else Path.cwd() / s.name
-    kinds = [k.strip() for k in only.split(",") if k.strip()] if only else None
+    out_dir = out_folder(out, Path.cwd() / s.name)
+    kinds = only_kinds(only)
     show = not (quiet or as_json)
     with Progress(
         SpinnerColumn(),
@@ -78,7 +79,7 @@ def _summary(result, out_dir: Path) -> None:  # type: ignore[no-untyped-def]
     from rich.table import Table
 
     g = result.report["geometry"]
-    con = Console()
+    con = Console(emoji=False, markup=False, highlight=False)
     t = Table(title=f"{result.report['name']}", show_header=False, box=None)
     rows = [
         ("throat W × D", f"{g['throat_width_mm']:.1f} × {g['throat_depth_mm']:.1f} mm"),
@@ -107,9 +108,7 @@ def _summary(result, out_dir: Path) -> None:  # type: ignore[no-untyped-def]
         t.add_row(a, b)
     con.print(t)
     for w in result.report.get("warnings", []):
-        err_console.print(
-            f"[yellow]warning[/] {w['code']}: {w['message']}", markup=True, soft_wrap=True
-        )
+        err_console.print(f"warning {w['code']}: {w['message']}", soft_wrap=True)
     con.print(f"wrote {len(result.files)} files to {out_dir}")
 
 
@@ -126,6 +125,14 @@ def init_command(
     from ductgen.errors import SpecError
     from ductgen.spec.starter import STARTER, example_names, example_path
 
+    if path.is_dir():
+        raise SpecError("PATH", str(path), "a file name", "the path is a folder")
+    suffix = path.suffix.lower()
+    if suffix not in (".toml", ".yaml", ".yml", ".json"):
+        raise SpecError(
+            "PATH", str(path), "a .toml, .yaml, .yml or .json file", "spec format is by suffix"
+        )
+
     if example is not None:
         if example not in example_names():
             raise SpecError(
@@ -134,8 +141,23 @@ def init_command(
         data = example_path(example).read_bytes()
     else:
         data = STARTER.encode()
+    if suffix != ".toml":  # same content in the format the suffix names (comments are lost)
+        data = _convert_toml(data, suffix)
     write_atomic(path, data, force=force)
     err_console.print(f"wrote {path}; next: ductgen build {path}")
+
+
+def _convert_toml(data: bytes, suffix: str) -> bytes:
+    """TOML spec text re-written as YAML or JSON."""
+    import tomllib
+
+    values = tomllib.loads(data.decode())
+    head = "ductgen spec (from the TOML starter; see README for every key)"
+    if suffix == ".json":
+        return (json.dumps(values, indent=2) + "\n").encode()
+    import yaml
+
+    return (f"# {head}\n" + yaml.safe_dump(values, sort_keys=False)).encode()
 
 
 @app.command("profiles")
@@ -169,4 +191,4 @@ def profiles_command(
     t = Table("name", "stations", "source", "note")
     for p in profs:
         t.add_row(p.name, str(len(p.x)), p.source, p.note)
-    Console().print(t)
+    Console(emoji=False, markup=False, highlight=False).print(t)

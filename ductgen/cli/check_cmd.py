@@ -4,75 +4,20 @@ from __future__ import annotations
 
 import json
 from pathlib import Path
-from typing import Annotated, Any
+from typing import Annotated
 
 import typer
 
 from ductgen.cli.app import app, err_console
 from ductgen.errors import DuctgenError
 
-__all__ = ["UnhealthyFileError", "check_command", "check_file"]
+__all__ = ["UnhealthyFileError", "check_command"]
 
 
 class UnhealthyFileError(DuctgenError):
     """The checked file is not a sound solid (exit 1)."""
 
     exit_code = 1
-
-
-def _read_mesh(path: Path) -> tuple[Any, Any]:
-    """Vertices (N, 3) mm and faces (M, 3) of an STL (any) or STEP (via the CAD kernel)."""
-    from ductgen.errors import SpecError
-
-    suffix = path.suffix.lower()
-    if not path.is_file():
-        raise SpecError("FILE", str(path), "an existing .stl, .step or .stp file", "file not found")
-    if suffix == ".stl":
-        import numpy as np
-        import trimesh
-
-        m = trimesh.load(str(path), file_type="stl", force="mesh", process=False)
-        return np.asarray(m.vertices, dtype=float), np.asarray(m.faces, dtype=np.int64)
-    if suffix in (".step", ".stp"):
-        from ductgen.solids.cad_io import read_step  # needs the CAD kernel: import here only
-        from ductgen.solids.mesh import triangulate
-
-        return triangulate(read_step(path), 0.05, 0.2)
-    raise SpecError("FILE", str(path), ".stl, .step or .stp", "unknown file type")
-
-
-def check_file(path: str | Path, min_wall_mm: float = 0.0) -> dict[str, Any]:
-    """Health report of one mesh/CAD file; ``healthy`` is closed, manifold, positive
-    volume and (when ``min_wall_mm`` > 0) no wall thinner than ``min_wall_mm``."""
-    from ductgen.printability import mesh_health
-    from ductgen.printability import min_wall_mm as measure
-
-    verts, faces = _read_mesh(Path(path))
-    health = mesh_health(verts, faces)
-    report: dict[str, Any] = {"file": str(path), **health}
-    report["manifold"] = bool(health["watertight"] and health["winding_consistent"])
-    problems = []
-    if not health["watertight"]:
-        problems.append("not closed: some edges are not shared by exactly two triangles")
-    elif not health["winding_consistent"]:
-        problems.append("inconsistent triangle orientation")
-    if health["volume_mm3"] <= 0:
-        problems.append("non-positive volume (inverted or open)")
-    if report["manifold"] and len(faces):
-        wall = measure(verts, faces)
-        report["min_wall_mm"] = wall["min_wall_mm"]
-        report["min_wall_at_mm"] = wall["at_mm"]
-        if (
-            min_wall_mm > 0
-            and wall["min_wall_mm"] is not None
-            and wall["min_wall_mm"] < min_wall_mm
-        ):
-            problems.append(
-                f"thin wall {wall['min_wall_mm']:.2f} mm < {min_wall_mm:g} mm at {wall['at_mm']}"
-            )
-    report["problems"] = problems
-    report["healthy"] = not problems
-    return report
 
 
 @app.command("check")
@@ -84,6 +29,8 @@ def check_command(
     as_json: Annotated[bool, typer.Option("--json", help="machine-readable report")] = False,
 ) -> None:
     """Check a mesh or CAD file: closed, manifold, volume, bounding box, thin walls."""
+    from ductgen.printability import check_file
+
     rep = check_file(file, min_wall)
     if as_json:
         typer.echo(json.dumps(rep, indent=2))
@@ -98,6 +45,6 @@ def check_command(
         if rep.get("min_wall_mm") is not None:
             typer.echo(f"  thinnest wall {rep['min_wall_mm']:.2f} mm at {rep['min_wall_at_mm']}")
         for p in rep["problems"]:
-            err_console.print(f"[yellow]problem[/] {p}", markup=True)
+            err_console.print(f"problem {p}")
     if not rep["healthy"]:
         raise UnhealthyFileError(f"{file} is not healthy: " + "; ".join(rep["problems"]))

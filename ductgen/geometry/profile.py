@@ -15,9 +15,29 @@ import numpy as np
 from ductgen.errors import SpecError
 from ductgen.resources import profiles_dir
 
-__all__ = ["Profile", "available_profiles", "load_profile", "profiles_dir"]
+__all__ = [
+    "MAX_PROFILE_BYTES",
+    "MAX_PROFILE_ROWS",
+    "MAX_STATIONS",
+    "RESAMPLE_TOL",
+    "Profile",
+    "available_profiles",
+    "load_profile",
+    "profiles_dir",
+]
 
+#: Largest profile CSV read (bytes) and most data rows in it.
+MAX_PROFILE_BYTES = 5_000_000
+MAX_PROFILE_ROWS = 100_000
+#: Tables with more rows are thinned to at most this many stations before any geometry
+#: (the kernel's wall spline gets one pole per station; 100,000 ran for minutes).
+MAX_STATIONS = 200
+#: Thinning keeps 2y/W within this of the full table's straight-line interpolation
+#: (0.005 mm on a 100 mm throat).
+RESAMPLE_TOL = 1e-4
 
+#: Accepted header names (case-insensitive) of the two columns.
+_HEADERS = ({"x_over_l", "x/l", "x"}, {"two_y_over_w", "2y/w", "f"})
 
 
 @dataclass(frozen=True)
@@ -42,10 +62,7 @@ class Profile:
 def _parse(path: Path, key: str) -> Profile:
     meta: dict[str, str] = {}
     rows: list[tuple[float, float]] = []
-    try:
-        lines = path.read_text(encoding="utf-8").splitlines()
-    except OSError as err:
-        raise SpecError(key, str(path), "a readable CSV file", err.strerror or str(err)) from err
+    lines = _read_lines(path, key or "planform.profile")
     header_seen = False
     for n, raw in enumerate(lines, start=1):
         line = raw.strip()
@@ -67,13 +84,30 @@ def _parse(path: Path, key: str) -> Profile:
         except ValueError:
             if header_seen or rows:
                 raise SpecError(
-                    key, str(path), "numbers", f"line {n} is not numeric: {line!r}"
+                    key, str(path), "numbers", f"line {n} is not numeric: {line[:40]!r}"
+                ) from None
+            names = [c.lower() for c in cells]
+            if names[0] not in _HEADERS[0] or names[1] not in _HEADERS[1]:
+                raise SpecError(
+                    key or "planform.profile",
+                    str(path),
+                    "a header x_over_L,two_y_over_W (or no header)",
+                    f"line {n} names the columns {line[:40]!r}",
                 ) from None
             header_seen = True
+        if len(rows) > MAX_PROFILE_ROWS:
+            raise SpecError(
+                key or "planform.profile",
+                str(path),
+                f"at most {MAX_PROFILE_ROWS:,} rows",
+                "the table is longer",
+            )
     name = path.stem if key == "" else str(path)
     x = np.array([r[0] for r in rows], dtype=float)
     f = np.array([r[1] for r in rows], dtype=float)
     _validate(x, f, key or "planform.profile", str(path))
+    if len(x) > MAX_STATIONS:
+        x, f = _thin(x, f, key or "planform.profile", str(path))
     return Profile(
         name=meta.get("name", name),
         x=x,
@@ -82,6 +116,59 @@ def _parse(path: Path, key: str) -> Profile:
         source=meta.get("source", ""),
         note=meta.get("note", ""),
     )
+
+
+def _read_lines(path: Path, key: str) -> list[str]:
+    """Lines of a regular UTF-8 file of at most :data:`MAX_PROFILE_BYTES`."""
+    import os
+    import stat
+
+    try:
+        st = os.stat(path)
+        if not stat.S_ISREG(st.st_mode):
+            raise SpecError(key, str(path), "a regular CSV file", "a folder, pipe or device")
+        if st.st_size > MAX_PROFILE_BYTES:
+            raise SpecError(
+                key, str(path), f"at most {MAX_PROFILE_BYTES:,} bytes", f"{st.st_size:,} bytes"
+            )
+        raw = path.read_bytes()
+    except OSError as err:
+        raise SpecError(key, str(path), "a readable CSV file", err.strerror or str(err)) from err
+    if b"\x00" in raw:
+        raise SpecError(key, str(path), "UTF-8 text", "the file is binary or UTF-16")
+    try:
+        return raw.decode("utf-8-sig").splitlines()
+    except UnicodeDecodeError as err:
+        raise SpecError(key, str(path), "UTF-8 text", f"byte {err.start} is not UTF-8") from None
+
+
+def _thin(x: np.ndarray, f: np.ndarray, key: str, where: str) -> tuple[np.ndarray, np.ndarray]:
+    """Keep the fewest rows (first and last always) such that the straight-line
+    interpolation through them stays within :data:`RESAMPLE_TOL` of every row (greedy
+    Douglas–Peucker in 2y/W); a subset of a monotone table stays monotone."""
+    keep = np.zeros(len(x), dtype=bool)
+    keep[[0, -1]] = True
+    stack = [(0, len(x) - 1)]
+    while stack:
+        i, j = stack.pop()
+        if j - i < 2:
+            continue
+        xs, fs = x[i + 1 : j], f[i + 1 : j]
+        line = f[i] + (f[j] - f[i]) * (xs - x[i]) / (x[j] - x[i])
+        err = np.abs(fs - line)
+        k = int(np.argmax(err))
+        if err[k] > RESAMPLE_TOL:
+            m = i + 1 + k
+            keep[m] = True
+            stack += [(i, m), (m, j)]
+    if int(keep.sum()) > MAX_STATIONS:
+        raise SpecError(
+            key,
+            where,
+            f"a table that {MAX_STATIONS} stations describe within 2y/W ± {RESAMPLE_TOL:g}",
+            f"it needs {int(keep.sum())}: the wall curve is too wiggly to build",
+        )
+    return x[keep], f[keep]
 
 
 def _validate(x: np.ndarray, f: np.ndarray, key: str, where: str) -> None:

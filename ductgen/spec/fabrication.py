@@ -30,7 +30,13 @@ class HolesSpec(Section):
     """
 
     count: Annotated[
-        int, Field(default=8, ge=0, le=200, description="fastener holes in the flange")
+        int,
+        Field(
+            default=8,
+            ge=0,
+            le=200,
+            description="fastener holes in the flange; 0 = none (a bonded flange)",
+        ),
     ]
     diameter: Annotated[Mm, Field(default=4.2, gt=0, le=30, description="fastener hole diameter")]
     edge_distance: Annotated[

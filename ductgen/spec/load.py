@@ -6,6 +6,7 @@ the value given, the allowed range and the reason.
 
 from __future__ import annotations
 
+import contextlib
 import difflib
 import hashlib
 import json
@@ -23,13 +24,136 @@ if sys.version_info >= (3, 11):
 else:  # pragma: no cover
     import tomli as tomllib
 
-__all__ = ["load_spec", "parse_spec", "read_spec_data", "spec_sha256"]
+__all__ = [
+    "MAX_SPEC_BYTES",
+    "MAX_SPEC_DEPTH",
+    "MAX_SPEC_VALUES",
+    "load_spec",
+    "parse_spec",
+    "read_spec_data",
+    "spec_sha256",
+]
 
 _SUFFIXES = {".toml": "toml", ".yaml": "yaml", ".yml": "yaml", ".json": "json"}
 
 
+#: Largest spec file read (bytes); a spec is a few kB.
+MAX_SPEC_BYTES = 1_000_000
+#: Deepest nesting of tables and lists in a spec (the real specs use 3).
+MAX_SPEC_DEPTH = 32
+#: Most values (tables, lists, scalars) in a spec after YAML aliases are expanded.
+MAX_SPEC_VALUES = 100_000
+
+
+def _read_text(path: Path, what: str, key: str, max_bytes: int) -> str:
+    """The UTF-8 text of a regular file of at most ``max_bytes``; everything else (a FIFO,
+    a directory, a device, binary or UTF-16 data, a huge file) is a :class:`SpecError` on
+    ``key`` — never a hang or a decoding traceback."""
+    import os
+    import stat
+
+    try:
+        st = os.stat(path)
+    except OSError as err:
+        raise SpecError(key, str(path), f"a readable {what}", err.strerror or str(err)) from err
+    if stat.S_ISDIR(st.st_mode):
+        raise SpecError(key, str(path), f"a {what}, not a folder", "the path is a directory")
+    if not stat.S_ISREG(st.st_mode):
+        raise SpecError(
+            key,
+            str(path),
+            f"a regular {what}",
+            "it is a pipe, socket or device, which may never end",
+        )
+    if st.st_size > max_bytes:
+        raise SpecError(
+            key, str(path), f"at most {max_bytes:,} bytes", f"the file has {st.st_size:,} bytes"
+        )
+    try:
+        fd = os.open(path, os.O_RDONLY | getattr(os, "O_NONBLOCK", 0))
+        with os.fdopen(fd, "rb") as fh:
+            raw = fh.read(max_bytes + 1)
+    except OSError as err:
+        raise SpecError(key, str(path), f"a readable {what}", err.strerror or str(err)) from err
+    if len(raw) > max_bytes:
+        raise SpecError(key, str(path), f"at most {max_bytes:,} bytes", "the file grew while read")
+    if raw[:2] in (b"\xff\xfe", b"\xfe\xff") or b"\x00" in raw:
+        raise SpecError(
+            key, str(path), "UTF-8 text", "the file is binary or UTF-16; save it as UTF-8"
+        )
+    try:
+        return raw.decode("utf-8-sig")
+    except UnicodeDecodeError as err:
+        line = raw[: err.start].count(b"\n") + 1
+        raise SpecError(
+            key, str(path), "UTF-8 text", f"byte {err.start} (line {line}) is not UTF-8"
+        ) from None
+
+
+def _yaml_loader() -> type:
+    """A safe YAML loader that refuses duplicate keys (TOML does too)."""
+    import yaml
+
+    class Loader(yaml.SafeLoader):
+        def construct_mapping(self, node, deep=False):  # type: ignore[no-untyped-def]
+            seen: set[object] = set()
+            for key_node, _ in node.value:
+                if key_node.tag == "tag:yaml.org,2002:merge":
+                    continue
+                key = self.construct_object(key_node, deep=deep)
+                try:
+                    dup = key in seen
+                except TypeError:
+                    continue  # an unhashable key: the base class reports it
+                if dup:
+                    raise yaml.constructor.ConstructorError(
+                        None, None, f"duplicate key {key!r}", key_node.start_mark
+                    )
+                seen.add(key)
+            return super().construct_mapping(node, deep)
+
+    return Loader
+
+
+def _no_duplicates(pairs: list[tuple[str, Any]]) -> dict[str, Any]:
+    out: dict[str, Any] = {}
+    for k, v in pairs:
+        if k in out:
+            raise ValueError(f"duplicate key {k!r}")
+        out[k] = v
+    return out
+
+
+def _check_size(data: Any, path: Path) -> None:
+    """Refuse data nested deeper than :data:`MAX_SPEC_DEPTH` or holding more than
+    :data:`MAX_SPEC_VALUES` values once YAML aliases are expanded (an alias bomb)."""
+    count = 0
+    stack: list[tuple[Any, int]] = [(data, 1)]
+    while stack:
+        node, depth = stack.pop()
+        count += 1
+        if count > MAX_SPEC_VALUES:
+            raise SpecError(
+                "file",
+                str(path),
+                f"at most {MAX_SPEC_VALUES:,} values",
+                "the spec expands to more (YAML aliases repeat their whole value)",
+            )
+        if isinstance(node, dict | list):
+            if depth > MAX_SPEC_DEPTH:
+                raise SpecError(
+                    "file", str(path), f"at most {MAX_SPEC_DEPTH} levels of nesting", "too deep"
+                )
+            children = node.values() if isinstance(node, dict) else node
+            stack.extend((c, depth + 1) for c in children)
+
+
 def read_spec_data(path: Path) -> dict[str, Any]:
-    """Read a spec file into plain data, with syntax errors reported by line."""
+    """Read a spec file into plain data, with syntax errors reported by line.
+
+    Limits: a regular UTF-8 file of at most :data:`MAX_SPEC_BYTES`, nesting at most
+    :data:`MAX_SPEC_DEPTH`, at most :data:`MAX_SPEC_VALUES` values, no duplicate keys.
+    """
     path = Path(path)
     kind = _SUFFIXES.get(path.suffix.lower())
     if kind is None:
@@ -39,31 +163,34 @@ def read_spec_data(path: Path) -> dict[str, Any]:
             "a .toml, .yaml, .yml or .json file",
             "spec format is chosen by suffix",
         )
-    try:
-        text = path.read_text(encoding="utf-8")
-    except OSError as err:
-        raise SpecError("file", str(path), "a readable file", err.strerror or str(err)) from err
+    text = _read_text(path, "spec file", "file", MAX_SPEC_BYTES)
+    label = {"toml": "TOML", "yaml": "YAML", "json": "JSON"}[kind]
     try:
         if kind == "toml":
             data = tomllib.loads(text)
         elif kind == "yaml":
             import yaml
 
-            data = yaml.safe_load(text)
+            data = yaml.load(text, Loader=_yaml_loader())  # a SafeLoader subclass
         else:
-            data = json.loads(text)
+            data = json.loads(text, object_pairs_hook=_no_duplicates)
+    except RecursionError:
+        raise SpecError(
+            "file", str(path), f"at most {MAX_SPEC_DEPTH} levels of nesting", "too deep to read"
+        ) from None
     except tomllib.TOMLDecodeError as err:
         raise SpecError("file", str(path), "valid TOML", f"syntax error: {err}") from err
     except json.JSONDecodeError as err:
         raise SpecError(
             "file", str(path), "valid JSON", f"syntax error at line {err.lineno}: {err.msg}"
         ) from err
-    except Exception as err:  # yaml.YAMLError carries its own line marks
-        raise SpecError("file", str(path), "valid YAML", f"syntax error: {err}") from err
+    except Exception as err:  # yaml.YAMLError carries its own line marks; JSON duplicates
+        raise SpecError("file", str(path), f"valid {label}", f"{err}") from err
     if not isinstance(data, dict):
         raise SpecError(
             "file", str(path), "a table of sections at the top level", "nothing to read"
         )
+    _check_size(data, path)
     return data
 
 
@@ -129,6 +256,19 @@ _ALLOWED = {
     "string_too_short": "at least {min_length} characters",
     "union_tag_invalid": "kind one of {expected_tags}",
 }
+
+
+_LIMITS = ("greater_than", "greater_than_equal", "less_than", "less_than_equal")
+
+
+def _unit_of(info: Any) -> tuple[str, Any]:
+    """(internal unit, converter) of a quantity field (``spec/types.py``), else ("", None)."""
+    for meta in getattr(info, "metadata", None) or ():
+        func = getattr(meta, "func", None)
+        unit = getattr(func, "unit", None)
+        if unit:
+            return str(unit).replace("**", "^"), func
+    return "", None
 
 
 def _field_info(model: type[BaseModel], loc: tuple[Any, ...]) -> tuple[Any, type[BaseModel] | None]:
@@ -217,6 +357,12 @@ def _to_spec_error(err: ValidationError, source: str | None) -> SpecError:
             )
             continue
         allowed = _ALLOWED.get(etype, "").format(**{k: v for k, v in ctx.items()})
+        unit, validate = _unit_of(info)
+        if allowed and unit and etype in _LIMITS:
+            allowed += f" {unit}"
+            if isinstance(value, str):
+                with contextlib.suppress(ValueError):
+                    allowed += f" (given {validate(value):.6g} {unit})"
         if isinstance(value, dict):
             value = None
         if etype in _ALLOWED:

@@ -36,8 +36,24 @@ __all__ = [
 class ThroatSpec(Section):
     """The throat: the open rectangle at the lip station, ``width`` × ``depth`` (mm)."""
 
-    width: Annotated[Mm, Field(gt=0, le=3000, description="throat width W at the lip station")]
-    depth: Annotated[Mm, Field(gt=0, le=1000, description="throat depth D, floor to lip underside")]
+    width: Annotated[
+        Mm,
+        Field(
+            ge=5,
+            le=3000,
+            description="throat width W at the lip station; at least 5 mm so the edge rounds, "
+            "lip and printed walls fit (common practice, no source)",
+        ),
+    ]
+    depth: Annotated[
+        Mm,
+        Field(
+            ge=2,
+            le=1000,
+            description="throat depth D, floor to lip underside; at least 2 mm so the edge "
+            "rounds and lip nose fit (common practice, no source)",
+        ),
+    ]
 
 
 #: Ramp angle used when a spec gives neither ``ramp.angle_deg`` nor ``ramp.length`` (deg):
@@ -99,7 +115,14 @@ class LipSpec(Section):
     ]
     thickness: Annotated[Mm, Field(default=4.0, gt=0, le=100, description="lip thickness")]
     nose_ratio: Annotated[
-        float, Field(default=2.0, ge=1, le=8, description="elliptical nose major/minor ratio")
+        float,
+        Field(
+            default=2.0,
+            ge=1.1,
+            le=8,
+            description="elliptical nose major/minor ratio; from 1.1 (at 1.0, a circle, the "
+            "kernel's nose cut fails: found by the hardening property test)",
+        ),
     ]
     fairing_length: Annotated[
         Mm | None,

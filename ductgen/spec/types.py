@@ -29,6 +29,7 @@ def _q(dimension: str, unit: str, default_unit: str | None) -> BeforeValidator:
             return None
         return convert(value, dimension, unit, default_unit)
 
+    _validate.unit = unit  # type: ignore[attr-defined]  # error messages state limits in it
     return BeforeValidator(_validate, json_schema_input_type=float | str)
 
 

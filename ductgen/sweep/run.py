@@ -14,9 +14,11 @@ files are all present. A variant that fails is reported and does not stop the ot
 
 from __future__ import annotations
 
+import contextlib
 import json
 import multiprocessing
 import os
+import signal
 import time
 from collections.abc import Callable, Iterator
 from concurrent.futures import Executor, Future, ProcessPoolExecutor, as_completed
@@ -139,13 +141,42 @@ def _executor(jobs: int, scheduler: str | None) -> Iterator[Executor | None]:
     if jobs <= 1:
         yield None
         return
-    pool = ProcessPoolExecutor(max_workers=jobs, mp_context=multiprocessing.get_context("spawn"))
+    pool = ProcessPoolExecutor(
+        max_workers=jobs,
+        mp_context=multiprocessing.get_context("spawn"),
+        initializer=_pool_worker_init,
+        initargs=(os.getpid(),),
+    )
     try:
         yield pool
     except BaseException:
-        pool.shutdown(wait=True, cancel_futures=True)
+        _stop_pool(pool)
         raise
     pool.shutdown(wait=True)
+
+
+def _pool_worker_init(parent_pid: int) -> None:  # pragma: no cover - runs in the pool
+    """Pool workers die with the sweep process on every exit path (its kernel workers die
+    with them in turn) and leave interrupts to it: no ``KeyboardInterrupt`` tracebacks."""
+    from ductgen.worker import die_with_parent
+
+    die_with_parent(parent_pid, signal.SIGTERM)
+
+
+def _stop_pool(pool: ProcessPoolExecutor) -> None:
+    """Stop a pool now (interrupt or error): running variants are abandoned, their
+    staging folders removed by the next run; waiting for them could take minutes."""
+    procs = list((getattr(pool, "_processes", None) or {}).values())
+    pool.shutdown(wait=False, cancel_futures=True)
+    for p in procs:
+        with contextlib.suppress(Exception):
+            p.terminate()
+    deadline = time.monotonic() + 5.0
+    for p in procs:
+        with contextlib.suppress(Exception):
+            p.join(max(0.0, deadline - time.monotonic()))
+            if p.is_alive():
+                p.kill()
 
 
 def _run_all(
@@ -258,9 +289,9 @@ def run_sweep(
         note(r, counts["done"], counts["failed"], total)
 
     n_jobs = min(jobs or default_jobs(), max(1, len(todo)))
-    out.mkdir(parents=True, exist_ok=True)
     ordered: list[VariantResult]
     with _executor(n_jobs if todo else 1, scheduler if todo else None) as ex:
+        out.mkdir(parents=True, exist_ok=True)  # only once the executor is reachable
         _run_all(build_variant, todo, ex, done)
         ordered = [results[i] for i in ids]
         comparison = compare_all(tasks, ordered, base, ex) if "cutter" in kinds else {}

@@ -1,0 +1,247 @@
+"""Signals and faults during builds and sweeps (issue 12): nothing partial published,
+previous files intact, no process left behind, no traceback.
+
+Every process a test starts carries a unique ``DUCTGEN_TEST_MARK`` in its environment (and
+its children inherit it), so orphan checks look only at descendants of what the test
+started; the test kills only its own session. Waits are bounded; nothing is timed.
+"""
+
+from __future__ import annotations
+
+import errno
+import hashlib
+import os
+import signal
+import subprocess
+import sys
+import time
+import uuid
+from pathlib import Path
+
+import pytest
+
+from ductgen.cli.app import main
+
+GOOD = """\
+name = "t"
+[throat]
+width = 80
+depth = 20
+[ramp]
+angle_deg = 7
+[outlet]
+kind = "round"
+diameter = 50
+transition_length = 100
+"""
+
+WAIT_S = 120.0  # upper bound of any wait (the machine is shared; kernel start takes 2-8 s)
+
+
+def _digest(root: Path) -> dict[str, str]:
+    return {
+        str(p.relative_to(root)): hashlib.sha256(p.read_bytes()).hexdigest() if p.is_file() else "d"
+        for p in sorted(root.rglob("*"))
+    }
+
+
+def _marked(marker: str) -> list[int]:
+    """Live (non-zombie) processes whose environment holds ``marker``."""
+    found = []
+    needle = f"DUCTGEN_TEST_MARK={marker}".encode()
+    for d in Path("/proc").iterdir():
+        if not d.name.isdigit():
+            continue
+        try:
+            if needle not in (d / "environ").read_bytes().split(b"\0"):
+                continue
+            state = (d / "stat").read_text().rsplit(")", 1)[1].split()[0]
+        except OSError:
+            continue
+        if state != "Z":
+            found.append(int(d.name))
+    return found
+
+
+def _cmdline(pid: int) -> str:
+    try:
+        return Path(f"/proc/{pid}/cmdline").read_bytes().replace(b"\0", b" ").decode()
+    except OSError:
+        return ""
+
+
+def _kernel_workers(marker: str) -> list[int]:
+    return [p for p in _marked(marker) if "ductgen.worker import _main" in _cmdline(p)]
+
+
+def _until(cond, what: str) -> None:  # type: ignore[no-untyped-def]
+    deadline = time.monotonic() + WAIT_S
+    while not cond():
+        if time.monotonic() > deadline:
+            pytest.fail(f"waited {WAIT_S:.0f} s for {what}")
+        time.sleep(0.1)
+
+
+def _gone(marker: str) -> bool:
+    return not _marked(marker)
+
+
+def _staged_files(folder: Path) -> list[Path]:
+    return [p for d in folder.glob(".ductgen-staging-*") for p in d.rglob("*") if p.is_file()]
+
+
+@pytest.fixture
+def run(tmp_path: Path):  # type: ignore[no-untyped-def]
+    """Start ``python -m ductgen ARGS`` marked and in its own session; clean up after."""
+    started: list[subprocess.Popen[str]] = []
+    marker = uuid.uuid4().hex
+
+    def start(*args: str) -> subprocess.Popen[str]:
+        p = subprocess.Popen(
+            [sys.executable, "-m", "ductgen", *args],
+            cwd=tmp_path,
+            env={**os.environ, "DUCTGEN_TEST_MARK": marker},
+            stdout=subprocess.PIPE,
+            stderr=subprocess.PIPE,
+            text=True,
+            start_new_session=True,
+        )
+        started.append(p)
+        return p
+
+    start.marker = marker  # type: ignore[attr-defined]
+    yield start
+    for p in started:
+        if p.poll() is None:
+            os.killpg(p.pid, signal.SIGKILL)
+        p.communicate(timeout=30)
+    for pid in _marked(marker):  # only processes this test started
+        os.kill(pid, signal.SIGKILL)
+
+
+def _spec(tmp: Path) -> Path:
+    p = tmp / "t.toml"
+    p.write_text(GOOD)
+    return p
+
+
+@pytest.mark.parametrize(
+    ("sig", "moment"),
+    [
+        (signal.SIGINT, "kernel started"),
+        (signal.SIGTERM, "kernel started"),
+        (signal.SIGTERM, "files staged"),
+    ],
+)
+def test_signal_during_build_publishes_nothing(tmp_path: Path, run, sig: int, moment: str) -> None:  # type: ignore[no-untyped-def]
+    spec = _spec(tmp_path)
+    out = tmp_path / "out"
+    out.mkdir()
+    (out / "t-cutter.step").write_text("previous build")
+    (out / "notes.txt").write_text("mine")
+    before = _digest(out)
+    p = run("build", str(spec), "-o", str(out), "--force")
+    if moment == "kernel started":
+        _until(lambda: _kernel_workers(run.marker) or p.poll() is not None, "the kernel worker")
+    else:
+        _until(lambda: _staged_files(out) or p.poll() is not None, "a staged file")
+    assert p.poll() is None, "the build ended before the signal"
+    p.send_signal(sig)
+    _, err = p.communicate(timeout=WAIT_S)
+    assert p.returncode == 128 + sig
+    assert "interrupted" in err and "Traceback" not in err
+    assert _digest(out) == before  # previous files intact, no staging folder left
+    _until(lambda: _gone(run.marker), "every started process to end")
+
+
+def test_killed_parent_leaves_no_orphan_and_next_run_cleans_staging(tmp_path: Path, run) -> None:  # type: ignore[no-untyped-def]
+    spec = _spec(tmp_path)
+    out = tmp_path / "out"
+    out.mkdir()
+    p = run("build", str(spec), "-o", str(out), "--only", "cutter")
+    _until(lambda: _staged_files(out) or p.poll() is not None, "a staged file")
+    assert p.poll() is None
+    os.kill(p.pid, signal.SIGKILL)  # no clean-up runs in the parent
+    _, err = p.communicate(timeout=WAIT_S)
+    _until(lambda: _gone(run.marker), "the kernel worker to die with its parent")
+    assert "Traceback" not in err and "BrokenPipeError" not in err
+    assert list(out.glob(".ductgen-staging-*")), "SIGKILL leaves the staging folder"
+    q = run("build", str(spec), "-o", str(out), "--only", "template", "-q")
+    _, err = q.communicate(timeout=WAIT_S)
+    assert q.returncode == 0, err
+    assert not list(out.glob(".ductgen-staging-*")), "the next run removes a dead run's staging"
+
+
+def test_sigterm_to_sweep_stops_every_worker(tmp_path: Path, run) -> None:  # type: ignore[no-untyped-def]
+    spec = _spec(tmp_path)
+    sw = tmp_path / "sw"
+    p = run(
+        "sweep",
+        str(spec),
+        "-o",
+        str(sw),
+        "-j",
+        "2",
+        "--only",
+        "cutter",
+        "--vary",
+        "throat.width=70,90",
+    )
+    _until(
+        lambda: len(_kernel_workers(run.marker)) >= 2 or p.poll() is not None, "two kernel workers"
+    )
+    assert p.poll() is None
+    p.send_signal(signal.SIGTERM)
+    _, err = p.communicate(timeout=WAIT_S)
+    assert p.returncode == 143
+    _until(lambda: _gone(run.marker), "pool and kernel workers to end")
+    assert "Traceback" not in err and "KeyboardInterrupt" not in err
+    if sw.exists():
+        for d in sw.iterdir():
+            if d.is_dir() and not d.name.startswith("."):
+                assert any(d.iterdir()), f"empty variant folder {d.name}"
+
+
+def test_full_disk_on_a_small_tmpfs(tmp_path: Path, run) -> None:  # type: ignore[no-untyped-def]
+    """A 64 KiB tmpfs: the cutter files do not fit. Exit 1 naming the full disk, nothing
+    published, no staging left (skipped where mounting is not permitted)."""
+    mnt = tmp_path / "mnt"
+    mnt.mkdir()
+    r = subprocess.run(
+        ["mount", "-t", "tmpfs", "-o", "size=64k", "tmpfs", str(mnt)], capture_output=True
+    )
+    if r.returncode != 0:
+        pytest.skip("cannot mount a tmpfs here; the fault-injected test covers the path")
+    try:
+        spec = _spec(tmp_path)
+        p = run("build", str(spec), "-o", str(mnt / "out"), "--only", "cutter")
+        _, err = p.communicate(timeout=WAIT_S)
+        flat = " ".join(err.split())
+        assert p.returncode == 1
+        assert "disk is full" in flat and "nothing was published" in flat
+        assert "Traceback" not in err and "kernel failure" not in err
+        assert sorted(x.name for x in mnt.iterdir()) == []
+    finally:
+        subprocess.run(["umount", str(mnt)], check=False)
+
+
+def test_full_disk_fault_injected(tmp_path: Path, monkeypatch, capsys) -> None:  # type: ignore[no-untyped-def]
+    """The writer fails with ENOSPC: exit 1, 'disk is full', the output folder never made."""
+    import ductgen.atomic as atomic
+
+    def no_space(_fd: int) -> None:
+        raise OSError(errno.ENOSPC, os.strerror(errno.ENOSPC))
+
+    monkeypatch.setattr(atomic.os, "fsync", no_space)
+    spec = _spec(tmp_path)
+    saved = {s: signal.getsignal(s) for s in (signal.SIGTERM, signal.SIGHUP)}
+    before = _digest(tmp_path)
+    try:
+        code = main(["build", str(spec), "-o", str(tmp_path / "out"), "--only", "template", "-q"])
+    finally:
+        for s, h in saved.items():
+            signal.signal(s, h)
+    err = " ".join(capsys.readouterr().err.split())
+    assert code == 1
+    assert "disk is full" in err and "nothing was published" in err
+    assert _digest(tmp_path) == before
