@@ -158,7 +158,8 @@ def test_killed_parent_leaves_no_orphan_and_next_run_cleans_staging(tmp_path: Pa
     spec = _spec(tmp_path)
     out = tmp_path / "out"
     out.mkdir()
-    p = run("build", str(spec), "-o", str(out), "--only", "cutter")
+    # the insert and plug still take seconds after the cutter's files are staged
+    p = run("build", str(spec), "-o", str(out), "--only", "cutter,insert,plug")
     _until(lambda: _staged_files(out) or p.poll() is not None, "a staged file")
     assert p.poll() is None
     os.kill(p.pid, signal.SIGKILL)  # no clean-up runs in the parent
