@@ -14,6 +14,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ductgen.design.skin import Placement, placement, skin_from_spec
 from ductgen.errors import DesignWarning, SpecError
 from ductgen.flow.inputs import DuctShape
 from ductgen.flow.warnings import geometry_warnings
@@ -34,7 +35,7 @@ from ductgen.geometry.inlet import InletGeometry, min_transition_length_mm
 from ductgen.geometry.lip import Lip
 from ductgen.geometry.planform import Planform
 from ductgen.geometry.profile import Profile, load_profile
-from ductgen.geometry.skin import FLAT, SkinMap
+from ductgen.geometry.skin import SkinMap
 from ductgen.geometry.transition import Transition
 from ductgen.spec.model import (
     DEFAULT_RAMP_ANGLE_DEG,
@@ -66,6 +67,8 @@ class Design:
         spigot: the round hose spigot, or None (rectangular collar / no outlet).
         plug_trim_xy: the plug's base-plate edge in plan, (N, 2) CCW.
         skin: the skin map from design to model coordinates.
+        placement: the maps the solids are placed with (the duct straightens to its outlet).
+        skin_summary: the skin as the report states it (shape, side, radii in mm, axis).
         duct: the numbers the airflow model reads.
         warnings: design warnings on the shape and the fabrication layout.
         fabrication_checked: whether the insert/plug rules were checked (a cutter-only
@@ -79,6 +82,8 @@ class Design:
     spigot: Spigot | None
     plug_trim_xy: np.ndarray
     skin: SkinMap
+    placement: Placement
+    skin_summary: dict[str, object]
     duct: DuctShape
     warnings: tuple[DesignWarning, ...]
     fabrication_checked: bool = True
@@ -106,6 +111,20 @@ def duct_shape(g: InletGeometry) -> DuctShape:
         transition_outlet_area_mm2=None if t is None else t.outlet_area_mm2,
         transition_cone_half_angle_deg=None if t is None else t.equivalent_cone_half_angle_deg,
     )
+
+
+def _skin_summary(spec: Spec) -> dict[str, object]:
+    """``[skin]`` as the report and the sheet state it (mm)."""
+    sk = spec.skin
+    out: dict[str, object] = {"shape": sk.shape, "thickness_mm": sk.thickness}
+    if sk.shape != "flat":
+        out["side"] = sk.side
+    if sk.shape == "cylinder":
+        out |= {"radius_mm": sk.radius, "axis": sk.axis}
+    if sk.shape == "doubly":
+        out |= {"radius_streamwise_mm": sk.radius_streamwise}
+        out |= {"radius_spanwise_mm": sk.radius_spanwise}
+    return out
 
 
 def fabrication_from_spec(spec: Spec) -> Fabrication:
@@ -143,14 +162,22 @@ def build_design(
     if check_fabrication:
         validate_fabrication(g, fab)
         warnings += fabrication_warnings(g, fab)
+    layout = flange_layout(g, fab.insert)
+    spigot = spigot_of(g, fab)
+    trim = plug_trim_outline(g, fab.plug)
+    skin = skin_from_spec(spec.skin, g, layout, trim, spigot, fab.insert.wall)
+    place, place_warnings = placement(skin, g, float(np.max(layout.outline_xy[:, 0])))
+    warnings += place_warnings
     return Design(
         name=spec.name,
         geometry=g,
         fab=fab,
-        layout=flange_layout(g, fab.insert),
-        spigot=spigot_of(g, fab),
-        plug_trim_xy=plug_trim_outline(g, fab.plug),
-        skin=FLAT,
+        layout=layout,
+        spigot=spigot,
+        plug_trim_xy=trim,
+        skin=skin,
+        placement=place,
+        skin_summary=_skin_summary(spec),
         duct=duct,
         warnings=tuple(warnings),
         fabrication_checked=check_fabrication,

@@ -19,11 +19,14 @@ from ductgen.meshstats import mesh_stats
 from ductgen.solids.mesh import triangulate
 from ductgen.tolerances import Tolerances
 
-__all__ = ["SolidCheck", "check_solid", "mesh_stats"]
+__all__ = ["CHECK_MESH", "CHECK_MESH_CURVED", "SolidCheck", "check_solid", "mesh_stats"]
 
 #: Triangulation used for measuring (mm, rad): ~3e-4 relative volume on these shapes at
 #: ~0.25 s; 0.001 mm reaches ~1e-5 but takes 30-60 s with a lofted transition.
 CHECK_MESH = (0.05, 0.2)
+#: On a curved skin every large face is curved: a 0.05 mm deflection lets chords sag enough
+#: to bias the volume by ~1e-3, so the check mesh is finer there.
+CHECK_MESH_CURVED = (0.005, 0.1)
 
 
 @dataclass(frozen=True)
@@ -47,6 +50,7 @@ def check_solid(
     expected_mm3: float | None,
     tol: Tolerances,
     volume_rel: float | None = None,
+    mesh: tuple[float, float] = CHECK_MESH,
 ) -> SolidCheck:
     """Check one solid; raise :class:`GeometryError` naming ``stage`` if it is unsound."""
     solids = solid.Solids()
@@ -55,7 +59,7 @@ def check_solid(
     valid = bool(solid.isValid())
     if not valid:
         raise GeometryError(stage, "the kernel's B-rep check failed (invalid topology or geometry)")
-    verts, faces = triangulate(solid, *CHECK_MESH)
+    verts, faces = triangulate(solid, *mesh)
     watertight, winding, volume, area = mesh_stats(verts, faces)
     if not watertight:
         raise GeometryError(stage, "the triangulated solid is not closed (cracked or non-manifold)")

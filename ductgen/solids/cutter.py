@@ -19,18 +19,18 @@ from ductgen.errors import GeometryError
 from ductgen.geometry.floor import floor_section
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.geometry.transition import Transition
+from ductgen.solids.deform import place
 from ductgen.solids.primitives import (
     arc3,
     boolean,
     extrude_xz,
     floor_edges,
     polyline_edges,
-    to_model,
     wall_spline,
     xz_ellipse_arc,
 )
 
-__all__ = ["make_cavity", "make_cutter", "make_transition"]
+__all__ = ["build_cutter", "make_cavity", "make_cutter", "make_transition"]
 
 V = cq.Vector
 
@@ -167,15 +167,19 @@ def make_transition(t: Transition) -> cq.Solid:
     return cq.Solid.makeLoft([w0, w1], True)
 
 
-def make_cutter(d: Design) -> cq.Solid:
-    """The whole cutter as one closed solid (mm, model coordinates)."""
+def build_cutter(d: Design) -> cq.Solid:
+    """The whole cutter as one closed solid in design coordinates (mm)."""
     g = d.geometry
     cavity = make_cavity(g)
     if g.transition is None:
-        return to_model(cavity, d.skin, "cutter")
+        return cavity
     duct = make_transition(g.transition)
-    cutter = _one_solid(boolean("fuse", cavity, duct, "transition"), "cutter")
-    return to_model(cutter, d.skin, "cutter")
+    return _one_solid(boolean("fuse", cavity, duct, "transition"), "cutter")
+
+
+def make_cutter(d: Design) -> cq.Solid:
+    """The whole cutter as one closed solid on the design's skin (mm, model coordinates)."""
+    return place(build_cutter(d), d, "cutter")
 
 
 def _one_solid(shape: cq.Shape, stage: str) -> cq.Solid:

@@ -33,19 +33,26 @@ from ductgen.errors import GeometryError
 from ductgen.geometry.fabrication import footprint_end_mm, transition_wall_mm
 from ductgen.geometry.floor import floor_section
 from ductgen.geometry.inlet import InletGeometry
-from ductgen.solids.cutter import make_cutter, make_transition
+from ductgen.solids.cutter import build_cutter, make_transition
+from ductgen.solids.deform import place
 from ductgen.solids.primitives import (
     arc3,
     boolean,
     extrude_xz,
     floor_edges,
     polyline_edges,
-    to_model,
     wall_spline,
     xz_ellipse_arc,
 )
 
-__all__ = ["FEATHER_LAND_MM", "floor_profile_solid", "footprint_face", "make_insert", "prism"]
+__all__ = [
+    "FEATHER_LAND_MM",
+    "build_insert",
+    "floor_profile_solid",
+    "footprint_face",
+    "make_insert",
+    "prism",
+]
 
 V = cq.Vector
 #: Thickness left at the feathered bezel edge (mm): about one 0.4 mm nozzle width.
@@ -191,8 +198,15 @@ def _drilled(shape: cq.Shape, lay) -> cq.Shape:  # type: ignore[no-untyped-def]
 
 
 def make_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
-    """The insert as one closed solid (mm): an outer body minus the cutter (``cutter``, if
-    already built for this design, saves building it again). Raises
+    """The insert as one closed solid on the design's skin (mm, model coordinates).
+
+    ``cutter``: the cutter in design coordinates (:func:`~ductgen.solids.cutter.build_cutter`),
+    if already built for this design (saves building it again)."""
+    return place(build_insert(d, cutter), d, "insert")
+
+
+def build_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
+    """The insert in design coordinates (mm): an outer body minus the cutter. Raises
     :class:`GeometryError` when the kernel fails (the design was checked when it was built).
     """
     g, fab, lay = d.geometry, d.fab, d.layout
@@ -298,7 +312,7 @@ def make_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
                 prism(footprint_face(g, x_open, r_edge), 0.0, ins.bezel_thickness + 1.0)
             )
         outer = boolean("fuse", walls, pieces, "insert outer body")
-        inner = cutter if cutter is not None else make_cutter(d)
+        inner = cutter if cutter is not None else build_cutter(d)
         if inner_extra:
             inner = boolean("fuse", inner, inner_extra, "insert inner body")
         body = boolean("cut", outer, [inner], "insert")
@@ -317,4 +331,4 @@ def make_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
     solids = body.Solids()
     if len(solids) != 1:
         raise GeometryError("insert", f"expected one solid, the kernel produced {len(solids)}")
-    return to_model(solids[0], d.skin, "insert")
+    return solids[0]

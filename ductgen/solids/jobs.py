@@ -32,8 +32,9 @@ __all__ = [
 
 @dataclass(frozen=True)
 class SolidRecipe:
-    """How to make one solid kind: ``build(d, built) -> cq.Solid`` (``built``: the solids
-    made before it in this job, by kind); ``expected(d) -> mm³ | None``."""
+    """How to make one solid kind in design coordinates: ``build(d, built) -> cq.Solid``
+    (``built``: the solids made before it in this job, by kind, in design coordinates);
+    ``expected(d) -> mm³ | None``, its volume by an independent integral on a flat skin."""
 
     build: Callable[[Design, dict[str, Any]], Any]
     expected: Callable[[Design], float | None]
@@ -42,29 +43,48 @@ class SolidRecipe:
 
 def recipes() -> dict[str, SolidRecipe]:
     """Solid kind → recipe (imports the kernel, so only call inside the worker)."""
-    from ductgen.solids.cutter import make_cutter
-    from ductgen.solids.insert import make_insert
-    from ductgen.solids.plug import make_plug, plug_volume_mm3
+    from ductgen.solids.cutter import build_cutter
+    from ductgen.solids.insert import build_insert
+    from ductgen.solids.plug import build_plug, plug_volume_mm3
 
     return {
-        "cutter": SolidRecipe(lambda d, _: make_cutter(d), lambda d: d.geometry.cutter_volume_mm3),
+        "cutter": SolidRecipe(lambda d, _: build_cutter(d), lambda d: d.geometry.cutter_volume_mm3),
         # insert: a union of overlapping pieces minus the cutter has no independent
         # integral; the watertight/validity checks and the printability hook apply.
         "insert": SolidRecipe(
-            lambda d, built: make_insert(d, cutter=built.get("cutter")), lambda d: None
+            lambda d, built: build_insert(d, cutter=built.get("cutter")), lambda d: None
         ),
-        "plug": SolidRecipe(lambda d, _: make_plug(d), plug_volume_mm3),
+        "plug": SolidRecipe(lambda d, _: build_plug(d), plug_volume_mm3),
     }
 
 
+def mapped_volume_mm3(flat: Any, fn: Any, step_mm: float = 2.0) -> float:
+    """Volume (mm³) of a design-coordinate solid carried through the point map ``fn``,
+    measured without the mapped B-rep: its triangulation, subdivided to ``step_mm`` edges
+    (so a mapped chord departs from the mapped surface by < step²κ/8), vertices mapped."""
+    import trimesh
+
+    from ductgen.solids.check import CHECK_MESH
+    from ductgen.solids.mesh import triangulate
+
+    v, f = triangulate(flat, *CHECK_MESH)
+    fine = trimesh.Trimesh(v, f, process=False).subdivide_to_size(step_mm)
+    return float(trimesh.Trimesh(fn(fine.vertices), fine.faces, process=False).volume)
 
 
-def wetted_area_mm2(vertices: Any, faces: Any, g: InletGeometry) -> float:
-    """Area of the cutter's air-washed surface (mm²) from its triangulation: everything below
-    the skin plane (triangles crossing it are clipped; the overcut above is left out) except
-    the outlet (or throat exit) face."""
+def wetted_area_mm2(vertices: Any, faces: Any, g: InletGeometry, fn: Any = None) -> float:
+    """Area of the cutter's air-washed surface (mm²) from its design-coordinate
+    triangulation: everything below the skin (triangles crossing it are clipped; the overcut
+    above is left out) except the outlet (or throat exit) face. ``fn``: the point map onto a
+    curved skin (the clipped mesh is subdivided to 2 mm and mapped before its area is taken)."""
     import numpy as np
 
+    if fn is not None:
+        import trimesh
+
+        kept = _clipped_below_skin(np.asarray(vertices, dtype=float), np.asarray(faces), g)
+        fine = trimesh.Trimesh(*kept, process=False).subdivide_to_size(2.0)
+        return float(trimesh.Trimesh(fn(fine.vertices), fine.faces, process=False).area)
     tri = np.asarray(vertices, dtype=float)[np.asarray(faces)]
     on_exit = np.all(np.abs(tri[:, :, 0] - g.outlet_x_mm) < 1e-6, axis=1)
     tri = tri[~on_exit]
@@ -89,6 +109,30 @@ def wetted_area_mm2(vertices: Any, faces: Any, g: InletGeometry) -> float:
     return float(area)
 
 
+def _clipped_below_skin(vertices: Any, faces: Any, g: InletGeometry) -> tuple[Any, Any]:
+    """The part of a design-coordinate triangulation below the skin (w ≤ 0), without the
+    outlet face, as a triangle soup (vertices, faces)."""
+    import numpy as np
+
+    tri = vertices[faces]
+    tri = tri[~np.all(np.abs(tri[:, :, 0] - g.outlet_x_mm) < 1e-6, axis=1)]
+    out = []
+    for t in tri[np.any(tri[:, :, 2] < 0.0, axis=1)]:
+        if np.all(t[:, 2] <= 0.0):
+            out.append(t)
+            continue
+        poly = []
+        for i in range(3):
+            p, q = t[i], t[(i + 1) % 3]
+            if p[2] <= 0.0:
+                poly.append(p)
+            if (p[2] < 0.0) != (q[2] < 0.0) and p[2] != q[2]:
+                poly.append(p + (q - p) * (p[2] / (p[2] - q[2])))
+        out += [np.array([poly[0], poly[k], poly[k + 1]]) for k in range(1, len(poly) - 1)]
+    soup = np.array(out).reshape(-1, 3)
+    return soup, np.arange(len(soup)).reshape(-1, 3)
+
+
 def build_solids(
     d: Design, kinds: list[str], quality: str, prefix: str, staging: str
 ) -> dict[str, dict[str, Any]]:
@@ -103,24 +147,33 @@ def build_solids(
     from ductgen.atomic import write_atomic
     from ductgen.meshstats import mesh_stats
     from ductgen.solids.cad_io import step_bytes, stl_bytes
-    from ductgen.solids.check import CHECK_MESH, check_solid
+    from ductgen.solids.check import CHECK_MESH, CHECK_MESH_CURVED, check_solid
+    from ductgen.solids.deform import place
     from ductgen.solids.mesh import triangulate
 
     out: dict[str, dict[str, Any]] = {}
     built: dict[str, Any] = {}
     book = recipes()
     tol = DEFAULT_TOLERANCES
+    curved = d.placement.curvature != 0.0
+    check_mesh = CHECK_MESH_CURVED if curved else CHECK_MESH
     for kind in kinds:
         recipe = book[kind]
         times: dict[str, float] = {}
         t0 = time.perf_counter()
         stage(kind)
-        solid = recipe.build(d, built)
-        built[kind] = solid
+        flat = recipe.build(d, built)
+        built[kind] = flat
+        solid = place(flat, d, kind)
         times["build_s"] = time.perf_counter() - t0
         t0 = time.perf_counter()
         stage(f"{kind} check")
-        res = check_solid(solid, kind, recipe.expected(d), tol, recipe.volume_rel)
+        if curved:  # the flat design's triangulation, mapped: independent of the mapped B-rep
+            fn = d.placement.plug_map if kind == "plug" else d.placement.solid_map
+            expected = mapped_volume_mm3(flat, fn)
+        else:
+            expected = recipe.expected(d)
+        res = check_solid(solid, kind, expected, tol, recipe.volume_rel, check_mesh)
         times["check_s"] = time.perf_counter() - t0
         t0 = time.perf_counter()
         stage(f"{kind} STEP")
@@ -130,7 +183,7 @@ def build_solids(
         t0 = time.perf_counter()
         stage(f"{kind} STL")
         lin, ang = STL_QUALITY[quality]
-        if (lin, ang) == CHECK_MESH and res.mesh is not None:
+        if (lin, ang) == check_mesh and res.mesh is not None:
             verts, faces = res.mesh
         else:
             verts, faces = triangulate(solid, lin, ang)
@@ -148,13 +201,16 @@ def build_solids(
             "stl_volume_mm3": vol,
             "area_mm2": res.area_mm2,
             "faces": res.faces,
-            "check_mesh": CHECK_MESH,
+            "check_mesh": check_mesh,
             "files": {"step": step_name, "stl": stl_name},
             "seconds": times,
             "mesh": (verts.astype("float32"), faces.astype("int32")),
         }
         if kind == "cutter":
-            out[kind]["wetted_area_mm2"] = wetted_area_mm2(*res.mesh, d.geometry)
+            flat_mesh = triangulate(flat, *CHECK_MESH) if curved else res.mesh
+            out[kind]["wetted_area_mm2"] = wetted_area_mm2(
+                *flat_mesh, d.geometry, d.placement.solid_map if curved else None
+            )
     return out
 
 

@@ -21,21 +21,27 @@ from ductgen.design import Design
 from ductgen.errors import GeometryError
 from ductgen.geometry.floor import x_at_depth
 from ductgen.geometry.inlet import InletGeometry
+from ductgen.solids.deform import place
 from ductgen.solids.insert import (
     floor_profile_solid,
     footprint_face,
     footprint_wire,
     prism,
 )
-from ductgen.solids.primitives import boolean, polyline_edges, to_model
+from ductgen.solids.primitives import boolean, polyline_edges
 
-__all__ = ["make_plug", "plug_volume_mm3"]
+__all__ = ["build_plug", "make_plug", "plug_volume_mm3"]
 
 V = cq.Vector
 
 
 def make_plug(d: Design) -> cq.Solid:
-    """The plug as one closed solid (mm; plate top z = 0, cavity above)."""
+    """The plug on the design's skin, upside down: its plate follows the skin (mm)."""
+    return place(build_plug(d), d, "plug")
+
+
+def build_plug(d: Design) -> cq.Solid:
+    """The plug in design coordinates, upside down (mm; plate top z = 0, cavity above)."""
     g, plug = d.geometry, d.fab.plug
     x_ne, H = g.throat_end_mm, g.drop_mm
     try:
@@ -58,7 +64,7 @@ def make_plug(d: Design) -> cq.Solid:
     solids = shape.Solids()
     if len(solids) != 1:
         raise GeometryError("plug", f"expected one solid, the kernel produced {len(solids)}")
-    return to_model(solids[0], d.skin, "plug")
+    return solids[0]
 
 
 def _inset_wire(g: InletGeometry, x_end: float, d: float, z: float, n: int = 40) -> cq.Wire:

@@ -11,14 +11,12 @@ import numpy as np
 from ductgen.errors import GeometryError
 from ductgen.geometry.floor import FloorSection
 from ductgen.geometry.planform import Planform
-from ductgen.geometry.skin import SkinMap
 
 __all__ = [
     "boolean",
     "extrude_xz",
     "floor_edges",
     "polyline_edges",
-    "to_model",
     "wall_spline",
     "xz_ellipse_arc",
 ]
@@ -85,18 +83,6 @@ def floor_edges(sec: FloorSection, y: float) -> list[cq.Edge]:
     return edges
 
 
-def to_model(shape: cq.Solid, skin: SkinMap, stage: str) -> cq.Solid:
-    """Place a solid built in design coordinates on the skin (identity for a flat skin).
-
-    Raises:
-        GeometryError: the skin is curved; solids for curved skins are built from mapped
-            sections, which this release does not do yet.
-    """
-    if skin.is_flat:
-        return shape
-    raise GeometryError(stage, f"solids on a {skin.name} skin are not available yet")
-
-
 def np3(a: np.ndarray) -> list[tuple[float, float, float]]:
     return [tuple(float(v) for v in row) for row in a]  # type: ignore[misc]
 
@@ -141,7 +127,6 @@ def boolean(
 
     ``glue`` (fuse only): the operands touch along shared faces and do not otherwise
     overlap, which lets the kernel skip face-face intersection (measured 8x faster)."""
-    from ductgen.errors import GeometryError
 
     tools = b if isinstance(b, list) else [b]
     last = ""

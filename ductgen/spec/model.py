@@ -168,10 +168,45 @@ OutletSpec = Annotated[RoundOutlet | RectOutlet | NoOutlet, Field(discriminator=
 
 
 class SkinSpec(Section):
-    """The panel the inlet is let into; outer surface at z = 0."""
+    """The panel the inlet is let into (outer surface through the ramp start).
 
-    shape: Annotated[Literal["flat"], Field(default="flat", description="skin shape")]
+    ``shape = "flat"``; ``"cylinder"`` with ``radius``, ``axis`` (``"spanwise"``: the panel
+    curves along the flow, like a bonnet's leading edge; ``"streamwise"``: it curves across the
+    flow, like a fuselage side or a round cowling) and ``side``; ``"doubly"`` with
+    ``radius_streamwise`` and ``radius_spanwise`` (both on the same ``side``). Which keys each
+    shape needs, and the smallest radius that lets the inlet wrap, are checked with the
+    geometry (:mod:`ductgen.design`).
+    """
+
+    shape: Annotated[
+        Literal["flat", "cylinder", "doubly"],
+        Field(default="flat", description="skin shape: flat, cylinder or doubly (curved)"),
+    ]
     thickness: Annotated[Mm, Field(default=2.0, gt=0, le=100, description="skin thickness")]
+    radius: Annotated[
+        Mm | None,
+        Field(default=None, gt=0, le=1e7, description="cylinder: radius of the outer surface"),
+    ]
+    axis: Annotated[
+        Literal["spanwise", "streamwise"] | None,
+        Field(
+            default=None,
+            description="cylinder: axis spanwise (curves along the flow) or streamwise "
+            "(curves across the flow)",
+        ),
+    ]
+    side: Annotated[
+        Literal["convex", "concave"],
+        Field(default="convex", description="convex (bulges outward) or concave"),
+    ]
+    radius_streamwise: Annotated[
+        Mm | None,
+        Field(default=None, gt=0, le=1e7, description="doubly: radius along the flow"),
+    ]
+    radius_spanwise: Annotated[
+        Mm | None,
+        Field(default=None, gt=0, le=1e7, description="doubly: radius across the flow"),
+    ]
 
 
 class CutterSpec(Section):

@@ -1,0 +1,226 @@
+"""The skin a design sits on: its map, the maps its solids are placed with, and the limits.
+
+``[skin]`` becomes a :class:`~ductgen.geometry.skin.CurvedSkin` (or the flat identity) here,
+after the checks only the geometry can make: which keys each shape needs, and the smallest
+radius the inlet can wrap (see :func:`skin_from_spec`).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable
+from dataclasses import dataclass
+
+import numpy as np
+
+from ductgen.errors import DesignWarning, SpecError
+from ductgen.geometry.fabrication import FlangeLayout, Spigot
+from ductgen.geometry.inlet import InletGeometry
+from ductgen.geometry.skin import FLAT, CurvedSkin, FlatSkin, TurnedOver
+from ductgen.spec.model import SkinSpec
+
+__all__ = ["MAX_WRAP_DEG", "Placement", "placement", "skin_from_spec"]
+
+#: Largest angle (deg) the opening, flange or plug plate may wrap around a curved skin.
+#: ductgen's design coordinates lay the flat-plate inlet of the NACA tests onto the panel;
+#: beyond about a sixth of a turn the panel is no longer "locally gently curved" under the
+#: inlet and a one-piece template or flange cannot be laid on it (common practice, no source).
+MAX_WRAP_DEG = 60.0
+#: Inside a convex skin the floor and duct may reach at most this fraction of the radius
+#: deep: beyond it the normals through the part converge so much that walls of the flat
+#: design thin out by more than half.
+MAX_DEPTH_FRACTION = 0.5
+
+PointMap = Callable[[np.ndarray], np.ndarray]
+
+
+def _need(skin: SkinSpec, shape: str, given: dict[str, object], needed: tuple[str, ...]) -> None:
+    problems = []
+    for key, value in given.items():
+        if key in needed and value is None:
+            problems.append(
+                (f"skin.{key}", None, "a value", f"skin.shape = '{shape}' needs skin.{key}")
+            )
+        if key not in needed and value is not None:
+            problems.append(
+                (f"skin.{key}", value, "not given", f"skin.{key} belongs to another skin.shape")
+            )
+    if problems:
+        raise SpecError.many(problems)  # type: ignore[arg-type]
+    del skin
+
+
+def _extent(g: InletGeometry, layout: FlangeLayout, trim_xy: np.ndarray) -> tuple[float, float]:
+    """Largest |v| and u (mm) any part reaches on the skin: flange, plug plate, opening."""
+    pts = np.vstack([layout.outline_xy, trim_xy, layout.opening_xy])
+    return float(np.max(np.abs(pts[:, 1]))), float(np.max(np.abs(pts[:, 0])))
+
+
+def _deepest(g: InletGeometry, spigot: Spigot | None, wall: float) -> float:
+    """Deepest point of any part below the skin (mm, positive)."""
+    depth = g.drop_mm + wall
+    t = g.transition
+    if t is not None:
+        depth = max(depth, -(t.outlet_top_z_mm - t.outlet_height_mm) + 2.0 * wall)
+    if spigot is not None:
+        depth = max(depth, -(spigot.centre_z_mm - spigot.shoulder_radius_mm))
+    return depth
+
+
+def skin_from_spec(
+    skin: SkinSpec,
+    g: InletGeometry,
+    layout: FlangeLayout,
+    trim_xy: np.ndarray,
+    spigot: Spigot | None,
+    wall: float,
+) -> CurvedSkin | FlatSkin:
+    """The skin map of ``[skin]``, checked against the design.
+
+    Raises:
+        SpecError: a key the shape needs is missing (or one it does not take is given), or a
+            radius is below the smallest the inlet can wrap — the message gives that radius
+            and the reason (depth inside a convex skin, wrap angle, the straight outlet
+            breaking out of the skin).
+    """
+    given = {
+        "radius": skin.radius,
+        "axis": skin.axis,
+        "radius_streamwise": skin.radius_streamwise,
+        "radius_spanwise": skin.radius_spanwise,
+    }
+    if skin.shape == "flat":
+        _need(skin, "flat", given, ())
+        return FLAT
+    sign = 1.0 if skin.side == "convex" else -1.0
+    if skin.shape == "cylinder":
+        _need(skin, "cylinder", given, ("radius", "axis"))
+        assert skin.radius is not None
+        keys = {"stream": "skin.radius", "span": "skin.radius"}
+        k_stream = sign / skin.radius if skin.axis == "spanwise" else 0.0
+        k_span = sign / skin.radius if skin.axis == "streamwise" else 0.0
+    else:
+        _need(skin, "doubly", given, ("radius_streamwise", "radius_spanwise"))
+        assert skin.radius_streamwise is not None and skin.radius_spanwise is not None
+        keys = {"stream": "skin.radius_streamwise", "span": "skin.radius_spanwise"}
+        k_stream, k_span = sign / skin.radius_streamwise, sign / skin.radius_spanwise
+    v_max, u_max = _extent(g, layout, trim_xy)
+    deep = _deepest(g, spigot, wall)
+    wrap = math.radians(MAX_WRAP_DEG)
+    for k, reach, key in ((k_stream, u_max, keys["stream"]), (k_span, v_max, keys["span"])):
+        if k == 0.0:
+            continue
+        radius = 1.0 / abs(k)
+        need = reach / wrap
+        why = (
+            f"the parts reach {reach:.0f} mm along the skin in this direction and would wrap "
+            f"more than {MAX_WRAP_DEG:.0f}° of it"
+        )
+        if k > 0 and deep / MAX_DEPTH_FRACTION > need:
+            need = deep / MAX_DEPTH_FRACTION
+            why = (
+                f"the floor and duct reach {deep:.0f} mm deep: inside a convex skin the walls "
+                f"converge toward its centre, and deeper than {MAX_DEPTH_FRACTION:.0%} of the "
+                "radius the flat design no longer holds"
+            )
+        if radius < need:
+            raise SpecError(key, radius, f">= {math.ceil(need)} mm for this inlet", why)
+    if k_stream > 0 and g.transition is not None:
+        _check_straight_outlet(k_stream, g, spigot, wall, keys["stream"])
+    return CurvedSkin(k_stream, k_span, skin.shape)
+
+
+def _check_straight_outlet(
+    k: float, g: InletGeometry, spigot: Spigot | None, wall: float, key: str
+) -> None:
+    """A convex skin falls away below the straight spigot: refuse a radius at which the
+    spigot's top would break out through the skin's inner surface."""
+    t = g.transition
+    assert t is not None
+    top = t.outlet_top_z_mm + wall
+    length = g.spigot_length_mm + wall
+    if spigot is not None:
+        top = spigot.centre_z_mm + spigot.od_mm / 2.0 + spigot.bead_height_mm
+        length = spigot.x_end_mm - spigot.x0_mm
+    skin_t = g.skin_thickness_mm
+    w = -top  # depth of the spigot's top below the outer skin (positive)
+    gap = w - skin_t
+    # the straight line at depth w leaves the circle of radius R - t after arc s when
+    # (R - w)^2 + s^2 > (R - t)^2, i.e. R < (w^2 + s^2 - t^2) / (2 (w - t))
+    need = (w * w + length * length - skin_t * skin_t) / (2.0 * gap) if gap > 0 else math.inf
+    if 1.0 / k < need:
+        raise SpecError(
+            key,
+            1.0 / k,
+            f">= {math.ceil(need)} mm for this outlet",
+            f"the skin falls away below the straight {length:.0f} mm spigot, whose top would "
+            "break out through the skin; lower the outlet, shorten the spigot or choose a "
+            "larger radius",
+        )
+
+
+@dataclass(frozen=True)
+class Placement:
+    """How the solids are carried from design to model coordinates.
+
+    Attributes:
+        solid_map: for the cutter and the insert: the skin map, with the duct's across-flow
+            curvature faded to 0 at the outlet face and a rigid continuation beyond it.
+        plug_map: for the plug (built upside down: design w = −z), the skin map, turned over.
+        curvature: the largest skin curvature (1/mm; sets the mapped splines' spans).
+        fade_start_mm: station where the duct starts to straighten (None without a duct).
+        outlet_point, outlet_axis: where the outlet face's centreline point sits and where
+            the spigot points (model coordinates), or None.
+    """
+
+    solid_map: PointMap
+    plug_map: PointMap
+    curvature: float
+    fade_start_mm: float | None
+    outlet_point: tuple[float, float, float] | None
+    outlet_axis: tuple[float, float, float] | None
+
+
+def placement(
+    skin: CurvedSkin | FlatSkin, g: InletGeometry, flange_end_mm: float
+) -> tuple[Placement, list[DesignWarning]]:
+    """The maps the solids are placed with, and a warning when part of the flange lies where
+    the duct already straightens (it then departs from the skin by the stated amount)."""
+    warnings: list[DesignWarning] = []
+    plug_map = TurnedOver(skin)
+
+    curvature = max(abs(skin.k_stream), abs(skin.k_span))
+    t = g.transition
+    if t is None or not isinstance(skin, CurvedSkin):
+        point = axis = None
+        if t is not None:
+            point = (t.x_end_mm, 0.0, t.outlet_centre_z_mm)
+            axis = (1.0, 0.0, 0.0)
+        return Placement(skin.to_model, plug_map, curvature, None, point, axis), warnings
+    start = min(max(flange_end_mm, t.x_start_mm), t.x_end_mm - 0.5 * t.length_mm)
+    duct = skin.duct_map(start, t.x_end_mm)
+    if flange_end_mm > start + 1e-9:
+        probe = np.array([[flange_end_mm, v, 0.0] for v in np.linspace(-g.width_mm, g.width_mm, 9)])
+        off = float(np.max(np.linalg.norm(duct.to_model(probe) - skin.to_model(probe), axis=1)))
+        if off > 0.05:
+            warnings.append(
+                DesignWarning(
+                    "flange_off_skin",
+                    f"the flange reaches x = {flange_end_mm:.0f} mm, where the duct already "
+                    f"straightens toward its outlet: there it stands up to {off:.2f} mm off "
+                    "the skin (a longer transition avoids this)",
+                )
+            )
+    m0, axis_t = duct.outlet_frame()
+    outlet = m0 + duct.skin.frame(np.array([t.x_end_mm]))[1][0] * t.outlet_centre_z_mm
+    return (
+        Placement(
+            duct.to_model,
+            plug_map,
+            curvature,
+            start,
+            tuple(float(c) for c in outlet),  # type: ignore[arg-type]
+            tuple(float(c) for c in axis_t),  # type: ignore[arg-type]
+        ),
+        warnings,
+    )
