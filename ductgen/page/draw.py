@@ -215,7 +215,7 @@ def section_svg(d: Design, samples: int = 160) -> str:
     xh = length - 0.18 * length
     parts.append(_line(xh - fs, h, length, h, "thin"))
     parts.append(_dim((xh, 0.0), (xh, h), f"H {h:.1f}", fs, "H"))
-    xa, za = fl.arc_end_mm
+    xa, _ = fl.arc_end_mm
     xm = 0.5 * (xa + length)
     zm = float(fl.depth(xm))
     th = fl.angle_deg

@@ -109,7 +109,7 @@ class _Handler(BaseHTTPRequestHandler):
     app: DesignApp
     hosts: frozenset[str] | None
 
-    def log_message(self, format: str, *args: Any) -> None:  # noqa: A002 - stdlib name
+    def log_message(self, format: str, *args: Any) -> None:
         pass  # the terminal stays quiet; the page shows what happens
 
     # --- answers ---------------------------------------------------------------------------
@@ -151,7 +151,7 @@ class _Handler(BaseHTTPRequestHandler):
         return False
 
     # --- GET --------------------------------------------------------------------------------
-    def do_GET(self) -> None:  # noqa: N802 - stdlib name
+    def do_GET(self) -> None:
         if not self._host_ok():
             return
         path = unquote(urlsplit(self.path).path)
@@ -212,7 +212,7 @@ class _Handler(BaseHTTPRequestHandler):
             return None
         return body
 
-    def do_POST(self) -> None:  # noqa: N802 - stdlib name
+    def do_POST(self) -> None:
         if not self._host_ok():
             return
         body = self._body()
