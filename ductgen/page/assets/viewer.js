@@ -44,7 +44,7 @@ window.DuctViewer = class {
       }
     }
     this.centre = lo.map((l, a) => (l + hi[a]) / 2);
-    this.radius = Math.hypot(hi[0] - lo[0], hi[1] - lo[1], hi[2] - lo[2]) / 2 || 1;
+    this.radius = Math.max(hi[0] - lo[0], hi[1] - lo[1], hi[2] - lo[2]) / 2 || 1; // longest half-side
     this.tris = v; this.count = n;
     this.canvas.dataset.triangles = String(n);
     this.request();
@@ -64,9 +64,9 @@ window.DuctViewer = class {
     const w = Math.max(1, Math.round(cv.clientWidth * dpr)), h = Math.max(1, Math.round(cv.clientHeight * dpr));
     if (cv.width !== w || cv.height !== h) { cv.width = w; cv.height = h; }
     const c = cv.getContext("2d");
-    c.fillStyle = "#eef2f4"; c.fillRect(0, 0, w, h);
+    c.fillStyle = "#eef2f4"; c.fillRect(0, 0, w, h); c.lineWidth = 0.7 * dpr; c.lineJoin = "round";
     const cy = Math.cos(this.yaw), sy = Math.sin(this.yaw), cp = Math.cos(this.pitch), sp = Math.sin(this.pitch);
-    const s = (0.45 * Math.min(w, h) / this.radius) * this.zoom;
+    const s = (0.45 * Math.max(Math.min(w, h), 0.6 * w) / this.radius) * this.zoom;
     const [mx, my, mz] = this.centre, n = this.count, v = this.tris;
     const px = new Float32Array(3 * n), py = new Float32Array(3 * n), depth = new Float32Array(n), shade = new Float32Array(n);
     const keep = [];
@@ -92,10 +92,11 @@ window.DuctViewer = class {
     keep.sort((a, b) => depth[b] - depth[a]);                       // far first
     for (const i of keep) {
       const g = shade[i];
-      c.fillStyle = `rgb(${(47 + 150 * g) | 0},${(111 + 120 * g) | 0},${(115 + 115 * g) | 0})`;
+      const col = `rgb(${(25 + 140 * g) | 0},${(70 + 130 * g) | 0},${(78 + 125 * g) | 0})`;
+      c.fillStyle = col; c.strokeStyle = col;
       c.beginPath();
       c.moveTo(px[3 * i], py[3 * i]); c.lineTo(px[3 * i + 1], py[3 * i + 1]); c.lineTo(px[3 * i + 2], py[3 * i + 2]);
-      c.closePath(); c.fill();
+      c.closePath(); c.fill(); c.stroke(); // the stroke hides hairline seams
     }
     this.canvas.dataset.drawn = String(keep.length);
   }
