@@ -385,6 +385,17 @@ def test_server_refuses_non_loopback_without_host(tmp_path) -> None:
     assert "warning: listening on 0.0.0.0, not only this computer" in err_text
 
 
+def test_sweep_from_the_page_is_small_and_checked_before_it_starts(server, tmp_path) -> None:  # type: ignore[no-untyped-def]
+    data = tomllib.loads(SAMPLE.read_text())
+    out = tmp_path / "sweep"
+    body = {"data": data, "key": "ramp.angle_deg", "values": "4:20:1", "out": str(out)}
+    status, res = _post(server, "/api/sweep", body)
+    assert status == 400 and res["problems"][0]["key"] == "sweep values"
+    assert "at most 12 variants" in res["problems"][0]["sentence"]
+    status, res = _post(server, "/api/sweep", {**body, "key": "ramp.nonsense", "values": "6,7"})
+    assert status == 400 and not out.exists()
+
+
 def test_foreign_host_header_and_non_json_posts_are_refused(server) -> None:  # type: ignore[no-untyped-def]
     # a page elsewhere reaching the server through DNS rebinding names another host
     assert _get(server, "/api/job", host="attacker.example:80")[0] == 421

@@ -184,7 +184,7 @@ class JobRunner:
             Busy: a job is running.
         """
         from ductgen.sweep import parse_vary, run_sweep
-        from ductgen.sweep.vary import combinations
+        from ductgen.sweep.vary import combinations, set_dotted
 
         spec, _ = check_spec(data, base_dir)
         vary = parse_vary(f"{key}={values}")
@@ -196,6 +196,8 @@ class JobRunner:
                 f"at most {MAX_SWEEP_VARIANTS} variants from the page",
                 f"this gives {n}; run larger grids with ductgen sweep",
             )
+        for value in vary.values:  # every variant is checked now, in milliseconds
+            check_spec(set_dotted(data, vary.key, value), base_dir)
         out = Path(out_dir) if out_dir is not None else Path.cwd() / f"{spec.name}-sweep"
         text = spec_text(absolute_tables(data, base_dir), "spec.toml", "written by ductgen design")
 

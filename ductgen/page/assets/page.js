@@ -279,7 +279,7 @@ function fillTable(table, rows) {
 
 function render(res, ms) {
   const stale = !res.ok;
-  for (const id of ["plan", "section", "numbers", "flow"]) $(id).classList.toggle("stale", stale);
+  for (const id of ["plan", "section", "numbers", "flow", "warnings"]) $(id).classList.toggle("stale", stale);
   S.valid = !!res.ok;
   $("build-btn").disabled = !res.ok;
   if (!res.ok) {
