@@ -1,0 +1,141 @@
+"""The live preview: spec data as typed in the page → the numbers, drawings, airflow and
+warnings the page shows, or the problems to show beside the fields.
+
+Computed from :func:`~ductgen.design.build_design` and
+:func:`~ductgen.flow.report.flow_section` only (tens of milliseconds; no CAD kernel).
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Any
+
+from ductgen.design import Design, build_design
+from ductgen.errors import DesignWarning, DuctgenError, SpecError
+from ductgen.page.draw import plan_svg, section_svg
+from ductgen.spec import Spec, parse_spec
+
+__all__ = ["check_spec", "flow_rows", "key_numbers", "preview", "problem_lines"]
+
+
+def problem_lines(err: SpecError) -> list[dict[str, str]]:
+    """One ``{"key", "sentence"}`` per problem; the sentence is the line the CLI prints for
+    that key (``throat.width = '12 kg' (...)``), formatted by :class:`SpecError` itself."""
+    out = []
+    for p in err.problems:
+        one = SpecError(p.key, p.value, p.allowed, p.reason)
+        out.append({"key": p.key, "sentence": str(one).splitlines()[1].strip()})
+    return out
+
+
+def check_spec(data: Any, base_dir: Path | None) -> tuple[Spec, Design]:
+    """Validate page data into a spec and its design (every cross-field rule checked).
+
+    Raises:
+        SpecError: any problem, naming the key.
+    """
+    if not isinstance(data, dict):
+        raise SpecError("(top level)", None, "a table of sections", "nothing to read")
+    spec = parse_spec(data, base_dir=base_dir)
+    return spec, build_design(spec)
+
+
+def _row(key: str, label: str, value: float | None, unit: str, digits: int) -> dict[str, Any]:
+    return {"key": key, "label": label, "value": value, "unit": unit, "digits": digits}
+
+
+def key_numbers(d: Design) -> list[dict[str, Any]]:
+    """The key numbers block (mm, mm², deg)."""
+    g = d.geometry
+    pf, fl = g.planform, g.floor
+    rows = [
+        _row("throat_width_mm", "throat width W", g.width_mm, "mm", 2),
+        _row("throat_depth_mm", "throat depth D", g.depth_mm, "mm", 2),
+        _row("ramp_length_mm", "ramp length L", g.length_mm, "mm", 2),
+        _row("floor_drop_mm", "floor drop H", g.drop_mm, "mm", 2),
+        _row("ramp_angle_deg", "ramp angle", fl.angle_deg, "°", 2),
+        _row("throat_area_mm2", "throat area W·D", g.throat_area_mm2, "mm²", 0),
+        _row("max_wall_divergence_deg", "max wall divergence", pf.max_divergence_deg, "°", 1),
+        _row("apex_width_mm", "apex width", pf.apex_width_mm, "mm", 1),
+        _row(
+            "ramp_cavity_volume_mm3", "ramp cavity volume", g.ramp_cavity_volume_mm3 / 1e3, "cm³", 1
+        ),
+    ]
+    if g.transition is not None:
+        t = g.transition
+        rows.append(_row("transition_area_ratio", "transition area ratio", t.area_ratio, "", 2))
+    return rows
+
+
+def flow_rows(flow: dict[str, Any]) -> list[dict[str, Any]]:
+    """The airflow block from the report's ``flow`` section (L/s, kg/s, Pa shown)."""
+    band = flow.get("sensitivity", {})
+
+    def lps(v: float | None) -> float | None:
+        return None if v is None else v * 1e3
+
+    rows = [
+        _row("speed_m_s", "speed", flow["speed_m_s"] * 3.6, "km/h", 1),
+        _row("volume_flow_m3_s", "delivered flow", lps(flow.get("volume_flow_m3_s")), "L/s", 1),
+        _row("volume_flow_low_m3_s", "band low", lps(band.get("volume_flow_low_m3_s")), "L/s", 1),
+        _row(
+            "volume_flow_high_m3_s", "band high", lps(band.get("volume_flow_high_m3_s")), "L/s", 1
+        ),
+        _row(
+            "inlet_velocity_ratio", "inlet velocity ratio", flow.get("inlet_velocity_ratio"), "", 3
+        ),
+        _row("ram_recovery", "ram recovery", flow.get("ram_recovery"), "", 3),
+        _row("mass_flow_kg_s", "mass flow", flow.get("mass_flow_kg_s"), "kg/s", 4),
+        _row(
+            "delta_over_depth_max", "boundary layer δ / D", flow.get("delta_over_depth_max"), "", 2
+        ),
+        _row("momentum_drag_n", "momentum drag", flow.get("momentum_drag_n"), "N", 2),
+    ]
+    if "required_flow_m3_s" in flow:
+        rows.append(
+            _row("required_flow_m3_s", "required flow", lps(flow["required_flow_m3_s"]), "L/s", 1)
+        )
+    return rows
+
+
+def _warnings(ws: list[DesignWarning]) -> list[dict[str, str]]:
+    return [{"code": w.code, "message": w.message} for w in ws]
+
+
+def preview(data: Any, base_dir: Path | None = None) -> dict[str, Any]:
+    """Everything the page shows for ``data`` (the spec as plain data, units as text).
+
+    Returns ``{"ok": False, "problems": [...], "message": CLI text}`` for bad input, else
+    ``{"ok": True, "name", "numbers", "flow", "meets_required", "warnings", "plan_svg",
+    "section_svg"}``.
+    """
+    try:
+        spec, d = check_spec(data, base_dir)
+    except SpecError as err:
+        return {"ok": False, "problems": problem_lines(err), "message": str(err)}
+    except DuctgenError as err:
+        return {"ok": False, "problems": [], "message": str(err)}
+    warnings = list(d.warnings)
+    flow: dict[str, Any] | None = None
+    meets = None
+    if spec.flow is not None:
+        from ductgen.flow.report import flow_section
+
+        section, fw = flow_section(spec.flow, d.duct)
+        warnings += fw
+        flow = {
+            "rows": flow_rows(section),
+            "operating_point": section.get("operating_point"),
+            "note": section.get("operating_point_note"),
+        }
+        meets = section.get("meets_required_flow")
+    return {
+        "ok": True,
+        "name": spec.name,
+        "numbers": key_numbers(d),
+        "flow": flow,
+        "meets_required": meets,
+        "warnings": _warnings(warnings),
+        "plan_svg": plan_svg(d),
+        "section_svg": section_svg(d),
+    }
