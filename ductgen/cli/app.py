@@ -9,14 +9,14 @@ from __future__ import annotations
 
 import os
 import sys
-from pathlib import Path
 
 import typer
-from rich.console import Console
 
+from ductgen.cli import build_cmd, check_cmd, design_cmd, size_cmd, sweep_cmd
+from ductgen.cli.common import err_console
 from ductgen.errors import DuctgenError
 
-__all__ = ["Terminated", "app", "err_console", "main", "only_kinds", "out_folder"]
+__all__ = ["COMMANDS", "Terminated", "app", "main"]
 
 app = typer.Typer(
     name="ductgen",
@@ -28,8 +28,19 @@ app = typer.Typer(
     rich_markup_mode=None,  # help text is printed literally (no markup, no :emoji: codes)
 )
 
-#: stderr console; user text is never read as markup or emoji codes (``120:100:10`` stays).
-err_console = Console(stderr=True, highlight=False, emoji=False, markup=False)
+#: Command name → function: the whole command line, in one table.
+COMMANDS = {
+    "build": build_cmd.build_command,
+    "init": build_cmd.init_command,
+    "profiles": build_cmd.profiles_command,
+    "check": check_cmd.check_command,
+    "size": size_cmd.size_command,
+    "sweep": sweep_cmd.sweep_command,
+    "design": design_cmd.design_command,
+}
+for _name, _command in COMMANDS.items():
+    app.command(_name)(_command)
+
 
 
 class Terminated(KeyboardInterrupt):
@@ -61,35 +72,6 @@ def _install_signal_handlers() -> None:
             signal.signal(sig, _on_terminate)
 
 
-def out_folder(out: str | None, default: Path) -> Path:
-    """The ``-o/--out`` folder: ``default`` when not given; an empty text is refused
-    (it would silently mean the current folder)."""
-    from ductgen.errors import SpecError
-
-    if out is None:
-        return default
-    if not out.strip():
-        raise SpecError("-o/--out", out, "a folder path", "the path is empty")
-    return Path(out)
-
-
-def only_kinds(only: str | None) -> list[str] | None:
-    """The ``--only`` list; None when not given. An empty list is refused (it would
-    silently build everything)."""
-    from ductgen.errors import SpecError
-
-    if only is None:
-        return None
-    kinds = [k.strip() for k in only.split(",") if k.strip()]
-    if not kinds:
-        from ductgen.pipeline.builder import output_kinds
-
-        raise SpecError(
-            "--only", only, "a comma list of " + ", ".join(output_kinds()), "the list is empty"
-        )
-    return kinds
-
-
 def _click_exceptions() -> tuple[tuple[type, ...], tuple[type, ...], tuple[type, ...]]:
     """(Exit, Abort, ClickException) classes of click and of typer's own copy of click
     (typer >= 0.2x raises the latter)."""
@@ -112,8 +94,6 @@ def _click_exceptions() -> tuple[tuple[type, ...], tuple[type, ...], tuple[type,
 
 def main(argv: list[str] | None = None) -> int:
     """Console entry point; returns (and exits with) the process exit code."""
-    from ductgen.cli import commands  # noqa: F401  (registers the commands)
-
     if argv is None:  # the real command line (not a caller embedding main())
         _install_signal_handlers()
     exits, aborts, usage = _click_exceptions()

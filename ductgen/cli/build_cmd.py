@@ -8,12 +8,11 @@ from typing import Annotated
 
 import typer
 
-from ductgen.cli.app import app, err_console
+from ductgen.cli.common import err_console
 
 __all__ = ["build_command", "init_command", "profiles_command"]
 
 
-@app.command("build")
 def build_command(
     spec: Annotated[Path, typer.Argument(help="spec file (.toml, .yaml, .json)")],
     out: Annotated[
@@ -39,7 +38,7 @@ def build_command(
     """Build solids, files and report.json from a spec."""
     from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
 
-    from ductgen.cli.app import only_kinds, out_folder
+    from ductgen.cli.common import only_kinds, out_folder
     from ductgen.pipeline import build
     from ductgen.spec import load_spec
     from ductgen.spec.template import with_template_options
@@ -112,7 +111,6 @@ def _summary(result, out_dir: Path) -> None:  # type: ignore[no-untyped-def]
     con.print(f"wrote {len(result.files)} files to {out_dir}")
 
 
-@app.command("init")
 def init_command(
     path: Annotated[Path, typer.Argument(help="spec file to write")] = Path("ductgen.toml"),
     example: Annotated[
@@ -160,7 +158,6 @@ def _convert_toml(data: bytes, suffix: str) -> bytes:
     return (f"# {head}\n" + yaml.safe_dump(values, sort_keys=False)).encode()
 
 
-@app.command("profiles")
 def profiles_command(
     as_json: Annotated[bool, typer.Option("--json", help="machine-readable list")] = False,
 ) -> None:

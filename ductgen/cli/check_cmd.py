@@ -8,7 +8,7 @@ from typing import Annotated
 
 import typer
 
-from ductgen.cli.app import app, err_console
+from ductgen.cli.common import err_console
 from ductgen.errors import DuctgenError
 
 __all__ = ["UnhealthyFileError", "check_command"]
@@ -20,7 +20,6 @@ class UnhealthyFileError(DuctgenError):
     exit_code = 1
 
 
-@app.command("check")
 def check_command(
     file: Annotated[Path, typer.Argument(help="STL or STEP file")],
     min_wall: Annotated[

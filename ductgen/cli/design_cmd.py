@@ -7,7 +7,7 @@ from typing import Annotated
 
 import typer
 
-from ductgen.cli.app import app, err_console
+from ductgen.cli.common import err_console
 
 __all__ = ["DEFAULT_PORT", "design_command"]
 
@@ -15,7 +15,6 @@ __all__ = ["DEFAULT_PORT", "design_command"]
 DEFAULT_PORT = 8765
 
 
-@app.command("design")
 def design_command(
     spec: Annotated[
         Path | None, typer.Argument(help="spec file to start from [default: the starter]")
@@ -41,7 +40,7 @@ def design_command(
     """Edit a spec in a local web page: drawings, numbers, airflow and warnings as you type."""
     import tomllib
 
-    from ductgen.cli.app import out_folder
+    from ductgen.cli.common import out_folder
     from ductgen.page.server import DesignApp, is_loopback, make_server
     from ductgen.spec import read_spec_data
     from ductgen.spec.starter import STARTER

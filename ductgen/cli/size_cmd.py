@@ -8,7 +8,7 @@ from typing import Annotated
 
 import typer
 
-from ductgen.cli.app import app, err_console
+from ductgen.cli.common import err_console
 from ductgen.spec.model import DEFAULT_RAMP_ANGLE_DEG
 
 __all__ = ["size_command"]
@@ -27,7 +27,6 @@ def _quantity(key: str, text: str, dimension: str, unit: str) -> float:
         ) from None
 
 
-@app.command("size")
 def size_command(
     flow: Annotated[
         str,

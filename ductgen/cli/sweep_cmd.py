@@ -7,7 +7,7 @@ from typing import Annotated
 
 import typer
 
-from ductgen.cli.app import app, err_console
+from ductgen.cli.common import err_console
 
 __all__ = ["CONFIRM_ABOVE", "SECONDS_PER_VARIANT", "sweep_command"]
 
@@ -57,7 +57,6 @@ def _announce(varies, zip_values, jobs, kinds, yes, max_variants, silent):  # ty
         err_console.print(line)
 
 
-@app.command("sweep")
 def sweep_command(
     spec: Annotated[Path, typer.Argument(help="base spec file (.toml, .yaml, .json)")],
     vary: Annotated[
@@ -109,7 +108,7 @@ def sweep_command(
     """Build variants of a spec in parallel and compare them side by side."""
     from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
 
-    from ductgen.cli.app import only_kinds, out_folder
+    from ductgen.cli.common import only_kinds, out_folder
     from ductgen.spec import load_spec
     from ductgen.sweep import parse_vary, run_sweep
 
