@@ -16,6 +16,7 @@ from typing import Any
 
 import numpy as np
 
+from ductgen.export.placement import text_width_em
 from ductgen.export.template_layout import CAUTIONS, build_date
 from ductgen.geometry.inlet import InletGeometry
 
@@ -48,6 +49,9 @@ def offset_rows(g: InletGeometry) -> list[dict[str, Any]]:
     for si, r in zip(s, rows, strict=True):
         out.append({"x_over_L": float(si), **r, "station": bool(np.any(np.abs(prof - si) < 1e-9))})
     return out
+
+
+_PT_PER_MM = 72.0 / 25.4
 
 
 def _scale_for(extent: tuple[float, float], box: tuple[float, float]) -> float:
@@ -182,23 +186,32 @@ def _section(fig, page, box, g: InletGeometry) -> float:  # type: ignore[no-unty
         f"D {g.depth_mm:.2f}",
         horizontal=False,
     )
+    # labels clear of every line: below the floor over the label's whole width (paper
+    # gap 1.5 mm, text width from the Helvetica metrics at 72/25.4 pt per mm)
+    gap = 1.5 / s
     xa = 0.45 * length
+    label = f"ramp {g.floor.angle_deg:.2f} deg"
+    half_w = 0.5 * text_width_em(label) * (6.5 / _PT_PER_MM) / s
+    xs = np.linspace(max(xa - half_w, 0.0), min(xa + half_w, length), 50)
     ax.text(
         xa,
-        -float(g.floor.depth(xa)) - 0.12 * g.drop_mm,
-        f"ramp {g.floor.angle_deg:.2f} deg",
+        -float(np.max(g.floor.depth(xs))) - gap,
+        label,
         fontsize=6.5,
         ha="center",
         va="top",
     )
     if g.transition is not None:
         t = g.transition
+        # under the section's lowest point, right-aligned with the outlet face: no line
+        # of the section passes below it
         ax.text(
             t.x_end_mm,
-            t.outlet_top_z_mm + 2,
+            zmin - gap,
             f"outlet {t.kind} {t.outlet_width_mm:.1f}",
             fontsize=6,
             ha="right",
+            va="top",
         )
     return s
 
