@@ -17,6 +17,7 @@ from typing import Any
 import numpy as np
 
 from ductgen.export.placement import text_width_em
+from ductgen.export.stamp import build_datetime
 from ductgen.export.template_layout import CAUTIONS, build_date
 from ductgen.geometry.inlet import InletGeometry
 
@@ -272,7 +273,12 @@ def sheet_pdf(
     with (
         rc_context(_RC),
         PdfPages(
-            buf, metadata={"Title": f"{spec.name} drawing sheet", "Creator": "ductgen"}
+            buf,
+            metadata={
+                "Title": f"{spec.name} drawing sheet",
+                "Creator": "ductgen",
+                "CreationDate": build_datetime(),  # reproducible: the build date
+            },
         ) as pdf,
     ):
         fig = Figure(figsize=(pw / _INCH, ph / _INCH))
