@@ -2,7 +2,8 @@
 
 Fit is checked against closed forms: a rectangle a × b turned by θ spans
 a·cos θ + b·sin θ by a·sin θ + b·cos θ [derived], so 230 × 40 mm fits a 220 mm square bed
-turned 45° (190.9 mm each way) and 250 × 100 mm fits it at no turn (≥ 247 mm). The pieces of
+turned (at 45°: 190.9 mm each way) but not straight, and 250 × 100 mm fits at no turn (at
+0°: 250 mm; at 45°: 247.5 mm). The pieces of
 a split insert are checked with trimesh (an independent mesh library): each closed, each
 oriented bounding box inside the bed (sorted extents, a sufficient condition), volumes
 summing to the whole to 1e-4 (issue 11).
@@ -25,7 +26,7 @@ def _box(a: float, b: float, c: float) -> np.ndarray:
 def test_fit_closed_forms() -> None:
     assert bed_fit(_box(200, 100, 50), BED).fits
     turned = bed_fit(_box(230, 40, 10), BED)
-    assert turned.fits and turned.turn_deg == pytest.approx(45.0, abs=6.0)
+    assert turned.fits and 10.0 < turned.turn_deg < 80.0  # 230 mm > 220 mm at no turn
     assert not bed_fit(_box(250, 100, 10), BED).fits
     assert not bed_fit(_box(100, 100, 260), BED).fits  # too tall
     assert bed_fit(_box(240, 60, 60), BED, "+x").size_mm[2] == pytest.approx(240)  # standing

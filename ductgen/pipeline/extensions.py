@@ -45,6 +45,59 @@ def _printability(ctx):  # type: ignore[no-untyped-def]
 
 REPORT_HOOKS.append(_printability)
 
+# --- printer bed fit (spec [print], solids/split.py) -----------------------------------
+
+
+def _bed_fit(ctx) -> None:  # type: ignore[no-untyped-def]
+    """``print.bed``: does each printed part fit ``[print] bed`` in its suggested
+    orientation; where the insert does not, the stations of a keyed split across the flow
+    (estimate from the mesh; the pieces themselves: :func:`ductgen.solids.split.split_for_bed`)."""
+    from ductgen.errors import DesignWarning
+    from ductgen.printability import overhang_by_orientation
+    from ductgen.solids.split import bed_fit, estimate_stations
+
+    bed = tuple(ctx.spec.print.bed)
+    section: dict = {"bed_mm": list(bed)}
+    for kind in ("insert", "plug"):
+        if "mesh" not in ctx.solids.get(kind, {}):
+            continue
+        verts, faces = ctx.solids[kind]["mesh"]
+        over = overhang_by_orientation(verts, faces)
+        up = min(over, key=over.__getitem__)
+        fit = bed_fit(verts, bed, up)
+        entry = fit.as_dict()
+        if kind == "insert" and not fit.fits:
+            xs = estimate_stations(verts, bed, up)
+            entry["split_stations_x_mm"] = xs
+            more = (
+                f"split it across the flow at x = {', '.join(f'{x:.1f}' for x in xs)} mm "
+                f"into {len(xs) + 1} keyed pieces"
+                if xs
+                else "it does not fit even in 8 pieces across the flow"
+            )
+            ctx.warnings.append(
+                DesignWarning(
+                    "print_exceeds_bed",
+                    f"the insert ({' x '.join(f'{s:.0f}' for s in fit.size_mm)} mm standing "
+                    f"{up}) does not fit the {' x '.join(f'{b:.0f}' for b in bed)} mm bed: " + more,
+                )
+            )
+        if kind == "plug" and not fit.fits:
+            ctx.warnings.append(
+                DesignWarning(
+                    "plug_exceeds_bed",
+                    "the plug does not fit the printer bed: make it in one piece (CNC-cut "
+                    "foam or tooling board), since a printed plug's joints print through "
+                    "the laminate (common practice)",
+                )
+            )
+        section[kind] = entry
+    if len(section) > 1:
+        ctx.report.setdefault("print", {})["bed"] = section
+
+
+REPORT_HOOKS.append(_bed_fit)
+
 # --- marking template and drawing sheet (export/, sheets/) ---------------------------
 
 

@@ -95,8 +95,8 @@ def bed_fit(vertices: np.ndarray, bed: tuple[float, float, float], up: str = "+z
         p = xy @ rot.T
         ex, ey = float(np.ptp(p[:, 0])), float(np.ptp(p[:, 1]))
         ok = (ex <= bed[0] and ey <= bed[1]) or (ex <= bed[1] and ey <= bed[0])
-        # fitting turns first, then the smallest footprint
-        key = (not ok, max(ex / bed[0], ey / bed[1]), ex * ey)
+        # fitting turns first, then the smallest footprint, then the smallest turn
+        key = (not ok, round(ex * ey, 6), float(deg))
         if best is None or key < best[0]:
             best = (key, ex, ey, float(deg))
     assert best is not None
