@@ -22,12 +22,16 @@ from tests.pdf_overlap import audit_page
 def test_section_labels_clear_of_lines(path) -> None:  # type: ignore[no-untyped-def]
     spec = load_spec(path)
     g = build_geometry(spec)
-    doc = pymupdf.open(stream=sheet_pdf(g, spec, spec_sha256(spec), "0"), filetype="pdf")
+    split = (0.55 * g.length_mm, 1.2 * g.length_mm)  # two glue faces of a split insert
+    doc = pymupdf.open(
+        stream=sheet_pdf(g, spec, spec_sha256(spec), "0", None, split), filetype="pdf"
+    )
     page = doc[0]
     text = page.get_text()
+    assert "split 1" in text
     if g.transition is not None:
         assert "outlet " in text
     a = audit_page(page, edge_mm=5.0)
-    free = [(t, n) for t, n in a.text_hits if t.startswith(("outlet", "ramp "))]
+    free = [(t, n) for t, n in a.text_hits if t.startswith(("outlet", "ramp ", "split"))]
     assert free == []
     assert a.off_page == []

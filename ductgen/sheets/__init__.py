@@ -22,8 +22,14 @@ def sheet_files(ctx: Any) -> dict[str, bytes]:
     except ExportError as err:
         ctx.warnings.append(DesignWarning("preview_unavailable", str(err)))
         png = None
+    split = ctx.report.get("print", {}).get("bed", {}).get("insert", {})
     pdf = sheet_pdf(
-        ctx.geometry, ctx.spec, ctx.report["spec_sha256"], ctx.report["ductgen_version"], png
+        ctx.geometry,
+        ctx.spec,
+        ctx.report["spec_sha256"],
+        ctx.report["ductgen_version"],
+        png,
+        tuple(split.get("split_stations_x_mm") or ()),
     )
     files = {"sheet.pdf": pdf}
     if png is not None:

@@ -151,7 +151,7 @@ def _section_profile(g: InletGeometry) -> tuple[np.ndarray, np.ndarray, np.ndarr
     return np.vstack(floor), np.vstack(roof), g.lip.nose()
 
 
-def _section(fig, page, box, g: InletGeometry) -> float:  # type: ignore[no-untyped-def]
+def _section(fig, page, box, g: InletGeometry, split_x: tuple[float, ...] = ()) -> float:  # type: ignore[no-untyped-def]
     floor, roof, nose = _section_profile(g)
     x_end = float(floor[-1, 0])
     zmin = float(floor[:, 1].min())
@@ -202,6 +202,12 @@ def _section(fig, page, box, g: InletGeometry) -> float:  # type: ignore[no-unty
         ha="center",
         va="top",
     )
+    for i, xs in enumerate(split_x):  # the insert's glue faces: floor to above the skin
+        if not 0.0 < xs < x_end:
+            continue
+        zf = float(np.interp(xs, floor[:, 0], floor[:, 1]))
+        ax.plot([xs, xs], [zf, 2 * gap], color="#b05000", lw=0.6, ls=(0, (6, 2, 1, 2)))
+        ax.text(xs, 2.5 * gap, f"split {i + 1}", fontsize=5.5, color="#b05000", ha="center")
     if g.transition is not None:
         t = g.transition
         # under the section's lowest point, right-aligned with the outlet face: no line
@@ -250,9 +256,17 @@ def _lip_detail(fig, page, box, g: InletGeometry) -> float:  # type: ignore[no-u
 
 
 def sheet_pdf(
-    g: InletGeometry, spec: Any, spec_hash: str, version: str, preview: bytes | None = None
+    g: InletGeometry,
+    spec: Any,
+    spec_hash: str,
+    version: str,
+    preview: bytes | None = None,
+    split_x_mm: tuple[float, ...] = (),
 ) -> bytes:
     """Encode the drawing sheet PDF.
+
+    ``split_x_mm``: stations (mm) where the insert is split across the flow, drawn on the
+    centreline section.
 
     Args:
         g: inlet geometry; spec: the spec (name, template units and paper).
@@ -291,7 +305,11 @@ def sheet_pdf(
         bg.plot([tx, tx], [10, ph - 10], color="k", lw=0.6)
         views = [
             ("PLAN VIEW (skin opening, outer surface)", (14, 160, tx - 18, ph - 160 - 16), _plan),
-            ("CENTRELINE SECTION", (14, 92, tx - 18, 62), _section),
+            (
+                "CENTRELINE SECTION",
+                (14, 92, tx - 18, 62),
+                lambda f, p, b, gg: _section(f, p, b, gg, tuple(split_x_mm)),
+            ),
             ("LIP DETAIL", (14, 14, 0.45 * (tx - 18), 70), _lip_detail),
         ]
         for title, box, fn in views:
