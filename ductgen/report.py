@@ -83,6 +83,55 @@ def _print_section(
     return section, warnings
 
 
+def _bed_section(
+    spec: Spec, solids: dict[str, dict[str, Any]]
+) -> tuple[dict[str, Any] | None, list[DesignWarning]]:
+    """``print.bed``: does each printed part fit ``[print] bed`` in its suggested
+    orientation; where the insert does not, the stations of a keyed split across the flow
+    (estimate from the mesh; the pieces themselves: :func:`ductgen.solids.split.split_for_bed`)."""
+    from ductgen.printability import overhang_by_orientation
+    from ductgen.solids.split import bed_fit, estimate_stations
+
+    warnings: list[DesignWarning] = []
+    bed = tuple(spec.print.bed)
+    section: dict = {"bed_mm": list(bed)}
+    for kind in ("insert", "plug"):
+        if "mesh" not in solids.get(kind, {}):
+            continue
+        verts, faces = solids[kind]["mesh"]
+        over = overhang_by_orientation(verts, faces)
+        up = min(over, key=over.__getitem__)
+        fit = bed_fit(verts, bed, up)
+        entry = fit.as_dict()
+        if kind == "insert" and not fit.fits:
+            xs = estimate_stations(verts, bed, up)
+            entry["split_stations_x_mm"] = xs
+            more = (
+                f"split it across the flow at x = {', '.join(f'{x:.1f}' for x in xs)} mm "
+                f"into {len(xs) + 1} keyed pieces"
+                if xs
+                else "it does not fit even in 8 pieces across the flow"
+            )
+            warnings.append(
+                DesignWarning(
+                    "print_exceeds_bed",
+                    f"the insert ({' x '.join(f'{s:.0f}' for s in fit.size_mm)} mm standing "
+                    f"{up}) does not fit the {' x '.join(f'{b:.0f}' for b in bed)} mm bed: " + more,
+                )
+            )
+        if kind == "plug" and not fit.fits:
+            warnings.append(
+                DesignWarning(
+                    "plug_exceeds_bed",
+                    "the plug does not fit the printer bed: make it in one piece (CNC-cut "
+                    "foam or tooling board), since a printed plug's joints print through "
+                    "the laminate (common practice)",
+                )
+            )
+        section[kind] = entry
+    return (section if len(section) > 1 else None), warnings
+
+
 def start_report(
     spec: Spec,
     d: Design,
@@ -106,9 +155,12 @@ def start_report(
         report["flow"], flow_warnings = flow_section(spec.flow, d.duct)
         warnings += flow_warnings
     section, print_warnings = _print_section(spec, d, solids)
+    bed, bed_warnings = _bed_section(spec, solids)
+    if bed is not None:
+        section = {**(section or {}), "bed": bed}
     if section is not None:
         report["print"] = section
-    warnings += print_warnings
+    warnings += print_warnings + bed_warnings
     return report, warnings
 
 

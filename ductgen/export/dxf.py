@@ -4,15 +4,29 @@ Each CUT contour is one closed ``LWPOLYLINE`` of lines and bulge arcs; there are
 entities. ``$INSUNITS`` states the drawing unit (4 = mm, 1 = inch, DXF reference) and
 ``$MEASUREMENT`` the matching metric/imperial flag; coordinates are written in that unit
 (plan coordinates, 1:1).
+
+Reproducible: the same drawing gives the same bytes. ezdxf's time stamps, GUIDs and its own
+"created/written by" markers are fixed (its ``write_fixed_meta_data_for_testing`` option,
+set only while encoding), the header dates ``$TDCREATE``/``$TDUPDATE`` are then set to the
+build date (:func:`ductgen.stamp.build_datetime`: ``SOURCE_DATE_EPOCH`` or today),
+``$FINGERPRINTGUID``/``$VERSIONGUID`` to a name-based UUID of the drawing's name and date,
+and the CLASS section is registered in sorted order (ezdxf adds it from a set, whose order
+changes with Python's string hashing).
 """
 
 from __future__ import annotations
 
 import io
+import re
+import uuid
+from collections.abc import Iterator
+from contextlib import contextmanager
 
 import ezdxf
+from ezdxf.tools.juliandate import juliandate
 
 from ductgen.export.template_layout import LAYERS, TemplateDrawing
+from ductgen.stamp import build_datetime
 from ductgen.units import FILE_UNITS
 
 __all__ = ["INSUNITS", "dxf_bytes"]
@@ -23,8 +37,38 @@ INSUNITS: dict[str, tuple[int, float]] = {
 }
 
 
+@contextmanager
+def _fixed_metadata() -> Iterator[None]:
+    """ezdxf's fixed time stamps, GUIDs and markers, for this encoding only."""
+    old = ezdxf.options.write_fixed_meta_data_for_testing
+    ezdxf.options.write_fixed_meta_data_for_testing = True
+    try:
+        yield
+    finally:
+        ezdxf.options.write_fixed_meta_data_for_testing = old
+
+
+_HEADER_DATE = re.compile(r"(\$TDU?(?:CREATE|UPDATE)\r?\n\s*40\r?\n)[^\r\n]+")
+_HEADER_GUID = re.compile(r"(\$(?:FINGERPRINT|VERSION)GUID\r?\n\s*2\r?\n)[^\r\n]+")
+
+
 def dxf_bytes(d: TemplateDrawing) -> bytes:
-    """Encode the template drawing as a DXF R2010 file (UTF-8 bytes)."""
+    """Encode the template drawing as a DXF R2010 file (UTF-8 bytes), reproducibly."""
+    with _fixed_metadata():
+        text = _encode(d)
+    when = build_datetime()
+    jd = repr(juliandate(when.replace(tzinfo=None)))
+    guid = (
+        "{"
+        + str(uuid.uuid5(uuid.NAMESPACE_URL, f"ductgen:{d.name}:{when.isoformat()}")).upper()
+        + "}"
+    )
+    text = _HEADER_DATE.sub(lambda m: m.group(1) + jd, text)
+    text = _HEADER_GUID.sub(lambda m: m.group(1) + guid, text)
+    return text.encode("utf-8")
+
+
+def _encode(d: TemplateDrawing) -> str:
     code, mm_per_unit = INSUNITS[d.units]
     f = 1.0 / mm_per_unit
 
@@ -62,9 +106,12 @@ def dxf_bytes(d: TemplateDrawing) -> bytes:
 
     doc.header["$EXTMIN"] = (*p(_extent(d)[:2]), 0.0)
     doc.header["$EXTMAX"] = (*p(_extent(d)[2:]), 0.0)
+    for name in sorted(doc.entitydb.dxf_types_in_use()):  # fixed CLASS order (see above)
+        doc.classes.add_class(name)
     buf = io.StringIO()
     doc.write(buf)
-    return buf.getvalue().encode(doc.output_encoding)
+    assert doc.output_encoding.lower().replace("-", "") == "utf8"
+    return buf.getvalue()
 
 
 def _extent(d: TemplateDrawing) -> tuple[float, float, float, float]:

@@ -17,15 +17,15 @@ Coordinates (brief §2): x downstream from the ramp start, y spanwise, centrelin
 
 from __future__ import annotations
 
-import datetime as _dt
-import os
 from dataclasses import dataclass, field
 
 import numpy as np
 
 from ductgen.export.outline import Contour, opening_contour
+from ductgen.export.placement import Box, Occupancy, text_box
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.spec.model import Spec
+from ductgen.stamp import build_date
 from ductgen.units import MM_PER_INCH
 
 __all__ = [
@@ -94,6 +94,12 @@ class Text:
     height: float = 3.0
     layer: str = "TEXT"
 
+    def box(self) -> Box:
+        """Box (mm) the text covers, conservatively: Helvetica/Arial advance widths + 10 % at
+        em = cap height / 0.718 (the font's cap height), descender to ascender."""
+        x0, y0, x1, y1 = text_box(self.at[0], self.at[1], self.text, self.height / 0.718)
+        return (x0, y0, x0 + 1.1 * (x1 - x0), y1)
+
 
 @dataclass(frozen=True)
 class ScaleBar:
@@ -123,10 +129,12 @@ class TemplateDrawing:
     bars: list[ScaleBar] = field(default_factory=list)
 
     def cut_extent(self) -> tuple[float, float, float, float]:
-        """(xmin, ymin, xmax, ymax) of CUT, HOLES and MARK geometry (mm): what the PDF tiles."""
+        """(xmin, ymin, xmax, ymax) of CUT, HOLES and MARK geometry and MARK labels (mm): what
+        the PDF tiles."""
         pts = [c.sample(2.0) for _, c in self.cuts]
         pts += [np.array([ln.a, ln.b]) for ln in self.lines]
         pts += [np.array(c.centre) + c.radius * np.array([[-1, -1], [1, 1]]) for c in self.circles]
+        pts += [np.array(t.box()).reshape(2, 2) for t in self.texts if t.layer == "MARK"]
         p = np.vstack(pts)
         return (
             float(p[:, 0].min()),
@@ -134,14 +142,6 @@ class TemplateDrawing:
             float(p[:, 0].max()),
             float(p[:, 1].max()),
         )
-
-
-def build_date() -> str:
-    """Date stamped on the outputs: ``SOURCE_DATE_EPOCH`` (reproducible builds) or today."""
-    epoch = os.environ.get("SOURCE_DATE_EPOCH")
-    if epoch and epoch.isdigit():
-        return _dt.datetime.fromtimestamp(int(epoch), tz=_dt.timezone.utc).date().isoformat()
-    return _dt.date.today().isoformat()
 
 
 def _kerf_note(kerf: float, has_outer: bool) -> str:
@@ -200,9 +200,14 @@ def template_drawing(
     d.lines += [Line(tip, (xa - 6.0, 3.0)), Line(tip, (xa - 6.0, -3.0))]
 
     ymin = min(float(c.points[:, 1].min()) for _, c in d.cuts) - 25.0
-    d.texts.append(Text((xa - 34.0, 4.5), "FLOW", 3.0, "MARK"))
-    d.texts.append(Text((2.0, h0 + 16.0), "RAMP START x=0", 2.5, "MARK"))
-    d.texts.append(Text((length - 30.0, half + 16.0), f"LIP x={length:.2f} mm", 2.5, "MARK"))
+    _place_labels(
+        d,
+        [
+            (Text((xa - 34.0, 4.5), "FLOW", 3.0, "MARK"), (xa - 20.0, 4.5)),
+            (Text((2.0, h0 + 16.0), "RAMP START x=0", 2.5, "MARK"), (0.0, h0 + 14.0)),
+            (Text((0.0, 0.0), f"LIP x={length:.2f} mm", 2.5, "MARK"), (length, half + 14.0)),
+        ],
+    )
 
     # scale bars and text block below the drawing
     d.bars.append(ScaleBar((0.0, ymin), 100.0, "100 mm - VERIFY SCALE"))
@@ -222,3 +227,29 @@ def template_drawing(
     for i, s in enumerate(lines):
         d.texts.append(Text((0.0, y - 5.0 * i), s, 3.0 if i else 3.5))
     return d
+
+
+def _place_labels(d: TemplateDrawing, labels: list[tuple[Text, tuple[float, float]]]) -> None:
+    """Add MARK labels where the drawing is empty, each nearest its anchor point (mm).
+
+    Every CUT contour, hole circle and MARK line is rasterised (0.25 mm cells) and each label's
+    box (:meth:`Text.box`) is put at the free place nearest its anchor with 1.5 mm clearance,
+    labels placed earlier counting as occupied.
+    """
+    x0, y0, x1, y1 = d.cut_extent()
+    occ = Occupancy((x0 - 60.0, y0 - 30.0, x1 + 60.0, y1 + 30.0), 0.25)
+    for _, c in d.cuts:
+        occ.add_polyline(c.sample(0.1), closed=True)
+    for circ in d.circles:
+        occ.add_circle(circ.centre, circ.radius)
+    for ln in d.lines:
+        occ.add_polyline(np.array([ln.a, ln.b]))
+    for t, anchor in labels:
+        bx = t.box()
+        w, h = bx[2] - bx[0], bx[3] - bx[1]
+        at = occ.place((w, h), anchor, clearance=1.5)
+        if at is None:  # cannot happen with the margin above; keep the given place
+            at = (bx[0], bx[1])
+        placed = Text((at[0] + t.at[0] - bx[0], at[1] + t.at[1] - bx[1]), t.text, t.height, t.layer)
+        occ.add_box(placed.box())
+        d.texts.append(placed)

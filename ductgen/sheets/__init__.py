@@ -22,6 +22,7 @@ def sheet_files(ctx: Any) -> dict[str, bytes]:
     except ExportError as err:
         ctx.warnings.append(DesignWarning("preview_unavailable", str(err)))
         png = None
+    split = ctx.report.get("print", {}).get("bed", {}).get("insert", {})
     pdf = sheet_pdf(
         ctx.design.geometry,
         ctx.spec,
@@ -29,6 +30,7 @@ def sheet_files(ctx: Any) -> dict[str, bytes]:
         ctx.report["ductgen_version"],
         png,
         ctx.report.get("flow"),
+        tuple(split.get("split_stations_x_mm") or ()),
     )
     files = {"sheet.pdf": pdf}
     if png is not None:

@@ -17,12 +17,78 @@ import numpy as np
 
 from ductgen.errors import ExportError, GeometryError
 
-__all__ = ["GL_PACKAGES", "preview_png", "render_png"]
+__all__ = ["GL_PACKAGES", "MARGIN", "preview_png", "render_png"]
 
 #: Debian/Ubuntu packages that offscreen VTK rendering needs on a bare machine.
 GL_PACKAGES = "libgl1 libegl1 libegl-mesa0 libgl1-mesa-dri libx11-6 libxrender1"
 
 _KINDS = ("insert", "cutter", "plug")
+
+#: Empty border kept round the part on each side, as a fraction of the picture's width or
+#: height (common practice for product pictures, no source).
+MARGIN = 0.06
+
+
+def _ink(img: np.ndarray, background: np.ndarray) -> tuple[int, int, int, int] | None:
+    """Pixel box (row0, row1, col0, col1) of what differs from the background picture."""
+    diff = np.any(np.abs(img.astype(int) - background.astype(int)) > 6, axis=2)
+    rows, cols = np.nonzero(diff.any(axis=1))[0], np.nonzero(diff.any(axis=0))[0]
+    if len(rows) == 0:
+        return None
+    return int(rows[0]), int(rows[-1]), int(cols[0]), int(cols[-1])
+
+
+def _framed(pl: Any, margin: float) -> np.ndarray:
+    """Screenshot with the part centred and ``margin`` free on its tightest sides.
+
+    One picture of the background alone and one of the scene give the part's pixel box;
+    the camera is then panned by its offset from the centre (at the focal distance, a pixel
+    spans 2·d·tan(angle/2)/height) and moved along its view so the box fills 1 − 2·margin
+    of the picture;
+    further passes (at most six) correct what the perspective leaves, stepping back first
+    when the part runs off the picture.
+    """
+    actors = list(pl.renderer.actors.values())
+    for a in actors:
+        a.SetVisibility(False)
+    pl.render()
+    background = pl.screenshot(return_img=True, transparent_background=False)
+    for a in actors:
+        a.SetVisibility(True)
+    pl.render()
+    img = pl.screenshot(return_img=True, transparent_background=False)
+    h, w = img.shape[:2]
+    for _ in range(6):
+        box = _ink(img, background)
+        if box is None:
+            return img
+        r0, r1, c0, c1 = box
+        clipped = r0 == 0 or c0 == 0 or r1 == h - 1 or c1 == w - 1
+        fill = max((c1 - c0 + 1) / w, (r1 - r0 + 1) / h)
+        centred = abs(c0 - (w - 1 - c1)) < 0.01 * w and abs(r0 - (h - 1 - r1)) < 0.01 * h
+        if not clipped and centred and abs(fill - (1 - 2 * margin)) < 0.01:
+            break
+        cam = pl.camera
+        pos, focal = np.array(cam.position), np.array(cam.focal_point)
+        d = float(np.linalg.norm(focal - pos))
+        view = (focal - pos) / d
+        up = np.array(cam.up) - np.dot(cam.up, view) * view
+        up /= np.linalg.norm(up)
+        right = np.cross(view, up)
+        per_px = 2.0 * d * np.tan(np.radians(cam.view_angle) / 2.0) / h
+        dx = 0.5 * (c0 + c1) - 0.5 * (w - 1)
+        dy = 0.5 * (h - 1) - 0.5 * (r0 + r1)  # rows grow downward
+        shift = per_px * (dx * right + dy * up)
+        zoom = min((1 - 2 * margin) * w / (c1 - c0 + 1), (1 - 2 * margin) * h / (r1 - r0 + 1))
+        if clipped:  # part of it is out of the picture: its true size is unknown, step back
+            zoom = min(zoom, 0.6)
+        # dolly along the view (the view angle stays): the picture scales as 1 / distance
+        focal = focal + shift
+        cam.focal_point, cam.position = tuple(focal), tuple(focal - view * d / zoom)
+        pl.renderer.ResetCameraClippingRange()
+        pl.render()
+        img = pl.screenshot(return_img=True, transparent_background=False)
+    return img
 
 
 def _skin_plate(opening: np.ndarray, margin: float) -> Any:
@@ -45,7 +111,7 @@ def render_png(
     colour: str = "#c9a86b",
 ) -> bytes:
     """Shaded 3D view of a triangle mesh (vertices mm (N, 3), faces (M, 3)), seen from above,
-    upstream and to one side.
+    upstream and to one side, centred with :data:`MARGIN` free round it.
 
     With ``opening`` (the skin opening, CCW (K, 2) mm) the mesh is a cutter: it is clipped at
     the skin plane and a skin plate with the opening is drawn, so the picture shows
@@ -92,8 +158,7 @@ def render_png(
         c = np.array([(b[0] + b[1]) / 2, (b[2] + b[3]) / 2, (b[4] + b[5]) / 2])
         span = max(b[1] - b[0], b[3] - b[2], b[5] - b[4])
         pl.camera_position = [tuple(c + span * np.array([-0.55, -0.85, 0.75])), tuple(c), (0, 0, 1)]
-        pl.camera.zoom(1.0)
-        img = pl.screenshot(return_img=True, transparent_background=False)
+        img = _framed(pl, MARGIN)
         pl.close()
     except Exception as err:  # VTK raises plain RuntimeError/ValueError on GL failures
         raise ExportError(_gl_message(f"{type(err).__name__}: {err}")) from err

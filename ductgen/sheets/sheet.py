@@ -16,8 +16,10 @@ from typing import Any
 
 import numpy as np
 
+from ductgen.export.placement import text_width_em
 from ductgen.export.template_layout import CAUTIONS, build_date
 from ductgen.geometry.inlet import InletGeometry
+from ductgen.stamp import build_datetime
 from ductgen.units import MM_PER_INCH
 
 __all__ = ["SHEET_MM", "offset_rows", "sheet_pdf"]
@@ -49,6 +51,9 @@ def offset_rows(g: InletGeometry) -> list[dict[str, Any]]:
     for si, r in zip(s, rows, strict=True):
         out.append({"x_over_L": float(si), **r, "station": bool(np.any(np.abs(prof - si) < 1e-9))})
     return out
+
+
+_PT_PER_MM = 72.0 / 25.4
 
 
 def _scale_for(extent: tuple[float, float], box: tuple[float, float]) -> float:
@@ -147,7 +152,7 @@ def _section_profile(g: InletGeometry) -> tuple[np.ndarray, np.ndarray, np.ndarr
     return np.vstack(floor), np.vstack(roof), g.lip.nose()
 
 
-def _section(fig, page, box, g: InletGeometry) -> float:  # type: ignore[no-untyped-def]
+def _section(fig, page, box, g: InletGeometry, split_x: tuple[float, ...] = ()) -> float:  # type: ignore[no-untyped-def]
     floor, roof, nose = _section_profile(g)
     x_end = float(floor[-1, 0])
     zmin = float(floor[:, 1].min())
@@ -183,23 +188,38 @@ def _section(fig, page, box, g: InletGeometry) -> float:  # type: ignore[no-unty
         f"D {g.depth_mm:.2f}",
         horizontal=False,
     )
+    # labels clear of every line: below the floor over the label's whole width (paper
+    # gap 1.5 mm, text width from the Helvetica metrics at 72/25.4 pt per mm)
+    gap = 1.5 / s
     xa = 0.45 * length
+    label = f"ramp {g.floor.angle_deg:.2f} deg"
+    half_w = 0.5 * text_width_em(label) * (6.5 / _PT_PER_MM) / s
+    xs = np.linspace(max(xa - half_w, 0.0), min(xa + half_w, length), 50)
     ax.text(
         xa,
-        -float(g.floor.depth(xa)) - 0.12 * g.drop_mm,
-        f"ramp {g.floor.angle_deg:.2f} deg",
+        -float(np.max(g.floor.depth(xs))) - gap,
+        label,
         fontsize=6.5,
         ha="center",
         va="top",
     )
+    for i, xs in enumerate(split_x):  # the insert's glue faces: floor to above the skin
+        if not 0.0 < xs < x_end:
+            continue
+        zf = float(np.interp(xs, floor[:, 0], floor[:, 1]))
+        ax.plot([xs, xs], [zf, 2 * gap], color="#b05000", lw=0.6, ls=(0, (6, 2, 1, 2)))
+        ax.text(xs, 2.5 * gap, f"split {i + 1}", fontsize=5.5, color="#b05000", ha="center")
     if g.transition is not None:
         t = g.transition
+        # under the section's lowest point, right-aligned with the outlet face: no line
+        # of the section passes below it
         ax.text(
             t.x_end_mm,
-            t.outlet_top_z_mm + 2,
+            zmin - gap,
             f"outlet {t.kind} {t.outlet_width_mm:.1f}",
             fontsize=6,
             ha="right",
+            va="top",
         )
     return s
 
@@ -243,8 +263,12 @@ def sheet_pdf(
     version: str,
     preview: bytes | None = None,
     flow: dict[str, Any] | None = None,
+    split_x_mm: tuple[float, ...] = (),
 ) -> bytes:
     """Encode the drawing sheet PDF.
+
+    ``split_x_mm``: stations (mm) where the insert is split across the flow, drawn on the
+    centreline section.
 
     Args:
         g: inlet geometry; spec: the spec (name, template units and paper).
@@ -266,7 +290,12 @@ def sheet_pdf(
     with (
         rc_context(_RC),
         PdfPages(
-            buf, metadata={"Title": f"{spec.name} drawing sheet", "Creator": "ductgen"}
+            buf,
+            metadata={
+                "Title": f"{spec.name} drawing sheet",
+                "Creator": "ductgen",
+                "CreationDate": build_datetime(),  # reproducible: the build date
+            },
         ) as pdf,
     ):
         fig = Figure(figsize=(pw / _INCH, ph / _INCH))
@@ -279,7 +308,11 @@ def sheet_pdf(
         bg.plot([tx, tx], [10, ph - 10], color="k", lw=0.6)
         views = [
             ("PLAN VIEW (skin opening, outer surface)", (14, 160, tx - 18, ph - 160 - 16), _plan),
-            ("CENTRELINE SECTION", (14, 92, tx - 18, 62), _section),
+            (
+                "CENTRELINE SECTION",
+                (14, 92, tx - 18, 62),
+                lambda f, p, b, gg: _section(f, p, b, gg, tuple(split_x_mm)),
+            ),
             ("LIP DETAIL", (14, 14, 0.45 * (tx - 18), 70), _lip_detail),
         ]
         for title, box, fn in views:

@@ -3,23 +3,37 @@
 Encoders return bytes; :mod:`ductgen.atomic` writes them. The STEP unit comes from
 the one unit table, :data:`ductgen.units.FILE_UNITS`. STEP needs the CAD kernel and so
 runs in the kernel worker process.
+
+Healing before STEP export: :func:`ductgen.solids.heal.heal`; the file's uncertainty is
+the greatest edge tolerance of the healed shape (``write.precision.mode`` 2 with that value).
+
+Reproducible: the STEP header's ``FILE_NAME`` time stamp is the build date
+(:func:`ductgen.stamp.build_datetime`), and STL normals are computed from the
+float32 vertices the file stores, so one build's bytes equal the next one's.
 """
 
 from __future__ import annotations
 
+import re
 import tempfile
 from pathlib import Path
 from typing import Any
 
 import numpy as np
 
+from ductgen.solids.heal import heal
+from ductgen.stamp import build_datetime
 from ductgen.units import FILE_UNITS
 
 __all__ = ["read_step", "step_bytes", "stl_bytes"]
 
 
+_FILE_NAME = re.compile(rb"FILE_NAME\('([^']*)','[^']*'")
+
+
 def step_bytes(shape: Any, name: str = "ductgen", unit: str = "mm") -> bytes:
-    """Encode a cadquery shape as a STEP AP214 file in ``unit`` (lengths stay in mm inside)."""
+    """Encode a cadquery shape as a STEP AP214 file in ``unit`` (lengths stay in mm inside),
+    healed (:func:`heal`), time-stamped with the build date."""
     from OCP.IFSelect import IFSelect_RetDone
     from OCP.Interface import Interface_Static
     from OCP.STEPControl import STEPControl_AsIs, STEPControl_Writer
@@ -27,15 +41,26 @@ def step_bytes(shape: Any, name: str = "ductgen", unit: str = "mm") -> bytes:
     Interface_Static.SetCVal_s("write.step.schema", "AP214IS")
     Interface_Static.SetCVal_s("write.step.unit", FILE_UNITS[unit].step)
     Interface_Static.SetCVal_s("write.step.product.name", name)
+    from OCP.ShapeAnalysis import ShapeAnalysis_ShapeTolerance
+
+    healed = heal(shape.wrapped)
+    # the file's uncertainty: the greatest edge tolerance, so a reader's edges cover their
+    # measured deviation (session value: mode 2)
+    Interface_Static.SetIVal_s("write.precision.mode", 2)
+    Interface_Static.SetRVal_s(
+        "write.precision.val", max(ShapeAnalysis_ShapeTolerance().Tolerance(healed, 1), 1e-7)
+    )
     writer = STEPControl_Writer()
-    writer.Transfer(shape.wrapped, STEPControl_AsIs)
+    writer.Transfer(healed, STEPControl_AsIs)
     with tempfile.TemporaryDirectory() as tmp:
         path = Path(tmp) / "out.step"
         if writer.Write(str(path)) != IFSelect_RetDone:
             from ductgen.errors import ExportError
 
             raise ExportError("the STEP writer failed")
-        return path.read_bytes()
+        data = path.read_bytes()
+    stamp = build_datetime().strftime("%Y-%m-%dT%H:%M:%S").encode()
+    return _FILE_NAME.sub(lambda m: b"FILE_NAME('" + m.group(1) + b"','" + stamp + b"'", data, 1)
 
 
 def read_step(path: str | Path) -> Any:
@@ -47,11 +72,12 @@ def read_step(path: str | Path) -> Any:
 
 def stl_bytes(vertices: np.ndarray, faces: np.ndarray, name: str = "ductgen") -> bytes:
     """Encode a triangle mesh (mm) as binary STL with outward facet normals (trimesh's
-    exporter)."""
+    exporter). The vertices are rounded to the float32 the file stores before the normals are
+    computed, so the same rounded mesh always gives the same bytes, even when the kernel's
+    float64 coordinates differ in their last bits."""
     import trimesh
 
-    mesh = trimesh.Trimesh(
-        np.asarray(vertices, dtype=np.float64), np.asarray(faces), process=False, validate=False
-    )
+    rounded = np.asarray(vertices, dtype=np.float32).astype(np.float64)
+    mesh = trimesh.Trimesh(rounded, np.asarray(faces), process=False, validate=False)
     del name  # binary STL headers carry no reliable metadata; the file name says it
     return bytes(trimesh.exchange.stl.export_stl(mesh))

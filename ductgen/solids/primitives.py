@@ -106,7 +106,9 @@ def _run_boolean(op: str, a: cq.Shape, tools: list[cq.Shape], tol: float | None,
         tls.Append(t.wrapped)
     builder.SetArguments(args)
     builder.SetTools(tls)
-    builder.SetRunParallel(True)
+    # serial: the parallel mode orders the result's sub-shapes by thread timing, so two
+    # builds of one spec could write different (equally valid) STEP files
+    builder.SetRunParallel(False)
     builder.SetUseOBB(True)  # oriented bounding boxes: ~1.7x faster on the insert's booleans
     if glue:
         builder.SetGlue(BOPAlgo_GlueShift)

@@ -15,6 +15,7 @@ from pydantic import Field, model_validator
 
 from ductgen.spec.fabrication import InsertSpec, PlugSpec
 from ductgen.spec.flow import FlowSpec
+from ductgen.spec.printing import PrintSpec
 from ductgen.spec.template import TemplateSpec
 from ductgen.spec.types import Deg, Mm, Section
 
@@ -245,4 +246,5 @@ class Spec(Section):
     insert: InsertSpec = Field(default_factory=InsertSpec)
     plug: PlugSpec = Field(default_factory=PlugSpec)
     template: TemplateSpec = Field(default_factory=TemplateSpec)
+    print: PrintSpec = Field(default_factory=PrintSpec)
     flow: FlowSpec | None = None

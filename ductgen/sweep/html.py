@@ -13,6 +13,8 @@ import base64
 import html
 import io
 import json
+import math
+import re
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
@@ -22,7 +24,17 @@ if TYPE_CHECKING:
     from ductgen.sweep.results import SweepResult
     from ductgen.sweep.variants import Variant
 
-__all__ = ["MAX_OVERLAY", "MAX_PREVIEWS", "page_html", "write_outputs"]
+__all__ = [
+    "COLUMNS",
+    "CSS",
+    "MAX_OVERLAY",
+    "MAX_PREVIEWS",
+    "failures_html",
+    "number",
+    "page_html",
+    "table_html",
+    "write_outputs",
+]
 
 #: Variants drawn in the overlay figures and shown as previews (the table has them all).
 MAX_OVERLAY = 40
@@ -30,14 +42,19 @@ MAX_PREVIEWS = 60
 
 _PLOTTED = (*METRICS, "sym_diff_volume_mm3", "hausdorff_mm", "build_s")
 
-_CSS = """
+CSS = """
 body{font-family:system-ui,-apple-system,'Segoe UI',Roboto,sans-serif;margin:24px;
   color:#1b1b1b;background:#fff}
 h1{font-size:22px;margin:0 0 4px} h2{font-size:17px;margin:28px 0 8px;border-bottom:1px solid #ccc}
 p.meta{color:#555;margin:0 0 12px}
 table{border-collapse:collapse;font-size:12px}
-th,td{border:1px solid #bbb;padding:3px 6px;text-align:right;white-space:nowrap}
-th{background:#e8eef6;position:sticky;top:0} td.id{text-align:left;font-weight:600}
+th,td{border:1px solid #bbb;padding:3px 4px;text-align:right;white-space:nowrap}
+th{background:#e8eef6;position:sticky;top:0;white-space:normal;max-width:6em;
+  vertical-align:bottom;font-weight:600} th span.unit{font-weight:400;color:#445}
+td.id{text-align:left;font-weight:600;white-space:normal;min-width:8em;max-width:12em}
+td.err{text-align:left;white-space:normal;min-width:10em;max-width:14em;color:#8a1010;
+  font-size:11px}
+ul.failures li{margin:4px 0} ul.failures code{white-space:pre-wrap}
 tr:nth-child(even) td{background-color:#f7f7f7}
 tr.baseline td{background:#fff7d6} tr.failed td{background:#fde2e2}
 .wrap{overflow-x:auto;max-width:100%} img.fig{max-width:100%;border:1px solid #ddd}
@@ -175,20 +192,77 @@ def _metric_plots(rows: list[dict[str, Any]], keys: list[str]) -> str | None:
     return _png(fig)
 
 
-def _cell(v: Any) -> str:
+#: Column → (heading, unit shown, factor from the stored unit, decimals shown).
+COLUMNS: dict[str, tuple[str, str, float, int]] = {
+    "ramp_length_mm": ("ramp length", "mm", 1.0, 1),
+    "throat_area_mm2": ("throat area", "mm²", 1.0, 0),
+    "ramp_cavity_volume_mm3": ("ramp cavity volume", "cm³", 1e-3, 1),
+    "cutter_volume_mm3": ("cutter volume", "cm³", 1e-3, 1),
+    "insert_volume_mm3": ("insert volume", "cm³", 1e-3, 1),
+    "plug_volume_mm3": ("plug volume", "cm³", 1e-3, 1),
+    "wetted_area_mm2": ("wetted area", "cm²", 1e-2, 1),
+    "max_wall_divergence_deg": ("max wall divergence", "deg", 1.0, 1),
+    "delta_over_depth": ("δ / D", "", 1.0, 2),
+    "volume_flow_m3_s": ("flow", "L/s", 1e3, 1),
+    "ram_recovery": ("ram recovery", "", 1.0, 3),
+    "momentum_drag_n": ("momentum drag", "N", 1.0, 2),
+    "warnings_count": ("warnings", "", 1.0, 0),
+    "build_s": ("build time", "s", 1.0, 1),
+    "sym_diff_volume_mm3": ("sym. diff. volume vs baseline", "cm³", 1e-3, 2),
+    "hausdorff_mm": ("Hausdorff distance vs baseline", "mm", 1.0, 2),
+}
+
+
+def number(v: float, decimals: int | None = None) -> str:
+    """A number as people read it: fixed point (never an exponent), thin-space thousands
+    groups, ``decimals`` places, or four significant digits when None."""
+    if not math.isfinite(v):
+        return str(v)
+    if decimals is None:
+        mag = math.floor(math.log10(abs(v))) if v != 0 else 0
+        decimals = min(max(3 - mag, 0), 9)
+    return f"{v:,.{decimals}f}".replace(",", "\u2009")
+
+
+def _breakable(text: str) -> str:
+    """Escaped text that may wrap after ``.``, ``_``, ``,`` and ``=`` (spec keys, ids)."""
+    return re.sub(r"([._,=])", r"\1<wbr>", html.escape(text))
+
+
+def _heading(col: str) -> str:
+    label, unit, _, _ = COLUMNS.get(col, (col, "", 1.0, 0))
+    unit_html = f'<br><span class="unit">{html.escape(unit)}</span>' if unit else ""
+    name = html.escape(col)
+    return f'<th data-col="{name}" title="{name}">{_breakable(label)}{unit_html}</th>'
+
+
+def _cell(col: str, v: Any) -> tuple[str, str]:
+    """(text shown, exact value for ``data-value``) of one table cell."""
     if v is None:
-        return ""
-    if isinstance(v, float):
-        return f"{v:.6g}"
-    return html.escape(str(v))
+        return "", ""
+    if _numeric(v):
+        _, _, factor, decimals = COLUMNS.get(col, ("", "", 1.0, None))  # type: ignore[arg-type]
+        return number(float(v) * factor, decimals), repr(v)
+    text = str(v)
+    if col == "variant":
+        return _breakable(text), html.escape(text)
+    if col == "error" and len(text) > 90:  # in full in the failures list below the table
+        return html.escape(text[:88]) + "…", html.escape(text)
+    return html.escape(text), html.escape(text)
 
 
-def _table(rows: list[dict[str, Any]], baseline: str) -> str:
-    # columns empty in every row (e.g. flow metrics without [flow]) stay in the CSV/JSON only
+def table_html(rows: list[dict[str, Any]], baseline: str) -> str:
+    # columns empty in every row (e.g. flow metrics without [flow]) stay in the CSV/JSON only;
+    # the error column shows whenever a variant failed
+    failed = any(r.get("status") == "failed" for r in rows)
     cols = [
-        c for c in rows[0] if c in ("variant", "status") or any(r.get(c) is not None for r in rows)
+        c
+        for c in rows[0]
+        if c in ("variant", "status")
+        or (c == "error" and failed)
+        or any(r.get(c) is not None for r in rows)
     ]
-    head = "".join(f"<th>{html.escape(c)}</th>" for c in cols)
+    head = "".join(_heading(c) for c in cols)
     body = []
     for r in rows:
         cls = (
@@ -198,8 +272,9 @@ def _table(rows: list[dict[str, Any]], baseline: str) -> str:
         )
         cells = []
         for c in cols:
-            klass = ' class="id"' if c == "variant" else ""
-            cells.append(f'<td data-col="{html.escape(c)}"{klass}>{_cell(r.get(c))}</td>')
+            klass = ' class="id"' if c == "variant" else (' class="err"' if c == "error" else "")
+            text, exact = _cell(c, r.get(c))
+            cells.append(f'<td data-col="{html.escape(c)}" data-value="{exact}"{klass}>{text}</td>')
         body.append(
             f'<tr class="variant-row {cls}" data-variant="{html.escape(r["variant"])}">'
             f"{''.join(cells)}</tr>"
@@ -208,6 +283,19 @@ def _table(rows: list[dict[str, Any]], baseline: str) -> str:
         f'<div class="wrap"><table id="comparison"><thead><tr>{head}</tr></thead>'
         f"<tbody>{''.join(body)}</tbody></table></div>"
     )
+
+
+def failures_html(rows: list[dict[str, Any]]) -> str:
+    """A list of the failed variants with their error messages (empty when none failed)."""
+    bad = [r for r in rows if r.get("status") == "failed"]
+    if not bad:
+        return ""
+    items = "".join(
+        f"<li><b>{html.escape(str(r['variant']))}</b>: "
+        f"<code>{html.escape(str(r.get('error') or 'no message'))}</code></li>"
+        for r in bad
+    )
+    return f'<h2>Failures ({len(bad)})</h2><ul class="failures" id="failures">{items}</ul>'
 
 
 def _previews(sweep: SweepResult) -> str:
@@ -257,7 +345,7 @@ def page_html(sweep: SweepResult, spec_path: Path, keys: list[str]) -> str:
 <html lang="en"><head><meta charset="utf-8">
 <meta name="viewport" content="width=device-width, initial-scale=1">
 <title>ductgen sweep: {html.escape(spec_path.name)}</title>
-<style>{_CSS}</style></head>
+<style>{CSS}</style></head>
 <body>
 <h1>Sweep of {html.escape(spec_path.name)}</h1>
 <p class="meta">{len(rows)} variants varying {html.escape(", ".join(keys))};
@@ -266,7 +354,8 @@ by the spec (mm, deg, SI). Solid comparison: symmetric-difference volume and Hau
 of each cutter to the baseline's, in the common frame (x = 0 at the ramp start).
 ductgen {html.escape(_version())}.</p>
 <h2>Table</h2>
-{_table(rows, sweep.baseline)}
+{table_html(rows, sweep.baseline)}
+{failures_html(rows)}
 <h2>Planforms and centreline sections</h2>
 <img class="fig" alt="overlaid planforms and centreline sections"
  src="data:image/png;base64,{overlay}">

@@ -1,0 +1,228 @@
+"""Printer-bed fit, and splitting an over-size part across the flow into keyed pieces.
+
+Fit (pure numpy): the part stands in its suggested orientation (the axis direction that is
+"up"); it may turn about the vertical axis on the bed, so the footprint's smallest enclosing
+rectangle over turns of 0-90° (0.5° steps) is compared with the bed in both ways round, and
+the height with the bed's z.
+
+Split (CAD kernel): planes x = s across the flow (x downstream, brief §2) cut the part into
+pieces whose cut faces are the glue faces. Each joint is keyed by a tongue and groove: the
+upstream piece keeps a tongue of the part's material, ``key_length`` long, over the middle
+``key_fraction`` of the section's width (the floor and roof there), the downstream piece the
+matching groove; the tongue's sides locate the pieces across the flow and its end stops them
+along it (a stepped joint, common practice for printed parts, no source). The pieces
+partition the part exactly, so their volumes sum to the whole. Lengths in mm.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from itertools import pairwise
+from typing import Any
+
+import numpy as np
+
+__all__ = [
+    "UP_AXES",
+    "BedFit",
+    "bed_fit",
+    "estimate_stations",
+    "split_across_flow",
+    "split_for_bed",
+]
+
+#: Orientation name → (axis index, sign) of the direction that points up on the printer.
+UP_AXES: dict[str, tuple[int, int]] = {
+    "+z": (2, 1),
+    "-z": (2, -1),
+    "+x": (0, 1),
+    "-x": (0, -1),
+    "+y": (1, 1),
+    "-y": (1, -1),
+}
+
+
+@dataclass(frozen=True)
+class BedFit:
+    """Whether a part fits the bed standing ``up``.
+
+    Attributes:
+        fits: True when it fits.
+        up: the orientation ("+z", "-x", ...).
+        size_mm: footprint length, width and height (mm) at the best turn.
+        turn_deg: turn about the vertical axis that gives that footprint (deg).
+        bed_mm: the bed (x, y, z) mm.
+    """
+
+    fits: bool
+    up: str
+    size_mm: tuple[float, float, float]
+    turn_deg: float
+    bed_mm: tuple[float, float, float]
+
+    def as_dict(self) -> dict[str, Any]:
+        """Report form (keys with units)."""
+        return {
+            "fits": self.fits,
+            "orientation_up": self.up,
+            "size_mm": list(self.size_mm),
+            "turn_deg": self.turn_deg,
+            "bed_mm": list(self.bed_mm),
+        }
+
+
+def _standing(vertices: np.ndarray, up: str) -> np.ndarray:
+    """Vertices (N, 3) re-expressed with ``up`` as +z (a rotation, or its mirror image for
+    ±y: the extents are the same)."""
+    axis, sign = UP_AXES[up]
+    v = np.asarray(vertices, dtype=float)
+    others = [a for a in range(3) if a != axis]
+    z = sign * v[:, axis]
+    x, y = v[:, others[0]], sign * v[:, others[1]]
+    return np.column_stack([x, y, z])
+
+
+def bed_fit(vertices: np.ndarray, bed: tuple[float, float, float], up: str = "+z") -> BedFit:
+    """Fit of a mesh (vertices (N, 3) mm) on a bed (x, y, z mm), standing ``up``."""
+    v = _standing(vertices, up)
+    height = float(np.ptp(v[:, 2]))
+    xy = v[:, :2] - v[:, :2].mean(axis=0)
+    best = None
+    for deg in np.arange(0.0, 90.0, 0.5):
+        t = math.radians(float(deg))
+        rot = np.array([[math.cos(t), -math.sin(t)], [math.sin(t), math.cos(t)]])
+        p = xy @ rot.T
+        ex, ey = float(np.ptp(p[:, 0])), float(np.ptp(p[:, 1]))
+        ok = (ex <= bed[0] and ey <= bed[1]) or (ex <= bed[1] and ey <= bed[0])
+        # fitting turns first, then the smallest footprint, then the smallest turn
+        key = (not ok, round(ex * ey, 6), float(deg))
+        if best is None or key < best[0]:
+            best = (key, ex, ey, float(deg))
+    assert best is not None
+    fits = not best[0][0] and height <= bed[2]
+    return BedFit(fits, up, (best[1], best[2], height), best[3], tuple(bed))  # type: ignore[arg-type]
+
+
+def _slab_fits(v: np.ndarray, a: float, b: float, bed: tuple[float, float, float], up: str) -> bool:
+    """Fit of the part between x = a and b, estimated from its vertices there, each also
+    moved to both end planes (so a slab between two vertex rings keeps its full length)."""
+    sl = v[(v[:, 0] >= a - 1e-6) & (v[:, 0] <= b + 1e-6)]
+    if len(sl) == 0:
+        return True
+    ends = [sl.copy(), sl.copy()]
+    ends[0][:, 0], ends[1][:, 0] = a, b
+    return bed_fit(np.vstack([sl, *ends]), bed, up).fits
+
+
+def estimate_stations(
+    vertices: np.ndarray,
+    bed: tuple[float, float, float],
+    up: str,
+    key_length: float = 6.0,
+    max_pieces: int = 8,
+) -> list[float] | None:
+    """Stations x (mm) of the fewest equal pieces across the flow whose vertex slabs (each
+    with the downstream tongue) fit the bed; [] when the part fits whole, None when
+    ``max_pieces`` are not enough. Pure numpy: an estimate from the mesh, before any cut."""
+    v = np.asarray(vertices, dtype=float)
+    if bed_fit(v, bed, up).fits:
+        return []
+    x0, x1 = float(v[:, 0].min()), float(v[:, 0].max())
+    for n in range(2, max_pieces + 1):
+        xs = [x0 + (x1 - x0) * k / n for k in range(1, n)]
+        edges = [x0, *xs, x1]
+        if all(_slab_fits(v, a, min(b + key_length, x1), bed, up) for a, b in pairwise(edges)):
+            return xs
+    return None
+
+
+def _box(x0: float, x1: float, y0: float, y1: float, z0: float, z1: float) -> Any:
+    import cadquery as cq
+
+    return cq.Solid.makeBox(x1 - x0, y1 - y0, z1 - z0, cq.Vector(x0, y0, z0))
+
+
+def _region(stations_x: float, bb: Any, key: tuple[float, float]) -> Any:
+    """Everything upstream of x = s, plus the tongue: a solid (mm)."""
+    from ductgen.solids.primitives import boolean
+
+    length, half = key
+    pad = 10.0
+    up = _box(bb.xmin - pad, stations_x, bb.ymin - pad, bb.ymax + pad, bb.zmin - pad, bb.zmax + pad)
+    yc = 0.5 * (bb.ymin + bb.ymax)
+    tongue = _box(
+        stations_x, stations_x + length, yc - half, yc + half, bb.zmin - pad, bb.zmax + pad
+    )
+    return boolean("fuse", up, tongue, "split region", glue=True)
+
+
+def split_across_flow(
+    solid: Any,
+    stations_x: list[float],
+    key_length: float = 6.0,
+    key_fraction: float = 0.4,
+) -> list[Any]:
+    """Cut ``solid`` (a cadquery Solid, mm) at x = each station into keyed pieces.
+
+    Args:
+        solid: the part.
+        stations_x: increasing x of the glue faces (mm), inside the part's x range.
+        key_length: tongue length along x (mm).
+        key_fraction: tongue width as a fraction of the part's width (y).
+
+    Returns:
+        The pieces, upstream first, each one valid solid.
+    """
+    from ductgen.errors import GeometryError
+    from ductgen.solids.primitives import boolean
+
+    bb = solid.BoundingBox()
+    xs = sorted(stations_x)
+    if not xs or xs[0] <= bb.xmin or xs[-1] + key_length >= bb.xmax:
+        raise GeometryError("split", f"stations {xs} must lie inside x {bb.xmin:.1f}-{bb.xmax:.1f}")
+    if any(b - a <= key_length for a, b in pairwise(xs)):
+        raise GeometryError("split", "stations closer than the key length")
+    key = (key_length, 0.5 * key_fraction * (bb.ymax - bb.ymin))
+    regions = [_region(s, bb, key) for s in xs]
+    pieces = []
+    rest = solid
+    for i, reg in enumerate(regions):
+        pieces.append(boolean("intersect", rest, reg, f"split piece {i + 1}"))
+        rest = boolean("cut", rest, reg, f"split rest {i + 1}")
+    pieces.append(rest)
+    return pieces
+
+
+def split_for_bed(
+    solid: Any,
+    vertices: np.ndarray,
+    bed: tuple[float, float, float],
+    up: str,
+    max_pieces: int = 8,
+    key_length: float = 6.0,
+) -> tuple[list[float], list[Any]]:
+    """Fewest equal pieces across the flow that each fit ``bed`` standing ``up``.
+
+    Args:
+        solid: the part (cadquery Solid, mm); vertices: its mesh vertices (N, 3) mm, for
+            the quick fit estimate before any cut.
+
+    Returns:
+        (stations_x, pieces); ([], [solid]) when the whole part fits. Raises
+        :class:`~ductgen.errors.GeometryError` when ``max_pieces`` are not enough.
+    """
+    from ductgen.errors import GeometryError
+    from ductgen.solids.mesh import triangulate
+
+    xs = estimate_stations(vertices, bed, up, key_length, max_pieces)
+    if xs == []:
+        return [], [solid]
+    while xs is not None and len(xs) < max_pieces:
+        pieces = split_across_flow(solid, xs, key_length)
+        if all(bed_fit(triangulate(p, 0.1, 0.3)[0], bed, up).fits for p in pieces):
+            return xs, pieces
+        bb = solid.BoundingBox()  # the estimate was short: one piece more
+        n = len(xs) + 2
+        xs = [bb.xmin + (bb.xmax - bb.xmin) * k / n for k in range(1, n)]
+    raise GeometryError("split", f"{max_pieces} pieces across the flow do not fit the bed {bed}")

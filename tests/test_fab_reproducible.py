@@ -1,0 +1,75 @@
+"""Same spec + same version → byte-identical files; the date from ``SOURCE_DATE_EPOCH``
+(issue 11, item 5).
+
+Source: the reproducible-builds convention, https://reproducible-builds.org/specs/
+source-date-epoch/ [published]: ``SOURCE_DATE_EPOCH`` is seconds since 1970-01-01 00:00 UTC;
+1700000000 s is 2023-11-14 22:13:20 UTC (closed form: 19675 days + 80000 s). Readers: ezdxf
+for the DXF header, pymupdf for the PDF metadata, the STEP header read as text (ISO 10303-21
+``FILE_NAME`` time stamp).
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import io
+import re
+
+import ezdxf
+import pymupdf
+import pytest
+from ezdxf.tools.juliandate import calendardate
+
+from ductgen.pipeline import build
+from ductgen.spec import load_spec
+from ductgen.worker import KernelWorker
+from tests.conftest import ROOT
+
+SAMPLE = ROOT / "samples" / "drone-avionics-vent.toml"
+
+
+def _build(folder, env_epoch: str | None, monkeypatch) -> dict[str, bytes]:  # type: ignore[no-untyped-def]
+    if env_epoch is None:
+        monkeypatch.delenv("SOURCE_DATE_EPOCH", raising=False)
+    else:
+        monkeypatch.setenv("SOURCE_DATE_EPOCH", env_epoch)
+    worker = KernelWorker()  # a fresh worker inherits the environment just set
+    try:
+        build(load_spec(SAMPLE), folder, worker=worker)
+    finally:
+        worker.close()
+    return {p.name: p.read_bytes() for p in sorted(folder.iterdir())}
+
+
+@pytest.mark.slow
+def test_two_builds_are_byte_identical(tmp_path, monkeypatch) -> None:  # type: ignore[no-untyped-def]
+    a = _build(tmp_path / "a", None, monkeypatch)
+    b = _build(tmp_path / "b", None, monkeypatch)
+    assert sorted(a) == sorted(b)
+    kinds = {name.rsplit(".", 1)[-1] for name in a}
+    assert {"step", "stl", "dxf", "pdf", "png", "json"} <= kinds
+    differ = [name for name in a if a[name] != b[name]]
+    assert differ == []
+
+
+@pytest.mark.slow
+def test_source_date_epoch_is_the_stated_date(tmp_path, monkeypatch) -> None:  # type: ignore[no-untyped-def]
+    files = _build(tmp_path / "e", "1700000000", monkeypatch)
+    when = dt.datetime(2023, 11, 14, 22, 13, 20)
+    steps = [v for k, v in files.items() if k.endswith(".step")]
+    assert len(steps) == 3
+    for data in steps:
+        head = data[:600].decode("ascii")
+        assert "FILE_NAME(" in head and "'2023-11-14T22:13:20'" in head
+    dxf = next(v for k, v in files.items() if k.endswith(".dxf")).decode("utf-8")
+    # the header as written (ezdxf re-stamps $TDCREATE when it loads a file, so read the
+    # group-code pairs: name, then code 40 and the Julian date)
+    for var in ("$TDCREATE", "$TDUPDATE"):
+        value = re.search(re.escape(var) + r"\r?\n\s*40\r?\n([^\r\n]+)", dxf)
+        assert value is not None
+        assert abs(calendardate(float(value.group(1))) - when) < dt.timedelta(seconds=1)
+    doc = ezdxf.read(io.StringIO(dxf))
+    assert "2023-11-14" in " ".join(e.dxf.text for e in doc.modelspace().query("TEXT"))
+    for name in (k for k in files if k.endswith(".pdf")):
+        pdf = pymupdf.open(stream=files[name], filetype="pdf")
+        assert pdf.metadata["creationDate"].startswith("D:20231114221320"), name
+        assert "2023-11-14" in "".join(page.get_text() for page in pdf), name

@@ -1,0 +1,54 @@
+"""Every exported STEP solid, re-read, passes the kernel's boolean argument check and its
+exact (B-rep) volume equals a fine mesh of the same file (issue 11, item 4).
+
+Checks: OCCT's ``BRepAlgoAPI_Check`` (argument type, small edges, self-intersection) finds
+no fault; the file holds one solid; ``GProp`` volume at relative tolerance 1e-9 agrees with
+the volume of a 0.005 mm triangulation of the same B-rep to 0.05 % (issue 11's threshold;
+brief §9: a fine triangulation agrees with the true volume to ~1e-6). The curve-on-surface
+deviations left are measured and bounded at 2e-4 mm (the largest found before healing was
+1.1e-4 mm; common practice, no source: 1e-4-1e-3 mm is a usual modelling tolerance).
+"""
+
+from __future__ import annotations
+
+import pytest
+
+from tests.conftest import sample_ids
+
+cq = pytest.importorskip("cadquery")
+
+
+def _volumes(shape) -> tuple[float, float]:  # type: ignore[no-untyped-def]
+    import numpy as np
+    from OCP.BRepGProp import BRepGProp
+    from OCP.GProp import GProp_GProps
+
+    from ductgen.solids.mesh import triangulate
+
+    props = GProp_GProps()
+    BRepGProp.VolumeProperties_s(shape.wrapped, props, 1e-9, True)
+    v, f = triangulate(shape, 0.005, 0.05)
+    t = v[f]
+    mesh = float(np.sum(np.einsum("ij,ij->i", t[:, 0], np.cross(t[:, 1], t[:, 2])))) / 6.0
+    return props.Mass(), mesh
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("kind", ["cutter", "insert", "plug"])
+@pytest.mark.parametrize("name", sample_ids())
+def test_step_checks_clean_and_volume_exact(sample_builds: dict, name: str, kind: str) -> None:
+    from OCP.BRepAlgoAPI import BRepAlgoAPI_Check
+
+    from ductgen.solids.heal import off_surface_edges
+
+    _, folder = sample_builds[name]
+    shape = cq.importers.importStep(str(folder / f"{name}-{kind}.step"))
+    solids = shape.solids().vals()
+    assert len(solids) == 1
+    solid = solids[0]
+    check = BRepAlgoAPI_Check(solid.wrapped, True, True)
+    assert check.IsValid()
+    assert len(check.Result()) == 0
+    brep, mesh = _volumes(solid)
+    assert brep == pytest.approx(mesh, rel=5e-4)
+    assert all(dev <= 2e-4 for _, dev in off_surface_edges(solid.wrapped))
