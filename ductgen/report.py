@@ -132,6 +132,16 @@ def _bed_section(
     return (section if len(section) > 1 else None), warnings
 
 
+def _skin_section(d: Design) -> dict[str, Any]:
+    """The skin, the installation datum, and where the straight outlet points (mm)."""
+    out: dict[str, Any] = dict(d.skin_summary)
+    out["datum"] = "ramp start on the centreline; u along the flow, v across, w outward"
+    if d.placement.outlet_point is not None:
+        out["outlet_point_mm"] = list(d.placement.outlet_point)
+        out["outlet_axis"] = list(d.placement.outlet_axis or ())
+    return out
+
+
 def start_report(
     spec: Spec,
     d: Design,
@@ -148,11 +158,21 @@ def start_report(
         "ductgen_version": version,
         "geometry": geometry_section(d.geometry, solids),
     }
+    report["geometry"]["skin"] = _skin_section(d)
+    report["template"] = {
+        "development": "exact" if d.development.exact else "least-distortion (LSCM + ARAP)",
+        "max_length_distortion_pct": d.development.max_length_distortion_pct,
+    }
     warnings = list(d.warnings)
     if spec.flow is not None:
         from ductgen.flow.report import flow_section
 
         report["flow"], flow_warnings = flow_section(spec.flow, d.duct)
+        if spec.skin.shape != "flat":
+            report["flow"]["curvature_note"] = (
+                "the boundary layer is the flat-plate estimate over the run length along the "
+                "surface; the pressure gradient of the skin's curvature is not modelled"
+            )
         warnings += flow_warnings
     section, print_warnings = _print_section(spec, d, solids)
     bed, bed_warnings = _bed_section(spec, solids)

@@ -123,7 +123,10 @@ def test_step_roundtrip_keeps_the_volume(built, tmp_path: Path) -> None:  # type
     path.write_bytes(data)
     back = read_step(path)
     assert back.isValid()
-    assert _gprop_volume(back) == pytest.approx(_gprop_volume(c), rel=1e-6)
+    # the file holds the healed solid (walls written as splines): the same body, measured by
+    # fine triangulations of both (the kernel's own Volume() is ~1e-3 off on these C1
+    # curves, brief §9, so it cannot judge a 1e-5 agreement)
+    assert _mesh_volume(back, 0.005, 0.05) == pytest.approx(_mesh_volume(c, 0.005, 0.05), rel=2e-5)
 
 
 def test_stl_is_watertight_and_close_to_the_brep(built, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]

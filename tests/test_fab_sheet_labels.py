@@ -24,7 +24,7 @@ def test_section_labels_clear_of_lines(path) -> None:  # type: ignore[no-untyped
     g = geometry_from_spec(spec)
     split = (0.55 * g.length_mm, 1.2 * g.length_mm)  # two glue faces of a split insert
     doc = pymupdf.open(
-        stream=sheet_pdf(g, spec, spec_sha256(spec), "0", None, split), filetype="pdf"
+        stream=sheet_pdf(g, spec, spec_sha256(spec), "0", None, split_x_mm=split), filetype="pdf"
     )
     page = doc[0]
     text = page.get_text()

@@ -14,7 +14,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ductgen.design.skin import Placement, placement, skin_from_spec
+from ductgen.design.skin import Placement, distortion_warnings, placement, skin_from_spec
 from ductgen.errors import DesignWarning, SpecError
 from ductgen.flow.inputs import DuctShape
 from ductgen.flow.warnings import geometry_warnings
@@ -30,6 +30,7 @@ from ductgen.geometry.fabrication import (
     spigot_of,
 )
 from ductgen.geometry.fabrication_rules import fabrication_warnings, validate_fabrication
+from ductgen.geometry.flatten import Development, develop
 from ductgen.geometry.floor import Floor, ramp_angle_for_length
 from ductgen.geometry.inlet import InletGeometry, min_transition_length_mm
 from ductgen.geometry.lip import Lip
@@ -69,6 +70,8 @@ class Design:
         skin: the skin map from design to model coordinates.
         placement: the maps the solids are placed with (the duct straightens to its outlet).
         skin_summary: the skin as the report states it (shape, side, radii in mm, axis).
+        development: design (u, v) → flat template coordinates (the identity where the skin
+            develops exactly; a least-distortion flattening on a doubly curved skin).
         duct: the numbers the airflow model reads.
         warnings: design warnings on the shape and the fabrication layout.
         fabrication_checked: whether the insert/plug rules were checked (a cutter-only
@@ -84,6 +87,7 @@ class Design:
     skin: SkinMap
     placement: Placement
     skin_summary: dict[str, object]
+    development: Development
     duct: DuctShape
     warnings: tuple[DesignWarning, ...]
     fabrication_checked: bool = True
@@ -168,6 +172,8 @@ def build_design(
     skin = skin_from_spec(spec.skin, g, layout, trim, spigot, fab.insert.wall)
     place, place_warnings = placement(skin, g, float(np.max(layout.outline_xy[:, 0])))
     warnings += place_warnings
+    dev = develop(skin, np.vstack([layout.outline_xy, trim, layout.opening_xy]))
+    warnings += distortion_warnings(dev)
     return Design(
         name=spec.name,
         geometry=g,
@@ -178,6 +184,7 @@ def build_design(
         skin=skin,
         placement=place,
         skin_summary=_skin_summary(spec),
+        development=dev,
         duct=duct,
         warnings=tuple(warnings),
         fabrication_checked=check_fabrication,

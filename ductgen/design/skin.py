@@ -15,11 +15,19 @@ import numpy as np
 
 from ductgen.errors import DesignWarning, SpecError
 from ductgen.geometry.fabrication import FlangeLayout, Spigot
+from ductgen.geometry.flatten import Development
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.geometry.skin import FLAT, CurvedSkin, FlatSkin, TurnedOver
 from ductgen.spec.model import SkinSpec
 
-__all__ = ["MAX_WRAP_DEG", "Placement", "placement", "skin_from_spec"]
+__all__ = [
+    "MAX_DISTORTION_PCT",
+    "MAX_WRAP_DEG",
+    "Placement",
+    "distortion_warnings",
+    "placement",
+    "skin_from_spec",
+]
 
 #: Largest angle (deg) the opening, flange or plug plate may wrap around a curved skin.
 #: ductgen's design coordinates lay the flat-plate inlet of the NACA tests onto the panel;
@@ -31,7 +39,27 @@ MAX_WRAP_DEG = 60.0
 #: design thin out by more than half.
 MAX_DEPTH_FRACTION = 0.5
 
+#: Largest length distortion (percent) of a flattened template worth no warning: 0.5 % is
+#: 1.5 mm over a 300 mm opening, about what a shop absorbs when it marks and trims by hand
+#: (common practice, no source); beyond it mark from the cutter solid or a formed template.
+MAX_DISTORTION_PCT = 0.5
+
 PointMap = Callable[[np.ndarray], np.ndarray]
+
+
+def distortion_warnings(dev: Development) -> list[DesignWarning]:
+    """A warning when the flattened template stretches lengths by more than
+    :data:`MAX_DISTORTION_PCT`."""
+    if dev.exact or dev.max_length_distortion_pct <= MAX_DISTORTION_PCT:
+        return []
+    return [
+        DesignWarning(
+            "template_distortion",
+            f"the flat template of this doubly curved skin stretches lengths by up to "
+            f"{dev.max_length_distortion_pct:.2f} % (over {MAX_DISTORTION_PCT:g} %, about what "
+            "hand marking absorbs): mark from the cutter solid or a template formed on the panel",
+        )
+    ]
 
 
 def _need(skin: SkinSpec, shape: str, given: dict[str, object], needed: tuple[str, ...]) -> None:
@@ -107,34 +135,41 @@ def skin_from_spec(
     v_max, u_max = _extent(g, layout, trim_xy)
     deep = _deepest(g, spigot, wall)
     wrap = math.radians(MAX_WRAP_DEG)
-    for k, reach, key in ((k_stream, u_max, keys["stream"]), (k_span, v_max, keys["span"])):
+    for k, reach, key, along in (
+        (k_stream, u_max, keys["stream"], True),
+        (k_span, v_max, keys["span"], False),
+    ):
         if k == 0.0:
             continue
-        radius = 1.0 / abs(k)
-        need = reach / wrap
-        why = (
-            f"the parts reach {reach:.0f} mm along the skin in this direction and would wrap "
-            f"more than {MAX_WRAP_DEG:.0f}° of it"
-        )
-        if k > 0 and deep / MAX_DEPTH_FRACTION > need:
-            need = deep / MAX_DEPTH_FRACTION
-            why = (
-                f"the floor and duct reach {deep:.0f} mm deep: inside a convex skin the walls "
-                f"converge toward its centre, and deeper than {MAX_DEPTH_FRACTION:.0%} of the "
-                "radius the flat design no longer holds"
+        limits = [
+            (
+                reach / wrap,
+                f"the parts reach {reach:.0f} mm along the skin in this direction and would "
+                f"wrap more than {MAX_WRAP_DEG:.0f}° of it",
             )
-        if radius < need:
-            raise SpecError(key, radius, f">= {math.ceil(need)} mm for this inlet", why)
-    if k_stream > 0 and g.transition is not None:
-        _check_straight_outlet(k_stream, g, spigot, wall, keys["stream"])
+        ]
+        if k > 0:
+            limits.append(
+                (
+                    deep / MAX_DEPTH_FRACTION,
+                    f"the floor and duct reach {deep:.0f} mm deep: inside a convex skin the "
+                    f"walls converge toward its centre, and deeper than "
+                    f"{MAX_DEPTH_FRACTION:.0%} of the radius the flat design no longer holds",
+                )
+            )
+        if k > 0 and along and g.transition is not None:
+            limits.append(_straight_outlet_limit(g, spigot, wall))
+        need, why = max(limits, key=lambda item: item[0])
+        if 1.0 / abs(k) < need:
+            raise SpecError(key, 1.0 / abs(k), f">= {math.ceil(need)} mm for this inlet", why)
     return CurvedSkin(k_stream, k_span, skin.shape)
 
 
-def _check_straight_outlet(
-    k: float, g: InletGeometry, spigot: Spigot | None, wall: float, key: str
-) -> None:
-    """A convex skin falls away below the straight spigot: refuse a radius at which the
-    spigot's top would break out through the skin's inner surface."""
+def _straight_outlet_limit(
+    g: InletGeometry, spigot: Spigot | None, wall: float
+) -> tuple[float, str]:
+    """Smallest radius (mm) along the flow at which the straight spigot's top stays inside a
+    convex skin, which falls away below it, and the reason."""
     t = g.transition
     assert t is not None
     top = t.outlet_top_z_mm + wall
@@ -144,19 +179,16 @@ def _check_straight_outlet(
         length = spigot.x_end_mm - spigot.x0_mm
     skin_t = g.skin_thickness_mm
     w = -top  # depth of the spigot's top below the outer skin (positive)
-    gap = w - skin_t
     # the straight line at depth w leaves the circle of radius R - t after arc s when
     # (R - w)^2 + s^2 > (R - t)^2, i.e. R < (w^2 + s^2 - t^2) / (2 (w - t))
+    gap = w - skin_t
     need = (w * w + length * length - skin_t * skin_t) / (2.0 * gap) if gap > 0 else math.inf
-    if 1.0 / k < need:
-        raise SpecError(
-            key,
-            1.0 / k,
-            f">= {math.ceil(need)} mm for this outlet",
-            f"the skin falls away below the straight {length:.0f} mm spigot, whose top would "
-            "break out through the skin; lower the outlet, shorten the spigot or choose a "
-            "larger radius",
-        )
+    why = (
+        f"the skin falls away below the straight {length:.0f} mm spigot, whose top would "
+        "break out through the skin; lower the outlet, shorten the spigot or choose a larger "
+        "radius"
+    )
+    return need, why
 
 
 @dataclass(frozen=True)

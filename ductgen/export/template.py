@@ -3,13 +3,24 @@
 
 from __future__ import annotations
 
+import dataclasses
+
+import numpy as np
+
 from ductgen.design import Design
 from ductgen.export.dxf import dxf_bytes
 from ductgen.export.outline import Contour, outward_contour
 from ductgen.export.pdf_template import pdf_bytes
-from ductgen.export.template_layout import CAUTIONS, _kerf_note, build_date, template_drawing
+from ductgen.export.template_layout import (
+    CAUTIONS,
+    TemplateDrawing,
+    Text,
+    _kerf_note,
+    template_drawing,
+)
 from ductgen.geometry.fabrication import footprint_end_mm
 from ductgen.spec.model import Spec
+from ductgen.stamp import build_date
 
 __all__ = ["template_files"]
 
@@ -18,7 +29,7 @@ def template_files(d: Design, spec: Spec, spec_hash: str) -> dict[str, bytes]:
     """Encode ``template.dxf`` and ``template.pdf`` (suffix → bytes) for one inlet."""
     g = d.geometry
     t = spec.template
-    drawing = template_drawing(g, spec, spec_hash, *_fabrication(d, spec))
+    drawing = develop_drawing(template_drawing(g, spec, spec_hash, *_fabrication(d, spec)), d)
     info = [
         f"Skin opening of {spec.name}: W {g.width_mm:.2f} mm, L {g.length_mm:.2f} mm, "
         f"apex {g.planform.apex_width_mm:.2f} mm.",
@@ -32,6 +43,39 @@ def template_files(d: Design, spec: Spec, spec_hash: str) -> dict[str, bytes]:
             drawing, t.paper, t.overlap, (t.scale_x, t.scale_y), spec.name, info, CAUTIONS
         ),
     }
+
+
+def develop_drawing(drawing: TemplateDrawing, d: Design) -> TemplateDrawing:
+    """The drawing carried from design coordinates (u, v) onto the flat template: unchanged
+    where the skin develops exactly; on a doubly curved skin every cut line, hole, mark and
+    label through the least-distortion flattening (cut lines as dense polylines, 0.5 mm).
+    Scale bars keep their true length. The distortion is stated in the drawing's text."""
+    dev = d.development
+    if dev.exact:
+        return drawing
+    out = TemplateDrawing(name=drawing.name, units=drawing.units)
+    for role, c in drawing.cuts:
+        pts = dev.xy(c.sample(0.5))
+        out.cuts.append((role, Contour(pts, np.zeros(len(pts)))))
+
+    def at(p: tuple[float, float]) -> tuple[float, float]:
+        q = dev.xy(np.array([p]))[0]
+        return float(q[0]), float(q[1])
+
+    out.circles += [dataclasses.replace(c, centre=at(c.centre)) for c in drawing.circles]
+    out.lines += [dataclasses.replace(ln, a=at(ln.a), b=at(ln.b)) for ln in drawing.lines]
+    out.texts += [dataclasses.replace(tx, at=at(tx.at)) for tx in drawing.texts]
+    out.bars += drawing.bars
+    x0, y0, _, _ = out.cut_extent()
+    out.texts.append(
+        Text(
+            (x0, y0 - 8.0),
+            f"FLATTENED from a doubly curved skin: lengths within "
+            f"{dev.max_length_distortion_pct:.2f} % of the panel's",
+            2.5,
+        )
+    )
+    return out
 
 
 def _fabrication(

@@ -4,7 +4,32 @@ from __future__ import annotations
 
 from typing import Any
 
-__all__ = ["sheet_files"]
+__all__ = ["sheet_files", "skin_lines"]
+
+
+def skin_lines(skin: dict[str, Any], template: dict[str, Any]) -> tuple[tuple[str, str], ...]:
+    """Key-dimension lines for a curved skin: the panel's radii, the installation datum,
+    where the straight outlet points, how the template was developed (report sections in)."""
+    shape = skin.get("shape", "flat")
+    if shape == "flat":
+        return ()
+    if shape == "cylinder":
+        panel = f"cylinder R {skin['radius_mm']:.0f} mm, {skin['side']}, axis {skin['axis']}"
+    else:
+        panel = (
+            f"doubly R {skin['radius_streamwise_mm']:.0f} (along) / "
+            f"{skin['radius_spanwise_mm']:.0f} (across) mm, {skin['side']}"
+        )
+    lines = [
+        ("skin", panel),
+        ("datum", "ramp start on the centreline; flow along +u"),
+    ]
+    if skin.get("outlet_axis"):
+        ax = skin["outlet_axis"]
+        lines.append(("outlet points", f"({ax[0]:.3f}, {ax[1]:.3f}, {ax[2]:.3f})"))
+    pct = template.get("max_length_distortion_pct", 0.0)
+    lines.append(("template", "developed exactly" if pct == 0 else f"flattened, {pct:.2f} % max"))
+    return tuple(lines)
 
 
 def sheet_files(ctx: Any) -> dict[str, bytes]:
@@ -31,6 +56,7 @@ def sheet_files(ctx: Any) -> dict[str, bytes]:
         png,
         ctx.report.get("flow"),
         tuple(split.get("split_stations_x_mm") or ()),
+        skin_lines(ctx.report["geometry"].get("skin", {}), ctx.report.get("template", {})),
     )
     files = {"sheet.pdf": pdf}
     if png is not None:

@@ -17,7 +17,7 @@ import numpy as np
 
 from ductgen.errors import ExportError, GeometryError
 
-__all__ = ["GL_PACKAGES", "MARGIN", "preview_png", "render_png"]
+__all__ = ["GL_PACKAGES", "MARGIN", "curved_panel", "preview_png", "render_png"]
 
 #: Debian/Ubuntu packages that offscreen VTK rendering needs on a bare machine.
 GL_PACKAGES = "libgl1 libegl1 libegl-mesa0 libgl1-mesa-dri libx11-6 libxrender1"
@@ -109,6 +109,7 @@ def render_png(
     opening: np.ndarray | None = None,
     size: tuple[int, int] = (1600, 1000),
     colour: str = "#c9a86b",
+    panel: tuple[np.ndarray, np.ndarray] | None = None,
 ) -> bytes:
     """Shaded 3D view of a triangle mesh (vertices mm (N, 3), faces (M, 3)), seen from above,
     upstream and to one side, centred with :data:`MARGIN` free round it.
@@ -116,6 +117,9 @@ def render_png(
     With ``opening`` (the skin opening, CCW (K, 2) mm) the mesh is a cutter: it is clipped at
     the skin plane and a skin plate with the opening is drawn, so the picture shows
     the cavity as it looks let into a panel.
+
+    With ``panel`` (vertices (N, 3), faces (M, 3), model coordinates) a curved skin panel is
+    drawn round the part, with the part's cut-out in it.
 
     Returns PNG bytes. Raises :class:`ExportError` when no offscreen OpenGL context can be made.
     """
@@ -152,6 +156,12 @@ def render_png(
             pl.add_mesh(edges, color="#3a3a3a", line_width=1.5)
         if plate is not None:
             pl.add_mesh(plate, color="#9aa3ad", specular=0.2, smooth_shading=False)
+        if panel is not None:
+            ptri = np.hstack(
+                [np.full((len(panel[1]), 1), 3, dtype=np.int64), np.asarray(panel[1], np.int64)]
+            )
+            plate = pv.PolyData(np.asarray(panel[0], dtype=float), ptri.ravel())
+            pl.add_mesh(plate, color="#9aa3ad", opacity=0.55, smooth_shading=True)
         pl.enable_lightkit()
         # looking from above, upstream and to one side: the ramp, walls and lip all show
         b = (plate if plate is not None else mesh).bounds
@@ -167,6 +177,41 @@ def render_png(
     buf = io.BytesIO()
     Image.fromarray(np.asarray(img)).save(buf, format="PNG")  # optimize=True: 5 s more
     return buf.getvalue()
+
+
+def curved_panel(
+    skin: Any,
+    around_xy: np.ndarray,
+    hole_xy: np.ndarray,
+    upside_down: bool = False,
+    step: float = 4.0,
+) -> tuple[np.ndarray, np.ndarray]:
+    """A patch of the curved skin's outer surface round a part (model coordinates, mm): a
+    grid over ``around_xy``'s extent plus a margin, less the cells inside ``hole_xy`` (both
+    closed outlines in design coordinates). ``upside_down``: for the plug, built turned over."""
+    from matplotlib.path import Path as MplPath
+
+    lo, hi = around_xy.min(axis=0) - 20.0, around_xy.max(axis=0) + 20.0
+    nu, nv = int((hi[0] - lo[0]) / step) + 2, int((hi[1] - lo[1]) / step) + 2
+    uu, vv = np.meshgrid(
+        np.linspace(lo[0], hi[0], nu), np.linspace(lo[1], hi[1], nv), indexing="ij"
+    )
+    idx = np.arange(nu * nv).reshape(nu, nv)
+    a, b, c, e = (
+        idx[:-1, :-1].ravel(),
+        idx[1:, :-1].ravel(),
+        idx[:-1, 1:].ravel(),
+        idx[1:, 1:].ravel(),
+    )
+    faces = np.vstack([np.column_stack([a, b, c]), np.column_stack([e, c, b])])
+    uv = np.column_stack([uu.ravel(), vv.ravel()])
+    inside = MplPath(hole_xy).contains_points(uv[faces].mean(axis=1))
+    faces = faces[~inside]
+    pts = np.column_stack([uv, np.zeros(len(uv))])
+    xyz = skin.to_model(pts)
+    if upside_down:
+        xyz = xyz * np.array([1.0, 1.0, -1.0])
+    return xyz, faces
 
 
 def _gl_message(detail: str) -> str:
@@ -192,10 +237,22 @@ def preview_png(ctx: Any, worker: Any = None) -> bytes:
         kind, mesh = "cutter", w.run("ductgen.solids.jobs:cutter_mesh_job", ctx.design)
     else:
         mesh = ctx.solids[kind]["mesh"]
-    opening = ctx.design.geometry.planform.outline(300) if kind == "cutter" else None
+    d = ctx.design
+    panel = None
+    if d.skin.is_flat:
+        opening = d.geometry.planform.outline(300) if kind == "cutter" else None
+    else:  # the curved panel, with the part's cut-out, stands in for the flat skin plate
+        opening = None
+        hole = d.layout.opening_xy if kind == "cutter" else d.layout.cutout_xy
+        panel = curved_panel(d.skin, d.plug_trim_xy, hole, upside_down=kind == "plug")
     try:
         return w.run(
-            "ductgen.sheets.preview:render_png", mesh[0], mesh[1], opening, timeout_s=120.0
+            "ductgen.sheets.preview:render_png",
+            mesh[0],
+            mesh[1],
+            opening,
+            panel=panel,
+            timeout_s=120.0,
         )
     except GeometryError as err:  # the renderer crashed the worker (no GL driver at all)
         raise ExportError(_gl_message(err.detail)) from err

@@ -264,6 +264,7 @@ def sheet_pdf(
     preview: bytes | None = None,
     flow: dict[str, Any] | None = None,
     split_x_mm: tuple[float, ...] = (),
+    skin_lines: tuple[tuple[str, str], ...] = (),
 ) -> bytes:
     """Encode the drawing sheet PDF.
 
@@ -275,6 +276,8 @@ def sheet_pdf(
         spec_hash: ``spec_sha256``; version: ductgen version for the title block.
         preview: optional PNG drawn in the picture box.
         flow: the report's ``flow`` section, drawn as the AIRFLOW block when given.
+        skin_lines: (name, value) lines on the skin and the installation datum, added to
+            the key dimensions (a curved skin: its radii, the datum, where the outlet points).
     """
     import logging
 
@@ -336,7 +339,7 @@ def sheet_pdf(
             iax.imshow(img, interpolation="bilinear")
             iax.set_axis_off()
         _table(bg, tx, ph, g, 200.0 if flow else 150.0)
-        _key_dims(bg, tx, g)
+        _key_dims(bg, tx, g, skin_lines)
         if flow:
             _flow_block(bg, tx, flow)
         _title_block(bg, tx, pw, g, spec, spec_hash, version)
@@ -374,7 +377,7 @@ def _table(bg, tx: float, ph: float, g: InletGeometry, bottom: float = 150.0) ->
             bg.text(cx, y, c, fontsize=6.5, weight="bold" if r["station"] else "normal")
 
 
-def _key_dims(bg, tx: float, g: InletGeometry) -> None:  # type: ignore[no-untyped-def]
+def _key_dims(bg, tx: float, g: InletGeometry, extra=()) -> None:  # type: ignore[no-untyped-def]
     pf = g.planform
     items = [
         ("throat width W", f"{g.width_mm:.2f} mm"),
@@ -387,11 +390,13 @@ def _key_dims(bg, tx: float, g: InletGeometry) -> None:  # type: ignore[no-untyp
         ("max wall divergence", f"{pf.max_divergence_deg:.1f} deg"),
         ("lip", f"{g.lip.style}, t {g.lip.thickness_mm:.2f} mm, nose {g.lip.nose_ratio:g}:1"),
         ("throat area W x D", f"{g.throat_area_mm2:.0f} mm2"),
+        *extra,
     ]
     y = 150.0
+    step = min(3.9, 39.0 / len(items))  # the block ends above the cautions
     bg.text(tx + 4, y, "KEY DIMENSIONS", fontsize=7.5, weight="bold")
     for k, v in items:
-        y -= 3.9
+        y -= step
         bg.text(tx + 4, y, k, fontsize=6.8)
         bg.text(tx + 50, y, v, fontsize=6.8)
 

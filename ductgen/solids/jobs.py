@@ -58,6 +58,27 @@ def recipes() -> dict[str, SolidRecipe]:
     }
 
 
+def mapped_mesh(flat: Any, fn: Any, lin: float, ang: float, curvature: float) -> tuple[Any, Any]:
+    """Triangulation of a mapped solid (vertices mm, faces): the design-coordinate solid
+    triangulated at (``lin`` mm, ``ang`` rad), its edges split until a mapped chord sags less
+    than ``lin`` on the skin's curvature (edge ≤ √(8·lin/κ)), vertices mapped. Watertight
+    when the design mesh is (it is checked), and its points lie on the exactly mapped
+    surface — unlike the kernel's own mesh of the mapped splines (see CHECK_MESH_CURVED)."""
+    import math
+
+    import numpy as np
+    import trimesh
+
+    from ductgen.solids.mesh import triangulate
+
+    v, f = triangulate(flat, lin, ang)
+    m = trimesh.Trimesh(v, f)  # merges the kernel's per-face copies of shared vertices
+    step = math.sqrt(8.0 * lin / curvature) if curvature > 0 else math.inf
+    if math.isfinite(step):
+        m = m.subdivide_to_size(step)
+    return np.asarray(fn(m.vertices)), np.asarray(m.faces)
+
+
 def mapped_volume_mm3(flat: Any, fn: Any, step_mm: float = 2.0) -> float:
     """Volume (mm³) of a design-coordinate solid carried through the point map ``fn``,
     measured without the mapped B-rep: its triangulation, subdivided to ``step_mm`` edges
@@ -168,12 +189,12 @@ def build_solids(
         times["build_s"] = time.perf_counter() - t0
         t0 = time.perf_counter()
         stage(f"{kind} check")
-        if curved:  # the flat design's triangulation, mapped: independent of the mapped B-rep
-            fn = d.placement.plug_map if kind == "plug" else d.placement.solid_map
-            expected = mapped_volume_mm3(flat, fn)
-        else:
-            expected = recipe.expected(d)
-        res = check_solid(solid, kind, expected, tol, recipe.volume_rel, check_mesh)
+        fn = d.placement.plug_map if kind == "plug" else d.placement.solid_map
+        # curved: the flat design's triangulation, mapped (independent of the mapped B-rep)
+        expected = mapped_volume_mm3(flat, fn) if curved else recipe.expected(d)
+        res = check_solid(
+            solid, kind, expected, tol, recipe.volume_rel, check_mesh, exact_volume=curved
+        )
         times["check_s"] = time.perf_counter() - t0
         t0 = time.perf_counter()
         stage(f"{kind} STEP")
@@ -183,7 +204,9 @@ def build_solids(
         t0 = time.perf_counter()
         stage(f"{kind} STL")
         lin, ang = STL_QUALITY[quality]
-        if (lin, ang) == check_mesh and res.mesh is not None:
+        if curved:  # the design mesh, refined for the curvature and mapped (see mapped_mesh)
+            verts, faces = mapped_mesh(flat, fn, lin, ang, d.placement.curvature)
+        elif (lin, ang) == check_mesh and res.mesh is not None:
             verts, faces = res.mesh
         else:
             verts, faces = triangulate(solid, lin, ang)
