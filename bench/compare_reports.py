@@ -10,7 +10,8 @@ agree to ``--rel`` (relative, with 1e-12 absolute for values near zero), except 
 measured on the kernel's triangulation (solid volumes, wetted area, the ``print`` section),
 which agree to ``--mesh-rel``: an ulp-level change in how a B-rep is written can move its
 mesh (whose volume is itself only ~3e-4 from the exact one) by a few parts in 1e9.
-Timings, dates, versions and file names are ignored, warnings compared by code. Prints every
+Timings, dates, versions and file names are ignored, warnings compared by code, and keys
+added since A (new report entries) are not differences. Prints every
 difference and exits 1 when there is one. A report folder may hold ``NAME.json`` files
 instead of ``NAME/report.json``.
 """
@@ -40,8 +41,10 @@ def diff(a: Any, b: Any, path: str, rel: float, out: list[str], mesh_rel: float 
         for k in sorted(set(a) | set(b)):
             if k in IGNORED or k.endswith("_s"):
                 continue
-            if k not in a or k not in b:
-                out.append(f"{path}.{k}: only in {'B' if k not in a else 'A'}")
+            if k not in b:  # a number the reference has and the new build lost
+                out.append(f"{path}.{k}: only in A")
+                continue
+            if k not in a:  # a key added since the reference: new, not a change
                 continue
             if k == "warnings":
                 ca = sorted(w["code"] for w in a[k])
