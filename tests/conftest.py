@@ -12,6 +12,20 @@ SAMPLES = sorted((ROOT / "samples").glob("*.toml"))
 
 DATA = Path(__file__).resolve().parent / "data"
 
+#: A small valid spec (TOML text) for command-line tests.
+GOOD = """\
+name = "t"
+[throat]
+width = 80
+depth = 20
+[ramp]
+angle_deg = 7
+[outlet]
+kind = "round"
+diameter = 50
+transition_length = 100
+"""
+
 
 def naca_ordinates() -> list[tuple[float, float]]:
     """The standard wall table (x/L, 2y/W) from ``tests/data/naca_ordinates.json``, the one

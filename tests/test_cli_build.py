@@ -13,19 +13,7 @@ from pathlib import Path
 import pytest
 
 from ductgen.cli.app import main
-
-GOOD = """\
-name = "t"
-[throat]
-width = 80
-depth = 20
-[ramp]
-angle_deg = 7
-[outlet]
-kind = "round"
-diameter = 50
-transition_length = 100
-"""
+from tests.conftest import GOOD
 
 
 def _run(args: list[str], capsys: pytest.CaptureFixture[str]) -> tuple[int, str, str]:

@@ -21,19 +21,7 @@ from pathlib import Path
 import pytest
 
 from ductgen.cli.app import main
-
-GOOD = """\
-name = "t"
-[throat]
-width = 80
-depth = 20
-[ramp]
-angle_deg = 7
-[outlet]
-kind = "round"
-diameter = 50
-transition_length = 100
-"""
+from tests.conftest import GOOD
 
 WAIT_S = 120.0  # upper bound of any wait (the machine is shared; kernel start takes 2-8 s)
 

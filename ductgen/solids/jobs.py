@@ -99,35 +99,14 @@ def wetted_area_mm2(vertices: Any, faces: Any, g: InletGeometry, fn: Any = None)
     above is left out) except the outlet (or throat exit) face. ``fn``: the point map onto a
     curved skin (the clipped mesh is subdivided to 2 mm and mapped before its area is taken)."""
     import numpy as np
+    import trimesh
 
+    soup, tris = _clipped_below_skin(np.asarray(vertices, dtype=float), np.asarray(faces), g)
     if fn is not None:
-        import trimesh
-
-        kept = _clipped_below_skin(np.asarray(vertices, dtype=float), np.asarray(faces), g)
-        fine = trimesh.Trimesh(*kept, process=False).subdivide_to_size(2.0)
+        fine = trimesh.Trimesh(soup, tris, process=False).subdivide_to_size(2.0)
         return float(trimesh.Trimesh(fn(fine.vertices), fine.faces, process=False).area)
-    tri = np.asarray(vertices, dtype=float)[np.asarray(faces)]
-    on_exit = np.all(np.abs(tri[:, :, 0] - g.outlet_x_mm) < 1e-6, axis=1)
-    tri = tri[~on_exit]
-    z = tri[:, :, 2]
-    below = np.all(z <= 0.0, axis=1)
-    area = (
-        0.5
-        * np.linalg.norm(
-            np.cross(tri[below, 1] - tri[below, 0], tri[below, 2] - tri[below, 0]), axis=1
-        ).sum()
-    )
-    for t in tri[~below & np.any(z < 0.0, axis=1)]:  # crossing the skin plane: clip
-        poly = []
-        for i in range(3):
-            p, q = t[i], t[(i + 1) % 3]
-            if p[2] <= 0.0:
-                poly.append(p)
-            if (p[2] < 0.0) != (q[2] < 0.0) and p[2] != q[2]:
-                poly.append(p + (q - p) * (p[2] / (p[2] - q[2])))
-        for k in range(1, len(poly) - 1):
-            area += 0.5 * np.linalg.norm(np.cross(poly[k] - poly[0], poly[k + 1] - poly[0]))
-    return float(area)
+    t = soup[tris]
+    return float(0.5 * np.linalg.norm(np.cross(t[:, 1] - t[:, 0], t[:, 2] - t[:, 0]), axis=1).sum())
 
 
 def _clipped_below_skin(vertices: Any, faces: Any, g: InletGeometry) -> tuple[Any, Any]:
