@@ -17,7 +17,14 @@ from ductgen.errors import DesignWarning
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.spec.model import Spec
 
-__all__ = ["finish_report", "geometry_section", "report_bytes", "start_report"]
+__all__ = [
+    "add_insert_pieces",
+    "finish_report",
+    "geometry_section",
+    "insert_split_plan",
+    "report_bytes",
+    "start_report",
+]
 
 
 def geometry_section(g: InletGeometry, solids: dict[str, dict[str, Any]]) -> dict[str, Any]:
@@ -182,6 +189,20 @@ def start_report(
         report["print"] = section
     warnings += print_warnings + bed_warnings
     return report, warnings
+
+
+def insert_split_plan(report: dict[str, Any]) -> tuple[list[float], str] | None:
+    """(stations x in mm, the orientation it stands in) when the report says the insert
+    must be split to fit the printer's bed, else None."""
+    entry = report.get("print", {}).get("bed", {}).get("insert", {})
+    xs = entry.get("split_stations_x_mm")
+    return (list(xs), str(entry["orientation_up"])) if xs else None
+
+
+def add_insert_pieces(report: dict[str, Any], pieces: list[dict[str, Any]]) -> None:
+    """Record the split insert's pieces (files, volume, size, fit) under
+    ``print.bed.insert.pieces``."""
+    report["print"]["bed"]["insert"]["pieces"] = pieces
 
 
 def finish_report(

@@ -17,7 +17,13 @@ from ductgen.atomic import OutputSet, check_free
 from ductgen.design import Design, build_design
 from ductgen.errors import SpecError
 from ductgen.pipeline.outputs import OUTPUTS, BuildContext
-from ductgen.report import finish_report, report_bytes, start_report
+from ductgen.report import (
+    add_insert_pieces,
+    finish_report,
+    insert_split_plan,
+    report_bytes,
+    start_report,
+)
 from ductgen.solids.kinds import SOLID_KINDS
 from ductgen.spec.load import spec_sha256
 from ductgen.spec.model import Spec
@@ -150,6 +156,26 @@ def build(
         for k in solid_kinds:
             for fmt, name in solids[k]["files"].items():
                 files[f"{k}_{fmt}"] = name
+        plan = insert_split_plan(report) if "insert" in solids else None
+        if plan is not None:  # the insert is larger than the bed: keyed pieces that fit
+            note("insert split")
+            t0 = time.perf_counter()
+            pieces = (worker or default_worker()).run(
+                "ductgen.solids.split:split_insert_job",
+                str(out.staging),
+                solids["insert"]["files"]["step"],
+                spec.name,
+                plan[0],
+                tuple(spec.print.bed),
+                plan[1],
+                quality,
+            )
+            for k, piece in enumerate(pieces, start=1):
+                for fmt in ("step", "stl"):
+                    out.staged_path(piece[fmt])
+                    files[f"insert_part{k}_{fmt}"] = piece[fmt]
+            add_insert_pieces(report, pieces)
+            seconds["insert_split_s"] = time.perf_counter() - t0
         for k in kinds:
             if k in OUTPUTS:
                 note(k)

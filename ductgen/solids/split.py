@@ -30,6 +30,7 @@ __all__ = [
     "estimate_stations",
     "split_across_flow",
     "split_for_bed",
+    "split_insert_job",
 ]
 
 #: Orientation name → (axis index, sign) of the direction that points up on the printer.
@@ -226,3 +227,57 @@ def split_for_bed(
         n = len(xs) + 2
         xs = [bb.xmin + (bb.xmax - bb.xmin) * k / n for k in range(1, n)]
     raise GeometryError("split", f"{max_pieces} pieces across the flow do not fit the bed {bed}")
+
+
+def split_insert_job(
+    staging: str,
+    step_name: str,
+    prefix: str,
+    stations_x: list[float],
+    bed: tuple[float, float, float],
+    up: str,
+    quality: str,
+) -> list[dict[str, Any]]:
+    """Kernel-worker job: split the staged insert STEP across the flow at ``stations_x`` (or
+    at more stations, when a piece still does not fit) and stage each piece as
+    ``PREFIX-insert-partK.step/.stl``. Returns per piece: file names, volume (mm³, its
+    triangulation), size standing ``up`` (mm) and whether it fits ``bed``."""
+    from pathlib import Path
+
+    from ductgen.atomic import write_atomic
+    from ductgen.meshstats import mesh_stats
+    from ductgen.solids.cad_io import read_step, step_bytes, stl_bytes
+    from ductgen.solids.mesh import triangulate
+    from ductgen.tolerances import STL_QUALITY
+    from ductgen.worker import stage
+
+    stage("insert split")
+    whole = read_step(Path(staging) / step_name)
+    pieces = split_across_flow(whole, list(stations_x))
+    lin, ang = STL_QUALITY[quality]
+    meshes = [triangulate(p, lin, ang) for p in pieces]
+    if not all(bed_fit(v, bed, up).fits for v, _ in meshes):
+        _, pieces = split_for_bed(whole, triangulate(whole, 0.1, 0.3)[0], bed, up)
+        meshes = [triangulate(p, lin, ang) for p in pieces]
+    out = []
+    for k, (piece, (v, f)) in enumerate(zip(pieces, meshes, strict=True), start=1):
+        base = f"{prefix}-insert-part{k}"
+        tight, winding, volume, _ = mesh_stats(v, f)
+        if not (piece.isValid() and tight and winding):
+            from ductgen.errors import GeometryError
+
+            raise GeometryError("insert split", f"piece {k} is not one valid closed solid")
+        write_atomic(Path(staging) / f"{base}.step", step_bytes(piece, base))
+        write_atomic(Path(staging) / f"{base}.stl", stl_bytes(v, f, base))
+        fit = bed_fit(v, bed, up)
+        out.append(
+            {
+                "step": f"{base}.step",
+                "stl": f"{base}.stl",
+                "volume_mm3": volume,
+                "size_mm": list(fit.size_mm),
+                "up": up,
+                "fits": fit.fits,
+            }
+        )
+    return out
