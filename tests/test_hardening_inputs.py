@@ -339,3 +339,29 @@ def test_bonded_flange_with_no_holes_is_valid() -> None:
 
     data = tomllib.loads(GOOD + "[insert]\nholes = { count = 0 }\n")
     assert parse_spec(data).insert.holes.count == 0
+
+
+def test_speed_beyond_the_model_is_refused_before_any_kernel_work(tmp_path: Path, capsys) -> None:  # type: ignore[no-untyped-def]
+    # 400 m/s at sea level is Mach 1.18 (ISA speed of sound 340.3 m/s, ISO 2533): refused
+    # above Mach 0.6, with the fastest speed allowed (0.6 × 340.3 = 204 m/s)
+    spec = tmp_path / "fast.toml"
+    spec.write_text(GOOD + '[flow]\nspeed = "400 m/s"\nrun_length = "1 m"\n', encoding="utf-8")
+    before = sorted(p.name for p in tmp_path.iterdir())
+    code = main(["build", str(spec), "-o", str(tmp_path / "out")])
+    err = capsys.readouterr().err
+    assert code == 2
+    assert "flow.speed" in err and "<= 204 m/s" in err and "Traceback" not in err
+    assert sorted(p.name for p in tmp_path.iterdir()) == before
+
+
+def test_recovery_table_too_large_is_refused(tmp_path: Path, capsys) -> None:  # type: ignore[no-untyped-def]
+    table = tmp_path / "big.csv"
+    table.write_bytes(b"ivr,recovery\n" + b"0.5,0.5\n" * 200_000)  # 1.6 MB > 1 MB limit
+    spec = tmp_path / "t.toml"
+    spec.write_text(
+        GOOD + f'[flow]\nspeed = "40 m/s"\nrun_length = "1 m"\nrecovery = "{table}"\n',
+        encoding="utf-8",
+    )
+    code = main(["build", str(spec), "--only", "template", "-o", str(tmp_path / "out")])
+    err = capsys.readouterr().err
+    assert code == 2 and "flow.recovery" in err and "1,000,000" in err

@@ -153,5 +153,5 @@ def _print(out: dict) -> None:  # type: ignore[type-arg]
         con.print(b)
     for w in out["warnings"]:
         err_console.print(
-            f"[yellow]warning[/] {w['code']}: {w['message']}", markup=True, soft_wrap=True
+            f"warning {w['code']}: {w['message']}", soft_wrap=True
         )

@@ -159,6 +159,10 @@ def build_design(
     Raises:
         SpecError: a cross-field rule is broken (every fabrication problem at once).
     """
+    if spec.flow is not None:  # before any kernel work: a speed the model cannot estimate
+        from ductgen.flow.report import check_speed
+
+        check_speed(spec.flow)
     g = geometry_from_spec(spec, profile)
     fab = fabrication_from_spec(spec)
     duct = duct_shape(g)

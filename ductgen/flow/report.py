@@ -17,7 +17,7 @@ import math
 from dataclasses import dataclass
 from typing import Any, Literal
 
-from ductgen.errors import DesignWarning
+from ductgen.errors import DesignWarning, SpecError
 from ductgen.flow.atmosphere import Air, standard_air
 from ductgen.flow.boundary_layer import BoundaryLayer, turbulent_flat_plate
 from ductgen.flow.inputs import DuctShape
@@ -124,6 +124,30 @@ class FlowAnalysis:
     flow: FlowSpec
 
 
+#: Above this Mach number the one-dimensional incompressible model is no estimate at all
+#: (compressibility changes the dynamic pressure by > 9 % and the inlet's flow pattern): the
+#: speed is refused; between 0.3 and this the report warns.
+MACH_REFUSED = 0.6
+
+
+def check_speed(flow: FlowSpec) -> None:
+    """Refuse a design speed above :data:`MACH_REFUSED` at the flow section's air.
+
+    Raises:
+        SpecError: on ``flow.speed``, with the fastest speed allowed there (m/s).
+    """
+    air = standard_air(flow.altitude, flow.temperature_offset, flow.density)
+    mach = air.mach(flow.speed)
+    if mach > MACH_REFUSED:
+        top = flow.speed * MACH_REFUSED / mach
+        raise SpecError(
+            "flow.speed",
+            f"{flow.speed:.4g} m/s",
+            f"<= {top:.0f} m/s (Mach {MACH_REFUSED:g} in this air)",
+            f"Mach {mach:.2f}: the incompressible one-dimensional model is no estimate there",
+        )
+
+
 def build_system(
     flow: FlowSpec, shape: DuctShape, pick: Literal["method", "min", "max"] = "method"
 ) -> tuple[System, Air, BoundaryLayer]:
@@ -131,6 +155,7 @@ def build_system(
 
     ``pick`` chooses the transition's K: the spec's method, or the min/max over methods.
     """
+    check_speed(flow)
     air = standard_air(flow.altitude, flow.temperature_offset, flow.density)
     bl = turbulent_flat_plate(flow.speed, flow.run_length, air.kinematic_viscosity_m2_s)
     depth_m, throat_m2 = shape.throat_depth_mm * 1e-3, shape.throat_area_mm2 * 1e-6

@@ -12,7 +12,7 @@ import csv
 import math
 from pathlib import Path
 
-__all__ = ["find_recovery_table", "read_recovery_table"]
+__all__ = ["MAX_TABLE_BYTES", "MAX_TABLE_ROWS", "find_recovery_table", "read_recovery_table"]
 
 
 def find_recovery_table(text: str) -> Path:
@@ -34,6 +34,12 @@ def find_recovery_table(text: str) -> Path:
     )
 
 
+#: Largest recovery table read (bytes): a measured curve has tens of rows.
+MAX_TABLE_BYTES = 1_000_000
+#: Most rows in a recovery table.
+MAX_TABLE_ROWS = 10_000
+
+
 def read_recovery_table(path: str | Path) -> tuple[tuple[float, ...], tuple[float, ...]]:
     """Read and validate a recovery table; returns (IVR values, recovery values).
 
@@ -42,7 +48,19 @@ def read_recovery_table(path: str | Path) -> tuple[tuple[float, ...], tuple[floa
     """
     path = Path(path)
     try:
-        text = path.read_text(encoding="utf-8")
+        if not path.is_file():
+            raise ValueError(f"recovery table {path} is not a regular file")
+        size = path.stat().st_size
+        if size > MAX_TABLE_BYTES:
+            raise ValueError(
+                f"recovery table {path.name} is {size:,} bytes; at most {MAX_TABLE_BYTES:,}"
+            )
+        raw = path.read_bytes()
+        if b"\x00" in raw:
+            raise ValueError(f"recovery table {path.name} is binary or UTF-16, not UTF-8 text")
+        text = raw.decode("utf-8-sig")
+    except UnicodeDecodeError as err:
+        raise ValueError(f"recovery table {path.name}: byte {err.start} is not UTF-8") from None
     except OSError as err:
         raise ValueError(f"cannot read recovery table {path}: {err.strerror or err}") from err
     rows: list[tuple[float, float]] = []
@@ -71,6 +89,8 @@ def read_recovery_table(path: str | Path) -> tuple[tuple[float, ...], tuple[floa
                 f"{path.name} line {n}: IVR must increase strictly ({a:g} after {rows[-1][0]:g})"
             )
         rows.append((a, b))
+        if len(rows) > MAX_TABLE_ROWS:
+            raise ValueError(f"{path.name}: more than {MAX_TABLE_ROWS:,} rows")
     if len(rows) < 2:
         raise ValueError(f"{path.name}: a recovery table needs at least two rows")
     return tuple(r[0] for r in rows), tuple(r[1] for r in rows)
