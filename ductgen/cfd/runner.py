@@ -1,0 +1,263 @@
+"""Running OpenFOAM: finding it, meshing, solving to a flow-rate plateau (serial or MPI).
+
+Debian's ``openfoam`` package puts the tools on PATH but its bashrc is broken: setting
+``WM_PROJECT_DIR=/usr/share/openfoam`` is all the tools need, so that is what this module
+sets when it is missing. Every tool runs under ``nice`` with its output in ``log.<tool>``
+inside the case. The solve stops when the duct-outlet flow stays within
+:data:`PLATEAU_TOL` (relative) for :data:`PLATEAU_WINDOW` iterations, by switching the
+case's ``stopAt`` to ``writeNow`` (OpenFOAM re-reads controlDict), or at the iteration cap.
+"""
+
+from __future__ import annotations
+
+import os
+import re
+import shutil
+import subprocess
+import time
+from collections.abc import Callable
+from dataclasses import dataclass
+from pathlib import Path
+
+from ductgen.errors import DuctgenError
+
+__all__ = [
+    "INSTALL_HINT",
+    "PLATEAU_TOL",
+    "PLATEAU_WINDOW",
+    "CfdError",
+    "MeshStats",
+    "OpenFoamMissing",
+    "SolveStats",
+    "find_openfoam",
+    "make_mesh",
+    "openfoam_env",
+    "plateau",
+    "solve",
+]
+
+#: How to install OpenFOAM where ductgen was tested (Debian/Ubuntu).
+INSTALL_HINT = "install it with `apt-get install openfoam` (Debian/Ubuntu; OpenFOAM v1912)"
+#: Relative spread of the duct-outlet flow over the window that counts as a plateau.
+PLATEAU_TOL = 5e-4
+#: Iterations the flow must stay within the tolerance.
+PLATEAU_WINDOW = 50
+#: No plateau is declared before this many iterations (start-up transients).
+MIN_ITERATIONS = 100
+_TOOLS = ("blockMesh", "snappyHexMesh", "simpleFoam", "checkMesh", "topoSet")
+
+
+class OpenFoamMissing(DuctgenError):
+    """OpenFOAM is not installed (bad environment for the command: exit 2)."""
+
+    exit_code = 2
+
+
+class CfdError(DuctgenError):
+    """An OpenFOAM tool failed; the message names it and its log."""
+
+
+def find_openfoam() -> str | None:
+    """Path of ``simpleFoam`` when every tool the case needs is on PATH, else None."""
+    paths = [shutil.which(t) for t in _TOOLS]
+    return paths[2] if all(paths) else None
+
+
+def openfoam_env(n_procs: int = 1) -> dict[str, str]:
+    """The environment for OpenFOAM tools (``WM_PROJECT_DIR`` set; MPI may run as root)."""
+    env = dict(os.environ)
+    if not env.get("WM_PROJECT_DIR"):
+        for cand in ("/usr/share/openfoam", "/usr/lib/openfoam/openfoam"):
+            if Path(cand, "etc", "controlDict").is_file():
+                env["WM_PROJECT_DIR"] = cand
+                break
+    env.setdefault("OMPI_ALLOW_RUN_AS_ROOT", "1")
+    env.setdefault("OMPI_ALLOW_RUN_AS_ROOT_CONFIRM", "1")
+    env.setdefault("OMPI_MCA_rmaps_base_oversubscribe", "1")
+    env["FOAM_SIGFPE"] = "true"
+    return env
+
+
+def _require() -> None:
+    if find_openfoam() is None:
+        raise OpenFoamMissing(
+            "OpenFOAM was not found (simpleFoam, blockMesh, snappyHexMesh, checkMesh and "
+            f"topoSet must be on PATH): {INSTALL_HINT}, or write the case only with "
+            "--write-only and run it elsewhere"
+        )
+
+
+def _tail(path: Path, n: int = 12) -> str:
+    try:
+        lines = path.read_text(errors="replace").splitlines()
+    except OSError:
+        return ""
+    return "\n".join(lines[-n:])
+
+
+def _cmd(case: Path, args: list[str], n_procs: int) -> list[str]:
+    base = ["nice", "-n", "10"]
+    if n_procs > 1 and args[0] not in ("decomposePar", "reconstructPar", "blockMesh"):
+        mpirun = ["mpirun", "-np", str(n_procs)]
+        if os.geteuid() == 0:
+            mpirun.append("--allow-run-as-root")
+        return [*base, *mpirun, *args, "-parallel", "-case", str(case)]
+    return [*base, *args, "-case", str(case)]
+
+
+def run_tool(
+    case: Path, args: list[str], n_procs: int = 1, log: str | None = None
+) -> subprocess.Popen[bytes]:
+    """Start one tool with its output in ``log.<tool>``; the caller waits."""
+    name = log or args[0]
+    out = (case / f"log.{name}").open("wb")
+    return subprocess.Popen(
+        _cmd(case, args, n_procs), stdout=out, stderr=subprocess.STDOUT, env=openfoam_env()
+    )
+
+
+def _wait(proc: subprocess.Popen[bytes], case: Path, name: str) -> None:
+    try:
+        rc = proc.wait()
+    except BaseException:
+        proc.terminate()
+        try:
+            proc.wait(10)
+        except subprocess.TimeoutExpired:
+            proc.kill()
+        raise
+    if rc != 0:
+        raise CfdError(
+            f"{name} failed (exit {rc}); see {case / f'log.{name}'}:\n{_tail(case / f'log.{name}')}"
+        )
+
+
+@dataclass(frozen=True)
+class MeshStats:
+    """checkMesh's verdict on the mesh: cells, whether it passed, the worst values."""
+
+    cells: int
+    ok: bool
+    failed_checks: int
+    max_non_orthogonality: float | None
+    max_skewness: float | None
+    layer_coverage: dict[str, float]
+
+
+def _check_mesh(case: Path) -> MeshStats:
+    text = (case / "log.checkMesh").read_text(errors="replace")
+    cells = int(re.search(r"^\s*cells:\s+(\d+)", text, re.M).group(1))  # type: ignore[union-attr]
+    failed = re.search(r"Failed (\d+) mesh checks", text)
+    non = re.search(r"Mesh non-orthogonality Max: ([\d.eE+-]+)", text)
+    skew = re.search(r"Max skewness = ([\d.eE+-]+)", text)
+    cover: dict[str, float] = {}
+    snappy = case / "log.snappyHexMesh"
+    if snappy.is_file():
+        for m in re.finditer(
+            r"^(duct_\w+)\s+\d+\s+([\d.]+)\s+[\d.eE+-]+\s+([\d.]+)", snappy.read_text(), re.M
+        ):
+            cover[m.group(1)] = float(m.group(3)) / 100.0
+    return MeshStats(
+        cells=cells,
+        ok="Mesh OK." in text and failed is None,
+        failed_checks=int(failed.group(1)) if failed else 0,
+        max_non_orthogonality=float(non.group(1)) if non else None,
+        max_skewness=float(skew.group(1)) if skew else None,
+        layer_coverage=cover,
+    )
+
+
+def make_mesh(case: Path, progress: Callable[[str], None] | None = None) -> MeshStats:
+    """blockMesh, surfaceFeatureExtract, snappyHexMesh, topoSet, checkMesh (serial)."""
+    _require()
+    note = progress or (lambda _s: None)
+    for args in (
+        ["blockMesh"],
+        ["surfaceFeatureExtract"],
+        ["snappyHexMesh", "-overwrite"],
+        ["topoSet"],
+        ["checkMesh"],
+    ):
+        note(args[0])
+        _wait(run_tool(case, args), case, args[0])
+    return _check_mesh(case)
+
+
+def plateau(values: list[float], window: int = PLATEAU_WINDOW, tol: float = PLATEAU_TOL) -> bool:
+    """True when the last ``window`` values spread by less than ``tol`` of their mean."""
+    if len(values) < max(window, MIN_ITERATIONS):
+        return False
+    tail = values[-window:]
+    mean = sum(tail) / len(tail)
+    return mean > 0.0 and (max(tail) - min(tail)) / mean < tol
+
+
+def _read_flow(case: Path) -> list[float]:
+    path = case / "postProcessing/outletFlow/0/surfaceFieldValue.dat"
+    try:
+        text = path.read_text()
+    except OSError:
+        return []
+    out = []
+    for line in text.splitlines():
+        if line and not line.startswith("#"):
+            parts = line.split()
+            if len(parts) >= 2:
+                try:
+                    out.append(float(parts[1]))
+                except ValueError:
+                    continue
+    return out
+
+
+def _stop_now(case: Path) -> None:
+    path = case / "system/controlDict"
+    text = re.sub(r"^stopAt\s+\w+;", "stopAt          writeNow;", path.read_text(), flags=re.M)
+    path.write_text(text)
+
+
+@dataclass(frozen=True)
+class SolveStats:
+    """How the solve ended: iterations run, plateau reached, the outlet-flow history (m³/s)."""
+
+    iterations: int
+    plateau: bool
+    flow_history: list[float]
+    seconds: float
+
+
+def solve(
+    case: Path,
+    n_procs: int = 1,
+    max_iterations: int = 600,
+    progress: Callable[[int, int], None] | None = None,
+) -> SolveStats:
+    """Run simpleFoam (decomposed on ``n_procs`` ranks when > 1) until the plateau or the cap;
+    ``progress(iteration, cap)`` is called as the solve advances."""
+    _require()
+    t0 = time.perf_counter()
+    if n_procs > 1:
+        _wait(run_tool(case, ["decomposePar", "-force"]), case, "decomposePar")
+    proc = run_tool(case, ["simpleFoam"], n_procs)
+    stopped = False
+    flows: list[float] = []
+    try:
+        while proc.poll() is None:
+            time.sleep(1.0)
+            flows = _read_flow(case)
+            if progress:
+                progress(len(flows), max_iterations)
+            if not stopped and plateau(flows):
+                _stop_now(case)
+                stopped = True
+    finally:
+        _wait(proc, case, "simpleFoam")
+    flows = _read_flow(case)
+    if n_procs > 1:
+        _wait(run_tool(case, ["reconstructPar", "-latestTime"]), case, "reconstructPar")
+    return SolveStats(
+        iterations=len(flows),
+        plateau=plateau(flows[:-1] if stopped else flows),
+        flow_history=flows,
+        seconds=time.perf_counter() - t0,
+    )
