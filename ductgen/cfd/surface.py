@@ -100,9 +100,11 @@ def wetted_surface(
     o_area = union.area_faces[outlet]
     o_centre = (centre[outlet] * o_area[:, None]).sum(axis=0) / o_area.sum()
     lo, hi = cutter.bounds * 1e-3
+    floor = tri[at_skin].copy()
+    floor[:, :, 2] = 0.0  # exactly in the skin plane, a grid plane of the background mesh
     return WettedSurface(
         triangles={
-            "floor": tri[at_skin] * 1e-3,
+            "floor": floor * 1e-3,
             "cavity": tri[cavity] * 1e-3,
             "outlet": tri[outlet] * 1e-3,
         },
