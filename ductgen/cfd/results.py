@@ -56,7 +56,7 @@ def total_volume_m3(case: Path) -> float:
     m = re.search(r"Total volume = ([\d.eE+-]+)", (case / "log.checkMesh").read_text())
     if m is None:
         raise ValueError("checkMesh reported no total volume")
-    return float(m.group(1))
+    return float(m.group(1).rstrip("."))  # the sentence's full stop follows the number
 
 
 def case_numbers(
