@@ -159,3 +159,31 @@ def test_bad_input_exits_2(tmp_path: Path, capsys: pytest.CaptureFixture[str], m
     assert "apt-get install openfoam" in err and "--write-only" in err
     assert not (tmp_path / "d").exists()
     assert not (tmp_path / "a").exists() and not (tmp_path / "b").exists()
+
+
+def test_plateau_rule() -> None:
+    from ductgen.cfd.runner import MIN_ITERATIONS, PLATEAU_TOL, PLATEAU_WINDOW, plateau
+
+    # derived: a flow settling as 1 + 0.5 exp(-i/20) is flat to the tolerance once
+    # 0.5 exp(-i/20) (1 - exp(-window/20)) < tol, i.e. after ~135 iterations
+    hist = [1.0 + 0.5 * 2.718281828 ** (-i / 20.0) for i in range(400)]
+    first = next(n for n in range(1, 401) if plateau(hist[:n]))
+    assert max(MIN_ITERATIONS, PLATEAU_WINDOW) <= first < 200
+    tail = hist[first - PLATEAU_WINDOW : first]
+    assert (max(tail) - min(tail)) / (sum(tail) / len(tail)) < PLATEAU_TOL
+    assert not plateau([1.0 + 0.01 * (-1) ** i for i in range(400)])  # oscillating by 2 %
+
+
+def test_sweep_cfd_refuses_bad_input(tmp_path: Path, capsys, monkeypatch) -> None:
+    from ductgen.cli import main
+
+    club = next(p for p in SAMPLES if p.stem == "club-racer-brake")
+    args = ["sweep", str(club), "--vary", "throat.width=100,110", "-o", str(tmp_path / "s")]
+    assert main([*args, "--cfd", "--only", "template"]) == 2
+    assert "cutter" in capsys.readouterr().err
+    empty = tmp_path / "bin"
+    empty.mkdir()
+    monkeypatch.setenv("PATH", str(empty))
+    assert main([*args, "--cfd", "--only", "cutter"]) == 2
+    assert "apt-get install openfoam" in capsys.readouterr().err
+    assert not (tmp_path / "s").exists()
