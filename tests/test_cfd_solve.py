@@ -42,6 +42,7 @@ def test_coarse_case_end_to_end(tmp_path: Path) -> None:
     assert abs(cfd["one_d"]["flow_difference"]) < 0.30
     lo, hi = cfd["y_plus_range"]
     assert 0.0 < lo < hi
+    assert "error" not in cfd["pictures"], cfd["pictures"]
     for pic in cfd["pictures"].values():
         assert (out / pic).read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
     assert not (out / "cfd-coarse").exists()  # the case is removed without --keep-case

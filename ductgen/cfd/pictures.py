@@ -31,7 +31,8 @@ def _read(case: Path) -> tuple[Any, Any]:
     reader.cell_to_point_creation = True
     data = reader.read()
     bnd = data["boundary"]
-    walls = [bnd[n] for n in ("duct_cavity", "duct_floor") if n in bnd]
+    names = list(bnd.keys())  # a MultiBlock's `in` tests blocks, not names
+    walls = [bnd[n] for n in ("duct_cavity", "duct_floor") if n in names]
     return data["internalMesh"], pv.merge(walls)
 
 
@@ -99,12 +100,16 @@ def render(case: Path, out_dir: Path, name: str, p_inf: float, speed: float) -> 
         lines.point_data["speed"] = np.linalg.norm(lines.point_data["U"], axis=1) / speed
         pl.add_mesh(
             lines.tube(radius=0.002 * length), scalars="speed", cmap="plasma", clim=[0.0, 1.1],
-            scalar_bar_args={"title": "|U| / V_inf", "color": "black"},
+            scalar_bar_args={
+                "title": "|U| / V_inf", "color": "black", "vertical": True,
+                "position_x": 0.88, "position_y": 0.2, "height": 0.6,
+            },
         )  # fmt: skip
     pl.add_text(f"{name}: streamlines from the boundary layer ahead of the ramp",
                 font_size=10, color="black")  # fmt: skip
     c = np.array([(b[0] + b[1]) / 2, 0.0, -0.3 * depth])
     pl.camera_position = [tuple(c + length * np.array([1.0, -0.55, 0.85])), tuple(c), (0, 0, 1)]
+    pl.camera.zoom(0.85)
     files["ramp"] = f"{name}-cfd-ramp.png"
     pl.screenshot(str(out_dir / files["ramp"]))
     pl.close()
