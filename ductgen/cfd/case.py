@@ -14,12 +14,15 @@ from __future__ import annotations
 
 import math
 import shutil
+from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
+from typing import Any
 
 from ductgen.cfd import templates as T
 from ductgen.cfd.fields import InletProfile, field_files, inlet_profile
 from ductgen.cfd.surface import WettedSurface
+from ductgen.geometry.inlet import InletGeometry
 
 __all__ = [
     "MAX_ITERATIONS",
@@ -77,10 +80,10 @@ class CaseSetup:
 def case_setup(
     name: str,
     mesh: str,
-    geometry,  # InletGeometry (mm)  # type: ignore[no-untyped-def]
+    geometry: InletGeometry,
     surface: WettedSurface,
-    flow_report: dict,  # type: ignore[type-arg]
-    downstream_pa,  # Callable[[float], float]: Q m³/s → Pa the system behind the outlet needs  # type: ignore[no-untyped-def]
+    flow_report: dict[str, Any],
+    downstream_pa: Callable[[float], float],
 ) -> CaseSetup:
     """The case numbers of one design (``geometry`` in mm, ``flow_report`` the 1-D model's
     ``flow`` section, ``downstream_pa(Q)`` the static pressure above ambient the duct system

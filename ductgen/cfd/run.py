@@ -23,8 +23,8 @@ from ductgen.cfd.results import case_numbers, total_volume_m3
 from ductgen.cfd.runner import (
     PLATEAU_TOL,
     PLATEAU_WINDOW,
-    _require,
     make_mesh,
+    require_openfoam,
     solve,
 )
 from ductgen.cfd.surface import wetted_surface
@@ -57,7 +57,7 @@ def check_inputs(spec: Spec, mesh: str, n_procs: int, write_only: bool) -> None:
     if n_procs < 1:
         raise SpecError("--np", n_procs, ">= 1", "number of MPI ranks for the solver")
     if not write_only:
-        _require()
+        require_openfoam()
 
 
 def _downstream(spec: Spec, design: Any) -> Callable[[float], float]:

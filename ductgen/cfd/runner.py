@@ -14,6 +14,7 @@ import os
 import re
 import shutil
 import subprocess
+import sys
 import time
 from collections.abc import Callable
 from dataclasses import dataclass
@@ -33,6 +34,7 @@ __all__ = [
     "make_mesh",
     "openfoam_env",
     "plateau",
+    "require_openfoam",
     "solve",
 ]
 
@@ -78,7 +80,8 @@ def openfoam_env(n_procs: int = 1) -> dict[str, str]:
     return env
 
 
-def _require() -> None:
+def require_openfoam() -> None:
+    """Raise :class:`OpenFoamMissing` (exit 2, with the install command) without the tools."""
     if find_openfoam() is None:
         raise OpenFoamMissing(
             "OpenFOAM was not found (simpleFoam, blockMesh, snappyHexMesh, checkMesh and "
@@ -105,6 +108,16 @@ def _cmd(case: Path, args: list[str], n_procs: int) -> list[str]:
     return [*base, *args, "-case", str(case)]
 
 
+def _die_with_parent() -> None:  # pragma: no cover - runs in the child before exec
+    """Linux: the tool gets SIGTERM when ductgen dies, however it dies (no orphan solver)."""
+    import contextlib
+    import ctypes
+    import signal
+
+    with contextlib.suppress(OSError, AttributeError):
+        ctypes.CDLL(None).prctl(1, int(signal.SIGTERM), 0, 0, 0)  # PR_SET_PDEATHSIG = 1
+
+
 def run_tool(
     case: Path, args: list[str], n_procs: int = 1, log: str | None = None
 ) -> subprocess.Popen[bytes]:
@@ -112,7 +125,11 @@ def run_tool(
     name = log or args[0]
     out = (case / f"log.{name}").open("wb")
     return subprocess.Popen(
-        _cmd(case, args, n_procs), stdout=out, stderr=subprocess.STDOUT, env=openfoam_env()
+        _cmd(case, args, n_procs),
+        stdout=out,
+        stderr=subprocess.STDOUT,
+        env=openfoam_env(),
+        preexec_fn=_die_with_parent if sys.platform.startswith("linux") else None,
     )
 
 
@@ -169,7 +186,7 @@ def _check_mesh(case: Path) -> MeshStats:
 
 def make_mesh(case: Path, progress: Callable[[str], None] | None = None) -> MeshStats:
     """blockMesh, surfaceFeatureExtract, snappyHexMesh, topoSet, checkMesh (serial)."""
-    _require()
+    require_openfoam()
     note = progress or (lambda _s: None)
     for args in (
         ["blockMesh"],
@@ -234,7 +251,7 @@ def solve(
 ) -> SolveStats:
     """Run simpleFoam (decomposed on ``n_procs`` ranks when > 1) until the plateau or the cap;
     ``progress(iteration, cap)`` is called as the solve advances."""
-    _require()
+    require_openfoam()
     t0 = time.perf_counter()
     if n_procs > 1:
         _wait(run_tool(case, ["decomposePar", "-force"]), case, "decomposePar")

@@ -17,13 +17,9 @@ def header(cls: str, obj: str, location: str = "") -> str:
     """The ``FoamFile`` header of one dictionary or field file."""
     loc = f'    location    "{location}";\n' if location else ""
     return (
-        (
-            f"// written by ductgen for {FLAVOUR}; lengths in metres, pressure kinematic (m2/s2)\n"
-            "FoamFile\n{{\n    version     2.0;\n    format      ascii;\n"
-            f"    class       {cls};\n{loc}    object      {obj};\n}}}}\n\n"
-        )
-        .replace("{{", "{")
-        .replace("}}", "}")
+        f"// written by ductgen for {FLAVOUR}; lengths in metres, pressure kinematic (m2/s2)\n"
+        "FoamFile\n{\n    version     2.0;\n    format      ascii;\n"
+        f"    class       {cls};\n{loc}    object      {obj};\n}}\n\n"
     )
 
 
