@@ -1,4 +1,8 @@
-"""`ductgen cfd`: an OpenFOAM cross-check of the airflow estimate."""
+"""`ductgen cfd`: an OpenFOAM cross-check of the airflow estimate.
+
+A plain function (registered by the CLI's command table); it imports nothing from the
+other CLI modules, so it adds no import cycle whichever way the commands are registered.
+"""
 
 from __future__ import annotations
 
@@ -6,13 +10,14 @@ from pathlib import Path
 from typing import Annotated
 
 import typer
-
-from ductgen.cli.app import app, err_console
+from rich.console import Console
 
 __all__ = ["cfd_command"]
 
+#: stderr console (user text is never read as markup or emoji codes).
+_err = Console(stderr=True, highlight=False, emoji=False, markup=False)
 
-@app.command("cfd")
+
 def cfd_command(
     spec: Annotated[Path, typer.Argument(help="spec file with a [flow] section")],
     out: Annotated[
@@ -36,18 +41,20 @@ def cfd_command(
     from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
 
     from ductgen.cfd.run import check_inputs, run_cfd
-    from ductgen.cli.app import out_folder
+    from ductgen.errors import SpecError
     from ductgen.spec import load_spec
 
     s = load_spec(spec)
     check_inputs(s, mesh, n_procs, write_only)
-    out_dir = out_folder(out, Path.cwd() / f"{s.name}-cfd")
+    if out is not None and not out.strip():
+        raise SpecError("-o/--out", out, "a folder path", "the path is empty")
+    out_dir = Path(out) if out is not None else Path.cwd() / f"{s.name}-cfd"
     with Progress(
         TextColumn("{task.description}"),
         BarColumn(),
         TextColumn("{task.completed}/{task.total} it"),
         TimeElapsedColumn(),
-        console=err_console,
+        console=_err,
         transient=True,
         disable=quiet,
     ) as bar:
