@@ -73,6 +73,9 @@ def case_numbers(
     q_inf = 0.5 * speed_m_s**2
     yplus = _yplus(case)
     walls = [v for k, v in yplus.items() if k.startswith("duct_")]
+    p0_throat_pa = density_kg_m3 * (flow_avg["weightedAverage(p0f)"] - p_inf)
+    p0_outlet_pa = density_kg_m3 * (outlet["weightedAverage(p0)"] - p_inf)
+    q_throat_pa = 0.5 * density_kg_m3 * (q_out / throat_area_m2) ** 2
     return {
         "volume_flow_m3_s": q_out,
         "throat_volume_flow_m3_s": q_throat,
@@ -81,7 +84,10 @@ def case_numbers(
         "inlet_velocity_ratio": q_out / (throat_area_m2 * speed_m_s),
         "ram_recovery_area_avg": (area["areaAverage(p0f)"] - p_inf) / q_inf,
         "ram_recovery_flow_avg": (flow_avg["weightedAverage(p0f)"] - p_inf) / q_inf,
-        "outlet_total_pressure_pa": density_kg_m3 * (outlet["weightedAverage(p0)"] - p_inf),
+        "outlet_total_pressure_pa": p0_outlet_pa,
+        # throat plane to duct outlet, flow-averaged: the internal transition's loss
+        "transition_loss_pa": p0_throat_pa - p0_outlet_pa,
+        "transition_k": (p0_throat_pa - p0_outlet_pa) / q_throat_pa,
         "outlet_static_pressure_pa": density_kg_m3 * (outlet["weightedAverage(p)"] - p_inf),
         "free_stream_static_pa": density_kg_m3 * p_inf,
         "free_stream_speed_m_s": float(sum(c * c for c in u_inf) ** 0.5),

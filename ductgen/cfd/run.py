@@ -144,6 +144,10 @@ def _compare(cfd: dict[str, Any], flow: dict[str, Any]) -> dict[str, Any]:
         "ram_recovery": r1,
         "inlet_velocity_ratio": flow.get("inlet_velocity_ratio"),
     }
+    t = flow.get("transition_loss") or {}
+    if "k" in t:
+        out["transition_k"] = t["k"]
+        out["transition_k_by_method"] = t.get("k_by_method")
     q, r = cfd.get("volume_flow_m3_s"), cfd.get("ram_recovery_flow_avg")
     if q is not None and q1:
         out["flow_difference"] = (q - q1) / q1
