@@ -38,6 +38,8 @@ def test_coarse_case_end_to_end(tmp_path: Path) -> None:
     # flow-averaged total pressure is at least the area average where fast air carries the
     # higher total pressure (derived: positive correlation of p0 and U in a boundary layer)
     assert r["ram_recovery_flow_avg"] >= r["ram_recovery_area_avg"] - 0.02
+    # a passive duct only loses total pressure (derived: energy equation, no work done)
+    assert r["transition_loss_pa"] > 0.0 and r["transition_k"] > 0.0
     # within 30 % of the 1-D estimate (the acceptance band; common practice, no source)
     assert abs(cfd["one_d"]["flow_difference"]) < 0.30
     lo, hi = cfd["y_plus_range"]
