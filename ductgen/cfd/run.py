@@ -21,6 +21,7 @@ from ductgen.cfd.case import MESH_LEVELS, REFINEMENT_RATIO, case_setup, write_ca
 from ductgen.cfd.gci import gci, representative_size
 from ductgen.cfd.results import case_numbers, total_volume_m3
 from ductgen.cfd.runner import (
+    PLATEAU_SPREAD,
     PLATEAU_TOL,
     PLATEAU_WINDOW,
     make_mesh,
@@ -132,6 +133,7 @@ def _one_mesh(
         "layer_coverage": stats.layer_coverage,
         "iterations": run.iterations,
         "plateau": run.plateau,
+        "flow_iterative_spread": run.flow_spread,
         "solve_s": run.seconds,
         **nums,
     }
@@ -214,8 +216,9 @@ def cfd_for_build(
         "solver": f"{FLAVOUR}: simpleFoam, k-omega SST, snappyHexMesh",
         "mesh": mesh,
         "refinement_ratio": REFINEMENT_RATIO,
-        "plateau_rule": f"duct-outlet flow within {PLATEAU_TOL:g} (relative) over "
-        f"{PLATEAU_WINDOW} iterations",
+        "plateau_rule": f"mean duct-outlet flow of the last {PLATEAU_WINDOW} iterations "
+        f"within {PLATEAU_TOL:g} (relative) of the {PLATEAU_WINDOW} before, spread "
+        f"< {PLATEAU_SPREAD:g}",
         "outlet_condition": "fanPressure: static pressure of the duct system behind the "
         "outlet (1-D model's losses without the internal transition), so one solve finds "
         "the operating point",
