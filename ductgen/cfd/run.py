@@ -170,7 +170,11 @@ def _study(levels: list[dict[str, Any]]) -> dict[str, Any]:
         "representative_cell_m": [lv["representative_cell_m"] for lv in (fine, medium, coarse)],
     }
     for key in STUDY_KEYS:
-        out[key] = gci([fine[key], medium[key], coarse[key]], h).to_dict()
+        vals = [fine[key], medium[key], coarse[key]]
+        out[key] = gci(vals, h).to_dict()
+        # with oscillatory convergence the GCI is only indicative; the spread of the three
+        # meshes is the plainer statement of the mesh uncertainty
+        out[key]["range_rel"] = (max(vals) - min(vals)) / abs(fine[key]) if fine[key] else None
     return out
 
 
