@@ -37,8 +37,8 @@ def main() -> None:
     rows = []
     head = (
         f"{'sample':22s}{'cells':>8s}{'it':>6s}{'Q cfd L/s':>11s}{'Q ext L/s':>11s}"
-        f"{'GCI %':>7s}{'Q 1-D L/s':>11s}{'dQ %':>7s}{'eta cfd':>9s}{'eta 1-D':>9s}{'IVR':>7s}"
-        f"{'min':>6s}"
+        f"{'GCI %':>7s}{'range %':>8s}{'Q 1-D L/s':>11s}{'dQ %':>7s}{'eta cfd':>9s}"
+        f"{'eta 1-D':>9s}{'IVR':>7s}{'min':>6s}"
     )
     print(head, flush=True)
     for path in paths:
@@ -75,6 +75,7 @@ def main() -> None:
             f"{r['volume_flow_m3_s'] * 1e3:>11.2f}"
             f"{(ext * 1e3 if ext is not None else float('nan')):>11.2f}"
             f"{(g * 100 if g is not None else float('nan')):>7.1f}"
+            f"{(study.get('range_rel') or float('nan')) * 100:>8.1f}"
             f"{one['volume_flow_m3_s'] * 1e3:>11.2f}"
             f"{one.get('flow_difference', float('nan')) * 100:>+7.1f}"
             f"{r['ram_recovery_flow_avg']:>9.3f}{one['ram_recovery']:>9.3f}"
