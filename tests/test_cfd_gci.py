@@ -54,3 +54,25 @@ def test_oscillatory_and_degenerate() -> None:
     with pytest.raises(ValueError):
         gci((1.0, 1.1, 1.2), (1.4, 1.0, 1.96))
     assert math.isclose(representative_size(8.0, 1), 2.0)
+
+
+def test_study_states_gci_or_range() -> None:
+    from ductgen.cfd.run import STUDY_KEYS, _study
+
+    def levels(values: list[float]) -> list[dict]:
+        hs = (0.014, 0.01, 0.014 / 1.96)  # coarse, medium, fine: ratio 1.4 per step
+        return [
+            {"base_cell_m": h, "representative_cell_m": h / 2, **dict.fromkeys(STUDY_KEYS, v)}
+            for h, v in zip(hs, values, strict=True)
+        ]
+
+    # derived: phi = 0.7 + 40 h^2 exactly (order 2): the GCI is the stated uncertainty
+    mono = _study(levels([0.7 + 40 * h * h for h in (0.014, 0.01, 0.014 / 1.96)]))
+    g = mono["volume_flow_m3_s"]
+    assert g["uncertainty_basis"].startswith("GCI")
+    assert g["uncertainty_rel"] == g["gci_fine"] and g["extrapolated"] == pytest.approx(0.7)
+    # oscillating values (coarse 91.3, medium 90.2, fine 92.0 as measured on a sample):
+    # the range of the three meshes relative to the fine value, (92.0 - 90.2) / 92.0
+    osc = _study(levels([91.3, 90.2, 92.0]))["volume_flow_m3_s"]
+    assert osc["uncertainty_basis"] == "range of three meshes"
+    assert osc["uncertainty_rel"] == pytest.approx(1.8 / 92.0)

@@ -103,11 +103,11 @@ def _summary(section: dict, out_dir: Path) -> None:  # type: ignore[type-arg]
     if st:
         for key, label in (("volume_flow_m3_s", "flow"), ("ram_recovery_flow_avg", "recovery")):
             g = st[key]
-            if g["gci_fine"] is None:
-                con.print(f"  {label}: {g['note']}")
-            else:
-                con.print(
-                    f"  {label}: extrapolated {g['extrapolated']:.4g}, GCI(fine) "
-                    f"{g['gci_fine'] * 100:.1f} %, apparent order {g['order']:.2f}"
-                )
+            con.print(
+                f"  {label}: mesh uncertainty ±{(g['uncertainty_rel'] or 0.0) * 100:.1f} % "
+                f"({g['uncertainty_basis']}"
+                + (f"; extrapolated {g['extrapolated']:.4g}" if g["extrapolated"] else "")
+                + (f"; {g['note']}" if g["note"] else "")
+                + ")"
+            )
     con.print(f"wrote cfd.json and report.json to {out_dir}")
