@@ -12,7 +12,7 @@ import sys
 
 import typer
 
-from ductgen.cli import build_cmd, check_cmd, design_cmd, size_cmd, sweep_cmd
+from ductgen.cli import build_cmd, cfd_cmd, check_cmd, design_cmd, size_cmd, sweep_cmd
 from ductgen.cli.common import err_console
 from ductgen.errors import DuctgenError
 
@@ -37,6 +37,7 @@ COMMANDS = {
     "size": size_cmd.size_command,
     "sweep": sweep_cmd.sweep_command,
     "design": design_cmd.design_command,
+    "cfd": cfd_cmd.cfd_command,
 }
 for _name, _command in COMMANDS.items():
     app.command(_name)(_command)

@@ -100,6 +100,9 @@ def sweep_command(
         int | None,
         typer.Option("--max-variants", help="refuse a sweep with more variants than this"),
     ] = None,
+    cfd: Annotated[
+        bool, typer.Option("--cfd", help="run the OpenFOAM check (coarse mesh) per variant")
+    ] = False,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="print nothing on success")] = False,
     as_json: Annotated[
         bool, typer.Option("--json", help="print comparison.json to stdout")
@@ -149,6 +152,7 @@ def sweep_command(
             baseline=baseline,
             scheduler=scheduler,
             progress=progress,
+            cfd="coarse" if cfd else None,
         )
     if as_json:
         typer.echo(result.files["json"].read_text(encoding="utf-8"))

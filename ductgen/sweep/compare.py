@@ -185,10 +185,17 @@ def comparison_rows(
     mm, deg, SI), the report metrics, warnings count, build seconds, solid comparison,
     status and error."""
     rows = []
+    has_cfd = any(r.report and "cfd" in r.report for r in results)
     for v, r in zip(variants, results, strict=True):
         row: dict[str, Any] = {"variant": v.id, **v.resolved}
         for m in METRICS:
             row[m] = metric_value(r.report, m)
+        if has_cfd:  # ductgen sweep --cfd: the CFD check beside the 1-D estimate
+            cfd = (r.report or {}).get("cfd") or {}
+            res, one_d = cfd.get("result") or {}, cfd.get("one_d") or {}
+            row["cfd_volume_flow_m3_s"] = res.get("volume_flow_m3_s")
+            row["cfd_ram_recovery"] = res.get("ram_recovery_flow_avg")
+            row["cfd_flow_difference"] = one_d.get("flow_difference")
         row["warnings_count"] = len(r.report.get("warnings", [])) if r.report else None
         row["build_s"] = r.build_s
         cmp = comparison.get(v.id, {})

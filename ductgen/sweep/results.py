@@ -27,6 +27,7 @@ class VariantTask:
     hash: str
     raw: dict[str, Any]
     design: Design | None = None
+    cfd: str | None = None  # mesh of the CFD check per variant (ductgen sweep --cfd)
 
 
 @dataclass
@@ -62,4 +63,3 @@ class SweepResult:
     @property
     def failed(self) -> list[VariantResult]:
         return [r for r in self.results if r.status == "failed"]
-

@@ -41,7 +41,6 @@ __all__ = [
 ]
 
 
-
 def default_jobs() -> int:
     """Worker processes by default: every core this process may use."""
     try:
@@ -83,6 +82,11 @@ def build_variant(task: VariantTask) -> VariantResult:
             quality=task.quality,
             design=task.design,
         )
+        if task.cfd:  # ductgen sweep --cfd
+            from ductgen.cfd import cfd_for_build
+
+            stl = next(p for p in result.files.values() if p.name.endswith("-cutter.stl"))
+            cfd_for_build(task.spec, result.design, result.report, stl, folder, mesh=task.cfd)
         seconds = time.perf_counter() - t0
         stamp = {
             "id": task.id,
@@ -203,6 +207,7 @@ def run_sweep(
     baseline: str | None = None,
     scheduler: str | None = None,
     progress: Callable[[VariantResult | None, int, int, int], None] | None = None,
+    cfd: str | None = None,
 ) -> SweepResult:
     """Build every variant of a sweep and write ``comparison.csv/json/html`` into ``out_dir``.
 
@@ -218,6 +223,7 @@ def run_sweep(
         scheduler: Dask scheduler address; runs the variants on that cluster.
         progress: called as ``progress(result, done, failed, total)`` once before the first
             build (result None) and after each variant.
+        cfd: run the OpenFOAM check (:mod:`ductgen.cfd`) on this mesh for every variant.
 
     Raises:
         SpecError: (before anything is built) for a bad ``--vary``, an invalid variant, an
@@ -247,6 +253,12 @@ def run_sweep(
         raise SpecError("-j", jobs, ">= 1", "number of worker processes")
     spec_path = Path(spec_path)
     variants = make_variants(spec_path, varies, zip_values)
+    if cfd is not None:  # ductgen sweep --cfd needs the cutter, a [flow] section, OpenFOAM
+        from ductgen.cfd import check_inputs
+
+        if "cutter" not in kinds:
+            raise SpecError("--only", ",".join(kinds), "a list with cutter", "--cfd meshes it")
+        check_inputs(variants[0].spec, cfd, 1, False)
     ids = [v.id for v in variants]
     base = baseline if baseline is not None else ids[0]
     if base not in ids:
@@ -265,9 +277,10 @@ def run_sweep(
             str(out / v.id),
             tuple(kinds),
             quality,
-            content_hash(v.spec, kinds, quality, version),
+            content_hash(v.spec, [*kinds, f"cfd-{cfd}"] if cfd else kinds, quality, version),
             v.raw,
             v.design,
+            cfd,
         )
         for v in variants
     ]

@@ -1,0 +1,216 @@
+"""The CFD case of one design at one mesh level: its numbers (:class:`CaseSetup`) and the
+files of a complete OpenFOAM case written from our templates (:func:`write_case`).
+
+Domain (metres, design coordinates: x downstream from the ramp start, z up, skin z = 0):
+a box above the skin reaching ``max(0.5 L, 2 δ)`` upstream, past the lip and the duct
+outlet downstream, ``W/2 + max(0.75 W, 2 δ)`` to each side and ``max(4 δ, W)`` up, plus a
+lower block down past the duct's deepest point. The background cell is ``D/2`` on the
+coarse mesh and shrinks by :data:`REFINEMENT_RATIO` per level, so every cell of the
+refined meshes (surface levels, layers in relative size) shrinks by the same ratio: the
+systematic refinement a grid convergence index needs.
+"""
+
+from __future__ import annotations
+
+import math
+import shutil
+from collections.abc import Callable
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from ductgen.cfd import templates as T
+from ductgen.cfd.fields import InletProfile, field_files, inlet_profile
+from ductgen.cfd.surface import WettedSurface
+from ductgen.geometry.inlet import InletGeometry
+
+__all__ = [
+    "MAX_ITERATIONS",
+    "MESH_LEVELS",
+    "REFINEMENT_RATIO",
+    "CaseSetup",
+    "case_setup",
+    "write_case",
+]
+
+#: Mesh name → refinement step (0 coarsest).
+MESH_LEVELS = {"coarse": 0, "medium": 1, "fine": 2}
+#: Ratio of cell sizes between successive meshes (Celik et al. 2008 ask for more than 1.3).
+REFINEMENT_RATIO = 1.4
+#: Background cells across the throat depth on the coarse mesh.
+COARSE_CELLS_PER_DEPTH = 2.0
+#: Iteration cap per mesh (the run stops earlier on a flow-rate plateau).
+MAX_ITERATIONS = {"coarse": 600, "medium": 900, "fine": 1200}
+#: Octree levels: floor, cavity and outlet surfaces, feature edges, box around the opening.
+LEVELS = {"floor": 1, "cavity": 2, "feature": 2, "box": 1}
+#: Prism layers on the walls.
+LAYERS = 3
+
+
+@dataclass(frozen=True)
+class CaseSetup:
+    """Everything the case files say (metres, m/s, kinematic pressure m²/s²)."""
+
+    name: str
+    mesh: str
+    base_cell_m: float
+    box: tuple[float, float, float, float, float, float]  # x0 x1 y0 y1 zb zt
+    cells: tuple[int, int, int, int]  # nx ny nz_lower nz_upper
+    opening: tuple[float, float, float, float, float, float]
+    location: tuple[float, float, float]
+    throat_x_m: float
+    throat_bounds: tuple[float, float, float, float, float, float]
+    throat_area_m2: float
+    probe: tuple[float, float, float]
+    speed_m_s: float
+    direction: tuple[float, float]
+    nu_m2_s: float
+    density_kg_m3: float
+    profile: InletProfile
+    system_curve: tuple[tuple[float, float], ...]  # (Q m³/s, p_outlet m²/s²)
+    outlet_area_m2: float
+    max_iterations: int
+
+    @property
+    def fluid_box_volume_m3(self) -> float:
+        x0, x1, y0, y1, _zb, zt = self.box
+        return (x1 - x0) * (y1 - y0) * zt
+
+
+def case_setup(
+    name: str,
+    mesh: str,
+    geometry: InletGeometry,
+    surface: WettedSurface,
+    flow_report: dict[str, Any],
+    downstream_pa: Callable[[float], float],
+) -> CaseSetup:
+    """The case numbers of one design (``geometry`` in mm, ``flow_report`` the 1-D model's
+    ``flow`` section, ``downstream_pa(Q)`` the static pressure above ambient the duct system
+    behind the outlet needs at flow Q, Pa)."""
+    g = geometry
+    mm = 1e-3
+    d, w, length = g.depth_mm * mm, g.width_mm * mm, g.length_mm * mm
+    delta = float(flow_report["boundary_layer_thickness_m"])
+    h = d / COARSE_CELLS_PER_DEPTH / REFINEMENT_RATIO ** MESH_LEVELS[mesh]
+    (_cx0, _cy0, cz0), (cx1, _cy1, _cz1) = surface.cavity_bounds_m
+    throat_end = g.throat_end_mm * mm
+    x0 = -max(0.5 * length, 2.0 * delta)
+    x1 = max(cx1 + 3.0 * h, throat_end + 0.5 * length)
+    half = w / 2.0 + max(0.75 * w, 2.0 * delta)
+    zt = max(4.0 * delta, w)
+    nx = math.ceil((x1 - x0) / h)
+    ny = math.ceil(2.0 * half / h)
+    nzu = math.ceil(zt / h)
+    nzl = math.ceil((-cz0 + 0.5 * h) / h)
+    x1 = x0 + nx * h
+    half = ny * h / 2.0
+    zt = nzu * h
+    zb = -nzl * h
+    r = g.edge_radius_mm * mm
+    side = w / 2.0 + 2.0 * r + 0.2 * w
+    opening = (-0.1 * length, -side, zb, throat_end + 0.2 * length, side, max(d, 0.5 * delta))
+    location = (x0 + 1.37 * h, 0.613 * half, zt - 1.41 * h)
+    a = g.lip.semi_major_mm * mm
+    tx = length + 0.75 * a
+    wy = w / 2.0 + 2.0 * r + 0.005
+    throat_bounds = (tx - h, -wy, zb, tx + h, wy, -1e-4)
+    run = max(float(flow_report["run_length_m"]) + x0, 0.05 * float(flow_report["run_length_m"]))
+    speed = float(flow_report["speed_m_s"])
+    nu = float(flow_report["kinematic_viscosity_m2_s"])
+    rho = float(flow_report["density_kg_m3"])
+    delta_in = 0.37 * run * (speed * run / nu) ** -0.2  # the 1-D model's flat-plate law
+    profile = inlet_profile(speed, delta_in, run, nu, zt)
+    ang = math.radians(float(flow_report.get("flow_angle_deg", 0.0)))
+    q_ref = w * d * speed
+    curve = []
+    for i in range(41):
+        q = 3.0 * q_ref * i / 40.0
+        v_out = q / surface.outlet_area_m2
+        curve.append((q, (downstream_pa(q) - 0.5 * rho * v_out * v_out) / rho))
+    return CaseSetup(
+        name=name,
+        mesh=mesh,
+        base_cell_m=h,
+        box=(x0, x1, -half, half, zb, zt),
+        cells=(nx, ny, nzl, nzu),
+        opening=opening,
+        location=location,
+        throat_x_m=tx,
+        throat_bounds=throat_bounds,
+        throat_area_m2=w * d,
+        probe=(x0 / 2.0, 0.0, min(2.5 * delta_in + 0.5 * h, 0.8 * zt)),
+        speed_m_s=speed,
+        direction=(math.cos(ang), math.sin(ang)),
+        nu_m2_s=nu,
+        density_kg_m3=rho,
+        profile=profile,
+        system_curve=tuple(curve),
+        outlet_area_m2=surface.outlet_area_m2,
+        max_iterations=MAX_ITERATIONS[mesh],
+    )
+
+
+def _fmt(v: float) -> str:
+    return f"{v:.9g}"
+
+
+def _throat_functions() -> str:
+    parts = [
+        ("throatFlow", "sum", "", "phi"),
+        ("throatArea", "areaAverage", "", "p0f pf"),
+        ("throatFlowAvg", "weightedAverage", " weightField phi;", "p0f pf"),
+    ]
+    return "".join(
+        T.THROAT_FUNCTION.format(name=n, operation=op, extra=extra, fields=f)
+        for n, op, extra, f in parts
+    )
+
+
+def write_case(case_dir: Path, s: CaseSetup, surface: WettedSurface, n_procs: int = 1) -> Path:
+    """Write the complete case (system/, constant/, 0/) into ``case_dir`` (replaced)."""
+    if case_dir.exists():
+        shutil.rmtree(case_dir)
+    for sub in ("system", "constant/triSurface", "0"):
+        (case_dir / sub).mkdir(parents=True, exist_ok=True)
+    x0, x1, y0, y1, zb, zt = s.box
+    nx, ny, nzl, nzu = s.cells
+    bx = s.opening
+    values = {
+        "blockMesh": dict(
+            x0=_fmt(x0), x1=_fmt(x1), y0=_fmt(y0), y1=_fmt(y1), zb=_fmt(zb), zt=_fmt(zt),
+            nx=nx, ny=ny, nzl=nzl, nzu=nzu, gz=1,
+        ),
+        "features": dict(included_angle=150),
+        "snappy": dict(
+            bx0=_fmt(bx[0]), by0=_fmt(bx[1]), bz0=_fmt(bx[2]),
+            bx1=_fmt(bx[3]), by1=_fmt(bx[4]), bz1=_fmt(bx[5]),
+            feature_level=LEVELS["feature"], cavity_level=LEVELS["cavity"],
+            floor_level=LEVELS["floor"], box_level=LEVELS["box"], layers=LAYERS,
+            lx=_fmt(s.location[0]), ly=_fmt(s.location[1]), lz=_fmt(s.location[2]),
+        ),
+        "control": dict(
+            max_iterations=s.max_iterations,
+            throat_functions=_throat_functions(),
+            px=_fmt(s.probe[0]), py=_fmt(s.probe[1]), pz=_fmt(s.probe[2]),
+        ),
+        "schemes": {},
+        "solution": {},
+        "transport": dict(nu=_fmt(s.nu_m2_s)),
+        "turbulence": {},
+        "topoSet": dict(
+            x=_fmt(s.throat_x_m), y0=_fmt(s.throat_bounds[1]), z0=_fmt(s.throat_bounds[2]),
+            dy=_fmt(s.throat_bounds[4] - s.throat_bounds[1]),
+            dz=_fmt(s.throat_bounds[5] - s.throat_bounds[2]),
+        ),
+        "decompose": dict(n=n_procs),
+    }  # fmt: skip
+    for key, (path, cls, obj, text) in T.FILES.items():
+        where = path.split("/")[0]
+        (case_dir / path).write_text(T.header(cls, obj, where) + text.format(**values[key]))
+    rows = "\n".join(f"    ({_fmt(q)} {_fmt(-p)})" for q, p in s.system_curve)
+    (case_dir / "constant/ductSystem").write_text(T.FAN_CURVE.format(rows=rows))
+    (case_dir / "constant/triSurface/duct.stl").write_text(surface.stl_text())
+    for name, text in field_files(s.profile, s.speed_m_s, s.direction).items():
+        (case_dir / "0" / name).write_text(text)
+    return case_dir

@@ -1,0 +1,297 @@
+"""OpenFOAM dictionaries of the CFD case, as Python string templates (ours, written for the
+ESI flavour v1912 that Debian packages; :data:`FLAVOUR` names it in every header).
+
+Every length is in metres, every pressure kinematic (m²/s², p/ρ) as simpleFoam expects.
+Placeholders are ``str.format`` fields; literal braces are doubled.
+"""
+
+from __future__ import annotations
+
+__all__ = ["FILES", "FLAVOUR", "header"]
+
+#: The OpenFOAM flavour and version these templates are written for.
+FLAVOUR = "OpenFOAM ESI v1912"
+
+
+def header(cls: str, obj: str, location: str = "") -> str:
+    """The ``FoamFile`` header of one dictionary or field file."""
+    loc = f'    location    "{location}";\n' if location else ""
+    return (
+        f"// written by ductgen for {FLAVOUR}; lengths in metres, pressure kinematic (m2/s2)\n"
+        "FoamFile\n{\n    version     2.0;\n    format      ascii;\n"
+        f"    class       {cls};\n{loc}    object      {obj};\n}}\n\n"
+    )
+
+
+BLOCK_MESH = """convertToMeters 1;
+
+vertices
+(
+    ({x0} {y0} {zb}) ({x1} {y0} {zb}) ({x1} {y1} {zb}) ({x0} {y1} {zb})
+    ({x0} {y0} 0) ({x1} {y0} 0) ({x1} {y1} 0) ({x0} {y1} 0)
+    ({x0} {y0} {zt}) ({x1} {y0} {zt}) ({x1} {y1} {zt}) ({x0} {y1} {zt})
+);
+
+blocks
+(
+    hex (0 1 2 3 4 5 6 7) ({nx} {ny} {nzl}) simpleGrading (1 1 1)
+    hex (4 5 6 7 8 9 10 11) ({nx} {ny} {nzu}) simpleGrading (1 1 {gz})
+);
+
+boundary
+(
+    inlet {{ type patch; faces ((4 7 11 8)); }}
+    outflow {{ type patch; faces ((5 9 10 6)); }}
+    top {{ type patch; faces ((8 11 10 9)); }}
+    sides {{ type patch; faces ((4 8 9 5) (7 6 10 11)); }}
+    lowerBox
+    {{
+        type wall;
+        faces ((0 3 2 1) (0 4 7 3) (1 2 6 5) (0 1 5 4) (3 7 6 2));
+    }}
+);
+"""
+
+FEATURES = """duct.stl
+{{
+    extractionMethod    extractFromSurface;
+    includedAngle       {included_angle};
+    subsetFeatures {{ nonManifoldEdges no; openEdges yes; }}
+    writeObj            no;
+}}
+"""
+
+SNAPPY = """castellatedMesh true;
+snap            true;
+addLayers       true;
+
+geometry
+{{
+    duct.stl {{ type triSurfaceMesh; name duct; }}
+    opening {{ type searchableBox; min ({bx0} {by0} {bz0}); max ({bx1} {by1} {bz1}); }}
+}}
+
+castellatedMeshControls
+{{
+    maxLocalCells 2000000;
+    maxGlobalCells 20000000;
+    minRefinementCells 0;
+    maxLoadUnbalance 0.10;
+    nCellsBetweenLevels 3;
+    features ( {{ file "duct.eMesh"; level {feature_level}; }} );
+    refinementSurfaces
+    {{
+        duct
+        {{
+            level (1 {cavity_level});
+            regions
+            {{
+                floor {{ level ({floor_level} {floor_level}); patchInfo {{ type wall; }} }}
+                cavity {{ level ({cavity_level} {cavity_level}); patchInfo {{ type wall; }} }}
+                outlet {{ level ({cavity_level} {cavity_level}); patchInfo {{ type patch; }} }}
+            }}
+        }}
+    }}
+    resolveFeatureAngle 30;
+    refinementRegions {{ opening {{ mode inside; levels ((1e15 {box_level})); }} }}
+    locationInMesh ({lx} {ly} {lz});
+    allowFreeStandingZoneFaces true;
+}}
+
+snapControls
+{{
+    nSmoothPatch 3;
+    tolerance 2.0;
+    nSolveIter 50;
+    nRelaxIter 5;
+    nFeatureSnapIter 10;
+    implicitFeatureSnap false;
+    explicitFeatureSnap true;
+    multiRegionFeatureSnap false;
+}}
+
+addLayersControls
+{{
+    relativeSizes true;
+    layers {{ "duct_(floor|cavity)" {{ nSurfaceLayers {layers}; }} }}
+    expansionRatio 1.25;
+    finalLayerThickness 0.4;
+    minThickness 0.1;
+    nGrow 0;
+    featureAngle 130;
+    slipFeatureAngle 30;
+    nRelaxIter 3;
+    nSmoothSurfaceNormals 1;
+    nSmoothNormals 3;
+    nSmoothThickness 10;
+    maxFaceThicknessRatio 0.5;
+    maxThicknessToMedialRatio 0.3;
+    minMedialAxisAngle 90;
+    nBufferCellsNoExtrude 0;
+    nLayerIter 50;
+}}
+
+meshQualityControls
+{{
+    #includeEtc "caseDicts/meshQualityDict"
+    nSmoothScale 4;
+    errorReduction 0.75;
+}}
+
+mergeTolerance 1e-6;
+"""
+
+CONTROL = """application     simpleFoam;
+startFrom       startTime;
+startTime       0;
+stopAt          endTime;
+endTime         {max_iterations};
+deltaT          1;
+writeControl    timeStep;
+writeInterval   {max_iterations};
+purgeWrite      0;
+writeFormat     binary;
+writePrecision  8;
+writeCompression off;
+timeFormat      general;
+timePrecision   6;
+runTimeModifiable true;
+
+functions
+{{
+    total
+    {{
+        type pressure; libs ("libfieldFunctionObjects.so");
+        mode total; result p0; rho rhoInf; rhoInf 1;
+        executeControl timeStep; writeControl writeTime;
+    }}
+    faces
+    {{
+        type surfaceInterpolate; libs ("libfieldFunctionObjects.so");
+        fields ((p0 p0f) (p pf));
+        executeControl writeTime; writeControl writeTime;
+    }}
+    outletFlow
+    {{
+        type surfaceFieldValue; libs ("libfieldFunctionObjects.so");
+        writeControl timeStep; writeInterval 1; log false; writeFields false;
+        regionType patch; name duct_outlet; operation sum; fields (phi);
+    }}
+    outletTotal
+    {{
+        type surfaceFieldValue; libs ("libfieldFunctionObjects.so");
+        writeControl writeTime; log false; writeFields false;
+        regionType patch; name duct_outlet; operation weightedAverage; weightField phi;
+        fields (p0 p);
+    }}
+{throat_functions}
+    freeStream
+    {{
+        type probes; libs ("libsampling.so");
+        writeControl writeTime; fields (p U);
+        probeLocations (({px} {py} {pz}));
+    }}
+    yPlus
+    {{
+        type yPlus; libs ("libfieldFunctionObjects.so");
+        writeControl writeTime; log false;
+    }}
+}}
+"""
+
+THROAT_FUNCTION = """    {name}
+    {{
+        type surfaceFieldValue; libs ("libfieldFunctionObjects.so");
+        writeControl writeTime; log false; writeFields false;
+        regionType faceZone; name throat;
+        operation {operation};{extra}
+        fields ({fields});
+    }}
+"""
+
+#: The throat plane as a face zone: mesh faces crossed by a plate at x = throat_x across the
+#: duct below the skin (a closed set of faces, so its flux balances the outlet exactly).
+TOPOSET = """actions
+(
+    {{
+        name throat;
+        type faceZoneSet;
+        action new;
+        source searchableSurfaceToFaceZone;
+        sourceInfo
+        {{
+            surface searchablePlate;
+            origin ({x} {y0} {z0});
+            span (0 {dy} {dz});
+        }}
+    }}
+);
+"""
+
+SCHEMES = """ddtSchemes {{ default steadyState; }}
+gradSchemes {{ default Gauss linear; grad(U) cellLimited Gauss linear 1; }}
+divSchemes
+{{
+    default none;
+    div(phi,U) bounded Gauss linearUpwind grad(U);
+    div(phi,k) bounded Gauss upwind;
+    div(phi,omega) bounded Gauss upwind;
+    div((nuEff*dev2(T(grad(U))))) Gauss linear;
+}}
+laplacianSchemes {{ default Gauss linear limited corrected 0.33; }}
+interpolationSchemes {{ default linear; }}
+snGradSchemes {{ default limited corrected 0.33; }}
+wallDist {{ method meshWave; }}
+"""
+
+SOLUTION = """solvers
+{{
+    p {{ solver GAMG; smoother GaussSeidel; tolerance 1e-7; relTol 0.05; }}
+    "(U|k|omega)" {{ solver smoothSolver; smoother symGaussSeidel; tolerance 1e-8; relTol 0.1; }}
+}}
+SIMPLE {{ nNonOrthogonalCorrectors 0; consistent yes; }}
+relaxationFactors {{ fields {{ p 0.5; }} equations {{ U 0.7; ".*" 0.7; }} }}
+"""
+
+TRANSPORT = """transportModel Newtonian;
+nu {nu};
+"""
+
+TURBULENCE = """simulationType RAS;
+RAS {{ RASModel kOmegaSST; turbulence on; printCoeffs off; }}
+"""
+
+DECOMPOSE = """numberOfSubdomains {n};
+method hierarchical;
+hierarchicalCoeffs {{ n ({n} 1 1); order xyz; }}
+"""
+
+FAN_CURVE = """// the duct system behind the outlet (1-D model): (flow m3/s, -p_outlet m2/s2)
+(
+{rows}
+)
+"""
+
+#: (path in the case, class, object, template) of the fixed dictionaries.
+FILES = {
+    "blockMesh": ("system/blockMeshDict", "dictionary", "blockMeshDict", BLOCK_MESH),
+    "features": (
+        "system/surfaceFeatureExtractDict",
+        "dictionary",
+        "surfaceFeatureExtractDict",
+        FEATURES,
+    ),
+    "snappy": ("system/snappyHexMeshDict", "dictionary", "snappyHexMeshDict", SNAPPY),
+    "control": ("system/controlDict", "dictionary", "controlDict", CONTROL),
+    "schemes": ("system/fvSchemes", "dictionary", "fvSchemes", SCHEMES),
+    "solution": ("system/fvSolution", "dictionary", "fvSolution", SOLUTION),
+    "transport": ("constant/transportProperties", "dictionary", "transportProperties", TRANSPORT),
+    "turbulence": (
+        "constant/turbulenceProperties",
+        "dictionary",
+        "turbulenceProperties",
+        TURBULENCE,
+    ),
+    "topoSet": ("system/topoSetDict", "dictionary", "topoSetDict", TOPOSET),
+    "decompose": ("system/decomposeParDict", "dictionary", "decomposeParDict", DECOMPOSE),
+}

@@ -1,0 +1,50 @@
+"""One coarse CFD case end to end (OpenFOAM): mesh passes checkMesh, the solve reaches the
+flow plateau, mass balances between the throat plane and the duct outlet, the recovery is
+physical and the flow is near the 1-D estimate."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pytest
+
+from tests.conftest import SAMPLES
+from tests.test_cfd_case import require_openfoam
+
+
+@pytest.mark.openfoam
+@pytest.mark.slow
+def test_coarse_case_end_to_end(tmp_path: Path) -> None:
+    require_openfoam()
+    from ductgen.cli import main
+
+    club = next(p for p in SAMPLES if p.stem == "club-racer-brake")
+    out = tmp_path / "cfd"
+    assert main(["cfd", str(club), "-o", str(out), "--np", "2", "--quiet"]) == 0
+    cfd = json.loads((out / "cfd.json").read_text())
+    report = json.loads((out / "report.json").read_text())
+    assert report["cfd"]["result"] == cfd["result"]
+    r = cfd["result"]
+    assert r["check_mesh_ok"] and r["cells"] > 10_000
+    assert r["plateau"], "the solve stopped at the iteration cap, not on the plateau"
+    # continuity (derived): the flow through the closed throat face zone equals the
+    # duct-outlet flow; 1 % is the issue's tolerance
+    assert r["throat_volume_flow_m3_s"] == pytest.approx(r["volume_flow_m3_s"], rel=0.01)
+    # a ram recovery is a fraction of the free-stream dynamic pressure: 0 < eta < 1
+    # (definition; a flush inlet swallowing boundary-layer air recovers less than all of q)
+    for key in ("ram_recovery_flow_avg", "ram_recovery_area_avg"):
+        assert 0.0 < r[key] < 1.0, key
+    # flow-averaged total pressure is at least the area average where fast air carries the
+    # higher total pressure (derived: positive correlation of p0 and U in a boundary layer)
+    assert r["ram_recovery_flow_avg"] >= r["ram_recovery_area_avg"] - 0.02
+    # a passive duct only loses total pressure (derived: energy equation, no work done)
+    assert r["transition_loss_pa"] > 0.0 and r["transition_k"] > 0.0
+    # within 30 % of the 1-D estimate (the issue's acceptance band; common practice, no source)
+    assert abs(cfd["one_d"]["flow_difference"]) < 0.30
+    lo, hi = cfd["y_plus_range"]
+    assert 0.0 < lo < hi
+    assert "error" not in cfd["pictures"], cfd["pictures"]
+    for pic in cfd["pictures"].values():
+        assert (out / pic).read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    assert not (out / "cfd-coarse").exists()  # the case is removed without --keep-case
