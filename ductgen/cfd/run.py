@@ -56,6 +56,14 @@ def check_inputs(spec: Spec, mesh: str, n_procs: int, write_only: bool) -> None:
             "a [flow] section (speed, altitude, run_length, losses)",
             "the CFD case needs the design speed, the air and the duct system behind the inlet",
         )
+    if spec.skin.shape != "flat":
+        raise SpecError(
+            "skin.shape",
+            spec.skin.shape,
+            "flat (for ductgen cfd)",
+            "the CFD case puts the inlet in a flat wall under a flat air slab; a curved "
+            "panel's own pressure field and geometry are not modelled in the case yet",
+        )
     if mesh not in MESH_CHOICES:
         raise SpecError("--mesh", mesh, " | ".join(MESH_CHOICES), "mesh refinement")
     if n_procs < 1:
