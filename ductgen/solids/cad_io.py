@@ -29,6 +29,8 @@ __all__ = ["read_step", "step_bytes", "stl_bytes"]
 
 
 _FILE_NAME = re.compile(rb"FILE_NAME\('([^']*)','[^']*'")
+_PRODUCT = re.compile(rb"PRODUCT\('[^']*',\s*'[^']*'")
+_NOISE = re.compile(rb"(?<![\w.#])-?\d\.\d*E-(?:1[3-9]|[2-9]\d|\d{3})(?![\w.])")
 
 
 def step_bytes(shape: Any, name: str = "ductgen", unit: str = "mm") -> bytes:
@@ -36,8 +38,12 @@ def step_bytes(shape: Any, name: str = "ductgen", unit: str = "mm") -> bytes:
     healed (:func:`heal`), time-stamped with the build date."""
     from OCP.IFSelect import IFSelect_RetDone
     from OCP.Interface import Interface_Static
-    from OCP.STEPControl import STEPControl_AsIs, STEPControl_Writer
+    from OCP.STEPControl import STEPControl_AsIs, STEPControl_Controller, STEPControl_Writer
 
+    # load the STEP controller's defaults first: the first writer of a process would
+    # otherwise reset the settings below (the first file got the default product name and
+    # uncertainty, the next ones ours)
+    STEPControl_Controller.Init_s()
     Interface_Static.SetCVal_s("write.step.schema", "AP214IS")
     Interface_Static.SetCVal_s("write.step.unit", FILE_UNITS[unit].step)
     Interface_Static.SetCVal_s("write.step.product.name", name)
@@ -60,7 +66,13 @@ def step_bytes(shape: Any, name: str = "ductgen", unit: str = "mm") -> bytes:
             raise ExportError("the STEP writer failed")
         data = path.read_bytes()
     stamp = build_datetime().strftime("%Y-%m-%dT%H:%M:%S").encode()
-    return _FILE_NAME.sub(lambda m: b"FILE_NAME('" + m.group(1) + b"','" + stamp + b"'", data, 1)
+    data = _FILE_NAME.sub(lambda m: b"FILE_NAME('" + m.group(1) + b"','" + stamp + b"'", data, 1)
+    # the writer numbers products per process ("name 1", "name 2", ...): keep the name
+    plain = name.encode("ascii", "replace").replace(b"'", b"''")
+    data = _PRODUCT.sub(b"PRODUCT('" + plain + b"','" + plain + b"'", data, 1)
+    # coordinates below 1e-12 (mm, or of a unit vector) are rounding noise that differs
+    # between runs of the shape fixing: write them as zero
+    return _NOISE.sub(b"0.", data)
 
 
 def read_step(path: str | Path) -> Any:
