@@ -12,6 +12,18 @@ SAMPLES = sorted((ROOT / "samples").glob("*.toml"))
 
 DATA = Path(__file__).resolve().parent / "data"
 
+#: Headless Debian Chromium as it runs on this workplace (no network, no sandbox as root).
+CHROMIUM_FLAGS = [
+    "--headless",
+    "--no-sandbox",
+    "--disable-gpu",
+    "--disable-quic",
+    "--no-first-run",
+    "--disable-background-networking",
+    "--disable-component-update",
+    "--disable-sync",
+]
+
 #: A small valid spec (TOML text) for command-line tests.
 GOOD = """\
 name = "t"

@@ -24,20 +24,12 @@ import pytest
 import tomllib
 
 from ductgen.spec import load_spec
+from tests.conftest import CHROMIUM_FLAGS
 
 ROOT = Path(__file__).resolve().parents[1]
 SAMPLE = ROOT / "samples" / "club-racer-brake.toml"
 _DESIGN = [sys.executable, "-m", "ductgen", "design"]
-FLAGS = [
-    "--headless",
-    "--no-sandbox",
-    "--disable-gpu",
-    "--disable-quic",
-    "--no-first-run",
-    "--disable-background-networking",
-    "--disable-component-update",
-    "--disable-sync",
-]
+FLAGS = CHROMIUM_FLAGS
 
 
 def _need(path: str | None, what: str) -> str:

@@ -19,6 +19,7 @@ from ductgen.cli.app import main
 from ductgen.errors import GeometryError
 from ductgen.sweep import parse_vary, run_sweep
 from ductgen.sweep.compare import compare_meshes
+from tests.conftest import CHROMIUM_FLAGS
 
 pytestmark = pytest.mark.slow
 
@@ -265,14 +266,7 @@ def _browser(exe: str, tmp: Path, *args: str) -> subprocess.CompletedProcess:
     return subprocess.run(
         [
             exe,
-            "--headless",
-            "--no-sandbox",
-            "--disable-gpu",
-            "--disable-quic",
-            "--no-first-run",
-            "--disable-background-networking",
-            "--disable-component-update",
-            "--disable-sync",
+            *CHROMIUM_FLAGS,
             f"--user-data-dir={tmp / 'profile'}",
             *args,
         ],
