@@ -238,12 +238,12 @@ CURVED_SAMPLES = ["kitcar-bonnet-intake", "round-cowling-vent"]
 def _opening_from_dxf(path) -> np.ndarray:  # type: ignore[no-untyped-def]
     """The template's air opening: the smallest closed CUT polyline (ezdxf, mm)."""
     import ezdxf
-    from ezdxf.math import Vec2
+    from ezdxf import path as dxf_path
 
     doc = ezdxf.readfile(path)
     best = None
     for pl in doc.modelspace().query("LWPOLYLINE[layer=='CUT']"):
-        pts = np.array([Vec2(p).xy for p in pl.flattening(0.05)])
+        pts = np.array([(v.x, v.y) for v in dxf_path.make_path(pl).flattening(0.05)])
         area = 0.5 * abs(
             np.dot(pts[:, 0], np.roll(pts[:, 1], -1)) - np.dot(pts[:, 1], np.roll(pts[:, 0], -1))
         )
@@ -284,15 +284,27 @@ def test_cutter_cuts_the_panel_where_the_template_says(sample_builds, name: str)
     assert len(cut.Solids()) == 1 and cut.isValid()
     # the opening of the template (DXF) mapped onto the skin: just inside it, mid-skin, is
     # air; just outside it is panel
+    import trimesh
+
     opening = _opening_from_dxf(folder / f"{name}-template.dxf")
     ring = MplPath(opening)
     d = result.design
+    # classified on a fine triangulation of the cut panel (ray parity, trimesh): the kernel's
+    # point classifier was seen to misjudge points near these mapped spline faces
+    v, f = triangulate(cut, 0.01, 0.05)
+    solid = trimesh.Trimesh(v, f)
+    pins, pouts = [], []
     for p in opening[:: max(1, len(opening) // 40)]:
         c = opening.mean(axis=0)
         step = (c - p) / np.linalg.norm(c - p)
         a_in, a_out = p + 0.6 * step, p - 0.6 * step
         if not ring.contains_point(a_in) or ring.contains_point(a_out):
             continue  # a corner where the short step does not cross the outline cleanly
+        if float(d.geometry.floor.depth(a_in[0])) < t:
+            continue  # near the ramp start the cavity is shallower than the skin is thick
         pin, pout = d.skin.to_model(np.array([[*a_in, -t / 2], [*a_out, -t / 2]]))
-        assert not cut.isInside(cq.Vector(*pin)), "panel left inside the opening"
-        assert cut.isInside(cq.Vector(*pout)), "panel cut outside the opening"
+        pins.append(pin)
+        pouts.append(pout)
+    assert len(pins) > 20
+    assert not solid.contains(np.array(pins)).any(), "panel left inside the opening"
+    assert solid.contains(np.array(pouts)).all(), "panel cut outside the opening"
