@@ -17,13 +17,15 @@ faces scatters by ±2 % with the tolerance asked. :func:`heal`:
    surface curves stay exact), on which the exact volume converges;
 3. fixes the shape (``ShapeFix_Shape``: same-parameter, wires, orientation);
 4. gives any edge the analyser still finds off its surface a tolerance of 1.5× its measured
-   deviation (``ShapeFix_ShapeTolerance``, never above :data:`MAX_TOLERANCE_MM`).
+   deviation, rounded up to two significant digits for reproducible files
+   (``ShapeFix_ShapeTolerance``, never above :data:`MAX_TOLERANCE_MM`).
 
 The healed shape replaces the original only if it is valid and of the same type.
 """
 
 from __future__ import annotations
 
+import math
 from typing import Any
 
 __all__ = [
@@ -230,6 +232,15 @@ def off_surface_edges(shape: Any) -> list[tuple[Any, float]]:
     return out
 
 
+def _round_up(tol: float) -> float:
+    """``tol`` rounded up to two significant digits: the analyser's measured deviation
+    varies in its last digits from run to run (its optimiser), the file must not."""
+    if tol <= 0.0:
+        return tol
+    step = 10.0 ** (math.floor(math.log10(tol)) - 1)
+    return math.ceil(tol / step * (1 - 1e-9)) * step
+
+
 def heal(shape: Any) -> Any:
     """Heal an OCCT shape for export (see the module docstring); returns the healed
     ``TopoDS_Shape``, or the shape unchanged when healing would make it invalid."""
@@ -250,9 +261,8 @@ def heal(shape: Any) -> Any:
         if not bad:
             break
         for edge, dev in bad:
-            limit.LimitTolerance(
-                edge, min(1.5 * dev, MAX_TOLERANCE_MM), MAX_TOLERANCE_MM, TopAbs_SHAPE
-            )
+            tol = min(_round_up(1.5 * dev), MAX_TOLERANCE_MM)
+            limit.LimitTolerance(edge, tol, MAX_TOLERANCE_MM, TopAbs_SHAPE)
     if not BRepCheck_Analyzer(s).IsValid() or s.ShapeType() != shape.ShapeType():
         return shape
     return s
