@@ -101,20 +101,8 @@ def gci(
     e21, e32 = p2 - p1, p3 - p2
     e_a = abs((p1 - p2) / p1) if p1 != 0.0 else math.inf
     common = {"phi": (p1, p2, p3), "h": (h1, h2, h3), "r21": r21, "r32": r32}
-    if e21 == 0.0 or e32 == 0.0:
-        return GciResult(
-            **common,
-            order=None,
-            extrapolated=None,
-            approx_rel_error=e_a,
-            extrapolated_rel_error=None,
-            gci_fine=None,
-            oscillatory=False,
-            note="two grids gave the same value: no apparent order",
-        )
-    oscillatory = (e32 / e21) < 0.0
-    p = _order(e21, e32, r21, r32)
-    if p is None or p <= 0.0:
+
+    def no_order(oscillatory: bool, note: str) -> GciResult:
         return GciResult(
             **common,
             order=None,
@@ -123,7 +111,16 @@ def gci(
             extrapolated_rel_error=None,
             gci_fine=None,
             oscillatory=oscillatory,
-            note="no positive apparent order: the grids are not in the asymptotic range",
+            note=note,
+        )
+
+    if e21 == 0.0 or e32 == 0.0:
+        return no_order(False, "two grids gave the same value: no apparent order")
+    oscillatory = (e32 / e21) < 0.0
+    p = _order(e21, e32, r21, r32)
+    if p is None or p <= 0.0:
+        return no_order(
+            oscillatory, "no positive apparent order: the grids are not in the asymptotic range"
         )
     rp = r21**p
     ext = (rp * p1 - p2) / (rp - 1.0)
