@@ -19,6 +19,7 @@ from ductgen.spec.model import Spec
 
 __all__ = [
     "add_insert_pieces",
+    "add_panel_cut",
     "finish_report",
     "geometry_section",
     "insert_split_plan",
@@ -68,6 +69,15 @@ def geometry_section(g: InletGeometry, solids: dict[str, dict[str, Any]]) -> dic
     return geo
 
 
+def _print_mesh(d: Design, mesh: tuple[Any, Any]) -> tuple[Any, Any]:
+    """A part's mesh in the frame its print orientation is judged in: model coordinates,
+    except on the user's panel (arbitrary pose), where it is the datum's frame (x along the
+    flow, z out of the panel), as on the analytic skins."""
+    frame = d.panel_frame
+    verts, faces = mesh
+    return (verts if frame is None else frame.to_local(verts)), faces
+
+
 def _print_section(
     spec: Spec, d: Design, solids: dict[str, dict[str, Any]]
 ) -> tuple[dict[str, Any] | None, list[DesignWarning]]:
@@ -78,7 +88,7 @@ def _print_section(
     section: dict[str, Any] | None = None
     ins = spec.insert
     if "insert" in solids:
-        verts, faces = solids["insert"]["mesh"]
+        verts, faces = _print_mesh(d, solids["insert"]["mesh"])
         section, warns = print_section(
             verts, faces, ins.material, ins.near_heat, ins.service_temperature
         )
@@ -91,7 +101,7 @@ def _print_section(
 
 
 def _bed_section(
-    spec: Spec, solids: dict[str, dict[str, Any]]
+    spec: Spec, d: Design, solids: dict[str, dict[str, Any]]
 ) -> tuple[dict[str, Any] | None, list[DesignWarning]]:
     """``print.bed``: does each printed part fit ``[print] bed`` in its suggested
     orientation; where the insert does not, the stations of a keyed split across the flow
@@ -105,7 +115,7 @@ def _bed_section(
     for kind in ("insert", "plug"):
         if "mesh" not in solids.get(kind, {}):
             continue
-        verts, faces = solids[kind]["mesh"]
+        verts, faces = _print_mesh(d, solids[kind]["mesh"])
         over = overhang_by_orientation(verts, faces)
         up = min(over, key=over.__getitem__)
         fit = bed_fit(verts, bed, up)
@@ -182,7 +192,7 @@ def start_report(
             )
         warnings += flow_warnings
     section, print_warnings = _print_section(spec, d, solids)
-    bed, bed_warnings = _bed_section(spec, solids)
+    bed, bed_warnings = _bed_section(spec, d, solids)
     if bed is not None:
         section = {**(section or {}), "bed": bed}
     if section is not None:
@@ -203,6 +213,11 @@ def add_insert_pieces(report: dict[str, Any], pieces: list[dict[str, Any]]) -> N
     """Record the split insert's pieces (files, volume, size, fit) under
     ``print.bed.insert.pieces``."""
     report["print"]["bed"]["insert"]["pieces"] = pieces
+
+
+def add_panel_cut(report: dict[str, Any], cut: dict[str, Any]) -> None:
+    """Record ``NAME-panel.step``'s volumes (mm³) and source under ``geometry.skin.panel``."""
+    report["geometry"]["skin"]["panel"] = cut
 
 
 def finish_report(

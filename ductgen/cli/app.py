@@ -43,7 +43,6 @@ for _name, _command in COMMANDS.items():
     app.command(_name)(_command)
 
 
-
 class Terminated(KeyboardInterrupt):
     """``SIGTERM`` (or ``SIGHUP``) received: unwinds like Ctrl-C, so every ``finally`` and
     staging clean-up runs and kernel workers are stopped."""

@@ -152,6 +152,4 @@ def _print(out: dict) -> None:  # type: ignore[type-arg]
         b.add_row("recovered", "", "", f"{f['recovered_total_pressure_pa']:.1f}")
         con.print(b)
     for w in out["warnings"]:
-        err_console.print(
-            f"warning {w['code']}: {w['message']}", soft_wrap=True
-        )
+        err_console.print(f"warning {w['code']}: {w['message']}", soft_wrap=True)

@@ -34,6 +34,7 @@ from ductgen.geometry.flatten import Development, develop
 from ductgen.geometry.floor import Floor, ramp_angle_for_length
 from ductgen.geometry.inlet import InletGeometry, min_transition_length_mm
 from ductgen.geometry.lip import Lip
+from ductgen.geometry.panel import PanelFrame, PanelSkin
 from ductgen.geometry.planform import Planform
 from ductgen.geometry.profile import Profile, load_profile
 from ductgen.geometry.skin import SkinMap
@@ -92,6 +93,13 @@ class Design:
     warnings: tuple[DesignWarning, ...]
     fabrication_checked: bool = True
 
+    @property
+    def panel_frame(self) -> PanelFrame | None:
+        """On the user's panel, the datum's frame (x along the flow, z outward; the frame
+        print orientations and bed fits are judged in); else None (model coordinates are
+        already that frame)."""
+        return self.skin.frame if isinstance(self.skin, PanelSkin) else None
+
 
 def duct_shape(g: InletGeometry) -> DuctShape:
     """The numbers the flow model needs from the geometry (mm, mm², deg). The walls count
@@ -115,20 +123,6 @@ def duct_shape(g: InletGeometry) -> DuctShape:
         transition_outlet_area_mm2=None if t is None else t.outlet_area_mm2,
         transition_cone_half_angle_deg=None if t is None else t.equivalent_cone_half_angle_deg,
     )
-
-
-def _skin_summary(spec: Spec) -> dict[str, object]:
-    """``[skin]`` as the report and the sheet state it (mm)."""
-    sk = spec.skin
-    out: dict[str, object] = {"shape": sk.shape, "thickness_mm": sk.thickness}
-    if sk.shape != "flat":
-        out["side"] = sk.side
-    if sk.shape == "cylinder":
-        out |= {"radius_mm": sk.radius, "axis": sk.axis}
-    if sk.shape == "doubly":
-        out |= {"radius_streamwise_mm": sk.radius_streamwise}
-        out |= {"radius_spanwise_mm": sk.radius_spanwise}
-    return out
 
 
 def fabrication_from_spec(spec: Spec) -> Fabrication:
@@ -173,7 +167,10 @@ def build_design(
     layout = flange_layout(g, fab.insert)
     spigot = spigot_of(g, fab)
     trim = plug_trim_outline(g, fab.plug)
-    skin = skin_from_spec(spec.skin, g, layout, trim, spigot, fab.insert.wall)
+    skin, skin_summary, skin_warnings = skin_from_spec(
+        spec.skin, g, layout, trim, spigot, fab.insert.wall
+    )
+    warnings += skin_warnings
     place, place_warnings = placement(skin, g, float(np.max(layout.outline_xy[:, 0])))
     warnings += place_warnings
     dev = develop(skin, np.vstack([layout.outline_xy, trim, layout.opening_xy]))
@@ -187,7 +184,7 @@ def build_design(
         plug_trim_xy=trim,
         skin=skin,
         placement=place,
-        skin_summary=_skin_summary(spec),
+        skin_summary=skin_summary,
         development=dev,
         duct=duct,
         warnings=tuple(warnings),
@@ -300,5 +297,3 @@ def geometry_from_spec(spec: Spec, profile: Profile | None = None) -> InletGeome
         spigot_length_mm=spigot,
         overcut_mm=spec.cutter.overcut,
     )
-
-

@@ -10,6 +10,7 @@ from __future__ import annotations
 import math
 from collections.abc import Callable
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -17,6 +18,7 @@ from ductgen.errors import DesignWarning, SpecError
 from ductgen.geometry.fabrication import FlangeLayout, Spigot
 from ductgen.geometry.flatten import Development
 from ductgen.geometry.inlet import InletGeometry
+from ductgen.geometry.panel import PanelSkin, PanelTurnedOver
 from ductgen.geometry.skin import FLAT, CurvedSkin, FlatSkin, TurnedOver
 from ductgen.spec.model import SkinSpec
 
@@ -62,14 +64,20 @@ def distortion_warnings(dev: Development) -> list[DesignWarning]:
     ]
 
 
-def _need(skin: SkinSpec, shape: str, given: dict[str, object], needed: tuple[str, ...]) -> None:
+def _need(
+    skin: SkinSpec,
+    shape: str,
+    given: dict[str, object],
+    needed: tuple[str, ...],
+    optional: tuple[str, ...] = (),
+) -> None:
     problems = []
     for key, value in given.items():
         if key in needed and value is None:
             problems.append(
                 (f"skin.{key}", None, "a value", f"skin.shape = '{shape}' needs skin.{key}")
             )
-        if key not in needed and value is not None:
+        if key not in needed and key not in optional and value is not None:
             problems.append(
                 (f"skin.{key}", value, "not given", f"skin.{key} belongs to another skin.shape")
             )
@@ -102,24 +110,34 @@ def skin_from_spec(
     trim_xy: np.ndarray,
     spigot: Spigot | None,
     wall: float,
-) -> CurvedSkin | FlatSkin:
-    """The skin map of ``[skin]``, checked against the design.
+) -> tuple[CurvedSkin | FlatSkin | PanelSkin, dict[str, Any], list[DesignWarning]]:
+    """The skin map of ``[skin]``, checked against the design; the skin as the report states
+    it (shape, side, radii in mm, axis; a panel's file, datum and radii); warnings.
 
     Raises:
         SpecError: a key the shape needs is missing (or one it does not take is given), or a
             radius is below the smallest the inlet can wrap — the message gives that radius
             and the reason (depth inside a convex skin, wrap angle, the straight outlet
-            breaking out of the skin).
+            breaking out of the skin); a panel's file, datum or flow direction is unusable.
     """
     given = {
         "radius": skin.radius,
         "axis": skin.axis,
         "radius_streamwise": skin.radius_streamwise,
         "radius_spanwise": skin.radius_spanwise,
+        "file": skin.file,
+        "units": skin.units,
+        "at": skin.at,
+        "flow_direction": skin.flow_direction,
+        "outward": skin.outward,
     }
+    summary = _summary(skin)
     if skin.shape == "flat":
         _need(skin, "flat", given, ())
-        return FLAT
+        return FLAT, summary, []
+    if skin.shape == "panel":
+        _need(skin, "panel", given, ("file", "at", "flow_direction"), ("units", "outward"))
+        return _panel(skin, g, layout, trim_xy, spigot, wall)
     sign = 1.0 if skin.side == "convex" else -1.0
     if skin.shape == "cylinder":
         _need(skin, "cylinder", given, ("radius", "axis"))
@@ -162,7 +180,52 @@ def skin_from_spec(
         need, why = max(limits, key=lambda item: item[0])
         if 1.0 / abs(k) < need:
             raise SpecError(key, 1.0 / abs(k), f">= {math.ceil(need)} mm for this inlet", why)
-    return CurvedSkin(k_stream, k_span, skin.shape)
+    return CurvedSkin(k_stream, k_span, skin.shape), summary, []
+
+
+def _summary(skin: SkinSpec) -> dict[str, Any]:
+    """``[skin]`` as the report and the sheet state it (mm)."""
+    out: dict[str, Any] = {"shape": skin.shape, "thickness_mm": skin.thickness}
+    if skin.shape in ("cylinder", "doubly"):
+        out["side"] = skin.side
+    if skin.shape == "cylinder":
+        out |= {"radius_mm": skin.radius, "axis": skin.axis}
+    if skin.shape == "doubly":
+        out |= {"radius_streamwise_mm": skin.radius_streamwise}
+        out |= {"radius_spanwise_mm": skin.radius_spanwise}
+    return out
+
+
+#: Margin (mm) of the panel's map table beyond the parts (the preview draws 20 mm round them).
+PANEL_MARGIN_MM = 30.0
+
+
+def _panel(
+    skin: SkinSpec,
+    g: InletGeometry,
+    layout: FlangeLayout,
+    trim_xy: np.ndarray,
+    spigot: Spigot | None,
+    wall: float,
+) -> tuple[PanelSkin, dict[str, Any], list[DesignWarning]]:
+    from ductgen.design.panel import PanelRegion, panel_skin
+
+    pts = np.vstack([layout.outline_xy, trim_xy, layout.opening_xy])
+    v_max = float(np.max(np.abs(pts[:, 1])))
+    u_parts = float(np.max(pts[:, 0]))
+    u_hi = u_parts
+    t = g.transition
+    if t is not None:
+        u_hi = max(u_hi, t.x_end_mm)
+        v_max = max(v_max, 0.5 * t.outlet_width_mm + 2.0 * wall)
+    if spigot is not None:
+        v_max = max(v_max, 0.5 * spigot.od_mm + spigot.bead_height_mm + wall)
+    m = PANEL_MARGIN_MM
+    region = PanelRegion(float(np.min(pts[:, 0])) - m, u_hi + m, v_max + m, u_parts)
+    outlet = None
+    if t is not None:
+        outlet = lambda: _straight_outlet_limit(g, spigot, wall)  # noqa: E731
+    return panel_skin(skin, region, _deepest(g, spigot, wall), outlet)
 
 
 def _straight_outlet_limit(
@@ -214,16 +277,21 @@ class Placement:
 
 
 def placement(
-    skin: CurvedSkin | FlatSkin, g: InletGeometry, flange_end_mm: float
+    skin: CurvedSkin | FlatSkin | PanelSkin, g: InletGeometry, flange_end_mm: float
 ) -> tuple[Placement, list[DesignWarning]]:
     """The maps the solids are placed with, and a warning when part of the flange lies where
     the duct already straightens (it then departs from the skin by the stated amount)."""
     warnings: list[DesignWarning] = []
-    plug_map = TurnedOver(skin)
-
-    curvature = max(abs(skin.k_stream), abs(skin.k_span))
+    if isinstance(skin, PanelSkin):
+        plug_map: PointMap = PanelTurnedOver(skin)
+        curvature = max(skin.curvature, 1e-9)  # never the flat short cut: the frame moves
+    else:
+        plug_map = TurnedOver(skin)
+        curvature = max(abs(skin.k_stream), abs(skin.k_span))
     t = g.transition
-    if t is None or not isinstance(skin, CurvedSkin):
+    if isinstance(skin, PanelSkin) and t is None:
+        return Placement(skin.to_model, plug_map, curvature, None, None, None), warnings
+    if t is None or not isinstance(skin, CurvedSkin | PanelSkin):
         point = axis = None
         if t is not None:
             point = (t.x_end_mm, 0.0, t.outlet_centre_z_mm)
@@ -244,7 +312,7 @@ def placement(
                 )
             )
     m0, axis_t = duct.outlet_frame()
-    outlet = m0 + duct.skin.frame(np.array([t.x_end_mm]))[1][0] * t.outlet_centre_z_mm
+    outlet = m0 + duct.outlet_normal() * t.outlet_centre_z_mm
     return (
         Placement(
             duct.to_model,

@@ -219,6 +219,10 @@ class DuctMap:
         t0, _ = self.skin.frame(np.array([self.u_end]))
         return m0, t0[0]
 
+    def outlet_normal(self) -> np.ndarray:
+        """The outward normal of the straight outlet frame (model coordinates)."""
+        return self.skin.frame(np.array([self.u_end]))[1][0]
+
 
 @dataclass(frozen=True)
 class TurnedOver:

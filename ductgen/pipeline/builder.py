@@ -19,6 +19,7 @@ from ductgen.errors import SpecError
 from ductgen.pipeline.outputs import OUTPUTS, BuildContext
 from ductgen.report import (
     add_insert_pieces,
+    add_panel_cut,
     finish_report,
     insert_split_plan,
     report_bytes,
@@ -55,9 +56,21 @@ def output_kinds() -> list[str]:
     return [*SOLID_KINDS, *OUTPUTS]
 
 
+def _cuts_panel(spec: Spec, kinds: list[str]) -> bool:
+    """Whether the build writes ``NAME-panel.step``: the user's panel is a CAD file and the
+    cutter is built."""
+    f = spec.skin.file
+    return (
+        spec.skin.shape == "panel"
+        and "cutter" in kinds
+        and f is not None
+        and Path(f).suffix.lower() in (".step", ".stp")
+    )
+
+
 def planned_files(spec: Spec, kinds: list[str]) -> list[str]:
     """File names a build of ``kinds`` will write (``report.json`` always)."""
-    names = []
+    names = [f"{spec.name}-panel.step"] if _cuts_panel(spec, kinds) else []
     for k in kinds:
         if k in SOLID_KINDS:
             names += [f"{spec.name}-{k}.step", f"{spec.name}-{k}.stl"]
@@ -146,9 +159,23 @@ def build(
                     out.staged_path(name)
                 for stage_name, s in solids[k]["seconds"].items():
                     seconds[f"{k}_{stage_name}"] = s
-        report, warnings = start_report(
-            spec, design, solids, spec_sha256(spec), package_version()
-        )
+        report, warnings = start_report(spec, design, solids, spec_sha256(spec), package_version())
+        frame = design.panel_frame
+        if _cuts_panel(spec, kinds):
+            note("panel")
+            t0 = time.perf_counter()
+            cut = (worker or default_worker()).run(
+                "ductgen.solids.panel_cut:cut_panel_job",
+                design,
+                spec.skin.file,
+                spec.skin.units,
+                [solids["cutter"]["files"]["step"]],
+                str(out.staging),
+                "insert" in solids,
+            )
+            out.staged_path(cut.pop("file"))
+            add_panel_cut(report, cut)
+            seconds["panel_s"] = time.perf_counter() - t0
         ctx = BuildContext(
             spec=spec, design=design, solids=solids, report=report, warnings=warnings
         )
@@ -156,6 +183,8 @@ def build(
         for k in solid_kinds:
             for fmt, name in solids[k]["files"].items():
                 files[f"{k}_{fmt}"] = name
+        if "panel" in report["geometry"]["skin"]:
+            files["panel_step"] = f"{spec.name}-panel.step"
         plan = insert_split_plan(report) if "insert" in solids else None
         if plan is not None:  # the insert is larger than the bed: keyed pieces that fit
             note("insert split")
@@ -169,6 +198,7 @@ def build(
                 tuple(spec.print.bed),
                 plan[1],
                 quality,
+                None if frame is None else (frame.origin.tolist(), frame.axes.tolist()),
             )
             for k, piece in enumerate(pieces, start=1):
                 for fmt in ("step", "stl"):

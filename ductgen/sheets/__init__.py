@@ -13,6 +13,8 @@ def skin_lines(skin: dict[str, Any], template: dict[str, Any]) -> tuple[tuple[st
     shape = skin.get("shape", "flat")
     if shape == "flat":
         return ()
+    if shape == "panel":
+        return _panel_lines(skin, template)
     if shape == "cylinder":
         panel = f"cylinder R {skin['radius_mm']:.0f} mm, {skin['side']}, axis {skin['axis']}"
     else:
@@ -29,6 +31,30 @@ def skin_lines(skin: dict[str, Any], template: dict[str, Any]) -> tuple[tuple[st
         lines.append(("outlet points", f"({ax[0]:.3f}, {ax[1]:.3f}, {ax[2]:.3f})"))
     pct = template.get("max_length_distortion_pct", 0.0)
     lines.append(("template", "developed exactly" if pct == 0 else f"flattened, {pct:.2f} % max"))
+    return tuple(lines)
+
+
+def _vec(v: list[float], digits: int) -> str:
+    return "(" + ", ".join(f"{c:.{digits}f}" for c in v) + ")"
+
+
+def _panel_lines(skin: dict[str, Any], template: dict[str, Any]) -> tuple[tuple[str, str], ...]:
+    """The user's panel: file, where the datum lies in its coordinates, the flow direction,
+    the smallest radius under the parts, the template's distortion."""
+    r = skin.get("smallest_radius_mm")
+    radius = "flat" if r is None else f"smallest R {r:.0f} mm ({skin['smallest_radius_side']})"
+    lines = [
+        ("skin", f"panel {skin['file']}, {radius}"),
+        ("datum (ramp start)", _vec(skin["datum_mm"], 1) + " mm, panel coordinates"),
+        ("flow direction", _vec(skin["flow_direction"], 3)),
+        ("outward normal", _vec(skin["outward"], 3)),
+    ]
+    if "fit_rms_mm" in skin:
+        lines.append(("scan fit", f"{skin['fit_rms_mm']:.3f} mm rms, {skin['fit_max_mm']:.3f} max"))
+    if skin.get("outlet_axis"):
+        lines.append(("outlet points", _vec(skin["outlet_axis"], 3)))
+    pct = template.get("max_length_distortion_pct", 0.0)
+    lines.append(("template", f"flattened from the panel, {pct:.2f} % max"))
     return tuple(lines)
 
 

@@ -183,12 +183,13 @@ def curved_panel(
     skin: Any,
     around_xy: np.ndarray,
     hole_xy: np.ndarray,
-    upside_down: bool = False,
+    turned: Any = None,
     step: float = 4.0,
 ) -> tuple[np.ndarray, np.ndarray]:
     """A patch of the curved skin's outer surface round a part (model coordinates, mm): a
     grid over ``around_xy``'s extent plus a margin, less the cells inside ``hole_xy`` (both
-    closed outlines in design coordinates). ``upside_down``: for the plug, built turned over."""
+    closed outlines in design coordinates). ``turned``: the plug's map (it is built turned
+    over), used instead of the skin's."""
     from matplotlib.path import Path as MplPath
 
     lo, hi = around_xy.min(axis=0) - 20.0, around_xy.max(axis=0) + 20.0
@@ -208,9 +209,7 @@ def curved_panel(
     inside = MplPath(hole_xy).contains_points(uv[faces].mean(axis=1))
     faces = faces[~inside]
     pts = np.column_stack([uv, np.zeros(len(uv))])
-    xyz = skin.to_model(pts)
-    if upside_down:
-        xyz = xyz * np.array([1.0, 1.0, -1.0])
+    xyz = skin.to_model(pts) if turned is None else turned(pts)
     return xyz, faces
 
 
@@ -244,7 +243,8 @@ def preview_png(ctx: Any, worker: Any = None) -> bytes:
     else:  # the curved panel, with the part's cut-out, stands in for the flat skin plate
         opening = None
         hole = d.layout.opening_xy if kind == "cutter" else d.layout.cutout_xy
-        panel = curved_panel(d.skin, d.plug_trim_xy, hole, upside_down=kind == "plug")
+        turned = d.placement.plug_map if kind == "plug" else None
+        panel = curved_panel(d.skin, d.plug_trim_xy, hole, turned=turned)
     try:
         return w.run(
             "ductgen.sheets.preview:render_png",

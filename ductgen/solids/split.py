@@ -237,11 +237,15 @@ def split_insert_job(
     bed: tuple[float, float, float],
     up: str,
     quality: str,
+    frame: tuple[list[float], list[list[float]]] | None = None,
 ) -> list[dict[str, Any]]:
     """Kernel-worker job: split the staged insert STEP across the flow at ``stations_x`` (or
     at more stations, when a piece still does not fit) and stage each piece as
     ``PREFIX-insert-partK.step/.stl``. Returns per piece: file names, volume (mm³, its
-    triangulation), size standing ``up`` (mm) and whether it fits ``bed``."""
+    triangulation), size standing ``up`` (mm) and whether it fits ``bed``.
+
+    ``frame`` (origin, rows x y z): on the user's panel the stations and the bed fit are in
+    the datum's frame; the pieces are split there and written back in panel coordinates."""
     from pathlib import Path
 
     from ductgen.atomic import write_atomic
@@ -253,6 +257,9 @@ def split_insert_job(
 
     stage("insert split")
     whole = read_step(Path(staging) / step_name)
+    to_model = None
+    if frame is not None:
+        whole, to_model = _into_frame(whole, frame)
     pieces = split_across_flow(whole, list(stations_x))
     lin, ang = STL_QUALITY[quality]
     meshes = [triangulate(p, lin, ang) for p in pieces]
@@ -267,9 +274,11 @@ def split_insert_job(
             from ductgen.errors import GeometryError
 
             raise GeometryError("insert split", f"piece {k} is not one valid closed solid")
+        fit = bed_fit(v, bed, up)
+        if to_model is not None:
+            piece, v = to_model(piece), np.asarray(frame[0]) + v @ np.asarray(frame[1])
         write_atomic(Path(staging) / f"{base}.step", step_bytes(piece, base))
         write_atomic(Path(staging) / f"{base}.stl", stl_bytes(v, f, base))
-        fit = bed_fit(v, bed, up)
         out.append(
             {
                 "step": f"{base}.step",
@@ -281,3 +290,21 @@ def split_insert_job(
             }
         )
     return out
+
+
+def _into_frame(shape: Any, frame: tuple[list[float], list[list[float]]]) -> tuple[Any, Any]:
+    """``shape`` moved into the frame (origin, rows x y z) and the move back."""
+    from OCP.gp import gp_Trsf
+
+    o, a = np.asarray(frame[0], dtype=float), np.asarray(frame[1], dtype=float)
+    t = -a @ o
+    trsf = gp_Trsf()
+    trsf.SetValues(*a[0], t[0], *a[1], t[1], *a[2], t[2])
+    back = trsf.Inverted()
+    return shape.transformShape(_matrix(trsf)), lambda s: s.transformShape(_matrix(back))
+
+
+def _matrix(trsf: Any) -> Any:
+    import cadquery as cq
+
+    return cq.Matrix(trsf)

@@ -212,12 +212,24 @@ def _resolve_csv(
     return {**data, section: {**sec, key: str((base_dir / p).resolve())}}
 
 
+def _resolve_panel(data: dict[str, Any], base_dir: Path | None) -> dict[str, Any]:
+    """Make a relative ``skin.file`` path relative to the spec's folder."""
+    sec = data.get("skin")
+    if base_dir is None or not isinstance(sec, dict) or not isinstance(sec.get("file"), str):
+        return data
+    p = Path(sec["file"].strip()).expanduser()
+    if p.is_absolute() or not sec["file"].strip():
+        return data
+    return {**data, "skin": {**sec, "file": str((base_dir / p).resolve())}}
+
+
 def parse_spec(
     data: dict[str, Any], source: str | None = None, base_dir: Path | None = None
 ) -> Spec:
     """Validate plain data (a dict as read from a file) into a :class:`Spec`."""
     data = _resolve_csv(data, "planform", "profile", base_dir, must_exist=False)
     data = _resolve_csv(data, "flow", "recovery", base_dir, must_exist=True)
+    data = _resolve_panel(data, base_dir)
     try:
         return Spec.model_validate(data)
     except ValidationError as err:
@@ -241,6 +253,10 @@ def spec_sha256(spec: Spec) -> str:
         p = Path(name)
         if p.suffix.lower() == ".csv" and p.is_file():
             h.update(p.read_bytes())
+    if spec.skin.file is not None and Path(spec.skin.file).is_file():
+        with open(spec.skin.file, "rb") as fh:  # the panel may be large: hash in chunks
+            for chunk in iter(lambda: fh.read(1 << 20), b""):
+                h.update(chunk)
     return h.hexdigest()
 
 

@@ -19,6 +19,9 @@ from ductgen.spec.printing import PrintSpec
 from ductgen.spec.template import TemplateSpec
 from ductgen.spec.types import Deg, Mm, Section
 
+#: A direction component: any finite number within ±1e6 (directions are normalised).
+Vec = Annotated[float, Field(ge=-1e6, le=1e6, allow_inf_nan=False)]
+
 __all__ = [
     "CutterSpec",
     "LipSpec",
@@ -174,14 +177,20 @@ class SkinSpec(Section):
     ``shape = "flat"``; ``"cylinder"`` with ``radius``, ``axis`` (``"spanwise"``: the panel
     curves along the flow, like a bonnet's leading edge; ``"streamwise"``: it curves across the
     flow, like a fuselage side or a round cowling) and ``side``; ``"doubly"`` with
-    ``radius_streamwise`` and ``radius_spanwise`` (both on the same ``side``). Which keys each
-    shape needs, and the smallest radius that lets the inlet wrap, are checked with the
-    geometry (:mod:`ductgen.design`).
+    ``radius_streamwise`` and ``radius_spanwise`` (both on the same ``side``); ``"panel"``: the
+    user's own panel from ``file`` (STEP, or an STL/OBJ/PLY scan with ``units``), the inlet's
+    ramp start ``at`` a point on its outer surface, the ramp pointing along ``flow_direction``
+    (``outward`` when the file cannot tell outside from inside). Which keys each shape needs,
+    and the smallest radius that lets the inlet wrap, are checked with the geometry
+    (:mod:`ductgen.design`).
     """
 
     shape: Annotated[
-        Literal["flat", "cylinder", "doubly"],
-        Field(default="flat", description="skin shape: flat, cylinder or doubly (curved)"),
+        Literal["flat", "cylinder", "doubly", "panel"],
+        Field(
+            default="flat",
+            description="skin shape: flat, cylinder, doubly (curved) or panel (your own file)",
+        ),
     ]
     thickness: Annotated[Mm, Field(default=2.0, gt=0, le=100, description="skin thickness")]
     radius: Annotated[
@@ -208,6 +217,48 @@ class SkinSpec(Section):
         Mm | None,
         Field(default=None, gt=0, le=1e7, description="doubly: radius across the flow"),
     ]
+    file: Annotated[
+        str | None,
+        Field(
+            default=None,
+            min_length=1,
+            max_length=4096,
+            description="panel: the panel's STEP file or STL/OBJ/PLY scan (relative paths are "
+            "from the spec file's folder)",
+        ),
+    ]
+    units: Annotated[
+        Literal["mm", "cm", "m", "in"] | None,
+        Field(default=None, description="panel: the units of a mesh scan's numbers"),
+    ]
+    at: Annotated[
+        tuple[Mm, Mm, Mm] | None,
+        Field(
+            default=None,
+            description="panel: the point on the outer surface where the ramp starts, on the "
+            "centreline, in the panel file's coordinates",
+        ),
+    ]
+    flow_direction: Annotated[
+        tuple[Vec, Vec, Vec] | None,
+        Field(default=None, description="panel: the local flow direction (any length)"),
+    ]
+    outward: Annotated[
+        tuple[Vec, Vec, Vec] | None,
+        Field(
+            default=None,
+            description="panel: a vector pointing out of the body, when the file's face "
+            "orientation cannot tell outside from inside",
+        ),
+    ]
+
+    @model_validator(mode="after")
+    def _vectors(self) -> SkinSpec:
+        for key in ("flow_direction", "outward"):
+            vec = getattr(self, key)
+            if vec is not None and sum(c * c for c in vec) < 1e-12:
+                raise ValueError(f"skin.{key} must not be the zero vector")
+        return self
 
 
 class CutterSpec(Section):

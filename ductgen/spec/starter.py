@@ -49,8 +49,6 @@ thickness = 2.0
 """
 
 
-
-
 def example_names() -> list[str]:
     return sorted(p.stem for p in samples_dir().glob("*.toml"))
 

@@ -1,0 +1,294 @@
+"""``skin.shape = "panel"``: the user's own panel as the design's skin map, with its checks.
+
+The panel file is read and sampled in the kernel worker (:mod:`ductgen.solids.panel`, run by
+name, so this layer does not import the kernel); here the samples become a height field and
+the geodesic parallel coordinates of :mod:`ductgen.geometry.panel`, and the design is held to
+the analytic skins' limits using the panel's own curvatures under the parts: the wrap angle
+(the normal's turn along and across the flow, each side of the datum), the depth inside a
+convex region, the straight outlet in a convex run along the flow. A crease, a region the
+file does not cover and a flow direction off the surface are refused by name.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from ductgen.errors import DesignWarning, SpecError
+from ductgen.geometry.panel import (
+    HeightField,
+    PanelFrame,
+    PanelSkin,
+    convex_curvatures,
+    make_panel_skin,
+)
+from ductgen.spec.model import SkinSpec
+
+__all__ = [
+    "MAX_FLOW_OFF_DEG",
+    "WARN_FLOW_OFF_DEG",
+    "PanelRegion",
+    "panel_skin",
+]
+
+#: Flow direction angle off the panel's tangent plane (deg) above which a warning is given:
+#: the ramp follows the surface, so the given direction is then not the one the inlet sees
+#: (common practice, no source).
+WARN_FLOW_OFF_DEG = 3.0
+#: Above this angle (deg) the flow direction is taken as a mistake (it points into or out
+#: of the panel rather than along it).
+MAX_FLOW_OFF_DEG = 45.0
+#: Largest number of rays cast to sample a CAD panel (sets the grid step).
+MAX_SAMPLES = 9000
+
+_CACHE: dict[tuple[Any, ...], dict[str, Any]] = {}
+
+
+@dataclass(frozen=True)
+class PanelRegion:
+    """Where the parts reach in design coordinates (mm): u from ``u_lo`` to ``u_hi`` (the
+    duct's straightening end included) and |v| ≤ ``v_max``; ``u_parts`` the largest u of
+    the parts that lie on the skin (flange, plug plate, opening)."""
+
+    u_lo: float
+    u_hi: float
+    v_max: float
+    u_parts: float
+
+
+def _sample(skin: SkinSpec, region: PanelRegion) -> dict[str, Any]:
+    """The worker's samples of the panel round the datum (cached per file version)."""
+    from ductgen.worker import default_worker
+
+    assert skin.file is not None and skin.at is not None and skin.flow_direction is not None
+    margin_u = 10.0 + 0.05 * (region.u_hi - region.u_lo)
+    margin_v = 10.0 + 0.05 * region.v_max
+    box = (
+        region.u_lo - margin_u,
+        region.u_hi + margin_u,
+        -region.v_max - margin_v,
+        region.v_max + margin_v,
+    )
+    area = (box[1] - box[0]) * (box[3] - box[2])
+    step = round(max(2.0, math.sqrt(area / MAX_SAMPLES)), 1)
+    path = str(Path(skin.file))
+    try:
+        st = Path(path).stat()
+        version: tuple[int, int] = (st.st_mtime_ns, st.st_size)
+    except OSError:
+        version = (0, 0)
+    key = (path, version, skin.units, skin.at, skin.flow_direction, skin.outward, box, step)
+    if key not in _CACHE:
+        _CACHE.clear()
+        _CACHE[key] = default_worker().run(
+            "ductgen.solids.panel:sample_panel",
+            path,
+            skin.units,
+            tuple(skin.at),
+            tuple(skin.flow_direction),
+            None if skin.outward is None else tuple(skin.outward),
+            box,
+            step,
+        )
+    return _CACHE[key]
+
+
+def _where(frame: PanelFrame, x: float, y: float, hf: HeightField | None = None) -> str:
+    z = 0.0 if hf is None else float(hf.ev(np.array([x]), np.array([y]))[0])
+    p = frame.to_model(np.array([[x, y, z]]))[0]
+    return f"({p[0]:.1f}, {p[1]:.1f}, {p[2]:.1f}) mm"
+
+
+def _off_edge(frame: PanelFrame, x: float, y: float) -> SpecError:
+    return SpecError(
+        "skin.at",
+        None,
+        "a place where the panel extends under every part",
+        f"the inlet runs off the panel's edge near {_where(frame, x, y)}: the file has no "
+        "surface there; move skin.at or give a larger panel",
+    )
+
+
+def panel_skin(
+    skin: SkinSpec, region: PanelRegion, deep_mm: float, outlet_need: Any
+) -> tuple[PanelSkin, dict[str, Any], list[DesignWarning]]:
+    """The skin map of a panel, its report entries and warnings.
+
+    Args:
+        skin: ``[skin]`` with ``shape = "panel"``.
+        region: where the parts reach in design coordinates.
+        deep_mm: how deep the parts reach below the skin (mm).
+        outlet_need: ``() -> (radius mm, why)``: the smallest radius along the flow that
+            keeps the straight spigot inside a convex skin, or None without a duct.
+
+    Raises:
+        SpecError: bad file or units, ``skin.at`` off the surface, a flow direction off the
+            surface, an inlet over the panel's edge or a crease, a radius below a limit.
+    """
+    from ductgen.design.skin import MAX_DEPTH_FRACTION, MAX_WRAP_DEG
+
+    s = _sample(skin, region)
+    warnings: list[DesignWarning] = []
+    off = float(s["flow_off_tangent_deg"])
+    if off > MAX_FLOW_OFF_DEG:
+        raise SpecError(
+            "skin.flow_direction",
+            list(skin.flow_direction or ()),
+            f"within {MAX_FLOW_OFF_DEG:g}° of the panel's tangent plane at skin.at",
+            f"it is {off:.1f}° off the surface: the flow runs along the panel, not into it",
+        )
+    if off > WARN_FLOW_OFF_DEG:
+        warnings.append(
+            DesignWarning(
+                "flow_direction_off_surface",
+                f"skin.flow_direction is {off:.1f}° off the panel's tangent plane at the "
+                "datum; the inlet is laid along its projection onto the surface",
+            )
+        )
+    frame = PanelFrame(np.asarray(s["origin"]), np.asarray(s["axes"]))
+    x, y, h = np.asarray(s["x"]), np.asarray(s["y"]), np.asarray(s["h"])
+    if np.isnan(h).any():
+        i, j = np.argwhere(np.isnan(h))[0]
+        raise _off_edge(frame, float(x[i]), float(y[j]))
+    hf = HeightField(x, y, h)
+    if float(s.get("crease_deg", 0.0)) > _crease_limit(float(x[1] - x[0])):
+        cx, cy = s["crease_at"]
+        raise SpecError(
+            "skin.at",
+            list(skin.at or ()),
+            "a place where the panel is smooth under every part",
+            f"the inlet runs over a crease near {_where(frame, cx, cy, hf)}: the surface turns "
+            f"{s['crease_deg']:.1f}° between samples {x[1] - x[0]:.1f} mm apart",
+        )
+    try:
+        ps = make_panel_skin(frame, hf, (region.u_lo, region.u_hi), region.v_max)
+    except ValueError:
+        edge_x = float(x[0] if abs(region.u_lo) > region.u_hi else x[-1])
+        raise _off_edge(frame, edge_x, 0.0) from None
+    radii = _limits(ps, region, deep_mm, outlet_need, MAX_WRAP_DEG, MAX_DEPTH_FRACTION)
+    summary = _summary(skin, s, ps, radii)
+    return ps, summary, warnings
+
+
+def _crease_limit(step: float) -> float:
+    """Normal turn (deg) between samples ``step`` mm apart taken as a crease: 4° on a 2 mm
+    grid (a 29 mm radius), scaled with the step so the radius stays the same."""
+    return 4.0 * step / 2.0
+
+
+def _turn(ps: PanelSkin, uv_a: np.ndarray, uv_b: np.ndarray) -> np.ndarray:
+    """Angles (rad) between the panel normals at paired design points."""
+    na, nb = ps.normal(uv_a), ps.normal(uv_b)
+    return np.arccos(np.clip(np.sum(na * nb, axis=1), -1.0, 1.0))
+
+
+def _limits(
+    ps: PanelSkin,
+    region: PanelRegion,
+    deep: float,
+    outlet_need: Any,
+    wrap_deg: float,
+    depth_fraction: float,
+) -> dict[str, Any]:
+    """Hold the panel under the parts to the analytic skins' limits; the radii found."""
+    us = np.linspace(region.u_lo, region.u_parts, 41)
+    vs = np.linspace(-region.v_max, region.v_max, 41)
+    uu, vv = np.meshgrid(us, vs, indexing="ij")
+    pts, _ = ps.surface_local(np.column_stack([uu.ravel(), vv.ravel()]))
+    k = convex_curvatures(ps.surface, pts[:, 0], pts[:, 1])
+    worst = int(np.argmax(np.max(np.abs(k), axis=1)))
+    k_worst = k[worst][np.argmax(np.abs(k[worst]))]
+    smallest = 1.0 / max(abs(float(k_worst)), 1e-12)
+    where = ps.frame.to_model(pts[worst : worst + 1])[0]
+    radii: dict[str, Any] = {
+        "smallest_radius_mm": smallest if smallest < 1e7 else None,
+        "smallest_radius_at_mm": [float(c) for c in where],
+        "smallest_radius_side": "convex" if k_worst > 0 else "concave",
+    }
+    here = f"the panel's smallest radius under the parts is {smallest:.0f} mm, at " + (
+        f"({where[0]:.1f}, {where[1]:.1f}, {where[2]:.1f}) mm"
+    )
+    wrap = math.radians(wrap_deg)
+    along = max(
+        float(_turn(ps, np.array([[0.0, 0.0]]), np.array([[u, 0.0]]))[0])
+        for u in (region.u_lo, region.u_parts)
+    )
+    centre_uv = np.column_stack([us, np.zeros(len(us))])
+    across = max(
+        float(np.max(_turn(ps, centre_uv, np.column_stack([us, np.full(len(us), sv)]))))
+        for sv in (-region.v_max, region.v_max)
+    )
+    for turn, direction in ((along, "along the flow"), (across, "across the flow")):
+        if turn > wrap:
+            raise SpecError(
+                "skin.at",
+                None,
+                f"a place where the parts wrap at most {wrap_deg:.0f}° of the panel",
+                f"the panel turns {math.degrees(turn):.0f}° {direction} under the parts; {here}",
+            )
+    k_max = float(np.max(k))
+    if k_max > 0 and deep > depth_fraction / k_max:
+        raise SpecError(
+            "skin.at",
+            None,
+            f"a convex radius of at least {math.ceil(deep / depth_fraction)} mm under the parts",
+            f"the floor and duct reach {deep:.0f} mm deep and the panel's smallest convex "
+            f"radius under them is {1.0 / k_max:.0f} mm: inside a convex skin the walls "
+            f"converge toward its centre, and deeper than {depth_fraction:.0%} of the radius "
+            "the flat design no longer holds",
+        )
+    if outlet_need is not None:
+        need, why = outlet_need()
+        u_line = np.linspace(0.0, region.u_hi, 41)
+        _, t, _, n = ps.centre_frame(u_line)
+        # the centreline's normal curvature along the flow: dT/du · N (convex positive)
+        dt = np.gradient(t, u_line, axis=0)
+        k_line = float(np.max(-np.sum(dt * n, axis=1)))
+        if k_line > 0 and 1.0 / k_line < need:
+            raise SpecError(
+                "skin.at",
+                None,
+                f"a radius along the flow of at least {math.ceil(need)} mm over the duct",
+                f"the panel's radius along the centreline falls to {1.0 / k_line:.0f} mm: {why}",
+            )
+    return radii
+
+
+def _summary(
+    skin: SkinSpec, s: dict[str, Any], ps: PanelSkin, radii: dict[str, Any]
+) -> dict[str, Any]:
+    """The panel's entries in ``report.json`` (mm, deg)."""
+    axes = ps.frame.axes
+    out: dict[str, Any] = {
+        "shape": "panel",
+        "thickness_mm": skin.thickness,
+        "file": Path(skin.file or "").name,
+        "file_kind": "CAD (STEP)" if s["kind"] == "brep" else "mesh scan",
+        "at_mm": [float(c) for c in skin.at or ()],
+        "datum_mm": [float(c) for c in ps.frame.origin],
+        "at_distance_mm": float(s["distance_mm"]),
+        "flow_direction": [float(c) for c in axes[0]],
+        "flow_off_tangent_deg": float(s["flow_off_tangent_deg"]),
+        "outward": [float(c) for c in axes[2]],
+        "outward_from": s["outward_from"],
+        "radius_streamwise_at_datum_mm": _radius(ps.k_stream),
+        "radius_spanwise_at_datum_mm": _radius(ps.k_span),
+        **radii,
+        "sample_step_mm": float(s["x"][1] - s["x"][0]),
+        "closed_solid": bool(s["closed"]),
+    }
+    if skin.units is not None:
+        out["units"] = skin.units
+    for key in ("fit_rms_mm", "fit_max_mm", "fit_vertices", "fit_knot_spacing_mm"):
+        if key in s:
+            out[key] = s[key]
+    return out
+
+
+def _radius(k: float) -> float | None:
+    """Signed radius (mm, convex positive) of a curvature, None when practically flat."""
+    return None if abs(k) < 1e-7 else 1.0 / k
