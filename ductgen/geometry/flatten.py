@@ -18,6 +18,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ductgen.geometry.panel import PanelSkin
 from ductgen.geometry.skin import CurvedSkin, FlatSkin
 
 __all__ = ["GRID_MM", "Development", "develop"]
@@ -80,14 +81,15 @@ def _grid(lo: np.ndarray, hi: np.ndarray, step: float) -> tuple[np.ndarray, np.n
 
 
 def develop(
-    skin: CurvedSkin | FlatSkin, region_uv: np.ndarray, step: float = GRID_MM
+    skin: CurvedSkin | FlatSkin | PanelSkin, region_uv: np.ndarray, step: float = GRID_MM
 ) -> Development:
     """The development of the skin region spanned by the points ``region_uv`` (N, 2, mm).
 
-    Exact (identity) on a flat or cylindrical skin; on a doubly curved skin an ARAP
-    flattening of a grid over the region's bounding box (plus one grid step all round).
+    Exact (identity) on a flat or cylindrical skin; on a doubly curved skin, and always on
+    the user's panel (whose curvature varies), an ARAP flattening of a grid over the
+    region's bounding box (plus one grid step all round).
     """
-    if skin.k_stream == 0.0 or skin.k_span == 0.0:
+    if not isinstance(skin, PanelSkin) and (skin.k_stream == 0.0 or skin.k_span == 0.0):
         return Development(exact=True, max_length_distortion_pct=0.0)
     import igl
 

@@ -42,10 +42,12 @@ def _panel_lines(skin: dict[str, Any], template: dict[str, Any]) -> tuple[tuple[
     """The user's panel: file, where the datum lies in its coordinates, the flow direction,
     the smallest radius under the parts, the template's distortion."""
     r = skin.get("smallest_radius_mm")
-    radius = "flat" if r is None else f"smallest R {r:.0f} mm ({skin['smallest_radius_side']})"
+    radius = "flat" if r is None else f"{r:.0f} mm, {skin['smallest_radius_side']}"
+    name = skin["file"] if len(skin["file"]) <= 26 else skin["file"][:12] + "…" + skin["file"][-12:]
     lines = [
-        ("skin", f"panel {skin['file']}, {radius}"),
-        ("datum (ramp start)", _vec(skin["datum_mm"], 1) + " mm, panel coordinates"),
+        ("skin", f"panel {name}"),
+        ("smallest radius", radius),
+        ("datum (ramp start)", _vec(skin["datum_mm"], 1) + " mm"),
         ("flow direction", _vec(skin["flow_direction"], 3)),
         ("outward normal", _vec(skin["outward"], 3)),
     ]

@@ -245,6 +245,10 @@ def preview_png(ctx: Any, worker: Any = None) -> bytes:
         hole = d.layout.opening_xy if kind == "cutter" else d.layout.cutout_xy
         turned = d.placement.plug_map if kind == "plug" else None
         panel = curved_panel(d.skin, d.plug_trim_xy, hole, turned=turned)
+    frame = d.panel_frame
+    if frame is not None and panel is not None:  # the user's panel: view it in the datum's
+        mesh = (frame.to_local(mesh[0]), mesh[1])  # frame, as the analytic skins are viewed
+        panel = (frame.to_local(panel[0]), panel[1])
     try:
         return w.run(
             "ductgen.sheets.preview:render_png",
