@@ -43,7 +43,7 @@ def main() -> None:
     face = bonnet_face()
     step = tmp / "bonnet.step"
     cq.exporters.export(face, str(step))
-    mesh = trimesh.Trimesh(*triangulate(face, 0.05, 0.2)).subdivide_to_size(2.2)
+    mesh = trimesh.Trimesh(*triangulate(face, 0.05, 0.2)).subdivide_to_size(3.6)
     rng = np.random.default_rng(0)
     mesh.vertices[:, 2] += rng.normal(0.0, 0.02, len(mesh.vertices))
     scan = tmp / "bonnet.stl"

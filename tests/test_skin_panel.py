@@ -301,6 +301,7 @@ def panels(tmp_path_factory) -> dict[str, Path]:  # type: ignore[no-untyped-def]
             cylinder_panel(800.0, "spanwise", 2.0, size=(200.0, 150.0)), folder / "small.step"
         ),
         "bent": _export(bent_plate(50.0, 12.0), folder / "bent.step"),
+        "tight": _export(cylinder_panel(150.0, "spanwise", 2.0), folder / "tight.step"),
     }
     (folder / "garbage.step").write_text("ISO-10303-21;\nthis is not a STEP file\n")
     out["garbage"] = folder / "garbage.step"
@@ -319,6 +320,8 @@ def panels(tmp_path_factory) -> dict[str, Path]:  # type: ignore[no-untyped-def]
         ("plate", {"flow_direction": [0, 0.1, 1]}, "skin.flow_direction", "off the surface"),
         ("small", {}, "skin.at", "edge"),
         ("bent", {}, "skin.at", "crease"),
+        # the analytic skins' limits, with the panel's own radius: R 150 mm along the flow
+        ("tight", {}, "skin.at", "smallest radius under the parts is 150 mm"),
         ("missing", {}, "skin.file", "No such file"),
         ("garbage", {}, "skin.file", "STEP reader failed"),
         ("scan", {}, "skin.units", "no units"),

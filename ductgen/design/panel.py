@@ -152,6 +152,9 @@ def panel_skin(
     frame = PanelFrame(np.asarray(s["origin"]), np.asarray(s["axes"]))
     x, y, h = np.asarray(s["x"]), np.asarray(s["y"]), np.asarray(s["h"])
     if np.isnan(h).any():
+        # a panel that curves away too fast is not seen from the datum's tangent plane
+        # either: say so by its radius before blaming the panel's edge
+        _wrap_at_datum(x, y, h, region, MAX_WRAP_DEG)
         i, j = np.argwhere(np.isnan(h))[0]
         raise _off_edge(frame, float(x[i]), float(y[j]))
     hf = HeightField(x, y, h)
@@ -172,6 +175,36 @@ def panel_skin(
     radii = _limits(ps, region, deep_mm, outlet_need, MAX_WRAP_DEG, MAX_DEPTH_FRACTION)
     summary = _summary(skin, s, ps, radii)
     return ps, summary, warnings
+
+
+def _wrap_at_datum(
+    x: np.ndarray, y: np.ndarray, h: np.ndarray, region: PanelRegion, wrap_deg: float
+) -> None:
+    """Refuse, by the wrap limit, a panel whose radii at the datum (second differences of
+    the samples there) are too small for the parts' reach."""
+    i, j = int(np.argmin(np.abs(x))), int(np.argmin(np.abs(y)))
+    dx, dy = float(x[1] - x[0]), float(y[1] - y[0])
+    for k, reach, along in (
+        (
+            (h[i + 1, j] - 2 * h[i, j] + h[i - 1, j]) / dx**2,
+            max(-region.u_lo, region.u_parts),
+            "along",
+        ),
+        ((h[i, j + 1] - 2 * h[i, j] + h[i, j - 1]) / dy**2, region.v_max, "across"),
+    ):
+        if not np.isfinite(k) or abs(k) < 1e-9:
+            continue
+        radius = 1.0 / abs(float(k))
+        need = math.ceil(reach / math.radians(wrap_deg))
+        if radius < need:
+            raise SpecError(
+                "skin.at",
+                None,
+                f"a radius {along} the flow of at least {need} mm",
+                f"the panel's smallest radius under the parts is {radius:.0f} mm ({along} the "
+                f"flow, at the datum): the parts reach {reach:.0f} mm and would wrap more "
+                f"than {wrap_deg:.0f}° of it",
+            )
 
 
 def _crease_limit(step: float) -> float:
