@@ -101,3 +101,14 @@ def test_flow_section_in_spec_is_optional() -> None:
         parse_spec(
             {"throat": {"width": 100, "depth": 25}, "flow": {"speed": "50 m/s", "recovery": 1.5}}
         )
+
+
+def test_a_null_optional_quantity_is_not_given_and_a_bad_one_names_the_key() -> None:
+    # JSON/YAML null for an optional quantity means "not given" (was a TypeError from the
+    # constraint check, an internal error instead of exit 2)
+    base = {"throat": {"width": 100, "depth": 25}, "flow": {"speed": "50 m/s"}}
+    s = parse_spec({**base, "flow": {**base["flow"], "density": None}})
+    assert s.flow is not None and s.flow.density is None
+    with pytest.raises(SpecError) as err:
+        parse_spec({**base, "flow": {**base["flow"], "density": "-1 kg/m^3"}})
+    assert "flow.density" in str(err.value)

@@ -74,6 +74,8 @@ FLOW_UNITS: dict[str, str] = {
 Area = Annotated[float, si("area", "m^2")]
 VolumeFlow = Annotated[float, si("volume_flow", "m^3/s")]
 Pressure = Annotated[float, si("pressure", "Pa")]
+#: Air density in kg/m³; needs a unit.
+Density = Annotated[float, si("density", "kg/m^3")]
 Label = Annotated[
     str | None, Field(default=None, min_length=1, max_length=60, description="name in the budget")
 ]
@@ -227,8 +229,7 @@ class FlowSpec(Section):
         ),
     ]
     density: Annotated[
-        float | None,
-        si("density", "kg/m^3"),
+        Density | None,
         Field(default=None, gt=0, le=10, description="air density replacing the atmosphere's"),
     ]
     run_length: Annotated[
