@@ -18,6 +18,7 @@ from typing import Any
 
 import numpy as np
 
+from ductgen.design.limits import MAX_DEPTH_FRACTION, MAX_WRAP_DEG
 from ductgen.errors import DesignWarning, SpecError
 from ductgen.geometry.panel import (
     HeightField,
@@ -129,8 +130,6 @@ def panel_skin(
         SpecError: bad file or units, ``skin.at`` off the surface, a flow direction off the
             surface, an inlet over the panel's edge or a crease, a radius below a limit.
     """
-    from ductgen.design.skin import MAX_DEPTH_FRACTION, MAX_WRAP_DEG
-
     s = _sample(skin, region)
     warnings: list[DesignWarning] = []
     off = float(s["flow_off_tangent_deg"])

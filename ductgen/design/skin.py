@@ -14,6 +14,8 @@ from typing import Any
 
 import numpy as np
 
+from ductgen.design.limits import MAX_DEPTH_FRACTION, MAX_DISTORTION_PCT, MAX_WRAP_DEG
+from ductgen.design.panel import PanelRegion, panel_skin
 from ductgen.errors import DesignWarning, SpecError
 from ductgen.geometry.fabrication import FlangeLayout, Spigot
 from ductgen.geometry.flatten import Development
@@ -30,21 +32,6 @@ __all__ = [
     "placement",
     "skin_from_spec",
 ]
-
-#: Largest angle (deg) the opening, flange or plug plate may wrap around a curved skin.
-#: ductgen's design coordinates lay the flat-plate inlet of the NACA tests onto the panel;
-#: beyond about a sixth of a turn the panel is no longer "locally gently curved" under the
-#: inlet and a one-piece template or flange cannot be laid on it (common practice, no source).
-MAX_WRAP_DEG = 60.0
-#: Inside a convex skin the floor and duct may reach at most this fraction of the radius
-#: deep: beyond it the normals through the part converge so much that walls of the flat
-#: design thin out by more than half.
-MAX_DEPTH_FRACTION = 0.5
-
-#: Largest length distortion (percent) of a flattened template worth no warning: 0.5 % is
-#: 1.5 mm over a 300 mm opening, about what a shop absorbs when it marks and trims by hand
-#: (common practice, no source); beyond it mark from the cutter solid or a formed template.
-MAX_DISTORTION_PCT = 0.5
 
 PointMap = Callable[[np.ndarray], np.ndarray]
 
@@ -208,8 +195,6 @@ def _panel(
     spigot: Spigot | None,
     wall: float,
 ) -> tuple[PanelSkin, dict[str, Any], list[DesignWarning]]:
-    from ductgen.design.panel import PanelRegion, panel_skin
-
     pts = np.vstack([layout.outline_xy, trim_xy, layout.opening_xy])
     v_max = float(np.max(np.abs(pts[:, 1])))
     u_parts = float(np.max(pts[:, 0]))
