@@ -102,3 +102,26 @@ def test_builds_write_the_split_pieces(sample_builds) -> None:  # type: ignore[n
         whole = trimesh.load(folder / f"{name}-insert.stl").volume
         assert total == pytest.approx(whole, rel=1e-3), name
     assert split >= 1  # the samples include inserts larger than a 220 mm bed
+
+
+def test_a_station_through_separate_bodies_is_moved_until_each_piece_is_one() -> None:
+    # a U open upstream: two prongs (x 0-50) joined by a bar (x 50-100). A cut at x = 45
+    # leaves the upstream piece in two (the prongs' ends); moved 8 mm downstream the cut
+    # takes the bar with it and every piece is one solid, the volumes summing to the whole
+    import cadquery as cq
+
+    from ductgen.errors import GeometryError
+    from ductgen.solids.split import split_across_flow, split_shifted
+
+    u = (
+        cq.Solid.makeBox(50, 10, 10, cq.Vector(0, -25, 0))
+        .fuse(cq.Solid.makeBox(50, 10, 10, cq.Vector(0, 15, 0)))
+        .fuse(cq.Solid.makeBox(50, 50, 10, cq.Vector(50, -25, 0)))
+        .clean()
+    )
+    with pytest.raises(GeometryError):
+        split_across_flow(u, [45.0])
+    xs, pieces = split_shifted(u, [45.0])
+    assert xs == [53.0]
+    assert all(len(p.Solids()) == 1 and p.isValid() for p in pieces)
+    assert sum(p.Volume() for p in pieces) == pytest.approx(u.Volume(), rel=1e-9)

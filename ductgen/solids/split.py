@@ -31,6 +31,7 @@ __all__ = [
     "split_across_flow",
     "split_for_bed",
     "split_insert_job",
+    "split_shifted",
 ]
 
 #: Orientation name → (axis index, sign) of the direction that points up on the printer.
@@ -195,6 +196,32 @@ def split_across_flow(
     return pieces
 
 
+#: Shifts (mm) tried, in this order, for all the stations together when a cut leaves a piece
+#: in two (a station through a place where the part's section falls apart into separate
+#: bodies, e.g. flange ends beside the duct).
+STATION_SHIFTS_MM = (4.0, -4.0, 8.0, -8.0, 12.0, -12.0)
+
+
+def split_shifted(
+    solid: Any, stations_x: list[float], key_length: float = 6.0
+) -> tuple[list[float], list[Any]]:
+    """:func:`split_across_flow`, and where a piece comes out as more than one solid, the
+    same split with every station moved by :data:`STATION_SHIFTS_MM` in turn; the stations
+    used and the pieces. Raises the first failure when no shift works."""
+    from ductgen.errors import GeometryError
+
+    try:
+        return list(stations_x), split_across_flow(solid, stations_x, key_length)
+    except GeometryError as first:
+        for dx in STATION_SHIFTS_MM:
+            xs = [x + dx for x in stations_x]
+            try:
+                return xs, split_across_flow(solid, xs, key_length)
+            except GeometryError:
+                continue
+        raise first
+
+
 def split_for_bed(
     solid: Any,
     vertices: np.ndarray,
@@ -220,7 +247,7 @@ def split_for_bed(
     if xs == []:
         return [], [solid]
     while xs is not None and len(xs) < max_pieces:
-        pieces = split_across_flow(solid, xs, key_length)
+        xs, pieces = split_shifted(solid, xs, key_length)
         if all(bed_fit(triangulate(p, 0.1, 0.3)[0], bed, up).fits for p in pieces):
             return xs, pieces
         bb = solid.BoundingBox()  # the estimate was short: one piece more
@@ -260,7 +287,7 @@ def split_insert_job(
     to_model = None
     if frame is not None:
         whole, to_model = _into_frame(whole, frame)
-    pieces = split_across_flow(whole, list(stations_x))
+    _, pieces = split_shifted(whole, list(stations_x))
     lin, ang = STL_QUALITY[quality]
     meshes = [triangulate(p, lin, ang) for p in pieces]
     if not all(bed_fit(v, bed, up).fits for v, _ in meshes):
