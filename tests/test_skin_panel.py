@@ -32,15 +32,7 @@ from tests.panels import (  # noqa: E402
     cylinder_panel,
     torus_panel,
 )
-
-BASE = {
-    "name": "panel",
-    "throat": {"width": 80, "depth": 20},
-    "ramp": {"angle_deg": 7.0, "entry_radius": 60},
-    "lip": {"thickness": 4.5},
-    "outlet": {"kind": "round", "diameter": 50, "transition_length": 110, "spigot_length": 35},
-    "insert": {"wall": 2.0, "flange_width": 14, "holes": {"count": 6, "diameter": 3.2}},
-}
+from tests.test_skin_curved import BASE, _opening_from_dxf  # noqa: E402
 
 
 def _spec(skin: dict, base: dict | None = None):  # type: ignore[no-untyped-def]
@@ -137,12 +129,6 @@ def _to_polyline(p: np.ndarray, ring: np.ndarray) -> float:
     t = np.clip(t / np.maximum(np.einsum("sk,sk->s", ab, ab), 1e-300)[None, :], 0.0, 1.0)
     foot = a[None, :, :] + t[:, :, None] * ab[None, :, :]
     return float(np.max(np.min(np.linalg.norm(p[:, None, :] - foot, axis=2), axis=1)))
-
-
-def _opening_from_dxf(path: Path) -> np.ndarray:
-    from tests.test_skin_curved import _opening_from_dxf as opening
-
-    return opening(path)
 
 
 @pytest.mark.slow
