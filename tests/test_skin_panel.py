@@ -32,7 +32,11 @@ from tests.panels import (  # noqa: E402
     cylinder_panel,
     torus_panel,
 )
-from tests.test_skin_curved import BASE, _opening_from_dxf  # noqa: E402
+from tests.test_skin_curved import BASE as CURVED_BASE  # noqa: E402
+from tests.test_skin_curved import _opening_from_dxf  # noqa: E402
+
+#: The curved-skin tests' inlet, its files named "panel-…".
+BASE = {**CURVED_BASE, "name": "panel"}
 
 
 def _spec(skin: dict, base: dict | None = None):  # type: ignore[no-untyped-def]
