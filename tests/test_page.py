@@ -64,10 +64,10 @@ def server(page_out: Path):  # type: ignore[no-untyped-def]
         cwd=page_out,
     )
     try:
-        line = proc.stdout.readline() if proc.stdout else ""
-        m = re.search(r"http://127\.0\.0\.1:(\d+)/", line)
-        assert m, f"no address printed: {line!r} {proc.stderr.read() if proc.stderr else ''}"
-        yield m.group(0)
+        lines = [proc.stdout.readline(), proc.stdout.readline()] if proc.stdout else []
+        m = re.fullmatch(r"http://127\.0\.0\.1:(\d+)/\?token=\S+\n", lines[-1] if lines else "")
+        assert m, f"no address printed: {lines!r} {proc.stderr.read() if proc.stderr else ''}"
+        yield m.group(0).strip()
     finally:
         proc.terminate()
         proc.wait(timeout=30)
@@ -145,10 +145,15 @@ def _ramp_length(r: float, h: float, theta_deg: float) -> float:
     return r * math.sin(t) + (h - r * (1.0 - math.cos(t))) / math.tan(t)
 
 
+def _key(url: str) -> dict[str, str]:
+    """The page's key (printed in its address) as a script sends it."""
+    return {"Authorization": "Bearer " + url.split("token=", 1)[1]}
+
+
 def _post(url: str, path: str, body: dict[str, Any], host: str | None = None) -> tuple[int, dict]:
     u = http.client.urlsplit(url)
     conn = http.client.HTTPConnection(u.hostname, u.port, timeout=60)
-    headers = {"Content-Type": "application/json"}
+    headers = {"Content-Type": "application/json", **_key(url)}
     if host is not None:
         headers["Host"] = host
     conn.request("POST", path, json.dumps(body), headers)
@@ -159,7 +164,7 @@ def _post(url: str, path: str, body: dict[str, Any], host: str | None = None) ->
 def _get(url: str, path: str, host: str | None = None) -> tuple[int, dict]:
     u = http.client.urlsplit(url)
     conn = http.client.HTTPConnection(u.hostname, u.port, timeout=60)
-    conn.request("GET", path, headers={"Host": host} if host else {})
+    conn.request("GET", path, headers={**_key(url), **({"Host": host} if host else {})})
     r = conn.getresponse()
     return r.status, json.loads(r.read() or b"{}")
 
@@ -215,7 +220,7 @@ def test_bad_value_shows_the_cli_sentence_and_builds_nothing(server, browser, tm
     # the server refuses too: nothing is started or written
     out = tmp_path / "page-bad"
     data = d.execute_script("return window.ductgenPage.specData()")
-    status, res = _post(server, "/api/build", {"data": data, "out": str(out)})
+    status, res = _post(server, "/api/build", {"data": data, "out": "page-bad"})
     assert status == 400 and res["problems"][0]["key"] == "throat.width"
     assert not out.exists() and not (tmp_path / "cli").exists()
     assert _get(server, "/api/job")[1]["status"] == "idle"
@@ -251,9 +256,9 @@ def test_build_from_page_writes_what_ductgen_build_writes(  # type: ignore[no-un
     _wait(d, 10, lambda: "running" in _text(d, "job") or "done" in _text(d, "job"))
     # a second build while one runs is refused with a message (issue 16, scope 5)
     data = d.execute_script("return window.ductgenPage.specData()")
-    status, res = _post(server, "/api/build", {"data": data, "out": str(tmp_path / "second")})
+    status, res = _post(server, "/api/build", {"data": data, "out": "second"})
     assert status == 409 and res["message"].startswith("busy:")
-    assert not (tmp_path / "second").exists()
+    assert not (page_out / "second").exists()
     _wait(d, 600, lambda: "done" in _text(d, "job") or "failed" in _text(d, "job"))
     assert "done" in _text(d, "job"), _text(d, "job")
     # the same build through the CLI
@@ -267,7 +272,9 @@ def test_build_from_page_writes_what_ductgen_build_writes(  # type: ignore[no-un
     links = d.find_elements("css selector", "#files a")
     assert {a.text for a in links} == {p.name for p in page_out.iterdir()}
     got = d.execute_async_script(
-        "const done = arguments[0]; fetch('/out/report.json').then(r => r.text()).then(done);"
+        "const done = arguments[0]; "
+        "fetch(document.querySelector('#files a').href.replace(/[^/]*$/, 'report.json'))"
+        ".then(r => r.text()).then(done);"
     )
     assert json.loads(got) == page_report
     # the 3D view shows the built cutter: triangles drawn, not a blank canvas
@@ -279,13 +286,13 @@ def test_build_from_page_writes_what_ductgen_build_writes(  # type: ignore[no-un
     assert np.any(np.abs(img - background) > 0.1, axis=2).mean() > 0.05
 
 
-def test_save_and_reload_round_trip(server, browser, tmp_path) -> None:  # type: ignore[no-untyped-def]
+def test_save_and_reload_round_trip(server, browser, page_out) -> None:  # type: ignore[no-untyped-def]
     from ductgen.spec import parse_spec
 
     d = browser
     _open(d, server)
-    saved = tmp_path / "saved.toml"
-    _type_id(d, "save-path", str(saved))
+    saved = page_out / "saved.toml"  # the page's work folder
+    _type_id(d, "save-path", saved.name)
     d.find_element("id", "save-btn").click()
     _wait(d, 10, lambda: _text(d, "save-msg").startswith(("saved", "not saved")))
     assert _text(d, "save-msg").startswith("saved"), _text(d, "save-msg")
@@ -298,12 +305,12 @@ def test_save_and_reload_round_trip(server, browser, tmp_path) -> None:  # type:
     assert parse_spec(d.execute_script("return window.ductgenPage.specData()")) == load_spec(SAMPLE)
     # a changed value survives a save and a reload, and nothing else changes
     _type(d, "ramp.angle_deg", "6.5")
-    _type_id(d, "save-path", str(tmp_path / "changed.toml"))
+    _type_id(d, "save-path", "changed.toml")
     d.find_element("id", "save-btn").click()
     _wait(d, 10, lambda: "changed.toml" in _text(d, "save-msg"))
     base = load_spec(SAMPLE)
     want = base.model_copy(update={"ramp": base.ramp.model_copy(update={"angle_deg": 6.5})})
-    assert load_spec(tmp_path / "changed.toml") == want
+    assert load_spec(page_out / "changed.toml") == want
     # saving over an existing file needs the replace box
     d.find_element("id", "save-btn").click()
     _wait(d, 10, lambda: _text(d, "save-msg").startswith("not saved"))
@@ -353,11 +360,12 @@ def test_screenshot_is_not_blank_and_shows_the_plan_view(server, browser) -> Non
 
 def test_server_refuses_non_loopback_without_host(tmp_path) -> None:
     from ductgen.errors import SpecError
+    from ductgen.page.guard import WorkFolder
     from ductgen.page.server import DesignApp, is_loopback, make_server
 
     for host in ("0.0.0.0", "192.168.1.10", "example.org"):
         with pytest.raises(SpecError) as err:
-            make_server(DesignApp(data={}), host, 0)
+            make_server(DesignApp(data={}, work=WorkFolder(tmp_path)), host, 0)
         assert err.value.key == "--host" and "unless --host is given" in str(err.value)
     assert all(is_loopback(h) for h in ("127.0.0.1", "127.0.0.2", "::1", "localhost"))
     # given --host, the CLI binds and says plainly that the page is open to the network
@@ -370,17 +378,18 @@ def test_server_refuses_non_loopback_without_host(tmp_path) -> None:
         cwd=tmp_path,
     )
     try:
-        assert "http://" in (proc.stdout.readline() if proc.stdout else "")
+        lines = [proc.stdout.readline(), proc.stdout.readline()] if proc.stdout else []
+        assert lines[-1].startswith("http://127.0.0.1:") and "?token=" in lines[-1]
     finally:
         proc.terminate()
         _, err_text = proc.communicate(timeout=30)
     assert "warning: listening on 0.0.0.0, not only this computer" in err_text
 
 
-def test_sweep_from_the_page_is_small_and_checked_before_it_starts(server, tmp_path) -> None:  # type: ignore[no-untyped-def]
+def test_sweep_from_the_page_is_small_and_checked_before_it_starts(server, page_out) -> None:  # type: ignore[no-untyped-def]
     data = tomllib.loads(SAMPLE.read_text())
-    out = tmp_path / "sweep"
-    body = {"data": data, "key": "ramp.angle_deg", "values": "4:20:1", "out": str(out)}
+    out = page_out / "sweep"
+    body = {"data": data, "key": "ramp.angle_deg", "values": "4:20:1", "sweep_out": "sweep"}
     status, res = _post(server, "/api/sweep", body)
     assert status == 400 and res["problems"][0]["key"] == "sweep values"
     assert "at most 12 variants" in res["problems"][0]["sentence"]
@@ -390,9 +399,9 @@ def test_sweep_from_the_page_is_small_and_checked_before_it_starts(server, tmp_p
 
 def test_foreign_host_header_and_non_json_posts_are_refused(server) -> None:  # type: ignore[no-untyped-def]
     # a page elsewhere reaching the server through DNS rebinding names another host
-    assert _get(server, "/api/job", host="attacker.example:80")[0] == 421
-    assert _post(server, "/api/preview", {"data": {}}, host="attacker.example")[0] == 421
+    assert _get(server, "/api/job", host="attacker.example:80")[0] == 403
+    assert _post(server, "/api/preview", {"data": {}}, host="attacker.example")[0] == 403
     u = http.client.urlsplit(server)
     conn = http.client.HTTPConnection(u.hostname, u.port, timeout=30)
-    conn.request("POST", "/api/build", "data=1", {"Content-Type": "text/plain"})
+    conn.request("POST", "/api/build", "data=1", {"Content-Type": "text/plain", **_key(server)})
     assert conn.getresponse().status == 415

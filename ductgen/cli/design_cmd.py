@@ -20,18 +20,31 @@ def design_command(
         Path | None, typer.Argument(help="spec file to start from [default: the starter]")
     ] = None,
     port: Annotated[
-        int, typer.Option("--port", help="port to serve on; 0 = any free port")
+        int,
+        typer.Option(
+            "--port", min=0, max=65535, help="port to serve on, 0 to 65535; 0 = any free port"
+        ),
     ] = DEFAULT_PORT,
     host: Annotated[
         str | None,
         typer.Option(
             "--host",
             help="address to listen on [default: 127.0.0.1, this computer only]; anything "
-            "else opens the page, and writing files, to your network",
+            "else opens the page, and writing files, to everyone on your network who has "
+            "the printed address",
+        ),
+    ] = None,
+    root: Annotated[
+        Path | None,
+        typer.Option(
+            "--root",
+            help="work folder: the page opens, saves and builds only inside it "
+            "[default: the spec's folder, or the current folder]",
         ),
     ] = None,
     out: Annotated[
-        str | None, typer.Option("-o", "--out", help="build folder [default: ./NAME]")
+        str | None,
+        typer.Option("-o", "--out", help="build folder inside the work folder [default: NAME]"),
     ] = None,
     no_browser: Annotated[
         bool, typer.Option("--no-browser", help="print the address, do not open a browser")
@@ -40,30 +53,39 @@ def design_command(
     """Edit a spec in a local web page: drawings, numbers, airflow and warnings as you type."""
     import tomllib
 
-    from ductgen.cli.common import out_folder
+    from ductgen.errors import SpecError
+    from ductgen.page.guard import PathRefused, WorkFolder, package_dir
     from ductgen.page.server import DesignApp, is_loopback, make_server
     from ductgen.spec import read_spec_data
     from ductgen.spec.starter import STARTER
 
     if spec is not None:
         data = read_spec_data(spec)  # a file that cannot be read is exit 2, before serving
-        spec_path = spec.absolute()
+        spec_path: Path | None = spec.absolute()
     else:
-        data, spec_path = tomllib.loads(STARTER), (Path.cwd() / "ductgen.toml")
-    out_dir = out_folder(out, Path()) if out is not None else None
-    page = DesignApp(data=data, spec_path=spec_path, out_dir=out_dir)
+        data, spec_path = tomllib.loads(STARTER), None
+    work = WorkFolder(_work_root(root, spec_path, package_dir()))
+    out_dir = None
+    if out is not None:
+        try:
+            out_dir = work.writable(out, "-o/--out")
+        except PathRefused as err:
+            raise SpecError("-o/--out", out, f"a folder inside {work.root}", str(err)) from None
+    page = DesignApp(data=data, work=work, spec_path=spec_path, out_dir=out_dir)
     bind = host if host is not None else "127.0.0.1"
     server = make_server(page, bind, port, allow_remote=host is not None)
     bound = server.server_address[1]
     shown = "127.0.0.1" if bind in ("0.0.0.0", "::") else bind
-    url = f"http://{'[' + shown + ']' if ':' in shown else shown}:{bound}/"
+    url = f"http://{'[' + shown + ']' if ':' in shown else shown}:{bound}/?token={page.secret}"
     if not is_loopback(bind):
         err_console.print(
-            f"warning: listening on {bind}, not only this computer: anyone who can reach "
-            "it can use the page and make it write files; there is no login",
+            f"warning: listening on {bind}, not only this computer: anyone on your network "
+            "who has the address below can use the page and make it write files in "
+            f"{work.root}",
             soft_wrap=True,
         )
-    typer.echo(f"ductgen design: {url}  (Ctrl-C stops the server)")
+    typer.echo(f"ductgen design: work folder {work.root}; open this address (Ctrl-C stops):")
+    typer.echo(url)
     if not no_browser:
         import webbrowser
 
@@ -72,3 +94,23 @@ def design_command(
         server.serve_forever(poll_interval=0.25)
     finally:
         server.server_close()
+
+
+def _work_root(root: Path | None, spec_path: Path | None, package: Path) -> Path:
+    """The work folder: ``--root``, else the spec's folder unless that is inside the
+    installed package (a bundled sample), else the current folder.
+
+    Raises:
+        SpecError: ``--root`` is not an existing folder.
+    """
+    from ductgen.errors import SpecError
+
+    if root is not None:
+        if not root.is_dir():
+            raise SpecError("--root", str(root), "an existing folder", "the page works inside it")
+        return root
+    if spec_path is not None:
+        folder = spec_path.parent.resolve()
+        if not (folder == package or folder.is_relative_to(package)):
+            return folder
+    return Path.cwd()

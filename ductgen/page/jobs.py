@@ -10,6 +10,8 @@ together, nothing replaced without ``force``); sweeps through
 
 from __future__ import annotations
 
+import os
+import stat
 import tempfile
 import threading
 import time
@@ -22,7 +24,7 @@ from ductgen.errors import DuctgenError, SpecError, excerpt
 from ductgen.page.preview import check_spec, problem_lines
 from ductgen.spec.write import spec_text
 
-__all__ = ["MAX_SWEEP_VARIANTS", "Busy", "JobRunner", "absolute_tables"]
+__all__ = ["MAX_SWEEP_VARIANTS", "Busy", "JobRunner", "absolute_tables", "written_since"]
 
 #: The page runs small sweeps only; larger grids belong to ``ductgen sweep``.
 MAX_SWEEP_VARIANTS = 12
@@ -57,6 +59,23 @@ def absolute_tables(data: dict[str, Any], base_dir: Path | None) -> dict[str, An
             if not p.is_absolute() and (base_dir / p).is_file():
                 out[section] = {**sec, key: str((base_dir / p).resolve())}
     return out
+
+
+def written_since(folder: Path, since: float) -> list[str]:
+    """Regular files below ``folder`` (no symbolic links, none leaving it) modified at or
+    after ``since`` (seconds since the epoch, 1 s slack), as POSIX paths relative to it."""
+    root = Path(folder).resolve()
+    names: list[str] = []
+    for dirpath, _dirs, filenames in os.walk(root):
+        for fn in filenames:
+            p = Path(dirpath) / fn
+            try:
+                st = p.lstat()
+            except OSError:
+                continue
+            if stat.S_ISREG(st.st_mode) and st.st_mtime >= since - 1.0:
+                names.append(p.relative_to(root).as_posix())
+    return sorted(names)
 
 
 class JobRunner:
@@ -162,7 +181,7 @@ class JobRunner:
             files.append({"kind": "report", "name": "report.json"})
             names = result.report["files"]
             solids = [k for k in ("cutter", "insert", "plug") if f"{k}_stl" in names]
-            return {"files": files, "solids": solids}
+            return {"files": files, "solids": solids, "written": [f["name"] for f in files]}
 
         return self._start("build", spec.name, out, work)
 
@@ -200,6 +219,7 @@ class JobRunner:
             check_spec(set_dotted(data, vary.key, value), base_dir)
         out = Path(out_dir) if out_dir is not None else Path.cwd() / f"{spec.name}-sweep"
         text = spec_text(absolute_tables(data, base_dir), "spec.toml", "written by ductgen design")
+        started = time.time()
 
         def work() -> dict[str, Any]:
             with tempfile.TemporaryDirectory(prefix="ductgen-page-") as tmp:
@@ -213,6 +233,11 @@ class JobRunner:
             failed = [f"{r.id}: {r.error}" for r in result.failed]
             html = result.files.get("html")
             page = html.name if html is not None else "comparison.html"
-            return {"page": page, "failed": failed, "variants": len(result.results)}
+            return {
+                "page": page,
+                "failed": failed,
+                "variants": len(result.results),
+                "written": written_since(out, started),
+            }
 
         return self._start("sweep", spec.name, out, work)

@@ -1,37 +1,47 @@
 """The design page's local HTTP server (standard library ``http.server``, one thread per
-request) and its JSON API.
+connection, a cap on connections) and its JSON API.
 
 Routes (all answers are JSON unless a file is asked for):
 
-* ``GET /`` the page; ``GET /assets/NAME`` its script and style (package data, nothing
-  from the internet);
+* ``GET /?token=KEY`` sets the key cookie and sends the browser to ``/``; ``GET /`` the page;
+  ``GET /assets/NAME`` its script and style (package data, nothing from the internet);
 * ``GET /api/init`` the published JSON Schema, unit hints, the starting spec data, the
   output kinds and the current job;
 * ``POST /api/preview`` spec data → numbers, drawings, airflow, warnings or problems;
 * ``POST /api/build``, ``POST /api/sweep`` start the one background job; ``GET /api/job``
-  its progress; ``GET /out/PATH`` a file of the last finished job;
+  its progress; ``GET /out/JOB/NAME`` a file job JOB of this run wrote;
 * ``POST /api/save`` writes the spec as TOML; ``POST /api/open`` reads a spec file.
 
-Bound to loopback unless the caller allows otherwise (``ductgen design --host``). Requests
-must name this server in their ``Host`` header (a web page elsewhere cannot reach it through
-DNS rebinding) and POST bodies must be JSON (a cross-site form cannot send that).
+Who may ask and which files a request may touch is :mod:`ductgen.page.guard`'s business:
+every request is checked there before it reaches a route. A refused request costs one line
+on the terminal, never a traceback.
 """
 
 from __future__ import annotations
 
-import ipaddress
+import contextlib
 import json
 import mimetypes
 import socket
-from dataclasses import dataclass, field
+import sys
+import threading
 from http.server import BaseHTTPRequestHandler, ThreadingHTTPServer
 from importlib.resources import files
-from pathlib import Path
 from typing import Any
-from urllib.parse import unquote, urlsplit
+from urllib.parse import parse_qs, unquote, urlsplit
 
-from ductgen.errors import DuctgenError, OverwriteError, SpecError
-from ductgen.page.jobs import MAX_SWEEP_VARIANTS, Busy, JobRunner
+from ductgen.errors import DuctgenError, OverwriteError, SpecError, excerpt
+from ductgen.page.app import DesignApp
+from ductgen.page.guard import (
+    HostRule,
+    Refusal,
+    allowed_hosts,
+    check_origin,
+    cookie_name,
+    credential_status,
+    is_loopback,
+)
+from ductgen.page.jobs import Busy
 from ductgen.page.preview import check_spec, preview, problem_lines
 
 __all__ = ["ASSETS", "DesignApp", "is_loopback", "make_server"]
@@ -42,58 +52,28 @@ ASSETS = ("index.html", "page.css", "page.js", "viewer.js")
 #: Largest request body read (bytes): a spec is a few kB.
 MAX_BODY_BYTES = 1_000_000
 
+#: Seconds a connection may stay silent before it is closed.
+SOCKET_TIMEOUT_S = 10.0
 
-def is_loopback(host: str) -> bool:
-    """Whether ``host`` names this computer only (127.0.0.0/8, ::1 or ``localhost``)."""
-    if host.strip().lower() == "localhost":
-        return True
+#: Connections served at once; more are answered 503 and closed at once.
+MAX_CONNECTIONS = 96
+
+_NO_KEY = (
+    "this page needs the key ductgen design printed: open the address it printed "
+    "(http://HOST:PORT/?token=...)"
+)
+
+
+def _say(line: str) -> None:
+    """One line on the terminal (the server's only output besides the address)."""
     try:
-        return ipaddress.ip_address(host.strip("[]")).is_loopback
-    except ValueError:
-        return False
-
-
-@dataclass
-class DesignApp:
-    """What the server serves: the starting spec, where files go, the job runner.
-
-    Attributes:
-        data: the starting spec as plain data (units as written).
-        spec_path: the spec file (default target of *save*), or None.
-        out_dir: the build folder given on the command line, or None (``./NAME``).
-        load_problems: the starting spec's problems, shown beside the fields at once.
-    """
-
-    data: dict[str, Any]
-    spec_path: Path | None = None
-    out_dir: Path | None = None
-    jobs: JobRunner = field(default_factory=JobRunner)
-
-    def init(self) -> dict[str, Any]:
-        from ductgen.page.fields import schema_json, unit_hints
-        from ductgen.pipeline.builder import output_kinds, package_version
-
-        return {
-            "schema": schema_json(),
-            "units": unit_hints(),
-            "data": self.data,
-            "spec_path": str(self.spec_path) if self.spec_path else "",
-            "out_dir": str(self.out_dir) if self.out_dir else "",
-            "output_kinds": output_kinds(),
-            "max_sweep_variants": MAX_SWEEP_VARIANTS,
-            "version": package_version(),
-            "job": self.jobs.snapshot(),
-        }
-
-
-def _base_dir(body: dict[str, Any]) -> Path:
-    p = str(body.get("spec_path") or "").strip()
-    return Path(p).expanduser().absolute().parent if p else Path.cwd()
-
-
-def _path_or_none(value: Any) -> Path | None:
-    text = str(value or "").strip()
-    return Path(text).expanduser() if text else None
+        safe = "".join(c if c.isprintable() else "?" for c in line)  # no terminal escapes
+        if len(safe) > 300:
+            safe = safe[:299] + "…"
+        sys.stderr.write(f"ductgen design: {safe}\n")
+        sys.stderr.flush()
+    except (OSError, ValueError):
+        pass
 
 
 def _only(value: Any) -> list[str] | None:
@@ -106,19 +86,32 @@ def _only(value: Any) -> list[str] | None:
 
 class _Handler(BaseHTTPRequestHandler):
     server_version = "ductgen-design"
+    timeout = SOCKET_TIMEOUT_S  # StreamRequestHandler sets it on the socket
     app: DesignApp
-    hosts: frozenset[str] | None
+    hosts: HostRule
 
     def log_message(self, format: str, *args: Any) -> None:
-        pass  # the terminal stays quiet; the page shows what happens
+        pass  # refusals are said once each by _refuse; the page shows the rest
+
+    def log_error(self, format: str, *args: Any) -> None:
+        _say(f"bad request from {self.client_address[0]}: {format % args}")
 
     # --- answers ---------------------------------------------------------------------------
-    def _send(self, code: int, body: bytes, ctype: str, extra: dict[str, str] | None = None):  # type: ignore[no-untyped-def]
+    def _send(
+        self, code: int, body: bytes, ctype: str, extra: dict[str, str] | None = None
+    ) -> None:
         self.send_response(code)
         self.send_header("Content-Type", ctype)
         self.send_header("Content-Length", str(len(body)))
         self.send_header("Cache-Control", "no-store")
         self.send_header("X-Content-Type-Options", "nosniff")
+        self.send_header("X-Frame-Options", "DENY")
+        self.send_header("Referrer-Policy", "no-referrer")
+        self.send_header(
+            "Content-Security-Policy",
+            "default-src 'self'; img-src 'self' data: blob:; style-src 'self' 'unsafe-inline'; "
+            "frame-ancestors 'none'",
+        )
         for k, v in (extra or {}).items():
             self.send_header(k, v)
         self.end_headers()
@@ -129,32 +122,66 @@ class _Handler(BaseHTTPRequestHandler):
         body = json.dumps(obj, allow_nan=False, default=str).encode()
         self._send(code, body, "application/json; charset=utf-8")
 
+    def _refuse(self, code: int, message: str) -> None:
+        what = f"{self.command} {urlsplit(self.path).path[:80]}"
+        _say(f"refused {code} {what} from {self.client_address[0]}: {message}")
+        self._json(code, {"ok": False, "problems": [], "message": message})
+
     def _error(self, err: Exception) -> None:
-        if isinstance(err, Busy):
+        if isinstance(err, Refusal):
+            self._refuse(err.status, str(err))
+        elif isinstance(err, Busy):
             self._json(409, {"ok": False, "busy": True, "message": str(err), "job": err.state})
         elif isinstance(err, SpecError):
             self._json(400, {"ok": False, "problems": problem_lines(err), "message": str(err)})
         elif isinstance(err, OverwriteError):
-            self._json(409, {"ok": False, "problems": [], "message": str(err)})
+            self._json(409, {"ok": False, "problems": [], "message": _page_words(str(err))})
         elif isinstance(err, DuctgenError):
             self._json(500, {"ok": False, "problems": [], "message": str(err)})
         else:
-            raise err
+            _say(f"internal error in {self.command} {self.path}: {type(err).__name__}: {err}")
+            msg = f"internal error: {type(err).__name__}: {excerpt(str(err), 300)}"
+            self._json(500, {"ok": False, "problems": [], "message": msg})
 
-    def _host_ok(self) -> bool:
-        if self.hosts is None:
-            return True
-        host = (self.headers.get("Host") or "").strip().lower()
-        if host in self.hosts:
-            return True
-        self._json(421, {"ok": False, "message": f"unexpected Host header {host!r}"})
-        return False
+    # --- every request ---------------------------------------------------------------------
+    def _admit(self, *, need_key: bool = True) -> bool:
+        """Host, Origin and key checks; False when the request was refused (and answered)."""
+        host = self.headers.get("Host")
+        if not self.hosts.accepts(host):
+            self._refuse(403, f"Host {host!r} does not name this server")
+            return False
+        why = check_origin(self.headers.get("Origin"), host, self.headers.get("Sec-Fetch-Site"))
+        if why is not None:
+            self._refuse(403, why)
+            return False
+        if need_key:
+            status = credential_status(
+                self.app.secret,
+                self.server.server_address[1],
+                self.headers.get("Cookie"),
+                self.headers.get("Authorization"),
+            )
+            if status:
+                self._refuse(status, _NO_KEY if status == 401 else "wrong key for this page")
+                return False
+        return True
 
     # --- GET --------------------------------------------------------------------------------
     def do_GET(self) -> None:
-        if not self._host_ok():
+        try:
+            self._get()
+        except Exception as err:  # one line, never a traceback
+            self._error(err)
+
+    do_HEAD = do_GET
+
+    def _get(self) -> None:
+        parts = urlsplit(self.path)
+        path = unquote(parts.path)
+        if path in ("/", "/index.html") and "token" in parse_qs(parts.query):
+            return self._enter(parse_qs(parts.query)["token"][0])
+        if not self._admit():
             return
-        path = unquote(urlsplit(self.path).path)
         if path in ("/", "/index.html"):
             return self._asset("index.html")
         if path.startswith("/assets/"):
@@ -162,12 +189,21 @@ class _Handler(BaseHTTPRequestHandler):
         if path == "/api/init":
             return self._json(200, self.app.init())
         if path == "/api/job":
-            return self._json(200, self.app.jobs.snapshot())
+            return self._json(200, self.app.job_snapshot())
         if path.startswith("/out/"):
             return self._out(path.removeprefix("/out/"))
         self._json(404, {"ok": False, "message": f"no such page {path}"})
 
-    do_HEAD = do_GET
+    def _enter(self, token: str) -> None:
+        """The printed address: a right key sets the cookie and leaves the key out of the
+        address bar and the history (303 to ``/``)."""
+        if not self._admit(need_key=False):
+            return
+        port = self.server.server_address[1]
+        if credential_status(self.app.secret, port, None, f"Bearer {token}"):
+            return self._refuse(403, "wrong key for this page")
+        cookie = f"{cookie_name(port)}={self.app.secret}; Path=/; HttpOnly; SameSite=Strict"
+        self._send(303, b"", "text/plain", {"Location": "/", "Set-Cookie": cookie})
 
     def _asset(self, name: str) -> None:
         if name not in ASSETS:
@@ -177,13 +213,9 @@ class _Handler(BaseHTTPRequestHandler):
         self._send(200, body, f"{ctype}; charset=utf-8")
 
     def _out(self, rel: str) -> None:
-        root = self.app.jobs.out_dir()
-        if root is None:
-            return self._json(404, {"ok": False, "message": "no finished build or sweep yet"})
-        root = root.resolve()
-        target = (root / rel).resolve()
-        if not target.is_relative_to(root) or not target.is_file():
-            return self._json(404, {"ok": False, "message": f"no file {rel} in {root}"})
+        target = self.app.served_file(rel)
+        if target is None:
+            return self._json(404, {"ok": False, "message": f"no file {rel} from this page's jobs"})
         ctype = mimetypes.guess_type(target.name)[0] or "application/octet-stream"
         if target.suffix.lower() in (".html", ".json", ".csv", ".txt"):
             ctype += "; charset=utf-8"
@@ -193,30 +225,33 @@ class _Handler(BaseHTTPRequestHandler):
     def _body(self) -> dict[str, Any] | None:
         ctype = (self.headers.get("Content-Type") or "").split(";")[0].strip().lower()
         if ctype != "application/json":
-            self._json(415, {"ok": False, "message": "POST bodies must be application/json"})
+            self._refuse(415, "POST bodies must be application/json")
             return None
         try:
             n = int(self.headers.get("Content-Length") or 0)
         except ValueError:
             n = -1
         if not 0 <= n <= MAX_BODY_BYTES:
-            self._json(413, {"ok": False, "message": f"at most {MAX_BODY_BYTES:,} bytes"})
+            self._refuse(413, f"a request body of at most {MAX_BODY_BYTES:,} bytes")
             return None
         try:
             body = json.loads(self.rfile.read(n) or b"{}")
         except (ValueError, RecursionError):
-            self._json(400, {"ok": False, "message": "the request is not valid JSON"})
+            self._refuse(400, "the request is not valid JSON")
             return None
         if not isinstance(body, dict):
-            self._json(400, {"ok": False, "message": "the request must be a JSON object"})
+            self._refuse(400, "the request must be a JSON object")
             return None
         return body
 
     def do_POST(self) -> None:
-        if not self._host_ok():
-            return
-        body = self._body()
-        if body is None:
+        try:
+            self._post()
+        except Exception as err:  # one line, never a traceback
+            self._error(err)
+
+    def _post(self) -> None:
+        if not self._admit():
             return
         path = urlsplit(self.path).path
         routes = {
@@ -229,20 +264,34 @@ class _Handler(BaseHTTPRequestHandler):
         route = routes.get(path)
         if route is None:
             return self._json(404, {"ok": False, "message": f"no such action {path}"})
-        try:
-            route(body)
-        except (DuctgenError, Busy) as err:
-            self._error(err)
+        body = self._body()
+        if body is None:
+            return
+        route(body)
+
+    def _spec_in(self, body: dict[str, Any]) -> tuple[Any, Any]:
+        base = self.app.base_dir(body)
+        data = body.get("data")
+        self.app.check_files(data, base)
+        return data, base
 
     def _preview(self, body: dict[str, Any]) -> None:
-        self._json(200, preview(body.get("data"), _base_dir(body)))
+        try:
+            data, base = self._spec_in(body)
+        except SpecError as err:
+            return self._json(
+                200, {"ok": False, "problems": problem_lines(err), "message": str(err)}
+            )
+        self._json(200, preview(data, base))
 
     def _build(self, body: dict[str, Any]) -> None:
-        out = _path_or_none(body.get("out")) or self.app.out_dir
+        data, base = self._spec_in(body)
+        cli_out = self.app.out_dir
+        default = str(cli_out) if cli_out is not None else _name(data)
         state = self.app.jobs.start_build(
-            body.get("data"),
-            _base_dir(body),
-            out,
+            data,
+            base,
+            self.app.out_target(body.get("out"), default),
             only=_only(body.get("only")),
             force=bool(body.get("force")),
             quality=str(body.get("quality") or "normal"),
@@ -250,12 +299,13 @@ class _Handler(BaseHTTPRequestHandler):
         self._json(202, {"ok": True, "job": state})
 
     def _sweep(self, body: dict[str, Any]) -> None:
+        data, base = self._spec_in(body)
         state = self.app.jobs.start_sweep(
-            body.get("data"),
-            _base_dir(body),
+            data,
+            base,
             str(body.get("key") or ""),
             str(body.get("values") or ""),
-            _path_or_none(body.get("out")),
+            self.app.out_target(body.get("sweep_out"), f"{_name(data)}-sweep"),
             only=_only(body.get("only")),
         )
         self._json(202, {"ok": True, "job": state})
@@ -264,23 +314,70 @@ class _Handler(BaseHTTPRequestHandler):
         from ductgen.atomic import write_atomic
         from ductgen.spec.write import spec_text
 
-        path = _path_or_none(body.get("path"))
-        if path is None or path.suffix.lower() not in (".toml", ".json"):
-            raise SpecError("save as", str(path or ""), "a .toml or .json file", "spec format")
-        data = body.get("data")
-        check_spec(data, _base_dir(body))  # only a valid spec is written
+        path = self.app.save_target(body.get("path"))
+        data, base = self._spec_in(body)
+        check_spec(data, base)  # only a valid spec is written
         text = spec_text(data, path, "ductgen spec, written by ductgen design")
         write_atomic(path, text.encode(), force=bool(body.get("force")))
-        self._json(200, {"ok": True, "path": str(path.resolve())})
+        self._json(200, {"ok": True, "path": self.app.work.show(path)})
 
     def _open(self, body: dict[str, Any]) -> None:
         from ductgen.spec import read_spec_data
 
-        path = _path_or_none(body.get("path"))
-        if path is None:
-            raise SpecError("open", "", "a spec file path", "nothing to open")
+        path = self.app.open_target(body.get("path"))
         data = read_spec_data(path)
-        self._json(200, {"ok": True, "data": data, "spec_path": str(path.absolute())})
+        self._json(200, {"ok": True, "data": data, "spec_path": self.app.work.show(path)})
+
+
+def _name(data: Any) -> str:
+    """The spec's name for a default folder (checked with the spec itself later)."""
+    name = data.get("name") if isinstance(data, dict) else None
+    return name.strip() if isinstance(name, str) and name.strip() else "ductgen"
+
+
+def _page_words(message: str) -> str:
+    """The CLI's overwrite sentence in the page's words (a checkbox, not ``--force``)."""
+    return message.replace("pass --force", "tick 'replace existing files'").replace(
+        "--force", "'replace existing files'"
+    )
+
+
+class _Server(ThreadingHTTPServer):
+    """A threading server with a cap on connections and a one-line error report."""
+
+    daemon_threads = True
+    request_queue_size = 128
+    address_family = socket.AF_INET
+
+    def __init__(self, *args: Any, **kw: Any) -> None:
+        self._slots = threading.BoundedSemaphore(MAX_CONNECTIONS)
+        super().__init__(*args, **kw)
+
+    def process_request(self, request: Any, client_address: Any) -> None:
+        if not self._slots.acquire(blocking=False):
+            with contextlib.suppress(OSError):
+                request.sendall(
+                    b"HTTP/1.0 503 Service Unavailable\r\nContent-Length: 0\r\n"
+                    b"Connection: close\r\n\r\n"
+                )
+            self.shutdown_request(request)
+            return
+        try:
+            super().process_request(request, client_address)
+        except Exception:
+            self._slots.release()
+            raise
+
+    def process_request_thread(self, request: Any, client_address: Any) -> None:
+        try:
+            super().process_request_thread(request, client_address)
+        finally:
+            self._slots.release()
+
+    def handle_error(self, request: Any, client_address: Any) -> None:
+        err = sys.exc_info()[1]
+        where = client_address[0] if client_address else "?"
+        _say(f"connection from {where} dropped: {type(err).__name__}: {err}")
 
 
 def make_server(
@@ -290,7 +387,8 @@ def make_server(
 
     Raises:
         SpecError: ``host`` is not a loopback address and ``allow_remote`` is False (the
-            CLI sets it only when ``--host`` is given), or the port cannot be bound.
+            CLI sets it only when ``--host`` is given), ``host`` is not an address of this
+            computer (on ``--host``), or the port cannot be bound (on ``--port``).
     """
     if not allow_remote and not is_loopback(host):
         raise SpecError(
@@ -299,16 +397,26 @@ def make_server(
             "127.0.0.1, ::1 or localhost",
             "the design page serves this computer only unless --host is given",
         )
-    family = socket.AF_INET6 if ":" in host else socket.AF_INET
-    server_cls = type("DesignServer", (ThreadingHTTPServer,), {"address_family": family})
-    handler = type("Handler", (_Handler,), {"app": app, "hosts": None})
+    if not 0 <= port <= 65535:
+        raise SpecError("--port", port, "0 to 65535 (0 = any free port)", "a TCP port number")
+    bind = host.strip().strip("[]")
     try:
-        server = server_cls((host.strip("[]"), port), handler)
+        infos = socket.getaddrinfo(bind, port, type=socket.SOCK_STREAM)
+    except (socket.gaierror, UnicodeError) as err:
+        raise SpecError(
+            "--host", host, "an address or name of this computer", f"cannot resolve it: {err}"
+        ) from err
+    family = infos[0][0]
+    server_cls = type("DesignServer", (_Server,), {"address_family": family})
+    handler = type("Handler", (_Handler,), {"app": app})
+    try:
+        server = server_cls((bind, port), handler)
     except OSError as err:
-        raise SpecError("--port", port, "a free port (0 = any)", err.strerror or str(err)) from err
-    server.daemon_threads = True
-    bound = server.server_address[1]
-    if is_loopback(host):
-        names = ("127.0.0.1", "localhost", "[::1]", host.lower())
-        handler.hosts = frozenset(f"{n}:{bound}" for n in names)
+        key, allowed = ("--port", "a free port (0 = any)")
+        if err.errno in (99, 49):  # EADDRNOTAVAIL (Linux, BSD): not an address of this host
+            key, allowed = ("--host", "an address of this computer")
+        raise SpecError(
+            key, host if key == "--host" else port, allowed, err.strerror or str(err)
+        ) from err
+    handler.hosts = allowed_hosts(bind, server.server_address[1])
     return server

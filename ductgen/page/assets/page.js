@@ -344,11 +344,11 @@ function showJob(j) {
   if (j.status !== "done" || j.id === S.lastJob) return;
   S.lastJob = j.id;
   if (j.kind === "build") {
-    $("files").replaceChildren(...j.files.map((f) => el("li", {}, el("a", { href: "/out/" + encodeURIComponent(f.name), download: f.name, text: f.name }))));
+    $("files").replaceChildren(...j.files.map((f) => el("li", {}, el("a", { href: j.base_url + encodeURIComponent(f.name), download: f.name, text: f.name }))));
     if (j.solids && j.solids.length) showViewer(j);
   } else {
     $("sweep-msg").replaceChildren(`${j.variants} variants in ${j.out_dir}` + (j.failed.length ? `, ${j.failed.length} failed` : "") + " · ",
-      el("a", { href: "/out/" + j.page, target: "_blank", id: "sweep-page", text: "open the comparison page" }));
+      el("a", { href: j.base_url + encodeURIComponent(j.page), target: "_blank", id: "sweep-page", text: "open the comparison page" }));
   }
 }
 
@@ -358,7 +358,7 @@ function showViewer(j) {
   const sel = $("viewer-kind");
   sel.replaceChildren(...j.solids.map((k) => el("option", { value: k, text: k })));
   $("viewer-card").hidden = false;
-  const load = () => S.viewer.load(`/out/${encodeURIComponent(j.name + "-" + sel.value + ".stl")}`);
+  const load = () => S.viewer.load(j.base_url + encodeURIComponent(j.name + "-" + sel.value + ".stl"));
   sel.onchange = load;
   if (!S.viewer) S.viewer = new window.DuctViewer($("viewer"));
   load();
@@ -403,7 +403,9 @@ async function sweep() {
 async function init() {
   const ini = await api("/api/init");
   S.schema = ini.schema; S.defs = ini.schema.$defs || {}; S.units = ini.units; S.specPath = ini.spec_path;
-  $("save-path").value = ini.spec_path;
+  $("save-path").value = ini.save_path;
+  $("save-path").title = `a .toml file inside the work folder ${ini.work_dir}`;
+  $("out-dir").title = `a folder inside the work folder ${ini.work_dir}`;
   $("out-dir").value = ini.out_dir;
   $("kinds").append(...ini.output_kinds.map((k) => el("label", {}, el("input", { type: "checkbox", value: k, checked: true }), " " + k)));
   buildForm(ini.schema, ini.data);
