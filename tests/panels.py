@@ -15,6 +15,8 @@ __all__ = [
     "bonnet_face",
     "bonnet_height",
     "cylinder_panel",
+    "s_height",
+    "s_panel_face",
     "torus_panel",
 ]
 
@@ -110,3 +112,20 @@ def bent_plate(fold_x: float, angle_deg: float, thickness: float = 3.0):  # type
     top = [(-200.0, 0.0), (fold_x, 0.0), (fold_x + far * np.cos(a), -far * np.sin(a))]
     bottom = [(x, z - thickness) for x, z in top[::-1]]
     return cq.Workplane("XZ").polyline(top + bottom).close().extrude(200, both=True).val()
+
+
+def s_height(x: np.ndarray, y: np.ndarray) -> np.ndarray:
+    """An S-shaped height (mm): a sine wave along the flow (25 mm amplitude, 1.2 m long, so
+    convex then concave, radius ≥ 1.46 m) with a gentle spanwise camber (R 3 m)."""
+    return 25.0 * np.sin(2 * np.pi * (x - 100.0) / 1200.0) - y * y / (2 * 3000.0)
+
+
+def s_panel_face(reversed_: bool = False):  # type: ignore[no-untyped-def]
+    """The S-shaped surface as one open B-spline face, its normal up (or, ``reversed_``,
+    down: the file's faces then say the body is above)."""
+    import cadquery as cq
+
+    xs, ys = np.linspace(-300, 700, 41), np.linspace(-260, 260, 27)
+    pts = [[cq.Vector(x, y, float(s_height(x, y))) for y in ys] for x in xs]
+    face = cq.Face.makeSplineApprox(pts, tol=1e-4, maxDeg=3)
+    return cq.Face(face.wrapped.Reversed()) if reversed_ else face

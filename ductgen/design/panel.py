@@ -148,6 +148,15 @@ def panel_skin(
                 "datum; the inlet is laid along its projection onto the surface",
             )
         )
+    if s["outward_from"] == "file faces only":
+        warnings.append(
+            DesignWarning(
+                "outward_unconfirmed",
+                "the panel is an open surface whose shape does not show which side is "
+                "outside; the file's face orientation was taken: check the inlet opens on "
+                "the outside in the preview, or give skin.outward",
+            )
+        )
     frame = PanelFrame(np.asarray(s["origin"]), np.asarray(s["axes"]))
     x, y, h = np.asarray(s["x"]), np.asarray(s["y"]), np.asarray(s["h"])
     if np.isnan(h).any():

@@ -34,6 +34,12 @@ CAD_SUFFIXES = (".step", ".stp")
 MESH_SUFFIXES = (".stl", ".obj", ".ply")
 #: Largest distance (mm) from ``skin.at`` to the panel surface that is taken as "on it".
 MAX_AT_DISTANCE_MM = 1.0
+#: How far (as a fraction of the panel's size) the panel's area centroid must lie from the
+#: datum's tangent plane for its side to count as evidence of where the body is: a panel
+#: curving away from its outside lies behind its tangent plane (a convex surface lies wholly
+#: on one side of it); a saddle or an S-shaped panel scatters about it (common practice,
+#: no source).
+SHAPE_EVIDENCE = 0.02
 #: Millimetres per unit of a mesh file (``skin.units``).
 MESH_UNITS_MM = {"mm": 1.0, "cm": 10.0, "m": 1000.0, "in": 25.4}
 #: Largest panel file read (bytes).
@@ -133,6 +139,51 @@ def _frame(
         return np.eye(3), 90.0, flipped
     x = t / np.linalg.norm(t)
     return np.vstack([x, np.cross(n, x), n]), off, flipped
+
+
+def _area_centroid(kind: str, shape: Any) -> tuple[np.ndarray, float]:
+    """The area centroid of a panel's surface and its bounding-box diagonal (mm)."""
+    if kind == "brep":
+        verts, tris = shape.tessellate(2.0, 0.5)
+        v = np.array([(p.x, p.y, p.z) for p in verts], dtype=float)
+        t = np.asarray(tris, dtype=int)
+    else:
+        v, t = np.asarray(shape.vertices, dtype=float), np.asarray(shape.faces, dtype=int)
+    a, b, c = v[t[:, 0]], v[t[:, 1]], v[t[:, 2]]
+    area = 0.5 * np.linalg.norm(np.cross(b - a, c - a), axis=1)
+    centre = (area[:, None] * (a + b + c) / 3.0).sum(axis=0) / max(float(area.sum()), 1e-12)
+    return centre, float(np.linalg.norm(v.max(axis=0) - v.min(axis=0)))
+
+
+def _outward_evidence(
+    kind: str, shape: Any, foot: np.ndarray, normal: np.ndarray, at: Any
+) -> tuple[np.ndarray, str]:
+    """An open surface's outward normal at the datum from evidence, and which evidence.
+
+    The file's face orientation says one side; the side of the datum's tangent plane the
+    panel's area centroid lies on says the other is the body's (beyond
+    :data:`SHAPE_EVIDENCE` of the panel's size; nearer, the shape does not tell).
+
+    Raises:
+        SpecError: on ``skin.outward`` when the two disagree.
+    """
+    centre, size = _area_centroid(kind, shape)
+    n = normal / np.linalg.norm(normal)
+    side = float(np.dot(centre - foot, n)) / max(size, 1e-9)
+    if side < -SHAPE_EVIDENCE:
+        return n, "file faces, confirmed by the panel's shape"
+    if side <= SHAPE_EVIDENCE:
+        return n, "file faces only"
+    out = -n
+    raise SpecError(
+        "skin.outward",
+        None,
+        f"a vector pointing out of the body, e.g. [{out[0]:.2f}, {out[1]:.2f}, {out[2]:.2f}]",
+        f"the file's faces say the outside at skin.at is toward [{n[0]:.2f}, {n[1]:.2f}, "
+        f"{n[2]:.2f}], but the panel curves toward that side (its surface lies mostly in "
+        "front of the tangent plane there), as the inside of a body does: say which side "
+        "is outside with skin.outward",
+    )
 
 
 def _face_normal(face: Any, p: Any) -> np.ndarray:
@@ -360,6 +411,9 @@ def sample_panel(
             f"the nearest surface point, ({foot[0]:.2f}, {foot[1]:.2f}, {foot[2]:.2f}) mm, is "
             f"{dist:.2f} mm away",
         )
+    evidence = "skin.outward" if out_v is not None else "closed solid"
+    if out_v is None and not closed:
+        normal, evidence = _outward_evidence(kind, shape, foot, normal, at)
     axes, off_deg, flipped = _frame(foot, normal, np.asarray(flow, dtype=float), out_v)
     xs = np.arange(box[0], box[1] + 0.5 * step, step)
     ys = np.arange(box[2], box[3] + 0.5 * step, step)
@@ -383,7 +437,7 @@ def sample_panel(
         "axes": axes,
         "distance_mm": dist,
         "flow_off_tangent_deg": off_deg,
-        "outward_from": "skin.outward" if flipped else "file",
+        "outward_from": evidence,
         "closed": closed,
         "x": xs,
         "y": ys,
