@@ -14,6 +14,7 @@ from typing import Any
 
 from ductgen.design import Design
 from ductgen.errors import DesignWarning
+from ductgen.flow.stall import steepest_wall_report
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.spec.model import Spec
 
@@ -176,6 +177,8 @@ def start_report(
         "geometry": geometry_section(d.geometry, solids),
     }
     report["geometry"]["skin"] = _skin_section(d)
+    if "transition" in report["geometry"]:
+        report["geometry"]["transition"].update(steepest_wall_report(d.duct))
     report["template"] = {
         "development": "exact" if d.development.exact else "least-distortion (LSCM + ARAP)",
         "max_length_distortion_pct": d.development.max_length_distortion_pct,

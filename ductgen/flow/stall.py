@@ -22,13 +22,18 @@ from __future__ import annotations
 import math
 from collections.abc import Callable
 
+from typing import Any
+
 from scipy.optimize import brentq
+
+from ductgen.flow.inputs import DuctShape
 
 __all__ = [
     "STALL_LINE_POINTS",
     "STALL_LINE_SOURCE",
     "length_under_stall_line",
     "stall_line_included_deg",
+    "steepest_wall_report",
 ]
 
 #: Two points of line a-a, (N/W1, 2θ in deg), recalled from the flow-regime chart of
@@ -76,3 +81,23 @@ def length_under_stall_line(
         if hi > max_factor * length_mm:
             return None
     return float(brentq(excess, hi / 2.0, hi, xtol=1e-6))
+
+
+def steepest_wall_report(shape: DuctShape) -> dict[str, Any]:
+    """Report keys (deg, mm) of the transition's steepest wall against line a-a; empty
+    without a transition."""
+    if shape.steepest_wall_included_deg is None or not shape.steepest_wall_across_mm:
+        return {}
+    assert shape.transition_length_mm is not None
+    n_w = shape.transition_length_mm / shape.steepest_wall_across_mm
+    line = stall_line_included_deg(n_w)
+    return {
+        "steepest_wall_angle_deg": shape.steepest_wall_angle_deg,
+        "steepest_wall": shape.steepest_wall_name,
+        "steepest_wall_included_deg": shape.steepest_wall_included_deg,
+        "steepest_wall_length_over_width": n_w,
+        "stall_line_included_deg": line,
+        "steepest_wall_stalls": shape.steepest_wall_included_deg > line,
+        "length_under_stall_line_mm": shape.transition_length_under_stall_mm,
+        "stall_line_source": STALL_LINE_SOURCE,
+    }
