@@ -160,6 +160,21 @@ def _skin_section(d: Design) -> dict[str, Any]:
     return out
 
 
+def flow_report(spec: Spec, d: Design) -> tuple[dict[str, Any], list[DesignWarning]]:
+    """The ``flow`` section and its warnings (needs no solids: ``bench/compare_reports.py
+    --refresh-flow`` uses it to refresh the stored references' flow numbers alone)."""
+    from ductgen.flow.report import flow_section
+
+    assert spec.flow is not None
+    section, warnings = flow_section(spec.flow, d.duct)
+    if spec.skin.shape != "flat":
+        section["curvature_note"] = (
+            "the boundary layer is the flat-plate estimate over the run length along the "
+            "surface; the pressure gradient of the skin's curvature is not modelled"
+        )
+    return section, warnings
+
+
 def start_report(
     spec: Spec,
     d: Design,
@@ -185,14 +200,7 @@ def start_report(
     }
     warnings = list(d.warnings)
     if spec.flow is not None:
-        from ductgen.flow.report import flow_section
-
-        report["flow"], flow_warnings = flow_section(spec.flow, d.duct)
-        if spec.skin.shape != "flat":
-            report["flow"]["curvature_note"] = (
-                "the boundary layer is the flat-plate estimate over the run length along the "
-                "surface; the pressure gradient of the skin's curvature is not modelled"
-            )
+        report["flow"], flow_warnings = flow_report(spec, d)
         warnings += flow_warnings
     section, print_warnings = _print_section(spec, d, solids)
     bed, bed_warnings = _bed_section(spec, d, solids)

@@ -138,7 +138,7 @@ def _length_under_stall(t: Transition) -> float | None:
     wall = t.steepest_wall()
 
     def included(length: float) -> float:
-        return dataclasses.replace(t, length_mm=length).steepest_wall(n=60, m=5).included_deg
+        return dataclasses.replace(t, length_mm=length).steepest_wall(n=61, m=5).included_deg
 
     return length_under_stall_line(included, wall.across_mm, t.length_mm)
 

@@ -21,7 +21,6 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable
-
 from typing import Any
 
 from scipy.optimize import brentq

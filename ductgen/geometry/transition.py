@@ -177,14 +177,15 @@ class Transition:
             out[i] = np.degrees(np.arcsin(np.clip(-nx / norm, -1.0, 1.0)))
         return out
 
-    def steepest_wall(self, n: int = 200, m: int = 21) -> SteepestWall:
+    def steepest_wall(self, n: int = 201, m: int = 21) -> SteepestWall:
         """The steepest diverging point of the wall and the facing wall's angle there.
 
-        Sampled on ``n`` points per edge (corners excluded, where the throat's tangent jumps)
-        at ``m`` stations along the length; the ruled surface's angle varies smoothly along
-        an edge, so the sampled maximum is within ~(1/n)² of the true one.
+        Sampled on ``n`` points per edge (corners excluded, where the throat's tangent jumps;
+        an odd ``n`` includes each edge's middle, the floor's centre ruling) at ``m``
+        stations along the length; the ruled surface's angle varies smoothly along an edge,
+        so the sampled maximum is within ~(1/n)² of the true one.
         """
-        frac = (np.arange(n) + 0.5) / n
+        frac = (np.arange(n) + 1.0) / (n + 1.0)
         u = np.concatenate([k + frac for k in range(4)])
         s = np.linspace(0.0, 1.0, m)
         ang = self._wall_angles(u, s)
