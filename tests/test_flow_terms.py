@@ -184,3 +184,15 @@ def test_incompressible_head_below_mach_03() -> None:
     f = _flow()
     assert f["mach"] < 0.3 and f["recovery_head_pa"] == f["dynamic_pressure_pa"]
     assert f["impact_pressure_pa"] > f["dynamic_pressure_pa"]  # reported beside it
+
+
+# --- external drag ------------------------------------------------------------------------
+
+
+def test_external_drag_only_from_a_given_coefficient() -> None:
+    # [derived] D_ext = C_D q0 W D; no sourced table is available, so none is invented
+    assert _flow()["external_drag_n"] is None
+    f = _flow(external_drag_coefficient=0.1)
+    q0 = 0.5 * 1.225 * 50.0**2
+    assert f["external_drag_n"] == pytest.approx(0.1 * q0 * 0.100 * 0.025, rel=1e-12)
+    assert f["total_drag_n"] == pytest.approx(f["ram_drag_n"] + f["external_drag_n"], rel=1e-12)

@@ -54,8 +54,9 @@ TRANSITION_NAME = "internal transition"
 DRAG_NOTE = (
     "momentum_drag_n is the ram (internal) drag m*V0 unless flow.exit_direction = 'rearward', "
     "when it is the net m*(V0 - V_exit) (still without the (p_e - p0)*A_e term). The external "
-    "drag increment of the opening (lip, ramp, spillage) is not included: no sourced table "
-    "for it is available to ductgen"
+    "drag increment of the opening (lip, ramp, spillage) is included only when "
+    "flow.external_drag_coefficient is given (on q0 and the throat area, e.g. from ESDU 86002 "
+    "or a test): no sourced table for it is available to ductgen"
 )
 INLET_LOSS_NOTE = "assumption, no source: lip and ramp losses lumped into one factor"
 INLET_CP_NOTE = (
@@ -242,7 +243,9 @@ def _transition_report(fa: FlowAnalysis) -> dict[str, Any] | None:
     }
 
 
-def _drag(flow: FlowSpec, p: OperatingPoint) -> dict[str, Any]:
+def _drag(flow: FlowSpec, p: OperatingPoint, q_inf_pa: float, throat_m2: float) -> dict[str, Any]:
+    """Momentum (ram or net) drag, and the opening's external drag when its coefficient is
+    given (N)."""
     out: dict[str, Any] = {
         "exit_direction": flow.exit_direction,
         "ram_drag_n": p.ram_drag_n,
@@ -252,6 +255,11 @@ def _drag(flow: FlowSpec, p: OperatingPoint) -> dict[str, Any]:
     if flow.exit_direction == "rearward":
         out["net_momentum_drag_n"] = p.net_momentum_drag_n
         out["momentum_drag_n"] = p.net_momentum_drag_n
+    cd = flow.external_drag_coefficient
+    out["external_drag_n"] = None if cd is None else cd * q_inf_pa * throat_m2
+    if cd is not None:
+        out["external_drag_coefficient"] = cd
+        out["total_drag_n"] = out["momentum_drag_n"] + out["external_drag_n"]
     return out
 
 
@@ -320,7 +328,7 @@ def flow_section(flow: FlowSpec, shape: DuctShape) -> tuple[dict[str, Any], list
                 "local_ram_recovery": p.local_recovery,
                 "inlet_velocity_ratio_local": sys_.local_ivr(p.volume_flow_m3_s),
                 "exit_velocity_m_s": p.exit_velocity_m_s,
-                **_drag(flow, p),
+                **_drag(flow, p, sys_.dynamic_pressure_pa, sys_.throat_area_m2),
                 "budget": [b.to_dict() for b in p.budget],
                 "budget_sum_pa": sum(b.dp_pa for b in p.budget),
             }

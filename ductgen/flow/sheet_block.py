@@ -40,7 +40,11 @@ def flow_block_lines(flow: Mapping[str, Any]) -> list[str]:
                 if flow.get("exit_direction") != "rearward"
                 else "(net, rearward exit)"
             )
-            + "; external drag not included"
+            + (
+                "; external drag not included"
+                if flow.get("external_drag_n") is None
+                else f" + external {flow['external_drag_n']:.2f} N (given C_D)"
+            )
         )
         lines.append(_outflow_line(flow))
     else:

@@ -360,6 +360,17 @@ class FlowSpec(Section):
             "unset = plenum without loss elements, hose with them",
         ),
     ]
+    external_drag_coefficient: Annotated[
+        float | None,
+        Field(
+            default=None,
+            ge=0,
+            le=5,
+            description="external drag increment of the opening (lip, ramp, spillage) on the "
+            "free-stream dynamic pressure and the throat area W*D, from ESDU 86002 or a test; "
+            "unset = not estimated (no sourced table is available to ductgen)",
+        ),
+    ]
     exit_area: Annotated[
         Area | None,
         Field(default=None, gt=0, description="area of the final exit (default: last element)"),
