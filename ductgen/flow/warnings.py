@@ -18,7 +18,8 @@ Shape warnings (:func:`geometry_warnings`) apply with or without a ``[flow]`` se
   included angle exceeds ~8° (common practice, no source: good diffusers keep 5°–8°). The
   equivalent cone alone hides a roof-aligned outlet's steep floor.
 
-Flow warnings (:func:`flow_warnings`): ``mach_above_incompressible`` (Mach > 0.3),
+Flow warnings (:func:`flow_warnings`): ``mach_above_incompressible`` (Mach > 0.3; the
+recovery then uses the impact pressure, the losses stay incompressible),
 ``boundary_layer_thick`` (δ/D > 1 by the larger of two boundary-layer methods; NACA RM
 A7I30 reports the large effect of boundary-layer thickness on recovery),
 ``flow_angle_large`` (|yaw| > 5°: a rounded lip tolerates about 5°–10°, a sharp edge
@@ -164,8 +165,9 @@ def flow_warnings(
         out.append(
             DesignWarning(
                 "mach_above_incompressible",
-                f"Mach {mach:.2f} exceeds {MACH_MAX:g}: the incompressible flow estimate "
-                "is no longer reliable",
+                f"Mach {mach:.2f} exceeds {MACH_MAX:g}: the recovery is applied to the "
+                "isentropic impact pressure, but the duct losses stay incompressible and the "
+                "inlet's flow pattern changes with Mach number; treat the estimate with care",
             )
         )
     if delta_over_depth > DELTA_OVER_DEPTH_MAX:
