@@ -3,6 +3,7 @@ diffuser stall line it is judged on (``ductgen.flow.stall``)."""
 
 from __future__ import annotations
 
+import json
 import math
 
 import pytest
@@ -11,6 +12,7 @@ from scipy.optimize import brentq
 from ductgen.design import build_design
 from ductgen.flow.stall import STALL_LINE_POINTS, stall_line_included_deg, steepest_wall_report
 from ductgen.geometry.transition import Transition
+from ductgen.pipeline import build
 from ductgen.sizing import size_result_dict, size_throat
 from ductgen.spec import load_spec
 from tests.conftest import ROOT
@@ -89,3 +91,16 @@ def test_size_offers_the_transition_length() -> None:
     tr = out["transition"]
     assert tr["steepest_wall"] == "floor" and tr["steepest_wall_stalls"] is True
     assert tr["length_under_stall_line_mm"] > tr["length_mm"]
+
+
+def test_report_carries_the_steepest_wall(tmp_path) -> None:  # type: ignore[no-untyped-def]
+    # [derived] as above: the club's floor at atan(48.2/170) = 15.83 deg, in report.json
+    spec = load_spec(ROOT / "samples" / "club-racer-brake.toml")
+    build(spec, tmp_path, only=["template"])  # no solids needed for report.json
+    rep = json.loads((tmp_path / "report.json").read_text())
+    tr = rep["geometry"]["transition"]
+    assert tr["steepest_wall_angle_deg"] == pytest.approx(
+        math.degrees(math.atan(48.2 / 170.0)), abs=1e-4
+    )
+    assert tr["steepest_wall_stalls"] is True and "recalled" in tr["stall_line_source"]
+    assert "diffuser_angle_large" in {w["code"] for w in rep["warnings"]}
