@@ -196,3 +196,17 @@ def test_external_drag_only_from_a_given_coefficient() -> None:
     q0 = 0.5 * 1.225 * 50.0**2
     assert f["external_drag_n"] == pytest.approx(0.1 * q0 * 0.100 * 0.025, rel=1e-12)
     assert f["total_drag_n"] == pytest.approx(f["ram_drag_n"] + f["external_drag_n"], rel=1e-12)
+
+
+def test_plenum_before_loss_elements_dumps_alpha_q_of_the_duct_outlet() -> None:
+    # [derived] a throat dumping into a plenum that holds a cooler: the whole alpha*q at
+    # the throat velocity is lost, then the cooler's K on its face and the exit head
+    cooler = {"kind": "cooler", "k": 2.0, "face_area": "250 cm^2"}
+    f = _flow(kinetic_energy_factor=1.3, exit="plenum", losses=[cooler])
+    names = [b["element"] for b in f["budget"]]
+    assert names == ["plenum dump", "cooler 1", "exit static pressure", "exit dynamic head"]
+    dump = f["budget"][0]
+    v_throat = f["volume_flow_m3_s"] / (0.100 * 0.025)
+    assert dump["velocity_m_s"] == pytest.approx(v_throat, rel=1e-12)
+    assert dump["dp_pa"] == pytest.approx(1.3 * 0.5 * 1.225 * v_throat**2, rel=1e-12)
+    assert f["exit_source"] == "given"
