@@ -2,6 +2,12 @@
 
     python bench/compare_reports.py DIR_A DIR_B [--rel 1e-9] [--mesh-rel 1e-8]
     python bench/compare_reports.py --base REV [--rel 1e-9] [--mesh-rel 1e-8]
+    python bench/compare_reports.py --refresh-flow
+
+``--refresh-flow`` rewrites only the ``flow`` section of every stored reference report
+(tests/data/reference_reports) from the working tree's design and flow model, without building
+any solid (the flow model reads the design's numbers only): for a change that is meant to move
+the flow numbers and nothing else. The geometry and print sections are left as they are.
 
 With two folders, each holding one sub-folder per sample (``DIR/NAME/report.json``), it
 compares them. With ``--base REV`` it builds every sample at git revision REV (in a temporary
@@ -103,13 +109,42 @@ def build_all(src: Path, dest: Path) -> None:
         subprocess.run([*cmd, "--quiet", "--force"], check=True, env=env, cwd=src)
 
 
+def refresh_flow(references: Path) -> list[str]:
+    """Rewrite the ``flow`` section of every reference report in ``references`` (no solids);
+    returns the sample names refreshed."""
+    sys.path.insert(0, str(ROOT))
+    from ductgen.design import build_design
+    from ductgen.report import flow_report
+    from ductgen.spec import load_spec
+
+    done = []
+    for path in sorted(references.glob("*.json")):
+        spec = load_spec(ROOT / "samples" / f"{path.stem}.toml")
+        doc = json.loads(path.read_text(encoding="utf-8"))
+        if spec.flow is None or "flow" not in doc:
+            continue
+        doc["flow"] = json.loads(json.dumps(flow_report(spec, build_design(spec))[0]))
+        path.write_text(json.dumps(doc, indent=1) + "\n", encoding="utf-8")
+        done.append(path.stem)
+    return done
+
+
 def main() -> int:
     ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     ap.add_argument("dirs", nargs="*", type=Path)
     ap.add_argument("--base", help="git revision to build and compare against")
     ap.add_argument("--rel", type=float, default=1e-9)
     ap.add_argument("--mesh-rel", type=float, default=1e-8)
+    ap.add_argument(
+        "--refresh-flow",
+        action="store_true",
+        help="rewrite the stored references' flow sections from the working tree (no solids)",
+    )
     args = ap.parse_args()
+    if args.refresh_flow:
+        refs = ROOT / "tests" / "data" / "reference_reports"
+        print("refreshed flow of:", ", ".join(refresh_flow(refs)))
+        return 0
     if args.base:
         with tempfile.TemporaryDirectory() as tmp:
             wt = Path(tmp) / "base"

@@ -14,6 +14,7 @@ from typing import Any
 
 from ductgen.design import Design
 from ductgen.errors import DesignWarning
+from ductgen.flow.stall import steepest_wall_report
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.spec.model import Spec
 
@@ -159,6 +160,21 @@ def _skin_section(d: Design) -> dict[str, Any]:
     return out
 
 
+def flow_report(spec: Spec, d: Design) -> tuple[dict[str, Any], list[DesignWarning]]:
+    """The ``flow`` section and its warnings (needs no solids: ``bench/compare_reports.py
+    --refresh-flow`` uses it to refresh the stored references' flow numbers alone)."""
+    from ductgen.flow.report import flow_section
+
+    assert spec.flow is not None
+    section, warnings = flow_section(spec.flow, d.duct)
+    if spec.skin.shape != "flat":
+        section["curvature_note"] = (
+            "the boundary layer is the flat-plate estimate over the run length along the "
+            "surface; the pressure gradient of the skin's curvature is not modelled"
+        )
+    return section, warnings
+
+
 def start_report(
     spec: Spec,
     d: Design,
@@ -176,20 +192,15 @@ def start_report(
         "geometry": geometry_section(d.geometry, solids),
     }
     report["geometry"]["skin"] = _skin_section(d)
+    if "transition" in report["geometry"]:
+        report["geometry"]["transition"].update(steepest_wall_report(d.duct))
     report["template"] = {
         "development": "exact" if d.development.exact else "least-distortion (LSCM + ARAP)",
         "max_length_distortion_pct": d.development.max_length_distortion_pct,
     }
     warnings = list(d.warnings)
     if spec.flow is not None:
-        from ductgen.flow.report import flow_section
-
-        report["flow"], flow_warnings = flow_section(spec.flow, d.duct)
-        if spec.skin.shape != "flat":
-            report["flow"]["curvature_note"] = (
-                "the boundary layer is the flat-plate estimate over the run length along the "
-                "surface; the pressure gradient of the skin's curvature is not modelled"
-            )
+        report["flow"], flow_warnings = flow_report(spec, d)
         warnings += flow_warnings
     section, print_warnings = _print_section(spec, d, solids)
     bed, bed_warnings = _bed_section(spec, d, solids)

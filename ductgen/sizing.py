@@ -26,6 +26,7 @@ from ductgen.design.build import duct_shape, geometry_from_spec
 from ductgen.errors import SpecError
 from ductgen.flow.operating_point import solve
 from ductgen.flow.report import build_system, flow_section
+from ductgen.flow.stall import steepest_wall_report
 from ductgen.flow.warnings import geometry_warnings
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.geometry.profile import Profile, load_profile
@@ -211,7 +212,7 @@ def size_throat(
 def size_result_dict(r: SizeResult) -> dict[str, Any]:
     """The sizing result with report.json key names (geometry keys at the top level)."""
     g = r.geometry
-    return {
+    out: dict[str, Any] = {
         "name": r.spec.name,
         "throat_width_mm": g.width_mm,
         "throat_depth_mm": g.depth_mm,
@@ -226,6 +227,10 @@ def size_result_dict(r: SizeResult) -> dict[str, Any]:
         "flow": r.flow,
         "warnings": [w.to_dict() for w in r.warnings],
     }
+    wall = steepest_wall_report(duct_shape(g))
+    if wall:  # the transition's steepest wall and the length that clears the stall line
+        out = {**out, "transition": {"length_mm": g.transition.length_mm, **wall}}  # type: ignore[union-attr]
+    return out
 
 
 def sized_spec_data(r: SizeResult, raw: dict[str, Any] | None = None) -> dict[str, Any]:

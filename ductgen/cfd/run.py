@@ -74,13 +74,15 @@ def check_inputs(spec: Spec, mesh: str, n_procs: int, write_only: bool) -> None:
 
 def _downstream(spec: Spec, design: Any) -> Callable[[float], float]:
     """Q (m³/s) → static pressure above ambient (Pa) the duct system behind the cutter's
-    outlet needs: the 1-D budget without the internal transition (the CFD resolves it)."""
+    outlet needs: the 1-D budget without the internal transition and without the lines of
+    its non-uniform outflow (the CFD resolves both: its outlet carries the real profile)."""
     from ductgen.flow.report import TRANSITION_NAME, build_system
 
     system = build_system(spec.flow, design.duct)[0]
+    resolved = {TRANSITION_NAME, "hose mixing", "plenum dump", "plenum dump (alpha - 1)"}
 
     def need(q: float) -> float:
-        return sum(i.dp_pa for i in system.budget(q) if i.element != TRANSITION_NAME)
+        return sum(i.dp_pa for i in system.budget(q) if i.element not in resolved)
 
     return need
 

@@ -127,6 +127,23 @@ def _print(out: dict) -> None:  # type: ignore[type-arg]
             ("inlet velocity ratio", f"{f['inlet_velocity_ratio']:.3f}"),
             ("ram recovery", f"{f['ram_recovery']:.3f} ({f['recovery_model']})"),
         ]
+    tr = out.get("transition")
+    if tr:
+        under = tr["length_under_stall_line_mm"]
+        rows.append(
+            (
+                "transition steepest wall",
+                f"{tr['steepest_wall']} {tr['steepest_wall_angle_deg']:.1f}° "
+                f"(stall line {tr['stall_line_included_deg']:.1f}°); "
+                + (
+                    "under the line"
+                    if not tr["steepest_wall_stalls"]
+                    else f"lengthen the transition to ≥ {under:.0f} mm"
+                    if under is not None
+                    else "no length within 50× clears the line"
+                ),
+            )
+        )
     if out["size_limited_by"] == "ivr":
         rows.append(
             ("sized by", f"IVR limit {out['max_inlet_velocity_ratio']:g}: delivers more than asked")

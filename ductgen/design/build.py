@@ -17,6 +17,7 @@ import numpy as np
 from ductgen.design.skin import Placement, distortion_warnings, placement, skin_from_spec
 from ductgen.errors import DesignWarning, SpecError
 from ductgen.flow.inputs import DuctShape
+from ductgen.flow.stall import length_under_stall_line
 from ductgen.flow.warnings import geometry_warnings
 from ductgen.geometry.fabrication import (
     Fabrication,
@@ -110,6 +111,7 @@ def duct_shape(g: InletGeometry) -> DuctShape:
         np.allclose(pf.x, std.x, rtol=0, atol=1e-12)
         and np.allclose(pf.f, std.f, rtol=0, atol=1e-12)
     )
+    wall = None if t is None else t.steepest_wall()
     return DuctShape(
         throat_width_mm=g.width_mm,
         throat_depth_mm=g.depth_mm,
@@ -122,7 +124,23 @@ def duct_shape(g: InletGeometry) -> DuctShape:
         transition_inlet_area_mm2=None if t is None else t.throat_area_mm2,
         transition_outlet_area_mm2=None if t is None else t.outlet_area_mm2,
         transition_cone_half_angle_deg=None if t is None else t.equivalent_cone_half_angle_deg,
+        steepest_wall_angle_deg=None if wall is None else wall.angle_deg,
+        steepest_wall_included_deg=None if wall is None else wall.included_deg,
+        steepest_wall_across_mm=None if wall is None else wall.across_mm,
+        steepest_wall_name=None if wall is None else wall.wall,
+        transition_length_under_stall_mm=None if t is None else _length_under_stall(t),
     )
+
+
+def _length_under_stall(t: Transition) -> float | None:
+    """Transition length (mm) that brings the steepest wall under the two-dimensional
+    diffuser's stall line (:mod:`ductgen.flow.stall`), the outlet held where it is."""
+    wall = t.steepest_wall()
+
+    def included(length: float) -> float:
+        return dataclasses.replace(t, length_mm=length).steepest_wall(n=61, m=5).included_deg
+
+    return length_under_stall_line(included, wall.across_mm, t.length_mm)
 
 
 def fabrication_from_spec(spec: Spec) -> Fabrication:

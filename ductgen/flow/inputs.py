@@ -30,6 +30,15 @@ class DuctShape:
         transition_outlet_area_mm2: flow area of the outlet face (mm²).
         transition_cone_half_angle_deg: half-angle of the conical diffuser of the same area
             ratio and length (deg; Sovran & Klomp via Dixon).
+        steepest_wall_angle_deg: the transition wall's steepest local angle to the duct
+            axis (deg; the floor of a roof-aligned outlet).
+        steepest_wall_included_deg: that wall's divergence from the facing wall, the 2θ of
+            a two-dimensional diffuser (deg).
+        steepest_wall_across_mm: the throat dimension across that plane, W1 (mm).
+        steepest_wall_name: ``"floor"``, ``"roof"`` or ``"side"``.
+        transition_length_under_stall_mm: the transition length (mm) that brings the wall
+            under the two-dimensional diffuser's stall line, outlet unchanged; None when it
+            is not found within 50 times the present length.
     """
 
     throat_width_mm: float
@@ -43,6 +52,11 @@ class DuctShape:
     transition_inlet_area_mm2: float | None = None
     transition_outlet_area_mm2: float | None = None
     transition_cone_half_angle_deg: float | None = None
+    steepest_wall_angle_deg: float | None = None
+    steepest_wall_included_deg: float | None = None
+    steepest_wall_across_mm: float | None = None
+    steepest_wall_name: str | None = None
+    transition_length_under_stall_mm: float | None = None
 
     @property
     def aspect_ratio(self) -> float:

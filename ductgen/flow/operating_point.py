@@ -3,15 +3,21 @@
 Energy balance along the duct, incompressible, pressures relative to the free-stream static
 pressure p∞:
 
-    η(IVR)·q∞ = exit_cp·q∞ + Σ_i K_i·½ρV_i² + ½ρV_exit²
+    [Cp + (1 − Cp)·cos²ψ·η(IVR_local)]·q_t = exit_cp·q∞ + Σ_i K_i·½ρV_i² + ½ρV_exit²
 
-left: the total pressure recovered at the throat (``ram_recovery`` η times q∞ = ½ρV∞²);
-right: the static pressure where the air leaves, the losses of each element at its own
-velocity, and the dynamic head thrown away at the exit. With IVR = Q/(A_throat·V∞) every
-term is a function of the volume flow Q, and the balance is solved for Q with
-``scipy.optimize.brentq``. When several flows balance, the largest one is taken (the stable
-one, where a little more flow would lose more than is recovered); when none does, the
-result says so instead of giving a number.
+left: the total pressure recovered at the throat: the fraction η (the recovery model) of the
+local head (1 − Cp)·q_t above the local static pressure at a surface of pressure coefficient
+``inlet_cp`` = Cp, along an inlet met by the flow at ψ (:mod:`ductgen.flow.terms`); q_t is
+q∞ = ½ρV∞², or the isentropic impact pressure above Mach 0.3. Right: the static pressure
+where the air leaves, the losses of each element at its own velocity (the inlet's own duct,
+then the kinetic-energy line of its non-uniform outflow: a hose's mixing loss or a plenum's
+dump, then the rest), and the dynamic head thrown away at the exit. With Cp = 0, ψ = 0,
+α = 1 below Mach 0.3 this is η(IVR)·q∞ = exit_cp·q∞ + Σ K_i·½ρV_i² + ½ρV_exit².
+
+With IVR = Q/(A_throat·V∞) every term is a function of the volume flow Q, and the balance
+is solved for Q with ``scipy.optimize.brentq``. When several flows balance, the largest one
+is taken (the stable one, where a little more flow would lose more than is recovered); when
+none does, the result says so instead of giving a number.
 """
 
 from __future__ import annotations
@@ -22,8 +28,9 @@ import numpy as np
 from scipy.optimize import brentq
 
 from ductgen.flow.atmosphere import Air
-from ductgen.flow.losses import BudgetItem, Element
+from ductgen.flow.losses import BudgetItem, Element, budget_item
 from ductgen.flow.recovery import RecoveryModel, ShiftedRecovery
+from ductgen.flow.terms import local_head_ratio, mixing_loss_k
 
 __all__ = ["OperatingPoint", "System", "solve", "solve_band"]
 
@@ -40,6 +47,16 @@ class System:
         elements: loss elements in flow order (the internal transition first).
         exit_area_m2: area where the air leaves (m²).
         exit_cp: static-pressure coefficient at the exit.
+        inlet_cp: static-pressure coefficient of the surface at the inlet.
+        yaw_factor: cos²ψ of the flow angle ψ (1 = aligned).
+        total_head_pa: free-stream head the recovery applies to (Pa): the impact pressure
+            above Mach 0.3; None = ½ρV∞².
+        kinetic_energy_factor: α of the flow leaving the inlet's own duct.
+        momentum_factor: β of that flow.
+        exit_kind: ``"hose"`` (mixing loss (α − 2β + 1)·q) or ``"plenum"`` (α·q lost).
+        duct_elements: how many leading ``elements`` are the inlet's own duct (the
+            transition: 0 or 1); the kinetic-energy line follows them.
+        duct_outlet_area_m2: flow area where the inlet's own duct ends (m²).
     """
 
     air: Air
@@ -49,22 +66,62 @@ class System:
     elements: tuple[Element, ...]
     exit_area_m2: float
     exit_cp: float = 0.0
+    inlet_cp: float = 0.0
+    yaw_factor: float = 1.0
+    total_head_pa: float | None = None
+    kinetic_energy_factor: float = 1.0
+    momentum_factor: float = 1.0
+    exit_kind: str = "hose"
+    duct_elements: int = 0
+    duct_outlet_area_m2: float | None = None
 
     @property
     def dynamic_pressure_pa(self) -> float:
+        """Incompressible free-stream dynamic pressure ½ρV∞² (Pa)."""
         return self.air.dynamic_pressure_pa(self.speed_m_s)
+
+    @property
+    def head_pa(self) -> float:
+        """The free-stream head the recovery applies to (Pa)."""
+        return self.dynamic_pressure_pa if self.total_head_pa is None else self.total_head_pa
 
     def ivr(self, q_m3_s: float) -> float:
         """Inlet velocity ratio V1/V∞ at volume flow q."""
         return q_m3_s / (self.throat_area_m2 * self.speed_m_s)
 
+    def local_ivr(self, q_m3_s: float) -> float:
+        """V1 over the local edge velocity V∞·√(1 − Cp): the IVR the recovery model sees."""
+        return self.ivr(q_m3_s) / local_head_ratio(self.inlet_cp) ** 0.5
+
+    def ram_recovery(self, q_m3_s: float) -> float:
+        """(p_t1 − p∞)/q_t = Cp + (1 − Cp)·cos²ψ·η(IVR_local) (dimensionless)."""
+        eta = self.recovery(self.local_ivr(q_m3_s))
+        return self.inlet_cp + local_head_ratio(self.inlet_cp) * self.yaw_factor * eta
+
     def recovered_pa(self, q_m3_s: float) -> float:
-        """Recovered total pressure above p∞ at the throat, η·q∞ (Pa)."""
-        return self.recovery(self.ivr(q_m3_s)) * self.dynamic_pressure_pa
+        """Recovered total pressure above p∞ at the throat (Pa)."""
+        return self.ram_recovery(q_m3_s) * self.head_pa
+
+    def _outflow_item(self, q_m3_s: float) -> BudgetItem:
+        """The kinetic-energy line of the inlet duct's non-uniform outflow."""
+        a = self.duct_outlet_area_m2 or self.throat_area_m2
+        v = q_m3_s / a
+        if self.exit_kind == "plenum":
+            if len(self.elements) > self.duct_elements:  # the whole α·q dumped, then the rest
+                return budget_item("plenum dump", v, self.kinetic_energy_factor, self.air)
+            # the duct's outlet is the exit: the exit head (k = 1) follows, this is the excess
+            v_e = q_m3_s / self.exit_area_m2
+            return budget_item(
+                "plenum dump (alpha - 1)", v_e, self.kinetic_energy_factor - 1.0, self.air
+            )
+        k = mixing_loss_k(self.kinetic_energy_factor, self.momentum_factor)
+        return budget_item("hose mixing", v, k, self.air)
 
     def budget(self, q_m3_s: float) -> list[BudgetItem]:
-        """Every element's loss, then the exit static pressure and the exit dynamic head."""
+        """Every element's loss (the kinetic-energy line after the inlet's own duct), then
+        the exit static pressure and the exit dynamic head."""
         items = [e.evaluate(q_m3_s, self.air) for e in self.elements]
+        items.insert(self.duct_elements, self._outflow_item(q_m3_s))
         q_inf = self.dynamic_pressure_pa
         items.append(
             BudgetItem("exit static pressure", self.speed_m_s, self.exit_cp, self.exit_cp * q_inf)
@@ -96,6 +153,7 @@ class OperatingPoint:
     mass_flow_kg_s: float | None = None
     inlet_velocity_ratio: float | None = None
     ram_recovery: float | None = None
+    local_recovery: float | None = None
     recovered_pa: float | None = None
     exit_velocity_m_s: float | None = None
     ram_drag_n: float | None = None
@@ -148,7 +206,8 @@ def solve(system: System) -> OperatingPoint:
         volume_flow_m3_s=q,
         mass_flow_kg_s=m,
         inlet_velocity_ratio=system.ivr(q),
-        ram_recovery=system.recovery(system.ivr(q)),
+        ram_recovery=system.ram_recovery(q),
+        local_recovery=system.recovery(system.local_ivr(q)),
         recovered_pa=system.recovered_pa(q),
         exit_velocity_m_s=v_e,
         ram_drag_n=m * system.speed_m_s,

@@ -31,6 +31,7 @@ from ductgen.flow.recovery import (
     TableRecovery,
     table_recovery,
 )
+from ductgen.flow.terms import INCOMPRESSIBLE_MACH, impact_pressure_pa, yaw_factor
 from ductgen.flow.transition import TransitionElement, ideal_pressure_recovery
 from ductgen.flow.warnings import flow_warnings
 from ductgen.spec.flow import BendLoss, CoolerLoss, DiffuserLoss, FlowSpec, HoseLoss
@@ -53,10 +54,27 @@ TRANSITION_NAME = "internal transition"
 DRAG_NOTE = (
     "momentum_drag_n is the ram (internal) drag m*V0 unless flow.exit_direction = 'rearward', "
     "when it is the net m*(V0 - V_exit) (still without the (p_e - p0)*A_e term). The external "
-    "drag increment of the opening (lip, ramp, spillage) is not included: no sourced table "
-    "for it is available to ductgen"
+    "drag increment of the opening (lip, ramp, spillage) is included only when "
+    "flow.external_drag_coefficient is given (on q0 and the throat area, e.g. from ESDU 86002 "
+    "or a test): no sourced table for it is available to ductgen"
 )
 INLET_LOSS_NOTE = "assumption, no source: lip and ramp losses lumped into one factor"
+INLET_CP_NOTE = (
+    "ram_recovery = inlet_cp + (1 - inlet_cp) * yaw_factor * local_ram_recovery: the "
+    "recovery model applies to the local head (1 - Cp) q above the local static pressure "
+    "(free-stream total pressure outside the boundary layer, derived); the boundary layer is "
+    "still the flat-plate one (no pressure-gradient method such as Thwaites' or Head's)"
+)
+YAW_NOTE = (
+    "cos^2 of flow_angle_deg on the recovered head: the head along the inlet's axis "
+    "(first principles, not a published curve; NACA RM A50C13 reports recovery falling with "
+    "flow angle, its values are not available here, so real lips may lose more)"
+)
+KE_DEFAULT_NOTE = (
+    "default 1.25 from the project's own CFD cross-check (1.20-1.32 at the transition exit of "
+    "two samples), not a published value"
+)
+EXIT_DEFAULT_NOTE = "default: plenum without loss elements, hose with them"
 
 
 def _elements(flow: FlowSpec) -> list[Element]:
@@ -168,6 +186,7 @@ def build_system(
     if exit_area is None:
         areas = [e.outlet_area_m2 for e in elements if e.outlet_area_m2 is not None]
         exit_area = areas[-1] if areas else throat_m2
+    mach = air.mach(flow.speed)
     system = System(
         air=air,
         speed_m_s=flow.speed,
@@ -176,6 +195,16 @@ def build_system(
         elements=tuple(elements),
         exit_area_m2=exit_area,
         exit_cp=flow.exit_cp_value,
+        inlet_cp=flow.inlet_cp,
+        yaw_factor=yaw_factor(flow.flow_angle_deg),
+        total_head_pa=impact_pressure_pa(air.pressure_pa, mach)
+        if mach > INCOMPRESSIBLE_MACH
+        else None,
+        kinetic_energy_factor=flow.kinetic_energy_factor,
+        momentum_factor=flow.momentum_factor_value,
+        exit_kind=flow.exit_kind,
+        duct_elements=0 if t is None else 1,
+        duct_outlet_area_m2=throat_m2 if t is None else t.a_out_m2,
     )
     return system, air, bl
 
@@ -214,7 +243,9 @@ def _transition_report(fa: FlowAnalysis) -> dict[str, Any] | None:
     }
 
 
-def _drag(flow: FlowSpec, p: OperatingPoint) -> dict[str, Any]:
+def _drag(flow: FlowSpec, p: OperatingPoint, q_inf_pa: float, throat_m2: float) -> dict[str, Any]:
+    """Momentum (ram or net) drag, and the opening's external drag when its coefficient is
+    given (N)."""
     out: dict[str, Any] = {
         "exit_direction": flow.exit_direction,
         "ram_drag_n": p.ram_drag_n,
@@ -224,6 +255,11 @@ def _drag(flow: FlowSpec, p: OperatingPoint) -> dict[str, Any]:
     if flow.exit_direction == "rearward":
         out["net_momentum_drag_n"] = p.net_momentum_drag_n
         out["momentum_drag_n"] = p.net_momentum_drag_n
+    cd = flow.external_drag_coefficient
+    out["external_drag_n"] = None if cd is None else cd * q_inf_pa * throat_m2
+    if cd is not None:
+        out["external_drag_coefficient"] = cd
+        out["total_drag_n"] = out["momentum_drag_n"] + out["external_drag_n"]
     return out
 
 
@@ -263,6 +299,7 @@ def flow_section(flow: FlowSpec, shape: DuctShape) -> tuple[dict[str, Any], list
         "exit_cp": sys_.exit_cp,
         "exit_cp_source": "given" if flow.exit_cp is not None else "default",
     }
+    out.update(_terms(flow, sys_))
     if flow.exit_cp is None:
         out["exit_cp_note"] = (
             "defaulted to 0 (ambient): the static pressure where the duct dumps is rarely "
@@ -287,9 +324,11 @@ def flow_section(flow: FlowSpec, shape: DuctShape) -> tuple[dict[str, Any], list
                 "recovered_total_pressure_pa": p.recovered_pa,
                 # p_t1/p_t∞ for readers used to that ratio (it is not ram_recovery)
                 "total_pressure_ratio": (air.pressure_pa + p.recovered_pa)
-                / (air.pressure_pa + sys_.dynamic_pressure_pa),
+                / (air.pressure_pa + sys_.head_pa),
+                "local_ram_recovery": p.local_recovery,
+                "inlet_velocity_ratio_local": sys_.local_ivr(p.volume_flow_m3_s),
                 "exit_velocity_m_s": p.exit_velocity_m_s,
-                **_drag(flow, p),
+                **_drag(flow, p, sys_.dynamic_pressure_pa, sys_.throat_area_m2),
                 "budget": [b.to_dict() for b in p.budget],
                 "budget_sum_pa": sum(b.dp_pa for b in p.budget),
             }
@@ -332,6 +371,32 @@ def flow_section(flow: FlowSpec, shape: DuctShape) -> tuple[dict[str, Any], list
         ivr=p.inlet_velocity_ratio if p.found else None,
     )
     return out, warnings
+
+
+def _terms(flow: FlowSpec, sys_: System) -> dict[str, Any]:
+    """Report keys of the compressibility, surface-pressure, yaw and outflow terms."""
+    air = sys_.air
+    return {
+        "impact_pressure_pa": impact_pressure_pa(air.pressure_pa, air.mach(flow.speed)),
+        "recovery_head_pa": sys_.head_pa,
+        "recovery_head": "isentropic impact pressure (Mach > 0.3, NACA Report 1135)"
+        if sys_.total_head_pa is not None
+        else "incompressible dynamic pressure 1/2 rho V^2 (Mach <= 0.3)",
+        "inlet_cp": flow.inlet_cp,
+        "inlet_cp_note": INLET_CP_NOTE,
+        "yaw_factor": sys_.yaw_factor,
+        "yaw_basis": YAW_NOTE,
+        "kinetic_energy_factor": sys_.kinetic_energy_factor,
+        "kinetic_energy_factor_source": "given"
+        if "kinetic_energy_factor" in flow.model_fields_set
+        else KE_DEFAULT_NOTE,
+        "momentum_factor": sys_.momentum_factor,
+        "momentum_factor_source": "given"
+        if flow.momentum_factor is not None
+        else "1 + (alpha - 1)/3 (small-distortion relation, derived)",
+        "exit": sys_.exit_kind,
+        "exit_source": "given" if flow.exit is not None else EXIT_DEFAULT_NOTE,
+    }
 
 
 def _band(fa: FlowAnalysis) -> dict[str, Any]:

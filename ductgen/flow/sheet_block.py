@@ -2,8 +2,9 @@
 
 The workshop wall is where people look, so the sheet carries the result at the design speed:
 delivered flow, its sensitivity band, IVR, recovery, whether the requirement is met, the ram
-drag and the assumptions that move the answer most. Plain ASCII (the sheet uses the PDF core
-fonts). Pure: no drawing here.
+drag, the outflow's kinetic-energy factor and where it goes, the local surface pressure, the
+flow angle's cost, and the assumptions that move the answer most. Plain ASCII (the sheet
+uses the PDF core fonts). Pure: no drawing here.
 """
 
 from __future__ import annotations
@@ -39,10 +40,21 @@ def flow_block_lines(flow: Mapping[str, Any]) -> list[str]:
                 if flow.get("exit_direction") != "rearward"
                 else "(net, rearward exit)"
             )
-            + "; external drag not included"
+            + (
+                "; external drag not included"
+                if flow.get("external_drag_n") is None
+                else f" + external {flow['external_drag_n']:.2f} N (given C_D)"
+            )
         )
+        lines.append(_outflow_line(flow))
     else:
         lines.append("no operating point: the losses exceed the recovered pressure")
+    if "inlet_cp" in flow:
+        head = "impact pressure" if "impact" in str(flow.get("recovery_head")) else "1/2 rho V^2"
+        lines.append(
+            f"inlet_cp {flow['inlet_cp']:g}, flow angle {flow['flow_angle_deg']:g} deg "
+            f"(head x{flow['yaw_factor']:.3f}), recovery on {head}"
+        )
     if "required_flow_m3_s" in flow:
         met = "MET" if flow.get("meets_required_flow") else "NOT MET"
         lines.append(f"required {flow['required_flow_m3_s'] * 1000:.1f} L/s: {met}")
@@ -51,3 +63,16 @@ def flow_block_lines(flow: Mapping[str, Any]) -> list[str]:
         cp += " (not given: ambient assumed)"
     lines.append(f"delta/D {flow['delta_over_depth_max']:.2f} (boundary layer), {cp}")
     return lines
+
+
+def _outflow_line(flow: Mapping[str, Any]) -> str:
+    """The kinetic-energy factor, where the inlet's duct delivers and what that costs."""
+    a = flow.get("kinetic_energy_factor")
+    if a is None:
+        return "outflow taken as uniform"
+    src = "given" if flow.get("kinetic_energy_factor_source") == "given" else "project CFD"
+    if flow.get("exit") == "plenum":  # the whole alpha q of the duct's outflow is lost
+        return f"outflow alpha {a:.2f} ({src}) into a plenum: {a:.2f} q lost"
+    item = next((b for b in flow.get("budget", []) if b["element"] == "hose mixing"), None)
+    cost = "" if item is None else f", mixing loss {item['k']:.2f} q"
+    return f"outflow alpha {a:.2f} ({src}) into a hose{cost}"

@@ -11,23 +11,32 @@ Shape warnings (:func:`geometry_warnings`) apply with or without a ``[flow]`` se
   (W/L = (W/D)·tan θ); its smallest value over NACA's recommended designs is 12.2° at 5°,
   W/D 3 (checks.md, derived by PCHIP). Walls that never diverge that steeply diverge less
   than any recommended design. With the standard table the angle is reported, not warned;
-* ``diffuser_angle_large`` — internal transition's equivalent-cone included angle above ~8°
-  (common practice, no source: good diffusers keep 5°–8°).
+* ``diffuser_angle_large`` — the internal transition's steepest wall (with the facing wall's
+  divergence, the 2θ of a two-dimensional diffuser) lies above line a-a of the
+  two-dimensional diffuser flow-regime chart (Kline, Abbott & Fox 1959 / Reneau, Johnston &
+  Kline 1967; the line's points recalled, :mod:`ductgen.flow.stall`), or the equivalent cone's
+  included angle exceeds ~8° (common practice, no source: good diffusers keep 5°–8°). The
+  equivalent cone alone hides a roof-aligned outlet's steep floor.
 
-Flow warnings (:func:`flow_warnings`): ``mach_above_incompressible`` (Mach > 0.3),
+Flow warnings (:func:`flow_warnings`): ``mach_above_incompressible`` (Mach > 0.3; the
+recovery then uses the impact pressure, the losses stay incompressible),
 ``boundary_layer_thick`` (δ/D > 1 by the larger of two boundary-layer methods; NACA RM
 A7I30 reports the large effect of boundary-layer thickness on recovery),
 ``flow_angle_large`` (|yaw| > 5°: a rounded lip tolerates about 5°–10°, a sharp edge
 1°–2°, common practice, no source; NACA RM A50C13, abstract, shows recovery falling with
-flow angle; no penalty is applied), ``exit_cp_defaulted`` (no ``exit_cp`` given, ambient
+flow angle; the estimate applies a cos² penalty on the recovered head, ``flow.yaw_factor``),
+``exit_cp_defaulted`` (no ``exit_cp`` given, ambient
 assumed), ``ivr_low`` (IVR < 0.3), ``ivr_above_one``, ``no_operating_point``,
 ``required_flow_not_met``, ``recovery_table_extrapolated``.
 """
 
 from __future__ import annotations
 
+import math
+
 from ductgen.errors import DesignWarning
 from ductgen.flow.inputs import DuctShape
+from ductgen.flow.stall import STALL_LINE_SOURCE, stall_line_included_deg
 
 __all__ = [
     "ASPECT_RANGE",
@@ -90,19 +99,47 @@ def geometry_warnings(shape: DuctShape) -> list[DesignWarning]:
             )
         )
     if shape.has_transition:
-        assert shape.transition_cone_half_angle_deg is not None
-        inc = 2.0 * shape.transition_cone_half_angle_deg
-        if inc > DIFFUSER_INCLUDED_MAX_DEG:
-            out.append(
-                DesignWarning(
-                    "diffuser_angle_large",
-                    f"internal transition's equivalent-cone included angle {inc:.1f} deg exceeds "
-                    f"~{DIFFUSER_INCLUDED_MAX_DEG:g} deg (common practice: 5-8 deg); "
-                    "expect separation and more loss than estimated - lengthen "
-                    "outlet.transition_length",
-                )
-            )
+        w = _diffuser_warning(shape)
+        if w is not None:
+            out.append(w)
     return out
+
+
+def _diffuser_warning(shape: DuctShape) -> DesignWarning | None:
+    """``diffuser_angle_large`` on the steepest wall against the 2-D stall line, or on the
+    equivalent cone against the common-practice ~8°."""
+    assert shape.transition_cone_half_angle_deg is not None
+    inc = 2.0 * shape.transition_cone_half_angle_deg
+    said: list[str] = []
+    if (
+        shape.steepest_wall_included_deg is not None
+        and shape.steepest_wall_across_mm
+        and shape.transition_length_mm
+    ):
+        n_w = shape.transition_length_mm / shape.steepest_wall_across_mm
+        line = stall_line_included_deg(n_w)
+        if shape.steepest_wall_included_deg > line:
+            said.append(
+                f"the transition's {shape.steepest_wall_name} diverges at "
+                f"{shape.steepest_wall_angle_deg:.1f} deg to the duct axis (walls "
+                f"{shape.steepest_wall_included_deg:.1f} deg apart), above the "
+                f"{line:.1f} deg where a two-dimensional diffuser of N/W1 = {n_w:.2f} first "
+                f"stalls ({STALL_LINE_SOURCE})"
+            )
+    if inc > DIFFUSER_INCLUDED_MAX_DEG:
+        said.append(
+            f"the equivalent-cone included angle {inc:.1f} deg exceeds "
+            f"~{DIFFUSER_INCLUDED_MAX_DEG:g} deg (common practice: 5-8 deg)"
+        )
+    if not said:
+        return None
+    fix = "lengthen outlet.transition_length"
+    if shape.transition_length_under_stall_mm is not None and said[0].startswith("the trans"):
+        fix += f" to about {math.ceil(shape.transition_length_under_stall_mm):.0f} mm"
+    return DesignWarning(
+        "diffuser_angle_large",
+        "; ".join(said) + f": expect separation and more loss than estimated - {fix}",
+    )
 
 
 def flow_warnings(
@@ -128,8 +165,9 @@ def flow_warnings(
         out.append(
             DesignWarning(
                 "mach_above_incompressible",
-                f"Mach {mach:.2f} exceeds {MACH_MAX:g}: the incompressible flow estimate "
-                "is no longer reliable",
+                f"Mach {mach:.2f} exceeds {MACH_MAX:g}: the recovery is applied to the "
+                "isentropic impact pressure, but the duct losses stay incompressible and the "
+                "inlet's flow pattern changes with Mach number; treat the estimate with care",
             )
         )
     if delta_over_depth > DELTA_OVER_DEPTH_MAX:
@@ -149,7 +187,8 @@ def flow_warnings(
                 f"local flow meets the inlet at {abs(flow_angle_deg):.1f} deg: a rounded lip "
                 "tolerates about 5-10 deg, a sharp edge stalls above 1-2 deg (common practice, "
                 "no source) and recovery falls with flow angle (NACA RM A50C13); the estimate "
-                "applies no penalty for it - align the inlet with the local flow",
+                "takes only the axial head (cos^2), real lips may lose more - align the "
+                "inlet with the local flow",
             )
         )
     if not exit_cp_given:

@@ -18,7 +18,32 @@ from dataclasses import dataclass
 
 import numpy as np
 
-__all__ = ["Transition"]
+__all__ = ["SteepestWall", "Transition"]
+
+
+@dataclass(frozen=True)
+class SteepestWall:
+    """The steepest diverging point of the transition's wall (deg, mm).
+
+    Attributes:
+        angle_deg: local wall angle to the duct axis, asin(−n_x) of the outward unit normal
+            (positive: the wall moves away from the axis downstream).
+        opposite_deg: the same angle on the facing wall (the ruling half-way round the
+            section: floor ↔ roof, side ↔ side).
+        included_deg: ``angle_deg`` + max(0, ``opposite_deg``): the divergence between the
+            two walls in that plane, the 2θ of a two-dimensional diffuser.
+        across_mm: distance between the two walls at the throat, across that plane (the
+            W1 of a two-dimensional diffuser).
+        s: fraction of the transition length where it is steepest (0 throat, 1 outlet).
+        wall: ``"floor"``, ``"roof"`` or ``"side"`` (which throat edge the point comes from).
+    """
+
+    angle_deg: float
+    opposite_deg: float
+    included_deg: float
+    across_mm: float
+    s: float
+    wall: str
 
 
 @dataclass(frozen=True)
@@ -131,3 +156,52 @@ class Transition:
         w = np.ones(n + 1)
         w[1:-1:2], w[2:-1:2] = 4.0, 2.0
         return float(self.length_mm * np.dot(w, a) / (3 * n))
+
+    def _wall_angles(self, u: np.ndarray, s: np.ndarray) -> np.ndarray:
+        """Local wall angle to the axis (deg) at edge parameters u (shape (n,)) and length
+        fractions s (shape (m,)), shape (m, n). The ruled surface is
+        P(u, s) = (x0 + sL, (1 − s)·a(u) + s·b(u)); its normal P_u × P_s points outward for
+        the counter-clockwise edge order of :meth:`throat_corners`."""
+        h = 1e-6
+        a0, b0 = self._edge_points(u - h)
+        a1, b1 = self._edge_points(u + h)
+        a, b = self._edge_points(u)
+        da, db = (a1 - a0) / (2 * h), (b1 - b0) / (2 * h)
+        out = np.empty((s.size, u.size))
+        for i, sv in enumerate(s):
+            t = (1 - sv) * da + sv * db  # P_u (y, z); its x part is 0
+            d = b - a  # P_s (y, z); its x part is L
+            nx = t[:, 0] * d[:, 1] - t[:, 1] * d[:, 0]
+            ny, nz = t[:, 1] * self.length_mm, -t[:, 0] * self.length_mm
+            norm = np.sqrt(nx * nx + ny * ny + nz * nz)
+            out[i] = np.degrees(np.arcsin(np.clip(-nx / norm, -1.0, 1.0)))
+        return out
+
+    def steepest_wall(self, n: int = 201, m: int = 21) -> SteepestWall:
+        """The steepest diverging point of the wall and the facing wall's angle there.
+
+        Sampled on ``n`` points per edge (corners excluded, where the throat's tangent jumps;
+        an odd ``n`` includes each edge's middle, the floor's centre ruling) at ``m``
+        stations along the length; the ruled surface's angle varies smoothly along an edge,
+        so the sampled maximum is within ~(1/n)² of the true one.
+        """
+        frac = (np.arange(n) + 1.0) / (n + 1.0)
+        u = np.concatenate([k + frac for k in range(4)])
+        s = np.linspace(0.0, 1.0, m)
+        ang = self._wall_angles(u, s)
+        i, j = np.unravel_index(int(np.argmax(ang)), ang.shape)
+        u_opp = np.array([(u[j] + 2.0) % 4.0])
+        opp = float(self._wall_angles(u_opp, s[i : i + 1])[0, 0])
+        a, _ = self._edge_points(np.array([u[j], u_opp[0]]))
+        k = int(np.floor(u[j])) % 4
+        # across the plane of the wall: the throat dimension normal to that edge
+        across = abs(a[0, 1] - a[1, 1]) if k in (0, 2) else abs(a[0, 0] - a[1, 0])
+        top = float(ang[i, j])
+        return SteepestWall(
+            angle_deg=top,
+            opposite_deg=opp,
+            included_deg=top + max(0.0, opp),
+            across_mm=float(across),
+            s=float(s[i]),
+            wall={0: "roof", 2: "floor"}.get(k, "side"),
+        )

@@ -47,6 +47,8 @@ METRICS: tuple[str, ...] = (
     "plug_volume_mm3",
     "wetted_area_mm2",
     "max_wall_divergence_deg",
+    "steepest_wall_angle_deg",
+    "length_under_stall_line_mm",
     "delta_over_depth",
     "volume_flow_m3_s",
     "ram_recovery",
@@ -64,12 +66,13 @@ COMPARE_FILE = "sweep-compare.json"
 
 
 def metric_value(report: dict[str, Any] | None, name: str) -> Any:
-    """A metric from a report: under ``geometry``, ``flow`` or at the top level; None if
-    the report does not have it (nothing is invented)."""
+    """A metric from a report: under ``geometry``, ``flow``, ``geometry.transition`` or at
+    the top level; None if the report does not have it (nothing is invented)."""
     if not report:
         return None
-    for section in ("geometry", "flow"):
-        sec = report.get(section)
+    geo = report.get("geometry")
+    transition = geo.get("transition") if isinstance(geo, dict) else None
+    for sec in (geo, report.get("flow"), transition):
         if isinstance(sec, dict) and name in sec:
             return sec[name]
     return report.get(name)

@@ -202,6 +202,8 @@ COLUMNS: dict[str, tuple[str, str, float, int]] = {
     "plug_volume_mm3": ("plug volume", "cm³", 1e-3, 1),
     "wetted_area_mm2": ("wetted area", "cm²", 1e-2, 1),
     "max_wall_divergence_deg": ("max wall divergence", "deg", 1.0, 1),
+    "steepest_wall_angle_deg": ("transition steepest wall", "deg", 1.0, 1),
+    "length_under_stall_line_mm": ("transition length under stall line", "mm", 1.0, 0),
     "delta_over_depth": ("δ / D", "", 1.0, 2),
     "volume_flow_m3_s": ("flow", "L/s", 1e3, 1),
     "ram_recovery": ("ram recovery", "", 1.0, 3),
