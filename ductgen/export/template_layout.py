@@ -224,8 +224,8 @@ def template_drawing(
         *CAUTIONS_SHORT,
     ]
     y = ymin - 30.0
-    for i, s in enumerate(lines):
-        d.texts.append(Text((0.0, y - 5.0 * i), s, 3.0 if i else 3.5))
+    for i, line in enumerate(lines):
+        d.texts.append(Text((0.0, y - 5.0 * i), line, 3.0 if i else 3.5))
     return d
 
 

@@ -147,7 +147,8 @@ def render_png(
             plate = _skin_plate(np.asarray(opening, dtype=float), 0.3 * span)
         mesh = mesh.compute_normals(cell_normals=False, split_vertices=True, feature_angle=35.0)
         pl = pv.Plotter(off_screen=True, window_size=list(size))
-        pl.set_background("white", top="#dfe7ef")
+        # pyvista types this method as functools.wraps of a function that takes self first
+        pl.set_background("white", top="#dfe7ef")  # type: ignore[arg-type]
         pl.add_mesh(mesh, color=colour, smooth_shading=True, specular=0.3, specular_power=20)
         edges = mesh.extract_feature_edges(
             35.0, boundary_edges=False, manifold_edges=False, non_manifold_edges=False
