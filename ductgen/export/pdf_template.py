@@ -9,7 +9,7 @@ overlap bands, so neighbouring sheets are aligned by the drawing itself, not the
 
 Scale: one drawing millimetre is exactly 72/25.4 pt, times the printer correction
 ``template.scale_x`` / ``scale_y`` on tile pages (1 = none). matplotlib's PDF output is
-exactly 1:1 only with path simplification turned off (brief §9), so every page is drawn
+exactly 1:1 only with path simplification turned off (measured), so every page is drawn
 inside an ``rc_context`` that disables it. Page orientation is the one needing fewer tiles.
 
 Nothing is drawn under a label or a check square: the squares go where the tile's drawing is
@@ -306,7 +306,7 @@ def pdf_bytes(
         paper: ``"A4"`` or ``"Letter"``.
         overlap_mm: tile overlap (drawing mm).
         scale: (scale_x, scale_y) printer correction for the tile pages.
-        title: page heading (name); info: lines for the assembly page; cautions: brief §7.
+        title: page heading (name); info: lines for the assembly page; cautions: the cautions text.
 
     Returns:
         The PDF file.

@@ -1,12 +1,12 @@
 """``NAME-preview.png``: a shaded 3D picture of the insert (or the cutter) via VTK offscreen.
 
 The picture is rendered with pyvista/VTK off screen (EGL or OSMesa through Mesa; no display
-needed, ~1 s, brief §9) from the triangulation the build already made
+needed, ~1 s measured) from the triangulation the build already made
 (``ctx.solids[kind]["mesh"]``), or from a draft triangulation of the cutter made in the kernel
 worker when no solid was built in this run. Rendering also runs in the worker process, so a
 broken OpenGL stack cannot take the build down: it becomes an :class:`ExportError` that says
 which system libraries are missing. matplotlib 3D is not used: it mis-orders faces on these
-shapes (brief §9).
+shapes (seen on this stack).
 """
 
 from __future__ import annotations

@@ -5,7 +5,7 @@ A3 landscape (420 × 297 mm) for ``template.paper = "A4"``, ANSI B / tabloid lan
 (stated under each view): plan view of the skin opening, centreline section (skin, ramp
 floor, lip, throat and transition), an enlarged lip detail; the table of offsets (x,
 half-width, floor depth) at every station of the profile (marked ``*``) and at 5 % steps,
-the key dimensions, a title block and the cautions (brief §7). Dimensions in mm.
+the key dimensions, a title block and the cautions (README, Cautions). Dimensions in mm.
 """
 
 from __future__ import annotations
