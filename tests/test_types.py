@@ -39,7 +39,8 @@ def _still_to_clean() -> list[str]:
 
 def test_mypy_is_clean(request: pytest.FixtureRequest) -> None:
     _require_mypy()
-    cache = request.config.cache.mkdir("mypy") if request.config.cache else None
+    store = getattr(request.config, "cache", None)  # absent under -p no:cacheprovider
+    cache = store.mkdir("mypy") if store is not None else None
     args = [sys.executable, "-m", "mypy", "ductgen", "--no-error-summary"]
     if cache is not None:
         args += ["--cache-dir", str(cache)]
@@ -57,6 +58,12 @@ def test_modules_still_to_clean_only_shrink() -> None:
         "adding it to the list"
     )
     assert not any(m.startswith("ductgen.geometry") for m in modules), "geometry is strict"
+    config = tomllib.loads((ROOT / "pyproject.toml").read_text(encoding="utf-8"))
+    geometry = next(
+        o for o in config["tool"]["mypy"]["overrides"] if "ductgen.geometry.*" in o["module"]
+    )
+    for flag in ("disallow_untyped_defs", "disallow_any_generics", "warn_return_any"):
+        assert geometry.get(flag) is True, f"geometry/ is checked strictly: {flag}"
     for m in modules:
         path = ROOT / m.replace(".", "/")
         assert path.with_suffix(".py").is_file() or (path / "__init__.py").is_file(), (
