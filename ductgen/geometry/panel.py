@@ -29,6 +29,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
+from numpy.typing import NDArray
 from scipy.interpolate import CubicSpline, RectBivariateSpline
 
 __all__ = [
@@ -55,17 +56,15 @@ class PanelFrame:
             normal), (3, 3).
     """
 
-    origin: np.ndarray
-    axes: np.ndarray
+    origin: NDArray[np.float64]
+    axes: NDArray[np.float64]
 
     def to_model(self, local: np.ndarray) -> np.ndarray:
-        model: np.ndarray = self.origin + np.asarray(local, dtype=float).reshape(-1, 3) @ self.axes
-        return model
+        return self.origin + np.asarray(local, dtype=float).reshape(-1, 3) @ self.axes
 
     def to_local(self, model: np.ndarray) -> np.ndarray:
-        local: np.ndarray = (
-            np.asarray(model, dtype=float).reshape(-1, 3) - self.origin
-        ) @ self.axes.T
+        d = np.asarray(model, dtype=float).reshape(-1, 3) - self.origin
+        local: np.ndarray = d @ self.axes.T
         return local
 
 
@@ -252,8 +251,7 @@ class PanelSkin:
 
     def normal(self, uv: np.ndarray) -> np.ndarray:
         _, n = self.surface_local(uv)
-        normal: np.ndarray = n @ self.frame.axes
-        return normal
+        return n @ self.frame.axes
 
     def centre_frame(self, u: np.ndarray) -> tuple[np.ndarray, ...]:
         """Centreline point c, tangent T, across B and normal N at stations u (each (N, 3),
@@ -353,8 +351,7 @@ class PanelDuctMap:
 
     def outlet_normal(self) -> np.ndarray:
         """The outward normal of the straight outlet frame (model coordinates)."""
-        normal: np.ndarray = self.skin.centre_frame(np.array([self.u_end]))[3][0]
-        return normal
+        return self.skin.centre_frame(np.array([self.u_end]))[3][0, :]
 
 
 @dataclass(frozen=True)

@@ -221,8 +221,7 @@ class DuctMap:
 
     def outlet_normal(self) -> np.ndarray:
         """The outward normal of the straight outlet frame (model coordinates)."""
-        normal: np.ndarray = self.skin.frame(np.array([self.u_end]))[1][0]
-        return normal
+        return self.skin.frame(np.array([self.u_end]))[1][0, :]
 
 
 @dataclass(frozen=True)

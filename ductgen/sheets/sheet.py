@@ -28,6 +28,9 @@ if TYPE_CHECKING:
     from matplotlib.typing import RcKeyType
     from numpy.typing import ArrayLike
 
+    _Size = tuple[float, float]  # paper (width, height), mm
+    _Box = tuple[float, float, float, float]  # x, y, width, height on the paper, mm
+
 __all__ = ["SHEET_MM", "offset_rows", "sheet_pdf"]
 
 #: template.paper → drawing sheet (width, height) mm, landscape.
@@ -67,13 +70,7 @@ def _scale_for(extent: tuple[float, float], box: tuple[float, float]) -> float:
     return next((s for s in _SCALES if s <= k), _SCALES[-1])
 
 
-def _view(
-    fig: Figure,
-    page: tuple[float, float],
-    box: tuple[float, float, float, float],
-    centre: tuple[float, float],
-    scale: float,
-) -> Axes:
+def _view(fig: Figure, page: _Size, box: _Box, centre: tuple[float, float], scale: float) -> Axes:
     """Axes covering paper box (x, y, w, h) mm, data in true mm at ``scale`` around ``centre``."""
     x, y, w, h = box
     ax = fig.add_axes((x / page[0], y / page[1], w / page[0], h / page[1]))
@@ -125,9 +122,7 @@ def _dim(
     )
 
 
-def _plan(
-    fig: Figure, page: tuple[float, float], box: tuple[float, float, float, float], g: InletGeometry
-) -> float:
+def _plan(fig: Figure, page: _Size, box: _Box, g: InletGeometry) -> float:
     pf, length, w = g.planform, g.length_mm, g.width_mm
     s = _scale_for((length * 1.25, w * 1.6), box[2:])
     ax = _view(fig, page, box, (0.5 * length, 0.0), s)
@@ -175,11 +170,7 @@ def _section_profile(g: InletGeometry) -> tuple[np.ndarray, np.ndarray, np.ndarr
 
 
 def _section(
-    fig: Figure,
-    page: tuple[float, float],
-    box: tuple[float, float, float, float],
-    g: InletGeometry,
-    split_x: tuple[float, ...] = (),
+    fig: Figure, page: _Size, box: _Box, g: InletGeometry, split_x: tuple[float, ...] = ()
 ) -> float:
     floor, roof, nose = _section_profile(g)
     x_end = float(floor[-1, 0])
@@ -252,9 +243,7 @@ def _section(
     return s
 
 
-def _lip_detail(
-    fig: Figure, page: tuple[float, float], box: tuple[float, float, float, float], g: InletGeometry
-) -> float:
+def _lip_detail(fig: Figure, page: _Size, box: _Box, g: InletGeometry) -> float:
     lip = g.lip
     nose = lip.nose()
     a, t = lip.semi_major_mm, lip.thickness_mm
