@@ -5,7 +5,7 @@
 Imports the kernel once, then times ``make_insert`` (reusing the cutter, as the pipeline
 does, and building its own) and ``make_plug`` (best of ``-n``
 runs, seconds after imports) and the printability pass on the insert's check mesh.
-Target (issue): under 2 s each.
+Target: under 2 s each.
 """
 
 from __future__ import annotations

@@ -1,4 +1,4 @@
-"""Benchmark of issue 14: the old commit against the working tree, side by side (not a test).
+"""Benchmark of the speed work: the old commit against the working tree, side by side (not a test).
 
 Builds the old commit (default b22f352, the commit before the speed work) in a temporary
 ``git worktree`` (removed afterwards) and runs it and the working tree alternately, each in

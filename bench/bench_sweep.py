@@ -3,7 +3,7 @@
 Runs ``ductgen sweep`` as a fresh process for each setting (so both pay the same start-up:
 interpreter, kernel import), each into a new folder, and prints wall time, seconds per
 variant and the speed-up of two workers. Run: ``python bench/bench_sweep.py [--only KINDS]``.
-OCCT already uses a second core inside one process (brief §9), so two workers on a 2-core
+OCCT already uses a second core inside one process (measured here), so two workers on a 2-core
 machine are expected to give about 1.25-1.3x, not 2x. The load average is printed because
 other work on the machine skews the numbers.
 """

@@ -1,4 +1,4 @@
-"""``report.json``: the numbers behind a build (brief §5), assembled here and only here.
+"""``report.json``: the numbers behind a build, assembled here and only here.
 
 Keys carry their units (``_mm``, ``_deg``, ``_m_s``...): mm and degrees under
 ``geometry``, SI under ``flow``. Only values this build actually computed are written;

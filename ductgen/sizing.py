@@ -1,4 +1,4 @@
-"""``ductgen size``: the smallest throat that delivers a flow target (brief §4, §6).
+"""``ductgen size``: the smallest throat that delivers a flow target.
 
 This module sits above the geometry and the flow model: it composes a spec from both, so
 neither of them has to know about the other. :func:`run_size` is the whole command (size,

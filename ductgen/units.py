@@ -87,7 +87,7 @@ def ureg() -> Any:
     """The package's one pint registry (built on first use; importing pint costs ~0.3 s)."""
     import pint
 
-    reg = pint.UnitRegistry()
+    reg: pint.UnitRegistry[Any] = pint.UnitRegistry()
     reg.define("cfm = foot ** 3 / minute")
     return reg
 
@@ -133,7 +133,8 @@ def split_quantity(text: str) -> tuple[float, str]:
 def _parse_unit_text(text: str, whole: str) -> str:
     """Normalised unit text of ``text`` (checked factor by factor against pint)."""
     reg = ureg()
-    pos, parts = 0, []
+    pos = 0
+    parts: list[str] = []
     while pos < len(text):
         m = _FACTOR_RE.match(text, pos)
         if m is None or m.end() == pos or (parts and m.group(1) is None and text[pos] != " "):

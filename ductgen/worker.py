@@ -1,7 +1,7 @@
 """A kernel worker process with a memory limit and a timeout.
 
 CAD-kernel work runs in a child process so that a pathological spec cannot hang or
-exhaust the machine (one bad boolean was measured growing past 20 GB, brief §9): the child
+exhaust the machine (one bad boolean was measured growing past 20 GB): the child
 caps its address space with ``RLIMIT_AS``, the parent waits at most ``timeout_s`` per job,
 and a job that crashes, runs out of memory or overruns becomes a
 :class:`~ductgen.errors.GeometryError` naming the stage. The child stays alive between

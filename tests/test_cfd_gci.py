@@ -30,7 +30,7 @@ def test_exact_power_law_recovers_order_and_limit(order: float, r21: float, r32:
 def test_celik_worked_example() -> None:
     # Celik, Ghia, Roache, Freitas, Coleman, Raad (2008), J. Fluids Eng. 130(7) 078001,
     # Table 1, first column (phi = dimensionless reattachment length, 2-D grids
-    # N = 18000, 8000, 4500). memory: inputs and results recalled, not re-read from the
+    # N = 18000, 8000, 4500). Recalled: inputs and results, not re-read from the
     # paper; the phi values are also in a course handout's GCI script. The results were
     # re-derived by hand before this test was written: p = 1.53, phi_ext = 6.1685,
     # e_a = 1.5 %, e_ext = 1.7 %, GCI_fine = 2.2 %.

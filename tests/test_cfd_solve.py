@@ -29,7 +29,7 @@ def test_coarse_case_end_to_end(tmp_path: Path) -> None:
     assert r["check_mesh_ok"] and r["cells"] > 10_000
     assert r["plateau"], "the solve stopped at the iteration cap, not on the plateau"
     # continuity (derived): the flow through the closed throat face zone equals the
-    # duct-outlet flow; 1 % is the tolerance
+    # duct-outlet flow; 1 % allows for the solver's convergence tolerance
     assert r["throat_volume_flow_m3_s"] == pytest.approx(r["volume_flow_m3_s"], rel=0.01)
     # a ram recovery is a fraction of the free-stream dynamic pressure: 0 < eta < 1
     # (definition; a flush inlet swallowing boundary-layer air recovers less than all of q)
@@ -40,7 +40,7 @@ def test_coarse_case_end_to_end(tmp_path: Path) -> None:
     assert r["ram_recovery_flow_avg"] >= r["ram_recovery_area_avg"] - 0.02
     # a passive duct only loses total pressure (derived: energy equation, no work done)
     assert r["transition_loss_pa"] > 0.0 and r["transition_k"] > 0.0
-    # within 30 % of the 1-D estimate (the acceptance band; common practice, no source)
+    # within 30 % of the 1-D estimate (the acceptance band; common practice, no source)
     assert abs(cfd["one_d"]["flow_difference"]) < 0.30
     lo, hi = cfd["y_plus_range"]
     assert 0.0 < lo < hi

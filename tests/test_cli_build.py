@@ -39,7 +39,7 @@ def test_build_writes_cutter_and_report(tmp_path: Path, capsys: pytest.CaptureFi
     assert rep["files"] == {"cutter_step": "t-cutter.step", "cutter_stl": "t-cutter.stl"}
     g = rep["geometry"]
     assert g["throat_area_mm2"] == 1600.0
-    # flush lip of the default 4 mm: H = D + t = 24 mm; straight ramp L = H / tan 7° (checks.md)
+    # flush lip of the default 4 mm: H = D + t = 24 mm; straight ramp L = H / tan 7° (derived)
     assert g["floor_drop_mm"] == 24.0
     assert g["ramp_length_mm"] == pytest.approx(24.0 / math.tan(math.radians(7.0)), rel=1e-12)
     assert len(g["offsets"]) == 11

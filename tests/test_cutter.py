@@ -125,7 +125,7 @@ def test_step_roundtrip_keeps_the_volume(built, tmp_path: Path) -> None:  # type
     assert back.isValid()
     # the file holds the healed solid (walls written as splines): the same body, measured by
     # fine triangulations of both (the kernel's own Volume() is ~1e-3 off on these C1
-    # curves, brief §9, so it cannot judge a 1e-5 agreement)
+    # curves, measured on this stack, so it cannot judge a 1e-5 agreement)
     assert _mesh_volume(back, 0.005, 0.05) == pytest.approx(_mesh_volume(c, 0.005, 0.05), rel=2e-5)
 
 
@@ -154,7 +154,7 @@ def test_random_valid_specs_give_sound_cutters(
     width: float, aspect: float, angle: float, entry: float, lip: str, outlet: str
 ) -> None:
     """Across the design space, every spec the geometry accepts gives a valid closed cutter
-    whose volume is the integrated one (the kernel's failure modes, brief §9)."""
+    whose volume is the integrated one (the kernel's failure modes seen on this stack)."""
     from ductgen.solids.check import check_solid
     from ductgen.tolerances import DEFAULT_TOLERANCES
 

@@ -1,5 +1,5 @@
 """The preview picture frames the part: an empty border of a few per cent on every side and
-the part filling the picture (issue 11, item 7).
+the part filling the picture.
 
 Background model: the preview's vertical gradient, estimated from the picture's top and
 bottom rows (median colour); a pixel more than 10/255 away from it is the part. The 3 %

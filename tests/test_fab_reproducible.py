@@ -1,5 +1,5 @@
 """Same spec + same version → byte-identical files; the date from ``SOURCE_DATE_EPOCH``
-(issue 11, item 5).
+(the Reproducible Builds convention).
 
 Source: the reproducible-builds convention, https://reproducible-builds.org/specs/
 source-date-epoch/ [published]: ``SOURCE_DATE_EPOCH`` is seconds since 1970-01-01 00:00 UTC;

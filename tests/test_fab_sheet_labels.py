@@ -1,5 +1,5 @@
-"""Drawing sheet of every sample: the centreline section's labels clear of its lines
-(issue 11, item 3), read back with pymupdf.
+"""Drawing sheet of every sample: the centreline section's labels clear of its lines,
+read back with pymupdf (an independent reader).
 
 The dimension values sit on a white box over their own dimension line by design, so the
 check covers the section's free labels (``ramp ... deg``, ``outlet ...``). Labels clear of

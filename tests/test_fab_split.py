@@ -1,4 +1,4 @@
-"""Printer-bed fit and the keyed split across the flow (issue 11, item 1).
+"""Printer-bed fit and the keyed split across the flow.
 
 Fit is checked against closed forms: a rectangle a × b turned by θ spans
 a·cos θ + b·sin θ by a·sin θ + b·cos θ [derived], so 230 × 40 mm fits a 220 mm square bed
@@ -6,7 +6,7 @@ turned (at 45°: 190.9 mm each way) but not straight, and 250 × 100 mm fits at 
 0°: 250 mm; at 45°: 247.5 mm). The pieces of
 a split insert are checked with trimesh (an independent mesh library): each closed, each
 oriented bounding box inside the bed (sorted extents, a sufficient condition), volumes
-summing to the whole to 1e-4 (issue 11).
+summing to the whole to 1e-4.
 """
 
 from __future__ import annotations

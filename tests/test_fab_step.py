@@ -1,10 +1,10 @@
 """Every exported STEP solid, re-read, passes the kernel's boolean argument check and its
-exact (B-rep) volume equals a fine mesh of the same file (issue 11, item 4).
+exact (B-rep) volume equals a fine mesh of the same file.
 
 Checks: OCCT's ``BRepAlgoAPI_Check`` (argument type, small edges, self-intersection) finds
 no fault; the file holds one solid; ``GProp`` volume at relative tolerance 1e-9 agrees with
-the volume of a 0.005 mm triangulation of the same B-rep to 0.05 % (issue 11's threshold;
-brief §9: a fine triangulation agrees with the true volume to ~1e-6). The curve-on-surface
+the volume of a 0.005 mm triangulation of the same B-rep to 0.05 % (the acceptance threshold;
+measured here: a fine triangulation agrees with the true volume to ~1e-6). The curve-on-surface
 deviations left are measured and bounded at 2e-4 mm (the largest found before healing was
 1.1e-4 mm; common practice, no source: 1e-4-1e-3 mm is a usual modelling tolerance).
 """
@@ -52,7 +52,7 @@ def test_step_checks_clean_and_volume_exact(sample_builds: dict, name: str, kind
         # off their faces and the kernel's mesher sags (jobs.CHECK_MESH_CURVED): the checks
         # here are validity and the exact volume against the build's own STL (the design
         # mesh, mapped) to 1e-3. The stricter argument check is not met there yet (see
-        # the issue 13 note: small-edge and self-intersection reports on the insert).
+        # the known defect: small-edge and self-intersection reports on the insert).
         import trimesh
 
         assert solid.isValid()

@@ -1,8 +1,8 @@
 """The sweep table at a 1400 px window: fits without scrolling, numbers with units and
-sensible digits (no exponents), failures shown with their errors (issue 11, item 6).
+sensible digits (no exponents), failures shown with their errors.
 
 Layout is measured by headless Chromium (an independent renderer) on a table of every
-column with large values and one failed variant; the page's width is the issue's 1400 px.
+column with large values and one failed variant; the page's width is 1400 px, a laptop screen.
 Number formats are checked against plain arithmetic (1 cm³ = 1000 mm³, 1 L/s = 1e-3 m³/s).
 """
 

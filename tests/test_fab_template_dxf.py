@@ -1,5 +1,5 @@
 """Template DXF of every sample: every text box clear of cut lines, hole circles and marks
-(issue 11, item 3), read back with ezdxf (an independent reader).
+read back with ezdxf (an independent reader).
 
 Text boxes are ezdxf's own text extents (``ezdxf.bbox``, from the font's measured glyphs),
 widened by 0.3 mm; geometry is every CUT polyline (arcs flattened to 0.01 mm), HOLES circle

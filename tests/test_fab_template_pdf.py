@@ -1,5 +1,5 @@
 """Template PDF of every sample: nothing drawn under a label or a check square, all text on
-the printable page (issue 11, item 2), read back with pymupdf.
+the printable page, read back with pymupdf.
 
 Sources: 1 pt = 1/72 in (PDF reference) [published], so 100 mm = 283.465 pt; a printable area
 at least 6 mm from the sheet edge and check squares on empty paper are shop practice

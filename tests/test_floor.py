@@ -1,4 +1,4 @@
-"""Ramp floor and ramp length (tangent-arc geometry, checks.md [derived])."""
+"""Ramp floor and ramp length (tangent-arc geometry [derived], docs/sources.md)."""
 
 from __future__ import annotations
 
@@ -12,13 +12,13 @@ from ductgen.geometry.floor import Floor, ramp_angle_for_length, ramp_length
 
 
 def test_straight_seven_degree_ramp_is_8_144_depths_long() -> None:
-    # checks.md [derived]: L = H / tan θ; 7° -> L/H = 8.144
+    # [derived] trigonometry: L = H / tan θ; 7° -> L/H = 8.144
     assert ramp_length(1.0, 7.0, 0.0) == pytest.approx(8.144, abs=5e-4)
     assert Floor(7.0, 0.0, 29.0).length_mm / 29.0 == pytest.approx(1 / math.tan(math.radians(7.0)))
 
 
-def test_checks_md_worked_example_length() -> None:
-    # checks.md [derived]: W = 100, D = 25, 7°, straight, raised lip (H = D) -> L = 203.6 mm
+def test_worked_example_length() -> None:
+    # [derived] from the table: W = 100, D = 25, 7°, straight, raised lip (H = D) -> L = 203.6 mm
     assert Floor(7.0, 0.0, 25.0).length_mm == pytest.approx(203.6, abs=0.05)
 
 
@@ -35,7 +35,7 @@ def test_length_matches_tangent_arc_construction(angle: float, radius: float) ->
     xa, za = radius * math.sin(t), radius * (1 - math.cos(t))
     x_end = xa + (drop - za) / math.tan(t)
     assert fl.length_mm == pytest.approx(x_end, rel=1e-12)
-    # formula of checks.md: L = R sin θ + (H - R(1 - cos θ)) / tan θ
+    # tangent-arc geometry [derived]: L = R sin θ + (H - R(1 - cos θ)) / tan θ
     assert fl.length_mm == pytest.approx(
         radius * math.sin(t) + (drop - radius * (1 - math.cos(t))) / math.tan(t), rel=1e-12
     )

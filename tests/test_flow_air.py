@@ -1,4 +1,4 @@
-"""Standard atmosphere and boundary layer (brief §6; check values from checks.md)."""
+"""Standard atmosphere and boundary layer (check values: docs/sources.md)."""
 
 from __future__ import annotations
 
@@ -18,7 +18,7 @@ ISO_2533_DENSITY = {0.0: 1.2250, 1000.0: 1.1117, 2000.0: 1.0066, 3000.0: 0.9093}
 
 @pytest.mark.parametrize(("altitude", "rho"), sorted(ISO_2533_DENSITY.items()))
 def test_density_matches_iso_2533(altitude: float, rho: float) -> None:
-    # source: ISO 2533:1975 tabulated values (checks.md, Atmosphere)
+    # source: ISO 2533:1975 tabulated values [published]
     assert standard_air(altitude).density_kg_m3 == pytest.approx(rho, abs=2e-4)
 
 
@@ -59,7 +59,7 @@ def test_altitude_outside_model_range(altitude: float) -> None:
 
 
 def test_boundary_layer_worked_example() -> None:
-    # source: checks.md [derived] hand computation with Prandtl/Schlichting's
+    # source: [derived] hand computation with Prandtl/Schlichting's
     # delta/x = 0.37 Re^-1/5, delta* = delta/8, theta = 7 delta/72
     bl = turbulent_flat_plate(30.0, 2.0, 1.4607e-5)
     assert bl.reynolds == pytest.approx(4.108e6, rel=1e-3)
@@ -69,7 +69,7 @@ def test_boundary_layer_worked_example() -> None:
 
 
 def test_boundary_layer_second_case_and_white() -> None:
-    # source: checks.md [derived]: 50 m/s, 3.0 m -> delta = 43.96 mm
+    # source: [derived] hand computation: 50 m/s, 3.0 m -> delta = 43.96 mm
     assert turbulent_flat_plate(50.0, 3.0, 1.4607e-5).thickness_m == pytest.approx(
         43.96e-3, rel=5e-3
     )

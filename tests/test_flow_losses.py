@@ -1,7 +1,7 @@
-"""Loss coefficients of the system behind the throat (brief §6; checks.md, Diffuser and losses).
+"""Loss coefficients of the system behind the throat (sources: docs/sources.md, losses).
 
 Every expected value comes from outside ductgen: the ``fluids`` reference library's own
-functions, or a published formula/value from checks.md, named beside each check.
+functions, or a published formula/value, named beside each check.
 """
 
 from __future__ import annotations
@@ -58,7 +58,7 @@ def test_transition_angle_of_a_built_inlet_is_dixons_formula() -> None:
 )
 def test_gradual_expansion_is_crane(d1: float, d2: float, angle: float) -> None:
     # source: Crane TP-410, K = 2.6 sin(theta/2) (1 - beta^2)^2 for theta <= 45 deg on the
-    # small-pipe velocity [published, checks.md]; and fluids.fittings.diffuser_conical
+    # small-pipe velocity [published]; and fluids.fittings.diffuser_conical
     # (method="Crane") [reference library]
     beta = d1 / d2
     crane = 2.6 * math.sin(math.radians(angle) / 2) * (1 - beta**2) ** 2

@@ -1,4 +1,4 @@
-"""Operating point, pressure budget, report section and warnings (brief §5, §6)."""
+"""Operating point, pressure budget, report section and warnings."""
 
 from __future__ import annotations
 
@@ -84,7 +84,7 @@ def test_energy_balance_and_budget_close() -> None:
     assert f["exit_area_m2"] == pytest.approx(0.015, rel=1e-12)
     v_exit = q / 0.015
     assert f["exit_velocity_m_s"] == pytest.approx(v_exit, rel=1e-12)
-    # default: the air is dumped internally, so the drag is the ram drag m*V0 (issue 10)
+    # default: the air is dumped internally, so the drag is the ram drag m*V0 (no exit thrust)
     assert f["exit_direction"] == "internal" and "net_momentum_drag_n" not in f
     assert f["ram_drag_n"] == pytest.approx(f["mass_flow_kg_s"] * f["speed_m_s"], rel=1e-9)
     assert f["momentum_drag_n"] == f["ram_drag_n"]
@@ -101,7 +101,7 @@ def test_longer_hose_lowers_flow() -> None:
 
 
 def test_mass_flow_example_with_fixed_recovery_and_ivr() -> None:
-    # source: checks.md Flow sanity [derived]: m = rho (V1/V0) V0 W D; W = 100 mm, D = 25 mm,
+    # source: [derived] flow sanity figure: m = rho (V1/V0) V0 W D; W = 100 mm, D = 25 mm,
     # V0 = 50 m/s, IVR 0.6, rho = 1.225 -> 0.091875 kg/s.
     # With no outlet and no losses, the exit is the throat: r q = cp q + IVR^2 q, so a
     # constant recovery 0.8 and exit_cp = 0.44 fix IVR = sqrt(0.8 - 0.44) = 0.6 [derived]
@@ -120,7 +120,7 @@ def test_mass_flow_example_with_fixed_recovery_and_ivr() -> None:
 
 
 def test_ram_recovery_is_not_total_pressure_ratio() -> None:
-    # source: checks.md [derived]: (H - p0)/(H0 - p0) = 0.80 at sea level, 50 m/s
+    # source: [derived]: (H - p0)/(H0 - p0) = 0.80 at sea level, 50 m/s
     # -> H/H0 = 0.99702
     spec = _spec({"speed": "50 m/s", "recovery": 0.8}, outlet={"kind": "none"})
     f, _ = _section(spec)

@@ -1,4 +1,4 @@
-"""Ram recovery models: capture estimate, constant, user table (brief §6)."""
+"""Ram recovery models: capture estimate, constant, user table."""
 
 from __future__ import annotations
 
@@ -126,7 +126,7 @@ def test_table_path_relative_to_spec_folder(tmp_path: Path) -> None:
 
 
 def test_low_flow_recovery_floor() -> None:
-    # issue 10: the capture estimate alone falls to 0 as IVR -> 0, while a flush inlet at zero
+    # the capture estimate alone falls to 0 as IVR -> 0, while a flush inlet at zero
     # flow keeps part of the boundary layer's total pressure (about 0.5: a recalled figure,
     # not verified here). The model must be continuous, monotone, finite and > 0 at IVR -> 0.
     for d_over in (0.3, 1.0, 2.5):

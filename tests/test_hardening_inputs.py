@@ -1,4 +1,4 @@
-"""Catalogue of bad inputs (issue 12): every one exits 2 with a message naming the key or
+"""Catalogue of bad inputs: every one exits 2 with a message naming the key or
 option and what is allowed, prints no traceback and changes nothing on disk.
 
 The expected words come from the allowed ranges the spec reference (README) states; none

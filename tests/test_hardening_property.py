@@ -1,4 +1,4 @@
-"""Property test over the valid spec space (issue 12): every example either builds a closed,
+"""Property test over the valid spec space: every example either builds a closed,
 consistently wound cutter with positive volume and a DXF whose CUT outlines are all closed,
 or is refused with a clear :class:`SpecError` — never a raw kernel exception.
 

@@ -1,4 +1,4 @@
-"""Signals and faults during builds and sweeps (issue 12): nothing partial published,
+"""Signals and faults during builds and sweeps: nothing partial published,
 previous files intact, no process left behind, no traceback.
 
 Every process a test starts carries a unique ``DUCTGEN_TEST_MARK`` in its environment (and

@@ -93,7 +93,7 @@ def test_spigot_outer_diameter_is_hose_id_minus_clearance(round_insert) -> None:
     # hose inner diameter 70 mm minus fit clearance 0.3 mm (the spec's own definition)
     assert 2.0 * max(radii) == pytest.approx(70.0 - 0.3, abs=0.05)
     assert 2.0 * min(radii) == pytest.approx(70.0 - 0.3 - 2 * 2.4, abs=0.05)  # bore: OD − 2·wall
-    assert sp.clamp_land_mm >= 15.0  # clamp land ≥ 15 mm (issue scope)
+    assert sp.clamp_land_mm >= 15.0  # clamp land ≥ 15 mm (the spec's lower limit)
 
 
 def test_bead_stands_above_the_spigot(round_insert) -> None:  # type: ignore[no-untyped-def]
@@ -143,7 +143,7 @@ def test_min_wall_on_every_sample(path: Path) -> None:
     wall = min_wall_mm(v, f)
     # measured by ray casting on the check mesh (0.05 mm chord): ≥ insert.wall − 0.05 mm;
     # on the mapped meshes of curved skins a few rays (< 1 %) report spurious hits of
-    # ~0.001 mm near the duct (an open defect, stated in the issue 13 note), so there the
+    # ~0.001 mm near the duct (an open defect of the mapped meshes), so there the
     # 1st percentile is held to the bound
     measured = wall["min_wall_mm"] if d.placement.curvature == 0.0 else wall["p01_wall_mm"]
     assert measured >= need, wall

@@ -139,8 +139,8 @@ def _open(d, url: str) -> None:  # type: ignore[no-untyped-def]
 
 
 def _ramp_length(r: float, h: float, theta_deg: float) -> float:
-    """Tangent-arc ramp length L = R sin θ + (H − R(1 − cos θ))/tan θ (checks.md,
-    tangent-arc geometry [derived])."""
+    """Tangent-arc ramp length L = R sin θ + (H − R(1 − cos θ))/tan θ (tangent-arc
+    geometry [derived])."""
     t = math.radians(theta_deg)
     return r * math.sin(t) + (h - r * (1.0 - math.cos(t))) / math.tan(t)
 
@@ -189,7 +189,7 @@ def test_page_shows_sample_and_ramp_length_follows_the_angle(server, browser) ->
     assert _shown_mm(d, "floor_drop_mm") == pytest.approx(h, abs=0.01)
     _type(d, "ramp.angle_deg", "6")
     want = _ramp_length(r, h, 6.0)  # 329.78 mm by the formula
-    # the issue's requirement: the shown value follows within one second
+    # the page's promise: the shown value follows within one second
     _wait(d, 1.0, lambda: abs(_shown_mm(d, "ramp_length_mm") - want) <= 0.1)
     assert f">L {want:.1f}<" in d.find_element("id", "plan").get_attribute("innerHTML")
     _type(d, "ramp.angle_deg", "7")
@@ -254,7 +254,7 @@ def test_build_from_page_writes_what_ductgen_build_writes(  # type: ignore[no-un
     _open(d, server)
     d.find_element("id", "build-btn").click()
     _wait(d, 10, lambda: "running" in _text(d, "job") or "done" in _text(d, "job"))
-    # a second build while one runs is refused with a message (issue 16, scope 5)
+    # a second build while one runs is refused with a message
     data = d.execute_script("return window.ductgenPage.specData()")
     status, res = _post(server, "/api/build", {"data": data, "out": "second"})
     assert status == 409 and res["message"].startswith("busy:")

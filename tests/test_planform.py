@@ -1,4 +1,4 @@
-"""Planform: the wall curve through the tabulated ordinates (NACA ACR 5I20 table, checks.md)."""
+"""Planform: the wall curve through the tabulated ordinates (NACA ACR 5I20 table, recalled)."""
 
 from __future__ import annotations
 
@@ -12,7 +12,7 @@ from hypothesis import strategies as st
 from ductgen.geometry import Planform, load_profile
 from tests.conftest import naca_ordinates
 
-# NACA ACR 5I20 divergent-wall ordinates (tests/data/naca_ordinates.json, [memory])
+# NACA ACR 5I20 divergent-wall ordinates (tests/data/naca_ordinates.json, recalled)
 NACA_TABLE = dict(naca_ordinates())
 
 
@@ -55,8 +55,8 @@ def test_walls_parallel_at_the_lip_and_straight_beyond() -> None:
     assert float(pf.half_width(260.0)) == 50.0
 
 
-def test_checks_md_worked_example_half_width() -> None:
-    # checks.md [derived]: W = 100, D = 25, 7°, straight, raised lip
+def test_worked_example_half_width() -> None:
+    # [derived] from the table: W = 100, D = 25, 7°, straight, raised lip
     # -> half-width at x/L = 0.5 is 23.3 mm
     pf = Planform(load_profile("naca-standard"), 100.0, 203.6)
     assert float(pf.half_width(0.5 * 203.6)) == pytest.approx(23.3, abs=1e-9)

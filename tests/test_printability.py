@@ -52,7 +52,7 @@ def test_mass_and_heat_warning() -> None:
 
 def test_material_table_matches_shop_practice() -> None:
     mats = load_materials()
-    # checks.md, printed material near heat (common practice, no source):
+    # printed material near heat (common practice, no source):
     # PETG softens ~65–85 °C, ASA ~90–100 °C; values in the table are recalled from memory
     assert 65 <= mats["PETG"].hdt_c <= 85
     assert 90 <= mats["ASA"].hdt_c <= 100

@@ -1,8 +1,8 @@
 """The drawing sheet and the preview picture of a real build (cutter + sheet).
 
-Sources: the offsets table must equal ``report.json`` ``geometry.offsets`` (brief §5, the
-project's own contract); the 5 % steps and the cautions are brief §3/§7; the NACA ACR 5I20
-stations x/L = 0, 0.1 … 1 (checks.md, [memory]) are the profile's stations.
+Sources: the offsets table must equal ``report.json`` ``geometry.offsets`` (the
+project's own contract); the 5 % steps are the sheet's own, the cautions the README's; the
+NACA ACR 5I20 stations x/L = 0, 0.1 … 1 (recalled) are the profile's stations.
 """
 
 from __future__ import annotations
@@ -62,7 +62,7 @@ def test_offsets_table_equals_report(built) -> None:  # type: ignore[no-untyped-
     assert len(doc) == 1
     rows = _rows(doc[0])
     stations = [r for r in rows if r[0].endswith("*")]
-    assert len(stations) == len(offsets) == 11  # NACA ACR 5I20 table: x/L = 0, 0.1 ... 1 ([memory])
+    assert len(stations) == len(offsets) == 11  # NACA ACR 5I20 table: x/L = 0, 0.1 ... 1 (recalled)
     for r, o in zip(stations, offsets, strict=True):
         assert float(r[1]) == pytest.approx(o["x_mm"], abs=0.0051)
         assert float(r[2]) == pytest.approx(o["half_width_mm"], abs=0.00051)

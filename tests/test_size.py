@@ -1,4 +1,4 @@
-"""`ductgen size`: smallest throat for a flow target, --json, --write-spec (brief §4, §6)."""
+"""`ductgen size`: smallest throat for a flow target, --json, --write-spec."""
 
 from __future__ import annotations
 
@@ -32,7 +32,7 @@ def test_size_delivers_target_and_is_smallest(plain) -> None:  # type: ignore[no
     smaller = _with_throat(plain.spec, 0.99 * g.depth_mm, 4.0, 7.0)
     assert delivered_flow(smaller) < TARGET
     # the ramp length follows the floor drop: L = H / tan(7 deg) for a straight floor
-    # (checks.md, trigonometry [derived])
+    # (trigonometry [derived])
     import math
 
     assert g.length_mm == pytest.approx(g.drop_mm / math.tan(math.radians(7.0)), rel=1e-9)

@@ -1,4 +1,4 @@
-"""Spec loading: units, strictness, errors that name the key (brief §3)."""
+"""Spec loading: units, strictness, errors that name the key."""
 
 from __future__ import annotations
 

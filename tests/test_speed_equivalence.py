@@ -1,4 +1,4 @@
-"""Regression guard for the speed work (issue 14): every sample's files keep their content.
+"""Regression guard for the speed work: every sample's files keep their content.
 
 Reference values: ``tests/data/speed_reference.json``, measured by this module's ``__main__``
 on builds made with commit b22f352 (the commit before the concurrent pipeline, the early
@@ -156,7 +156,7 @@ if __name__ == "__main__":  # python -m tests.test_speed_equivalence BUILD_DIR
     root = Path(sys.argv[1])
     doc = {
         "source": "measured by tests/test_speed_equivalence.py on builds of every sample made "
-        "with commit b22f352 (before the speed work of issue 14)",
+        "with commit b22f352 (before the speed work)",
         "samples": {p.name: measure(p) for p in sorted(root.iterdir()) if p.is_dir()},
     }
     REFERENCE.write_text(json.dumps(doc, indent=1) + "\n", encoding="utf-8")

@@ -52,7 +52,7 @@ def sweep(tmp_path_factory: pytest.TempPathFactory):  # type: ignore[no-untyped-
 
 
 def ramp_length(drop: float, angle_deg: float, radius: float) -> float:
-    """L = R sin θ + (H − R(1 − cos θ))/tan θ (checks.md, tangent-arc geometry [derived])."""
+    """L = R sin θ + (H − R(1 − cos θ))/tan θ (tangent-arc geometry [derived])."""
     t = math.radians(angle_deg)
     return radius * math.sin(t) + (drop - radius * (1.0 - math.cos(t))) / math.tan(t)
 
@@ -65,8 +65,8 @@ def test_ramp_lengths_follow_the_tangent_arc_formula(sweep) -> None:  # type: ig
     _, _, result = sweep
     assert [r.status for r in result.results] == ["built"] * 3
     lengths = [row["ramp_length_mm"] for row in result.rows]
-    # floor drop H = D + lip thickness for a flush lip (brief §2);
-    # L = R sin θ + (H − R(1 − cos θ))/tan θ (checks.md, tangent-arc geometry [derived])
+    # floor drop H = D + lip thickness for a flush lip (DEVELOPERS.md, Conventions);
+    # L = R sin θ + (H − R(1 − cos θ))/tan θ (tangent-arc geometry [derived])
     expected = [ramp_length(25.0 + 4.0, a, 40.0) for a in ANGLES]
     assert lengths == pytest.approx(expected, rel=1e-9)
     assert lengths[0] > lengths[1] > lengths[2]  # a steeper ramp is shorter
@@ -239,7 +239,7 @@ def test_cli_sweep_zip_two_jobs(tmp_path: Path) -> None:
     assert doc["baseline"] == "ramp.angle_deg=7,throat.width=4in"
     assert doc["variants"][1]["sym_diff_volume_mm3"] < 1e-3  # the baseline itself (mm³)
     assert doc["variants"][0]["sym_diff_volume_mm3"] > 1.0
-    # throat area W·D (brief §2)
+    # throat area W·D
     assert [r["throat_area_mm2"] for r in doc["variants"]] == pytest.approx([2500, 2540])
     # an unknown baseline id is bad input
     argv[-1] = "ramp.angle_deg=9"

@@ -62,7 +62,7 @@ def test_dask_cluster_matches_local_run(tmp_path: Path) -> None:
         assert remote["sym_diff_volume_mm3"] == pytest.approx(
             here["sym_diff_volume_mm3"], rel=1e-6, abs=1e-6
         )
-    # L = H / tan θ for a sharp entry; raised lip: H = D (checks.md [derived], brief §2)
+    # L = H / tan θ for a sharp entry; raised lip: H = D ([derived]; DEVELOPERS.md, Conventions)
     import math
 
     assert doc["variants"][1]["ramp_length_mm"] == pytest.approx(

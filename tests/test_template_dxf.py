@@ -1,9 +1,9 @@
 """The 1:1 DXF marking template, read back with ezdxf (an independent reader).
 
-Sources: the wall ordinates are the NACA ACR 5I20 table (checks.md, [memory]); the DXF
+Sources: the wall ordinates are the NACA ACR 5I20 table (recalled); the DXF
 header code ``$INSUNITS`` 4 = mm, 1 = inch is from the DXF reference [published]; one closed
 polyline of lines and arcs per contour, no splines, and kerf/2 inward for a hole are shop
-practice (checks.md, common practice, no source).
+practice (common practice, no source).
 """
 
 from __future__ import annotations
@@ -23,7 +23,7 @@ from ductgen.export.template_layout import template_drawing
 from ductgen.spec import parse_spec, spec_sha256
 from tests.conftest import naca_ordinates
 
-# NACA ACR 5I20 divergent-wall ordinates (tests/data/naca_ordinates.json, [memory])
+# NACA ACR 5I20 divergent-wall ordinates (tests/data/naca_ordinates.json, recalled)
 NACA = naca_ordinates()
 TOL = 0.02  # default template.tolerance (mm)
 
@@ -130,7 +130,7 @@ def test_opening_within_tolerance_of_true_outline(mm_doc) -> None:  # type: igno
 
 
 def test_opening_passes_through_naca_ordinates(mm_doc) -> None:  # type: ignore[no-untyped-def]
-    """The scaled NACA ACR 5I20 table points (checks.md, [memory]) lie on the cut line."""
+    """The scaled NACA ACR 5I20 table points (recalled) lie on the cut line."""
     g, doc = mm_doc
     p = _sample(_opening(doc), step=0.01)
     for xl, f in NACA:

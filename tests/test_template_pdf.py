@@ -3,7 +3,7 @@
 Sources: ISO 216 A4 = 210 × 297 mm and ANSI Letter = 8.5 × 11 in [published]; 1 pt = 1/72 in
 (PDF reference) [published], so 100 mm = 283.465 pt; 100 mm and 4 in squares on every page,
 crosshairs on the drawing, 10-20 mm overlap and a "print at 100 %" note are shop practice
-(checks.md, common practice, no source).
+(common practice, no source).
 """
 
 from __future__ import annotations

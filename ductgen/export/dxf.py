@@ -19,7 +19,7 @@ from __future__ import annotations
 import io
 import re
 import uuid
-from collections.abc import Iterator
+from collections.abc import Iterator, Sequence
 from contextlib import contextmanager
 
 import ezdxf
@@ -72,7 +72,7 @@ def _encode(d: TemplateDrawing) -> str:
     code, mm_per_unit = INSUNITS[d.units]
     f = 1.0 / mm_per_unit
 
-    def p(xy) -> tuple[float, float]:  # type: ignore[no-untyped-def]
+    def p(xy: Sequence[float]) -> tuple[float, float]:
         return (float(xy[0]) * f, float(xy[1]) * f)
 
     doc = ezdxf.new("R2010", setup=False)

@@ -3,7 +3,7 @@
 Cutting machines (laser, waterjet, vinyl cutter) and CAM importers want each contour as one
 closed polyline of straight lines and arcs; a DXF ``LWPOLYLINE`` stores an arc as the
 *bulge* of a segment, ``tan(θ/4)`` with θ the arc's included angle (positive
-counter-clockwise). Splines are avoided (brief §9: a SPLINE written from fit points deviated
+counter-clockwise). Splines are avoided (measured: a SPLINE written from fit points deviated
 0.3 mm and broke an importer).
 
 The wall curve is fitted directly from the planform's exact ``half_width(x)`` (not from a

@@ -5,12 +5,23 @@ corner; one drawing mm is 72/25.4 pt.
 
 from __future__ import annotations
 
+from collections.abc import Callable
+from typing import TYPE_CHECKING, Any
+
 import numpy as np
 
 from ductgen.export.placement import TEXT_ASCENT, Occupancy, text_box, text_width_em
 from ductgen.export.template_layout import TemplateDrawing
 from ductgen.export.tiling import MARGIN as _MARGIN
 from ductgen.export.tiling import Tile, TileLayout
+
+if TYPE_CHECKING:
+    from matplotlib.artist import Artist
+    from matplotlib.axes import Axes
+    from matplotlib.backends.backend_pdf import PdfPages
+    from matplotlib.figure import Figure
+    from matplotlib.patches import Patch
+    from matplotlib.typing import RcKeyType
 
 __all__ = [
     "CUT_RGB",
@@ -32,7 +43,7 @@ INCH = 25.4
 CUT_RGB = (0.85, 0.0, 0.0)
 SQUARE_RGB = (0.0, 0.35, 0.75)
 #: No path simplification (exact 1:1); the PDF core fonts (Helvetica: fast, no embedding).
-RC = {
+RC: dict[RcKeyType, Any] = {
     "path.simplify": False,
     "pdf.use14corefonts": True,
     "font.family": "sans-serif",
@@ -40,7 +51,7 @@ RC = {
 }
 
 
-def figure(page_mm: tuple[float, float]):  # type: ignore[no-untyped-def]
+def figure(page_mm: tuple[float, float]) -> tuple[Figure, Axes]:
     from matplotlib.figure import Figure
 
     fig = Figure(figsize=(page_mm[0] / INCH, page_mm[1] / INCH))
@@ -51,7 +62,7 @@ def figure(page_mm: tuple[float, float]):  # type: ignore[no-untyped-def]
     return fig, ax
 
 
-def squares(ax, x: float, y: float, sx: float = 1.0, sy: float = 1.0) -> None:  # type: ignore[no-untyped-def]
+def squares(ax: Axes, x: float, y: float, sx: float = 1.0, sy: float = 1.0) -> None:
     """100 mm and 4 in check squares sharing their lower-left corner at paper (x, y) mm."""
     from matplotlib.patches import Rectangle
 
@@ -73,11 +84,13 @@ def squares(ax, x: float, y: float, sx: float = 1.0, sy: float = 1.0) -> None:  
     ax.text(x + 3, y + 100 * sy - 14, "not cut lines", fontsize=7, color=SQUARE_RGB)
 
 
-def draw(ax, d: TemplateDrawing, to_page, clip) -> None:  # type: ignore[no-untyped-def]
+def draw(
+    ax: Axes, d: TemplateDrawing, to_page: Callable[[np.ndarray], np.ndarray], clip: Patch
+) -> None:
     """CUT, HOLES and MARK entities through ``to_page`` (drawing mm → paper mm)."""
     from matplotlib.patches import Circle as MplCircle
 
-    arts = []
+    arts: list[Artist] = []
     for _role, c in d.cuts:
         p = to_page(np.vstack([c.sample(0.2), c.points[:1]]))
         arts += ax.plot(p[:, 0], p[:, 1], color=CUT_RGB, lw=0.3 * PT, solid_joinstyle="miter")
@@ -95,7 +108,7 @@ def draw(ax, d: TemplateDrawing, to_page, clip) -> None:  # type: ignore[no-unty
         a.set_clip_path(clip)
 
 
-def crosshair(ax, x: float, y: float, clip) -> None:  # type: ignore[no-untyped-def]
+def crosshair(ax: Axes, x: float, y: float, clip: Patch) -> None:
     from matplotlib.patches import Circle as MplCircle
 
     lw = 0.18 * PT
@@ -106,7 +119,7 @@ def crosshair(ax, x: float, y: float, clip) -> None:  # type: ignore[no-untyped-
     ax.add_patch(MplCircle((x, y), 3.0, fill=False, ec="k", lw=lw)).set_clip_path(clip)
 
 
-def _note(ax, page_mm, text: str) -> None:  # type: ignore[no-untyped-def]
+def _note(ax: Axes, page_mm: tuple[float, float], text: str) -> None:
     ax.text(_MARGIN, page_mm[1] - _MARGIN - 9.5, text, fontsize=7.5, weight="bold")
 
 
@@ -115,7 +128,7 @@ _PRINT_NOTE = (
 )
 
 
-def header(ax, lay: TileLayout, text: str, size: float = 10) -> None:  # type: ignore[no-untyped-def]
+def header(ax: Axes, lay: TileLayout, text: str, size: float = 10) -> None:
     """Bold page title at the top left and the print-at-100 % note."""
     ax.text(_MARGIN, lay.page_mm[1] - _MARGIN - 4, text, fontsize=size, weight="bold")
     _note(ax, lay.page_mm, _PRINT_NOTE)
@@ -135,7 +148,14 @@ def _wrap(text: str, width_mm: float, em_mm: float, indent: str = "") -> list[st
     return [*lines, cur] if cur else lines
 
 
-def _map_label(ax, occ: Occupancy, lay: TileLayout, t: Tile, k: int, map_xform) -> None:  # type: ignore[no-untyped-def]
+def _map_label(
+    ax: Axes,
+    occ: Occupancy,
+    lay: TileLayout,
+    t: Tile,
+    k: int,
+    map_xform: tuple[float, float, float],
+) -> None:
     """Tile label on the assembly map, where the map is empty, inside the part of the tile
     no neighbour shows (nearest its centre); one line when two do not fit."""
     ox, oy, s = map_xform
@@ -164,7 +184,9 @@ def _map_label(ax, occ: Occupancy, lay: TileLayout, t: Tile, k: int, map_xform) 
         ax.text(at[0], y, line, fontsize=8, color=(0.3, 0.3, 0.3))
 
 
-def cover_page(pdf, d, lay: TileLayout, title: str, info: list[str], cautions: str) -> None:  # type: ignore[no-untyped-def]
+def cover_page(
+    pdf: PdfPages, d: TemplateDrawing, lay: TileLayout, title: str, info: list[str], cautions: str
+) -> None:
     from matplotlib.patches import Rectangle
 
     pw, ph = lay.page_mm
@@ -216,7 +238,7 @@ def cover_page(pdf, d, lay: TileLayout, title: str, info: list[str], cautions: s
     pdf.savefig(fig)
 
 
-def calibration_page(pdf, lay: TileLayout, title: str) -> None:  # type: ignore[no-untyped-def]
+def calibration_page(pdf: PdfPages, lay: TileLayout, title: str) -> None:
     fig, ax = figure(lay.page_mm)
     header(ax, lay, f"{title}   CALIBRATION   page 2 of {len(lay.tiles) + 2}")
     x0, y0 = _MARGIN + 8, _MARGIN + 30

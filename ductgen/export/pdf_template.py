@@ -9,7 +9,7 @@ overlap bands, so neighbouring sheets are aligned by the drawing itself, not the
 
 Scale: one drawing millimetre is exactly 72/25.4 pt, times the printer correction
 ``template.scale_x`` / ``scale_y`` on tile pages (1 = none). matplotlib's PDF output is
-exactly 1:1 only with path simplification turned off (brief §9), so every page is drawn
+exactly 1:1 only with path simplification turned off (measured), so every page is drawn
 inside an ``rc_context`` that disables it. Page orientation is the one needing fewer tiles.
 
 Nothing is drawn under a label or a check square: the squares go where the tile's drawing is
@@ -21,7 +21,9 @@ tile, and crosshairs under a square or label are left out on every tile.
 from __future__ import annotations
 
 import io
+from collections.abc import Callable
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 
@@ -43,6 +45,9 @@ from ductgen.export.tiling import MARGIN as _MARGIN
 from ductgen.export.tiling import PAPER_MM, Tile, TileLayout, registration, tile_layout
 from ductgen.stamp import build_datetime
 
+if TYPE_CHECKING:
+    from matplotlib.backends.backend_pdf import PdfPages
+
 __all__ = ["PAPER_MM", "Tile", "TileLayout", "pdf_bytes", "tile_layout"]
 
 
@@ -55,7 +60,7 @@ class _TilePlan:
     labels: list[tuple[Text, tuple[float, float]]]
 
 
-def _to_page(lay: TileLayout, t: Tile):  # type: ignore[no-untyped-def]
+def _to_page(lay: TileLayout, t: Tile) -> Callable[[np.ndarray], np.ndarray]:
     """Drawing mm → paper mm for tile ``t``."""
     sx, sy = lay.scale
     wx, wy = lay.window_mm[:2]
@@ -112,7 +117,12 @@ def _tile_labels(
     return out
 
 
-def _occupancy(d: TemplateDrawing, lay: TileLayout, tile: Tile, labels) -> Occupancy:  # type: ignore[no-untyped-def]
+def _occupancy(
+    d: TemplateDrawing,
+    lay: TileLayout,
+    tile: Tile,
+    labels: list[tuple[Text, tuple[float, float]]],
+) -> Occupancy:
     """Cells of the tile's window that its drawing (cut, hole, mark lines, labels) occupies."""
     to_page = _to_page(lay, tile)
     occ = Occupancy(_window_box(lay), 0.5)
@@ -218,7 +228,15 @@ def _free_marks(lay: TileLayout, plans: list[_TilePlan]) -> list[tuple[float, fl
     return keep
 
 
-def _tile_page(pdf, d, lay: TileLayout, k: int, plan: _TilePlan, marks, title: str) -> None:  # type: ignore[no-untyped-def]
+def _tile_page(
+    pdf: PdfPages,
+    d: TemplateDrawing,
+    lay: TileLayout,
+    k: int,
+    plan: _TilePlan,
+    marks: list[tuple[float, float]],
+    title: str,
+) -> None:
     from matplotlib.patches import Rectangle
 
     t = lay.tiles[k]
@@ -288,7 +306,7 @@ def pdf_bytes(
         paper: ``"A4"`` or ``"Letter"``.
         overlap_mm: tile overlap (drawing mm).
         scale: (scale_x, scale_y) printer correction for the tile pages.
-        title: page heading (name); info: lines for the assembly page; cautions: brief §7.
+        title: page heading (name); info: lines for the assembly page; cautions: the cautions text.
 
     Returns:
         The PDF file.

@@ -12,7 +12,7 @@ Layers, as a cutter or CAM program sees them:
 * ``TEXT`` — name, spec hash, date, units, kerf note, "verify scale", cautions;
 * ``SCALE`` — a 100 mm bar and a 4 in bar.
 
-Coordinates (brief §2): x downstream from the ramp start, y spanwise, centreline y = 0.
+Coordinates (DEVELOPERS.md): x downstream from the ramp start, y spanwise, centreline y = 0.
 """
 
 from __future__ import annotations
@@ -44,7 +44,7 @@ __all__ = [
 #: Layer name → AutoCAD colour index.
 LAYERS: dict[str, int] = {"CUT": 1, "HOLES": 5, "MARK": 3, "TEXT": 7, "SCALE": 6}
 
-#: Brief §7, in full: on every drawing sheet and the template's assembly page.
+#: The README's cautions in full: on every drawing sheet and the template's assembly page.
 CAUTIONS = (
     "Cutting an opening weakens a panel or airframe: reinforce, and for aircraft get the "
     "modification approved under your aviation authority's rules. Brake and engine cooling are "
@@ -54,7 +54,7 @@ CAUTIONS = (
     "competition regulations and licensed practice; ductgen's estimates are not a certification."
 )
 
-#: Brief §7, short form for the template's TEXT layer.
+#: The cautions, short form for the template's TEXT layer.
 CAUTIONS_SHORT: tuple[str, ...] = (
     "CAUTION: cutting an opening weakens the panel - reinforce it;",
     "aircraft: get the modification approved by your aviation authority.",
@@ -224,8 +224,8 @@ def template_drawing(
         *CAUTIONS_SHORT,
     ]
     y = ymin - 30.0
-    for i, s in enumerate(lines):
-        d.texts.append(Text((0.0, y - 5.0 * i), s, 3.0 if i else 3.5))
+    for i, line in enumerate(lines):
+        d.texts.append(Text((0.0, y - 5.0 * i), line, 3.0 if i else 3.5))
     return d
 
 

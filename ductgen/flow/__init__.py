@@ -1,4 +1,4 @@
-"""Airflow estimate (brief §6): air, boundary layer, ram recovery, losses, operating point.
+"""Airflow estimate: air, boundary layer, ram recovery, losses, operating point.
 
 Pure functions in SI units; no CAD kernel. The report section is made by
 :func:`ductgen.flow.report.flow_section` from a

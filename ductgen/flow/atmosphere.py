@@ -1,4 +1,4 @@
-"""Air properties: the standard atmosphere of the ``fluids`` package (brief §6).
+"""Air properties: the standard atmosphere of the ``fluids`` package.
 
 ``fluids.atmosphere.ATMOSPHERE_1976`` is the US Standard Atmosphere 1976, identical to the
 ISO 2533 / ICAO standard atmosphere below 32 km. It takes a *geometric* altitude and

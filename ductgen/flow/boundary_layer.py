@@ -1,4 +1,4 @@
-"""Turbulent flat-plate boundary layer ahead of the ramp (brief §6).
+"""Turbulent flat-plate boundary layer ahead of the ramp.
 
 The body's surface ahead of the ramp start is taken as a flat plate wetted over
 ``run_length`` x, turbulent from its leading edge, with the 1/7-power velocity profile

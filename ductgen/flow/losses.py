@@ -1,4 +1,4 @@
-"""Pressure losses of the system behind the throat (brief §6), each ½ρV²K at its own velocity.
+"""Pressure losses of the system behind the throat, each ½ρV²K at its own velocity.
 
 Loss coefficients come from the ``fluids`` package rather than hand-written tables:
 

@@ -1,4 +1,4 @@
-"""The operating point: the volume flow at which the recovered pressure is used up (brief §6).
+"""The operating point: the volume flow at which the recovered pressure is used up.
 
 Energy balance along the duct, incompressible, pressures relative to the free-stream static
 pressure p∞:

@@ -1,4 +1,4 @@
-r"""Ram recovery at the throat: ``ram_recovery`` = (p_t1 − p∞)/q∞ (brief §6).
+r"""Ram recovery at the throat: ``ram_recovery`` = (p_t1 − p∞)/q∞.
 
 This is the NACA ram-recovery ratio, not p_t1/p_t∞. No published recovery curve is available
 to ductgen, so the default is a first-principles **boundary-layer capture** estimate; the user

@@ -1,4 +1,4 @@
-"""The ``flow`` section of ``report.json`` (brief §5, §6) from ``[flow]`` and the duct shape.
+"""The ``flow`` section of ``report.json`` from ``[flow]`` and the duct shape.
 
 :func:`flow_analysis` assembles the air, the boundary layer, the recovery model, the loss
 elements (the internal transition first, from the :class:`~ductgen.flow.inputs.DuctShape`)
@@ -46,7 +46,7 @@ __all__ = [
     "flow_section",
 ]
 
-#: Recovery shift of the sensitivity band (brief §6).
+#: Recovery shift of the sensitivity band (the flow is also given at recovery ± 0.1).
 SENSITIVITY_DELTA = 0.1
 
 TRANSITION_NAME = "internal transition"

@@ -1,4 +1,4 @@
-"""Design warnings with stable codes (brief §6). They never block a build.
+"""Design warnings with stable codes. They never block a build.
 
 Shape warnings (:func:`geometry_warnings`) apply with or without a ``[flow]`` section:
 
@@ -9,7 +9,7 @@ Shape warnings (:func:`geometry_warnings`) apply with or without a ``[flow]`` se
   vortex pair that wall divergence forms (NACA TN 2323, abstract). Basis of the number:
   with the standard table the steepest wall angle only restates the ramp angle and W/D
   (W/L = (W/D)·tan θ); its smallest value over NACA's recommended designs is 12.2° at 5°,
-  W/D 3 (checks.md, derived by PCHIP). Walls that never diverge that steeply diverge less
+  W/D 3 (derived by PCHIP; docs/sources.md). Walls that never diverge that steeply diverge less
   than any recommended design. With the standard table the angle is reported, not warned;
 * ``diffuser_angle_large`` — the internal transition's steepest wall (with the facing wall's
   divergence, the 2θ of a two-dimensional diffuser) lies above line a-a of the
@@ -53,7 +53,7 @@ __all__ = [
 
 RAMP_ANGLE_RANGE_DEG = (5.0, 7.0)  # NACA RM A7I30
 ASPECT_RANGE = (3.0, 5.0)  # NACA RM A7I30
-#: 12.2° (checks.md, derived) rounded down: a standard-shaped user table at 5°, W/D 3
+#: 12.2° (derived, docs/sources.md) rounded down: a standard-shaped user table at 5°, W/D 3
 #: must not warn on rounding.
 WALL_DIVERGENCE_MIN_DEG = 12.0
 DIFFUSER_INCLUDED_MAX_DEG = 8.0  # common practice, no source

@@ -161,7 +161,7 @@ def validate_fabrication(g: InletGeometry, fab: Fabrication) -> None:
                 )
             )
     if problems:
-        raise SpecError.many(problems)  # type: ignore[arg-type]
+        raise SpecError.many(problems)
 
 
 def fabrication_warnings(g: InletGeometry, fab: Fabrication) -> list[DesignWarning]:

@@ -50,7 +50,8 @@ class Development:
         """Template coordinates (mm) of design points ``uv`` (N, 2)."""
         p = np.asarray(uv, dtype=float).reshape(-1, 2)
         if self.exact or self.flat_xy is None or self.origin_uv is None:
-            return p.copy()
+            same: np.ndarray = p.copy()
+            return same
         nu, nv = self.flat_xy.shape[:2]
         g = (p - np.asarray(self.origin_uv)) / self.step
         i = np.clip(np.floor(g[:, 0]).astype(int), 0, nu - 2)
@@ -62,7 +63,8 @@ class Development:
         p00, p10, p01, p11 = q[i, j], q[i + 1, j], q[i, j + 1], q[i + 1, j + 1]
         low = p00 + a[:, None] * (p10 - p00) + b[:, None] * (p01 - p00)
         up = p11 + (1 - a)[:, None] * (p01 - p11) + (1 - b)[:, None] * (p10 - p11)
-        return np.where(lower[:, None], low, up)
+        xy: np.ndarray = np.where(lower[:, None], low, up)
+        return xy
 
 
 def _grid(lo: np.ndarray, hi: np.ndarray, step: float) -> tuple[np.ndarray, np.ndarray, int, int]:

@@ -120,7 +120,8 @@ class Floor:
         )
         line = za + (xc - xa) * math.tan(t)
         d = np.where(xc <= xa, arc, line)
-        return np.clip(d, 0.0, self.drop_mm) * (x >= 0)
+        depth: np.ndarray = np.clip(d, 0.0, self.drop_mm) * (x >= 0)
+        return depth
 
 
 #: An entry arc shorter than this along x (mm) is drawn sharp: its largest departure from the

@@ -12,6 +12,7 @@ the straight throat and of the transition) → L + a + transition length (outlet
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
 from functools import cached_property
 
@@ -97,7 +98,7 @@ class InletGeometry:
         return self.width_mm * self.depth_mm
 
     # --- volumes, integrated without the CAD kernel -----------------------------------
-    def _quad(self, fn, a: float, b: float) -> float:  # type: ignore[no-untyped-def]
+    def _quad(self, fn: Callable[[float], float], a: float, b: float) -> float:
         pts = [p for p in self.planform.node_x_mm if a < p < b]
         pts.append(min(max(self.floor.arc_end_mm[0], a), b))
         val, _ = quad(fn, a, b, points=sorted(set(pts)), limit=400, epsabs=1e-9, epsrel=1e-12)

@@ -29,6 +29,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
+from numpy.typing import NDArray
 from scipy.interpolate import CubicSpline, RectBivariateSpline
 
 __all__ = [
@@ -55,14 +56,16 @@ class PanelFrame:
             normal), (3, 3).
     """
 
-    origin: np.ndarray
-    axes: np.ndarray
+    origin: NDArray[np.float64]
+    axes: NDArray[np.float64]
 
     def to_model(self, local: np.ndarray) -> np.ndarray:
         return self.origin + np.asarray(local, dtype=float).reshape(-1, 3) @ self.axes
 
     def to_local(self, model: np.ndarray) -> np.ndarray:
-        return (np.asarray(model, dtype=float).reshape(-1, 3) - self.origin) @ self.axes.T
+        d = np.asarray(model, dtype=float).reshape(-1, 3) - self.origin
+        local: np.ndarray = d @ self.axes.T
+        return local
 
 
 @dataclass(frozen=True)
@@ -93,7 +96,8 @@ class HeightField:
         """Unit outward normals (N, 3) in the local frame."""
         hx, hy = self.ev(x, y, 1, 0), self.ev(x, y, 0, 1)
         n = np.column_stack([-hx, -hy, np.ones_like(hx)])
-        return n / np.linalg.norm(n, axis=1)[:, None]
+        unit: np.ndarray = n / np.linalg.norm(n, axis=1)[:, None]
+        return unit
 
     def second_form(self, x: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, ...]:
         """hx, hy, hxx, hxy, hyy at the points."""
@@ -147,7 +151,8 @@ def _geodesics(hf: HeightField, start: np.ndarray, length: float, step: float) -
 def _tangent3(hf: HeightField, st: np.ndarray) -> np.ndarray:
     hx, hy = hf.ev(st[:, 0], st[:, 1], 1, 0), hf.ev(st[:, 0], st[:, 1], 0, 1)
     t = np.column_stack([st[:, 2], st[:, 3], hx * st[:, 2] + hy * st[:, 3]])
-    return t / np.linalg.norm(t, axis=1)[:, None]
+    unit: np.ndarray = t / np.linalg.norm(t, axis=1)[:, None]
+    return unit
 
 
 def _both_ways(
@@ -315,7 +320,10 @@ class PanelDuctMap:
             + (inplane * np.cos(f * tn))[:, None] * n
             + ft[:, None] * t
         )
-        return c + (f * e)[:, None] * t + a[:, None] * bb + b[:, None] * n + w[:, None] * nf
+        out: np.ndarray = (
+            c + (f * e)[:, None] * t + a[:, None] * bb + b[:, None] * n + w[:, None] * nf
+        )
+        return out
 
     def to_model(self, uvw: np.ndarray) -> np.ndarray:
         p = np.asarray(uvw, dtype=float).reshape(-1, 3)
@@ -343,7 +351,7 @@ class PanelDuctMap:
 
     def outlet_normal(self) -> np.ndarray:
         """The outward normal of the straight outlet frame (model coordinates)."""
-        return self.skin.centre_frame(np.array([self.u_end]))[3][0]
+        return self.skin.centre_frame(np.array([self.u_end]))[3][0, :]
 
 
 @dataclass(frozen=True)
@@ -431,7 +439,8 @@ def _sections(
     c, t, b, n = (centre[None, :, i, :] for i in range(4))
 
     def comp(a: np.ndarray, d: np.ndarray) -> np.ndarray:
-        return np.sum(a * d, axis=2)
+        dot: np.ndarray = np.sum(a * d, axis=2)
+        return dot
 
     theta = np.arctan2(-comp(tau, n), comp(tau, b))
     m = np.hypot(comp(tau, b), comp(tau, n))

@@ -1,6 +1,6 @@
 """Wall-curve tables (``ductgen/data/profiles/*.csv``): loading, validation and the registry.
 
-A table gives the planform as ``2y/W`` against ``x/L`` (brief §2). Comment lines at the top
+A table gives the planform as ``2y/W`` against ``x/L``. Comment lines at the top
 of the CSV (``# key: value``) carry its name, title, source and a note on how the values
 were obtained.
 """

@@ -145,7 +145,7 @@ class CurvedSkin:
         sn, cs = np.sin(ky * v), np.cos(ky * v)
         b_coef = s + w * sn
         n_coef = c + w * cs
-        out = m + n * n_coef[:, None]
+        out: np.ndarray = m + n * n_coef[:, None]
         out[:, 1] += b_coef
         return out
 
@@ -221,7 +221,7 @@ class DuctMap:
 
     def outlet_normal(self) -> np.ndarray:
         """The outward normal of the straight outlet frame (model coordinates)."""
-        return self.skin.frame(np.array([self.u_end]))[1][0]
+        return self.skin.frame(np.array([self.u_end]))[1][0, :]
 
 
 @dataclass(frozen=True)
@@ -233,4 +233,7 @@ class TurnedOver:
 
     def __call__(self, p: np.ndarray) -> np.ndarray:
         flip = np.array([1.0, 1.0, -1.0])
-        return self.skin.to_model(np.asarray(p, dtype=float).reshape(-1, 3) * flip) * flip
+        out: np.ndarray = (
+            self.skin.to_model(np.asarray(p, dtype=float).reshape(-1, 3) * flip) * flip
+        )
+        return out

@@ -1,12 +1,12 @@
 """``NAME-preview.png``: a shaded 3D picture of the insert (or the cutter) via VTK offscreen.
 
 The picture is rendered with pyvista/VTK off screen (EGL or OSMesa through Mesa; no display
-needed, ~1 s, brief §9) from the triangulation the build already made
+needed, ~1 s measured) from the triangulation the build already made
 (``ctx.solids[kind]["mesh"]``), or from a draft triangulation of the cutter made in the kernel
 worker when no solid was built in this run. Rendering also runs in the worker process, so a
 broken OpenGL stack cannot take the build down: it becomes an :class:`ExportError` that says
 which system libraries are missing. matplotlib 3D is not used: it mis-orders faces on these
-shapes (brief §9).
+shapes (seen on this stack).
 """
 
 from __future__ import annotations
@@ -147,7 +147,8 @@ def render_png(
             plate = _skin_plate(np.asarray(opening, dtype=float), 0.3 * span)
         mesh = mesh.compute_normals(cell_normals=False, split_vertices=True, feature_angle=35.0)
         pl = pv.Plotter(off_screen=True, window_size=list(size))
-        pl.set_background("white", top="#dfe7ef")
+        # pyvista types this method as functools.wraps of a function that takes self first
+        pl.set_background("white", top="#dfe7ef")  # type: ignore[arg-type]
         pl.add_mesh(mesh, color=colour, smooth_shading=True, specular=0.3, specular_power=20)
         edges = mesh.extract_feature_edges(
             35.0, boundary_edges=False, manifold_edges=False, non_manifold_edges=False

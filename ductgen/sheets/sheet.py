@@ -5,14 +5,14 @@ A3 landscape (420 × 297 mm) for ``template.paper = "A4"``, ANSI B / tabloid lan
 (stated under each view): plan view of the skin opening, centreline section (skin, ramp
 floor, lip, throat and transition), an enlarged lip detail; the table of offsets (x,
 half-width, floor depth) at every station of the profile (marked ``*``) and at 5 % steps,
-the key dimensions, a title block and the cautions (brief §7). Dimensions in mm.
+the key dimensions, a title block and the cautions (README, Cautions). Dimensions in mm.
 """
 
 from __future__ import annotations
 
 import io
 import textwrap
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
@@ -22,13 +22,22 @@ from ductgen.geometry.inlet import InletGeometry
 from ductgen.stamp import build_datetime
 from ductgen.units import MM_PER_INCH
 
+if TYPE_CHECKING:
+    from matplotlib.axes import Axes
+    from matplotlib.figure import Figure
+    from matplotlib.typing import RcKeyType
+    from numpy.typing import ArrayLike
+
+    _Size = tuple[float, float]  # paper (width, height), mm
+    _Box = tuple[float, float, float, float]  # x, y, width, height on the paper, mm
+
 __all__ = ["SHEET_MM", "offset_rows", "sheet_pdf"]
 
 #: template.paper → drawing sheet (width, height) mm, landscape.
 SHEET_MM: dict[str, tuple[float, float]] = {"A4": (420.0, 297.0), "Letter": (431.8, 279.4)}
 _SCALES = (5.0, 2.0, 1.0, 0.5, 0.2, 0.1, 0.05, 0.02, 0.01)
 _INCH = MM_PER_INCH
-_RC = {
+_RC: dict[RcKeyType, Any] = {
     "path.simplify": False,
     "pdf.use14corefonts": True,
     "font.family": "sans-serif",
@@ -61,7 +70,7 @@ def _scale_for(extent: tuple[float, float], box: tuple[float, float]) -> float:
     return next((s for s in _SCALES if s <= k), _SCALES[-1])
 
 
-def _view(fig, page, box, centre, scale):  # type: ignore[no-untyped-def]
+def _view(fig: Figure, page: _Size, box: _Box, centre: tuple[float, float], scale: float) -> Axes:
     """Axes covering paper box (x, y, w, h) mm, data in true mm at ``scale`` around ``centre``."""
     x, y, w, h = box
     ax = fig.add_axes((x / page[0], y / page[1], w / page[0], h / page[1]))
@@ -75,7 +84,15 @@ def _scale_text(s: float) -> str:
     return f"{s:g}:1" if s >= 1 else f"1:{1 / s:g}"
 
 
-def _dim(ax, a, b, off, text, horizontal=True, fs=6.5) -> None:  # type: ignore[no-untyped-def]
+def _dim(
+    ax: Axes,
+    a: ArrayLike,
+    b: ArrayLike,
+    off: float,
+    text: str,
+    horizontal: bool = True,
+    fs: float = 6.5,
+) -> None:
     """Linear dimension between a and b, offset ``off`` (data mm) perpendicular to it."""
     a, b = np.asarray(a, float), np.asarray(b, float)
     if horizontal:
@@ -88,8 +105,8 @@ def _dim(ax, a, b, off, text, horizontal=True, fs=6.5) -> None:  # type: ignore[
         ax.plot([p[0], q[0]], [p[1], q[1]], color="0.45", lw=0.3)
     ax.annotate(
         "",
-        pa,
-        pb,
+        (pa[0], pa[1]),
+        (pb[0], pb[1]),
         arrowprops={"arrowstyle": "<->", "lw": 0.5, "color": "0.2", "shrinkA": 0, "shrinkB": 0},
     )
     m = 0.5 * (pa + pb)
@@ -105,7 +122,7 @@ def _dim(ax, a, b, off, text, horizontal=True, fs=6.5) -> None:  # type: ignore[
     )
 
 
-def _plan(fig, page, box, g: InletGeometry) -> float:  # type: ignore[no-untyped-def]
+def _plan(fig: Figure, page: _Size, box: _Box, g: InletGeometry) -> float:
     pf, length, w = g.planform, g.length_mm, g.width_mm
     s = _scale_for((length * 1.25, w * 1.6), box[2:])
     ax = _view(fig, page, box, (0.5 * length, 0.0), s)
@@ -152,7 +169,9 @@ def _section_profile(g: InletGeometry) -> tuple[np.ndarray, np.ndarray, np.ndarr
     return np.vstack(floor), np.vstack(roof), g.lip.nose()
 
 
-def _section(fig, page, box, g: InletGeometry, split_x: tuple[float, ...] = ()) -> float:  # type: ignore[no-untyped-def]
+def _section(
+    fig: Figure, page: _Size, box: _Box, g: InletGeometry, split_x: tuple[float, ...] = ()
+) -> float:
     floor, roof, nose = _section_profile(g)
     x_end = float(floor[-1, 0])
     zmin = float(floor[:, 1].min())
@@ -203,12 +222,12 @@ def _section(fig, page, box, g: InletGeometry, split_x: tuple[float, ...] = ()) 
         ha="center",
         va="top",
     )
-    for i, xs in enumerate(split_x):  # the insert's glue faces: floor to above the skin
-        if not 0.0 < xs < x_end:
+    for i, x_split in enumerate(split_x):  # the insert's glue faces: floor to above the skin
+        if not 0.0 < x_split < x_end:
             continue
-        zf = float(np.interp(xs, floor[:, 0], floor[:, 1]))
-        ax.plot([xs, xs], [zf, 2 * gap], color="#b05000", lw=0.6, ls=(0, (6, 2, 1, 2)))
-        ax.text(xs, 2.5 * gap, f"split {i + 1}", fontsize=5.5, color="#b05000", ha="center")
+        zf = float(np.interp(x_split, floor[:, 0], floor[:, 1]))
+        ax.plot([x_split, x_split], [zf, 2 * gap], color="#b05000", lw=0.6, ls=(0, (6, 2, 1, 2)))
+        ax.text(x_split, 2.5 * gap, f"split {i + 1}", fontsize=5.5, color="#b05000", ha="center")
     if g.transition is not None:
         t = g.transition
         # under the section's lowest point, right-aligned with the outlet face: no line
@@ -224,7 +243,7 @@ def _section(fig, page, box, g: InletGeometry, split_x: tuple[float, ...] = ()) 
     return s
 
 
-def _lip_detail(fig, page, box, g: InletGeometry) -> float:  # type: ignore[no-untyped-def]
+def _lip_detail(fig: Figure, page: _Size, box: _Box, g: InletGeometry) -> float:
     lip = g.lip
     nose = lip.nose()
     a, t = lip.semi_major_mm, lip.thickness_mm
@@ -347,7 +366,7 @@ def sheet_pdf(
     return buf.getvalue()
 
 
-def _flow_block(bg, tx: float, flow: dict[str, Any]) -> None:  # type: ignore[no-untyped-def]
+def _flow_block(bg: Axes, tx: float, flow: dict[str, Any]) -> None:
     from ductgen.flow.sheet_block import FLOW_BLOCK_TITLE, flow_block_lines
 
     bg.text(tx + 4, 193.0, FLOW_BLOCK_TITLE, fontsize=7.5, weight="bold")
@@ -355,7 +374,7 @@ def _flow_block(bg, tx: float, flow: dict[str, Any]) -> None:  # type: ignore[no
         bg.text(tx + 4, 189.0 - 3.7 * i, line, fontsize=6.5)
 
 
-def _table(bg, tx: float, ph: float, g: InletGeometry, bottom: float = 150.0) -> None:  # type: ignore[no-untyped-def]
+def _table(bg: Axes, tx: float, ph: float, g: InletGeometry, bottom: float = 150.0) -> None:
     rows = offset_rows(g)
     y = ph - 16
     bg.text(tx + 4, y, "TABLE OF OFFSETS (mm)   * = profile station", fontsize=7.5, weight="bold")
@@ -377,7 +396,9 @@ def _table(bg, tx: float, ph: float, g: InletGeometry, bottom: float = 150.0) ->
             bg.text(cx, y, c, fontsize=6.5, weight="bold" if r["station"] else "normal")
 
 
-def _key_dims(bg, tx: float, g: InletGeometry, extra=()) -> None:  # type: ignore[no-untyped-def]
+def _key_dims(
+    bg: Axes, tx: float, g: InletGeometry, extra: tuple[tuple[str, str], ...] = ()
+) -> None:
     pf = g.planform
     items = [
         ("throat width W", f"{g.width_mm:.2f} mm"),
@@ -401,7 +422,9 @@ def _key_dims(bg, tx: float, g: InletGeometry, extra=()) -> None:  # type: ignor
         bg.text(tx + 50, y, v, fontsize=6.8)
 
 
-def _title_block(bg, tx, pw, g, spec, spec_hash, version) -> None:  # type: ignore[no-untyped-def]
+def _title_block(
+    bg: Axes, tx: float, pw: float, g: InletGeometry, spec: Any, spec_hash: str, version: str
+) -> None:
     from matplotlib.patches import Rectangle
 
     bg.add_patch(Rectangle((tx, 10), pw - 10 - tx, 95, fill=False, lw=0.6))

@@ -1,7 +1,7 @@
 """Validity checks for every solid: B-rep check, watertight triangulation, volume.
 
 ``BRepCheck`` alone passes solids with the wrong volume, inverted or non-manifold ones
-(brief §9), so each stage is also triangulated, merged and tested for closure and
+(seen on this stack), so each stage is also triangulated, merged and tested for closure and
 consistent winding, and its triangulated volume is compared with an independent integral.
 The kernel's own ``Volume()`` is biased by up to ~1e-3 on these curves; the fine
 triangulation is used as the measured volume.

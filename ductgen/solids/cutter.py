@@ -1,6 +1,6 @@
 """The cutter: the air volume below the skin (ramp cavity + throat + internal duct).
 
-Construction (brief §9, measured on this stack): the planform is extruded as a prism,
+Construction (measured on this stack): the planform is extruded as a prism,
 optionally unioned with a slab above the skin and filleted where the two meet (the edge
 round, done before the floor and lip exist, where the kernel handles it); that is
 intersected with the floor "wedge" (the centreline section with the entry arc, extruded

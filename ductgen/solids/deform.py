@@ -162,7 +162,7 @@ def map_solid(
         out = cq.Shape.cast(fix.Shape())
     except GeometryError:
         raise
-    except Exception as err:  # kernel exceptions share no base class (brief §9)
+    except Exception as err:  # kernel exceptions share no base class (seen on this stack)
         raise GeometryError(
             stage, f"mapping onto the skin failed: {type(err).__name__}: {err}"
         ) from err

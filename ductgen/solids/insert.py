@@ -1,7 +1,7 @@
 """The printable insert: cavity floor, walls, lip and transition as walls of ``insert.wall``,
 a flange (or surface bezel) with fastener holes, and a round hose spigot.
 
-Construction (brief §9: the kernel's shell/offset fails on these shapes): an explicit
+Construction (measured: the kernel's shell/offset fails on these shapes): an explicit
 outer body is built from simple exact pieces and the inner body (the cutter, extended
 through the spigot and the top) is subtracted once.
 
@@ -322,7 +322,7 @@ def build_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
         if isinstance(err, GeometryError):
             raise
         raise GeometryError("insert", f"kernel failure: {err}") from err
-    except Exception as err:  # kernel exceptions share no base class (brief §9)
+    except Exception as err:  # kernel exceptions share no base class (seen on this stack)
         from ductgen.errors import SpecError
 
         if isinstance(err, SpecError):

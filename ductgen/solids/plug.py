@@ -59,7 +59,7 @@ def build_plug(d: Design) -> cq.Solid:
         shape = boolean("fuse", plate, [cavity], "plug")
     except GeometryError:
         raise
-    except Exception as err:  # kernel exceptions share no base class (brief §9)
+    except Exception as err:  # kernel exceptions share no base class (seen on this stack)
         raise GeometryError("plug", f"kernel failure: {type(err).__name__}: {err}") from err
     solids = shape.Solids()
     if len(solids) != 1:

@@ -5,7 +5,7 @@ Fit (pure numpy): the part stands in its suggested orientation (the axis directi
 rectangle over turns of 0-90° (0.5° steps) is compared with the bed in both ways round, and
 the height with the bed's z.
 
-Split (CAD kernel): planes x = s across the flow (x downstream, brief §2) cut the part into
+Split (CAD kernel): planes x = s across the flow (x downstream) cut the part into
 pieces whose cut faces are the glue faces. Each joint is keyed by a tongue and groove: the
 upstream piece keeps a tongue of the part's material, ``key_length`` long, over the middle
 ``key_fraction`` of the section's width (the floor and roof there), the downstream piece the

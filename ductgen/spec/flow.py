@@ -1,6 +1,6 @@
 """The ``[flow]`` section: operating condition and the system behind the throat.
 
-Owned by the airflow work (brief §6); SI units inside. Flow quantities need a unit in the
+The airflow estimate's inputs; SI units inside. Flow quantities need a unit in the
 spec file (``speed = "160 km/h"``, ``length = "1.2 m"``) because a bare number could be read
 in several units; zero may be written bare. Dimensionless numbers (``recovery``,
 ``inlet_loss_factor``, ``exit_cp``, a cooler's ``k``) and angles in degrees are bare.

@@ -1,4 +1,4 @@
-"""The spec: one frozen, strict pydantic model for a whole inlet (brief §3).
+"""The spec: one frozen, strict pydantic model for a whole inlet.
 
 Lengths are floats in mm, angles in degrees, flow quantities SI, converted once at load
 (:mod:`ductgen.spec.types`). Unknown keys are errors, so a typo never falls back silently
