@@ -126,6 +126,9 @@ def _executor(jobs: int, scheduler: str | None) -> Iterator[Executor | None]:
     """The pool to run on: None (this process) for one local job, a process pool, or a
     Dask executor on the cluster at ``scheduler``."""
     if scheduler:
+        from ductgen.sweep.scheduler import check_scheduler
+
+        check_scheduler(scheduler)  # a few seconds at most, before Dask's client is trusted
         from distributed import Client
 
         try:
