@@ -177,7 +177,15 @@ class OutputSet:
                 tempfile.mkdtemp(prefix=f"{STAGING_PREFIX}{_host()}-{os.getpid()}-", dir=base)
             )
         except OSError as err:
-            raise _write_error(err, base / "staging") from None
+            if err.errno in _DISK_FULL:
+                raise _write_error(err, base / "staging") from None
+            # a folder that looks writable but is not (/proc, a read-only mount): bad input
+            raise SpecError(
+                "-o/--out",
+                str(self.out_dir),
+                "a folder where files can be created",
+                f"cannot create a file in {base}: {err.strerror or err}",
+            ) from None
         return self
 
     def __exit__(

@@ -118,11 +118,21 @@ def test_kernel_timeout_is_a_geometry_error_naming_the_stage(tmp_path: Path) -> 
 
 
 def test_kernel_out_of_memory_is_a_geometry_error(tmp_path: Path) -> None:
+    """A kernel process capped below what it needs (300 MiB: less than DUCTGEN_MEMORY_MB
+    accepts, so the cap is given to the worker directly) fails as a GeometryError naming the
+    stage, and nothing is published."""
+    from ductgen.errors import GeometryError
+    from ductgen.pipeline import build
+    from ductgen.spec import load_spec
+    from ductgen.worker import KernelWorker, WorkerLimits
+
     out = tmp_path / "o"
-    r = _cli(["build", str(_spec(tmp_path, GOOD)), "-o", str(out)], {"DUCTGEN_MEMORY_MB": "300"})
-    assert r.returncode == 1
-    assert "geometry failed at stage" in r.stderr
-    assert "Traceback" not in r.stderr
+    worker = KernelWorker(WorkerLimits(memory_mb=300))
+    try:
+        with pytest.raises(GeometryError, match="geometry failed at stage"):
+            build(load_spec(_spec(tmp_path, GOOD)), out, worker=worker)
+    finally:
+        worker.close()
     assert not out.exists() or not any(out.iterdir())
 
 

@@ -44,7 +44,9 @@ class HolesSpec(Section):
         Field(
             default=None,
             gt=0,
-            description="flange outer edge to hole centres [default: half the flange width]",
+            le=200,
+            description="flange outer edge to hole centres [default: half the flange width]; "
+            "at most 200 mm, the widest flange",
         ),
     ]
 
