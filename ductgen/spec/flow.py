@@ -19,7 +19,7 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Annotated, Any, Literal
 
-from pydantic import BeforeValidator, Field, model_validator
+from pydantic import BeforeValidator, Field, StrictFloat, StrictStr, model_validator
 
 from ductgen.spec.recovery_table import find_recovery_table, read_recovery_table
 from ductgen.spec.types import Deg, M, MPerS, Section, si
@@ -77,7 +77,8 @@ Pressure = Annotated[float, si("pressure", "Pa")]
 #: Air density in kg/m³; needs a unit.
 Density = Annotated[float, si("density", "kg/m^3")]
 Label = Annotated[
-    str | None, Field(default=None, min_length=1, max_length=60, description="name in the budget")
+    StrictStr | None,
+    Field(default=None, min_length=1, max_length=60, description="name in the budget"),
 ]
 
 
@@ -128,7 +129,7 @@ class CoolerLoss(Section):
 
     kind: Literal["cooler"] = "cooler"
     k: Annotated[
-        float | None,
+        StrictFloat | None,
         Field(default=None, gt=0, le=1e4, description="loss coefficient on the face velocity"),
     ]
     face_area: Annotated[Area | None, Field(default=None, gt=0, description="core face area")]
@@ -222,7 +223,7 @@ class FlowSpec(Section):
         ),
     ]
     temperature_offset: Annotated[
-        float,
+        StrictFloat,
         si("temperature", "K"),
         Field(
             default=0.0, ge=-100, le=100, description="temperature above standard (a difference, K)"
@@ -245,7 +246,7 @@ class FlowSpec(Section):
         VolumeFlow | None, Field(default=None, gt=0, description="volume flow needed")
     ]
     recovery: Annotated[
-        float | str,
+        StrictFloat | StrictStr,
         BeforeValidator(_recovery_value),
         Field(
             default="capture",
@@ -254,7 +255,7 @@ class FlowSpec(Section):
         ),
     ]
     inlet_loss_factor: Annotated[
-        float,
+        StrictFloat,
         Field(
             default=INLET_LOSS_FACTOR,
             gt=0,
@@ -264,7 +265,7 @@ class FlowSpec(Section):
         ),
     ]
     exit_cp: Annotated[
-        float | None,
+        StrictFloat | None,
         Field(
             default=None,
             ge=-5,
@@ -299,7 +300,7 @@ class FlowSpec(Section):
         ),
     ]
     transition_effectiveness: Annotated[
-        float,
+        StrictFloat,
         Field(
             default=TRANSITION_EFFECTIVENESS,
             gt=0,

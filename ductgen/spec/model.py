@@ -11,7 +11,7 @@ from __future__ import annotations
 
 from typing import Annotated, Literal
 
-from pydantic import Field, model_validator
+from pydantic import Field, StrictFloat, StrictStr, model_validator
 
 from ductgen.spec.fabrication import InsertSpec, PlugSpec
 from ductgen.spec.flow import FlowSpec
@@ -113,7 +113,7 @@ class PlanformSpec(Section):
     ``x/L, 2y/W`` (relative paths are from the spec file's folder)."""
 
     profile: Annotated[
-        str,
+        StrictStr,
         Field(
             default="naca-standard", min_length=1, description="wall-curve table name or CSV path"
         ),
@@ -133,7 +133,7 @@ class LipSpec(Section):
     ]
     thickness: Annotated[Mm, Field(default=4.0, gt=0, le=100, description="lip thickness")]
     nose_ratio: Annotated[
-        float,
+        StrictFloat,
         Field(
             default=2.0,
             ge=1.1,
@@ -266,7 +266,7 @@ class SkinSpec(Section):
         Field(default=None, gt=0, le=1e7, description="doubly: radius across the flow"),
     ]
     file: Annotated[
-        str | None,
+        StrictStr | None,
         Field(
             default=None,
             min_length=1,
@@ -328,7 +328,7 @@ class Spec(Section):
     """A whole inlet: geometry, fabrication outputs and (optionally) the flow condition."""
 
     name: Annotated[
-        str,
+        StrictStr,
         Field(
             default="inlet",
             pattern=r"^[A-Za-z0-9][A-Za-z0-9._-]{0,63}$",

@@ -44,7 +44,7 @@ def si(dimension: str, unit: str, default_unit: str | None = None) -> BeforeVali
 #: beyond any vehicle panel (a throat is at most 3 m wide); it keeps a mistyped unit
 #: ("1 km") from reaching the CAD kernel, whose fixed tolerances (1e-7 mm) and checks
 #: (volumes to 0.5 %) were never meant for such sizes.
-MAX_LENGTH_MM = 20_000.0
+MAX_LENGTH_MM = 20_000
 
 #: Geometry length in mm; a bare number is mm.
 Mm = Annotated[float, _q("length", "mm", "mm")]
