@@ -119,8 +119,8 @@ def _one_mesh(
     stats = make_mesh(case_dir, lambda tool: note(f"{setup.mesh}: {tool}", 0, 0))
     if not stats.usable:
         raise CfdError(
-            f"the {setup.mesh} mesh failed checkMesh ({'; '.join(stats.failures)}); "
-            f"see {case_dir / 'log.checkMesh'}"
+            f"the {setup.mesh} mesh failed checkMesh ({'; '.join(stats.failures)}); the "
+            "case is written with --write-only to look at it"
         )
     run = solve(
         case_dir,
