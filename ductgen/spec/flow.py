@@ -86,7 +86,9 @@ class HoseLoss(Section):
     """A straight run of hose: Darcy friction ``f·L/D`` at the hose velocity."""
 
     kind: Literal["hose"] = "hose"
-    length: Annotated[M, Field(gt=0, description="hose length")]
+    length: Annotated[
+        M, Field(gt=0, le=100, description="hose length; at most 100 m, beyond any vehicle")
+    ]
     diameter: Annotated[M, Field(gt=0, le=2, description="hose inner diameter")]
     roughness: Annotated[
         M,
@@ -168,7 +170,10 @@ class DiffuserLoss(Section):
     angle_deg: Annotated[
         Deg | None, Field(default=None, gt=0, le=180, description="included angle, deg")
     ]
-    length: Annotated[M | None, Field(default=None, gt=0, description="diffuser length")]
+    length: Annotated[
+        M | None,
+        Field(default=None, gt=0, le=100, description="diffuser length; at most 100 m"),
+    ]
     label: Label
 
     @model_validator(mode="after")
@@ -243,7 +248,14 @@ class FlowSpec(Section):
         ),
     ]
     required_flow: Annotated[
-        VolumeFlow | None, Field(default=None, gt=0, description="volume flow needed")
+        VolumeFlow | None,
+        Field(
+            default=None,
+            gt=0,
+            le=1000,
+            description="volume flow needed; at most 1000 m^3/s, more than the largest throat "
+            "(3 x 1 m) takes in at the fastest speed allowed",
+        ),
     ]
     recovery: Annotated[
         StrictFloat | StrictStr,
@@ -311,7 +323,13 @@ class FlowSpec(Section):
     ]
     exit_area: Annotated[
         Area | None,
-        Field(default=None, gt=0, description="area of the final exit (default: last element)"),
+        Field(
+            default=None,
+            gt=0,
+            le=10,
+            description="area of the final exit (default: last element); at most 10 m^2, "
+            "beyond any vehicle",
+        ),
     ]
     losses: list[LossElement] = Field(default_factory=list)
 
