@@ -140,6 +140,7 @@ def run_tool(
     with (case / f"log.{name}").open("wb") as out:
         return subprocess.Popen(
             _cmd(case, args, n_procs),
+            stdin=subprocess.DEVNULL,  # outside the terminal's group: reading it would stop it
             stdout=out,
             stderr=subprocess.STDOUT,
             env=openfoam_env(),
