@@ -160,29 +160,29 @@ def test_profiles_lists_sources(capsys: pytest.CaptureFixture[str]) -> None:
 
 @pytest.mark.slow
 @pytest.mark.parametrize(
-    "lip",
+    ("lip", "wall"),
     [
-        'style = "flush"',
-        "thickness = 3.5",
+        ('style = "flush"', 1.0),
+        ("thickness = 3.5", 1.0),
+        ("thickness = 1", 0.5),  # its plug's mesh closes T-junctions with zero-area slivers
         pytest.param(
             'style = "raised"',
+            1.0,
             marks=pytest.mark.xfail(
                 strict=True,
                 reason="known: a raised lip's insert on a 2 mm deep throat fails in the kernel "
-                "(insert holes cut invalid; also seen at 5 x 3 mm on the plug, 20 x 5 mm on "
-                "the insert); exit 1 naming the stage",
+                "(the insert's hole cut is invalid); exit 1 naming the stage",
             ),
         ),
     ],
 )
-def test_the_smallest_throat_builds(tmp_path: Path, lip: str) -> None:
+def test_the_smallest_throat_builds(tmp_path: Path, lip: str, wall: float) -> None:
     """The smallest throat the spec accepts (5 x 2 mm, README's limits table) builds every
-    solid, each checked against its integrated volume, with a wall of half the depth (the
-    thickest allowed there)."""
+    solid, each checked (closed, against its integrated volume)."""
     from ductgen.pipeline import build
     from ductgen.spec import load_spec
 
-    text = f'name = "tiny"\n[throat]\nwidth = 5\ndepth = 2\n[lip]\n{lip}\n[insert]\nwall = 1.0\n'
+    text = f'name = "tiny"\n[throat]\nwidth = 5\ndepth = 2\n[lip]\n{lip}\n[insert]\nwall = {wall}\n'
     result = build(load_spec(_spec(tmp_path, text)), tmp_path / "o")
     g = result.report["geometry"]
     assert (g["throat_width_mm"], g["throat_depth_mm"]) == (5.0, 2.0)
