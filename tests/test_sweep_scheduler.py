@@ -8,7 +8,7 @@ from __future__ import annotations
 import signal
 import socket
 import threading
-from collections.abc import Iterator
+from collections.abc import Callable, Iterator
 from pathlib import Path
 
 import pytest
@@ -37,7 +37,7 @@ def _closed_port() -> int:
 
 
 @pytest.fixture
-def server() -> Iterator[callable]:  # type: ignore[valid-type]
+def server() -> Iterator[Callable[[bytes], int]]:
     """A plain local TCP server on 127.0.0.1 that sends ``greeting`` (maybe nothing) to every
     connection and then keeps it open until the test ends."""
     socks: list[socket.socket] = []
