@@ -177,7 +177,15 @@ class OutputSet:
                 tempfile.mkdtemp(prefix=f"{STAGING_PREFIX}{_host()}-{os.getpid()}-", dir=base)
             )
         except OSError as err:
-            raise _write_error(err, base / "staging") from None
+            if err.errno in _DISK_FULL:
+                raise _write_error(err, base / "staging") from None
+            # a folder that looks writable but is not (/proc, a read-only mount): bad input
+            raise SpecError(
+                "-o/--out",
+                str(self.out_dir),
+                "a folder where files can be created",
+                f"cannot create a file in {base}: {err.strerror or err}",
+            ) from None
         return self
 
     def __exit__(
@@ -211,7 +219,8 @@ class OutputSet:
         return list(self._names)
 
     def publish(self) -> dict[str, Path]:
-        """Move every staged file into ``out_dir``; returns name → final path."""
+        """Move every staged file (or folder) into ``out_dir``; returns name → final path.
+        A staged folder replaces an existing folder of the same name whole (``force``)."""
         finals = {n: self.out_dir / n for n in self._names}
         check_free(finals.values(), self.force)
         missing = [n for n in self._names if not (self.staging / n).exists()]
@@ -221,8 +230,14 @@ class OutputSet:
         try:
             self.out_dir.mkdir(parents=True, exist_ok=True)
             for name, final in finals.items():
-                os.chmod(self.staging / name, mode)
-                os.replace(self.staging / name, final)
+                staged = self.staging / name
+                if staged.is_dir():  # a folder (a CFD case) replaces a folder as a whole
+                    os.chmod(staged, 0o777 & ~_umask())
+                    if final.is_dir() and not final.is_symlink():  # only with force
+                        os.replace(final, self.staging / f".replaced-{name}")
+                else:
+                    os.chmod(staged, mode)
+                os.replace(staged, final)
         except OSError as err:
             raise _write_error(err, self.out_dir / "(publishing)") from None
         return finals

@@ -16,9 +16,9 @@ def mesh_stats(
     """(closed, winding consistent, signed volume mm³, area mm²) of a triangle mesh.
 
     Vertices closer than about ``merge_mm`` are merged first (an STL repeats each vertex per
-    facet; the kernel's mesher gives bit-identical points on shared edges) and degenerate
-    faces dropped; closed means every edge is shared by exactly two faces (trimesh's
-    ``is_watertight``), consistent that they run in opposite directions
+    facet; the kernel's mesher gives bit-identical points on shared edges) and faces left
+    with a repeated vertex dropped; closed means every edge is shared by exactly two faces
+    (trimesh's ``is_watertight``), consistent that they run in opposite directions
     (``is_winding_consistent``). Volume and area are those of the mesh as given.
     """
     import trimesh
@@ -30,7 +30,11 @@ def mesh_stats(
     raw = trimesh.Trimesh(vertices, faces, process=False, validate=False)
     merged = raw.copy()
     merged.merge_vertices(digits_vertex=max(round(-math.log10(merge_mm)), 0))
-    merged.update_faces(merged.nondegenerate_faces())
+    # drop faces that merging collapsed (a repeated vertex), but keep zero-area slivers of
+    # three distinct collinear vertices: the kernel's mesher closes T-junctions on small
+    # faces with them, and dropping them opened sound solids (a 5 x 2 mm throat's plug)
+    f = merged.faces
+    merged.update_faces((f[:, 0] != f[:, 1]) & (f[:, 1] != f[:, 2]) & (f[:, 0] != f[:, 2]))
     closed = bool(merged.is_watertight)
     winding = closed and bool(merged.is_winding_consistent)
     return closed, winding, float(raw.volume), float(raw.area)

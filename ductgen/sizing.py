@@ -72,12 +72,17 @@ def _with_throat(base: Spec, depth_mm: float, aspect: float, angle_deg: float) -
     return base.model_copy(update={"throat": throat, "ramp": ramp})
 
 
+def _limit(field: str, bound: str) -> float:
+    """The spec's limit ``bound`` ("le" or "ge") of a throat dimension (mm)."""
+    for m in ThroatSpec.model_fields[field].metadata:
+        if getattr(m, bound, None) is not None:
+            return float(getattr(m, bound))
+    raise AssertionError(f"throat.{field} has no {bound} limit")  # pragma: no cover
+
+
 def _upper(field: str) -> float:
     """The spec's upper limit of a throat dimension (mm)."""
-    for m in ThroatSpec.model_fields[field].metadata:
-        if getattr(m, "le", None) is not None:
-            return float(m.le)
-    raise AssertionError(f"throat.{field} has no upper limit")  # pragma: no cover
+    return _limit(field, "le")
 
 
 def delivered_flow(spec: Spec, profile: Profile | None = None) -> float:
@@ -187,6 +192,16 @@ def size_throat(
         lo = max(depth, float(grid[j - 1]))
         depth = float(
             brentq(lambda d: q_of(d) / (area(d) * speed_m_s) - max_ivr, lo, grid[j], xtol=1e-6)
+        )
+    d_min = max(_limit("depth", "ge"), _limit("width", "ge") / aspect)
+    if depth < d_min:  # a throat below the spec's smallest would not build
+        q_min = q_of(d_min)
+        raise SpecError(
+            "--flow",
+            flow_m3_s,
+            f">= {q_min:.3g} m^3/s for this speed and system",
+            f"the smallest throat ductgen builds ({aspect * d_min:g} x {d_min:g} mm at W/D "
+            f"{aspect:g}) already delivers {q_min:.3g} m^3/s; a smaller flow needs no sizing",
         )
     depth = math.ceil(depth / _ROUND_MM - 1e-9) * _ROUND_MM
     width = math.ceil(aspect * depth / _ROUND_MM - 1e-9) * _ROUND_MM

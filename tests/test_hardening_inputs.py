@@ -139,6 +139,42 @@ def _staircase(n: int) -> bytes:
     return ("x_over_L,two_y_over_W\n" + "\n".join(rows) + "\n").encode()
 
 
+def _special(name: str, kind: str, extra: str) -> Callable[[Path], list[str]]:
+    """A spec whose table ``name`` is a folder or a named pipe (a FIFO never ends)."""
+
+    def make(tmp: Path) -> list[str]:
+        if kind == "folder":
+            (tmp / name).mkdir()
+        else:
+            os.mkfifo(tmp / name)
+        spec = _spec(tmp, GOOD + extra)
+        return ["build", str(spec), "-o", str(tmp / "out"), "--only", "template"]
+
+    return make
+
+
+_RECOVERY = '[flow]\nspeed = "40 m/s"\nrun_length = "1 m"\nrecovery = "r.csv"\n'
+
+
+def _nan_panel(tmp: Path) -> list[str]:
+    """A flat scan of 200 x 200 mm (two triangles) plus one triangle with a NaN vertex."""
+    plate = [
+        [[-100.0, -100.0, 0.0], [100.0, -100.0, 0.0], [100.0, 100.0, 0.0]],
+        [[-100.0, -100.0, 0.0], [100.0, 100.0, 0.0], [-100.0, 100.0, 0.0]],
+    ]
+    (tmp / "scan.stl").write_bytes(_stl([*plate, _NAN_TRI]))
+    skin = (
+        '[skin]\nshape = "panel"\nfile = "scan.stl"\nunits = "mm"\n'
+        "at = [-50, 0, 0]\nflow_direction = [1, 0, 0]\noutward = [0, 0, 1]\n"
+    )
+    spec = _spec(
+        tmp,
+        GOOD.replace('kind = "round"\ndiameter = 50\ntransition_length = 100', 'kind = "none"')
+        + skin,
+    )
+    return ["build", str(spec), "-o", str(tmp / "out"), "--only", "cutter"]
+
+
 # (id, make args, option/key named, words that say what is allowed or why)
 CASES: list[tuple[str, Callable[[Path], list[str]], str, list[str]]] = [
     # --- quantities: bounded grammar, real sentences ---------------------------------
@@ -245,6 +281,35 @@ CASES: list[tuple[str, Callable[[Path], list[str]], str, list[str]]] = [
     ("sweep-out-empty", _cli("sweep", "{spec}", "-o", "", "--vary", "throat.width=60,70"), "-o/--out", ["empty"]),
     ("sweep-quality", _cli("sweep", "{spec}", "-o", "{tmp}/sw", "--quality", "x", "--vary", "throat.width=60,70"), "--quality", ["draft"]),
     ("sweep-baseline", _cli("sweep", "{spec}", "-o", "{tmp}/sw", "--baseline", "zzz", "--vary", "throat.width=60,70"), "--baseline", ["one of the variant ids"]),
+    # --- second round: sizes beyond any vehicle ----------------------------------------
+    ("transition-1e300", _replace("transition_length = 100", "transition_length = 1e300"), "outlet.transition_length", ["<= 10000 mm", "a longer run is a hose"]),
+    ("spigot-1e300", _replace("transition_length = 100", "transition_length = 100\nspigot_length = 1e300"), "outlet.spigot_length", ["<= 1000 mm"]),
+    ("entry-radius-1e300", _replace("angle_deg = 7", "angle_deg = 7\nentry_radius = 1e300"), "ramp.entry_radius", ["<= 20000 mm", "beyond any vehicle panel"]),
+    ("fairing-1e300", _append('[lip]\nstyle = "raised"\nfairing_length = 1e300\n'), "lip.fairing_length", ["<= 2000 mm"]),
+    ("edge-distance-1e300", _append("[insert]\nholes = { edge_distance = 1e300 }\n"), "insert.holes.edge_distance", ["<= 200 mm", "the widest flange"]),
+    ("ramp-length-1km", _replace("angle_deg = 7", 'length = "1 km"'), "ramp.length", ["<= 20000 mm", "given 1e+06 mm"]),
+    ("ramp-angle-tiny", _replace("angle_deg = 7", "angle_deg = 0.001"), "ramp.angle_deg", ["at most 20000 mm long", "beyond any vehicle panel"]),
+    ("hose-1e300-m", _append('[flow]\nspeed = "40 m/s"\nrun_length = "1 m"\nlosses = [{kind = "hose", length = "1e300 m", diameter = "3 in"}]\n'), "flow.losses[0].length", ["<= 100 m"]),
+    ("exit-area-huge", _append('[flow]\nspeed = "40 m/s"\nrun_length = "1 m"\nexit_area = "1e300 m^2"\n'), "flow.exit_area", ["<= 10 m^2"]),
+    ("required-flow-huge", _append('[flow]\nspeed = "40 m/s"\nrun_length = "1 m"\nrequired_flow = "1e300 m^3/s"\n'), "flow.required_flow", ["<= 1000 m^3/s"]),
+    ("throat-1km", _replace("width = 80", 'width = "1 km"'), "throat.width", ["<= 3000 mm"]),
+    ("size-tiny-flow", _cli("size", "--flow", "1e-9 L/s", "--speed", "100 km/h"), "--flow", ["the smallest throat ductgen builds", "needs no sizing"]),
+    ("out-in-proc", _cli("build", "{spec}", "-o", "/proc/ductgen-x", "--only", "template"), "-o/--out", ["cannot create a file in /proc"]),
+    # --- second round: strict types for non-quantity keys -----------------------------
+    ("holes-count-text", _append('[insert]\nholes = { count = "8" }\n'), "insert.holes.count", ["a whole number, written without quotes"]),
+    ("holes-count-float", _append("[insert]\nholes = { count = 8.5 }\n"), "insert.holes.count", ["a whole number"]),
+    ("holes-count-bool", _append("[insert]\nholes = { count = true }\n"), "insert.holes.count", ["a whole number"]),
+    ("near-heat-yes", _append('[insert]\nnear_heat = "yes"\n'), "insert.near_heat", ["true or false, written without quotes"]),
+    ("near-heat-one", _append("[insert]\nnear_heat = 1\n"), "insert.near_heat", ["true or false"]),
+    ("nose-ratio-text", _append('[lip]\nnose_ratio = "2"\n'), "lip.nose_ratio", ["a number, written without quotes"]),
+    ("yaml-binary-name", _raw("s.yaml", b"name: !!binary dGVzdA==\nthroat: {width: 80, depth: 20}\n"), "name", ["not YAML !!binary"]),
+    ("json-number-name", _raw("s.json", b'{"name": 5, "throat": {"width": 80, "depth": 20}}'), "name", ["text"]),
+    # --- second round: tables that are not files ---------------------------------------
+    ("csv-folder", _special("w.csv", "folder", '[planform]\nprofile = "w.csv"\n'), "planform.profile", ["the path is a folder"]),
+    ("csv-fifo", _special("w.csv", "fifo", '[planform]\nprofile = "w.csv"\n'), "planform.profile", ["pipe", "may never end"]),
+    ("recovery-folder", _special("r.csv", "folder", _RECOVERY), "flow.recovery", ["is a folder"]),
+    ("recovery-fifo", _special("r.csv", "fifo", _RECOVERY), "flow.recovery", ["pipe", "may never end"]),
+    ("panel-nan-vertex", _nan_panel, "skin.file", ["NaN"]),
 ]  # fmt: skip
 
 
@@ -365,3 +430,43 @@ def test_recovery_table_too_large_is_refused(tmp_path: Path, capsys) -> None:  #
     code = main(["build", str(spec), "--only", "template", "-o", str(tmp_path / "out")])
     err = capsys.readouterr().err
     assert code == 2 and "flow.recovery" in err and "1,000,000" in err
+
+
+@pytest.mark.parametrize(
+    ("name", "value", "words"),
+    [
+        ("DUCTGEN_MEMORY_MB", "lots", ["not a number", "from 3072 to"]),
+        ("DUCTGEN_MEMORY_MB", "50", ["too little memory", "from 3072 to"]),
+        ("DUCTGEN_MEMORY_MB", "4096.5", ["a whole number"]),
+        ("DUCTGEN_MEMORY_MB", "1e30", ["to 1.04858e+06 MiB"]),
+        ("DUCTGEN_TIMEOUT_S", "soon", ["not a number", "from 0.1 to 86400 s"]),
+        ("DUCTGEN_TIMEOUT_S", "nan", ["from 0.1 to 86400 s"]),
+        ("DUCTGEN_TIMEOUT_S", "-5", ["too short"]),
+        ("DUCTGEN_TIMEOUT_S", "inf", ["from 0.1 to 86400 s"]),
+    ],
+)
+@pytest.mark.parametrize("command", ["build", "sweep"])
+def test_bad_kernel_limits_in_the_environment_exit_2(
+    tmp_path: Path,
+    capsys: pytest.CaptureFixture[str],
+    monkeypatch: pytest.MonkeyPatch,
+    command: str,
+    name: str,
+    value: str,
+    words: list[str],
+) -> None:
+    """The worker's limits from the environment: a bad value names the variable, its range
+    and why, before any kernel work or file."""
+    monkeypatch.setenv(name, value)
+    spec = _spec(tmp_path, GOOD)
+    args = ["build", str(spec), "-o", str(tmp_path / "out"), "--only", "cutter"]
+    if command == "sweep":
+        args = ["sweep", str(spec), "-o", str(tmp_path / "sw"), "--vary", "throat.width=70,90"]
+    before = _tree_digest(tmp_path)
+    code = main(args)
+    err = " ".join(capsys.readouterr().err.split())
+    assert code == 2, err
+    assert name in err and "Traceback" not in err and "internal error" not in err
+    for w in words:
+        assert w in err, f"{w!r} missing from: {err[:500]}"
+    assert _tree_digest(tmp_path) == before

@@ -78,6 +78,13 @@ def _staged_files(folder: Path) -> list[Path]:
     return [p for d in folder.glob(".ductgen-staging-*") for p in d.rglob("*") if p.is_file()]
 
 
+def _pythonpath() -> str:
+    """The checkout these tests belong to first on the path: ``python -m ductgen`` runs in
+    ``tmp_path``, where it would otherwise import whichever ductgen is installed."""
+    root = str(Path(__file__).resolve().parents[1])
+    return os.pathsep.join([root, *filter(None, [os.environ.get("PYTHONPATH")])])
+
+
 @pytest.fixture
 def run(tmp_path: Path):  # type: ignore[no-untyped-def]
     """Start ``python -m ductgen ARGS`` marked and in its own session; clean up after."""
@@ -88,7 +95,7 @@ def run(tmp_path: Path):  # type: ignore[no-untyped-def]
         p = subprocess.Popen(
             [sys.executable, "-m", "ductgen", *args],
             cwd=tmp_path,
-            env={**os.environ, "DUCTGEN_TEST_MARK": marker},
+            env={**os.environ, "DUCTGEN_TEST_MARK": marker, "PYTHONPATH": _pythonpath()},
             stdout=subprocess.PIPE,
             stderr=subprocess.PIPE,
             text=True,
@@ -234,3 +241,55 @@ def test_full_disk_fault_injected(tmp_path: Path, monkeypatch, capsys) -> None: 
     assert code == 1
     assert "disk is full" in err and "nothing was published" in err
     assert _digest(tmp_path) == before
+
+
+#: Runs ``python -m ductgen ARGS`` after planting an import hook that sends the process
+#: SIG the moment module TRIGGER is first imported: a signal at a known moment of the
+#: imports, whatever the machine's speed.
+_SIGNAL_AT_IMPORT = """
+import os, runpy, sys
+trigger, sig = sys.argv[1], int(sys.argv[2])
+class Hook:
+    def find_spec(self, name, path=None, target=None):
+        if name == trigger:
+            sys.meta_path.remove(self)
+            os.kill(os.getpid(), sig)
+        return None
+sys.meta_path.insert(0, Hook())
+sys.argv = ["ductgen", *sys.argv[3:]]
+runpy.run_module("ductgen", run_name="__main__", alter_sys=True)
+"""
+
+
+@pytest.mark.parametrize("sig", [signal.SIGINT, signal.SIGTERM])
+@pytest.mark.parametrize(
+    ("command", "trigger"),
+    [
+        ("build", "typer"),  # the command table is importing
+        ("build", "pydantic"),  # the build command is importing the spec models
+        ("sweep", "typer"),
+        ("sweep", "numpy"),
+    ],
+)
+def test_signal_while_importing_exits_cleanly(
+    tmp_path: Path, command: str, trigger: str, sig: int
+) -> None:
+    """Ctrl-C or SIGTERM in the first moments of a run (while importing): 128 + signal
+    and one sentence, no traceback, nothing written."""
+    spec = _spec(tmp_path)
+    out = tmp_path / "out"
+    args = ["build", str(spec), "-o", str(out)]
+    if command == "sweep":
+        args = ["sweep", str(spec), "-o", str(out), "--vary", "throat.width=70,90"]
+    r = subprocess.run(
+        [sys.executable, "-c", _SIGNAL_AT_IMPORT, trigger, str(int(sig)), *args],
+        cwd=tmp_path,
+        env={**os.environ, "PYTHONPATH": _pythonpath()},
+        capture_output=True,
+        text=True,
+        timeout=WAIT_S,
+    )
+    assert r.returncode == 128 + sig, r.stderr[-2000:]
+    assert "interrupted" in r.stderr
+    assert "Traceback" not in r.stderr and "KeyboardInterrupt" not in r.stderr
+    assert not out.exists()

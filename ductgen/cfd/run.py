@@ -116,13 +116,13 @@ def _one_mesh(
         "max_iterations": setup.max_iterations,
     }
     if write_only:
-        return {**info, "status": "written", "case": str(case_dir)}
+        return {**info, "status": "written", "case": case_dir.name}  # in the output folder
     note(f"{setup.mesh}: meshing", 0, 0)
     stats = make_mesh(case_dir, lambda tool: note(f"{setup.mesh}: {tool}", 0, 0))
     if not stats.usable:
         raise CfdError(
-            f"the {setup.mesh} mesh failed checkMesh ({'; '.join(stats.failures)}); "
-            f"see {case_dir / 'log.checkMesh'}"
+            f"the {setup.mesh} mesh failed checkMesh ({'; '.join(stats.failures)}); the "
+            "case is written with --write-only to look at it"
         )
     run = solve(
         case_dir,
@@ -219,6 +219,7 @@ def cfd_for_build(
     ``cfd.json``, adds the ``cfd`` section to ``out_dir/report.json``; returns the section."""
     import trimesh
 
+    from ductgen.atomic import write_atomic
     from ductgen.report import report_bytes
 
     note = progress or (lambda *_a: None)
@@ -268,9 +269,10 @@ def cfd_for_build(
         if not keep_case:
             for name in names:
                 shutil.rmtree(out_dir / f"cfd-{name}", ignore_errors=True)
-    (out_dir / "cfd.json").write_text(json.dumps(section, indent=2, allow_nan=False) + "\n")
+    cfd_json = (json.dumps(section, indent=2, allow_nan=False) + "\n").encode()
+    write_atomic(out_dir / "cfd.json", cfd_json, force=True)
     report["cfd"] = section
-    (out_dir / "report.json").write_bytes(report_bytes(report))
+    write_atomic(out_dir / "report.json", report_bytes(report), force=True)
     return section
 
 
@@ -286,6 +288,18 @@ def _pictures(case: Path, name: str, out_dir: Path, final: dict[str, Any]) -> di
     return json.loads(res.stdout)
 
 
+def _planned(spec: Spec, mesh: str, keep_case: bool, pictures: bool) -> list[str]:
+    """Names ``run_cfd`` publishes in the output folder (files and case folders)."""
+    from ductgen.pipeline.builder import planned_files
+
+    names = [*planned_files(spec, ["cutter"]), "cfd.json"]
+    if pictures:
+        names += [f"{spec.name}-cfd-throat.png", f"{spec.name}-cfd-ramp.png"]
+    if keep_case:
+        names += [f"cfd-{m}" for m in (MESH_LEVELS if mesh == "study" else (mesh,))]
+    return names
+
+
 def run_cfd(
     spec: Spec,
     out_dir: str | Path,
@@ -298,25 +312,37 @@ def run_cfd(
     pictures: bool = True,
     progress: Progress | None = None,
 ) -> dict[str, Any]:
-    """Build the cutter of ``spec`` into ``out_dir`` and run the CFD check (module doc)."""
+    """Build the cutter of ``spec`` and run the CFD check (module doc), all in a staging
+    folder inside ``out_dir``: the cutter files, the case folders, ``cfd.json``, the
+    pictures and the ``report.json`` with its ``cfd`` section appear in ``out_dir`` together,
+    only when the run has finished. An interrupt (Ctrl-C, SIGTERM) or a failure at any
+    moment stops the OpenFOAM tools and publishes nothing."""
+    from ductgen.atomic import OutputSet, check_free
     from ductgen.pipeline.builder import build
 
     check_inputs(spec, mesh, n_procs, write_only)
     note = progress or (lambda *_a: None)
-    note("building the cutter", 0, 0)
     out = Path(out_dir)
-    result = build(spec, out, only=["cutter"], force=force)
-    stl = next(p for p in result.files.values() if str(p).endswith("-cutter.stl"))
-    return cfd_for_build(
-        spec,
-        result.design,
-        result.report,
-        Path(stl),
-        out,
-        mesh=mesh,
-        n_procs=n_procs,
-        write_only=write_only,
-        keep_case=keep_case or write_only,
-        pictures=pictures,
-        progress=note,
-    )
+    keep = keep_case or write_only
+    check_free([out / n for n in _planned(spec, mesh, keep, pictures and not write_only)], force)
+    with OutputSet(out, force=force) as staged:
+        note("building the cutter", 0, 0)
+        result = build(spec, staged.staging, only=["cutter"], force=True)
+        stl = next(p for p in result.files.values() if str(p).endswith("-cutter.stl"))
+        section = cfd_for_build(
+            spec,
+            result.design,
+            result.report,
+            Path(stl),
+            staged.staging,
+            mesh=mesh,
+            n_procs=n_procs,
+            write_only=write_only,
+            keep_case=keep,
+            pictures=pictures,
+            progress=note,
+        )
+        for entry in sorted(staged.staging.iterdir()):
+            staged.staged_path(entry.name)
+        staged.publish()
+    return section

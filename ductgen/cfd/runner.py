@@ -11,6 +11,7 @@ iteration cap.
 
 from __future__ import annotations
 
+import contextlib
 import os
 import re
 import shutil
@@ -39,6 +40,7 @@ __all__ = [
     "require_openfoam",
     "solve",
     "spread_of",
+    "stop_tool",
 ]
 
 #: How to install OpenFOAM where ductgen was tested (Debian/Ubuntu).
@@ -51,6 +53,8 @@ PLATEAU_SPREAD = 0.01
 PLATEAU_WINDOW = 50
 #: No plateau is declared before this many iterations (start-up transients).
 MIN_ITERATIONS = 100
+#: Seconds a stopped tool gets to end on SIGTERM before its process group is killed.
+STOP_GRACE_S = 5.0
 _TOOLS = ("blockMesh", "snappyHexMesh", "simpleFoam", "checkMesh", "topoSet")
 
 
@@ -126,31 +130,50 @@ def _die_with_parent() -> None:  # pragma: no cover - runs in the child before e
 def run_tool(
     case: Path, args: list[str], n_procs: int = 1, log: str | None = None
 ) -> subprocess.Popen[bytes]:
-    """Start one tool with its output in ``log.<tool>``; the caller waits."""
+    """Start one tool with its output in ``log.<tool>``; the caller waits.
+
+    The tool runs in a process group of its own (with ``mpirun``, its ranks too), so a
+    Ctrl-C at the terminal reaches ductgen alone, which then stops the whole group
+    (:func:`stop_tool`): an interrupted run never reads as a failed tool, and no rank is
+    left behind."""
     name = log or args[0]
-    out = (case / f"log.{name}").open("wb")
-    return subprocess.Popen(
-        _cmd(case, args, n_procs),
-        stdout=out,
-        stderr=subprocess.STDOUT,
-        env=openfoam_env(),
-        preexec_fn=_die_with_parent if sys.platform.startswith("linux") else None,
-    )
+    with (case / f"log.{name}").open("wb") as out:
+        return subprocess.Popen(
+            _cmd(case, args, n_procs),
+            stdin=subprocess.DEVNULL,  # outside the terminal's group: reading it would stop it
+            stdout=out,
+            stderr=subprocess.STDOUT,
+            env=openfoam_env(),
+            preexec_fn=_die_with_parent if sys.platform.startswith("linux") else None,
+            process_group=0,
+        )
+
+
+def stop_tool(proc: subprocess.Popen[bytes], grace_s: float = STOP_GRACE_S) -> None:
+    """Stop a tool started by :func:`run_tool` and everything in its process group:
+    SIGTERM (mpirun passes it to its ranks), then SIGKILL after ``grace_s``."""
+    import signal
+
+    def _signal_group(sig: int) -> None:
+        with contextlib.suppress(ProcessLookupError, PermissionError):
+            os.killpg(proc.pid, sig)
+
+    _signal_group(signal.SIGTERM)
+    with contextlib.suppress(subprocess.TimeoutExpired):
+        proc.wait(grace_s)
+    _signal_group(signal.SIGKILL)  # ranks mpirun did not take down, or a tool that hangs
+    proc.wait()
 
 
 def _wait(proc: subprocess.Popen[bytes], case: Path, name: str) -> None:
     try:
         rc = proc.wait()
-    except BaseException:
-        proc.terminate()
-        try:
-            proc.wait(10)
-        except subprocess.TimeoutExpired:
-            proc.kill()
+    except BaseException:  # interrupted (Ctrl-C, SIGTERM): the tool goes with us
+        stop_tool(proc)
         raise
     if rc != 0:
         raise CfdError(
-            f"{name} failed (exit {rc}); see {case / f'log.{name}'}:\n{_tail(case / f'log.{name}')}"
+            f"{name} failed (exit {rc}); the end of log.{name}:\n{_tail(case / f'log.{name}')}"
         )
 
 
@@ -305,8 +328,10 @@ def solve(
             if not stopped and plateau(flows):
                 _stop_now(case)
                 stopped = True
-    finally:
-        _wait(proc, case, "simpleFoam")
+    except BaseException:  # interrupted or failed here: stop the solver (and its ranks) now
+        stop_tool(proc)
+        raise
+    _wait(proc, case, "simpleFoam")
     flows = _read_flow(case)
     if n_procs > 1:
         _wait(run_tool(case, ["reconstructPar", "-latestTime"]), case, "reconstructPar")

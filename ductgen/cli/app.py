@@ -14,6 +14,13 @@ import typer
 
 from ductgen.cli import build_cmd, cfd_cmd, check_cmd, design_cmd, size_cmd, sweep_cmd
 from ductgen.cli.common import err_console
+from ductgen.cli.signals import (
+    Terminated,
+    install,
+    interrupt_code,
+    interrupted_message,
+    take_signal,
+)
 from ductgen.errors import DuctgenError
 
 __all__ = ["COMMANDS", "Terminated", "app", "main"]
@@ -43,35 +50,6 @@ for _name, _command in COMMANDS.items():
     app.command(_name)(_command)
 
 
-class Terminated(KeyboardInterrupt):
-    """``SIGTERM`` (or ``SIGHUP``) received: unwinds like Ctrl-C, so every ``finally`` and
-    staging clean-up runs and kernel workers are stopped."""
-
-    def __init__(self, signum: int) -> None:
-        super().__init__(signum)
-        self.signum = signum
-
-
-_SIGNAL: list[int] = []  # the terminating signal received, if any
-
-
-def _on_terminate(signum: int, _frame: object) -> None:
-    _SIGNAL.append(signum)
-    raise Terminated(signum)
-
-
-def _install_signal_handlers() -> None:
-    import signal
-    import threading
-
-    if threading.current_thread() is not threading.main_thread():
-        return
-    for name in ("SIGTERM", "SIGHUP"):
-        sig = getattr(signal, name, None)
-        if sig is not None and signal.getsignal(sig) in (signal.SIG_DFL, None):
-            signal.signal(sig, _on_terminate)
-
-
 def _click_exceptions() -> tuple[tuple[type, ...], tuple[type, ...], tuple[type, ...]]:
     """(Exit, Abort, ClickException) classes of click and of typer's own copy of click
     (typer >= 0.2x raises the latter)."""
@@ -95,7 +73,7 @@ def _click_exceptions() -> tuple[tuple[type, ...], tuple[type, ...], tuple[type,
 def main(argv: list[str] | None = None) -> int:
     """Console entry point; returns (and exits with) the process exit code."""
     if argv is None:  # the real command line (not a caller embedding main())
-        _install_signal_handlers()
+        install()
     exits, aborts, usage = _click_exceptions()
     try:
         rv = app(args=argv, standalone_mode=False)
@@ -126,12 +104,10 @@ def main(argv: list[str] | None = None) -> int:
             soft_wrap=True,
         )
         code = 1
-    if code == 130 or _SIGNAL:  # typer turns an interrupt into exit code 130 itself
-        err_console.print(
-            "interrupted: nothing partial was published (previous files are unchanged)"
-        )
-        code = 128 + (_SIGNAL[0] if _SIGNAL else 2)
-        _SIGNAL.clear()
+    sig = take_signal()
+    if code == 130 or sig is not None:  # typer turns an interrupt into exit code 130 itself
+        err_console.print(interrupted_message)
+        code = interrupt_code(sig)
     if argv is None:
         sys.exit(code)
     return code

@@ -48,6 +48,7 @@ from ductgen.spec.model import (
     RoundOutlet,
     Spec,
 )
+from ductgen.spec.types import MAX_LENGTH_MM
 
 __all__ = [
     "Design",
@@ -225,6 +226,16 @@ def geometry_from_spec(spec: Spec, profile: Profile | None = None) -> InletGeome
         angle = spec.ramp.angle_deg if spec.ramp.angle_deg is not None else DEFAULT_RAMP_ANGLE_DEG
     floor = Floor(angle_deg=angle, entry_radius_mm=r_entry, drop_mm=drop)
     length = floor.length_mm
+    if length > MAX_LENGTH_MM:
+        key, value = (
+            ("ramp.angle_deg", angle) if spec.ramp.length is None else ("ramp.length", length)
+        )
+        raise SpecError(
+            key,
+            value,
+            f"a ramp at most {MAX_LENGTH_MM:.0f} mm long (this one: {length:.0f} mm)",
+            "20 m is beyond any vehicle panel: a steeper ramp or a smaller throat",
+        )
     planform = Planform(profile=profile, width_mm=w, length_mm=length)
 
     if spec.lip.style == "raised":

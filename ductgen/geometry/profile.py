@@ -125,8 +125,15 @@ def _read_lines(path: Path, key: str) -> list[str]:
 
     try:
         st = os.stat(path)
+        if stat.S_ISDIR(st.st_mode):
+            raise SpecError(key, str(path), "a CSV file, not a folder", "the path is a folder")
         if not stat.S_ISREG(st.st_mode):
-            raise SpecError(key, str(path), "a regular CSV file", "a folder, pipe or device")
+            raise SpecError(
+                key,
+                str(path),
+                "a regular CSV file",
+                "it is a pipe, socket or device, which may never end",
+            )
         if st.st_size > MAX_PROFILE_BYTES:
             raise SpecError(
                 key, str(path), f"at most {MAX_PROFILE_BYTES:,} bytes", f"{st.st_size:,} bytes"
@@ -198,7 +205,7 @@ def load_profile(name_or_path: str) -> Profile:
     """Load a bundled table by name or a user's CSV by path; raises :class:`SpecError`."""
     candidate = Path(name_or_path)
     if candidate.suffix.lower() == ".csv":
-        if not candidate.is_file():
+        if not candidate.exists():  # a folder or a pipe is found, and refused as such
             raise SpecError(
                 "planform.profile", name_or_path, "an existing CSV file", "file not found"
             )

@@ -29,7 +29,7 @@ from ductgen.solids.kinds import SOLID_KINDS
 from ductgen.spec.load import spec_sha256
 from ductgen.spec.model import Spec
 from ductgen.tolerances import STL_QUALITY
-from ductgen.worker import KernelWorker, default_worker
+from ductgen.worker import KernelWorker, WorkerLimits, default_worker
 
 __all__ = [
     "BuildResult",
@@ -125,6 +125,8 @@ def build(
         ExportError: a file exists and ``force`` is not set, or a write failed.
     """
     note = progress or (lambda _s: None)
+    if worker is None:
+        WorkerLimits.from_env()  # a bad DUCTGEN_MEMORY_MB / DUCTGEN_TIMEOUT_S: exit 2 first
     if quality not in STL_QUALITY:
         raise SpecError("--quality", quality, " | ".join(STL_QUALITY), "STL tessellation setting")
     kinds = select_kinds(only)

@@ -103,13 +103,15 @@ def _read(path: str, mtime_ns: int, units: str | None) -> tuple[str, Any]:
     import trimesh
 
     try:
-        mesh = trimesh.load(path, force="mesh", process=True)
+        # unprocessed first: processing drops the faces of NaN vertices without a word
+        mesh = trimesh.load(path, force="mesh", process=False)
     except Exception as err:
         raise _bad_file(path, f"the mesh reader failed ({type(err).__name__}: {err})") from None
     if not isinstance(mesh, trimesh.Trimesh) or len(mesh.faces) == 0:
         raise _bad_file(path, "it holds no triangles")
     if not np.all(np.isfinite(mesh.vertices)):
         raise _bad_file(path, "a vertex has a NaN or infinite coordinate")
+    mesh.process()  # merge the duplicate vertices of an STL, as the loader would have
     mesh.apply_scale(MESH_UNITS_MM[units])
     return "mesh", mesh
 

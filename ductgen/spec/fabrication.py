@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from typing import Annotated, Literal
 
-from pydantic import Field
+from pydantic import Field, StrictBool, StrictFloat, StrictInt
 
 from ductgen.spec.types import Deg, Mm, Section
 
@@ -30,7 +30,7 @@ class HolesSpec(Section):
     """
 
     count: Annotated[
-        int,
+        StrictInt,
         Field(
             default=8,
             ge=0,
@@ -44,7 +44,9 @@ class HolesSpec(Section):
         Field(
             default=None,
             gt=0,
-            description="flange outer edge to hole centres [default: half the flange width]",
+            le=200,
+            description="flange outer edge to hole centres [default: half the flange width]; "
+            "at most 200 mm, the widest flange",
         ),
     ]
 
@@ -102,10 +104,11 @@ class InsertSpec(Section):
         Material, Field(default="PETG", description="print material (density, heat limit)")
     ]
     near_heat: Annotated[
-        bool, Field(default=False, description="the insert sits near brakes, exhausts or an engine")
+        StrictBool,
+        Field(default=False, description="the insert sits near brakes, exhausts or an engine"),
     ]
     service_temperature: Annotated[
-        float | None,
+        StrictFloat | None,
         Field(default=None, ge=-60, le=400, description="highest expected part temperature (°C)"),
     ]
 

@@ -23,7 +23,7 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Annotated, Any, Literal
 
-from pydantic import BeforeValidator, Field, model_validator
+from pydantic import BeforeValidator, Field, StrictFloat, StrictStr, model_validator
 
 from ductgen.spec.recovery_table import find_recovery_table, read_recovery_table
 from ductgen.spec.types import Deg, M, MPerS, Section, si
@@ -88,7 +88,8 @@ Pressure = Annotated[float, si("pressure", "Pa")]
 #: Air density in kg/m³; needs a unit.
 Density = Annotated[float, si("density", "kg/m^3")]
 Label = Annotated[
-    str | None, Field(default=None, min_length=1, max_length=60, description="name in the budget")
+    StrictStr | None,
+    Field(default=None, min_length=1, max_length=60, description="name in the budget"),
 ]
 
 
@@ -96,7 +97,9 @@ class HoseLoss(Section):
     """A straight run of hose: Darcy friction ``f·L/D`` at the hose velocity."""
 
     kind: Literal["hose"] = "hose"
-    length: Annotated[M, Field(gt=0, description="hose length")]
+    length: Annotated[
+        M, Field(gt=0, le=100, description="hose length; at most 100 m, beyond any vehicle")
+    ]
     diameter: Annotated[M, Field(gt=0, le=2, description="hose inner diameter")]
     roughness: Annotated[
         M,
@@ -139,7 +142,7 @@ class CoolerLoss(Section):
 
     kind: Literal["cooler"] = "cooler"
     k: Annotated[
-        float | None,
+        StrictFloat | None,
         Field(default=None, gt=0, le=1e4, description="loss coefficient on the face velocity"),
     ]
     face_area: Annotated[Area | None, Field(default=None, gt=0, description="core face area")]
@@ -178,7 +181,10 @@ class DiffuserLoss(Section):
     angle_deg: Annotated[
         Deg | None, Field(default=None, gt=0, le=180, description="included angle, deg")
     ]
-    length: Annotated[M | None, Field(default=None, gt=0, description="diffuser length")]
+    length: Annotated[
+        M | None,
+        Field(default=None, gt=0, le=100, description="diffuser length; at most 100 m"),
+    ]
     label: Label
 
     @model_validator(mode="after")
@@ -233,7 +239,7 @@ class FlowSpec(Section):
         ),
     ]
     temperature_offset: Annotated[
-        float,
+        StrictFloat,
         si("temperature", "K"),
         Field(
             default=0.0, ge=-100, le=100, description="temperature above standard (a difference, K)"
@@ -253,10 +259,17 @@ class FlowSpec(Section):
         ),
     ]
     required_flow: Annotated[
-        VolumeFlow | None, Field(default=None, gt=0, description="volume flow needed")
+        VolumeFlow | None,
+        Field(
+            default=None,
+            gt=0,
+            le=1000,
+            description="volume flow needed; at most 1000 m^3/s, more than the largest throat "
+            "(3 x 1 m) takes in at the fastest speed allowed",
+        ),
     ]
     recovery: Annotated[
-        float | str,
+        StrictFloat | StrictStr,
         BeforeValidator(_recovery_value),
         Field(
             default="capture",
@@ -265,7 +278,7 @@ class FlowSpec(Section):
         ),
     ]
     inlet_loss_factor: Annotated[
-        float,
+        StrictFloat,
         Field(
             default=INLET_LOSS_FACTOR,
             gt=0,
@@ -275,7 +288,7 @@ class FlowSpec(Section):
         ),
     ]
     exit_cp: Annotated[
-        float | None,
+        StrictFloat | None,
         Field(
             default=None,
             ge=-5,
@@ -310,7 +323,7 @@ class FlowSpec(Section):
         ),
     ]
     transition_effectiveness: Annotated[
-        float,
+        StrictFloat,
         Field(
             default=TRANSITION_EFFECTIVENESS,
             gt=0,
@@ -373,7 +386,13 @@ class FlowSpec(Section):
     ]
     exit_area: Annotated[
         Area | None,
-        Field(default=None, gt=0, description="area of the final exit (default: last element)"),
+        Field(
+            default=None,
+            gt=0,
+            le=10,
+            description="area of the final exit (default: last element); at most 10 m^2, "
+            "beyond any vehicle",
+        ),
     ]
     losses: list[LossElement] = Field(default_factory=list)
 

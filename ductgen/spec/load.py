@@ -207,7 +207,7 @@ def _resolve_csv(
     if not (isinstance(value, str) and value.strip().lower().endswith(".csv")):
         return data
     p = Path(value.strip()).expanduser()
-    if p.is_absolute() or (must_exist and not (base_dir / p).is_file()):
+    if p.is_absolute() or (must_exist and not (base_dir / p).exists()):
         return data
     return {**data, section: {**sec, key: str((base_dir / p).resolve())}}
 
@@ -271,6 +271,11 @@ _ALLOWED = {
     "string_pattern_mismatch": "text matching {pattern}",
     "string_too_short": "at least {min_length} characters",
     "union_tag_invalid": "kind one of {expected_tags}",
+    # strict types: a number or a boolean written as text is refused, not guessed at
+    "int_type": "a whole number, written without quotes",
+    "bool_type": "true or false, written without quotes",
+    "float_type": "a number, written without quotes",
+    "string_type": "text (not a number, and not YAML !!binary bytes)",
 }
 
 
@@ -278,8 +283,14 @@ _LIMITS = ("greater_than", "greater_than_equal", "less_than", "less_than_equal")
 
 
 def _unit_of(info: Any) -> tuple[str, Any]:
-    """(internal unit, converter) of a quantity field (``spec/types.py``), else ("", None)."""
-    for meta in getattr(info, "metadata", None) or ():
+    """(internal unit, converter) of a quantity field (``spec/types.py``), else ("", None);
+    an optional quantity (``Mm | None``) carries it inside the union."""
+    import typing
+
+    metas = list(getattr(info, "metadata", None) or ())
+    for arg in typing.get_args(getattr(info, "annotation", None)):
+        metas += list(getattr(arg, "__metadata__", ()))
+    for meta in metas:
         func = getattr(meta, "func", None)
         unit = getattr(func, "unit", None)
         if unit:

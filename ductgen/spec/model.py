@@ -11,13 +11,13 @@ from __future__ import annotations
 
 from typing import Annotated, Literal
 
-from pydantic import Field, model_validator
+from pydantic import Field, StrictFloat, StrictStr, model_validator
 
 from ductgen.spec.fabrication import InsertSpec, PlugSpec
 from ductgen.spec.flow import FlowSpec
 from ductgen.spec.printing import PrintSpec
 from ductgen.spec.template import TemplateSpec
-from ductgen.spec.types import Deg, Mm, Section
+from ductgen.spec.types import MAX_LENGTH_MM, Deg, Mm, Section
 
 #: A direction component: any finite number within ±1e6 (directions are normalised).
 Vec = Annotated[float, Field(ge=-1e6, le=1e6, allow_inf_nan=False)]
@@ -75,10 +75,24 @@ class RampSpec(Section):
         Field(default=None, gt=0, lt=30, description="ramp angle of the straight floor section"),
     ]
     length: Annotated[
-        Mm | None, Field(default=None, gt=0, description="ramp length L, ramp start to lip station")
+        Mm | None,
+        Field(
+            default=None,
+            gt=0,
+            le=MAX_LENGTH_MM,
+            description="ramp length L, ramp start to lip station; at most 20 m, beyond any "
+            "vehicle panel",
+        ),
     ]
     entry_radius: Annotated[
-        Mm, Field(default=0.0, ge=0, description="radius of the tangent arc at the ramp start")
+        Mm,
+        Field(
+            default=0.0,
+            ge=0,
+            le=MAX_LENGTH_MM,
+            description="radius of the tangent arc at the ramp start; at most 20 m, beyond any "
+            "vehicle panel",
+        ),
     ]
 
     @model_validator(mode="after")
@@ -99,7 +113,7 @@ class PlanformSpec(Section):
     ``x/L, 2y/W`` (relative paths are from the spec file's folder)."""
 
     profile: Annotated[
-        str,
+        StrictStr,
         Field(
             default="naca-standard", min_length=1, description="wall-curve table name or CSV path"
         ),
@@ -119,7 +133,7 @@ class LipSpec(Section):
     ]
     thickness: Annotated[Mm, Field(default=4.0, gt=0, le=100, description="lip thickness")]
     nose_ratio: Annotated[
-        float,
+        StrictFloat,
         Field(
             default=2.0,
             ge=1.1,
@@ -131,7 +145,11 @@ class LipSpec(Section):
     fairing_length: Annotated[
         Mm | None,
         Field(
-            default=None, gt=0, description="raised lip: length over which it fairs into the skin"
+            default=None,
+            gt=0,
+            le=2000,
+            description="raised lip: length over which it fairs into the skin; at most 2 m "
+            "(20 times the thickest lip)",
         ),
     ]
 
@@ -142,9 +160,24 @@ class RoundOutlet(Section):
     kind: Literal["round"] = "round"
     diameter: Annotated[Mm, Field(gt=0, le=1000, description="hose inner diameter")]
     transition_length: Annotated[
-        Mm, Field(gt=0, description="length of the throat-to-outlet transition")
+        Mm,
+        Field(
+            gt=0,
+            le=10_000,
+            description="length of the throat-to-outlet transition; at most 10 m (a longer "
+            "run is a hose: a loss in [flow])",
+        ),
     ]
-    spigot_length: Annotated[Mm, Field(default=40.0, gt=0, description="hose spigot length")]
+    spigot_length: Annotated[
+        Mm,
+        Field(
+            default=40.0,
+            gt=0,
+            le=1000,
+            description="hose spigot length; at most 1 m (a longer run is a hose: a loss in "
+            "[flow])",
+        ),
+    ]
     fit_clearance: Annotated[
         Mm, Field(default=0.2, ge=0, le=5, description="spigot OD below the hose ID")
     ]
@@ -157,9 +190,24 @@ class RectOutlet(Section):
     width: Annotated[Mm, Field(gt=0, le=3000, description="outlet width")]
     height: Annotated[Mm, Field(gt=0, le=1000, description="outlet height")]
     transition_length: Annotated[
-        Mm, Field(gt=0, description="length of the throat-to-outlet transition")
+        Mm,
+        Field(
+            gt=0,
+            le=10_000,
+            description="length of the throat-to-outlet transition; at most 10 m (a longer "
+            "run is a hose: a loss in [flow])",
+        ),
     ]
-    spigot_length: Annotated[Mm, Field(default=30.0, gt=0, description="outlet collar length")]
+    spigot_length: Annotated[
+        Mm,
+        Field(
+            default=30.0,
+            gt=0,
+            le=1000,
+            description="outlet collar length; at most 1 m (a longer run is a duct: a loss in "
+            "[flow])",
+        ),
+    ]
 
 
 class NoOutlet(Section):
@@ -218,7 +266,7 @@ class SkinSpec(Section):
         Field(default=None, gt=0, le=1e7, description="doubly: radius across the flow"),
     ]
     file: Annotated[
-        str | None,
+        StrictStr | None,
         Field(
             default=None,
             min_length=1,
@@ -280,7 +328,7 @@ class Spec(Section):
     """A whole inlet: geometry, fabrication outputs and (optionally) the flow condition."""
 
     name: Annotated[
-        str,
+        StrictStr,
         Field(
             default="inlet",
             pattern=r"^[A-Za-z0-9][A-Za-z0-9._-]{0,63}$",

@@ -27,7 +27,7 @@ def find_recovery_table(text: str) -> Path:
     p = Path(text).expanduser()
     candidates = [p] if p.is_absolute() else [p, data_path() / p, profiles_dir() / p]
     for c in candidates:
-        if c.is_file():
+        if c.exists():  # a folder or a pipe is found here and refused when read
             return c.resolve()
     raise ValueError(
         f"recovery table {text!r} not found (looked in the spec's folder and the bundled data)"
@@ -48,8 +48,13 @@ def read_recovery_table(path: str | Path) -> tuple[tuple[float, ...], tuple[floa
     """
     path = Path(path)
     try:
+        if path.is_dir():
+            raise ValueError(f"recovery table {path} is a folder, not a CSV file")
         if not path.is_file():
-            raise ValueError(f"recovery table {path} is not a regular file")
+            raise ValueError(
+                f"recovery table {path} is a pipe, socket or device (which may never end), "
+                "not a regular CSV file"
+            )
         size = path.stat().st_size
         if size > MAX_TABLE_BYTES:
             raise ValueError(

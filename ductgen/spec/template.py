@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from typing import Annotated, Any, Literal
 
-from pydantic import Field
+from pydantic import Field, StrictFloat
 
 from ductgen.spec.types import Mm, Section
 
@@ -42,11 +42,11 @@ class TemplateSpec(Section):
         Mm, Field(default=15.0, ge=5, le=40, description="overlap of neighbouring PDF tiles")
     ]
     scale_x: Annotated[
-        float,
+        StrictFloat,
         Field(default=1.0, ge=0.9, le=1.1, description="printer correction along the page width"),
     ]
     scale_y: Annotated[
-        float,
+        StrictFloat,
         Field(default=1.0, ge=0.9, le=1.1, description="printer correction along the page height"),
     ]
 

@@ -14,6 +14,7 @@ from pydantic import BaseModel, BeforeValidator, ConfigDict
 from ductgen.units import convert
 
 __all__ = [
+    "MAX_LENGTH_MM",
     "Deg",
     "M",
     "MPerS",
@@ -38,6 +39,12 @@ def si(dimension: str, unit: str, default_unit: str | None = None) -> BeforeVali
     ``default_unit``; without it only zero may be written bare)."""
     return _q(dimension, unit, default_unit)
 
+
+#: Longest length of any one part of an inlet (mm): a ramp, an entry arc, a duct. 20 m is
+#: beyond any vehicle panel (a throat is at most 3 m wide); it keeps a mistyped unit
+#: ("1 km") from reaching the CAD kernel, whose fixed tolerances (1e-7 mm) and checks
+#: (volumes to 0.5 %) were never meant for such sizes.
+MAX_LENGTH_MM = 20_000
 
 #: Geometry length in mm; a bare number is mm.
 Mm = Annotated[float, _q("length", "mm", "mm")]

@@ -126,6 +126,9 @@ def _executor(jobs: int, scheduler: str | None) -> Iterator[Executor | None]:
     """The pool to run on: None (this process) for one local job, a process pool, or a
     Dask executor on the cluster at ``scheduler``."""
     if scheduler:
+        from ductgen.sweep.scheduler import check_scheduler
+
+        check_scheduler(scheduler)  # a few seconds at most, before Dask's client is trusted
         from distributed import Client
 
         try:
@@ -235,7 +238,9 @@ def run_sweep(
     from ductgen.sweep.compare import compare_all, comparison_rows
     from ductgen.sweep.html import write_outputs
     from ductgen.tolerances import STL_QUALITY
+    from ductgen.worker import WorkerLimits
 
+    WorkerLimits.from_env()  # a bad DUCTGEN_MEMORY_MB / DUCTGEN_TIMEOUT_S: exit 2 up front
     t_start = time.perf_counter()
     kinds_all = output_kinds()
     kinds = kinds_all if not only else [k for k in kinds_all if k in only]

@@ -1,0 +1,51 @@
+"""Mesh closure (``ductgen.meshstats.mesh_stats``): a zero-area sliver of three distinct
+collinear vertices closes a T-junction and keeps a mesh closed (the CAD kernel's mesher
+makes them on the small faces of a 5 x 2 mm throat's plug); a face collapsed by merging is
+dropped; a real crack stays open."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from ductgen.meshstats import mesh_stats
+
+#: A right tetrahedron (unit legs): volume 1/6 (derived: a third of base 1/2 times height 1).
+TET = np.array([[0.0, 0.0, 0.0], [1.0, 0.0, 0.0], [0.0, 1.0, 0.0], [0.0, 0.0, 1.0]])
+FACES = [(0, 2, 1), (0, 1, 3), (1, 2, 3), (0, 3, 2)]  # outward
+
+
+def _t_junction(sliver: bool) -> tuple[np.ndarray, np.ndarray]:
+    """The tetrahedron with edge 0-1 split at its midpoint on face (0, 1, 3) only; with
+    ``sliver`` the zero-area triangle (0, 4, 1) (three collinear points) closes the gap."""
+    verts = np.vstack([TET, [[0.5, 0.0, 0.0]]])
+    faces = [(0, 2, 1), (0, 4, 3), (4, 1, 3), (1, 2, 3), (0, 3, 2)]
+    if sliver:
+        faces.append((0, 1, 4))
+    return verts, np.array(faces)
+
+
+def test_the_tetrahedron_is_closed_with_its_volume() -> None:
+    closed, winding, volume, _ = mesh_stats(TET, np.array(FACES))
+    assert closed and winding
+    assert volume == pytest.approx(1.0 / 6.0, rel=1e-12)
+
+
+def test_a_collinear_sliver_keeps_the_mesh_closed() -> None:
+    closed, winding, volume, _ = mesh_stats(*_t_junction(sliver=True))
+    assert closed and winding
+    assert volume == pytest.approx(1.0 / 6.0, rel=1e-12)
+
+
+def test_a_t_junction_without_the_sliver_is_a_crack() -> None:
+    closed, winding, _, _ = mesh_stats(*_t_junction(sliver=False))
+    assert not closed and not winding
+
+
+def test_a_face_collapsed_by_merging_is_dropped() -> None:
+    """Vertex 4 is a copy of vertex 3 a hundredth of the merge distance away: face (3, 4, 0)
+    collapses onto an edge when merged and is dropped (the mesh stays closed), while
+    (0, 1, 4) becomes a second copy of face (0, 1, 3) and makes the mesh non-manifold."""
+    verts = np.vstack([TET, TET[3] + 1e-7])
+    assert mesh_stats(verts, np.array([*FACES, (3, 4, 0)]))[0]
+    assert not mesh_stats(verts, np.array([*FACES, (0, 1, 4)]))[0]
