@@ -145,7 +145,7 @@ def run_tool(
             stderr=subprocess.STDOUT,
             env=openfoam_env(),
             preexec_fn=_die_with_parent if sys.platform.startswith("linux") else None,
-            process_group=0,
+            start_new_session=True,  # its own process group (and session): killpg(pid)
         )
 
 
