@@ -27,7 +27,7 @@ from ductgen.report import (
 )
 from ductgen.solids.kinds import SOLID_KINDS
 from ductgen.spec.load import spec_sha256
-from ductgen.spec.model import Spec
+from ductgen.spec.model import PanelSkinSpec, Spec
 from ductgen.tolerances import STL_QUALITY
 from ductgen.worker import KernelWorker, default_worker
 
@@ -59,12 +59,11 @@ def output_kinds() -> list[str]:
 def _cuts_panel(spec: Spec, kinds: list[str]) -> bool:
     """Whether the build writes ``NAME-panel.step``: the user's panel is a CAD file and the
     cutter is built."""
-    f = spec.skin.file
+    skin = spec.skin
     return (
-        spec.skin.shape == "panel"
+        isinstance(skin, PanelSkinSpec)
         and "cutter" in kinds
-        and f is not None
-        and Path(f).suffix.lower() in (".step", ".stp")
+        and Path(skin.file).suffix.lower() in (".step", ".stp")
     )
 
 
@@ -161,14 +160,15 @@ def build(
                     seconds[f"{k}_{stage_name}"] = s
         report, warnings = start_report(spec, design, solids, spec_sha256(spec), package_version())
         frame = design.panel_frame
-        if _cuts_panel(spec, kinds):
+        skin = spec.skin
+        if _cuts_panel(spec, kinds) and isinstance(skin, PanelSkinSpec):
             note("panel")
             t0 = time.perf_counter()
             cut = (worker or default_worker()).run(
                 "ductgen.solids.panel_cut:cut_panel_job",
                 design,
-                spec.skin.file,
-                spec.skin.units,
+                skin.file,
+                skin.units,
                 [solids["cutter"]["files"]["step"]],
                 str(out.staging),
                 "insert" in solids,
