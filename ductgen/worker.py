@@ -183,6 +183,14 @@ class KernelWorker:
                 pass
         self._kill()
 
+    def stop(self) -> None:
+        """Stop a running job now, from another thread: the child is killed, the waiting
+        :meth:`run` raises :class:`~ductgen.errors.GeometryError` and the next job starts a
+        fresh child."""
+        proc = self._proc
+        if proc is not None and proc.poll() is None:
+            proc.kill()
+
     def _kill(self) -> None:
         if self._proc is not None and self._proc.poll() is None:
             self._proc.kill()

@@ -17,7 +17,16 @@ from ductgen.errors import SpecError
 from ductgen.page.guard import SPEC_SUFFIXES, PathRefused, WorkFolder, new_secret
 from ductgen.page.jobs import MAX_SWEEP_VARIANTS, JobRunner
 
-__all__ = ["FILE_KEYS", "DesignApp"]
+__all__ = ["FILE_KEYS", "PANEL_SUFFIXES", "DesignApp"]
+
+#: Files a panel skin may be read from (``skin.file``): STEP, or a mesh scan.
+PANEL_SUFFIXES = (".step", ".stp", ".stl", ".obj", ".ply")
+
+#: The panel file list stops here (a work folder is a project folder, not a disk).
+MAX_LISTED = 200
+
+#: Folders the panel file list does not walk into.
+_SKIPPED = (".git", ".venv", "node_modules", "__pycache__")
 
 #: Spec keys that name a file (read relative to the spec's folder): the page lets them name
 #: files inside the work folder only (or the starting spec's own folder).
@@ -80,6 +89,20 @@ class DesignApp:
             except PathRefused:
                 pass
         return self.work.free_name(name or "ductgen")
+
+    def panel_files(self) -> list[str]:
+        """STEP/STL/OBJ/PLY files inside the work folder (relative names, sorted; no
+        symbolic links, no hidden folders; at most :data:`MAX_LISTED`)."""
+        found: list[str] = []
+        for dirpath, dirs, names in os.walk(self.work.root):  # os.walk does not follow links
+            dirs[:] = sorted(d for d in dirs if not d.startswith(".") and d not in _SKIPPED)
+            for fn in sorted(names):
+                p = Path(dirpath) / fn
+                if p.suffix.lower() in PANEL_SUFFIXES and not p.is_symlink() and p.is_file():
+                    found.append(p.relative_to(self.work.root).as_posix())
+                    if len(found) >= MAX_LISTED:
+                        return found
+        return found
 
     # --- paths from requests ---------------------------------------------------------------
     def base_dir(self, body: dict[str, Any]) -> Path:

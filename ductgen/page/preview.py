@@ -12,7 +12,7 @@ from typing import Any
 
 from ductgen.design import Design, build_design
 from ductgen.errors import DesignWarning, DuctgenError, SpecError
-from ductgen.page.draw import plan_svg, section_svg
+from ductgen.page.draw import plan_svg, section_svg, skin_caption
 from ductgen.spec import Spec, parse_spec
 
 __all__ = ["check_spec", "flow_rows", "key_numbers", "preview", "problem_lines"]
@@ -138,4 +138,5 @@ def preview(data: Any, base_dir: Path | None = None) -> dict[str, Any]:
         "warnings": _warnings(warnings),
         "plan_svg": plan_svg(d),
         "section_svg": section_svg(d),
+        "skin_caption": skin_caption(d),
     }

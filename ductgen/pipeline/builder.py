@@ -37,6 +37,7 @@ __all__ = [
     "output_kinds",
     "package_version",
     "planned_files",
+    "planned_stages",
     "select_kinds",
 ]
 
@@ -87,6 +88,17 @@ class BuildResult:
     seconds: dict[str, float]
     solids: dict[str, dict[str, Any]]
     design: Design | None = None
+
+
+def planned_stages(spec: Spec, kinds: list[str]) -> list[str]:
+    """The stages :func:`build` reports through ``progress``, in order (an ``"insert
+    split"`` stage is added when the insert turns out larger than the bed)."""
+    stages = ["geometry"]
+    if any(k in SOLID_KINDS for k in kinds):
+        stages.append("solids")
+    if _cuts_panel(spec, kinds):
+        stages.append("panel")
+    return [*stages, *(k for k in kinds if k in OUTPUTS), "publish"]
 
 
 def select_kinds(only: list[str] | None) -> list[str]:
