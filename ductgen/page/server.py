@@ -49,7 +49,7 @@ from ductgen.page.preview import check_spec, preview, problem_lines
 __all__ = ["ASSETS", "DesignApp", "is_loopback", "make_server"]
 
 #: The page's files, served from the package.
-ASSETS = ("index.html", "page.css", "page.js", "viewer.js")
+ASSETS = ("index.html", "page.css", "form.js", "page.js", "viewer.js")
 
 #: Largest request body read (bytes): a spec is a few kB.
 MAX_BODY_BYTES = 1_000_000
