@@ -70,7 +70,7 @@ def test_each_shape_reads_its_own_keys(skin: dict, model: type) -> None:
             "skin.radius_spanwise",
             "not a key of a cylinder skin",
         ),
-        ({"shape": "cylinder", "axis": "spanwise"}, "skin.radius", "'cylinder' needs skin.radius"),
+        ({"shape": "cylinder", "axis": "spanwise"}, "skin.radius", "a cylinder skin needs it"),
         ({"shape": "doubly", "radius_streamwise": 900}, "skin.radius_spanwise", "needs"),
         ({"shape": "panel", "file": "p.step", "at": [0, 0, 0]}, "skin.flow_direction", "needs"),
         ({"shape": "cyl"}, "skin", "shape one of 'flat', 'cylinder', 'doubly', 'panel'"),

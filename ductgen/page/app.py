@@ -89,6 +89,20 @@ class DesignApp:
         first save never replaces the opened file, nor anything inside the package."""
         return self.work.free_name(name or "ductgen")
 
+    def panel_files(self) -> list[str]:
+        """STEP/STL/OBJ/PLY files inside the work folder (relative names, sorted; no
+        symbolic links, no hidden folders; at most :data:`MAX_LISTED`)."""
+        found: list[str] = []
+        for dirpath, dirs, names in os.walk(self.work.root):  # os.walk does not follow links
+            dirs[:] = sorted(d for d in dirs if not d.startswith(".") and d not in _SKIPPED)
+            for fn in sorted(names):
+                p = Path(dirpath) / fn
+                if p.suffix.lower() in PANEL_SUFFIXES and not p.is_symlink() and p.is_file():
+                    found.append(p.relative_to(self.work.root).as_posix())
+                    if len(found) >= MAX_LISTED:
+                        return found
+        return found
+
     # --- paths from requests ---------------------------------------------------------------
     def base_dir(self, body: dict[str, Any]) -> Path:
         """The folder the spec's relative file names are read from: the folder of the spec

@@ -39,8 +39,8 @@ _AIR = "#dcecf2"
 
 
 def _pts(xy: np.ndarray, flip: bool = True) -> str:
-    s = -1.0 if flip else 1.0
-    return " ".join(f"{x:.2f},{s * y:.2f}" for x, y in np.asarray(xy))
+    p = np.round(np.asarray(xy, dtype=float).reshape(-1, 2) * (1.0, -1.0 if flip else 1.0), 2)
+    return " ".join(map("{:.2f},{:.2f}".format, p[:, 0].tolist(), p[:, 1].tolist()))
 
 
 def _line(x1: float, y1: float, x2: float, y2: float, cls: str = "ln", extra: str = "") -> str:
@@ -235,8 +235,11 @@ def section_svg(d: Design, samples: int = 160) -> str:
     xu = -0.12 * span
     air = [(0.0, 0.0), *floor, *roof[::-1], (length, lip.centre_z_mm), (length, 0.0)]
     body = [*lip.nose(), *roof, (x_end, max(0.0, lip.centre_z_mm + lip.semi_minor_mm))]
-    skin_a = [(xu, 0.0), (0.0, 0.0), (0.0, -ts), (xu, -ts)]
     x_far = x_end + gap
+    table = getattr(d.skin, "u", None)  # the user's panel is mapped over a table only
+    if isinstance(table, np.ndarray) and table.size:
+        xu, x_far = max(xu, float(table[0])), min(x_far, float(table[-1]))
+    skin_a = [(xu, 0.0), (0.0, 0.0), (0.0, -ts), (xu, -ts)]
     skin_b = [(lip.nose_end_mm, 0.0), (x_far, 0.0), (x_far, -ts), (lip.nose_end_mm, -ts)]
     top = [(xu, 0.0), (x_far, 0.0)]
     maps = _section_maps(d)

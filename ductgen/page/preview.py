@@ -7,6 +7,8 @@ Computed from :func:`~ductgen.design.build_design` and
 
 from __future__ import annotations
 
+import copy
+import threading
 from pathlib import Path
 from typing import Any
 
@@ -98,6 +100,30 @@ def flow_rows(flow: dict[str, Any]) -> list[dict[str, Any]]:
     return rows
 
 
+#: The airflow of recent (flow section, duct) pairs: an edit of the ramp, the lip or the
+#: flange leaves the airflow inputs as they were, and its operating point takes most of a
+#: redraw's time (dozens of root-finder steps through the loss models).
+_FLOW_CACHE: dict[str, tuple[dict[str, Any], list[DesignWarning]]] = {}
+_FLOW_CACHE_SIZE = 32
+_FLOW_LOCK = threading.Lock()
+
+
+def _flow(spec: Spec, d: Design) -> tuple[dict[str, Any], list[DesignWarning]]:
+    from ductgen.flow.report import flow_section
+
+    assert spec.flow is not None
+    key = spec.flow.model_dump_json() + repr(d.duct)
+    with _FLOW_LOCK:
+        hit = _FLOW_CACHE.get(key)
+    if hit is None:
+        hit = flow_section(spec.flow, d.duct)
+        with _FLOW_LOCK:
+            if len(_FLOW_CACHE) >= _FLOW_CACHE_SIZE:
+                _FLOW_CACHE.pop(next(iter(_FLOW_CACHE)))
+            _FLOW_CACHE[key] = hit
+    return copy.deepcopy(hit[0]), list(hit[1])
+
+
 def _warnings(ws: list[DesignWarning]) -> list[dict[str, str]]:
     return [{"code": w.code, "message": w.message} for w in ws]
 
@@ -119,9 +145,7 @@ def preview(data: Any, base_dir: Path | None = None) -> dict[str, Any]:
     flow: dict[str, Any] | None = None
     meets = None
     if spec.flow is not None:
-        from ductgen.flow.report import flow_section
-
-        section, fw = flow_section(spec.flow, d.duct)
+        section, fw = _flow(spec, d)
         warnings += fw
         flow = {
             "rows": flow_rows(section),

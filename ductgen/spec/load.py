@@ -374,7 +374,8 @@ def _to_spec_error(err: ValidationError, source: str | None) -> SpecError:
             problems.append((key, None, "keys " + ", ".join(known), f"not a key of a {shape} skin"))
             continue
         if etype == "missing" and shape is not None:
-            problems.append((key, None, "a value", f"skin.shape = '{shape}' needs {key}"))
+            what = reason.split(": ", 1)[-1]
+            problems.append((key, None, "", f"a {shape} skin needs it: {what}"))
             continue
         if etype == "extra_forbidden":
             parent = _models_for(loc[:-1]) or Spec
