@@ -4,7 +4,8 @@ Run: ``python bench/bench_page.py [--changes N] [--profile]``. A live page serve
 ``ductgen design`` runs, on a free port, in this process) answers ``POST /api/preview`` for
 every sample, once per change of the ramp angle (5.0°, 5.1°, ... so every answer is new).
 Two times are shown per sample, in milliseconds: ``server``, the request handler from the
-first byte read to the answer written (what the issue's 50 ms median refers to), and
+first byte read to the answer written (what the issue's 50 ms median refers to), its
+``CPU`` time (the handler thread's; less sensitive to other work on the machine), and
 ``round trip`` as a client measures it. Median, 10th and 90th percentile and the largest.
 ``--profile`` prints the 15 most expensive functions of one sample's previews (cProfile).
 """
@@ -15,6 +16,7 @@ import argparse
 import cProfile
 import http.client
 import json
+import os
 import pstats
 import statistics
 import threading
@@ -48,12 +50,14 @@ def main() -> None:
     from ductgen.page.server import _Handler, make_server
 
     timings: list[float] = []
+    cpu: list[float] = []
     original = _Handler._preview
 
     def timed(self: Any, body: dict[str, Any]) -> None:
-        t0 = time.perf_counter()
+        t0, c0 = time.perf_counter(), time.thread_time()
         original(self, body)
         timings.append((time.perf_counter() - t0) * 1e3)
+        cpu.append((time.thread_time() - c0) * 1e3)
 
     _Handler._preview = timed  # type: ignore[method-assign]
     work = ROOT / "samples"
@@ -63,11 +67,16 @@ def main() -> None:
     port = server.server_address[1]
     auth = {"Authorization": f"Bearer {app.secret}", "Content-Type": "application/json"}
 
-    print(f"{'sample':24s}  server ms: median   p10     p90     max | round trip ms: median")
+    print(
+        f"{'sample':24s}  server ms: median   p10     p90     max | CPU ms: median"
+        " | round trip ms: median"
+    )
     everything: list[float] = []
+    all_cpu: list[float] = []
     for path in sorted(work.glob("*.toml")):
         data = tomllib.loads(path.read_text())
         timings.clear()
+        cpu.clear()
         trips: list[float] = []
         conn = http.client.HTTPConnection("127.0.0.1", port, timeout=60)
         for k in range(args.changes + 1):
@@ -81,7 +90,11 @@ def main() -> None:
         conn.close()
         server_ms, trips = timings[1:], trips[1:]  # the first answer warms caches
         everything += server_ms
-        print(f"{path.stem:24s}  {_stats(server_ms)}   | {statistics.median(trips):7.1f}")
+        all_cpu += cpu[1:]
+        print(
+            f"{path.stem:24s}  {_stats(server_ms)}   | {statistics.median(cpu[1:]):7.1f}"
+            f"        | {statistics.median(trips):7.1f}"
+        )
         if args.profile and path.stem == "club-racer-brake":
             prof = cProfile.Profile()
             prof.enable()
@@ -90,7 +103,8 @@ def main() -> None:
                 preview(data, work)
             prof.disable()
             pstats.Stats(prof).sort_stats("cumulative").print_stats(15)
-    print(f"{'all samples':24s}  {_stats(everything)}")
+    print(f"{'all samples':24s}  {_stats(everything)}   | {statistics.median(all_cpu):7.1f}")
+    print(f"load average while measuring: {os.getloadavg()[0]:.1f} on {os.cpu_count()} cores")
     server.shutdown()
 
 

@@ -246,7 +246,7 @@ def section_svg(d: Design, samples: int = 160) -> str:
     shapes = {"air": air, "floor": floor, "roof": roof, "body": body}
     skins = {"a": skin_a, "b": skin_b, "top": top}
     if maps is not None:
-        step = span / 120.0
+        step = span / 60.0
         shapes = {k: maps[0](_dense(v, step)) for k, v in shapes.items()}  # type: ignore[misc]
         skins = {k: maps[1](_dense(v, step)) for k, v in skins.items()}  # type: ignore[misc]
     pts = {k: _pts(np.array(v)) for k, v in (shapes | skins).items()}
