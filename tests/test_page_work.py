@@ -209,6 +209,12 @@ def test_a_panel_spec_opens_without_errors(panel_work, browser) -> None:  # type
             "0",
         ]
         assert "your panel hood.step" in _text(d, "skin-caption")
+        # the panel round the datum, with the datum, the flow arrow and the normal
+        view = d.find_element("id", "panel-svg")
+        assert view.is_displayed() and view.rect["width"] >= 300
+        for part in ("panel-datum", "panel-flow", "panel-normal", "panel-opening"):
+            assert d.find_element("id", part)
+        assert "flow (1.00, 0.00, 0.00)" in view.get_attribute("innerHTML")
         # the file picker lists the work folder's panels
         options = d.execute_async_script(
             "const done = arguments[0]; fetch('/api/panel-files').then(r => r.json())"
@@ -220,6 +226,8 @@ def test_a_panel_spec_opens_without_errors(panel_work, browser) -> None:  # type
         _type(d, "skin.at[0]", "40")
         _wait(d, 60, lambda: _outer(d, "section-svg") != section)  # noqa: B023
         assert not _problems(d)
+        d.execute_script("document.getElementById('plan').scrollIntoView()")
+        _save_shot(d.get_screenshot_as_png(), "page-panel.png")
         # switching the shape drops the panel's keys and asks for the cylinder's
         from selenium.webdriver.support.ui import Select
 
@@ -227,4 +235,3 @@ def test_a_panel_spec_opens_without_errors(panel_work, browser) -> None:  # type
         _wait(d, 10, lambda: "a cylinder skin needs it" in _text(d, "err-f-skin-radius"))
         data = d.execute_script("return window.ductgenPage.specData()")
         assert data["skin"] == {"shape": "cylinder"}
-        _save_shot(d.get_screenshot_as_png(), "page-panel.png")

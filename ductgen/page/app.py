@@ -85,8 +85,13 @@ class DesignApp:
         return self.work.show(self.spec_path)
 
     def _save_default(self, name: str) -> str:
-        """Save as: a new name in the work folder (``NAME.toml``, ``NAME-2.toml``...), so a
-        first save never replaces the opened file, nor anything inside the package."""
+        """Save as: the opened file when it is a ``.toml`` spec of the user's inside the work
+        folder; otherwise a new name there (never a file inside the installed package)."""
+        if self.spec_path is not None and self.spec_path.suffix.lower() == ".toml":
+            try:
+                return self.work.show(self.work.writable(str(self.spec_path), "save as"))
+            except PathRefused:
+                pass
         return self.work.free_name(name or "ductgen")
 
     def panel_files(self) -> list[str]:

@@ -15,6 +15,7 @@ from typing import Any
 from ductgen.design import Design, build_design
 from ductgen.errors import DesignWarning, DuctgenError, SpecError
 from ductgen.page.draw import plan_svg, section_svg, skin_caption
+from ductgen.page.panel_view import panel_svg
 from ductgen.spec import Spec, parse_spec
 
 __all__ = ["check_spec", "flow_rows", "key_numbers", "preview", "problem_lines"]
@@ -163,4 +164,5 @@ def preview(data: Any, base_dir: Path | None = None) -> dict[str, Any]:
         "plan_svg": plan_svg(d),
         "section_svg": section_svg(d),
         "skin_caption": skin_caption(d),
+        "panel_svg": panel_svg(d),
     }

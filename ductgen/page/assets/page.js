@@ -121,7 +121,7 @@ function showWarnings(ws) {
 
 function render(res, ms) {
   const stale = !res.ok;
-  for (const id of ["plan", "section", "numbers", "flow", "warnings"]) $(id).classList.toggle("stale", stale);
+  for (const id of ["plan", "section", "panel-view", "numbers", "flow", "warnings"]) $(id).classList.toggle("stale", stale);
   S.valid = !!res.ok;
   $("build-btn").disabled = !res.ok || !!S.poll;
   if (!res.ok) {
@@ -134,6 +134,8 @@ function render(res, ms) {
   $("plan").querySelector(".svg-holder").innerHTML = res.plan_svg;
   $("section").querySelector(".svg-holder").innerHTML = res.section_svg;
   $("skin-caption").textContent = res.skin_caption || "";
+  $("panel-view").hidden = !res.panel_svg;
+  $("panel-view").querySelector(".svg-holder").innerHTML = res.panel_svg || "";
   fillTable($("numbers"), res.numbers);
   fillTable($("flow"), res.flow ? res.flow.rows : []);
   $("flow-note").textContent = !res.flow ? "no airflow section: tick “use the airflow estimate” to estimate the airflow"
