@@ -117,3 +117,28 @@ def test_panel_files_are_listed_inside_the_work_folder_only(tmp_path: Path) -> N
     os.symlink(outside, work / "linked-folder")
     app = DesignApp(data={}, work=WorkFolder(work))
     assert app.panel_files() == ["a.step", "d.ply", "panels/b.STL", "panels/c.obj"]
+
+
+def test_the_plan_of_a_doubly_curved_skin_is_the_developed_template() -> None:
+    """The plan shows the opening as the template flattens it (its lengths stretched, as
+    the caption says), not the design's (u, v)."""
+    import re
+
+    import numpy as np
+
+    from ductgen.design import build_design
+    from ductgen.page.draw import plan_svg, skin_caption
+    from ductgen.spec import parse_spec
+    from tests.test_skin_curved import BASE
+
+    skin = {"shape": "doubly", "radius_streamwise": 700, "radius_spanwise": 300}
+    d = build_design(parse_spec({**BASE, "skin": skin}))
+    assert not d.development.exact and d.development.max_length_distortion_pct > 0.5
+    m = re.search(r'id="plan-opening" points="([^"]+)"', plan_svg(d))
+    assert m is not None
+    drawn = np.array([tuple(map(float, p.split(","))) for p in m.group(1).split()])
+    want = d.development.xy(d.layout.opening_xy) * (1.0, -1.0)  # SVG y points down
+    assert np.abs(drawn - want).max() <= 0.006  # the SVG's 0.01 mm rounding
+    assert np.abs(drawn - d.layout.opening_xy * (1.0, -1.0)).max() > 0.1  # not (u, v)
+    pct = f"{d.development.max_length_distortion_pct:.2f} %"
+    assert f"lengths stretched up to {pct}" in skin_caption(d)

@@ -108,7 +108,8 @@ def plan_svg(d: Design) -> str:
     """Plan view of the opening and the flange seen from outside (flow left to right)."""
     g, lay = d.geometry, d.layout
     w, length = g.width_mm, g.length_mm
-    outline = lay.outline_xy
+    flat = d.development.xy  # the template's flattening; the identity where it is exact
+    outline = flat(lay.outline_xy)
     x0, x1 = float(outline[:, 0].min()), float(outline[:, 0].max())
     y0, y1 = float(outline[:, 1].min()), float(outline[:, 1].max())
     t = g.transition
@@ -119,7 +120,7 @@ def plan_svg(d: Design) -> str:
     gap = fs * 2.2
     parts = [
         f'<polygon id="plan-flange" points="{_pts(outline)}" fill="{_FLANGE}" class="ln"/>',
-        f'<polygon id="plan-cutout" points="{_pts(lay.cutout_xy)}" class="thin"/>',
+        f'<polygon id="plan-cutout" points="{_pts(flat(lay.cutout_xy))}" class="thin"/>',
     ]
     if t is not None:
         half_out = t.outlet_width_mm / 2.0
@@ -136,10 +137,11 @@ def plan_svg(d: Design) -> str:
         )
         parts.append(f'<polyline id="plan-transition" points="{_pts(foot)}" class="thin"/>')
     parts.append(
-        f'<polygon id="plan-opening" points="{_pts(lay.opening_xy)}" fill="{_OPENING}" class="ln"/>'
+        f'<polygon id="plan-opening" points="{_pts(flat(lay.opening_xy))}" fill="{_OPENING}" '
+        'class="ln"/>'
     )
     r = lay.hole_diameter_mm / 2.0
-    for hx, hy in lay.hole_centres_xy:
+    for hx, hy in flat(lay.hole_centres_xy):
         parts.append(
             f'<circle class="ln hole" fill="#ffffff" cx="{hx:.2f}" cy="{-hy:.2f}" r="{r:.2f}"/>'
         )
