@@ -235,3 +235,31 @@ def test_a_panel_spec_opens_without_errors(panel_work, browser) -> None:  # type
         _wait(d, 10, lambda: "a cylinder skin needs it" in _text(d, "err-f-skin-radius"))
         data = d.execute_script("return window.ductgenPage.specData()")
         assert data["skin"] == {"shape": "cylinder"}
+
+
+def test_the_sweep_writes_into_the_folder_shown(server, browser, work) -> None:  # type: ignore[no-untyped-def]
+    from selenium.webdriver.support.ui import Select
+
+    d = browser
+    _open(d, server)
+    for box in d.find_elements("css selector", "#kinds input"):  # the cutter only: quick
+        if box.get_attribute("value") != "cutter" and box.is_selected():
+            box.click()
+    Select(d.find_element("id", "sweep-key")).select_by_value("ramp.angle_deg")
+    _type_id(d, "sweep-values", "6.5,7")
+    assert d.find_element("id", "sweep-out").get_attribute("value") == "club-racer-brake-sweep"
+    _type_id(d, "sweep-out", "angles")
+    d.find_element("id", "sweep-btn").click()
+    _wait(d, 600, lambda: re.search("written in|: failed", _text(d, "sweep-msg")))
+    assert _text(d, "sweep-msg").startswith("2 variants written in angles"), _text(d, "sweep-msg")
+    job = _get(server, "/api/job")[1]
+    assert job["kind"] == "sweep" and job["stage_k"] == job["stage_n"] == 2
+    assert (work / "angles" / job["page"]).is_file()
+    assert not (work / "club-racer-brake-sweep").exists()
+    # the sweep's progress is in its own card, the build card is left alone
+    assert "sweep" not in _text(d, "job")
+    href = d.find_element("id", "sweep-page").get_attribute("href")
+    status = d.execute_async_script(
+        "const done = arguments[1]; fetch(arguments[0]).then(r => done(r.status));", href
+    )
+    assert status == 200
