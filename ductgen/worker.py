@@ -154,6 +154,9 @@ class KernelWorker:
         self.limits = limits or WorkerLimits.from_env()
         self._proc: Any = None
         self._conn: Any = None
+        # one job at a time: two threads sharing the pipe would interleave their messages
+        # (the design page previews and saves from different request threads)
+        self._lock = threading.RLock()
 
     def _start(self) -> None:
         # A fresh interpreter (not fork: the parent may hold BLAS or GUI threads; not
@@ -201,7 +204,14 @@ class KernelWorker:
         self._conn = None
 
     def run(self, target: str, *args: Any, timeout_s: float | None = None, **kwargs: Any) -> Any:
-        """Run ``module:function(*args, **kwargs)`` in the child and return its result."""
+        """Run ``module:function(*args, **kwargs)`` in the child and return its result (a
+        second thread waits for the first one's job)."""
+        with self._lock:
+            return self._run(target, args, kwargs, timeout_s)
+
+    def _run(
+        self, target: str, args: tuple[Any, ...], kwargs: dict[str, Any], timeout_s: float | None
+    ) -> Any:
         if self._proc is None or self._proc.poll() is not None:
             self._start()
         timeout = self.limits.timeout_s if timeout_s is None else timeout_s

@@ -228,6 +228,20 @@ def test_a_panel_spec_opens_without_errors(panel_work, browser) -> None:  # type
         assert not _problems(d)
         d.execute_script("document.getElementById('plan').scrollIntoView()")
         _save_shot(d.get_screenshot_as_png(), "page-panel.png")
+        # the point and the direction go through save and open as three numbers each
+        _type(d, "skin.flow_direction[2]", "0.02")
+        _wait(d, 60, lambda: "up to date" in _text(d, "status"))
+        _type_id(d, "save-path", "hood-moved.toml")
+        d.find_element("id", "save-btn").click()
+        _wait(d, 60, lambda: _text(d, "save-msg").startswith(("saved", "not saved")))
+        assert _text(d, "save-msg") == "saved hood-moved.toml"
+        saved = load_spec(panel_work / "hood-moved.toml").skin
+        assert saved.at == (40.0, 0.0, 0.0) and saved.flow_direction == (1.0, 0.0, 0.02)
+        _type(d, "skin.at[0]", "0")
+        d.find_element("id", "open-btn").click()
+        _wait(d, 60, lambda: _text(d, "save-msg") == "opened hood-moved.toml")
+        _wait(d, 10, lambda: _field(d, "skin.at[0]").get_attribute("value") == "40")
+        assert _field(d, "skin.flow_direction[2]").get_attribute("value") == "0.02"
         # switching the shape drops the panel's keys and asks for the cylinder's
         from selenium.webdriver.support.ui import Select
 

@@ -1,0 +1,53 @@
+"""The kernel worker (ductgen/worker.py) shared by threads, and stopped from another thread
+(the design page previews and saves from different request threads, and its Cancel stops
+a running job)."""
+
+from __future__ import annotations
+
+import threading
+import time
+
+import pytest
+
+from ductgen.errors import GeometryError
+from ductgen.worker import KernelWorker
+
+
+def test_two_threads_sharing_a_worker_each_get_their_own_answers() -> None:
+    worker = KernelWorker()
+    got: dict[str, list[float]] = {"a": [], "b": []}
+    errors: list[BaseException] = []
+
+    def ask(name: str, base: float) -> None:
+        try:
+            for k in range(25):
+                got[name].append(worker.run("math:hypot", base, float(k)))
+        except BaseException as err:  # reported below
+            errors.append(err)
+
+    threads = [threading.Thread(target=ask, args=(n, b)) for n, b in (("a", 3.0), ("b", 5.0))]
+    try:
+        for t in threads:
+            t.start()
+        for t in threads:
+            t.join(timeout=120)
+    finally:
+        worker.close()
+    assert not errors, errors
+    assert got["a"] == [float((9.0 + k * k) ** 0.5) for k in range(25)]
+    assert got["b"] == [float((25.0 + k * k) ** 0.5) for k in range(25)]
+
+
+def test_stop_ends_a_running_job_and_the_next_job_runs() -> None:
+    worker = KernelWorker()
+    try:
+        worker.run("math:sqrt", 4.0)  # the child is up
+        threading.Timer(0.5, worker.stop).start()
+        t0 = time.monotonic()
+        with pytest.raises(GeometryError) as err:
+            worker.run("time:sleep", 60.0, timeout_s=120.0)
+        assert time.monotonic() - t0 < 60.0  # stopped, not finished (a timeout, not a timing)
+        assert "process died" in str(err.value)
+        assert worker.run("math:sqrt", 9.0) == 3.0
+    finally:
+        worker.close()
