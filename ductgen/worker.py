@@ -60,7 +60,7 @@ def stage(name: str) -> None:
         _send(_stage_conn, ("stage", name))
 
 
-def die_with_parent(parent_pid: int, sig: int = signal.SIGKILL) -> None:
+def die_with_parent(parent_pid: int, sig: int = signal.SIGKILL, prctl: bool = True) -> None:
     """Make the calling process die with its parent, on every exit path of the parent
     (crash, ``SIGKILL``, ``SIGTERM``, normal exit).
 
@@ -69,10 +69,14 @@ def die_with_parent(parent_pid: int, sig: int = signal.SIGKILL) -> None:
     ``parent_pid`` is still the parent. Between jobs the child also leaves when its pipe
     to the parent closes (end of file on the socket). Interrupts (``SIGINT`` from the terminal
     reaches the whole process group) are ignored here: the parent decides.
+
+    ``prctl=False`` when the parent started the child from a thread other than its main
+    one: Linux sends the signal when that *thread* ends (a web server's request thread, a
+    page's job thread), not the process, so the checking thread is used instead.
     """
     signal.signal(signal.SIGINT, signal.SIG_IGN)
     armed = False
-    if sys.platform.startswith("linux"):
+    if prctl and sys.platform.startswith("linux"):
         try:
             import ctypes
 
@@ -99,9 +103,11 @@ def die_with_parent(parent_pid: int, sig: int = signal.SIGKILL) -> None:
 _PR_SET_PDEATHSIG = 1
 
 
-def _main(fd: int, memory_mb: int, parent_pid: int = 0) -> None:  # pragma: no cover - child
+def _main(  # pragma: no cover - child
+    fd: int, memory_mb: int, parent_pid: int = 0, prctl: bool = True
+) -> None:
     if parent_pid:
-        die_with_parent(parent_pid)
+        die_with_parent(parent_pid, prctl=prctl)
     # the parent went away or gave up: leave quietly, without a traceback
     with contextlib.suppress(BrokenPipeError, ConnectionError, EOFError, KeyboardInterrupt):
         _child(Connection(fd), memory_mb)
@@ -163,12 +169,13 @@ class KernelWorker:
         # multiprocessing's spawn: it re-runs the caller's __main__).
         ours, theirs = socket.socketpair()
         fd = theirs.fileno()
+        main_thread = threading.current_thread() is threading.main_thread()
         self._proc = subprocess.Popen(
             [
                 sys.executable,
                 "-c",
                 "from ductgen.worker import _main; "
-                f"_main({fd}, {self.limits.memory_mb}, {os.getpid()})",
+                f"_main({fd}, {self.limits.memory_mb}, {os.getpid()}, {main_thread})",
             ],
             pass_fds=(fd,),
             stdin=subprocess.DEVNULL,

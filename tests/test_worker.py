@@ -51,3 +51,19 @@ def test_stop_ends_a_running_job_and_the_next_job_runs() -> None:
         assert worker.run("math:sqrt", 9.0) == 3.0
     finally:
         worker.close()
+
+
+def test_a_worker_started_from_a_thread_outlives_that_thread() -> None:
+    """Linux's parent-death signal follows the thread that started the child: a worker
+    started from a page's request thread must not die when that request ends."""
+    worker = KernelWorker()
+    try:
+        t = threading.Thread(target=worker.run, args=("math:sqrt", 4.0))
+        t.start()
+        t.join(timeout=60)
+        pid = worker._proc.pid
+        time.sleep(1.0)  # room for a death signal to arrive (not a timing assertion)
+        assert worker._proc.poll() is None, "the child died with the thread that started it"
+        assert worker.run("math:sqrt", 9.0) == 3.0 and worker._proc.pid == pid
+    finally:
+        worker.close()
