@@ -4,13 +4,18 @@ a running job)."""
 
 from __future__ import annotations
 
+import os
+import subprocess
+import sys
 import threading
 import time
+from pathlib import Path
 
 import pytest
 
 from ductgen.errors import GeometryError
 from ductgen.worker import KernelWorker
+from tests.conftest import ROOT
 
 
 def test_two_threads_sharing_a_worker_each_get_their_own_answers() -> None:
@@ -67,3 +72,36 @@ def test_a_worker_started_from_a_thread_outlives_that_thread() -> None:
         assert worker.run("math:sqrt", 9.0) == 3.0 and worker._proc.pid == pid
     finally:
         worker.close()
+
+
+def _alive(pid: int) -> bool:
+    """Whether process ``pid`` still runs (a zombie waiting to be reaped does not)."""
+    try:
+        state = Path(f"/proc/{pid}/stat").read_text().rsplit(")", 1)[1].split()[0]
+    except (FileNotFoundError, ProcessLookupError):
+        return False
+    return state != "Z"
+
+
+@pytest.mark.skipif(not sys.platform.startswith("linux"), reason="reads /proc")
+def test_a_worker_started_from_a_thread_still_dies_with_its_parent() -> None:
+    script = (
+        "import threading, time\n"
+        "from ductgen.worker import KernelWorker\n"
+        "w = KernelWorker()\n"
+        "t = threading.Thread(target=w.run, args=('math:sqrt', 4.0))\n"
+        "t.start(); t.join()\n"
+        "print(w._proc.pid, flush=True)\n"
+        "time.sleep(120)\n"
+    )
+    env = {**os.environ, "PYTHONPATH": str(ROOT)}
+    parent = subprocess.Popen([sys.executable, "-c", script], stdout=subprocess.PIPE, env=env)
+    assert parent.stdout is not None
+    child = int(parent.stdout.readline())
+    assert _alive(child)
+    parent.kill()
+    parent.wait()
+    deadline = time.monotonic() + 30.0  # a timeout, not a timing assertion
+    while _alive(child) and time.monotonic() < deadline:
+        time.sleep(0.1)
+    assert not _alive(child), "the kernel worker outlived its killed parent"
