@@ -180,7 +180,7 @@ function chosenKinds() {
 
 function progressText(j) {
   const secs = j.status === "running" ? j.elapsed_s : j.seconds;
-  let t = `${j.kind} ${j.id} of ${j.name}: ${j.status === "running" ? (j.cancelling ? "cancelling" : "running") : j.status}`;
+  let t = `${j.kind} #${j.id} (${j.name}): ${j.status === "running" ? (j.cancelling ? "cancelling" : "running") : j.status}`;
   if (j.status === "running") {
     if (j.kind === "build" && j.stage_n) t += ` · stage ${Math.max(1, j.stage_k)} of ${j.stage_n}: ${j.stage}`;
     else t += ` · ${j.stage}`;
