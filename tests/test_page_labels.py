@@ -142,3 +142,16 @@ def test_the_plan_of_a_doubly_curved_skin_is_the_developed_template() -> None:
     assert np.abs(drawn - d.layout.opening_xy * (1.0, -1.0)).max() > 0.1  # not (u, v)
     pct = f"{d.development.max_length_distortion_pct:.2f} %"
     assert f"lengths stretched up to {pct}" in skin_caption(d)
+
+
+def test_a_densified_polyline_keeps_its_points_and_short_segments() -> None:
+    import numpy as np
+
+    from ductgen.page.draw import _dense
+
+    pts = np.array([[0.0, 0.0], [10.0, 0.0], [10.0, 2.5], [0.0, 30.0]])
+    out = _dense(pts, 3.0)
+    assert np.linalg.norm(np.diff(out, axis=0), axis=1).max() <= 3.0 + 1e-12
+    for p in pts:  # every corner is still there, in order
+        assert np.min(np.linalg.norm(out - p, axis=1)) < 1e-12
+    assert len(out) == 1 + 4 + 1 + 10  # the start, then ceil(10/3), ceil(2.5/3), ceil(29.26/3)

@@ -19,7 +19,6 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from html import escape
-from itertools import pairwise
 from typing import Any
 
 import numpy as np
@@ -188,11 +187,12 @@ def plan_svg(d: Design) -> str:
 def _dense(pts: list[tuple[float, float]] | np.ndarray, step: float) -> np.ndarray:
     """A polyline with extra points so no segment is longer than ``step`` (mm)."""
     p = np.asarray(pts, dtype=float)
-    out = [p[:1]]
-    for a, b in pairwise(p):
-        n = max(1, int(np.ceil(np.linalg.norm(b - a) / step)))
-        out.append(a + (b - a) * (np.arange(1, n + 1)[:, None] / n))
-    return np.vstack(out)
+    d = np.diff(p, axis=0)
+    n = np.maximum(1, np.ceil(np.linalg.norm(d, axis=1) / step)).astype(int)
+    seg = np.repeat(np.arange(len(d)), n)  # each new point's segment
+    k = np.arange(len(seg)) - np.repeat(np.cumsum(n) - n, n) + 1  # 1..n within it
+    t = (k / n[seg])[:, None]
+    return np.vstack([p[:1], p[seg] + d[seg] * t])
 
 
 def _section_maps(d: Design) -> tuple[XZ, XZ] | None:
@@ -223,7 +223,7 @@ def section_svg(d: Design, samples: int = 160) -> str:
     length, h = g.length_mm, g.drop_mm
     x_end = g.outlet_x_mm + g.spigot_length_mm
     xs = np.linspace(0.0, g.throat_end_mm, samples)
-    floor = [(float(x), float(-fl.depth(x))) for x in xs]
+    floor = list(zip(xs.tolist(), (-fl.depth(xs)).tolist(), strict=True))
     roof = [(lip.nose_end_mm, lip.roof_z_mm), (g.throat_end_mm, lip.roof_z_mm)]
     if t is not None:
         bottom = t.outlet_top_z_mm - t.outlet_height_mm
