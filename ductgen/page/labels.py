@@ -1,5 +1,6 @@
 """The page's words for spec keys: one table of plain labels (the unit is shown beside the
-box from :func:`ductgen.page.fields.unit_hints`, so it is not repeated here).
+box from :func:`ductgen.page.fields.unit_hints`, so it is not repeated here). A section's
+fields are shown in this table's order.
 
 Keys are dotted as in error messages, with ``[]`` for any list index; a section's legend is
 its dotted key. ``tests/test_page_labels.py`` checks every key of the published schema has a
@@ -11,7 +12,7 @@ from __future__ import annotations
 __all__ = ["ADD_ITEM", "LABELS"]
 
 LABELS: dict[str, str] = {
-    # sections (legends)
+    # sections (legends); a nested section sits among its parent's fields
     "throat": "throat",
     "ramp": "ramp",
     "planform": "wall curve (planform)",
@@ -19,13 +20,11 @@ LABELS: dict[str, str] = {
     "outlet": "outlet and duct",
     "skin": "skin (the panel it sits in)",
     "insert": "printed insert",
-    "insert.holes": "fastener holes",
     "cutter": "cutter solid",
     "plug": "layup plug",
     "template": "marking template",
     "print": "printer",
     "flow": "airflow estimate",
-    "flow.losses": "losses downstream",
     # leaves
     "name": "name (file prefix)",
     "throat.width": "width W",
@@ -41,23 +40,23 @@ LABELS: dict[str, str] = {
     "lip.fairing_length": "fairing length",
     "outlet.kind": "outlet kind",
     "outlet.diameter": "hose inner diameter",
+    "outlet.width": "outlet width",
+    "outlet.height": "outlet height",
     "outlet.transition_length": "transition length",
     "outlet.spigot_length": "spigot / collar length",
     "outlet.fit_clearance": "spigot clearance",
-    "outlet.width": "outlet width",
-    "outlet.height": "outlet height",
     "skin.shape": "shape",
-    "skin.thickness": "skin thickness",
-    "skin.radius": "radius",
-    "skin.axis": "cylinder axis",
-    "skin.side": "side",
-    "skin.radius_streamwise": "radius along the flow",
-    "skin.radius_spanwise": "radius across the flow",
     "skin.file": "panel file",
-    "skin.units": "scan units",
     "skin.at": "ramp start point",
     "skin.flow_direction": "flow direction",
     "skin.outward": "outward direction",
+    "skin.units": "scan units",
+    "skin.radius": "radius",
+    "skin.axis": "cylinder axis",
+    "skin.radius_streamwise": "radius along the flow",
+    "skin.radius_spanwise": "radius across the flow",
+    "skin.side": "side",
+    "skin.thickness": "skin thickness",
     "insert.wall": "wall thickness",
     "insert.flange_width": "flange width",
     "insert.flange_thickness": "flange thickness",
@@ -69,6 +68,7 @@ LABELS: dict[str, str] = {
     "insert.material": "material",
     "insert.near_heat": "near heat",
     "insert.service_temperature": "service temperature",
+    "insert.holes": "fastener holes",
     "insert.holes.count": "number of holes",
     "insert.holes.diameter": "hole diameter",
     "insert.holes.edge_distance": "edge distance",
@@ -98,6 +98,7 @@ LABELS: dict[str, str] = {
     "flow.flow_angle_deg": "flow angle (yaw)",
     "flow.transition_loss": "transition loss method",
     "flow.transition_effectiveness": "transition effectiveness",
+    "flow.losses": "losses downstream",
     "flow.losses[].kind": "kind",
     "flow.losses[].label": "label",
     "flow.losses[].length": "length",

@@ -67,11 +67,13 @@ function kindOf(p) {
   return { kind: "text", numeric: allowsNumber(p), integer: p.type === "integer" };
 }
 
-function orderedProps(model, top) {
+// The root in ORDER; a section's fields in the label table's order (unlabelled ones last).
+function orderedProps(model, prefix) {
   const props = Object.keys(model.properties || {});
-  if (top) return [...ORDER.filter((k) => props.includes(k)), ...props.filter((k) => !ORDER.includes(k))];
-  const req = (model.required || []).filter((k) => props.includes(k));
-  return [...req, ...props.filter((k) => !req.includes(k))];
+  if (!prefix) return [...ORDER.filter((k) => props.includes(k)), ...props.filter((k) => !ORDER.includes(k))];
+  const order = Object.keys(F.labels);
+  const rank = (k) => { const i = order.indexOf(generic(`${prefix}.${k}`)); return i < 0 ? order.length + props.indexOf(k) : i; };
+  return [...props].sort((a, b) => rank(a) - rank(b));
 }
 
 // --- building the form: each builder returns a node with collect() ----------------------
@@ -179,7 +181,7 @@ function objectNode(model, prefix, data, title, top, skip) {
   if (!top && model.description) box.title = model.description;
   const req = model.required || [];
   const children = [];
-  for (const name of orderedProps(model, top)) {
+  for (const name of orderedProps(model, prefix)) {
     if (name === skip) continue; // the union's own selector
     const p = model.properties[name];
     const key = prefix ? `${prefix}.${name}` : name;
