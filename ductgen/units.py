@@ -158,8 +158,10 @@ def _parse_unit_text(text: str, whole: str) -> str:
     return "".join(parts)
 
 
+@lru_cache(maxsize=256)
 def _unit(unit_text: str) -> Any:
-    """pint Unit of a normalised unit text (names and small integer powers only)."""
+    """pint Unit of a normalised unit text (names and small integer powers only); cached,
+    pint units are immutable."""
     reg = ureg()
     out = reg.Unit("")
     for m in re.finditer(r"([*/]?)([^*/]+)(?:\*\*([-+]?\d))?", unit_text):
@@ -188,8 +190,12 @@ def describe_dimension(unit_text: str) -> str:
     return f"quantity of dimension {dims}"
 
 
+@lru_cache(maxsize=4096)
 def rescale(magnitude: float, unit_text: str, to_unit: str) -> float:
     """``magnitude`` in ``unit_text`` expressed in ``to_unit`` (both normalised texts).
+
+    Cached: the design page reads the same values again on every edit, and pint takes about
+    a millisecond per conversion.
 
     Raises:
         ValueError: the units measure different things.

@@ -126,7 +126,7 @@ def stage(name: str) -> None:
         _send(_stage_conn, ("stage", name))
 
 
-def die_with_parent(parent_pid: int, sig: int = signal.SIGKILL) -> None:
+def die_with_parent(parent_pid: int, sig: int = signal.SIGKILL, prctl: bool = True) -> None:
     """Make the calling process die with its parent, on every exit path of the parent
     (crash, ``SIGKILL``, ``SIGTERM``, normal exit).
 
@@ -135,10 +135,14 @@ def die_with_parent(parent_pid: int, sig: int = signal.SIGKILL) -> None:
     ``parent_pid`` is still the parent. Between jobs the child also leaves when its pipe
     to the parent closes (end of file on the socket). Interrupts (``SIGINT`` from the terminal
     reaches the whole process group) are ignored here: the parent decides.
+
+    ``prctl=False`` when the parent started the child from a thread other than its main
+    one: Linux sends the signal when that *thread* ends (a web server's request thread, a
+    page's job thread), not the process, so the checking thread is used instead.
     """
     signal.signal(signal.SIGINT, signal.SIG_IGN)
     armed = False
-    if sys.platform.startswith("linux"):
+    if prctl and sys.platform.startswith("linux"):
         try:
             import ctypes
 
@@ -165,9 +169,11 @@ def die_with_parent(parent_pid: int, sig: int = signal.SIGKILL) -> None:
 _PR_SET_PDEATHSIG = 1
 
 
-def _main(fd: int, memory_mb: int, parent_pid: int = 0) -> None:  # pragma: no cover - child
+def _main(  # pragma: no cover - child
+    fd: int, memory_mb: int, parent_pid: int = 0, prctl: bool = True
+) -> None:
     if parent_pid:
-        die_with_parent(parent_pid)
+        die_with_parent(parent_pid, prctl=prctl)
     # the parent went away or gave up: leave quietly, without a traceback
     with contextlib.suppress(BrokenPipeError, ConnectionError, EOFError, KeyboardInterrupt):
         _child(Connection(fd), memory_mb)
@@ -220,18 +226,22 @@ class KernelWorker:
         self.limits = limits or WorkerLimits.from_env()
         self._proc: Any = None
         self._conn: Any = None
+        # one job at a time: two threads sharing the pipe would interleave their messages
+        # (the design page previews and saves from different request threads)
+        self._lock = threading.RLock()
 
     def _start(self) -> None:
         # A fresh interpreter (not fork: the parent may hold BLAS or GUI threads; not
         # multiprocessing's spawn: it re-runs the caller's __main__).
         ours, theirs = socket.socketpair()
         fd = theirs.fileno()
+        main_thread = threading.current_thread() is threading.main_thread()
         self._proc = subprocess.Popen(
             [
                 sys.executable,
                 "-c",
                 "from ductgen.worker import _main; "
-                f"_main({fd}, {self.limits.memory_mb}, {os.getpid()})",
+                f"_main({fd}, {self.limits.memory_mb}, {os.getpid()}, {main_thread})",
             ],
             pass_fds=(fd,),
             stdin=subprocess.DEVNULL,
@@ -249,6 +259,14 @@ class KernelWorker:
                 pass
         self._kill()
 
+    def stop(self) -> None:
+        """Stop a running job now, from another thread: the child is killed, the waiting
+        :meth:`run` raises :class:`~ductgen.errors.GeometryError` and the next job starts a
+        fresh child."""
+        proc = self._proc
+        if proc is not None and proc.poll() is None:
+            proc.kill()
+
     def _kill(self) -> None:
         if self._proc is not None and self._proc.poll() is None:
             self._proc.kill()
@@ -259,7 +277,14 @@ class KernelWorker:
         self._conn = None
 
     def run(self, target: str, *args: Any, timeout_s: float | None = None, **kwargs: Any) -> Any:
-        """Run ``module:function(*args, **kwargs)`` in the child and return its result."""
+        """Run ``module:function(*args, **kwargs)`` in the child and return its result (a
+        second thread waits for the first one's job)."""
+        with self._lock:
+            return self._run(target, args, kwargs, timeout_s)
+
+    def _run(
+        self, target: str, args: tuple[Any, ...], kwargs: dict[str, Any], timeout_s: float | None
+    ) -> Any:
         if self._proc is None or self._proc.poll() is not None:
             self._start()
         timeout = self.limits.timeout_s if timeout_s is None else timeout_s

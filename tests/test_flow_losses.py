@@ -123,3 +123,28 @@ def test_contraction_k_on_small_end() -> None:
     item = cone.evaluate(0.02, AIR)
     assert item.velocity_m_s == pytest.approx(0.02 / (math.pi * 0.05**2 / 4), rel=1e-12)
     assert item.k == pytest.approx(contraction_conical(0.1, 0.05, angle=30.0, method="Crane"))
+
+
+@pytest.mark.parametrize(
+    ("a_in", "a_out", "angle"),
+    [(0.003, 0.0045, 12.0), (0.003, 0.009, 40.0), (0.003, 0.003, 10.0), (0.004, 0.002, 30.0)],
+)
+@pytest.mark.parametrize("re", [80.0, 2.0e4, 3.0e5])
+def test_one_transition_method_is_that_key_of_every_method(
+    a_in: float, a_out: float, angle: float, re: float
+) -> None:
+    """The solver's single-method K is bit for bit the same as the table of every method
+    (a diffuser, a strong diffuser, no area change, a contraction)."""
+    from ductgen.flow.transition import transition_k, transition_k_by_method
+
+    table = transition_k_by_method(a_in, a_out, angle, re, 0.7)
+    assert set(table) == {
+        "crane",
+        "rennels",
+        "idelchik",
+        "effectiveness",
+        "effectiveness_0.6",
+        "effectiveness_0.8",
+    }
+    for method, k in table.items():
+        assert transition_k(method, a_in, a_out, angle, re, 0.7) == k, method

@@ -75,6 +75,12 @@ def server(page_out: Path):  # type: ignore[no-untyped-def]
 
 @pytest.fixture(scope="module")
 def browser():  # type: ignore[no-untyped-def]
+    yield from chromium()
+
+
+def chromium():  # type: ignore[no-untyped-def]
+    """Headless Chromium through chromedriver, in a profile of its own (a generator: the
+    browser, then it is closed)."""
     exe = _need(shutil.which("chromium") or _exists("/usr/bin/chromium"), "chromium")
     drv = _need(shutil.which("chromedriver") or _exists("/usr/bin/chromedriver"), "chromedriver")
     from selenium import webdriver
@@ -133,8 +139,13 @@ def _shown_mm(d, num: str) -> float:  # type: ignore[no-untyped-def]
     return float(_text(d, f"num-{num}").split()[0])
 
 
-def _open(d, url: str) -> None:  # type: ignore[no-untyped-def]
+def _open(d, url: str, keep: bool = False) -> None:  # type: ignore[no-untyped-def]
+    """Load the page; without ``keep``, from the spec file (edits an earlier test left in
+    the browser's storage are forgotten first)."""
     d.get(url)
+    if not keep:
+        d.execute_script("localStorage.clear()")
+        d.refresh()
     _wait(d, 30, lambda: "up to date" in _text(d, "status"))
 
 

@@ -231,7 +231,7 @@ def test_own_files_inside_the_folder_still_work(live: Live) -> None:
     # init offers the work folder and a save name that is not the package's sample
     init = json.loads(live.request("GET", "/api/init")[1])
     assert init["work_dir"] == str(live.work.resolve())
-    assert init["save_path"] == "inlet.toml"
+    assert init["save_path"] == "club-racer-brake.toml"  # a new name, not the opened file
 
 
 @pytest.mark.slow

@@ -216,7 +216,7 @@ def test_doubly_curved_solids_are_valid_and_closed(tmp_path) -> None:  # type: i
         ({"shape": "cylinder", "radius": 300, "axis": "spanwise"}, "skin.radius", "break out"),
         ({"shape": "doubly", "radius_streamwise": 900}, "skin.radius_spanwise", "needs"),
         ({"shape": "cylinder", "axis": "streamwise"}, "skin.radius", "needs"),
-        ({"shape": "flat", "radius": 500}, "skin.radius", "another skin.shape"),
+        ({"shape": "flat", "radius": 500}, "skin.radius", "not a key of a flat skin"),
     ],
 )
 def test_bad_skins_name_the_key_and_the_limit(skin: dict, key: str, words: str) -> None:

@@ -325,7 +325,7 @@ def panels(tmp_path_factory) -> dict[str, Path]:  # type: ignore[no-untyped-def]
         ("garbage", {}, "skin.file", "STEP reader failed"),
         ("scan", {}, "skin.units", "no units"),
         ("plate", {"units": "mm"}, "skin.units", "states its own units"),
-        ("plate", {"radius": 500}, "skin.radius", "another skin.shape"),
+        ("plate", {"radius": 500}, "skin.radius", "not a key of a panel skin"),
     ],
 )
 def test_bad_panels_name_the_key(panels, panel, skin, key, words) -> None:  # type: ignore[no-untyped-def]

@@ -27,7 +27,7 @@ from ductgen.geometry.panel import (
     convex_curvatures,
     make_panel_skin,
 )
-from ductgen.spec.model import SkinSpec
+from ductgen.spec.model import PanelSkinSpec
 
 __all__ = [
     "MAX_FLOW_OFF_DEG",
@@ -61,11 +61,10 @@ class PanelRegion:
     u_parts: float
 
 
-def _sample(skin: SkinSpec, region: PanelRegion) -> dict[str, Any]:
+def _sample(skin: PanelSkinSpec, region: PanelRegion) -> dict[str, Any]:
     """The worker's samples of the panel round the datum (cached per file version)."""
     from ductgen.worker import default_worker
 
-    assert skin.file is not None and skin.at is not None and skin.flow_direction is not None
     margin_u = 10.0 + 0.05 * (region.u_hi - region.u_lo)
     margin_v = 10.0 + 0.05 * region.v_max
     box = (
@@ -115,7 +114,7 @@ def _off_edge(frame: PanelFrame, x: float, y: float) -> SpecError:
 
 
 def panel_skin(
-    skin: SkinSpec, region: PanelRegion, deep_mm: float, outlet_need: Any
+    skin: PanelSkinSpec, region: PanelRegion, deep_mm: float, outlet_need: Any
 ) -> tuple[PanelSkin, dict[str, Any], list[DesignWarning]]:
     """The skin map of a panel, its report entries and warnings.
 
@@ -136,7 +135,7 @@ def panel_skin(
     if off > MAX_FLOW_OFF_DEG:
         raise SpecError(
             "skin.flow_direction",
-            list(skin.flow_direction or ()),
+            list(skin.flow_direction),
             f"within {MAX_FLOW_OFF_DEG:g}° of the panel's tangent plane at skin.at",
             f"it is {off:.1f}° off the surface: the flow runs along the panel, not into it",
         )
@@ -170,7 +169,7 @@ def panel_skin(
         cx, cy = s["crease_at"]
         raise SpecError(
             "skin.at",
-            list(skin.at or ()),
+            list(skin.at),
             "a place where the panel is smooth under every part",
             f"the inlet runs over a crease near {_where(frame, cx, cy, hf)}: the surface turns "
             f"{s['crease_deg']:.1f}° between samples {x[1] - x[0]:.1f} mm apart",
@@ -300,16 +299,16 @@ def _limits(
 
 
 def _summary(
-    skin: SkinSpec, s: dict[str, Any], ps: PanelSkin, radii: dict[str, Any]
+    skin: PanelSkinSpec, s: dict[str, Any], ps: PanelSkin, radii: dict[str, Any]
 ) -> dict[str, Any]:
     """The panel's entries in ``report.json`` (mm, deg)."""
     axes = ps.frame.axes
     out: dict[str, Any] = {
         "shape": "panel",
         "thickness_mm": skin.thickness,
-        "file": Path(skin.file or "").name,
+        "file": Path(skin.file).name,
         "file_kind": "CAD (STEP)" if s["kind"] == "brep" else "mesh scan",
-        "at_mm": [float(c) for c in skin.at or ()],
+        "at_mm": [float(c) for c in skin.at],
         "datum_mm": [float(c) for c in ps.frame.origin],
         "at_distance_mm": float(s["distance_mm"]),
         "flow_direction": [float(c) for c in axes[0]],

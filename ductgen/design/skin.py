@@ -1,8 +1,8 @@
 """The skin a design sits on: its map, the maps its solids are placed with, and the limits.
 
 ``[skin]`` becomes a :class:`~ductgen.geometry.skin.CurvedSkin` (or the flat identity) here,
-after the checks only the geometry can make: which keys each shape needs, and the smallest
-radius the inlet can wrap (see :func:`skin_from_spec`).
+after the check only the geometry can make: the smallest radius the inlet can wrap (see
+:func:`skin_from_spec`). Which keys each shape takes is the spec's own tagged union.
 """
 
 from __future__ import annotations
@@ -22,7 +22,13 @@ from ductgen.geometry.flatten import Development
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.geometry.panel import PanelSkin, PanelTurnedOver
 from ductgen.geometry.skin import FLAT, CurvedSkin, FlatSkin, TurnedOver
-from ductgen.spec.model import SkinSpec
+from ductgen.spec.model import (
+    CylinderSkinSpec,
+    DoublySkinSpec,
+    FlatSkinSpec,
+    PanelSkinSpec,
+    SkinSpec,
+)
 
 __all__ = [
     "MAX_DISTORTION_PCT",
@@ -49,28 +55,6 @@ def distortion_warnings(dev: Development) -> list[DesignWarning]:
             "hand marking absorbs): mark from the cutter solid or a template formed on the panel",
         )
     ]
-
-
-def _need(
-    skin: SkinSpec,
-    shape: str,
-    given: dict[str, object],
-    needed: tuple[str, ...],
-    optional: tuple[str, ...] = (),
-) -> None:
-    problems = []
-    for key, value in given.items():
-        if key in needed and value is None:
-            problems.append(
-                (f"skin.{key}", None, "a value", f"skin.shape = '{shape}' needs skin.{key}")
-            )
-        if key not in needed and key not in optional and value is not None:
-            problems.append(
-                (f"skin.{key}", value, "not given", f"skin.{key} belongs to another skin.shape")
-            )
-    if problems:
-        raise SpecError.many(problems)  # type: ignore[arg-type]
-    del skin
 
 
 def _extent(g: InletGeometry, layout: FlangeLayout, trim_xy: np.ndarray) -> tuple[float, float]:
@@ -102,39 +86,21 @@ def skin_from_spec(
     it (shape, side, radii in mm, axis; a panel's file, datum and radii); warnings.
 
     Raises:
-        SpecError: a key the shape needs is missing (or one it does not take is given), or a
-            radius is below the smallest the inlet can wrap — the message gives that radius
+        SpecError: a radius is below the smallest the inlet can wrap — the message gives that radius
             and the reason (depth inside a convex skin, wrap angle, the straight outlet
             breaking out of the skin); a panel's file, datum or flow direction is unusable.
     """
-    given = {
-        "radius": skin.radius,
-        "axis": skin.axis,
-        "radius_streamwise": skin.radius_streamwise,
-        "radius_spanwise": skin.radius_spanwise,
-        "file": skin.file,
-        "units": skin.units,
-        "at": skin.at,
-        "flow_direction": skin.flow_direction,
-        "outward": skin.outward,
-    }
     summary = _summary(skin)
-    if skin.shape == "flat":
-        _need(skin, "flat", given, ())
+    if isinstance(skin, FlatSkinSpec):
         return FLAT, summary, []
-    if skin.shape == "panel":
-        _need(skin, "panel", given, ("file", "at", "flow_direction"), ("units", "outward"))
+    if isinstance(skin, PanelSkinSpec):
         return _panel(skin, g, layout, trim_xy, spigot, wall)
     sign = 1.0 if skin.side == "convex" else -1.0
-    if skin.shape == "cylinder":
-        _need(skin, "cylinder", given, ("radius", "axis"))
-        assert skin.radius is not None
+    if isinstance(skin, CylinderSkinSpec):
         keys = {"stream": "skin.radius", "span": "skin.radius"}
         k_stream = sign / skin.radius if skin.axis == "spanwise" else 0.0
         k_span = sign / skin.radius if skin.axis == "streamwise" else 0.0
     else:
-        _need(skin, "doubly", given, ("radius_streamwise", "radius_spanwise"))
-        assert skin.radius_streamwise is not None and skin.radius_spanwise is not None
         keys = {"stream": "skin.radius_streamwise", "span": "skin.radius_spanwise"}
         k_stream, k_span = sign / skin.radius_streamwise, sign / skin.radius_spanwise
     v_max, u_max = _extent(g, layout, trim_xy)
@@ -173,11 +139,10 @@ def skin_from_spec(
 def _summary(skin: SkinSpec) -> dict[str, Any]:
     """``[skin]`` as the report and the sheet state it (mm)."""
     out: dict[str, Any] = {"shape": skin.shape, "thickness_mm": skin.thickness}
-    if skin.shape in ("cylinder", "doubly"):
+    if isinstance(skin, CylinderSkinSpec):
+        out |= {"side": skin.side, "radius_mm": skin.radius, "axis": skin.axis}
+    elif isinstance(skin, DoublySkinSpec):
         out["side"] = skin.side
-    if skin.shape == "cylinder":
-        out |= {"radius_mm": skin.radius, "axis": skin.axis}
-    if skin.shape == "doubly":
         out |= {"radius_streamwise_mm": skin.radius_streamwise}
         out |= {"radius_spanwise_mm": skin.radius_spanwise}
     return out
@@ -188,7 +153,7 @@ PANEL_MARGIN_MM = 30.0
 
 
 def _panel(
-    skin: SkinSpec,
+    skin: PanelSkinSpec,
     g: InletGeometry,
     layout: FlangeLayout,
     trim_xy: np.ndarray,

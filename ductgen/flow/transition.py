@@ -24,6 +24,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from functools import lru_cache
 from typing import Literal
 
 from fluids.fittings import contraction_conical, diffuser_conical
@@ -37,6 +38,7 @@ __all__ = [
     "FLUIDS_METHODS",
     "TransitionElement",
     "ideal_pressure_recovery",
+    "transition_k",
     "transition_k_by_method",
 ]
 
@@ -59,6 +61,45 @@ def _smooth_fd(reynolds: float) -> float:
     """Darcy friction factor of a smooth wall (``fluids.friction_factor``: laminar 64/Re
     below transition, Clamond's Colebrook solution above; safe at any Re > 0)."""
     return float(friction_factor(Re=max(reynolds, 1.0), eD=0.0))
+
+
+@lru_cache(maxsize=1024)
+def _fixed_k(d1: float, d2: float, angle: float, method: str) -> float:
+    """A diffuser K that does not depend on the Reynolds number (cached: the operating-point
+    solver asks for it at every trial flow)."""
+    return float(diffuser_conical(d1, d2, angle=angle, method=method))
+
+
+def _diffuser_k(d1: float, d2: float, angle: float, method: str, reynolds: float) -> float:
+    if method == "Rennels":
+        return float(diffuser_conical(d1, d2, angle=angle, fd=_smooth_fd(reynolds), method=method))
+    return _fixed_k(d1, d2, angle, method)
+
+
+def transition_k(
+    method: str,
+    a_in_m2: float,
+    a_out_m2: float,
+    included_angle_deg: float,
+    reynolds: float,
+    effectiveness: float,
+) -> float:
+    """K of one method: ``transition_k_by_method(...)[method]``, computing only that one."""
+    d1, d2 = _diameter(a_in_m2), _diameter(a_out_m2)
+    if abs(d2 / d1 - 1.0) < 1e-9:
+        return 0.0
+    angle = min(max(abs(included_angle_deg), 1e-6), 180.0)
+    if d2 < d1:
+        return float(contraction_conical(d1, d2, angle=angle, method="Crane"))
+    if method in FLUIDS_METHODS:
+        return _diffuser_k(d1, d2, angle, FLUIDS_METHODS[method], reynolds)
+    cp = ideal_pressure_recovery(a_out_m2 / a_in_m2)
+    if method == "effectiveness":
+        return (1.0 - effectiveness) * cp
+    for e in BLEVINS_EFFECTIVENESS_RANGE:
+        if method == f"effectiveness_{e:g}":
+            return (1.0 - e) * cp
+    raise KeyError(method)
 
 
 def transition_k_by_method(
@@ -90,12 +131,7 @@ def transition_k_by_method(
         k = float(contraction_conical(d1, d2, angle=angle, method="Crane"))
         return dict.fromkeys(keys, k)
     out = {
-        key: float(
-            diffuser_conical(d1, d2, angle=angle, fd=_smooth_fd(reynolds), method=method)
-            if method == "Rennels"
-            else diffuser_conical(d1, d2, angle=angle, method=method)
-        )
-        for key, method in FLUIDS_METHODS.items()
+        key: _diffuser_k(d1, d2, angle, method, reynolds) for key, method in FLUIDS_METHODS.items()
     }
     cp = ideal_pressure_recovery(a_out_m2 / a_in_m2)
     out["effectiveness"] = (1.0 - effectiveness) * cp
@@ -138,11 +174,18 @@ class TransitionElement(Element):
         )
 
     def evaluate(self, q_m3_s: float, air: Air) -> BudgetItem:
-        ks = self.k_by_method(q_m3_s, air)
-        if self.pick == "min":
-            k = min(ks.values())
-        elif self.pick == "max":
-            k = max(ks.values())
+        if self.pick == "method":  # one method's K only (the solver calls this a lot)
+            a = self.velocity_area_m2
+            re = q_m3_s / a * _diameter(a) / air.kinematic_viscosity_m2_s
+            k = transition_k(
+                self.method,
+                self.a_in_m2,
+                self.a_out_m2,
+                self.included_angle_deg,
+                re,
+                self.effectiveness,
+            )
         else:
-            k = ks[self.method]
+            ks = self.k_by_method(q_m3_s, air)
+            k = min(ks.values()) if self.pick == "min" else max(ks.values())
         return budget_item(self.name, q_m3_s / self.velocity_area_m2, k, air)

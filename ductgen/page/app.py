@@ -17,7 +17,16 @@ from ductgen.errors import SpecError
 from ductgen.page.guard import SPEC_SUFFIXES, PathRefused, WorkFolder, new_secret
 from ductgen.page.jobs import MAX_SWEEP_VARIANTS, JobRunner
 
-__all__ = ["FILE_KEYS", "DesignApp"]
+__all__ = ["FILE_KEYS", "PANEL_SUFFIXES", "DesignApp"]
+
+#: Files a panel skin may be read from (``skin.file``): STEP, or a mesh scan.
+PANEL_SUFFIXES = (".step", ".stp", ".stl", ".obj", ".ply")
+
+#: The panel file list stops here (a work folder is a project folder, not a disk).
+MAX_LISTED = 200
+
+#: Folders the panel file list does not walk into.
+_SKIPPED = (".git", ".venv", "node_modules", "__pycache__")
 
 #: Spec keys that name a file (read relative to the spec's folder): the page lets them name
 #: files inside the work folder only (or the starting spec's own folder).
@@ -48,6 +57,7 @@ class DesignApp:
     # --- what the page starts with ---------------------------------------------------------
     def init(self) -> dict[str, Any]:
         from ductgen.page.fields import schema_json, unit_hints
+        from ductgen.page.labels import ADD_ITEM, LABELS
         from ductgen.pipeline.builder import output_kinds, package_version
 
         name = str(self.data.get("name") or "ductgen") if isinstance(self.data, dict) else ""
@@ -55,11 +65,14 @@ class DesignApp:
         return {
             "schema": schema_json(),
             "units": unit_hints(),
+            "labels": LABELS,
+            "add_item": ADD_ITEM,
             "data": self.data,
             "spec_path": start,
             "work_dir": str(self.work.root),
             "save_path": self._save_default(name),
             "out_dir": self.work.show(self.out_dir) if self.out_dir else name,
+            "sweep_dir": f"{name}-sweep",
             "output_kinds": output_kinds(),
             "max_sweep_variants": MAX_SWEEP_VARIANTS,
             "version": package_version(),
@@ -72,14 +85,24 @@ class DesignApp:
         return self.work.show(self.spec_path)
 
     def _save_default(self, name: str) -> str:
-        """Save as: the opened file when it is a ``.toml`` spec of the user's inside the work
-        folder; otherwise a new name there (never a file inside the installed package)."""
-        if self.spec_path is not None and self.spec_path.suffix.lower() == ".toml":
-            try:
-                return self.work.show(self.work.writable(str(self.spec_path), "save as"))
-            except PathRefused:
-                pass
+        """Save as: a new name in the work folder (the spec's name, then ``-2``, ``-3``...),
+        so a save never lands on the opened file, nor inside the installed package, unless
+        the user types that name and ticks the box."""
         return self.work.free_name(name or "ductgen")
+
+    def panel_files(self) -> list[str]:
+        """STEP/STL/OBJ/PLY files inside the work folder (relative names, sorted; no
+        symbolic links, no hidden folders; at most :data:`MAX_LISTED`)."""
+        found: list[str] = []
+        for dirpath, dirs, names in os.walk(self.work.root):  # os.walk does not follow links
+            dirs[:] = sorted(d for d in dirs if not d.startswith(".") and d not in _SKIPPED)
+            for fn in sorted(names):
+                p = Path(dirpath) / fn
+                if p.suffix.lower() in PANEL_SUFFIXES and not p.is_symlink() and p.is_file():
+                    found.append(p.relative_to(self.work.root).as_posix())
+                    if len(found) >= MAX_LISTED:
+                        return found
+        return found
 
     # --- paths from requests ---------------------------------------------------------------
     def base_dir(self, body: dict[str, Any]) -> Path:

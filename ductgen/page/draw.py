@@ -8,17 +8,26 @@
 
 Flow runs left to right in both. Drawn in mm (the viewBox is in mm, y/z flipped so the
 drawing reads as seen from outside and from the side); strokes do not scale.
+
+On a curved skin or the user's panel the section is drawn on the skin: every point of the
+centreline section goes through the design's maps (depths along the normal), as the solids
+do. The plan is the opening developed flat, as the template is; :func:`skin_caption` says
+which of the two drawings is flat and by how much the development stretches lengths.
 """
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from html import escape
+from typing import Any
 
 import numpy as np
 
 from ductgen.design import Design
 
-__all__ = ["plan_svg", "section_svg"]
+__all__ = ["SKIN_CAPTIONS", "plan_svg", "section_svg", "skin_caption"]
+
+XZ = Callable[[np.ndarray], np.ndarray]
 
 _INK = "#1d2b36"
 _OPENING = "#2f6f73"
@@ -29,8 +38,8 @@ _AIR = "#dcecf2"
 
 
 def _pts(xy: np.ndarray, flip: bool = True) -> str:
-    s = -1.0 if flip else 1.0
-    return " ".join(f"{x:.2f},{s * y:.2f}" for x, y in np.asarray(xy))
+    p = np.round(np.asarray(xy, dtype=float).reshape(-1, 2) * (1.0, -1.0 if flip else 1.0), 2)
+    return " ".join(map("{:.2f},{:.2f}".format, p[:, 0].tolist(), p[:, 1].tolist()))
 
 
 def _line(x1: float, y1: float, x2: float, y2: float, cls: str = "ln", extra: str = "") -> str:
@@ -98,7 +107,8 @@ def plan_svg(d: Design) -> str:
     """Plan view of the opening and the flange seen from outside (flow left to right)."""
     g, lay = d.geometry, d.layout
     w, length = g.width_mm, g.length_mm
-    outline = lay.outline_xy
+    flat = d.development.xy  # the template's flattening; the identity where it is exact
+    outline = flat(lay.outline_xy)
     x0, x1 = float(outline[:, 0].min()), float(outline[:, 0].max())
     y0, y1 = float(outline[:, 1].min()), float(outline[:, 1].max())
     t = g.transition
@@ -109,7 +119,7 @@ def plan_svg(d: Design) -> str:
     gap = fs * 2.2
     parts = [
         f'<polygon id="plan-flange" points="{_pts(outline)}" fill="{_FLANGE}" class="ln"/>',
-        f'<polygon id="plan-cutout" points="{_pts(lay.cutout_xy)}" class="thin"/>',
+        f'<polygon id="plan-cutout" points="{_pts(flat(lay.cutout_xy))}" class="thin"/>',
     ]
     if t is not None:
         half_out = t.outlet_width_mm / 2.0
@@ -126,10 +136,11 @@ def plan_svg(d: Design) -> str:
         )
         parts.append(f'<polyline id="plan-transition" points="{_pts(foot)}" class="thin"/>')
     parts.append(
-        f'<polygon id="plan-opening" points="{_pts(lay.opening_xy)}" fill="{_OPENING}" class="ln"/>'
+        f'<polygon id="plan-opening" points="{_pts(flat(lay.opening_xy))}" fill="{_OPENING}" '
+        'class="ln"/>'
     )
     r = lay.hole_diameter_mm / 2.0
-    for hx, hy in lay.hole_centres_xy:
+    for hx, hy in flat(lay.hole_centres_xy):
         parts.append(
             f'<circle class="ln hole" fill="#ffffff" cx="{hx:.2f}" cy="{-hy:.2f}" r="{r:.2f}"/>'
         )
@@ -173,14 +184,46 @@ def plan_svg(d: Design) -> str:
     )
 
 
+def _dense(pts: list[tuple[float, float]] | np.ndarray, step: float) -> np.ndarray:
+    """A polyline with extra points so no segment is longer than ``step`` (mm)."""
+    p = np.asarray(pts, dtype=float)
+    d = np.diff(p, axis=0)
+    n = np.maximum(1, np.ceil(np.linalg.norm(d, axis=1) / step)).astype(int)
+    seg = np.repeat(np.arange(len(d)), n)  # each new point's segment
+    k = np.arange(len(seg)) - np.repeat(np.cumsum(n) - n, n) + 1  # 1..n within it
+    t = (k / n[seg])[:, None]
+    return np.vstack([p[:1], p[seg] + d[seg] * t])
+
+
+def _section_maps(d: Design) -> tuple[XZ, XZ] | None:
+    """Design (u, w) on the centreline → drawn (x, z), for the parts (the duct straightens
+    to its outlet) and for the skin; None on a flat skin."""
+    if d.skin.is_flat:
+        return None
+    frame = d.panel_frame
+
+    def make(f: Callable[[np.ndarray], np.ndarray]) -> XZ:
+        def m(uw: np.ndarray) -> np.ndarray:
+            uw = np.asarray(uw, dtype=float)
+            p = f(np.column_stack([uw[:, 0], np.zeros(len(uw)), uw[:, 1]]))
+            if frame is not None:
+                p = frame.to_local(p)
+            return p[:, [0, 2]]
+
+        return m
+
+    return make(d.placement.solid_map), make(d.skin.to_model)
+
+
 def section_svg(d: Design, samples: int = 160) -> str:
-    """Centreline section (flow left to right, outer skin at the top)."""
+    """Centreline section (flow left to right, outer skin at the top); on a curved skin
+    drawn on the skin (see the module text)."""
     g = d.geometry
     fl, lip, t = g.floor, g.lip, g.transition
     length, h = g.length_mm, g.drop_mm
     x_end = g.outlet_x_mm + g.spigot_length_mm
     xs = np.linspace(0.0, g.throat_end_mm, samples)
-    floor = [(float(x), float(-fl.depth(x))) for x in xs]
+    floor = list(zip(xs.tolist(), (-fl.depth(xs)).tolist(), strict=True))
     roof = [(lip.nose_end_mm, lip.roof_z_mm), (g.throat_end_mm, lip.roof_z_mm)]
     if t is not None:
         bottom = t.outlet_top_z_mm - t.outlet_height_mm
@@ -194,17 +237,32 @@ def section_svg(d: Design, samples: int = 160) -> str:
     xu = -0.12 * span
     air = [(0.0, 0.0), *floor, *roof[::-1], (length, lip.centre_z_mm), (length, 0.0)]
     body = [*lip.nose(), *roof, (x_end, max(0.0, lip.centre_z_mm + lip.semi_minor_mm))]
+    x_far = x_end + gap
+    table = getattr(d.skin, "u", None)  # the user's panel is mapped over a table only
+    if isinstance(table, np.ndarray) and table.size:
+        xu, x_far = max(xu, float(table[0])), min(x_far, float(table[-1]))
+    skin_a = [(xu, 0.0), (0.0, 0.0), (0.0, -ts), (xu, -ts)]
+    skin_b = [(lip.nose_end_mm, 0.0), (x_far, 0.0), (x_far, -ts), (lip.nose_end_mm, -ts)]
+    top = [(xu, 0.0), (x_far, 0.0)]
+    maps = _section_maps(d)
+    shapes = {"air": air, "floor": floor, "roof": roof, "body": body}
+    skins = {"a": skin_a, "b": skin_b, "top": top}
+    if maps is not None:
+        step = span / 60.0
+        shapes = {k: maps[0](_dense(v, step)) for k, v in shapes.items()}  # type: ignore[misc]
+        skins = {k: maps[1](_dense(v, step)) for k, v in skins.items()}  # type: ignore[misc]
+    pts = {k: _pts(np.array(v)) for k, v in (shapes | skins).items()}
     parts = [
-        f'<polygon id="section-air" points="{_pts(np.array(air))}" fill="{_AIR}"/>',
-        f'<rect x="{xu:.2f}" y="0" width="{-xu:.2f}" height="{ts:.2f}" fill="{_SKIN}" '
-        'class="ln" id="section-skin"/>',
-        f'<rect x="{lip.nose_end_mm:.2f}" y="0" width="{x_end + gap - lip.nose_end_mm:.2f}" '
-        f'height="{ts:.2f}" fill="{_SKIN}" class="ln"/>',
-        f'<polyline id="section-floor" points="{_pts(np.array(floor))}" class="ln" fill="none"/>',
-        f'<polyline id="section-roof" points="{_pts(np.array(roof))}" class="ln" fill="none"/>',
-        f'<polygon id="section-lip" points="{_pts(np.array(body))}" fill="{_OPENING}" class="ln"/>',
-        _line(xu, 0.0, x_end + gap, 0.0, "ln"),
+        f'<polygon id="section-air" points="{pts["air"]}" fill="{_AIR}"/>',
+        f'<polygon points="{pts["a"]}" fill="{_SKIN}" class="ln" id="section-skin"/>',
+        f'<polygon points="{pts["b"]}" fill="{_SKIN}" class="ln"/>',
+        f'<polyline id="section-floor" points="{pts["floor"]}" class="ln" fill="none"/>',
+        f'<polyline id="section-roof" points="{pts["roof"]}" class="ln" fill="none"/>',
+        f'<polygon id="section-lip" points="{pts["body"]}" fill="{_OPENING}" class="ln"/>',
+        f'<polyline id="section-top" points="{pts["top"]}" class="ln" fill="none"/>',
     ]
+    drawn = np.vstack([np.asarray(v, dtype=float) for v in (shapes | skins).values()])
+    zmin = min(zmin, float(drawn[:, 1].min()))
     if t is not None:
         parts.append(_line(t.x_start_mm, 0.0, t.x_start_mm, -zmin + gap * 0.3, "thin"))
     # L above the skin, H at the lip station, the ramp angle along the ramp
@@ -213,16 +271,31 @@ def section_svg(d: Design, samples: int = 160) -> str:
     parts.append(_line(length, 0.0, length, yd - 0.5 * fs, "thin"))
     parts.append(_dim((0.0, yd), (length, yd), f"L {length:.1f}", fs, "L"))
     xh = length - 0.18 * length
-    parts.append(_line(xh - fs, h, length, h, "thin"))
-    parts.append(_dim((xh, 0.0), (xh, h), f"H {h:.1f}", fs, "H"))
+
+    def at(u: float, depth: float) -> tuple[float, float]:
+        """SVG point of design (u, w = −depth): mapped onto the skin when it is curved."""
+        if maps is None:
+            return u, depth
+        x, z = maps[0](np.array([[u, -depth]]))[0]
+        return float(x), float(-z)
+
+    parts.append(_line(*at(xh - fs, h), *at(length, h), "thin"))
+    parts.append(_dim(at(xh, 0.0), at(xh, h), f"H {h:.1f}", fs, "H"))
     xa, _ = fl.arc_end_mm
     xm = 0.5 * (xa + length)
     zm = float(fl.depth(xm))
+    if maps is not None:  # turn the label with the skin's slope there
+        (x_a, z_a), (x_b, z_b) = at(xm - 1.0, zm), at(xm + 1.0, zm)
+        slope = float(np.degrees(np.arctan2(z_b - z_a, x_b - x_a)))
+        xm, zm = at(xm, zm)
+        th_rot = fl.angle_deg + slope
+    else:
+        th_rot = fl.angle_deg
     th = fl.angle_deg
     label = f"{th:.2f}°" + (f", entry R {fl.entry_radius_mm:g}" if fl.entry_radius_mm else "")
     parts.append(
         f'<text x="{xm:.2f}" y="{zm + 1.6 * fs:.2f}" font-size="{fs:.2f}" text-anchor="middle" '
-        f'transform="rotate({th:.3f} {xm:.2f} {zm:.2f})">ramp {escape(label)}</text>'
+        f'transform="rotate({th_rot:.3f} {xm:.2f} {zm:.2f})">ramp {escape(label)}</text>'
     )
     parts.append(_text(xu, yd - 1.5 * fs, "flow →", fs, anchor="start"))
     if t is not None:
@@ -238,10 +311,64 @@ def section_svg(d: Design, samples: int = 160) -> str:
     ymax = -zmin + 3 * fs
     return _frame(
         "section",
-        xu - gap,
-        yd - 3 * fs,
-        x_end + 3 * gap,
+        min(xu, float(drawn[:, 0].min())) - gap,
+        min(yd, -float(drawn[:, 1].max())) - 3 * fs,
+        max(x_end, float(drawn[:, 0].max())) + 3 * gap,
         max(ymax, h + 3 * fs),
         "".join(parts),
         f"centreline section of {d.name}",
     )
+
+
+def _flat_caption(d: Design, skin: dict[str, Any]) -> str:
+    return "flat skin: both drawings are true to scale"
+
+
+def _curved_caption(d: Design, skin: dict[str, Any]) -> str:
+    shape = skin["shape"]
+    if shape == "cylinder":
+        what = f"cylinder R {skin['radius_mm']:g} mm ({skin['side']}, axis {skin['axis']})"
+        along = skin["axis"] == "spanwise"
+    else:
+        what = (
+            f"doubly curved R {skin['radius_streamwise_mm']:g} along / "
+            f"{skin['radius_spanwise_mm']:g} across mm ({skin['side']})"
+        )
+        along = True
+    section = (
+        "section drawn on the curved skin, depths along its normal"
+        if along
+        else "the skin curves across the flow only, so the centreline section is true"
+    )
+    return f"{what}: {section}; plan drawn flat as the developed opening ({_stretch(d)})"
+
+
+def _panel_caption(d: Design, skin: dict[str, Any]) -> str:
+    return (
+        f"your panel {skin.get('file', '')}: section drawn on the panel along the centreline "
+        f"(its frame at the datum, x along the flow); plan drawn flat as the developed "
+        f"opening ({_stretch(d)})"
+    )
+
+
+def _stretch(d: Design) -> str:
+    dev = d.development
+    if dev.exact:
+        return "developed exactly"
+    return f"lengths stretched up to {dev.max_length_distortion_pct:.2f} %"
+
+
+#: ``skin.shape`` → the caption under the drawings (total over the spec's shapes).
+SKIN_CAPTIONS: dict[str, Callable[[Design, dict[str, Any]], str]] = {
+    "flat": _flat_caption,
+    "cylinder": _curved_caption,
+    "doubly": _curved_caption,
+    "panel": _panel_caption,
+}
+
+
+def skin_caption(d: Design) -> str:
+    """What the two drawings show of the skin: which one is drawn flat, and how much the
+    developed plan stretches lengths."""
+    skin = dict(d.skin_summary)
+    return SKIN_CAPTIONS[str(skin.get("shape", "flat"))](d, skin)

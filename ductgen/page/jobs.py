@@ -24,7 +24,14 @@ from ductgen.errors import DuctgenError, SpecError, excerpt
 from ductgen.page.preview import check_spec, problem_lines
 from ductgen.spec.write import spec_text
 
-__all__ = ["MAX_SWEEP_VARIANTS", "Busy", "JobRunner", "absolute_tables", "written_since"]
+__all__ = [
+    "MAX_SWEEP_VARIANTS",
+    "Busy",
+    "Cancelled",
+    "JobRunner",
+    "absolute_tables",
+    "written_since",
+]
 
 #: The page runs small sweeps only; larger grids belong to ``ductgen sweep``.
 MAX_SWEEP_VARIANTS = 12
@@ -41,6 +48,11 @@ class Busy(Exception):
             f"(stage {state.get('stage')}, {age:.0f} s); one build at a time, "
             "wait for it to finish"
         )
+
+
+class Cancelled(Exception):
+    """The user pressed Cancel: the build stops at the next stage (or at once, when the
+    kernel worker is stopped) and its staged files are thrown away."""
 
 
 def absolute_tables(data: dict[str, Any], base_dir: Path | None) -> dict[str, Any]:
@@ -78,21 +90,68 @@ def written_since(folder: Path, since: float) -> list[str]:
     return sorted(names)
 
 
+def _stop_default_worker() -> None:
+    from ductgen.worker import default_worker
+
+    default_worker().stop()
+
+
 class JobRunner:
     """Runs at most one build or sweep at a time and reports its progress."""
 
-    def __init__(self) -> None:
+    def __init__(self, stop_kernel: Callable[[], None] | None = None) -> None:
         self._busy = threading.Lock()
         self._guard = threading.Lock()
+        self._cancel = threading.Event()
         self._state: dict[str, Any] = {"id": 0, "status": "idle"}
+        self._last_s: dict[str, float] = {}  # seconds of the last finished job, per kind
+        self._stop_kernel = stop_kernel or _stop_default_worker
 
     def snapshot(self) -> dict[str, Any]:
-        """A copy of the current (or last) job's state, JSON-ready."""
+        """A copy of the current (or last) job's state, JSON-ready: ``stage``, ``stage_k``
+        of ``stage_n``, ``elapsed_s`` and ``estimate_s`` (the last such job's seconds)."""
         with self._guard:
             s = dict(self._state)
+            if "stages" in s:
+                s["stages"] = list(s["stages"])
         if s.get("status") == "running":
             s["elapsed_s"] = time.time() - s["started"]
         return s
+
+    def cancel(self) -> dict[str, Any]:
+        """Stop the running build: nothing it staged is published. Refused (the snapshot
+        says why) when no build runs or it is already publishing."""
+        with self._guard:
+            s = self._state
+            if s.get("status") != "running" or s.get("kind") != "build":
+                return {**self._snap_locked(), "cancel": "nothing to cancel"}
+            if s.get("stage") == "publish":
+                return {**self._snap_locked(), "cancel": "too late: the files are written"}
+            self._cancel.set()
+            s["cancelling"] = True
+        self._stop_kernel()  # the kernel stage ends now; the next stage would raise anyway
+        return self.snapshot()
+
+    def _snap_locked(self) -> dict[str, Any]:
+        """:meth:`snapshot` for a caller already holding the state lock (stages left out)."""
+        s = dict(self._state)
+        if s.get("status") == "running":
+            s["elapsed_s"] = time.time() - s["started"]
+        return s
+
+    def _stage(self, stage: str, k: int | None = None, n: int | None = None) -> None:
+        """Record the stage reached (its place in the plan, or ``k`` of ``n``); raise
+        :class:`Cancelled` when Cancel was pressed."""
+        with self._guard:
+            if self._cancel.is_set():
+                raise Cancelled()
+            st = self._state
+            stages = st.setdefault("stages", [])
+            if k is None:
+                if stage not in stages:  # an unplanned stage (the insert split): after this one
+                    stages.insert(int(st.get("stage_k", 1)), stage)
+                k, n = stages.index(stage) + 1, len(stages)
+            st.update(stage=stage, stage_k=k, stage_n=n)
 
     def out_dir(self) -> Path | None:
         """The folder of the last finished job, whose files the page may download."""
@@ -105,10 +164,16 @@ class JobRunner:
             self._state.update(kw)
 
     def _start(
-        self, kind: str, name: str, out_dir: Path, work: Callable[[], dict[str, Any]]
+        self,
+        kind: str,
+        name: str,
+        out_dir: Path,
+        work: Callable[[], dict[str, Any]],
+        stages: list[str] | None = None,
     ) -> dict[str, Any]:
         if not self._busy.acquire(blocking=False):
             raise Busy(self.snapshot())
+        self._cancel.clear()
         with self._guard:
             job_id = int(self._state.get("id", 0)) + 1
             self._state = {
@@ -117,14 +182,29 @@ class JobRunner:
                 "name": name,
                 "status": "running",
                 "stage": "starting",
+                "stage_k": 0,
+                "stage_n": len(stages or ()),
+                "stages": list(stages or ()),
                 "started": time.time(),
                 "out_dir": str(out_dir),
             }
+            if kind in self._last_s:
+                self._state["estimate_s"] = self._last_s[kind]
 
         def run() -> None:
             try:
                 extra = work()
                 self._update(status="done", stage="done", **extra)
+                with self._guard:
+                    self._last_s[kind] = time.time() - self._state["started"]
+            except Exception:
+                if not self._cancel.is_set():
+                    raise
+                self._update(status="cancelled", message="cancelled: nothing was published")
+
+        def guarded() -> None:
+            try:
+                run()
             except SpecError as err:
                 self._update(status="failed", message=str(err), problems=problem_lines(err))
             except DuctgenError as err:
@@ -138,7 +218,7 @@ class JobRunner:
                 self._update(seconds=time.time() - self._state["started"])
                 self._busy.release()
 
-        threading.Thread(target=run, name=f"ductgen-page-{kind}", daemon=True).start()
+        threading.Thread(target=guarded, name=f"ductgen-page-{kind}", daemon=True).start()
         return self.snapshot()
 
     # --- a build --------------------------------------------------------------------------
@@ -160,7 +240,7 @@ class JobRunner:
             Busy: a job is running.
         """
         from ductgen.pipeline import build
-        from ductgen.pipeline.builder import planned_files, select_kinds
+        from ductgen.pipeline.builder import planned_files, planned_stages, select_kinds
 
         spec, design = check_spec(data, base_dir)
         kinds = select_kinds(only)
@@ -174,7 +254,7 @@ class JobRunner:
                 only=kinds,
                 force=force,
                 quality=quality,
-                progress=lambda stage: self._update(stage=stage),
+                progress=self._stage,
                 design=design,
             )
             files = [{"kind": k, "name": n} for k, n in result.report["files"].items()]
@@ -183,7 +263,7 @@ class JobRunner:
             solids = [k for k in ("cutter", "insert", "plug") if f"{k}_stl" in names]
             return {"files": files, "solids": solids, "written": [f["name"] for f in files]}
 
-        return self._start("build", spec.name, out, work)
+        return self._start("build", spec.name, out, work, planned_stages(spec, kinds))
 
     # --- a sweep of one key ---------------------------------------------------------------
     def start_sweep(
@@ -227,7 +307,7 @@ class JobRunner:
                 path.write_text(text, encoding="utf-8")
 
                 def progress(_r: Any, done: int, failed: int, total: int) -> None:
-                    self._update(stage=f"{done} of {total} variants ({failed} failed)")
+                    self._stage(f"{done} of {total} variants ({failed} failed)", done, total)
 
                 result = run_sweep(path, [vary], out, only=only, progress=progress)
             failed = [f"{r.id}: {r.error}" for r in result.failed]

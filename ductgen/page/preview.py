@@ -7,12 +7,15 @@ Computed from :func:`~ductgen.design.build_design` and
 
 from __future__ import annotations
 
+import copy
+import threading
 from pathlib import Path
 from typing import Any
 
 from ductgen.design import Design, build_design
 from ductgen.errors import DesignWarning, DuctgenError, SpecError
-from ductgen.page.draw import plan_svg, section_svg
+from ductgen.page.draw import plan_svg, section_svg, skin_caption
+from ductgen.page.panel_view import panel_svg
 from ductgen.spec import Spec, parse_spec
 
 __all__ = ["check_spec", "flow_rows", "key_numbers", "preview", "problem_lines"]
@@ -98,6 +101,30 @@ def flow_rows(flow: dict[str, Any]) -> list[dict[str, Any]]:
     return rows
 
 
+#: The airflow of recent (flow section, duct) pairs: an edit of the ramp, the lip or the
+#: flange leaves the airflow inputs as they were, and its operating point takes most of a
+#: redraw's time (dozens of root-finder steps through the loss models).
+_FLOW_CACHE: dict[str, tuple[dict[str, Any], list[DesignWarning]]] = {}
+_FLOW_CACHE_SIZE = 32
+_FLOW_LOCK = threading.Lock()
+
+
+def _flow(spec: Spec, d: Design) -> tuple[dict[str, Any], list[DesignWarning]]:
+    from ductgen.flow.report import flow_section
+
+    assert spec.flow is not None
+    key = spec.flow.model_dump_json() + repr(d.duct)
+    with _FLOW_LOCK:
+        hit = _FLOW_CACHE.get(key)
+    if hit is None:
+        hit = flow_section(spec.flow, d.duct)
+        with _FLOW_LOCK:
+            if len(_FLOW_CACHE) >= _FLOW_CACHE_SIZE:
+                _FLOW_CACHE.pop(next(iter(_FLOW_CACHE)))
+            _FLOW_CACHE[key] = hit
+    return copy.deepcopy(hit[0]), list(hit[1])
+
+
 def _warnings(ws: list[DesignWarning]) -> list[dict[str, str]]:
     return [{"code": w.code, "message": w.message} for w in ws]
 
@@ -119,9 +146,7 @@ def preview(data: Any, base_dir: Path | None = None) -> dict[str, Any]:
     flow: dict[str, Any] | None = None
     meets = None
     if spec.flow is not None:
-        from ductgen.flow.report import flow_section
-
-        section, fw = flow_section(spec.flow, d.duct)
+        section, fw = _flow(spec, d)
         warnings += fw
         flow = {
             "rows": flow_rows(section),
@@ -138,4 +163,6 @@ def preview(data: Any, base_dir: Path | None = None) -> dict[str, Any]:
         "warnings": _warnings(warnings),
         "plan_svg": plan_svg(d),
         "section_svg": section_svg(d),
+        "skin_caption": skin_caption(d),
+        "panel_svg": panel_svg(d),
     }

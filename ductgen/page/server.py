@@ -10,6 +10,8 @@ Routes (all answers are JSON unless a file is asked for):
 * ``POST /api/preview`` spec data → numbers, drawings, airflow, warnings or problems;
 * ``POST /api/build``, ``POST /api/sweep`` start the one background job; ``GET /api/job``
   its progress; ``GET /out/JOB/NAME`` a file job JOB of this run wrote;
+* ``POST /api/cancel`` stops the running build (nothing it staged is published);
+* ``GET /api/panel-files`` the STEP/STL/OBJ/PLY files inside the work folder (a panel skin);
 * ``POST /api/save`` writes the spec as TOML; ``POST /api/open`` reads a spec file.
 
 Who may ask and which files a request may touch is :mod:`ductgen.page.guard`'s business:
@@ -47,7 +49,7 @@ from ductgen.page.preview import check_spec, preview, problem_lines
 __all__ = ["ASSETS", "DesignApp", "is_loopback", "make_server"]
 
 #: The page's files, served from the package.
-ASSETS = ("index.html", "page.css", "page.js", "viewer.js")
+ASSETS = ("index.html", "page.css", "form.js", "page.js", "viewer.js")
 
 #: Largest request body read (bytes): a spec is a few kB.
 MAX_BODY_BYTES = 1_000_000
@@ -190,6 +192,8 @@ class _Handler(BaseHTTPRequestHandler):
             return self._json(200, self.app.init())
         if path == "/api/job":
             return self._json(200, self.app.job_snapshot())
+        if path == "/api/panel-files":
+            return self._json(200, {"ok": True, "files": self.app.panel_files()})
         if path.startswith("/out/"):
             return self._out(path.removeprefix("/out/"))
         self._json(404, {"ok": False, "message": f"no such page {path}"})
@@ -260,6 +264,7 @@ class _Handler(BaseHTTPRequestHandler):
             "/api/sweep": self._sweep,
             "/api/save": self._save,
             "/api/open": self._open,
+            "/api/cancel": self._cancel,
         }
         route = routes.get(path)
         if route is None:
@@ -309,6 +314,9 @@ class _Handler(BaseHTTPRequestHandler):
             only=_only(body.get("only")),
         )
         self._json(202, {"ok": True, "job": state})
+
+    def _cancel(self, body: dict[str, Any]) -> None:
+        self._json(200, {"ok": True, "job": self.app.jobs.cancel()})
 
     def _save(self, body: dict[str, Any]) -> None:
         from ductgen.atomic import write_atomic

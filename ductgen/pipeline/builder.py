@@ -27,7 +27,7 @@ from ductgen.report import (
 )
 from ductgen.solids.kinds import SOLID_KINDS
 from ductgen.spec.load import spec_sha256
-from ductgen.spec.model import Spec
+from ductgen.spec.model import PanelSkinSpec, Spec
 from ductgen.tolerances import STL_QUALITY
 from ductgen.worker import KernelWorker, WorkerLimits, default_worker
 
@@ -37,6 +37,7 @@ __all__ = [
     "output_kinds",
     "package_version",
     "planned_files",
+    "planned_stages",
     "select_kinds",
 ]
 
@@ -59,12 +60,11 @@ def output_kinds() -> list[str]:
 def _cuts_panel(spec: Spec, kinds: list[str]) -> bool:
     """Whether the build writes ``NAME-panel.step``: the user's panel is a CAD file and the
     cutter is built."""
-    f = spec.skin.file
+    skin = spec.skin
     return (
-        spec.skin.shape == "panel"
+        isinstance(skin, PanelSkinSpec)
         and "cutter" in kinds
-        and f is not None
-        and Path(f).suffix.lower() in (".step", ".stp")
+        and Path(skin.file).suffix.lower() in (".step", ".stp")
     )
 
 
@@ -88,6 +88,17 @@ class BuildResult:
     seconds: dict[str, float]
     solids: dict[str, dict[str, Any]]
     design: Design | None = None
+
+
+def planned_stages(spec: Spec, kinds: list[str]) -> list[str]:
+    """The stages :func:`build` reports through ``progress``, in order (an ``"insert
+    split"`` stage is added when the insert turns out larger than the bed)."""
+    stages = ["geometry"]
+    if any(k in SOLID_KINDS for k in kinds):
+        stages.append("solids")
+    if _cuts_panel(spec, kinds):
+        stages.append("panel")
+    return [*stages, *(k for k in kinds if k in OUTPUTS), "publish"]
 
 
 def select_kinds(only: list[str] | None) -> list[str]:
@@ -163,14 +174,15 @@ def build(
                     seconds[f"{k}_{stage_name}"] = s
         report, warnings = start_report(spec, design, solids, spec_sha256(spec), package_version())
         frame = design.panel_frame
-        if _cuts_panel(spec, kinds):
+        skin = spec.skin
+        if _cuts_panel(spec, kinds) and isinstance(skin, PanelSkinSpec):
             note("panel")
             t0 = time.perf_counter()
             cut = (worker or default_worker()).run(
                 "ductgen.solids.panel_cut:cut_panel_job",
                 design,
-                spec.skin.file,
-                spec.skin.units,
+                skin.file,
+                skin.units,
                 [solids["cutter"]["files"]["step"]],
                 str(out.staging),
                 "insert" in solids,

@@ -2,26 +2,39 @@
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from typing import Any
 
-__all__ = ["sheet_files", "skin_lines"]
+__all__ = ["SKIN_LINES", "sheet_files", "skin_lines"]
 
 
 def skin_lines(skin: dict[str, Any], template: dict[str, Any]) -> tuple[tuple[str, str], ...]:
     """Key-dimension lines for a curved skin: the panel's radii, the installation datum,
-    where the straight outlet points, how the template was developed (report sections in)."""
-    shape = skin.get("shape", "flat")
-    if shape == "flat":
-        return ()
-    if shape == "panel":
-        return _panel_lines(skin, template)
-    if shape == "cylinder":
-        panel = f"cylinder R {skin['radius_mm']:.0f} mm, {skin['side']}, axis {skin['axis']}"
-    else:
-        panel = (
-            f"doubly R {skin['radius_streamwise_mm']:.0f} (along) / "
-            f"{skin['radius_spanwise_mm']:.0f} (across) mm, {skin['side']}"
-        )
+    where the straight outlet points, how the template was developed (report sections in).
+
+    One entry of :data:`SKIN_LINES` per ``skin.shape``; a shape without one is a test
+    failure (``tests/test_sheet.py``), never a user's build."""
+    return SKIN_LINES[skin.get("shape", "flat")](skin, template)
+
+
+def _flat_lines(skin: dict[str, Any], template: dict[str, Any]) -> tuple[tuple[str, str], ...]:
+    return ()
+
+
+def _cylinder(skin: dict[str, Any]) -> str:
+    return f"cylinder R {skin['radius_mm']:.0f} mm, {skin['side']}, axis {skin['axis']}"
+
+
+def _doubly(skin: dict[str, Any]) -> str:
+    return (
+        f"doubly R {skin['radius_streamwise_mm']:.0f} (along) / "
+        f"{skin['radius_spanwise_mm']:.0f} (across) mm, {skin['side']}"
+    )
+
+
+def _curved_lines(
+    panel: str, skin: dict[str, Any], template: dict[str, Any]
+) -> tuple[tuple[str, str], ...]:
     lines = [
         ("skin", panel),
         ("datum", "ramp start on the centreline; flow along +u"),
@@ -58,6 +71,17 @@ def _panel_lines(skin: dict[str, Any], template: dict[str, Any]) -> tuple[tuple[
     pct = template.get("max_length_distortion_pct", 0.0)
     lines.append(("template", f"flattened from the panel, {pct:.2f} % max"))
     return tuple(lines)
+
+
+Lines = Callable[[dict[str, Any], dict[str, Any]], tuple[tuple[str, str], ...]]
+
+#: ``skin.shape`` → the sheet's key-dimension lines for it (total over the spec's shapes).
+SKIN_LINES: dict[str, Lines] = {
+    "flat": _flat_lines,
+    "cylinder": lambda skin, tpl: _curved_lines(_cylinder(skin), skin, tpl),
+    "doubly": lambda skin, tpl: _curved_lines(_doubly(skin), skin, tpl),
+    "panel": _panel_lines,
+}
 
 
 def sheet_files(ctx: Any) -> dict[str, bytes]:

@@ -17,7 +17,7 @@ from typing import Any
 from pydantic import BaseModel, ValidationError
 
 from ductgen.errors import SpecError
-from ductgen.spec.model import Spec
+from ductgen.spec.model import SKIN_SHAPES, Spec
 
 if sys.version_info >= (3, 11):
     import tomllib
@@ -253,8 +253,9 @@ def spec_sha256(spec: Spec) -> str:
         p = Path(name)
         if p.suffix.lower() == ".csv" and p.is_file():
             h.update(p.read_bytes())
-    if spec.skin.file is not None and Path(spec.skin.file).is_file():
-        with open(spec.skin.file, "rb") as fh:  # the panel may be large: hash in chunks
+    panel = getattr(spec.skin, "file", None)
+    if panel is not None and Path(panel).is_file():
+        with open(panel, "rb") as fh:  # the panel may be large: hash in chunks
             for chunk in iter(lambda: fh.read(1 << 20), b""):
                 h.update(chunk)
     return h.hexdigest()
@@ -270,7 +271,7 @@ _ALLOWED = {
     "literal_error": "one of {expected}",
     "string_pattern_mismatch": "text matching {pattern}",
     "string_too_short": "at least {min_length} characters",
-    "union_tag_invalid": "kind one of {expected_tags}",
+    "union_tag_invalid": "{discriminator} one of {expected_tags}",
     # strict types: a number or a boolean written as text is refused, not guessed at
     "int_type": "a whole number, written without quotes",
     "bool_type": "true or false, written without quotes",
@@ -278,6 +279,9 @@ _ALLOWED = {
     "string_type": "text (not a number, and not YAML !!binary bytes)",
 }
 
+
+#: Union tags pydantic puts in an error's location (outlet kinds, loss kinds, skin shapes).
+_TAGS = ("round", "rect", "none", "hose", "bend", "cooler", "diffuser", *SKIN_SHAPES)
 
 _LIMITS = ("greater_than", "greater_than_equal", "less_than", "less_than_equal")
 
@@ -322,9 +326,10 @@ def _unwrap(annotation: Any, loc: tuple[Any, ...]) -> Any:
         return annotation
     models = [a for a in args if isinstance(a, type) and issubclass(a, BaseModel)]
     for m in models:  # pick the union member named by a tag in loc, if any
-        kind = m.model_fields.get("kind")
-        if kind is not None and kind.default in loc:
-            return m
+        for tag in ("kind", "shape"):
+            field = m.model_fields.get(tag)
+            if field is not None and field.default in loc:
+                return m
     if models:
         return models[0]
     for a in args:
@@ -344,13 +349,20 @@ def _dotted(loc: tuple[Any, ...]) -> str:
     for p in loc:
         if isinstance(p, int):
             parts.append(f"[{p}]")
-        elif p in ("round", "rect", "none", "hose", "bend", "cooler", "diffuser") and parts:
+        elif p in _TAGS and parts:
             continue  # discriminator tag inserted by pydantic
         elif isinstance(p, str) and p.startswith("function-"):
             continue
         else:
             parts.append(("." if parts else "") + str(p))
     return "".join(parts) or "(top level)"
+
+
+def _skin_shape(loc: tuple[Any, ...]) -> str | None:
+    """The skin shape an error inside ``[skin]`` is about, or None."""
+    if len(loc) >= 3 and loc[0] == "skin" and loc[1] in SKIN_SHAPES:
+        return str(loc[1])
+    return None
 
 
 def _to_spec_error(err: ValidationError, source: str | None) -> SpecError:
@@ -364,6 +376,18 @@ def _to_spec_error(err: ValidationError, source: str | None) -> SpecError:
         info, _ = _field_info(Spec, loc)
         reason = (info.description if info is not None else None) or ""
         msg = str(e["msg"]).removeprefix("Value error, ")
+        if etype == "union_tag_invalid":  # "kind one of ...", "shape one of ..."
+            ctx = {**ctx, "discriminator": str(ctx.get("discriminator", "kind")).strip("'")}
+            value = ctx.get("tag", value)
+        shape = _skin_shape(loc)
+        if etype == "extra_forbidden" and shape is not None:
+            known = sorted(SKIN_SHAPES[shape].model_fields)
+            problems.append((key, None, "keys " + ", ".join(known), f"not a key of a {shape} skin"))
+            continue
+        if etype == "missing" and shape is not None:
+            what = reason.split(": ", 1)[-1]
+            problems.append((key, None, "", f"a {shape} skin needs it: {what}"))
+            continue
         if etype == "extra_forbidden":
             parent = _models_for(loc[:-1]) or Spec
             known = sorted(parent.model_fields)

@@ -11,7 +11,7 @@ from __future__ import annotations
 
 from typing import Annotated, Literal
 
-from pydantic import Field, StrictFloat, StrictStr, model_validator
+from pydantic import Field, StrictFloat, StrictStr, field_validator, model_validator
 
 from ductgen.spec.fabrication import InsertSpec, PlugSpec
 from ductgen.spec.flow import FlowSpec
@@ -23,10 +23,15 @@ from ductgen.spec.types import MAX_LENGTH_MM, Deg, Mm, Section
 Vec = Annotated[float, Field(ge=-1e6, le=1e6, allow_inf_nan=False)]
 
 __all__ = [
+    "SKIN_SHAPES",
     "CutterSpec",
+    "CylinderSkinSpec",
+    "DoublySkinSpec",
+    "FlatSkinSpec",
     "LipSpec",
     "NoOutlet",
     "OutletSpec",
+    "PanelSkinSpec",
     "PlanformSpec",
     "RampSpec",
     "RectOutlet",
@@ -219,56 +224,61 @@ class NoOutlet(Section):
 OutletSpec = Annotated[RoundOutlet | RectOutlet | NoOutlet, Field(discriminator="kind")]
 
 
-class SkinSpec(Section):
-    """The panel the inlet is let into (outer surface through the ramp start).
+class _SkinBase(Section):
+    """What every skin shape has: the panel's thickness."""
 
-    ``shape = "flat"``; ``"cylinder"`` with ``radius``, ``axis`` (``"spanwise"``: the panel
-    curves along the flow, like a bonnet's leading edge; ``"streamwise"``: it curves across the
-    flow, like a fuselage side or a round cowling) and ``side``; ``"doubly"`` with
-    ``radius_streamwise`` and ``radius_spanwise`` (both on the same ``side``); ``"panel"``: the
-    user's own panel from ``file`` (STEP, or an STL/OBJ/PLY scan with ``units``), the inlet's
-    ramp start ``at`` a point on its outer surface, the ramp pointing along ``flow_direction``
-    (``outward`` when the file cannot tell outside from inside). Which keys each shape needs,
-    and the smallest radius that lets the inlet wrap, are checked with the geometry
-    (:mod:`ductgen.design`).
-    """
-
-    shape: Annotated[
-        Literal["flat", "cylinder", "doubly", "panel"],
-        Field(
-            default="flat",
-            description="skin shape: flat, cylinder, doubly (curved) or panel (your own file)",
-        ),
-    ]
     thickness: Annotated[Mm, Field(default=2.0, gt=0, le=100, description="skin thickness")]
-    radius: Annotated[
-        Mm | None,
-        Field(default=None, gt=0, le=1e7, description="cylinder: radius of the outer surface"),
-    ]
+
+
+_SIDE = Field(default="convex", description="convex (bulges outward) or concave")
+
+
+class FlatSkinSpec(_SkinBase):
+    """A flat panel (the default when ``[skin]`` gives no ``shape``)."""
+
+    shape: Literal["flat"] = "flat"
+
+
+class CylinderSkinSpec(_SkinBase):
+    """A cylindrical panel of ``radius``; ``axis = "spanwise"``: it curves along the flow,
+    like a bonnet's leading edge; ``"streamwise"``: it curves across the flow, like a
+    fuselage side or a round cowling."""
+
+    shape: Literal["cylinder"] = "cylinder"
+    radius: Annotated[Mm, Field(gt=0, le=1e7, description="cylinder: radius of the outer surface")]
     axis: Annotated[
-        Literal["spanwise", "streamwise"] | None,
+        Literal["spanwise", "streamwise"],
         Field(
-            default=None,
             description="cylinder: axis spanwise (curves along the flow) or streamwise "
             "(curves across the flow)",
         ),
     ]
-    side: Annotated[
-        Literal["convex", "concave"],
-        Field(default="convex", description="convex (bulges outward) or concave"),
-    ]
+    side: Annotated[Literal["convex", "concave"], _SIDE]
+
+
+class DoublySkinSpec(_SkinBase):
+    """A doubly curved panel: ``radius_streamwise`` along the flow and ``radius_spanwise``
+    across it, both on the same ``side``."""
+
+    shape: Literal["doubly"] = "doubly"
     radius_streamwise: Annotated[
-        Mm | None,
-        Field(default=None, gt=0, le=1e7, description="doubly: radius along the flow"),
+        Mm, Field(gt=0, le=1e7, description="doubly: radius along the flow")
     ]
     radius_spanwise: Annotated[
-        Mm | None,
-        Field(default=None, gt=0, le=1e7, description="doubly: radius across the flow"),
+        Mm, Field(gt=0, le=1e7, description="doubly: radius across the flow")
     ]
+    side: Annotated[Literal["convex", "concave"], _SIDE]
+
+
+class PanelSkinSpec(_SkinBase):
+    """The user's own panel from ``file`` (STEP, or an STL/OBJ/PLY scan with ``units``), the
+    inlet's ramp start ``at`` a point on its outer surface, the ramp pointing along
+    ``flow_direction`` (``outward`` when the file cannot tell outside from inside)."""
+
+    shape: Literal["panel"] = "panel"
     file: Annotated[
-        StrictStr | None,
+        StrictStr,
         Field(
-            default=None,
             min_length=1,
             max_length=4096,
             description="panel: the panel's STEP file or STL/OBJ/PLY scan (relative paths are "
@@ -280,16 +290,15 @@ class SkinSpec(Section):
         Field(default=None, description="panel: the units of a mesh scan's numbers"),
     ]
     at: Annotated[
-        tuple[Mm, Mm, Mm] | None,
+        tuple[Mm, Mm, Mm],
         Field(
-            default=None,
             description="panel: the point on the outer surface where the ramp starts, on the "
             "centreline, in the panel file's coordinates",
         ),
     ]
     flow_direction: Annotated[
-        tuple[Vec, Vec, Vec] | None,
-        Field(default=None, description="panel: the local flow direction (any length)"),
+        tuple[Vec, Vec, Vec],
+        Field(description="panel: the local flow direction (any length)"),
     ]
     outward: Annotated[
         tuple[Vec, Vec, Vec] | None,
@@ -301,12 +310,30 @@ class SkinSpec(Section):
     ]
 
     @model_validator(mode="after")
-    def _vectors(self) -> SkinSpec:
+    def _vectors(self) -> PanelSkinSpec:
         for key in ("flow_direction", "outward"):
             vec = getattr(self, key)
             if vec is not None and sum(c * c for c in vec) < 1e-12:
                 raise ValueError(f"skin.{key} must not be the zero vector")
         return self
+
+
+#: The panel the inlet is let into (outer surface through the ramp start), one model per
+#: ``skin.shape``, each with only its own keys. The smallest radius that lets the inlet wrap
+#: is checked with the geometry (:mod:`ductgen.design`).
+SkinSpec = Annotated[
+    FlatSkinSpec | CylinderSkinSpec | DoublySkinSpec | PanelSkinSpec,
+    Field(discriminator="shape"),
+]
+
+#: Every ``skin.shape``, each with its model (code that works per shape is tested total
+#: over this table).
+SKIN_SHAPES: dict[str, type[Section]] = {
+    "flat": FlatSkinSpec,
+    "cylinder": CylinderSkinSpec,
+    "doubly": DoublySkinSpec,
+    "panel": PanelSkinSpec,
+}
 
 
 class CutterSpec(Section):
@@ -340,10 +367,18 @@ class Spec(Section):
     planform: PlanformSpec = Field(default_factory=PlanformSpec)
     lip: LipSpec = Field(default_factory=LipSpec)
     outlet: OutletSpec = Field(default_factory=NoOutlet)
-    skin: SkinSpec = Field(default_factory=SkinSpec)
+    skin: SkinSpec = Field(default_factory=FlatSkinSpec)
     cutter: CutterSpec = Field(default_factory=CutterSpec)
     insert: InsertSpec = Field(default_factory=InsertSpec)
     plug: PlugSpec = Field(default_factory=PlugSpec)
     template: TemplateSpec = Field(default_factory=TemplateSpec)
     print: PrintSpec = Field(default_factory=PrintSpec)
     flow: FlowSpec | None = None
+
+    @field_validator("skin", mode="before")
+    @classmethod
+    def _flat_by_default(cls, value: object) -> object:
+        """A ``[skin]`` table without ``shape`` is a flat skin (as it always was)."""
+        if isinstance(value, dict) and "shape" not in value:
+            return {"shape": "flat", **value}
+        return value

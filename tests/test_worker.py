@@ -1,0 +1,107 @@
+"""The kernel worker (ductgen/worker.py) shared by threads, and stopped from another thread
+(the design page previews and saves from different request threads, and its Cancel stops
+a running job)."""
+
+from __future__ import annotations
+
+import os
+import subprocess
+import sys
+import threading
+import time
+from pathlib import Path
+
+import pytest
+
+from ductgen.errors import GeometryError
+from ductgen.worker import KernelWorker
+from tests.conftest import ROOT
+
+
+def test_two_threads_sharing_a_worker_each_get_their_own_answers() -> None:
+    worker = KernelWorker()
+    got: dict[str, list[float]] = {"a": [], "b": []}
+    errors: list[BaseException] = []
+
+    def ask(name: str, base: float) -> None:
+        try:
+            for k in range(25):
+                got[name].append(worker.run("math:hypot", base, float(k)))
+        except BaseException as err:  # reported below
+            errors.append(err)
+
+    threads = [threading.Thread(target=ask, args=(n, b)) for n, b in (("a", 3.0), ("b", 5.0))]
+    try:
+        for t in threads:
+            t.start()
+        for t in threads:
+            t.join(timeout=120)
+    finally:
+        worker.close()
+    assert not errors, errors
+    assert got["a"] == [float((9.0 + k * k) ** 0.5) for k in range(25)]
+    assert got["b"] == [float((25.0 + k * k) ** 0.5) for k in range(25)]
+
+
+def test_stop_ends_a_running_job_and_the_next_job_runs() -> None:
+    worker = KernelWorker()
+    try:
+        worker.run("math:sqrt", 4.0)  # the child is up
+        threading.Timer(0.5, worker.stop).start()
+        t0 = time.monotonic()
+        with pytest.raises(GeometryError) as err:
+            worker.run("time:sleep", 60.0, timeout_s=120.0)
+        assert time.monotonic() - t0 < 60.0  # stopped, not finished (a timeout, not a timing)
+        assert "process died" in str(err.value)
+        assert worker.run("math:sqrt", 9.0) == 3.0
+    finally:
+        worker.close()
+
+
+def test_a_worker_started_from_a_thread_outlives_that_thread() -> None:
+    """Linux's parent-death signal follows the thread that started the child: a worker
+    started from a page's request thread must not die when that request ends."""
+    worker = KernelWorker()
+    try:
+        t = threading.Thread(target=worker.run, args=("math:sqrt", 4.0))
+        t.start()
+        t.join(timeout=60)
+        pid = worker._proc.pid
+        time.sleep(1.0)  # room for a death signal to arrive (not a timing assertion)
+        assert worker._proc.poll() is None, "the child died with the thread that started it"
+        assert worker.run("math:sqrt", 9.0) == 3.0 and worker._proc.pid == pid
+    finally:
+        worker.close()
+
+
+def _alive(pid: int) -> bool:
+    """Whether process ``pid`` still runs (a zombie waiting to be reaped does not)."""
+    try:
+        state = Path(f"/proc/{pid}/stat").read_text().rsplit(")", 1)[1].split()[0]
+    except (FileNotFoundError, ProcessLookupError):
+        return False
+    return state != "Z"
+
+
+@pytest.mark.skipif(not sys.platform.startswith("linux"), reason="reads /proc")
+def test_a_worker_started_from_a_thread_still_dies_with_its_parent() -> None:
+    script = (
+        "import threading, time\n"
+        "from ductgen.worker import KernelWorker\n"
+        "w = KernelWorker()\n"
+        "t = threading.Thread(target=w.run, args=('math:sqrt', 4.0))\n"
+        "t.start(); t.join()\n"
+        "print(w._proc.pid, flush=True)\n"
+        "time.sleep(120)\n"
+    )
+    env = {**os.environ, "PYTHONPATH": str(ROOT)}
+    parent = subprocess.Popen([sys.executable, "-c", script], stdout=subprocess.PIPE, env=env)
+    assert parent.stdout is not None
+    child = int(parent.stdout.readline())
+    assert _alive(child)
+    parent.kill()
+    parent.wait()
+    deadline = time.monotonic() + 30.0  # a timeout, not a timing assertion
+    while _alive(child) and time.monotonic() < deadline:
+        time.sleep(0.1)
+    assert not _alive(child), "the kernel worker outlived its killed parent"
