@@ -11,6 +11,7 @@ from collections.abc import Callable
 from dataclasses import dataclass, field
 from typing import Any
 
+from ductgen.cache import Cache
 from ductgen.design import Design
 from ductgen.errors import DesignWarning
 from ductgen.spec.model import Spec
@@ -21,13 +22,14 @@ __all__ = ["OUTPUTS", "BuildContext", "Output"]
 @dataclass
 class BuildContext:
     """What an encoder may read (the spec, the design, the measured solids, the report so
-    far) and the warnings it may add."""
+    far, the solid cache or None) and the warnings it may add."""
 
     spec: Spec
     design: Design
     solids: dict[str, dict[str, Any]]
     report: dict[str, Any]
     warnings: list[DesignWarning] = field(default_factory=list)
+    cache: Cache | None = None
 
 
 def _template(ctx: BuildContext) -> dict[str, bytes]:
