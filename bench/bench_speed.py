@@ -125,9 +125,15 @@ SWEEPS: dict[int, list[str]] = {
 
 
 def _env(tree: Path) -> dict[str, str]:
+    """The environment of a run of ``tree``: its code, and an empty solid cache of its own
+    (never the user's; so every build but the cache runs' is a kernel build)."""
     env = dict(os.environ)
     env["PYTHONPATH"] = str(tree)
+    env["DUCTGEN_CACHE_DIR"] = tempfile.mkdtemp(prefix="bench-cache-", dir=_TMP[0])
     return env
+
+
+_TMP: list[str | None] = [None]  # the benchmark's temporary folder, set by main()
 
 
 def _timed(cmd: list[str], tree: Path | None, cwd: Path) -> tuple[float, int]:
@@ -268,6 +274,7 @@ def main() -> None:
         wanted = args.samples.split(",")
         samples = [p for p in samples if p.stem in wanted]
     tmp = Path(tempfile.mkdtemp(prefix="bench-speed-"))
+    _TMP[0] = str(tmp)
     old = tmp / "old"
     subprocess.run(
         ["git", "-C", str(ROOT), "worktree", "add", "--detach", str(old), args.base],
