@@ -142,7 +142,7 @@ def _feed_container(h: Any, obj: Any, seen: dict[int, int]) -> None:
         for slot in getattr(cls, "__slots__", ()):
             if slot not in ("__dict__", "__weakref__") and hasattr(obj, slot):
                 state[slot] = getattr(obj, slot)
-    if not state and not hasattr(obj, "__dict__"):
+    if not state:  # nothing readable (state kept in C, say): no key rather than a wrong one
         raise _Unhashable(f"cannot fingerprint a {name}")
     _feed(h, ("object", name, state), seen)
 
