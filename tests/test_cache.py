@@ -189,6 +189,9 @@ def test_hit_gives_the_files_of_an_uncached_build(tmp_path: Path) -> None:
     assert sorted(a) == sorted(b)
     assert {n.rsplit(".", 1)[-1] for n in a} >= {"step", "stl", "dxf", "pdf", "png", "json"}
     assert [n for n in a if a[n] != b[n]] == []
+    again = build(spec, tmp_path / "again")  # the same spec elsewhere: the template too
+    assert again.cache == {"hits": ALL, "misses": []}
+    assert _files(tmp_path / "again") == _files(tmp_path / "first")
     faster = spec.model_copy(update={"flow": spec.flow.model_copy(update={"speed": 40.0})})
     with pytest.MonkeyPatch.context() as mp:  # solids, pieces and preview: no kernel job at all
         mp.setattr(KernelWorker, "run", _no_kernel)
