@@ -273,7 +273,14 @@ class Cache:
         self.evict()
 
     def evict(self) -> None:
-        """Remove the least recently used entries until the folder is under the bound."""
+        """Remove the least recently used entries until the folder is under the bound, and
+        temporary files an interrupted store left more than an hour ago."""
+        import time
+
+        for p in self.root.glob("*/.tmp-*"):
+            with contextlib.suppress(OSError):
+                if time.time() - p.stat().st_mtime > 3600.0:
+                    p.unlink()
         entries = []
         for p in self.root.glob(f"*/*{_SUFFIX}"):
             try:

@@ -126,6 +126,17 @@ def test_eviction_keeps_the_bound_and_the_recently_used(tmp_path: Path) -> None:
     assert c.get(keys[1]) is None and c.get(keys[2]) is None
 
 
+def test_leftovers_of_an_interrupted_store_are_removed_later(tmp_path: Path) -> None:
+    c = Cache(tmp_path, 10**6)
+    (tmp_path / "ab").mkdir()
+    old, fresh = tmp_path / "ab" / ".tmp-old", tmp_path / "ab" / ".tmp-fresh"
+    old.write_bytes(b"half an entry")
+    fresh.write_bytes(b"being written now")
+    os.utime(old, (1000.0, 1000.0))
+    c.evict()
+    assert not old.exists() and fresh.exists()
+
+
 def test_cache_folder_and_size_from_the_environment(
     tmp_path: Path, monkeypatch: pytest.MonkeyPatch
 ) -> None:
