@@ -1,6 +1,6 @@
-"""Benchmark of the speed work: the old commit against the working tree, side by side (not a test).
+"""Benchmark: an old commit against the working tree, side by side (not a test).
 
-Builds the old commit (default b22f352, the commit before the speed work) in a temporary
+Builds the old commit (default 465f6b6, before the solid cache) in a temporary
 ``git worktree`` (removed afterwards) and runs it and the working tree alternately, each in
 a subprocess of its own with ``PYTHONPATH`` set to that tree, so drift in the machine's load
 falls on both. It prints:
@@ -8,12 +8,16 @@ falls on both. It prints:
 1. full build of each sample with every output, after imports (interpreter, ductgen, the
    kernel worker warmed up): old s, new s, new/old, and the CPU seconds each used (the
    build process, its kernel worker and the worker's children): on a machine others load,
-   the wall ratio shows what concurrency could get, the CPU what the work costs;
+   the wall ratio shows what concurrency could get, the CPU what the work costs; then a
+   table per sample of the CPU seconds per stage, parent (``build``'s progress stages) and
+   kernel worker (its jobs and their ``stage`` names), old and new side by side;
 2. cold ``ductgen build`` of one sample (the whole process) against a bare
    ``python -c "import cadquery"`` timed in the same rounds;
 3. a 12-variant sweep at ``-j 2``, old and new (whole ``ductgen sweep`` processes);
 4. seconds per variant of the new sweep at 4, 12, 24 and 48 variants (``--curve-old``: the
-   old one too).
+   old one too);
+5. the solid cache (new only): a first build into an empty ``DUCTGEN_CACHE_DIR``, a rebuild
+   into another folder and a build that changes only ``[flow]`` keys, and their ratios.
 
 It measures and prints; it asserts nothing. Run it on a machine that is otherwise idle and
 read the load averages it prints. Quick run::
@@ -40,9 +44,11 @@ import time
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
-BASE = "b22f352"
+BASE = "465f6b6"
 
 #: One full build, timed after the imports and the kernel warm-up (runs in a subprocess).
+#: CPU seconds per stage: the parent's stages are the ``progress`` notes of ``build``, the
+#: worker's the job names and the ``stage`` messages its jobs send (read off its pipe).
 _FULL = r"""
 import json, os, sys, time
 from pathlib import Path
@@ -50,16 +56,56 @@ import ductgen.worker as w
 from ductgen.pipeline import build
 from ductgen.spec import load_spec
 import ductgen.export.template, ductgen.sheets.sheet, ductgen.sheets.preview  # noqa
+TCK = os.sysconf("SC_CLK_TCK")
 worker = w.default_worker()
-worker.run("ductgen.solids.jobs:warm_up")
-def cpu():  # this process and the kernel worker with its reaped children (s)
+def wcpu():  # the kernel worker with its reaped children (s); 0 when it is not running
+    if worker._proc is None or worker._proc.poll() is not None:
+        return 0.0
     f = open(f"/proc/{worker._proc.pid}/stat").read().rsplit(")", 1)[1].split()
+    return sum(int(x) for x in f[11:15]) / TCK
+def pcpu():
     t = os.times()
-    return t.user + t.system + sum(int(x) for x in f[11:15]) / os.sysconf("SC_CLK_TCK")
+    return t.user + t.system
+prof, cur = {}, {"parent": ["start", 0.0], "worker": [None, 0.0]}
+def add(key, dt):
+    prof[key] = prof.get(key, 0.0) + max(dt, 0.0)
+def switch(side, name, c):
+    old, c0 = cur[side]
+    if old is not None:
+        add(f"{side}: {old}", c - c0)
+    cur[side] = [name, c]
+class Pipe:  # the parent's end of the worker pipe, noting stage changes
+    def __init__(self, real):
+        self.real = real
+    def __getattr__(self, k):
+        return getattr(self.real, k)
+    def send(self, msg):
+        if msg:
+            switch("worker", msg[0].split(":")[-1], wcpu())
+        return self.real.send(msg)
+    def recv(self):
+        msg = self.real.recv()
+        switch("worker", msg[1] if msg[0] == "stage" else None, wcpu())
+        return msg
+start = w.KernelWorker._start
+def _start(self):
+    start(self)
+    self._conn = Pipe(self._conn)
+w.KernelWorker._start = _start
+if "--cold-worker" not in sys.argv:
+    worker.run("ductgen.solids.jobs:warm_up")
+def cpu():
+    return pcpu() + wcpu()
 spec = load_spec(sys.argv[1])
+if "--flow-only" in sys.argv:  # a different speed: the [flow] keys change, nothing else
+    flow = spec.flow.model_copy(update={"speed": spec.flow.speed * 1.1})
+    spec = spec.model_copy(update={"flow": flow})
+prof.clear()  # the warm-up is not part of the build
 c0, t0 = cpu(), time.perf_counter()
-build(spec, Path(sys.argv[2]))
-print(json.dumps({"s": time.perf_counter() - t0, "cpu": cpu() - c0}))
+cur["parent"] = ["geometry", pcpu()]
+build(spec, Path(sys.argv[2]), progress=lambda s: switch("parent", s, pcpu()))
+switch("parent", None, pcpu())
+print(json.dumps({"s": time.perf_counter() - t0, "cpu": cpu() - c0, "prof": prof}))
 """
 
 SWEEP_SPEC = """
@@ -79,9 +125,15 @@ SWEEPS: dict[int, list[str]] = {
 
 
 def _env(tree: Path) -> dict[str, str]:
+    """The environment of a run of ``tree``: its code, and an empty solid cache of its own
+    (never the user's; so every build but the cache runs' is a kernel build)."""
     env = dict(os.environ)
     env["PYTHONPATH"] = str(tree)
+    env["DUCTGEN_CACHE_DIR"] = tempfile.mkdtemp(prefix="bench-cache-", dir=_TMP[0])
     return env
+
+
+_TMP: list[str | None] = [None]  # the benchmark's temporary folder, set by main()
 
 
 def _timed(cmd: list[str], tree: Path | None, cwd: Path) -> tuple[float, int]:
@@ -97,21 +149,42 @@ def _timed(cmd: list[str], tree: Path | None, cwd: Path) -> tuple[float, int]:
     return time.perf_counter() - t0, run.returncode
 
 
-def full_build(tree: Path, sample: Path, tmp: Path) -> tuple[float, float]:
-    """(wall s, CPU s) of one full build of ``sample`` with ``tree``'s code, after imports;
-    CPU: the build process and its kernel worker with the worker's children."""
+def full_build(
+    tree: Path, sample: Path, tmp: Path, *extra: str, env: dict[str, str] | None = None
+) -> tuple[float, float, dict[str, float]]:
+    """(wall s, CPU s, CPU s per stage) of one full build of ``sample`` with ``tree``'s code,
+    after imports; CPU: the build process and its kernel worker with the worker's children.
+    ``extra``: ``--flow-only`` (the sample with another speed), ``--cold-worker`` (no warm-up:
+    the worker starts only if the build needs it)."""
     out = Path(tempfile.mkdtemp(dir=tmp)) / sample.stem
     run = subprocess.run(
-        [sys.executable, "-c", _FULL, str(sample), str(out)],
-        env=_env(tree),
+        [sys.executable, "-c", _FULL, str(sample), str(out), *extra],
+        env={**_env(tree), **(env or {})},
         cwd=tmp,
         capture_output=True,
         text=True,
-        check=True,
     )
     shutil.rmtree(out.parent, ignore_errors=True)
+    if run.returncode:
+        raise SystemExit(f"build of {sample.stem} failed with {tree}:\n{run.stderr[-3000:]}")
     got = json.loads(run.stdout.strip().splitlines()[-1])
-    return float(got["s"]), float(got["cpu"])
+    return float(got["s"]), float(got["cpu"]), got["prof"]
+
+
+def print_profile(name: str, prof: dict[str, list[dict[str, float]]]) -> None:
+    """CPU seconds per stage (median of the rounds), old and new side by side."""
+    keys = sorted({k for runs in prof.values() for r in runs for k in r})
+    med = {
+        w: {k: statistics.median([r.get(k, 0.0) for r in runs]) for k in keys}
+        for w, runs in prof.items()
+    }
+    keys.sort(key=lambda k: -max(m[k] for m in med.values()))
+    print(f"\nCPU seconds per stage, {name} (median of rounds)")
+    print(f"{'stage':36s} " + " ".join(f"{w + ' cpu':>9s}" for w in med))
+    for k in keys:
+        if max(m[k] for m in med.values()) >= 0.05:
+            print(f"{k:36s} " + " ".join(f"{med[w][k]:9.2f}" for w in med))
+    print(f"{'total':36s} " + " ".join(f"{sum(m.values()):9.2f}" for m in med.values()))
 
 
 def cold_build(tree: Path, sample: Path, tmp: Path) -> float:
@@ -139,6 +212,39 @@ def sweep(tree: Path, n: int, tmp: Path) -> tuple[float, int]:
     return s, code
 
 
+def cache_runs(tree: Path, samples: list[Path], tmp: Path, repeat: int) -> None:
+    """The solid cache (working tree only): a first build into an empty cache, a rebuild into
+    another folder and a build that changes only ``[flow]`` keys, both with the kernel worker
+    not started ahead (it starts only if something misses)."""
+    print("\nsolid cache: first build (empty cache), rebuild elsewhere, flow-only change")
+    print(
+        f"{'sample':24s} {'first s':>8s} {'again s':>8s} {'ratio':>6s} {'flow s':>8s}"
+        f" {'ratio':>6s} {'first cpu':>9s} {'again cpu':>9s} {'flow cpu':>9s}"
+    )
+    for p in samples:
+        r: dict[str, list[tuple[float, float]]] = {"first": [], "again": [], "flow": []}
+        last: dict[str, float] = {}
+        for _ in range(repeat):
+            cache = {"DUCTGEN_CACHE_DIR": str(Path(tempfile.mkdtemp(dir=tmp)))}
+            r["first"].append(full_build(tree, p, tmp, env=cache)[:2])
+            r["again"].append(full_build(tree, p, tmp, "--cold-worker", env=cache)[:2])
+            wall, used, last = full_build(tree, p, tmp, "--cold-worker", "--flow-only", env=cache)
+            r["flow"].append((wall, used))
+        m = {k: statistics.median(x[0] for x in v) for k, v in r.items()}
+        mc = {k: statistics.median(x[1] for x in v) for k, v in r.items()}
+        print(
+            f"{p.stem:24s} {m['first']:8.2f} {m['again']:8.2f} {m['again'] / m['first']:6.2f}"
+            f" {m['flow']:8.2f} {m['flow'] / m['first']:6.2f} {mc['first']:9.2f}"
+            f" {mc['again']:9.2f} {mc['flow']:9.2f}"
+        )
+        print(
+            "   flow-only build, CPU s per stage: "
+            + ", ".join(
+                f"{k} {v:.2f}" for k, v in sorted(last.items(), key=lambda kv: -kv[1]) if v >= 0.05
+            )
+        )
+
+
 def _terminate(*_: object) -> None:
     raise KeyboardInterrupt
 
@@ -157,6 +263,7 @@ def main() -> None:
     ap.add_argument("--no-cold", action="store_true", help="skip the cold build")
     ap.add_argument("--no-sweep", action="store_true", help="skip the 12-variant sweep")
     ap.add_argument("--no-curve", action="store_true", help="skip the per-variant curve")
+    ap.add_argument("--no-cache-runs", action="store_true", help="skip the solid-cache runs")
     ap.add_argument("--curve-old", action="store_true", help="measure the curve for old too")
     args = ap.parse_args()
     # SIGTERM unwinds like Ctrl-C, so the temporary worktree is always removed
@@ -167,6 +274,7 @@ def main() -> None:
         wanted = args.samples.split(",")
         samples = [p for p in samples if p.stem in wanted]
     tmp = Path(tempfile.mkdtemp(prefix="bench-speed-"))
+    _TMP[0] = str(tmp)
     old = tmp / "old"
     subprocess.run(
         ["git", "-C", str(ROOT), "worktree", "add", "--detach", str(old), args.base],
@@ -183,14 +291,19 @@ def main() -> None:
                 f" {'old cpu':>8s} {'new cpu':>8s}"
             )
             tot = {"old": 0.0, "new": 0.0, "old cpu": 0.0, "new cpu": 0.0}
+            profiles: dict[str, dict[str, list[dict[str, float]]]] = {}
             for p in samples:
                 t: dict[str, list[float]] = {"old": [], "new": []}
                 c: dict[str, list[float]] = {"old": [], "new": []}
+                pr: dict[str, list[dict[str, float]]] = {"old": [], "new": []}
                 for r in range(args.repeat):
                     for which in ("old", "new") if r % 2 == 0 else ("new", "old"):
-                        wall, used = full_build(trees[which], p, tmp)
+                        cache = {"DUCTGEN_CACHE_DIR": str(Path(tempfile.mkdtemp(dir=tmp)))}
+                        wall, used, stages = full_build(trees[which], p, tmp, env=cache)
                         t[which].append(wall)
                         c[which].append(used)
+                        pr[which].append(stages)
+                profiles[p.stem] = pr
                 m = {k: statistics.median(v) for k, v in t.items()}
                 mc = {k: statistics.median(v) for k, v in c.items()}
                 for k in ("old", "new"):
@@ -204,6 +317,10 @@ def main() -> None:
                 f"{'every sample':24s} {tot['old']:8.2f} {tot['new']:8.2f} "
                 f"{tot['new'] / tot['old']:8.2f} {tot['old cpu']:8.2f} {tot['new cpu']:8.2f}"
             )
+            for name, pr in profiles.items():
+                print_profile(name, pr)
+        if not args.no_cache_runs:
+            cache_runs(ROOT, samples, tmp, args.repeat)
         if not args.no_cold:
             sample = ROOT / "samples" / f"{args.cold_sample}.toml"
             t = {"cq": [], "old": [], "new": []}

@@ -2,8 +2,10 @@
 
 CAD-kernel work runs in a child process so that a pathological spec cannot hang or
 exhaust the machine (one bad boolean was measured growing past 20 GB): the child
-caps its address space with ``RLIMIT_AS``, the parent waits at most ``timeout_s`` per job,
-and a job that crashes, runs out of memory or overruns becomes a
+caps its address space with ``RLIMIT_AS``, the parent stops a job that has used more than
+``timeout_s`` seconds of the child's CPU time (on a busy machine a valid build can take many
+times its CPU time in wall-clock time) or, as a backstop, :data:`WALL_FACTOR` times that in
+wall-clock time, and a job that crashes, runs out of memory or overruns becomes a
 :class:`~ductgen.errors.GeometryError` naming the stage. The child stays alive between
 jobs (importing the kernel costs ~2 s) and is restarted after a failure.
 
@@ -49,7 +51,8 @@ class WorkerLimits:
 
     Attributes:
         memory_mb: address-space cap of the child (MiB); ``DUCTGEN_MEMORY_MB`` overrides.
-        timeout_s: wall-clock limit of one job (s); ``DUCTGEN_TIMEOUT_S`` overrides.
+        timeout_s: CPU-time limit of one job (s of the child's CPU); ``DUCTGEN_TIMEOUT_S``
+            overrides. Wall-clock backstop: :data:`WALL_FACTOR` times this.
     """
 
     memory_mb: int = 8192
@@ -167,6 +170,11 @@ def die_with_parent(parent_pid: int, sig: int = signal.SIGKILL, prctl: bool = Tr
 
 
 _PR_SET_PDEATHSIG = 1
+#: The wall-clock backstop of a job, as a multiple of its CPU-time limit.
+WALL_FACTOR = 20.0
+#: How often the parent looks at a running job's CPU time (s).
+_POLL_S = 0.2
+_CLOCK_TICKS = os.sysconf("SC_CLK_TCK") if hasattr(os, "sysconf") else 100
 
 
 def _main(  # pragma: no cover - child
@@ -300,16 +308,48 @@ class KernelWorker:
                 self._kill()
             raise
 
-    def _wait(self, current: str, timeout: float, deadline: float) -> Any:
+    def _cpu_s(self) -> float | None:
+        """CPU seconds the child has used (user + system, with its reaped children), from
+        ``/proc/PID/stat``; None where that is not readable (then the wall clock counts)."""
+        try:
+            with open(f"/proc/{self._proc.pid}/stat", "rb") as f:
+                fields = f.read().rsplit(b")", 1)[1].split()
+            return sum(int(x) for x in fields[11:15]) / _CLOCK_TICKS
+        except (OSError, IndexError, ValueError, AttributeError):
+            return None
+
+    def _over(self, timeout: float, cpu0: float | None, start: float) -> str | None:
+        """Why the job must stop now (None while it is within its limits)."""
         import time
 
+        wall = time.monotonic() - start
+        cpu = self._cpu_s()
+        used = wall if cpu0 is None or cpu is None else cpu - cpu0
+        if used > timeout:
+            what = "wall-clock seconds" if cpu0 is None or cpu is None else "CPU seconds"
+            return (
+                f"the kernel took longer than {timeout:.3g} {what} and was stopped "
+                "(DUCTGEN_TIMEOUT_S raises the limit)"
+            )
+        if wall > WALL_FACTOR * timeout:
+            return (
+                f"the kernel took longer than {WALL_FACTOR * timeout:.3g} s of wall-clock time "
+                f"({WALL_FACTOR}x the {timeout:.3g} CPU seconds of DUCTGEN_TIMEOUT_S) and was "
+                "stopped; the machine may be overloaded (DUCTGEN_TIMEOUT_S raises the limit)"
+            )
+        return None
+
+    def _wait(self, current: str, timeout: float, deadline: float) -> Any:
+
+        start = deadline - timeout
+        cpu0 = self._cpu_s()
         while True:
-            left = deadline - time.monotonic()
-            if left <= 0 or not self._conn.poll(left):
+            why = self._over(timeout, cpu0, start)  # every poll and every stage message
+            if why is not None:
                 self._kill()
-                raise GeometryError(
-                    current, f"the kernel took longer than {timeout:.3g} s and was stopped"
-                )
+                raise GeometryError(current, why)
+            if not self._conn.poll(_POLL_S):
+                continue
             try:
                 msg = self._conn.recv()
             except (EOFError, OSError):

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import os
+from collections.abc import Iterator
 from pathlib import Path
 
 import pytest
@@ -37,6 +39,27 @@ kind = "round"
 diameter = 50
 transition_length = 100
 """
+
+
+@pytest.fixture(scope="session", autouse=True)
+def _session_solid_cache(tmp_path_factory: pytest.TempPathFactory) -> Iterator[None]:
+    """The solid cache of session-wide fixtures (e.g. :func:`sample_builds`): an empty
+    folder of this session, never the user's cache."""
+    old = os.environ.get("DUCTGEN_CACHE_DIR")
+    os.environ["DUCTGEN_CACHE_DIR"] = str(tmp_path_factory.mktemp("solid-cache-session"))
+    yield
+    if old is None:
+        os.environ.pop("DUCTGEN_CACHE_DIR", None)
+    else:
+        os.environ["DUCTGEN_CACHE_DIR"] = old
+
+
+@pytest.fixture(autouse=True)
+def _solid_cache(tmp_path_factory: pytest.TempPathFactory, monkeypatch: pytest.MonkeyPatch) -> None:
+    """Every test starts with an empty solid cache of its own (so its first build of a
+    design runs the kernel, and no test reads another's or the user's entries)."""
+    monkeypatch.setenv("DUCTGEN_CACHE_DIR", str(tmp_path_factory.mktemp("solid-cache")))
+    monkeypatch.delenv("DUCTGEN_CACHE_MB", raising=False)
 
 
 def naca_ordinates() -> list[tuple[float, float]]:

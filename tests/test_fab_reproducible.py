@@ -34,7 +34,7 @@ def _build(folder, env_epoch: str | None, monkeypatch) -> dict[str, bytes]:  # t
         monkeypatch.setenv("SOURCE_DATE_EPOCH", env_epoch)
     worker = KernelWorker()  # a fresh worker inherits the environment just set
     try:
-        build(load_spec(SAMPLE), folder, worker=worker)
+        build(load_spec(SAMPLE), folder, worker=worker, cache=False)  # both from the kernel
     finally:
         worker.close()
     return {p.name: p.read_bytes() for p in sorted(folder.iterdir())}

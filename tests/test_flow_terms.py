@@ -55,7 +55,7 @@ def test_plenum_loses_exactly_alpha_q_exit() -> None:
 def test_alpha_one_is_the_uniform_flow_balance_to_1e9() -> None:
     # [derived] with alpha = 1 the balance is the uniform-flow one: r q_inf = cp q_inf +
     # (f L/d + 1) 1/2 rho V_h^2 through a hose, f by Colebrook (fluids.friction_factor,
-    # the reference library of checks.md); solved here independently of ductgen.
+    # the fluids library); solved here independently of ductgen.
     hose = {"kind": "hose", "length": "1.5 m", "diameter": "60 mm", "roughness": "0.5 mm"}
     f = _flow(kinetic_energy_factor=1.0, losses=[hose])
     assert f["exit"] == "hose"

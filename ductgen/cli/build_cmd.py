@@ -34,6 +34,10 @@ def build_command(
     ] = None,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="print nothing on success")] = False,
     as_json: Annotated[bool, typer.Option("--json", help="print report.json to stdout")] = False,
+    no_cache: Annotated[
+        bool,
+        typer.Option("--no-cache", help="build every solid, neither reading nor filling the cache"),
+    ] = False,
 ) -> None:
     """Build solids, files and report.json from a spec."""
     from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
@@ -64,6 +68,7 @@ def build_command(
             force=force,
             quality=quality,
             progress=lambda stage: bar.update(task, description=f"building: {stage}"),
+            cache=not no_cache,
         )
     if as_json:
         typer.echo(json.dumps(result.report, indent=2))

@@ -107,6 +107,10 @@ def sweep_command(
     as_json: Annotated[
         bool, typer.Option("--json", help="print comparison.json to stdout")
     ] = False,
+    no_cache: Annotated[
+        bool,
+        typer.Option("--no-cache", help="build every solid, neither reading nor filling the cache"),
+    ] = False,
 ) -> None:
     """Build variants of a spec in parallel and compare them side by side."""
     from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
@@ -153,6 +157,7 @@ def sweep_command(
             scheduler=scheduler,
             progress=progress,
             cfd="coarse" if cfd else None,
+            cache=not no_cache,
         )
     if as_json:
         typer.echo(result.files["json"].read_text(encoding="utf-8"))

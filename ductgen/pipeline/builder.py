@@ -9,14 +9,16 @@ from __future__ import annotations
 
 import time
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
 from ductgen.atomic import OutputSet, check_free
+from ductgen.cache import open_cache
 from ductgen.design import Design, build_design
 from ductgen.errors import SpecError
 from ductgen.pipeline.outputs import OUTPUTS, BuildContext
+from ductgen.pipeline.solid_cache import SolidStage
 from ductgen.report import (
     add_insert_pieces,
     add_panel_cut,
@@ -81,13 +83,16 @@ def planned_files(spec: Spec, kinds: list[str]) -> list[str]:
 
 @dataclass
 class BuildResult:
-    """What a build made: the report (as written), the files by path, the design."""
+    """What a build made: the report (as written), the files by path, the design, and which
+    kernel results came from the solid cache (``cache["hits"]``) or were built
+    (``cache["misses"]``): solid kinds and ``"insert split"``."""
 
     report: dict[str, Any]
     files: dict[str, Path]
     seconds: dict[str, float]
     solids: dict[str, dict[str, Any]]
     design: Design | None = None
+    cache: dict[str, list[str]] = field(default_factory=dict)
 
 
 def planned_stages(spec: Spec, kinds: list[str]) -> list[str]:
@@ -124,14 +129,17 @@ def build(
     worker: KernelWorker | None = None,
     progress: Callable[[str], None] | None = None,
     design: Design | None = None,
+    cache: bool = True,
 ) -> BuildResult:
     """Build every requested output of ``spec`` into ``out_dir``.
 
     ``design``: the design of ``spec`` when the caller already built it (a sweep does, to
-    validate its variants); otherwise it is built here.
+    validate its variants); otherwise it is built here. ``cache``: take solids, the insert's
+    pieces and the preview from the user's solid cache and store new ones there
+    (:mod:`ductgen.cache`; ``DUCTGEN_CACHE_DIR``, ``DUCTGEN_CACHE_MB``); False bypasses it.
 
     Raises:
-        SpecError: bad input (before anything is written).
+        SpecError: bad input (before anything is written), e.g. a bad ``DUCTGEN_CACHE_MB``.
         GeometryError: the kernel failed; the message names the stage.
         ExportError: a file exists and ``force`` is not set, or a write failed.
     """
@@ -153,19 +161,18 @@ def build(
     check_free([out_dir / n for n in planned_files(spec, kinds)], force)
 
     solid_kinds = [k for k in kinds if k in SOLID_KINDS]
+    store = open_cache(cache)
+
+    def run(job: str, *args: Any, **kwargs: Any) -> Any:  # the kernel worker, started on use
+        return (worker or default_worker()).run(job, *args, **kwargs)
+
+    stage = SolidStage(store, design, quality, run)
     with OutputSet(out_dir, force=force) as out:
         solids: dict[str, dict[str, Any]] = {}
         if solid_kinds:
             note("solids")
             t0 = time.perf_counter()
-            solids = (worker or default_worker()).run(
-                "ductgen.solids.jobs:build_solids",
-                design,
-                solid_kinds,
-                quality,
-                spec.name,
-                str(out.staging),
-            )
+            solids = stage.solids(solid_kinds, spec.name, out.staging)
             seconds["solids_s"] = time.perf_counter() - t0
             for k in solid_kinds:
                 for name in solids[k]["files"].values():
@@ -191,7 +198,7 @@ def build(
             add_panel_cut(report, cut)
             seconds["panel_s"] = time.perf_counter() - t0
         ctx = BuildContext(
-            spec=spec, design=design, solids=solids, report=report, warnings=warnings
+            spec=spec, design=design, solids=solids, report=report, warnings=warnings, cache=store
         )
         files: dict[str, str] = {}
         for k in solid_kinds:
@@ -203,15 +210,12 @@ def build(
         if plan is not None:  # the insert is larger than the bed: keyed pieces that fit
             note("insert split")
             t0 = time.perf_counter()
-            pieces = (worker or default_worker()).run(
-                "ductgen.solids.split:split_insert_job",
-                str(out.staging),
+            pieces = stage.split_insert(
+                out.staging,
                 solids["insert"]["files"]["step"],
                 spec.name,
-                plan[0],
+                plan,
                 tuple(spec.print.bed),
-                plan[1],
-                quality,
                 None if frame is None else (frame.origin.tolist(), frame.axes.tolist()),
             )
             for k, piece in enumerate(pieces, start=1):
@@ -233,4 +237,11 @@ def build(
         out.add("report.json", report_bytes(report))
         note("publish")
         paths = out.publish()
-    return BuildResult(report=report, files=paths, seconds=seconds, solids=solids, design=design)
+    return BuildResult(
+        report=report,
+        files=paths,
+        seconds=seconds,
+        solids=solids,
+        design=design,
+        cache={"hits": stage.hits, "misses": stage.misses},
+    )

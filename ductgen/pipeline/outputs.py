@@ -11,6 +11,7 @@ from collections.abc import Callable
 from dataclasses import dataclass, field
 from typing import Any
 
+from ductgen.cache import Cache
 from ductgen.design import Design
 from ductgen.errors import DesignWarning
 from ductgen.spec.model import Spec
@@ -21,20 +22,45 @@ __all__ = ["OUTPUTS", "BuildContext", "Output"]
 @dataclass
 class BuildContext:
     """What an encoder may read (the spec, the design, the measured solids, the report so
-    far) and the warnings it may add."""
+    far, the solid cache or None) and the warnings it may add."""
 
     spec: Spec
     design: Design
     solids: dict[str, dict[str, Any]]
     report: dict[str, Any]
     warnings: list[DesignWarning] = field(default_factory=list)
+    cache: Cache | None = None
 
 
 def _template(ctx: BuildContext) -> dict[str, bytes]:
-    """``template.dxf`` (1:1, lines + arcs) and ``template.pdf`` (tiled 1:1)."""
+    """``template.dxf`` (1:1, lines + arcs) and ``template.pdf`` (tiled 1:1); from the solid
+    cache when the same spec (every key, its hash), design, date and code drew it before."""
     from ductgen.export.template import template_files
 
-    return template_files(ctx.design, ctx.spec, ctx.report["spec_sha256"])
+    key = None
+    if ctx.cache is not None:
+        from ductgen.cache import fingerprint, kernel_versions, source_fingerprint
+        from ductgen.pipeline.solid_cache import design_key
+        from ductgen.stamp import build_datetime
+
+        dkey = design_key(ctx.design)
+        if dkey is not None:
+            key = fingerprint(
+                "template",
+                dkey,
+                ctx.spec,
+                ctx.report["spec_sha256"],
+                build_datetime().isoformat(),
+                kernel_versions(("ezdxf", "matplotlib", "numpy")),
+                source_fingerprint(("export", "stamp.py", "units.py")),
+            )
+            entry = ctx.cache.get(key)
+            if entry is not None:
+                return {name: bytes(data) for name, data in entry.blobs.items()}
+    files = template_files(ctx.design, ctx.spec, ctx.report["spec_sha256"])
+    if key is not None and ctx.cache is not None:
+        ctx.cache.put(key, {}, files)
+    return files
 
 
 def _sheet(ctx: BuildContext) -> dict[str, bytes]:

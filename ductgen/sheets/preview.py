@@ -224,6 +224,7 @@ def _gl_message(detail: str) -> str:
 
 def preview_png(ctx: Any, worker: Any = None) -> bytes:
     """PNG of the built insert, else the cutter or plug; builds a draft cutter mesh if none.
+    With ``ctx.cache`` (the solid cache), a picture of the same meshes is taken from it.
 
     Args:
         ctx: the build context (its design and any solids already built).
@@ -250,8 +251,18 @@ def preview_png(ctx: Any, worker: Any = None) -> bytes:
     if frame is not None and panel is not None:  # the user's panel: view it in the datum's
         mesh = (frame.to_local(mesh[0]), mesh[1])  # frame, as the analytic skins are viewed
         panel = (frame.to_local(panel[0]), panel[1])
+    store = getattr(ctx, "cache", None)
+    key = None
+    if store is not None:  # the same picture of the same meshes: from the solid cache
+        from ductgen.cache import fingerprint, kernel_versions, source_fingerprint
+
+        code = source_fingerprint(("sheets/preview.py",))
+        key = fingerprint("preview", kernel_versions(("vtk",)), code, mesh, opening, panel)
+        entry = store.get(key)
+        if entry is not None:
+            return bytes(entry.blobs["png"])
     try:
-        return w.run(
+        png = w.run(
             "ductgen.sheets.preview:render_png",
             mesh[0],
             mesh[1],
@@ -261,3 +272,6 @@ def preview_png(ctx: Any, worker: Any = None) -> bytes:
         )
     except GeometryError as err:  # the renderer crashed the worker (no GL driver at all)
         raise ExportError(_gl_message(err.detail)) from err
+    if key is not None and store is not None:
+        store.put(key, {}, {"png": png})
+    return png

@@ -22,14 +22,12 @@ from typing import Any
 import numpy as np
 
 from ductgen.solids.heal import heal
-from ductgen.stamp import build_datetime
+from ductgen.solids.step_text import stamp_step
 from ductgen.units import FILE_UNITS
 
 __all__ = ["read_step", "step_bytes", "stl_bytes"]
 
 
-_FILE_NAME = re.compile(rb"FILE_NAME\('([^']*)','[^']*'")
-_PRODUCT = re.compile(rb"PRODUCT\('[^']*',\s*'[^']*'")
 _NOISE = re.compile(rb"(?<![\w.#])-?\d\.\d*E-(?:1[3-9]|[2-9]\d|\d{3})(?![\w.])")
 
 
@@ -65,11 +63,7 @@ def step_bytes(shape: Any, name: str = "ductgen", unit: str = "mm") -> bytes:
 
             raise ExportError("the STEP writer failed")
         data = path.read_bytes()
-    stamp = build_datetime().strftime("%Y-%m-%dT%H:%M:%S").encode()
-    data = _FILE_NAME.sub(lambda m: b"FILE_NAME('" + m.group(1) + b"','" + stamp + b"'", data, 1)
-    # the writer numbers products per process ("name 1", "name 2", ...): keep the name
-    plain = name.encode("ascii", "replace").replace(b"'", b"''")
-    data = _PRODUCT.sub(b"PRODUCT('" + plain + b"','" + plain + b"'", data, 1)
+    data = stamp_step(data, name)
     # coordinates below 1e-12 (mm, or of a unit vector) are rounding noise that differs
     # between runs of the shape fixing: write them as zero
     return _NOISE.sub(b"0.", data)

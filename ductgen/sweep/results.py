@@ -28,6 +28,7 @@ class VariantTask:
     raw: dict[str, Any]
     design: Design | None = None
     cfd: str | None = None  # mesh of the CFD check per variant (ductgen sweep --cfd)
+    cache: bool = True  # use the solid cache (ductgen sweep --no-cache: False)
 
 
 @dataclass

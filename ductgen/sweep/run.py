@@ -81,6 +81,7 @@ def build_variant(task: VariantTask) -> VariantResult:
             force=True,
             quality=task.quality,
             design=task.design,
+            cache=task.cache,
         )
         if task.cfd:  # ductgen sweep --cfd
             from ductgen.cfd import cfd_for_build
@@ -211,6 +212,7 @@ def run_sweep(
     scheduler: str | None = None,
     progress: Callable[[VariantResult | None, int, int, int], None] | None = None,
     cfd: str | None = None,
+    cache: bool = True,
 ) -> SweepResult:
     """Build every variant of a sweep and write ``comparison.csv/json/html`` into ``out_dir``.
 
@@ -227,6 +229,8 @@ def run_sweep(
         progress: called as ``progress(result, done, failed, total)`` once before the first
             build (result None) and after each variant.
         cfd: run the OpenFOAM check (:mod:`ductgen.cfd`) on this mesh for every variant.
+        cache: take solids from the solid cache and store new ones (:mod:`ductgen.cache`);
+            False bypasses it.
 
     Raises:
         SpecError: (before anything is built) for a bad ``--vary``, an invalid variant, an
@@ -286,6 +290,7 @@ def run_sweep(
             v.raw,
             v.design,
             cfd,
+            cache,
         )
         for v in variants
     ]

@@ -1,0 +1,188 @@
+"""The build's kernel stages through the solid cache (:mod:`ductgen.cache`).
+
+A solid's entry is keyed by the design's numbers (the frozen :class:`~ductgen.design.Design`
+without its name and warnings: the spec's text, name and ``[flow]`` keys do not enter), the
+solid kind, the STL quality, the ductgen version, the source of the packages that make solids
+and the CAD kernel's versions. It holds the STEP and STL bytes and every number the report
+and the later stages take from the solid (volumes, areas, face count, the STL mesh for the
+print checks and the preview). The insert's bed-size pieces are keyed by the insert's key and
+the split inputs. On a hit the STEP's product name and time stamp are set for this build
+(:func:`~ductgen.solids.step_text.stamp_step`), so the files equal a fresh build's; a build
+whose every solid hits starts no kernel work for them.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import functools
+import time
+from collections.abc import Callable
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from ductgen.atomic import write_atomic
+from ductgen.cache import Cache, fingerprint, kernel_versions, source_fingerprint
+from ductgen.design import Design
+from ductgen.solids.step_text import stamp_step
+from ductgen.tolerances import STL_QUALITY
+
+__all__ = ["SolidStage", "design_key"]
+
+#: What makes a solid: the packages and modules whose source enters the key.
+_SOLID_SOURCES = (
+    "solids",
+    "geometry",
+    "design",
+    "tolerances.py",
+    "units.py",
+    "meshstats.py",
+    "stamp.py",
+    "cache.py",
+)
+_JOB = "ductgen.solids.jobs:build_solids"
+_SPLIT_JOB = "ductgen.solids.split:split_insert_job"
+
+
+@functools.cache
+def _code_key() -> str:
+    return fingerprint(kernel_versions(), source_fingerprint(_SOLID_SOURCES))
+
+
+def design_key(d: Design) -> str | None:
+    """The key of ``d``'s solids (None when the design holds something the hash cannot
+    read: then nothing is cached)."""
+    skip = ("name", "warnings", "fabrication_checked")  # not what solids are made from
+    fields = {f.name: getattr(d, f.name) for f in dataclasses.fields(d) if f.name not in skip}
+    g = d.geometry
+    fields["geometry"] = {f.name: getattr(g, f.name) for f in dataclasses.fields(g)}
+    del fields["geometry"]["name"]
+    try:
+        return fingerprint("design", fields, _code_key())
+    except TypeError:
+        return None
+
+
+class SolidStage:
+    """The solids and the insert split of one build, hits from ``cache``, misses from the
+    kernel worker through ``run(job, *args)``.
+
+    Attributes:
+        hits, misses: solid kinds (and ``"insert split"``) served from the cache or built.
+    """
+
+    def __init__(self, cache: Cache | None, design: Design, quality: str, run: Callable) -> None:
+        self.cache = cache
+        self.design = design
+        self.quality = quality
+        self.run = run
+        self.dkey = design_key(design) if cache is not None else None
+        self.keys: dict[str, str] = {}
+        self.hits: list[str] = []
+        self.misses: list[str] = []
+
+    def _key(self, *parts: Any) -> str | None:
+        if self.cache is None or self.dkey is None:
+            return None
+        return fingerprint(self.dkey, STL_QUALITY[self.quality], *parts)
+
+    def solids(self, kinds: list[str], prefix: str, staging: Path) -> dict[str, dict[str, Any]]:
+        """Per kind what :func:`ductgen.solids.jobs.build_solids` returns, its files staged."""
+        got: dict[str, dict[str, Any]] = {}
+        missing = []
+        for kind in kinds:
+            t0 = time.perf_counter()
+            key = self._key("solid", kind, self.quality)
+            entry = None if key is None or self.cache is None else self.cache.get(key)
+            if key is not None:
+                self.keys[kind] = key
+            if entry is None:
+                missing.append(kind)
+                continue
+            got[kind] = _solid_from_entry(entry, kind, prefix, staging)
+            got[kind]["seconds"] = {"cache_s": time.perf_counter() - t0}
+            self.hits.append(kind)
+        if missing:
+            built = self.run(_JOB, self.design, missing, self.quality, prefix, str(staging))
+            for kind in missing:
+                got[kind] = built[kind]
+                self.misses.append(kind)
+                if kind in self.keys and self.cache is not None:
+                    self.cache.put(self.keys[kind], *_solid_to_entry(built[kind], staging))
+        return {k: got[k] for k in kinds}
+
+    def split_insert(
+        self,
+        staging: Path,
+        step_name: str,
+        prefix: str,
+        plan: tuple[list[float], str],
+        bed: tuple[float, float, float],
+        frame: tuple[list[float], list[list[float]]] | None,
+    ) -> list[dict[str, Any]]:
+        """The insert's bed-size pieces (see :func:`ductgen.solids.split.split_insert_job`)."""
+        stations, up = plan
+        base = self.keys.get("insert")
+        key = None if base is None else self._key("split", base, stations, up, bed, frame)
+        entry = None if key is None or self.cache is None else self.cache.get(key)
+        if entry is not None:
+            self.hits.append("insert split")
+            return _pieces_from_entry(entry, prefix, staging)
+        pieces = self.run(
+            _SPLIT_JOB,
+            str(staging),
+            step_name,
+            prefix,
+            stations,
+            bed,
+            up,
+            self.quality,
+            frame,
+        )
+        self.misses.append("insert split")
+        if key is not None and self.cache is not None:
+            blobs = {}
+            for k, p in enumerate(pieces):
+                for fmt in ("step", "stl"):
+                    blobs[f"{fmt}{k}"] = (staging / p[fmt]).read_bytes()
+            meta = [{k: v for k, v in p.items() if k not in ("step", "stl")} for p in pieces]
+            self.cache.put(key, {"pieces": meta}, blobs)
+        return pieces
+
+
+def _solid_to_entry(r: dict[str, Any], staging: Path) -> tuple[dict[str, Any], dict[str, Any]]:
+    meta = {k: v for k, v in r.items() if k not in ("files", "seconds", "mesh")}
+    meta["check_mesh"] = list(meta["check_mesh"])
+    verts, faces = r["mesh"]
+    blobs = {
+        "step": (staging / r["files"]["step"]).read_bytes(),
+        "stl": (staging / r["files"]["stl"]).read_bytes(),
+        "verts": np.asarray(verts),
+        "faces": np.asarray(faces),
+    }
+    return meta, blobs
+
+
+def _solid_from_entry(entry: Any, kind: str, prefix: str, staging: Path) -> dict[str, Any]:
+    step_name, stl_name = f"{prefix}-{kind}.step", f"{prefix}-{kind}.stl"
+    write_atomic(staging / step_name, stamp_step(entry.blobs["step"], f"{prefix}-{kind}"))
+    write_atomic(staging / stl_name, entry.blobs["stl"])
+    out: dict[str, Any] = {}
+    for k, v in entry.meta.items():  # the worker's key order (the report reads some in order)
+        out[k] = tuple(v) if k == "check_mesh" else v
+        if k == "check_mesh":
+            out["files"] = {"step": step_name, "stl": stl_name}
+            out["seconds"] = {}
+            out["mesh"] = (entry.blobs["verts"], entry.blobs["faces"])
+    return out
+
+
+def _pieces_from_entry(entry: Any, prefix: str, staging: Path) -> list[dict[str, Any]]:
+    pieces = []
+    for k, meta in enumerate(entry.meta["pieces"]):
+        base = f"{prefix}-insert-part{k + 1}"
+        write_atomic(staging / f"{base}.step", stamp_step(entry.blobs[f"step{k}"], base))
+        write_atomic(staging / f"{base}.stl", entry.blobs[f"stl{k}"])
+        pieces.append({"step": f"{base}.step", "stl": f"{base}.stl", **meta})
+    return pieces
