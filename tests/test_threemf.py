@@ -68,3 +68,20 @@ def test_bytes_depend_on_the_meshes_only() -> None:
     with zipfile.ZipFile(io.BytesIO(a)) as z:
         assert set(z.namelist()) == {"[Content_Types].xml", "_rels/.rels", "3D/3dmodel.model"}
         assert b'unit="millimeter"' in z.read("3D/3dmodel.model")
+
+
+@pytest.mark.slow
+def test_every_sample_insert_3mf_holds_its_pieces(sample_builds) -> None:  # type: ignore[no-untyped-def]
+    """``NAME-insert.3mf`` of every sample: millimetres, one object per printed piece, each
+    with the volume of its STL (trimesh's own volume of each file), standing on the plate."""
+    for name, (result, folder) in sample_builds.items():
+        files = result.report["files"]
+        stls = [v for k, v in files.items() if k.startswith("insert_part") and k.endswith("_stl")]
+        stls = stls or [files["insert_stl"]]
+        scene = trimesh.load(folder / files["insert_3mf"], file_type="3mf")
+        assert scene.units in ("millimeters", "mm", "millimeter"), name
+        meshes = list(scene.dump())
+        want = sorted(trimesh.load(folder / s, file_type="stl").volume for s in stls)
+        assert sorted(m.volume for m in meshes) == pytest.approx(want, rel=1e-6), name
+        for m in meshes:
+            assert m.bounds[0][2] == pytest.approx(0.0, abs=1e-6), name

@@ -20,7 +20,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-__all__ = ["PLATE_GAP_MM", "PlatePart", "plate_3mf", "turn_up"]
+__all__ = ["PLATE_GAP_MM", "PlatePart", "plate_3mf", "stl_part", "turn_up"]
 
 #: Gap between parts laid side by side on the plate (mm).
 PLATE_GAP_MM = 10.0
@@ -123,3 +123,18 @@ def plate_3mf(parts: list[PlatePart], up: str, title: str) -> bytes:
             info.compress_type = zipfile.ZIP_DEFLATED
             z.writestr(info, text.encode("utf-8"))
     return buf.getvalue()
+
+
+def stl_part(
+    name: str, stl: bytes, frame: tuple[np.ndarray, np.ndarray] | None = None
+) -> PlatePart:
+    """A part from STL bytes (mm), taken into ``frame`` = (origin, rows of axes) when given:
+    a part on the user's panel is judged for printing in its datum's frame."""
+    import trimesh
+
+    mesh = trimesh.Trimesh(**trimesh.exchange.stl.load_stl(io.BytesIO(stl)), process=True)
+    v = np.array(mesh.vertices, dtype=np.float64)
+    if frame is not None:
+        origin, axes = frame
+        v = (v - np.asarray(origin, dtype=float)) @ np.asarray(axes, dtype=float).T
+    return PlatePart(name, v, np.asarray(mesh.faces, dtype=np.int64))

@@ -76,6 +76,8 @@ def planned_files(spec: Spec, kinds: list[str]) -> list[str]:
     for k in kinds:
         if k in SOLID_KINDS:
             names += [f"{spec.name}-{k}.step", f"{spec.name}-{k}.stl"]
+            if k == "insert":
+                names.append(f"{spec.name}-insert.3mf")
         else:
             names += [f"{spec.name}-{suffix}" for suffix in OUTPUTS[k].suffixes]
     return [*names, "report.json"]
@@ -207,6 +209,7 @@ def build(
         if "panel" in report["geometry"]["skin"]:
             files["panel_step"] = f"{spec.name}-panel.step"
         plan = insert_split_plan(report) if "insert" in solids else None
+        pieces: list[dict[str, Any]] = []
         if plan is not None:  # the insert is larger than the bed: keyed pieces that fit
             note("insert split")
             t0 = time.perf_counter()
@@ -224,6 +227,11 @@ def build(
                     files[f"insert_part{k}_{fmt}"] = piece[fmt]
             add_insert_pieces(report, pieces)
             seconds["insert_split_s"] = time.perf_counter() - t0
+        if "insert" in solids:
+            stls = [p["stl"] for p in pieces] if plan is not None else [files["insert_stl"]]
+            name = f"{spec.name}-insert.3mf"
+            out.add(name, _plate(out.staging, stls, report, frame, spec.name))
+            files["insert_3mf"] = name
         for k in kinds:
             if k in OUTPUTS:
                 note(k)
@@ -245,3 +253,14 @@ def build(
         design=design,
         cache={"hits": stage.hits, "misses": stage.misses},
     )
+
+
+def _plate(staging: Path, stls: list[str], report: dict[str, Any], frame: Any, title: str) -> bytes:
+    """``NAME-insert.3mf``: the insert (or its pieces) on one plate, standing as the report's
+    bed fit says (in the datum's frame on a panel)."""
+    from ductgen.export.threemf import plate_3mf, stl_part
+
+    up = str(report.get("print", {}).get("bed", {}).get("insert", {}).get("orientation_up", "+z"))
+    where = None if frame is None else (frame.origin, frame.axes)
+    parts = [stl_part(n.removesuffix(".stl"), (staging / n).read_bytes(), where) for n in stls]
+    return plate_3mf(parts, up, title)
