@@ -108,7 +108,7 @@ def env_limit(
     text = os.environ.get(name, "").strip()
     if not text:
         return default
-    allowed = f"{'a whole number' if whole else 'a number'} from {lo:g} to {hi:g} {unit}"
+    allowed = f"{'a whole number' if whole else 'a number'} from {lo:,.10g} to {hi:,.10g} {unit}"
     try:
         value = float(text)
     except ValueError:

@@ -435,14 +435,14 @@ def test_recovery_table_too_large_is_refused(tmp_path: Path, capsys) -> None:  #
 @pytest.mark.parametrize(
     ("name", "value", "words"),
     [
-        ("DUCTGEN_MEMORY_MB", "lots", ["not a number", "from 3072 to"]),
-        ("DUCTGEN_MEMORY_MB", "50", ["too little memory", "from 3072 to"]),
+        ("DUCTGEN_MEMORY_MB", "lots", ["not a number", "from 3,072 to"]),
+        ("DUCTGEN_MEMORY_MB", "50", ["too little memory", "from 3,072 to"]),
         ("DUCTGEN_MEMORY_MB", "4096.5", ["a whole number"]),
-        ("DUCTGEN_MEMORY_MB", "1e30", ["to 1.04858e+06 MiB"]),
-        ("DUCTGEN_TIMEOUT_S", "soon", ["not a number", "from 0.1 to 86400 s"]),
-        ("DUCTGEN_TIMEOUT_S", "nan", ["from 0.1 to 86400 s"]),
+        ("DUCTGEN_MEMORY_MB", "1e30", ["to 1,048,576 MiB"]),
+        ("DUCTGEN_TIMEOUT_S", "soon", ["not a number", "from 0.1 to 86,400 s"]),
+        ("DUCTGEN_TIMEOUT_S", "nan", ["from 0.1 to 86,400 s"]),
         ("DUCTGEN_TIMEOUT_S", "-5", ["too short"]),
-        ("DUCTGEN_TIMEOUT_S", "inf", ["from 0.1 to 86400 s"]),
+        ("DUCTGEN_TIMEOUT_S", "inf", ["from 0.1 to 86,400 s"]),
     ],
 )
 @pytest.mark.parametrize("command", ["build", "sweep"])
