@@ -88,3 +88,15 @@ def sample_builds(tmp_path_factory: pytest.TempPathFactory) -> dict:
         folder = base / path.stem
         out[path.stem] = (build(spec, folder), folder)
     return out
+
+
+@pytest.fixture
+def keep_signal_handlers() -> Iterator[None]:
+    """SIGTERM and SIGHUP handlers as they were before the test (``cli.main`` installs its
+    own when a test calls it)."""
+    import signal
+
+    saved = {s: signal.getsignal(s) for s in (signal.SIGTERM, signal.SIGHUP)}
+    yield
+    for s, h in saved.items():
+        signal.signal(s, h)

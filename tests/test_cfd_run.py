@@ -6,8 +6,6 @@ replaces the case folder whole. No OpenFOAM needed (nothing is run)."""
 from __future__ import annotations
 
 import json
-import signal
-from collections.abc import Iterator
 from pathlib import Path
 
 import pytest
@@ -15,13 +13,7 @@ import pytest
 from ductgen.cli.app import main
 from tests.conftest import SAMPLES
 
-
-@pytest.fixture(autouse=True)
-def _keep_signal_handlers() -> Iterator[None]:
-    saved = {s: signal.getsignal(s) for s in (signal.SIGTERM, signal.SIGHUP)}
-    yield
-    for s, h in saved.items():
-        signal.signal(s, h)
+pytestmark = pytest.mark.usefixtures("keep_signal_handlers")
 
 
 @pytest.mark.slow

@@ -5,7 +5,6 @@ a server that speaks another protocol), and nothing written. Only 127.0.0.1 is u
 
 from __future__ import annotations
 
-import signal
 import socket
 import threading
 from collections.abc import Callable, Iterator
@@ -19,13 +18,7 @@ from ductgen.sweep.scheduler import check_scheduler, split_address
 from tests.conftest import GOOD
 from tests.test_hardening_inputs import _tree_digest
 
-
-@pytest.fixture(autouse=True)
-def _keep_signal_handlers() -> Iterator[None]:
-    saved = {s: signal.getsignal(s) for s in (signal.SIGTERM, signal.SIGHUP)}
-    yield
-    for s, h in saved.items():
-        signal.signal(s, h)
+pytestmark = pytest.mark.usefixtures("keep_signal_handlers")
 
 
 def _closed_port() -> int:

@@ -159,20 +159,21 @@ class LipSpec(Section):
     ]
 
 
+#: The throat-to-outlet transition's length, the same for every outlet kind.
+_TRANSITION_LENGTH = Field(
+    gt=0,
+    le=10_000,
+    description="length of the throat-to-outlet transition; at most 10 m (a longer run is a "
+    "hose: a loss in [flow])",
+)
+
+
 class RoundOutlet(Section):
     """A round outlet: the duct ends in a hose spigot of inner diameter ``diameter``."""
 
     kind: Literal["round"] = "round"
     diameter: Annotated[Mm, Field(gt=0, le=1000, description="hose inner diameter")]
-    transition_length: Annotated[
-        Mm,
-        Field(
-            gt=0,
-            le=10_000,
-            description="length of the throat-to-outlet transition; at most 10 m (a longer "
-            "run is a hose: a loss in [flow])",
-        ),
-    ]
+    transition_length: Annotated[Mm, _TRANSITION_LENGTH]
     spigot_length: Annotated[
         Mm,
         Field(
@@ -194,15 +195,7 @@ class RectOutlet(Section):
     kind: Literal["rect"] = "rect"
     width: Annotated[Mm, Field(gt=0, le=3000, description="outlet width")]
     height: Annotated[Mm, Field(gt=0, le=1000, description="outlet height")]
-    transition_length: Annotated[
-        Mm,
-        Field(
-            gt=0,
-            le=10_000,
-            description="length of the throat-to-outlet transition; at most 10 m (a longer "
-            "run is a hose: a loss in [flow])",
-        ),
-    ]
+    transition_length: Annotated[Mm, _TRANSITION_LENGTH]
     spigot_length: Annotated[
         Mm,
         Field(
