@@ -15,11 +15,15 @@ from __future__ import annotations
 
 import argparse
 import json
+import sys
 import tempfile
 import time
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
+# the package of this checkout, not whichever ductgen is installed (python puts bench/ first
+# on the path, so an installed copy of another checkout would be measured instead)
+sys.path.insert(0, str(ROOT))
 
 
 def _f(v: float | None, width: int, digits: int) -> str:
