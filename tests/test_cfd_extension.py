@@ -3,6 +3,7 @@ duct system left behind it (ductgen.cfd.extension), without the solver."""
 
 from __future__ import annotations
 
+import math
 from pathlib import Path
 
 import numpy as np
@@ -69,7 +70,7 @@ def test_system_behind_the_extension_is_the_budget_with_a_shorter_hose(tmp_path:
     club = next(p for p in SAMPLES if p.stem == "club-racer-brake")
     spec = load_spec(club)
     design = build_design(spec, check_fabrication=False)
-    plan = extension_plan(spec, 0.07, 8.0)
+    plan = extension_plan(spec, 0.07, 8.0, math.pi * 0.0762**2 / 4.0)
     # the first hose's diameter (3 in) sets the length: 8 × 76.2 mm
     assert plan.diameter_m == pytest.approx(0.0762) and plan.length_m == pytest.approx(0.6096)
     assert plan.diameters == 8.0 and plan.source == "first hose diameter"
@@ -85,5 +86,18 @@ def test_system_behind_the_extension_is_the_budget_with_a_shorter_hose(tmp_path:
         assert need(q) == pytest.approx(rest, rel=1e-9)
     # no hose: the outlet's hydraulic diameter, a smooth run
     drone = load_spec(next(p for p in SAMPLES if p.stem == "drone-avionics-vent"))
-    p2 = extension_plan(drone, 0.02, 8.0)
+    p2 = extension_plan(drone, 0.02, 8.0, 0.036 * 0.01)
     assert p2.diameter_m == 0.02 and p2.roughness_m == 0.0 and p2.length_m == pytest.approx(0.16)
+    # a rectangular run of hydraulic diameter D_h loses f·L/D_h at its own velocity Q/A
+    # (Darcy with the hydraulic diameter; textbook, recalled): the credit is the smooth
+    # hose element's loss evaluated at that velocity
+    from ductgen.flow.losses import HoseElement
+
+    need2 = downstream_need(drone, build_design(drone, check_fabrication=False), p2)
+    air = build_system(drone.flow, build_design(drone, check_fabrication=False).duct)[0]
+    q = 0.008
+    v = q / (0.036 * 0.01)
+    run = HoseElement("r", 0.16, 0.02, 0.0).evaluate(v * math.pi * 0.02**2 / 4.0, air.air)
+    assert run.velocity_m_s == pytest.approx(v)
+    rest = sum(i.dp_pa for i in air.budget(q) if i.element != TRANSITION_NAME)
+    assert need2(q) == pytest.approx(rest - run.dp_pa, rel=1e-12)

@@ -8,11 +8,13 @@ diameters with the outlet's own cross-section, and the outlet boundary at its en
 the rest of the 1-D budget: every element but the internal transition (the CFD resolves
 it), minus the friction the modelled run already has, counted as the 1-D model counts a
 hose (Darcy f·L/D with the first hose's diameter and roughness; with no hose, a smooth run
-of the outlet's hydraulic diameter).
+of the outlet's hydraulic diameter), at the run's own mean velocity Q/A (A the outlet's area:
+a rectangular run of hydraulic diameter D_h is not as fast as a round one of diameter D_h).
 """
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
@@ -27,25 +29,28 @@ __all__ = ["ExtensionPlan", "downstream_need", "extension_plan"]
 class ExtensionPlan:
     """Length (m) of the modelled extension and the diameter (m) and roughness (m) its
     1-D friction is counted with; ``diameters`` = length / diameter; ``source`` says
-    where the diameter came from."""
+    where the diameter came from; ``area_m2`` the run's cross-section (the outlet's, m²)."""
 
     length_m: float
     diameter_m: float
     roughness_m: float
     diameters: float
     source: str
+    area_m2: float
 
 
-def extension_plan(spec: Spec, hydraulic_diameter_m: float, diameters: float) -> ExtensionPlan:
+def extension_plan(
+    spec: Spec, hydraulic_diameter_m: float, diameters: float, area_m2: float
+) -> ExtensionPlan:
     """The extension of ``diameters`` hose diameters: the spec's first hose's diameter,
-    else the outlet's hydraulic diameter 4A/P (m)."""
+    else the outlet's hydraulic diameter 4A/P (m); ``area_m2`` the outlet's area (m²)."""
     losses = spec.flow.losses if spec.flow is not None else ()
     hose = next((e for e in losses if isinstance(e, HoseLoss)), None)
     if hose is not None:
         d, rough, src = float(hose.diameter), float(hose.roughness), "first hose diameter"
     else:
         d, rough, src = hydraulic_diameter_m, 0.0, "outlet hydraulic diameter (no hose)"
-    return ExtensionPlan(diameters * d, d, rough, diameters, src)
+    return ExtensionPlan(diameters * d, d, rough, diameters, src, area_m2)
 
 
 def downstream_need(spec: Spec, design: Any, plan: ExtensionPlan) -> Callable[[float], float]:
@@ -57,9 +62,11 @@ def downstream_need(spec: Spec, design: Any, plan: ExtensionPlan) -> Callable[[f
 
     system = build_system(spec.flow, design.duct)[0]
     run = HoseElement("modelled extension", plan.length_m, plan.diameter_m, plan.roughness_m)
+    # the element's velocity is q / (π d²/4); scale q so that it is the run's own Q / A
+    to_round = math.pi * plan.diameter_m**2 / 4.0 / plan.area_m2
 
     def need(q: float) -> float:
         rest = sum(i.dp_pa for i in system.budget(q) if i.element != TRANSITION_NAME)
-        return rest - (run.evaluate(q, system.air).dp_pa if q > 0.0 else 0.0)
+        return rest - (run.evaluate(q * to_round, system.air).dp_pa if q > 0.0 else 0.0)
 
     return need

@@ -248,7 +248,9 @@ def cfd_for_build(
         (lo[0] - 10 * span, -10 * span),
         (hi[0] + 10 * span, 10 * span, 10 * span),
     )
-    plan = extension_plan(spec, surface.outlet_hydraulic_diameter_m, EXTENSION_DIAMETERS)
+    plan = extension_plan(
+        spec, surface.outlet_hydraulic_diameter_m, EXTENSION_DIAMETERS, surface.outlet_area_m2
+    )
     surface = extend_outlet(surface, plan.length_m)
     need = downstream_need(spec, design, plan)
     names = list(MESH_LEVELS) if mesh == "study" else [mesh]
