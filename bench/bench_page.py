@@ -4,7 +4,7 @@ Run: ``python bench/bench_page.py [--changes N] [--profile]``. A live page serve
 ``ductgen design`` runs, on a free port, in this process) answers ``POST /api/preview`` for
 every sample, once per change of the ramp angle (5.0°, 5.1°, ... so every answer is new).
 Two times are shown per sample, in milliseconds: ``server``, the request handler from the
-first byte read to the answer written (what the issue's 50 ms median refers to), its
+first byte read to the answer written (what the 50 ms median target refers to), its
 ``CPU`` time (the handler thread's; less sensitive to other work on the machine), and
 ``round trip`` as a client measures it. Median, 10th and 90th percentile and the largest.
 ``--profile`` prints the 15 most expensive functions of one sample's previews (cProfile).

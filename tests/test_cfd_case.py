@@ -76,26 +76,38 @@ def test_case_written_for_every_sample(sample_builds: dict, name: str, tmp_path:
         assert (case / rel).is_file(), rel
     # patches named: the three wetted regions in the STL, the far-field patches in blockMesh
     stl_text = (case / "constant/triSurface/duct.stl").read_text()
-    assert re.findall(r"^solid (\w+)", stl_text, re.M) == ["floor", "cavity", "outlet"]
+    assert re.findall(r"^solid (\w+)", stl_text, re.M) == ["floor", "cavity", "hose", "outlet"]
     block = (case / "system/blockMeshDict").read_text()
     for patch in ("inlet", "outflow", "top", "sides"):
         assert re.search(rf"^\s*{patch}\b", block, re.M), patch
-    for patch in ("duct_outlet", "duct_floor|duct_cavity", "inlet", "outflow"):
+    for patch in ("duct_outlet", "duct_floor|duct_cavity|duct_hose", "inlet", "outflow"):
         assert patch in (case / "0/p").read_text()
     # units in metres: the walls below the skin span the cutter's extent (mm, as built)
     # times 1e-3; the floor lies in the skin plane z = 0
     result, folder = sample_builds[name]
     cutter = trimesh.load(next(folder.glob("*-cutter.stl")), force="mesh")
-    cav = np.vstack([_vertices(stl_text, "cavity"), _vertices(stl_text, "outlet")])
+    cav = _vertices(stl_text, "cavity")
     lo, hi = cutter.bounds * 1e-3
     assert np.allclose(cav.min(axis=0), lo, atol=2e-5)
     assert np.allclose(cav.max(axis=0)[:2], hi[:2], atol=2e-5)
     assert abs(cav.max(axis=0)[2]) < 1e-9
     assert np.all(_vertices(stl_text, "floor")[:, 2] == 0.0)
+    # the straight extension starts at the cutter's outlet face and runs at least five
+    # hose diameters along +x; the outlet boundary is its end face
+    level = section["levels"][0]
+    hose, out = _vertices(stl_text, "hose"), _vertices(stl_text, "outlet")
+    assert hose[:, 0].min() == pytest.approx(hi[0], abs=2e-6)
+    assert np.all(out[:, 0] == pytest.approx(hi[0] + level["outlet_extension_m"], abs=2e-6))
+    assert level["outlet_extension_diameters"] >= 5.0
+    # the background mesh reaches past the extension's end
+    x1 = float(re.search(r"\(\S+ \S+ \S+\) \((\S+) ", block).group(1))
+    assert x1 > out[:, 0].max()
     assert "convertToMeters 1;" in block
     # the throat depth in mm from the report, in metres in the background cell size
     d_m = result.report["geometry"]["throat_depth_mm"] * 1e-3
-    assert section["levels"][0]["base_cell_m"] == pytest.approx(d_m / 2.0, rel=1e-12)
+    from ductgen.cfd.case import COARSE_CELLS_PER_DEPTH
+
+    assert level["base_cell_m"] == pytest.approx(d_m / COARSE_CELLS_PER_DEPTH, rel=1e-12)
 
 
 @pytest.mark.openfoam

@@ -59,18 +59,26 @@ def test_oscillatory_and_degenerate() -> None:
 def test_study_states_gci_or_range() -> None:
     from ductgen.cfd.run import STUDY_KEYS, _study
 
+    cells = (40_000, 130_000, 430_000)  # coarse, medium, fine
+    hs = [(1.0 / n) ** (1.0 / 3.0) for n in cells]  # Celik's h = (V/N)^(1/3), V = 1 m³
+
     def levels(values: list[float]) -> list[dict]:
-        hs = (0.014, 0.01, 0.014 / 1.96)  # coarse, medium, fine: ratio 1.4 per step
         return [
-            {"base_cell_m": h, "representative_cell_m": h / 2, **dict.fromkeys(STUDY_KEYS, v)}
-            for h, v in zip(hs, values, strict=True)
+            {"cells": n, "representative_cell_m": h, **dict.fromkeys(STUDY_KEYS, v)}
+            for n, h, v in zip(cells, hs, values, strict=True)
         ]
 
-    # derived: phi = 0.7 + 40 h^2 exactly (order 2): the GCI is the stated uncertainty
-    mono = _study(levels([0.7 + 40 * h * h for h in (0.014, 0.01, 0.014 / 1.96)]))
+    # derived: phi = 0.7 + 40 h^2 exactly (order 2) with h from the cell counts: the GCI is
+    # the stated uncertainty and the refinement ratios are the counts' cube roots
+    mono = _study(levels([0.7 + 40 * h * h for h in hs]))
     g = mono["volume_flow_m3_s"]
     assert g["uncertainty_basis"].startswith("GCI")
     assert g["uncertainty_rel"] == g["gci_fine"] and g["extrapolated"] == pytest.approx(0.7)
+    r = mono["refinement_ratio_from_cells"]
+    assert r["r21"] == pytest.approx((430_000 / 130_000) ** (1 / 3))
+    assert r["r32"] == pytest.approx((130_000 / 40_000) ** (1 / 3))
+    assert r["overall"] == pytest.approx((430_000 / 40_000) ** (1 / 3))
+    assert g["r21"] == pytest.approx(r["r21"]) and g["order"] == pytest.approx(2.0)
     # oscillating values (coarse 91.3, medium 90.2, fine 92.0 as measured on a sample):
     # the range of the three meshes relative to the fine value, (92.0 - 90.2) / 92.0
     osc = _study(levels([91.3, 90.2, 92.0]))["volume_flow_m3_s"]

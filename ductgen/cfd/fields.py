@@ -88,7 +88,7 @@ def field_files(
     cx, cy = direction
     u0 = f"({speed_m_s * cx:.8g} {speed_m_s * cy:.8g} 0)"
     k0, w0 = p.k_m2_s2[-1], p.omega_1_s[-1]
-    walls = "duct_floor|duct_cavity|lowerBox"
+    walls = "duct_floor|duct_cavity|duct_hose|lowerBox"
     far = "top|sides"
     fields = {
         "U": (

@@ -77,10 +77,10 @@ def render(case: Path, out_dir: Path, name: str, p_inf: float, speed: float) -> 
     pl.close()
 
     # streamlines over the ramp
-    b = walls.bounds
+    cav = walls.clip(normal=(0, 0, 1), origin=(0, 0, -1e-5), invert=True)
+    b = cav.bounds  # the cavity below the skin frames the view (the skin spans the domain)
     length = b[1] - b[0]
     xs = max(internal.bounds[0] + 1e-3, -0.08 * length)
-    cav = walls.clip(normal=(0, 0, 1), origin=(0, 0, -1e-5), invert=True)
     half = 0.5 * (cav.bounds[3] - cav.bounds[2])
     depth = -cav.bounds[4]
     z1, z2 = 0.04 * half, 0.12 * half  # inside the boundary layer, just above the skin

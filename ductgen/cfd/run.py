@@ -17,9 +17,17 @@ from collections.abc import Callable
 from pathlib import Path
 from typing import Any
 
-from ductgen.cfd.case import MESH_LEVELS, REFINEMENT_RATIO, case_setup, write_case
+from ductgen.cfd.case import (
+    EXTENSION_DIAMETERS,
+    LAYERS,
+    MESH_LEVELS,
+    REFINEMENT_RATIO,
+    case_setup,
+    write_case,
+)
+from ductgen.cfd.extension import downstream_need, extension_plan
 from ductgen.cfd.gci import gci, representative_size
-from ductgen.cfd.results import case_numbers, total_volume_m3
+from ductgen.cfd.results import case_numbers, cells_across_depth, layer_report, total_volume_m3
 from ductgen.cfd.runner import (
     PLATEAU_SPREAD,
     PLATEAU_TOL,
@@ -29,7 +37,7 @@ from ductgen.cfd.runner import (
     require_openfoam,
     solve,
 )
-from ductgen.cfd.surface import wetted_surface
+from ductgen.cfd.surface import extend_outlet, wetted_surface
 from ductgen.cfd.templates import FLAVOUR
 from ductgen.errors import SpecError
 from ductgen.spec.model import Spec
@@ -72,21 +80,6 @@ def check_inputs(spec: Spec, mesh: str, n_procs: int, write_only: bool) -> None:
         require_openfoam()
 
 
-def _downstream(spec: Spec, design: Any) -> Callable[[float], float]:
-    """Q (m³/s) → static pressure above ambient (Pa) the duct system behind the cutter's
-    outlet needs: the 1-D budget without the internal transition and without the lines of
-    its non-uniform outflow (the CFD resolves both: its outlet carries the real profile)."""
-    from ductgen.flow.report import TRANSITION_NAME, build_system
-
-    system = build_system(spec.flow, design.duct)[0]
-    resolved = {TRANSITION_NAME, "hose mixing", "plenum dump", "plenum dump (alpha - 1)"}
-
-    def need(q: float) -> float:
-        return sum(i.dp_pa for i in system.budget(q) if i.element not in resolved)
-
-    return need
-
-
 def _allrun(n_procs: int) -> str:
     par = (
         f"decomposePar -force\nmpirun -np {n_procs} simpleFoam -parallel\n"
@@ -111,6 +104,8 @@ def _one_mesh(
     allrun.chmod(0o755)
     info: dict[str, Any] = {
         "mesh": setup.mesh,
+        "outlet_extension_m": setup.extension_m,
+        "outlet_extension_diameters": setup.extension_m / setup.extension_diameter_m,
         "speed_m_s": setup.speed_m_s,
         "base_cell_m": setup.base_cell_m,
         "max_iterations": setup.max_iterations,
@@ -130,8 +125,16 @@ def _one_mesh(
         setup.max_iterations,
         lambda it, cap: note(f"{setup.mesh}: solving", it, cap),
     )
-    nums = case_numbers(case_dir, setup.speed_m_s, setup.throat_area_m2, setup.density_kg_m3)
+    nums = case_numbers(
+        case_dir,
+        setup.speed_m_s,
+        setup.throat_area_m2,
+        setup.density_kg_m3,
+        setup.outlet_area_m2,
+        setup.transition_ref_area_m2,
+    )
     volume = total_volume_m3(case_dir)
+    layers = layer_report(case_dir, LAYERS)
     return {
         **info,
         "status": "solved",
@@ -142,7 +145,12 @@ def _one_mesh(
         "check_mesh_failures": list(stats.failures),
         "max_non_orthogonality_deg": stats.max_non_orthogonality,
         "max_skewness": stats.max_skewness,
-        "layer_coverage": stats.layer_coverage,
+        "cells_across_throat_depth": cells_across_depth(case_dir),
+        "prism_layers": LAYERS,
+        "cells_across_throat_depth_core": setup.cells_across_depth_core,
+        "layer_coverage": layers.get("duct_cavity", {}).get("coverage"),
+        "layer_coverage_all_layers": layers.get("duct_cavity", {}).get("coverage_all_layers"),
+        "layers_by_patch": layers,
         "iterations": run.iterations,
         "plateau": run.plateau,
         "flow_iterative_spread": run.flow_spread,
@@ -157,6 +165,7 @@ def _compare(cfd: dict[str, Any], flow: dict[str, Any]) -> dict[str, Any]:
         "volume_flow_m3_s": q1,
         "ram_recovery": r1,
         "inlet_velocity_ratio": flow.get("inlet_velocity_ratio"),
+        "kinetic_energy_factor": 1.0,  # the 1-D model assumes uniform flow everywhere
     }
     t = flow.get("transition_loss") or {}
     if "k" in t:
@@ -171,15 +180,22 @@ def _compare(cfd: dict[str, Any], flow: dict[str, Any]) -> dict[str, Any]:
 
 
 def _study(levels: list[dict[str, Any]]) -> dict[str, Any]:
-    """GCI of each study quantity. The cell size is the nominal background cell: every
-    length of the mesh (background, surface levels, layer thicknesses) scales with it, so
-    its ratio is the true refinement ratio. Celik's (V/N)^(1/3) would understate it here
-    (prism-layer cells grow with the wall area, as r², not r³); it is reported beside."""
+    """GCI of each study quantity with Celik's representative cell size h = (V/N)^(1/3)
+    from each mesh's cell count and volume, so the refinement ratios are the ones the
+    meshes really have (prism-layer cells grow with the wall area, as r², not r³, so they
+    come out below the nominal ratio)."""
     fine, medium, coarse = levels[2], levels[1], levels[0]
-    h = [lv["base_cell_m"] for lv in (fine, medium, coarse)]
+    h = [lv["representative_cell_m"] for lv in (fine, medium, coarse)]
     out: dict[str, Any] = {
-        "method": "Celik et al. (2008), J. Fluids Eng. 130(7) 078001; h = background cell",
-        "representative_cell_m": [lv["representative_cell_m"] for lv in (fine, medium, coarse)],
+        "method": "Celik et al. (2008), J. Fluids Eng. 130(7) 078001; h = (V/N)^(1/3)",
+        "representative_cell_m": h,
+        "cells": [lv["cells"] for lv in (fine, medium, coarse)],
+        "refinement_ratio_nominal": REFINEMENT_RATIO,
+        "refinement_ratio_from_cells": {
+            "r21": h[1] / h[0],
+            "r32": h[2] / h[1],
+            "overall": (fine["cells"] / coarse["cells"]) ** (1.0 / 3.0),
+        },
     }
     for key in STUDY_KEYS:
         vals = [fine[key], medium[key], coarse[key]]
@@ -233,11 +249,17 @@ def cfd_for_build(
         (lo[0] - 10 * span, -10 * span),
         (hi[0] + 10 * span, 10 * span, 10 * span),
     )
-    need = _downstream(spec, design)
+    plan = extension_plan(
+        spec, surface.outlet_hydraulic_diameter_m, EXTENSION_DIAMETERS, surface.outlet_area_m2
+    )
+    surface = extend_outlet(surface, plan.length_m)
+    need = downstream_need(spec, design, plan)
     names = list(MESH_LEVELS) if mesh == "study" else [mesh]
     levels = []
     for name in names:
-        setup = case_setup(spec.name, name, design.geometry, surface, report["flow"], need)
+        setup = case_setup(
+            spec.name, name, design.geometry, surface, report["flow"], need, plan.diameter_m
+        )
         levels.append(_one_mesh(out_dir / f"cfd-{name}", setup, surface, n_procs, write_only, note))
     final = levels[-1]
     warnings = [
@@ -252,15 +274,18 @@ def cfd_for_build(
         "plateau_rule": f"mean duct-outlet flow of the last {PLATEAU_WINDOW} iterations "
         f"within {PLATEAU_TOL:g} (relative) of the {PLATEAU_WINDOW} before, spread "
         f"< {PLATEAU_SPREAD:g}",
-        "outlet_condition": "fanPressure: static pressure of the duct system behind the "
-        "outlet (1-D model's losses without the internal transition), so one solve finds "
-        "the operating point",
+        "outlet_condition": "fanPressure at the end of a straight extension of the duct "
+        f"outlet ({plan.diameters:g} x {plan.diameter_m * 1e3:.1f} mm, {plan.source}): "
+        "static pressure of the duct system behind it (1-D model's losses without the "
+        "internal transition, less the extension's own friction), so one solve finds the "
+        "operating point; recovery and outlet referenced to the far-field ambient p = 0",
         "levels": levels,
         "warnings": warnings,
     }
     if not write_only:
         section["result"] = {k: v for k, v in final.items() if k not in ("y_plus",)}
         section["y_plus_range"] = [final["y_plus"]["min"], final["y_plus"]["max"]]
+        section["y_plus_by_patch"] = final["y_plus"]["by_patch"]
         section["one_d"] = _compare(final, report["flow"])
         if mesh == "study":
             section["study"] = _study(levels)
@@ -279,7 +304,7 @@ def cfd_for_build(
 def _pictures(case: Path, name: str, out_dir: Path, final: dict[str, Any]) -> dict[str, Any]:
     """Render the pictures in a child process (a broken GL stack cannot take the run down)."""
     rho = final["mass_flow_kg_s"] / final["volume_flow_m3_s"]
-    p_inf = final["free_stream_static_pa"] / rho
+    p_inf = final["reference_static_pa"] / rho
     cmd = [sys.executable, "-m", "ductgen.cfd.pictures", str(case), str(out_dir), name]
     cmd += [repr(p_inf), repr(final["speed_m_s"])]
     res = subprocess.run(cmd, capture_output=True, text=True, timeout=600)

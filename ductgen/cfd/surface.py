@@ -6,7 +6,9 @@ on or below the skin plane are kept; they split into three regions:
 
 - ``floor``: the skin (z = 0) with the opening cut out, wall;
 - ``cavity``: every wall below the skin (ramp, divergent walls, lip underside, transition);
-- ``outlet``: the duct's downstream end face (normal +x at the cutter's largest x).
+- ``hose``: the straight extension behind the duct outlet (:func:`extend_outlet`), wall;
+- ``outlet``: the downstream end face (normal +x): the cutter's outlet face, or the end of
+  the extension once it is added.
 
 The slab's outer faces are dropped: the background mesh's own boundary closes the domain.
 """
@@ -17,10 +19,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-__all__ = ["REGIONS", "WettedSurface", "wetted_surface"]
+__all__ = ["REGIONS", "WettedSurface", "extend_outlet", "wetted_surface"]
 
 #: Region names in the STL, in this order; snappyHexMesh names the patches ``duct_<region>``.
-REGIONS = ("floor", "cavity", "outlet")
+REGIONS = ("floor", "cavity", "hose", "outlet")
 
 _EPS_MM = 1e-4
 
@@ -35,6 +37,10 @@ class WettedSurface:
         outlet_area_m2: area of the outlet face (m²).
         outlet_centre_m: centroid of the outlet face (m).
         cavity_bounds_m: ((xmin, ymin, zmin), (xmax, ymax, zmax)) of the cutter (m).
+        transition_exit_x_m: x of the cutter's own outlet face, where the internal
+            transition ends (m); equal to ``outlet_x_m`` until the outlet is extended.
+        outlet_hydraulic_diameter_m: 4 A / P of the outlet face (m).
+        extension_m: length of the straight extension behind the cutter's outlet (m).
     """
 
     triangles: dict[str, np.ndarray]
@@ -42,12 +48,17 @@ class WettedSurface:
     outlet_area_m2: float
     outlet_centre_m: tuple[float, float, float]
     cavity_bounds_m: tuple[tuple[float, float, float], tuple[float, float, float]]
+    transition_exit_x_m: float = 0.0
+    outlet_hydraulic_diameter_m: float = 0.0
+    extension_m: float = 0.0
 
     def stl_text(self, solid_prefix: str = "") -> str:
         """ASCII STL with one ``solid`` per region (metres, 9 significant digits)."""
         out: list[str] = []
         for name in REGIONS:
-            tri = self.triangles[name]
+            tri = self.triangles.get(name)
+            if tri is None or len(tri) == 0:
+                continue
             out.append(f"solid {solid_prefix}{name}")
             n = np.cross(tri[:, 1] - tri[:, 0], tri[:, 2] - tri[:, 0])
             n /= np.maximum(np.linalg.norm(n, axis=1), 1e-300)[:, None]
@@ -100,16 +111,74 @@ def wetted_surface(
     o_area = union.area_faces[outlet]
     o_centre = (centre[outlet] * o_area[:, None]).sum(axis=0) / o_area.sum()
     lo, hi = cutter.bounds * 1e-3
+    out_tri = tri[outlet] * 1e-3
+    perimeter = float(sum(np.linalg.norm(b - a) for a, b in _boundary_edges(out_tri)))
     floor = tri[at_skin].copy()
     floor[:, :, 2] = 0.0  # exactly in the skin plane, a grid plane of the background mesh
     return WettedSurface(
         triangles={
             "floor": floor * 1e-3,
             "cavity": tri[cavity] * 1e-3,
-            "outlet": tri[outlet] * 1e-3,
+            "outlet": out_tri,
         },
         outlet_x_m=x_out * 1e-3,
         outlet_area_m2=float(o_area.sum()) * 1e-6,
         outlet_centre_m=tuple(float(v) * 1e-3 for v in o_centre),  # type: ignore[arg-type]
         cavity_bounds_m=(tuple(map(float, lo)), tuple(map(float, hi))),  # type: ignore[arg-type]
+        transition_exit_x_m=x_out * 1e-3,
+        outlet_hydraulic_diameter_m=4.0 * float(o_area.sum()) * 1e-6 / perimeter,
+    )
+
+
+def _boundary_edges(tri: np.ndarray) -> list[tuple[np.ndarray, np.ndarray]]:
+    """Edges used by one triangle only (the face's rim), each oriented as its triangle
+    runs (counter-clockwise seen along the face normal); corners merged at 1 nm."""
+    keys = np.round(tri.reshape(-1, 3) * 1e9).astype(np.int64).reshape(-1, 3, 3)
+    count: dict[tuple[tuple[int, ...], tuple[int, ...]], int] = {}
+    oriented: list[tuple[tuple[int, ...], tuple[int, ...], int, int, int]] = []
+    for t, k in enumerate(keys):
+        for i in range(3):
+            a, b = tuple(k[i]), tuple(k[(i + 1) % 3])
+            und = (a, b) if a < b else (b, a)
+            count[und] = count.get(und, 0) + 1
+            oriented.append((a, b, t, i, (i + 1) % 3))
+    out = []
+    for a, b, t, i, j in oriented:
+        if count[(a, b) if a < b else (b, a)] == 1:
+            out.append((tri[t, i], tri[t, j]))
+    return out
+
+
+def extend_outlet(surface: WettedSurface, length_m: float) -> WettedSurface:
+    """The surface with a straight extension of the outlet face along +x (its normal):
+    the outlet face moves ``length_m`` (m) downstream and the rim of the old face sweeps
+    the ``hose`` wall. The extension keeps the outlet's exact cross-section, so the
+    transition's end meets it without a step.
+
+    Raises:
+        ValueError: ``length_m`` is not positive.
+    """
+    if length_m <= 0.0:
+        raise ValueError(f"the extension must be longer than 0 m: {length_m}")
+    out = surface.triangles["outlet"]
+    shift = np.array([length_m, 0.0, 0.0])
+    walls = []
+    for a, b in _boundary_edges(out):
+        # rim edge a→b runs counter-clockwise about +x, so (a, b, b+L) faces outward
+        walls.append((a, b, b + shift))
+        walls.append((a, b + shift, a + shift))
+    tris = dict(surface.triangles)
+    tris["hose"] = np.array(walls, dtype=float)
+    tris["outlet"] = out + shift
+    cx, cy, cz = surface.outlet_centre_m
+    (lo, hi) = surface.cavity_bounds_m
+    return WettedSurface(
+        triangles=tris,
+        outlet_x_m=surface.outlet_x_m + length_m,
+        outlet_area_m2=surface.outlet_area_m2,
+        outlet_centre_m=(cx + length_m, cy, cz),
+        cavity_bounds_m=(lo, (hi[0] + length_m, hi[1], hi[2])),
+        transition_exit_x_m=surface.transition_exit_x_m,
+        outlet_hydraulic_diameter_m=surface.outlet_hydraulic_diameter_m,
+        extension_m=surface.extension_m + length_m,
     )

@@ -7,7 +7,7 @@ Placeholders are ``str.format`` fields; literal braces are doubled.
 
 from __future__ import annotations
 
-__all__ = ["FILES", "FLAVOUR", "header"]
+__all__ = ["FILES", "FLAVOUR", "PLATE_ZONE", "ZONE_FUNCTION", "header"]
 
 #: The OpenFOAM flavour and version these templates are written for.
 FLAVOUR = "OpenFOAM ESI v1912"
@@ -69,6 +69,7 @@ geometry
 {{
     duct.stl {{ type triSurfaceMesh; name duct; }}
     opening {{ type searchableBox; min ({bx0} {by0} {bz0}); max ({bx1} {by1} {bz1}); }}
+    approach {{ type searchableBox; min ({ax0} {ay0} {az0}); max ({ax1} {ay1} {az1}); }}
 }}
 
 castellatedMeshControls
@@ -77,7 +78,7 @@ castellatedMeshControls
     maxGlobalCells 20000000;
     minRefinementCells 0;
     maxLoadUnbalance 0.10;
-    nCellsBetweenLevels 3;
+    nCellsBetweenLevels 2;
     features ( {{ file "duct.eMesh"; level {feature_level}; }} );
     refinementSurfaces
     {{
@@ -88,12 +89,17 @@ castellatedMeshControls
             {{
                 floor {{ level ({floor_level} {floor_level}); patchInfo {{ type wall; }} }}
                 cavity {{ level ({cavity_level} {cavity_level}); patchInfo {{ type wall; }} }}
+                hose {{ level ({hose_level} {hose_level}); patchInfo {{ type wall; }} }}
                 outlet {{ level ({cavity_level} {cavity_level}); patchInfo {{ type patch; }} }}
             }}
         }}
     }}
     resolveFeatureAngle 30;
-    refinementRegions {{ opening {{ mode inside; levels ((1e15 {box_level})); }} }}
+    refinementRegions
+    {{
+        opening {{ mode inside; levels ((1e15 {box_level})); }}
+        approach {{ mode inside; levels ((1e15 {approach_level})); }}
+    }}
     locationInMesh ({lx} {ly} {lz});
     allowFreeStandingZoneFaces true;
 }}
@@ -113,22 +119,23 @@ snapControls
 addLayersControls
 {{
     relativeSizes true;
-    layers {{ "duct_(floor|cavity)" {{ nSurfaceLayers {layers}; }} }}
-    expansionRatio 1.25;
-    finalLayerThickness 0.4;
-    minThickness 0.1;
+    layers {{ "duct_(floor|cavity|hose)" {{ nSurfaceLayers {layers}; }} }}
+    expansionRatio 1.2;
+    finalLayerThickness 0.3;
+    minThickness 0.02;
     nGrow 0;
-    featureAngle 130;
-    slipFeatureAngle 30;
-    nRelaxIter 3;
+    featureAngle 180;
+    slipFeatureAngle 80;
+    nRelaxIter 5;
     nSmoothSurfaceNormals 1;
     nSmoothNormals 3;
     nSmoothThickness 10;
-    maxFaceThicknessRatio 0.5;
-    maxThicknessToMedialRatio 0.3;
-    minMedialAxisAngle 90;
+    maxFaceThicknessRatio 0.8;
+    maxThicknessToMedialRatio 1.0;
+    minMedialAxisAngle 130;
     nBufferCellsNoExtrude 0;
     nLayerIter 50;
+    nRelaxedIter 20;
 }}
 
 meshQualityControls
@@ -136,8 +143,14 @@ meshQualityControls
     #includeEtc "caseDicts/meshQualityDict"
     nSmoothScale 4;
     errorReduction 0.75;
+    relaxed
+    {{
+        maxNonOrtho 75; maxConcave 90; minTwist -1; minDeterminant 1e-6; minFaceWeight 0.01;
+        minVolRatio 0.001;
+    }}
 }}
 
+writeFlags (layerFields);
 mergeTolerance 1e-6;
 """
 
@@ -168,7 +181,7 @@ functions
     faces
     {{
         type surfaceInterpolate; libs ("libfieldFunctionObjects.so");
-        fields ((p0 p0f) (p pf));
+        fields ((p0 p0f) (p pf) (U Uf));
         executeControl writeTime; writeControl writeTime;
     }}
     outletFlow
@@ -182,7 +195,13 @@ functions
         type surfaceFieldValue; libs ("libfieldFunctionObjects.so");
         writeControl writeTime; log false; writeFields false;
         regionType patch; name duct_outlet; operation weightedAverage; weightField phi;
-        fields (p0 p);
+        fields (p0 p U);
+    }}
+    outletArea
+    {{
+        type surfaceFieldValue; libs ("libfieldFunctionObjects.so");
+        writeControl writeTime; log false; writeFields false;
+        regionType patch; name duct_outlet; operation areaAverage; fields (p);
     }}
 {throat_functions}
     freeStream
@@ -190,6 +209,15 @@ functions
         type probes; libs ("libsampling.so");
         writeControl writeTime; fields (p U);
         probeLocations (({px} {py} {pz}));
+    }}
+    throatLine
+    {{
+        type sets; libs ("libsampling.so");
+        writeControl writeTime; interpolationScheme cell; setFormat raw; fields (p);
+        sets
+        (
+            depth {{ type midPoint; axis z; start ({lx0} {ly0} {lz0}); end ({lx0} {ly0} {lz1}); }}
+        );
     }}
     yPlus
     {{
@@ -199,22 +227,27 @@ functions
 }}
 """
 
-THROAT_FUNCTION = """    {name}
+ZONE_FUNCTION = """    {name}
     {{
         type surfaceFieldValue; libs ("libfieldFunctionObjects.so");
         writeControl writeTime; log false; writeFields false;
-        regionType faceZone; name throat;
+        regionType faceZone; name {zone};
         operation {operation};{extra}
         fields ({fields});
     }}
 """
 
-#: The throat plane as a face zone: mesh faces crossed by a plate at x = throat_x across the
-#: duct below the skin (a closed set of faces, so its flux balances the outlet exactly).
+#: Planes as face zones: mesh faces crossed by a plate at x = const across the duct below the
+#: skin (a closed set of faces, so its flux balances the outlet exactly): the throat, and the
+#: transition's exit where the straight extension begins.
 TOPOSET = """actions
 (
-    {{
-        name throat;
+{zones}
+);
+"""
+
+PLATE_ZONE = """    {{
+        name {name};
         type faceZoneSet;
         action new;
         source searchableSurfaceToFaceZone;
@@ -225,7 +258,6 @@ TOPOSET = """actions
             span (0 {dy} {dz});
         }}
     }}
-);
 """
 
 SCHEMES = """ddtSchemes {{ default steadyState; }}
