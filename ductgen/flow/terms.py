@@ -12,8 +12,9 @@
   (p_t1 − p∞)/q∞ = Cp + (1 − Cp)·η (derived; η = 1 gives the free-stream total pressure).
 * **Yaw** (``flow_angle_deg``). The head along the inlet's axis is cos²ψ of the head of a
   flow meeting it at ψ: a first-principles factor on the recovered part (zero penalty at 0°).
-  NACA RM A50C13 reports recovery falling with flow angle (abstract); its curves are not
-  available here, so this is the only penalty applied and real lips may lose more.
+  A lower bound: NACA RM A50C13 (Axelson & Taylor 1950, abstract) measured the ram-recovery
+  ratio about 0.05 lower at 4° than at 0° at Mach 0.70–1.15 (cos² gives 0.004); no
+  low-speed curve is available here, so this is the only penalty applied.
 * **Non-uniform outflow** (α, β). The air leaving the inlet's own duct carries α·½ρV̄² of
   kinetic energy and β·ρV̄²·A of momentum. Dumped into a plenum, all of α·q is lost. Fed into
   a hose of the same area, the profile mixes out; momentum and energy across the mixing length
