@@ -16,6 +16,7 @@ import shutil
 import subprocess
 import sys
 import tempfile
+from collections.abc import Iterator
 from pathlib import Path
 from typing import Any
 
@@ -54,14 +55,20 @@ def page_out(tmp_path_factory: pytest.TempPathFactory) -> Path:
 @pytest.fixture(scope="module")
 def server(page_out: Path):  # type: ignore[no-untyped-def]
     """`ductgen design samples/club-racer-brake.toml --no-browser` on a free port: its URL."""
-    cmd = [sys.executable, "-m", "ductgen", "design", str(SAMPLE), "--no-browser", "--port", "0"]
+    yield from serve_design(SAMPLE, page_out, "-o", str(page_out))
+
+
+def serve_design(spec: Path, cwd: Path, *extra: str) -> Iterator[str]:
+    """``ductgen design SPEC --no-browser --port 0 EXTRA`` started in ``cwd`` as a user starts
+    it; yields the address it prints on a line of its own (with its key) and stops it."""
+    cmd = [sys.executable, "-m", "ductgen", "design", str(spec), "--no-browser", "--port", "0"]
     proc = subprocess.Popen(
-        [*cmd, "-o", str(page_out)],
+        [*cmd, *extra],
         stdout=subprocess.PIPE,
         stderr=subprocess.PIPE,
         text=True,
         env=_env(),
-        cwd=page_out,
+        cwd=cwd,
     )
     try:
         lines = [proc.stdout.readline(), proc.stdout.readline()] if proc.stdout else []

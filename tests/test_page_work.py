@@ -12,8 +12,6 @@ from __future__ import annotations
 import json
 import re
 import shutil
-import subprocess
-import sys
 from collections.abc import Iterator
 from pathlib import Path
 
@@ -23,7 +21,6 @@ import tomli_w
 from ductgen.spec import load_spec
 from tests.test_page import (
     SAMPLE,
-    _env,
     _field,
     _get,
     _open,
@@ -33,31 +30,13 @@ from tests.test_page import (
     _type_id,
     _wait,
     chromium,
+    serve_design,
 )
 
 
 @pytest.fixture(scope="module")
 def browser():  # type: ignore[no-untyped-def]
     yield from chromium()
-
-
-def _serve(spec: Path, work: Path) -> Iterator[str]:
-    proc = subprocess.Popen(
-        [sys.executable, "-m", "ductgen", "design", str(spec), "--no-browser", "--port", "0"],
-        stdout=subprocess.PIPE,
-        stderr=subprocess.PIPE,
-        text=True,
-        env=_env(),
-        cwd=work,
-    )
-    try:
-        lines = [proc.stdout.readline(), proc.stdout.readline()] if proc.stdout else []
-        m = re.fullmatch(r"http://127\.0\.0\.1:(\d+)/\?token=\S+\n", lines[-1] if lines else "")
-        assert m, f"no address printed: {lines!r}"
-        yield m.group(0).strip()
-    finally:
-        proc.terminate()
-        proc.wait(timeout=30)
 
 
 @pytest.fixture(scope="module")
@@ -69,7 +48,7 @@ def work(tmp_path_factory: pytest.TempPathFactory) -> Path:
 
 @pytest.fixture(scope="module")
 def server(work: Path) -> Iterator[str]:
-    yield from _serve(work / SAMPLE.name, work)
+    yield from serve_design(work / SAMPLE.name, work)
 
 
 def _problems(d) -> list[str]:  # type: ignore[no-untyped-def]
@@ -197,7 +176,7 @@ def panel_work(tmp_path_factory: pytest.TempPathFactory) -> Path:
 
 def test_a_panel_spec_opens_without_errors(panel_work, browser) -> None:  # type: ignore[no-untyped-def]
     d = browser
-    for url in _serve(panel_work / "hood.toml", panel_work):
+    for url in serve_design(panel_work / "hood.toml", panel_work):
         _open(d, url)
         assert not _problems(d), _problems(d)
         assert _field(d, "skin.shape").get_attribute("value") == "panel"
