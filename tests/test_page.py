@@ -41,7 +41,7 @@ def _need(path: str | None, what: str) -> str:
     return path
 
 
-def _env() -> dict[str, str]:
+def checkout_env() -> dict[str, str]:
     env = dict(os.environ)
     env["PYTHONPATH"] = str(ROOT) + os.pathsep + env.get("PYTHONPATH", "")
     return env
@@ -58,21 +58,28 @@ def server(page_out: Path):  # type: ignore[no-untyped-def]
     yield from serve_design(SAMPLE, page_out, "-o", str(page_out))
 
 
-def serve_design(spec: Path, cwd: Path, *extra: str) -> Iterator[str]:
+def start_design(spec: Path, cwd: Path, *extra: str) -> tuple[subprocess.Popen[str], list[str]]:
     """``ductgen design SPEC --no-browser --port 0 EXTRA`` started in ``cwd`` as a user starts
-    it; yields the address it prints on a line of its own (with its key) and stops it."""
+    it: the process and the first two lines it prints (a greeting, then the address)."""
     cmd = [sys.executable, "-m", "ductgen", "design", str(spec), "--no-browser", "--port", "0"]
     proc = subprocess.Popen(
         [*cmd, *extra],
         stdout=subprocess.PIPE,
         stderr=subprocess.PIPE,
         text=True,
-        env=_env(),
+        env=checkout_env(),
         cwd=cwd,
     )
+    assert proc.stdout is not None
+    return proc, [proc.stdout.readline(), proc.stdout.readline()]
+
+
+def serve_design(spec: Path, cwd: Path, *extra: str) -> Iterator[str]:
+    """:func:`start_design`; yields the address it prints on a line of its own (with its key)
+    and stops it."""
+    proc, lines = start_design(spec, cwd, *extra)
     try:
-        lines = [proc.stdout.readline(), proc.stdout.readline()] if proc.stdout else []
-        m = re.fullmatch(r"http://127\.0\.0\.1:(\d+)/\?token=\S+\n", lines[-1] if lines else "")
+        m = re.fullmatch(r"http://127\.0\.0\.1:(\d+)/\?token=\S+\n", lines[-1])
         assert m, f"no address printed: {lines!r} {proc.stderr.read() if proc.stderr else ''}"
         yield m.group(0).strip()
     finally:
@@ -227,7 +234,7 @@ def test_bad_value_shows_the_cli_sentence_and_builds_nothing(server, browser, tm
         [sys.executable, "-m", "ductgen", "build", str(bad), "-o", str(tmp_path / "cli")],
         capture_output=True,
         text=True,
-        env=_env(),
+        env=checkout_env(),
         timeout=120,
     )
     assert cli.returncode == 2
@@ -392,7 +399,7 @@ def test_server_refuses_non_loopback_without_host(tmp_path) -> None:
         stdout=subprocess.PIPE,
         stderr=subprocess.PIPE,
         text=True,
-        env=_env(),
+        env=checkout_env(),
         cwd=tmp_path,
     )
     try:

@@ -11,7 +11,6 @@ from __future__ import annotations
 
 import http.client
 import json
-import os
 import re
 import socket
 import subprocess
@@ -23,6 +22,8 @@ from pathlib import Path
 from typing import Any
 
 import pytest
+
+from tests.test_page import checkout_env, start_design
 
 ROOT = Path(__file__).resolve().parents[1]
 SAMPLE = ROOT / "samples" / "club-racer-brake.toml"
@@ -67,27 +68,11 @@ class Live:
         return status, json.loads(raw or b"{}")
 
 
-def _env() -> dict[str, str]:
-    env = dict(os.environ)
-    env["PYTHONPATH"] = str(ROOT) + os.pathsep + env.get("PYTHONPATH", "")
-    return env
-
-
 def _start(work: Path, *extra: str) -> Live:
     spec = work / "inlet.toml"
     if not spec.exists():
         spec.write_text(SAMPLE.read_text())
-    cmd = [sys.executable, "-m", "ductgen", "design", str(spec), "--no-browser", "--port", "0"]
-    proc = subprocess.Popen(
-        [*cmd, *extra],
-        stdout=subprocess.PIPE,
-        stderr=subprocess.PIPE,
-        text=True,
-        env=_env(),
-        cwd=work,
-    )
-    assert proc.stdout is not None
-    lines = [proc.stdout.readline(), proc.stdout.readline()]
+    proc, lines = start_design(spec, work, *extra)
     m = re.fullmatch(r"http://(\S+):(\d+)/\?token=([A-Za-z0-9_\-]{40,})\n", lines[1])
     assert m, f"the address is not on a line of its own: {lines!r}"
     host = "127.0.0.1" if m.group(1) in ("0.0.0.0", "localhost") else m.group(1)
@@ -331,7 +316,7 @@ def test_bad_design_options_exit_2_naming_the_option(
         [sys.executable, "-m", "ductgen", "design", str(spec), "--no-browser", *args],
         capture_output=True,
         text=True,
-        env=_env(),
+        env=checkout_env(),
         cwd=tmp_path,
         timeout=60,
     )
