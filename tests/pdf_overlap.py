@@ -14,7 +14,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pymupdf
 
-__all__ = ["PageAudit", "audit_page"]
+__all__ = ["PageAudit", "audit_page", "text_overlaps"]
 
 PT = 72.0 / 25.4
 SQUARE_RGB = (0.0, 0.35, 0.75)
@@ -122,4 +122,24 @@ def audit_page(page: pymupdf.Page, edge_mm: float = 6.0) -> PageAudit:
         pr = page.rect
         if r.x0 < pr.x0 + e or r.y0 < pr.y0 + e or r.x1 > pr.x1 - e or r.y1 > pr.y1 - e:
             out.off_page.append(s["text"])
+    return out
+
+
+def text_overlaps(page: pymupdf.Page, tol_pt: float = 0.05) -> list[tuple[str, str, float]]:
+    """Pairs of text spans whose boxes (pymupdf's: the font's ascender to descender) overlap
+    by more than ``tol_pt`` both ways, with the smaller of the two overlaps (pt)."""
+    spans = [
+        (s["text"], pymupdf.Rect(s["bbox"]))
+        for b in page.get_text("dict")["blocks"]
+        for ln in b.get("lines", [])
+        for s in ln["spans"]
+        if s["text"].strip()
+    ]
+    out = []
+    for i, (ta, a) in enumerate(spans):
+        for tb, b in spans[i + 1 :]:
+            dx = min(a.x1, b.x1) - max(a.x0, b.x0)
+            dy = min(a.y1, b.y1) - max(a.y0, b.y0)
+            if dx > tol_pt and dy > tol_pt:
+                out.append((ta, tb, round(float(min(dx, dy)), 2)))
     return out

@@ -121,5 +121,5 @@ def test_the_sheet_has_lines_for_every_shape() -> None:
     lines = {s: dict(skin_lines(_SUMMARIES[s], tpl)) for s in ("cylinder", "doubly", "panel")}
     assert lines["cylinder"]["skin"] == "cylinder R 900 mm, convex, axis spanwise"
     assert lines["doubly"]["skin"] == "doubly R 900 (along) / 700 (across) mm, concave"
-    assert lines["panel"]["datum (ramp start)"] == "(1.0, 2.0, 3.0) mm"
+    assert lines["panel"]["smallest radius"] == "640 mm, convex"
     assert lines["doubly"]["template"] == "flattened, 0.40 % max"

@@ -24,10 +24,10 @@ from typing import Any
 import numpy as np
 
 from ductgen.design import Design
+from ductgen.sheets.skin_section import dense as _dense
+from ductgen.sheets.skin_section import section_maps
 
 __all__ = ["SKIN_CAPTIONS", "plan_svg", "section_svg", "skin_caption"]
-
-XZ = Callable[[np.ndarray], np.ndarray]
 
 _INK = "#1d2b36"
 _OPENING = "#2f6f73"
@@ -184,37 +184,6 @@ def plan_svg(d: Design) -> str:
     )
 
 
-def _dense(pts: list[tuple[float, float]] | np.ndarray, step: float) -> np.ndarray:
-    """A polyline with extra points so no segment is longer than ``step`` (mm)."""
-    p = np.asarray(pts, dtype=float)
-    d = np.diff(p, axis=0)
-    n = np.maximum(1, np.ceil(np.linalg.norm(d, axis=1) / step)).astype(int)
-    seg = np.repeat(np.arange(len(d)), n)  # each new point's segment
-    k = np.arange(len(seg)) - np.repeat(np.cumsum(n) - n, n) + 1  # 1..n within it
-    t = (k / n[seg])[:, None]
-    return np.vstack([p[:1], p[seg] + d[seg] * t])
-
-
-def _section_maps(d: Design) -> tuple[XZ, XZ] | None:
-    """Design (u, w) on the centreline → drawn (x, z), for the parts (the duct straightens
-    to its outlet) and for the skin; None on a flat skin."""
-    if d.skin.is_flat:
-        return None
-    frame = d.panel_frame
-
-    def make(f: Callable[[np.ndarray], np.ndarray]) -> XZ:
-        def m(uw: np.ndarray) -> np.ndarray:
-            uw = np.asarray(uw, dtype=float)
-            p = f(np.column_stack([uw[:, 0], np.zeros(len(uw)), uw[:, 1]]))
-            if frame is not None:
-                p = frame.to_local(p)
-            return p[:, [0, 2]]
-
-        return m
-
-    return make(d.placement.solid_map), make(d.skin.to_model)
-
-
 def section_svg(d: Design, samples: int = 160) -> str:
     """Centreline section (flow left to right, outer skin at the top); on a curved skin
     drawn on the skin (see the module text)."""
@@ -244,7 +213,7 @@ def section_svg(d: Design, samples: int = 160) -> str:
     skin_a = [(xu, 0.0), (0.0, 0.0), (0.0, -ts), (xu, -ts)]
     skin_b = [(lip.nose_end_mm, 0.0), (x_far, 0.0), (x_far, -ts), (lip.nose_end_mm, -ts)]
     top = [(xu, 0.0), (x_far, 0.0)]
-    maps = _section_maps(d)
+    maps = section_maps(d)
     shapes = {"air": air, "floor": floor, "roof": roof, "body": body}
     skins = {"a": skin_a, "b": skin_b, "top": top}
     if maps is not None:

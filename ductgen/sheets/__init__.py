@@ -9,8 +9,9 @@ __all__ = ["SKIN_LINES", "sheet_files", "skin_lines"]
 
 
 def skin_lines(skin: dict[str, Any], template: dict[str, Any]) -> tuple[tuple[str, str], ...]:
-    """Key-dimension lines for a curved skin: the panel's radii, the installation datum,
-    where the straight outlet points, how the template was developed (report sections in).
+    """Key-dimension lines for a curved skin: the panel's radii and how the template was
+    developed (report sections in); the datum and the outlet are the PLACEMENT block's
+    (``sheets/placement.py``).
 
     One entry of :data:`SKIN_LINES` per ``skin.shape``; a shape without one is a test
     failure (``tests/test_sheet.py``), never a user's build."""
@@ -35,39 +36,24 @@ def _doubly(skin: dict[str, Any]) -> str:
 def _curved_lines(
     panel: str, skin: dict[str, Any], template: dict[str, Any]
 ) -> tuple[tuple[str, str], ...]:
-    lines = [
-        ("skin", panel),
-        ("datum", "ramp start on the centreline; flow along +u"),
-    ]
-    if skin.get("outlet_axis"):
-        ax = skin["outlet_axis"]
-        lines.append(("outlet points", f"({ax[0]:.3f}, {ax[1]:.3f}, {ax[2]:.3f})"))
+    lines = [("skin", panel)]
     pct = template.get("max_length_distortion_pct", 0.0)
     lines.append(("template", "developed exactly" if pct == 0 else f"flattened, {pct:.2f} % max"))
     return tuple(lines)
 
 
-def _vec(v: list[float], digits: int) -> str:
-    return "(" + ", ".join(f"{c:.{digits}f}" for c in v) + ")"
-
-
 def _panel_lines(skin: dict[str, Any], template: dict[str, Any]) -> tuple[tuple[str, str], ...]:
-    """The user's panel: file, where the datum lies in its coordinates, the flow direction,
-    the smallest radius under the parts, the template's distortion."""
+    """The user's panel: file, the smallest radius under the parts, the scan fit, the
+    template's distortion."""
     r = skin.get("smallest_radius_mm")
     radius = "flat" if r is None else f"{r:.0f} mm, {skin['smallest_radius_side']}"
     name = skin["file"] if len(skin["file"]) <= 26 else skin["file"][:12] + "…" + skin["file"][-12:]
     lines = [
         ("skin", f"panel {name}"),
         ("smallest radius", radius),
-        ("datum (ramp start)", _vec(skin["datum_mm"], 1) + " mm"),
-        ("flow direction", _vec(skin["flow_direction"], 3)),
-        ("outward normal", _vec(skin["outward"], 3)),
     ]
     if "fit_rms_mm" in skin:
         lines.append(("scan fit", f"{skin['fit_rms_mm']:.3f} mm rms, {skin['fit_max_mm']:.3f} max"))
-    if skin.get("outlet_axis"):
-        lines.append(("outlet points", _vec(skin["outlet_axis"], 3)))
     pct = template.get("max_length_distortion_pct", 0.0)
     lines.append(("template", f"flattened from the panel, {pct:.2f} % max"))
     return tuple(lines)
@@ -109,6 +95,7 @@ def sheet_files(ctx: Any) -> dict[str, bytes]:
         ctx.report.get("flow"),
         tuple(split.get("split_stations_x_mm") or ()),
         skin_lines(ctx.report["geometry"].get("skin", {}), ctx.report.get("template", {})),
+        design=ctx.design,
     )
     files = {"sheet.pdf": pdf}
     if png is not None:

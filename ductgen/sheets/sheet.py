@@ -16,9 +16,11 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
-from ductgen.export.placement import text_width_em
 from ductgen.export.template_layout import CAUTIONS, build_date
 from ductgen.geometry.inlet import InletGeometry
+from ductgen.sheets.placement import placement_lines
+from ductgen.sheets.section import section_extent, section_view
+from ductgen.sheets.views import TITLE_MM, View, scale_for, scale_text
 from ductgen.stamp import build_datetime
 from ductgen.units import MM_PER_INCH
 
@@ -26,7 +28,8 @@ if TYPE_CHECKING:
     from matplotlib.axes import Axes
     from matplotlib.figure import Figure
     from matplotlib.typing import RcKeyType
-    from numpy.typing import ArrayLike
+
+    from ductgen.design import Design
 
     _Size = tuple[float, float]  # paper (width, height), mm
     _Box = tuple[float, float, float, float]  # x, y, width, height on the paper, mm
@@ -35,7 +38,6 @@ __all__ = ["SHEET_MM", "offset_rows", "sheet_pdf"]
 
 #: template.paper → drawing sheet (width, height) mm, landscape.
 SHEET_MM: dict[str, tuple[float, float]] = {"A4": (420.0, 297.0), "Letter": (431.8, 279.4)}
-_SCALES = (5.0, 2.0, 1.0, 0.5, 0.2, 0.1, 0.05, 0.02, 0.01)
 _INCH = MM_PER_INCH
 _RC: dict[RcKeyType, Any] = {
     "path.simplify": False,
@@ -62,184 +64,25 @@ def offset_rows(g: InletGeometry) -> list[dict[str, Any]]:
     return out
 
 
-_PT_PER_MM = 72.0 / 25.4
-
-
-def _scale_for(extent: tuple[float, float], box: tuple[float, float]) -> float:
-    k = min(box[0] / extent[0], box[1] / extent[1])
-    return next((s for s in _SCALES if s <= k), _SCALES[-1])
-
-
-def _view(fig: Figure, page: _Size, box: _Box, centre: tuple[float, float], scale: float) -> Axes:
-    """Axes covering paper box (x, y, w, h) mm, data in true mm at ``scale`` around ``centre``."""
-    x, y, w, h = box
-    ax = fig.add_axes((x / page[0], y / page[1], w / page[0], h / page[1]))
-    ax.set_xlim(centre[0] - 0.5 * w / scale, centre[0] + 0.5 * w / scale)
-    ax.set_ylim(centre[1] - 0.5 * h / scale, centre[1] + 0.5 * h / scale)
-    ax.set_axis_off()
-    return ax
-
-
-def _scale_text(s: float) -> str:
-    return f"{s:g}:1" if s >= 1 else f"1:{1 / s:g}"
-
-
-def _dim(
-    ax: Axes,
-    a: ArrayLike,
-    b: ArrayLike,
-    off: float,
-    text: str,
-    horizontal: bool = True,
-    fs: float = 6.5,
-) -> None:
-    """Linear dimension between a and b, offset ``off`` (data mm) perpendicular to it."""
-    a, b = np.asarray(a, float), np.asarray(b, float)
-    if horizontal:
-        pa, pb = a + np.array([0.0, off]), np.array([b[0], a[1] + off])
-        ext = [(a, pa), (b, np.array([b[0], pa[1]]))]
-    else:
-        pa, pb = a + np.array([off, 0.0]), np.array([a[0] + off, b[1]])
-        ext = [(a, pa), (b, np.array([pa[0], b[1]]))]
-    for p, q in ext:
-        ax.plot([p[0], q[0]], [p[1], q[1]], color="0.45", lw=0.3)
-    ax.annotate(
-        "",
-        (pa[0], pa[1]),
-        (pb[0], pb[1]),
-        arrowprops={"arrowstyle": "<->", "lw": 0.5, "color": "0.2", "shrinkA": 0, "shrinkB": 0},
-    )
-    m = 0.5 * (pa + pb)
-    ax.text(
-        m[0],
-        m[1],
-        text,
-        fontsize=fs,
-        ha="center",
-        va="center",
-        rotation=0 if horizontal else 90,
-        bbox={"fc": "white", "ec": "none", "pad": 0.6},
-    )
-
-
 def _plan(fig: Figure, page: _Size, box: _Box, g: InletGeometry) -> float:
     pf, length, w = g.planform, g.length_mm, g.width_mm
-    s = _scale_for((length * 1.25, w * 1.6), box[2:])
-    ax = _view(fig, page, box, (0.5 * length, 0.0), s)
+    s = scale_for((length * 1.25, w * 1.6), (box[2], box[3] - TITLE_MM))
+    v = View(fig, page, box, (0.5 * length, 0.5 * TITLE_MM / s), s)
     o = pf.outline(400)
-    o = np.vstack([o, o[:1]])
-    ax.plot(o[:, 0], o[:, 1], color="k", lw=0.7)
-    ax.plot([-0.06 * length, 1.06 * length], [0, 0], color="0.4", lw=0.3, ls=(0, (8, 2, 1, 2)))
+    v.line(np.vstack([o, o[:1]]))
+    v.line([[-0.06 * length, 0], [1.06 * length, 0]], colour="0.4", lw=0.3, ls=(0, (8, 2, 1, 2)))
     for x in pf.node_x_mm:
         hw = float(pf.half_width(x))
-        ax.plot([x, x], [-hw, hw], color="0.75", lw=0.25)
-    _dim(ax, (length, -0.5 * w), (length, 0.5 * w), 0.08 * length, f"W {w:.2f}", horizontal=False)
-    _dim(ax, (0, -0.5 * w), (length, -0.5 * w), -0.18 * w, f"L {length:.2f}")
-    _dim(
-        ax,
-        (0, -0.5 * pf.apex_width_mm),
-        (0, 0.5 * pf.apex_width_mm),
-        -0.05 * length,
-        f"{pf.apex_width_mm:.2f}",
-        horizontal=False,
-    )
-    ax.annotate(
-        "FLOW",
-        (0.25 * length, 0.62 * w),
-        (0.05 * length, 0.62 * w),
-        fontsize=7,
-        va="center",
-        arrowprops={"arrowstyle": "->", "lw": 0.6},
-    )
-    return s
-
-
-def _section_profile(g: InletGeometry) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Centreline section: floor (x, z) from the ramp start to the outlet, and roof (x, z)."""
-    length = g.length_mm
-    x = np.linspace(0.0, length, 300)
-    floor = [np.column_stack([x, -g.floor.depth(x)])]
-    roof = [np.array([[g.lip.nose_end_mm, g.lip.roof_z_mm]])]
-    xe = g.throat_end_mm
-    floor.append(np.array([[xe, -g.drop_mm]]))
-    if g.transition is not None:
-        t = g.transition
-        floor.append(np.array([[t.x_end_mm, t.outlet_top_z_mm - t.outlet_height_mm]]))
-        roof.append(np.array([[t.x_end_mm, t.outlet_top_z_mm]]))
-    return np.vstack(floor), np.vstack(roof), g.lip.nose()
-
-
-def _section(
-    fig: Figure, page: _Size, box: _Box, g: InletGeometry, split_x: tuple[float, ...] = ()
-) -> float:
-    floor, roof, nose = _section_profile(g)
-    x_end = float(floor[-1, 0])
-    zmin = float(floor[:, 1].min())
-    s = _scale_for((x_end * 1.2, (-zmin + 2 * g.lip.thickness_mm) * 1.3), box[2:])
-    ax = _view(fig, page, box, (0.5 * x_end, 0.5 * zmin + 0.5 * g.lip.thickness_mm), s)
-    ax.plot([-0.06 * x_end, 1.03 * x_end], [0, 0], color="0.5", lw=0.4)  # skin outer surface
-    ax.plot([-0.06 * x_end, 0], [-g.skin_thickness_mm] * 2, color="0.7", lw=0.3)
-    ax.plot(floor[:, 0], floor[:, 1], color="k", lw=0.7)
-    ax.plot(roof[:, 0], roof[:, 1], color="k", lw=0.7)
-    ax.fill(nose[:, 0], nose[:, 1], color="0.85", ec="k", lw=0.6)
-    lip = g.lip
-    if lip.style == "raised" and lip.fairing_length_mm > 0:
-        ax.plot(
-            [lip.nose_end_mm, lip.nose_end_mm + lip.fairing_length_mm],
-            [lip.thickness_mm, 0],
-            color="k",
-            lw=0.6,
-        )
-    length = g.length_mm
-    _dim(
-        ax,
-        (length, -g.drop_mm),
-        (length, 0.0),
-        -0.06 * x_end,
-        f"H {g.drop_mm:.2f}",
-        horizontal=False,
-    )
-    _dim(
-        ax,
-        (g.throat_end_mm, -g.drop_mm),
-        (g.throat_end_mm, lip.roof_z_mm),
-        0.06 * x_end,
-        f"D {g.depth_mm:.2f}",
-        horizontal=False,
-    )
-    # labels clear of every line: below the floor over the label's whole width (paper
-    # gap 1.5 mm, text width from the Helvetica metrics at 72/25.4 pt per mm)
-    gap = 1.5 / s
-    xa = 0.45 * length
-    label = f"ramp {g.floor.angle_deg:.2f} deg"
-    half_w = 0.5 * text_width_em(label) * (6.5 / _PT_PER_MM) / s
-    xs = np.linspace(max(xa - half_w, 0.0), min(xa + half_w, length), 50)
-    ax.text(
-        xa,
-        -float(np.max(g.floor.depth(xs))) - gap,
-        label,
-        fontsize=6.5,
-        ha="center",
-        va="top",
-    )
-    for i, x_split in enumerate(split_x):  # the insert's glue faces: floor to above the skin
-        if not 0.0 < x_split < x_end:
-            continue
-        zf = float(np.interp(x_split, floor[:, 0], floor[:, 1]))
-        ax.plot([x_split, x_split], [zf, 2 * gap], color="#b05000", lw=0.6, ls=(0, (6, 2, 1, 2)))
-        ax.text(x_split, 2.5 * gap, f"split {i + 1}", fontsize=5.5, color="#b05000", ha="center")
-    if g.transition is not None:
-        t = g.transition
-        # under the section's lowest point, right-aligned with the outlet face: no line
-        # of the section passes below it
-        ax.text(
-            t.x_end_mm,
-            zmin - gap,
-            f"outlet {t.kind} {t.outlet_width_mm:.1f}",
-            fontsize=6,
-            ha="right",
-            va="top",
-        )
+        v.line([[x, -hw], [x, hw]], colour="0.75", lw=0.25)
+    v.datum((0.0, 0.0))
+    v.dim((length, -0.5 * w), (length, 0.5 * w), (0.08 * length, 0.0), f"W {w:.2f}")
+    v.dim((0, -0.5 * w), (length, -0.5 * w), (0.0, -0.18 * w), f"L {length:.2f}")
+    half_apex = 0.5 * pf.apex_width_mm
+    v.dim((0, -half_apex), (0, half_apex), (-0.05 * length, 0.0), f"{pf.apex_width_mm:.2f}")
+    v.arrow((0.1 * length, 0.62 * w), (0.25 * length, 0.62 * w))
+    v.label("FLOW", (0.05 * length, 0.62 * w), 7.0)
+    v.label("datum", (0.0, 0.0), 6.0, colour="#b00020")
+    v.finish()
     return s
 
 
@@ -247,31 +90,21 @@ def _lip_detail(fig: Figure, page: _Size, box: _Box, g: InletGeometry) -> float:
     lip = g.lip
     nose = lip.nose()
     a, t = lip.semi_major_mm, lip.thickness_mm
-    s = _scale_for((3.2 * a + 2 * t, 3.0 * t), box[2:])
-    ax = _view(fig, page, box, (lip.station_mm + 0.8 * a, lip.centre_z_mm), s)
-    ax.fill(
-        np.r_[nose[:, 0], lip.nose_end_mm + 1.2 * a, lip.nose_end_mm + 1.2 * a],
-        np.r_[nose[:, 1], nose[-1, 1], nose[0, 1]],
-        color="0.85",
-        ec="k",
-        lw=0.6,
+    s = scale_for((3.2 * a + 2 * t, 3.0 * t), (box[2], box[3] - TITLE_MM))
+    v = View(fig, page, box, (lip.station_mm + 0.8 * a, lip.centre_z_mm + 0.5 * TITLE_MM / s), s)
+    end = lip.nose_end_mm + 1.2 * a
+    v.fill(np.vstack([nose, [[end, nose[-1, 1]], [end, nose[0, 1]]]]))
+    v.line([[lip.station_mm - a, 0], [lip.nose_end_mm + 1.3 * a, 0]], colour="0.5", lw=0.4)
+    v.dim((end, nose[-1, 1]), (end, nose[0, 1]), (0.25 * a, 0.0), f"t {t:.2f}")
+    v.dim(
+        (lip.station_mm, nose[-1, 1]), (lip.nose_end_mm, nose[-1, 1]), (0.0, -0.6 * t), f"a {a:.2f}"
     )
-    ax.plot([lip.station_mm - a, lip.nose_end_mm + 1.3 * a], [0, 0], color="0.5", lw=0.4)
-    _dim(
-        ax,
-        (lip.nose_end_mm + 1.2 * a, nose[-1, 1]),
-        (lip.nose_end_mm + 1.2 * a, nose[0, 1]),
-        0.25 * a,
-        f"t {t:.2f}",
-        horizontal=False,
-    )
-    _dim(ax, (lip.station_mm, nose[-1, 1]), (lip.nose_end_mm, nose[-1, 1]), -0.6 * t, f"a {a:.2f}")
-    ax.text(
-        lip.station_mm - 0.9 * a,
-        lip.centre_z_mm + 1.1 * t,
+    v.label(
         f"{lip.style} lip, elliptical nose {lip.nose_ratio:g}:1",
-        fontsize=6.5,
+        (lip.station_mm - 0.5 * a, lip.centre_z_mm + 1.1 * t),
+        6.5,
     )
+    v.finish()
     return s
 
 
@@ -284,6 +117,7 @@ def sheet_pdf(
     flow: dict[str, Any] | None = None,
     split_x_mm: tuple[float, ...] = (),
     skin_lines: tuple[tuple[str, str], ...] = (),
+    design: Design | None = None,
 ) -> bytes:
     """Encode the drawing sheet PDF.
 
@@ -295,8 +129,11 @@ def sheet_pdf(
         spec_hash: ``spec_sha256``; version: ductgen version for the title block.
         preview: optional PNG drawn in the picture box.
         flow: the report's ``flow`` section, drawn as the AIRFLOW block when given.
-        skin_lines: (name, value) lines on the skin and the installation datum, added to
-            the key dimensions (a curved skin: its radii, the datum, where the outlet points).
+        skin_lines: (name, value) lines on the skin, added to the key dimensions (a
+            curved skin: its radii, how the template was developed).
+        design: the design ``g`` belongs to: on a curved skin or the user's panel the
+            section is drawn on the skin and the PLACEMENT block says where the datum and
+            the outlet sit (``sheets/placement.py``); without it the section is drawn flat.
     """
     import logging
 
@@ -308,6 +145,7 @@ def sheet_pdf(
     logging.getLogger("matplotlib.font_manager").setLevel(logging.ERROR)
     page = SHEET_MM[spec.template.paper]
     pw, ph = page
+    placed = placement_lines(design) if design is not None else ()
     buf = io.BytesIO()
     with (
         rc_context(_RC),
@@ -328,53 +166,104 @@ def sheet_pdf(
         bg.add_patch(Rectangle((10, 10), pw - 20, ph - 20, fill=False, lw=1.0))
         tx = pw - 10 - 118  # right column: table, dimensions, title block
         bg.plot([tx, tx], [10, ph - 10], color="k", lw=0.6)
+        lip_w = (0.30 if placed else 0.45) * (tx - 18)
+        plan_box, section_box = _split(ph, tx - 18, g, design)
         views = [
-            ("PLAN VIEW (skin opening, outer surface)", (14, 160, tx - 18, ph - 160 - 16), _plan),
+            ("PLAN VIEW (skin opening, outer surface)", plan_box, _plan),
             (
-                "CENTRELINE SECTION",
-                (14, 92, tx - 18, 62),
-                lambda f, p, b, gg: _section(f, p, b, gg, tuple(split_x_mm)),
+                "CENTRELINE SECTION" + (" (datum frame)" if placed else ""),
+                section_box,
+                lambda f, p, b, gg: section_view(f, p, b, gg, design, tuple(split_x_mm)),
             ),
-            ("LIP DETAIL", (14, 14, 0.45 * (tx - 18), 70), _lip_detail),
+            ("LIP DETAIL", (14, 14, lip_w, 64), _lip_detail),
         ]
         for title, box, fn in views:
             s = fn(fig, page, box, g)
             bg.text(
                 box[0],
                 box[1] + box[3] - 1,
-                f"{title}   scale {_scale_text(s)}",
+                f"{title}   scale {scale_text(s)}",
                 fontsize=7.5,
                 weight="bold",
                 va="top",
             )
+        bx = 14 + lip_w + 4
+        if placed:
+            _placement_block(bg, bx, 78.0, placed)
+            bx += 96.0
         if preview:
             from PIL import Image
 
             img = np.asarray(Image.open(io.BytesIO(preview)).convert("RGB"))
-            bx = 14 + 0.45 * (tx - 18) + 4
             bw = tx - 4 - bx
-            bh = min(74.0, bw * img.shape[0] / img.shape[1])
+            bh = min(64.0, bw * img.shape[0] / img.shape[1])
             iax = fig.add_axes((bx / pw, 12 / ph, bw / pw, bh / ph))
             iax.imshow(img, interpolation="bilinear")
             iax.set_axis_off()
-        _table(bg, tx, ph, g, 200.0 if flow else 150.0)
-        _key_dims(bg, tx, g, skin_lines)
+        y = _table(bg, tx, ph, g)
         if flow:
-            _flow_block(bg, tx, flow)
+            y = _flow_block(bg, tx, y - 7.0, flow)
+        _key_dims(bg, tx, y - 6.5, g, skin_lines)
         _title_block(bg, tx, pw, g, spec, spec_hash, version)
         pdf.savefig(fig)
     return buf.getvalue()
 
 
-def _flow_block(bg: Axes, tx: float, flow: dict[str, Any]) -> None:
+def _split(ph: float, width: float, g: InletGeometry, design: Design | None) -> tuple[_Box, _Box]:
+    """Plan and section boxes (paper mm) over the band from 82 mm to the top margin: the
+    section gets the height that gives it the largest scale the plan's own scale allows
+    (the plan never drops below its scale in 111 mm)."""
+    top, bottom = ph - 16.0, 82.0
+    plan_ext = (g.length_mm * 1.25, g.width_mm * 1.6)
+    sec_ext = section_extent(g, design)
+    floor = scale_for(plan_ext, (width, 111.0 - TITLE_MM))
+    best = (0.0, 111.0)
+    for h_plan in np.arange(150.0, 59.0, -2.0):
+        if scale_for(plan_ext, (width, h_plan - TITLE_MM)) < floor:
+            continue
+        s = scale_for(sec_ext, (width - 10.0, top - bottom - h_plan - 12.0 - TITLE_MM))
+        if s > best[0]:
+            best = (s, float(h_plan))
+    h_plan = best[1]
+    # of the heights that give the best section scale, the plan takes the most
+    while (
+        h_plan + 2.0 <= 150.0
+        and scale_for(sec_ext, (width, top - bottom - h_plan - 6.0 - TITLE_MM)) >= best[0]
+    ):
+        h_plan += 2.0
+    h_sec = top - bottom - h_plan - 4.0
+    return (14.0, top - h_plan, width, h_plan), (14.0, bottom, width, h_sec)
+
+
+#: Baseline steps (mm) of the right column's rows: each over the 6.5 pt text box a PDF
+#: reader measures (1.374 em = 3.15 mm), so no row's box runs into the next.
+_ROW_MM = 3.3
+
+
+def _placement_block(bg: Axes, x: float, top: float, lines: tuple[tuple[str, str], ...]) -> None:
+    """The PLACEMENT block (``sheets/placement.py``) from ``top`` (paper mm) down."""
+    bg.text(x, top - 1, "PLACEMENT (where it sits)", fontsize=7.5, weight="bold", va="top")
+    y = top - 9.0
+    for k, v in lines:
+        bg.text(x, y, k, fontsize=6.2)
+        bg.text(x + 27, y, v, fontsize=6.2)
+        y -= 3.2
+
+
+def _flow_block(bg: Axes, tx: float, top: float, flow: dict[str, Any]) -> float:
+    """The AIRFLOW block with its title's baseline at ``top``; returns the last row's."""
     from ductgen.flow.sheet_block import FLOW_BLOCK_TITLE, flow_block_lines
 
-    bg.text(tx + 4, 193.0, FLOW_BLOCK_TITLE, fontsize=7.5, weight="bold")
-    for i, line in enumerate(flow_block_lines(flow)):
-        bg.text(tx + 4, 189.0 - 3.7 * i, line, fontsize=6.5)
+    bg.text(tx + 4, top, FLOW_BLOCK_TITLE, fontsize=7.5, weight="bold")
+    y = top - 0.7
+    for line in flow_block_lines(flow):
+        y -= 3.45
+        bg.text(tx + 4, y, line, fontsize=6.5)
+    return y
 
 
-def _table(bg: Axes, tx: float, ph: float, g: InletGeometry, bottom: float = 150.0) -> None:
+def _table(bg: Axes, tx: float, ph: float, g: InletGeometry) -> float:
+    """The table of offsets from the column's top; returns the last row's baseline (mm)."""
     rows = offset_rows(g)
     y = ph - 16
     bg.text(tx + 4, y, "TABLE OF OFFSETS (mm)   * = profile station", fontsize=7.5, weight="bold")
@@ -382,9 +271,9 @@ def _table(bg: Axes, tx: float, ph: float, g: InletGeometry, bottom: float = 150
     cols = (tx + 4, tx + 22, tx + 48, tx + 78)
     for cx, head in zip(cols, ("x/L", "x", "half-width", "floor depth"), strict=True):
         bg.text(cx, y, head, fontsize=6.8, weight="bold")
-    step = min(3.6, (ph - bottom - 30) / max(len(rows), 1))
+    y -= 0.2
     for r in rows:
-        y -= step
+        y -= _ROW_MM
         mark = "*" if r["station"] else " "
         cells = (
             f"{r['x_over_L']:.3f}{mark}",
@@ -394,10 +283,11 @@ def _table(bg: Axes, tx: float, ph: float, g: InletGeometry, bottom: float = 150
         )
         for cx, c in zip(cols, cells, strict=True):
             bg.text(cx, y, c, fontsize=6.5, weight="bold" if r["station"] else "normal")
+    return y
 
 
 def _key_dims(
-    bg: Axes, tx: float, g: InletGeometry, extra: tuple[tuple[str, str], ...] = ()
+    bg: Axes, tx: float, top: float, g: InletGeometry, extra: tuple[tuple[str, str], ...] = ()
 ) -> None:
     pf = g.planform
     items = [
@@ -413,13 +303,13 @@ def _key_dims(
         ("throat area W x D", f"{g.throat_area_mm2:.0f} mm2"),
         *extra,
     ]
-    y = 150.0
-    step = min(3.9, 39.0 / len(items))  # the block ends above the cautions
+    y = top
     bg.text(tx + 4, y, "KEY DIMENSIONS", fontsize=7.5, weight="bold")
+    y -= 0.7
     for k, v in items:
-        y -= step
-        bg.text(tx + 4, y, k, fontsize=6.8)
-        bg.text(tx + 50, y, v, fontsize=6.8)
+        y -= _ROW_MM
+        bg.text(tx + 4, y, k, fontsize=6.5)
+        bg.text(tx + 42, y, v, fontsize=6.5)
 
 
 def _title_block(
