@@ -55,7 +55,7 @@ def placement_lines(d: Design) -> tuple[tuple[str, str], ...]:
     local = axes @ axis
     down = float(np.degrees(np.arctan2(-local[2], local[0])))
     n = d.skin.normal(np.array([[t.x_end_mm, 0.0]]))[0]
-    off = float(np.degrees(np.arcsin(np.clip(axis @ n, -1.0, 1.0))))
+    off = round(float(np.degrees(np.arcsin(np.clip(axis @ n, -1.0, 1.0)))), 1) + 0.0  # no -0.0
     lines += [
         ("outlet face centre", _vec(np.asarray(p), 1, " mm")),
         ("outlet axis", _vec(axis, 3)),

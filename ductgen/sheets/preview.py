@@ -17,7 +17,14 @@ import numpy as np
 
 from ductgen.errors import ExportError, GeometryError
 
-__all__ = ["GL_PACKAGES", "MARGIN", "curved_panel", "preview_png", "render_png"]
+__all__ = [
+    "GL_PACKAGES",
+    "MARGIN",
+    "curved_panel",
+    "patch_marks",
+    "preview_png",
+    "render_png",
+]
 
 #: Debian/Ubuntu packages that offscreen VTK rendering needs on a bare machine.
 GL_PACKAGES = "libgl1 libegl1 libegl-mesa0 libgl1-mesa-dri libx11-6 libxrender1"
@@ -110,6 +117,7 @@ def render_png(
     size: tuple[int, int] = (1600, 1000),
     colour: str = "#c9a86b",
     panel: tuple[np.ndarray, np.ndarray] | None = None,
+    marks: dict[str, Any] | None = None,
 ) -> bytes:
     """Shaded 3D view of a triangle mesh (vertices mm (N, 3), faces (M, 3)), seen from above,
     upstream and to one side, centred with :data:`MARGIN` free round it.
@@ -120,6 +128,10 @@ def render_png(
 
     With ``panel`` (vertices (N, 3), faces (M, 3), model coordinates) a curved skin panel is
     drawn round the part, with the part's cut-out in it.
+
+    With ``marks`` (:func:`patch_marks`, model coordinates): the patch's edges and the cut
+    edge as dark lines, the datum as a red pin (a ball on a short stalk along the skin's
+    normal, so a flange over it does not hide it) and the flow direction as a blue arrow.
 
     Returns PNG bytes. Raises :class:`ExportError` when no offscreen OpenGL context can be made.
     """
@@ -163,6 +175,8 @@ def render_png(
             )
             plate = pv.PolyData(np.asarray(panel[0], dtype=float), ptri.ravel())
             pl.add_mesh(plate, color="#9aa3ad", opacity=0.55, smooth_shading=True)
+        if marks is not None:
+            _add_marks(pl, marks, mesh.bounds)
         pl.enable_lightkit()
         # looking from above, upstream and to one side: the ramp, walls and lip all show
         b = (plate if plate is not None else mesh).bounds
@@ -180,6 +194,30 @@ def render_png(
     return buf.getvalue()
 
 
+def _add_marks(pl: Any, marks: dict[str, Any], bounds: Any) -> None:
+    """Draw :func:`patch_marks` (edges, datum pin, flow arrow) into a pyvista plotter."""
+    import pyvista as pv
+
+    span = max(bounds[1] - bounds[0], bounds[3] - bounds[2], bounds[5] - bounds[4])
+    for line in marks.get("lines", ()):
+        pl.add_mesh(pv.lines_from_points(np.asarray(line, float)), color="#2b2b2b", line_width=2)
+    datum, up = np.asarray(marks["datum"], float), np.asarray(marks["normal"], float)
+    top = datum + 0.06 * span * up
+    pl.add_mesh(pv.Line(datum, top), color="#b00020", line_width=3)
+    pl.add_mesh(pv.Sphere(radius=0.012 * span, center=top), color="#b00020")
+    tail, head = (np.asarray(p, float) for p in marks["arrow"])
+    d = head - tail
+    arrow = pv.Arrow(
+        start=tail,
+        direction=d,
+        scale=float(np.linalg.norm(d)),
+        tip_length=0.18,
+        tip_radius=0.05,
+        shaft_radius=0.015,
+    )
+    pl.add_mesh(arrow, color="#1f5fa0")
+
+
 def curved_panel(
     skin: Any,
     around_xy: np.ndarray,
@@ -187,31 +225,81 @@ def curved_panel(
     turned: Any = None,
     step: float = 4.0,
 ) -> tuple[np.ndarray, np.ndarray]:
-    """A patch of the curved skin's outer surface round a part (model coordinates, mm): a
-    grid over ``around_xy``'s extent plus a margin, less the cells inside ``hole_xy`` (both
-    closed outlines in design coordinates). ``turned``: the plug's map (it is built turned
+    """A patch of the skin's outer surface round a part (model coordinates, mm): a
+    rectangle over ``around_xy``'s extent plus a 20 mm margin with ``hole_xy`` cut out
+    exactly (both closed outlines in design coordinates). The patch is triangulated in
+    (u, v) (Delaunay, scipy) over a ``step`` grid and the hole's outline sampled every
+    ``step`` / 8, grid points nearer the outline than ``step`` / 3 left out, so the cut edge
+    follows the outline to within the sag of a 0.5 mm chord; triangles inside the hole are
+    dropped, then every point is mapped. ``turned``: the plug's map (it is built turned
     over), used instead of the skin's."""
     from matplotlib.path import Path as MplPath
+    from scipy.spatial import Delaunay
 
     lo, hi = around_xy.min(axis=0) - 20.0, around_xy.max(axis=0) + 20.0
     nu, nv = int((hi[0] - lo[0]) / step) + 2, int((hi[1] - lo[1]) / step) + 2
     uu, vv = np.meshgrid(
         np.linspace(lo[0], hi[0], nu), np.linspace(lo[1], hi[1], nv), indexing="ij"
     )
-    idx = np.arange(nu * nv).reshape(nu, nv)
-    a, b, c, e = (
-        idx[:-1, :-1].ravel(),
-        idx[1:, :-1].ravel(),
-        idx[:-1, 1:].ravel(),
-        idx[1:, 1:].ravel(),
-    )
-    faces = np.vstack([np.column_stack([a, b, c]), np.column_stack([e, c, b])])
-    uv = np.column_stack([uu.ravel(), vv.ravel()])
-    inside = MplPath(hole_xy).contains_points(uv[faces].mean(axis=1))
-    faces = faces[~inside]
+    grid = np.column_stack([uu.ravel(), vv.ravel()])
+    ring = _dense_ring(np.asarray(hole_xy, dtype=float), step / 8.0)
+    hole = MplPath(np.vstack([ring, ring[:1]]))
+    near = _distance_to(grid, ring) < step / 3.0
+    grid = grid[~near & ~hole.contains_points(grid)]
+    uv = np.vstack([grid, ring])
+    faces = Delaunay(uv).simplices
+    faces = faces[~hole.contains_points(uv[faces].mean(axis=1))]
     pts = np.column_stack([uv, np.zeros(len(uv))])
     xyz = skin.to_model(pts) if turned is None else turned(pts)
     return xyz, faces
+
+
+def patch_marks(
+    skin: Any,
+    around_xy: np.ndarray,
+    hole_xy: np.ndarray,
+    length_mm: float,
+    width_mm: float,
+    turned: Any = None,
+) -> dict[str, Any]:
+    """What the preview marks on the skin (model coordinates, mm): the patch's edges and
+    the cut edge as polylines (``lines``), the datum (design origin) and a flow arrow beside
+    the opening (``arrow``: tail, head), lifted 0.5 mm off the skin."""
+    lo, hi = around_xy.min(axis=0) - 20.0, around_xy.max(axis=0) + 20.0
+    rect = np.array([[lo[0], lo[1]], [hi[0], lo[1]], [hi[0], hi[1]], [lo[0], hi[1]], lo])
+    edge = _dense_ring(rect[:-1], 2.0)
+    cut = _dense_ring(np.asarray(hole_xy, dtype=float), 1.0)
+
+    def on(uv: np.ndarray, lift: float = 0.0) -> np.ndarray:
+        p = np.column_stack([uv, np.full(len(uv), lift)])
+        return skin.to_model(p) if turned is None else turned(p)
+
+    v_arrow = 0.5 * width_mm + 0.45 * (hi[1] - 0.5 * width_mm)
+    arrow = on(np.array([[0.05 * length_mm, v_arrow], [0.45 * length_mm, v_arrow]]), 0.5)
+    datum = on(np.zeros((1, 2)))[0]
+    normal = on(np.zeros((1, 2)), 1.0)[0] - datum
+    return {
+        "lines": [on(np.vstack([edge, edge[:1]])), on(np.vstack([cut, cut[:1]]), 0.05)],
+        "datum": datum,
+        "normal": normal / np.linalg.norm(normal),
+        "arrow": arrow,
+    }
+
+
+def _dense_ring(ring: np.ndarray, step: float) -> np.ndarray:
+    """A closed outline (N, 2) resampled so no segment is longer than ``step`` (mm)."""
+    p = np.vstack([ring, ring[:1]])
+    d = np.diff(p, axis=0)
+    n = np.maximum(1, np.ceil(np.hypot(d[:, 0], d[:, 1]) / step)).astype(int)
+    out = [p[i] + d[i] * (np.arange(n[i])[:, None] / n[i]) for i in range(len(d))]
+    return np.vstack(out)
+
+
+def _distance_to(points: np.ndarray, ring: np.ndarray) -> np.ndarray:
+    """Distance (mm) from each point to the nearest vertex of a densely sampled ring."""
+    from scipy.spatial import cKDTree
+
+    return np.asarray(cKDTree(ring).query(points)[0])
 
 
 def _gl_message(detail: str) -> str:
@@ -239,25 +327,37 @@ def preview_png(ctx: Any, worker: Any = None) -> bytes:
     else:
         mesh = ctx.solids[kind]["mesh"]
     d = ctx.design
-    panel = None
-    if d.skin.is_flat:
-        opening = d.geometry.planform.outline(300) if kind == "cutter" else None
-    else:  # the curved panel, with the part's cut-out, stands in for the flat skin plate
+    g = d.geometry
+    turned = d.placement.plug_map if kind == "plug" else None
+    if d.skin.is_flat and kind == "cutter":  # the flat plate, the cutter clipped under it
+        opening = g.planform.outline(300)
+        panel = None
+        span = float(np.ptp(opening[:, 0]))
+        around = np.vstack([opening.min(axis=0), opening.max(axis=0)])
+        around = around + np.array([[-1.0], [1.0]]) * (0.3 * span - 20.0)
+        marks = patch_marks(d.skin, around, opening, g.length_mm, g.width_mm)
+    else:  # a patch of the skin (flat or curved) with the part's cut-out in it
         opening = None
         hole = d.layout.opening_xy if kind == "cutter" else d.layout.cutout_xy
-        turned = d.placement.plug_map if kind == "plug" else None
         panel = curved_panel(d.skin, d.plug_trim_xy, hole, turned=turned)
+        marks = patch_marks(d.skin, d.plug_trim_xy, hole, g.length_mm, g.width_mm, turned)
     frame = d.panel_frame
     if frame is not None and panel is not None:  # the user's panel: view it in the datum's
         mesh = (frame.to_local(mesh[0]), mesh[1])  # frame, as the analytic skins are viewed
         panel = (frame.to_local(panel[0]), panel[1])
+        marks = {
+            "lines": [frame.to_local(p) for p in marks["lines"]],
+            "datum": frame.to_local(marks["datum"])[0],
+            "normal": marks["normal"] @ frame.axes.T,
+            "arrow": frame.to_local(marks["arrow"]),
+        }
     store = getattr(ctx, "cache", None)
     key = None
     if store is not None:  # the same picture of the same meshes: from the solid cache
         from ductgen.cache import fingerprint, kernel_versions, source_fingerprint
 
         code = source_fingerprint(("sheets/preview.py",))
-        key = fingerprint("preview", kernel_versions(("vtk",)), code, mesh, opening, panel)
+        key = fingerprint("preview", kernel_versions(("vtk",)), code, mesh, opening, panel, marks)
         entry = store.get(key)
         if entry is not None:
             return bytes(entry.blobs["png"])
@@ -268,6 +368,7 @@ def preview_png(ctx: Any, worker: Any = None) -> bytes:
             mesh[1],
             opening,
             panel=panel,
+            marks=marks,
             timeout_s=120.0,
         )
     except GeometryError as err:  # the renderer crashed the worker (no GL driver at all)

@@ -1,13 +1,13 @@
-"""The sheet's centreline section: skin, ramp floor, lip, throat, transition and spigot, the
-datum and the outlet, drawn in the datum's frame (mm).
+"""The sheet's centreline section: skin, ramp floor, lip, throat and transition, the datum
+and the outlet, drawn in the datum's frame (mm).
 
 On a flat skin the section is the design's (x, z) as it stands. On a curved skin or the
 user's panel every point goes through the design's maps (``sheets/skin_section.py``, the
 same as the design page): the skin line is the skin through the centreline, the floor,
 roof, lip and duct are placed as the solids are, depths along the skin's normal, so the
 section shows how far the skin falls (or rises) under the duct and where the straight
-spigot points. The datum (ramp start on the centreline, outer skin) is marked, the outlet
-face's centre is marked and its axis drawn as an arrow.
+spigot points. The datum (ramp start on the centreline, outer skin) is marked; an arrow
+leaves the outlet face's centre along the spigot's axis.
 """
 
 from __future__ import annotations
@@ -42,9 +42,8 @@ def _parts(g: InletGeometry) -> dict[str, np.ndarray]:
     out: dict[str, np.ndarray] = {}
     if t is not None:
         bottom = t.outlet_top_z_mm - t.outlet_height_mm
-        end = t.x_end_mm + g.spigot_length_mm
-        floor.append(np.array([[t.x_end_mm, bottom], [end, bottom]]))
-        roof.append(np.array([[t.x_end_mm, t.outlet_top_z_mm], [end, t.outlet_top_z_mm]]))
+        floor.append(np.array([[t.x_end_mm, bottom]]))
+        roof.append(np.array([[t.x_end_mm, t.outlet_top_z_mm]]))
         out["face"] = np.array([[t.x_end_mm, bottom], [t.x_end_mm, t.outlet_top_z_mm]])
     out["floor"] = np.vstack(floor)
     out["roof"] = np.vstack(roof)
@@ -110,7 +109,7 @@ def section_view(
         if design.panel_frame is not None:
             axis = axis @ design.panel_frame.axes.T
         centre, direction = c[[0, 2]], axis[[0, 2]] / np.linalg.norm(axis[[0, 2]])
-        tip = centre + direction * (g.spigot_length_mm + 12.0 / s)
+        tip = centre + direction * 14.0 / s
         v.arrow(centre, tip, lw=0.6)
         v.label("outlet axis", tip, 6.0, colour=_OUTLET)
     if t is not None:

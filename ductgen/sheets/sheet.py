@@ -228,7 +228,7 @@ def _split(ph: float, width: float, g: InletGeometry, design: Design | None) -> 
     # of the heights that give the best section scale, the plan takes the most
     while (
         h_plan + 2.0 <= 150.0
-        and scale_for(sec_ext, (width, top - bottom - h_plan - 6.0 - TITLE_MM)) >= best[0]
+        and scale_for(sec_ext, (width - 10.0, top - bottom - h_plan - 14.0 - TITLE_MM)) >= best[0]
     ):
         h_plan += 2.0
     h_sec = top - bottom - h_plan - 4.0
