@@ -132,3 +132,18 @@ def test_sheet_without_opengl_still_builds_and_warns(
     assert (tmp_path / "nogl-sheet.pdf").stat().st_size > 0
     assert not (tmp_path / "nogl-preview.png").exists()
     assert "preview_unavailable" in [w["code"] for w in res.report["warnings"]]
+
+
+def test_preview_shows_datum_pin_and_flow_arrow(built) -> None:  # type: ignore[no-untyped-def]
+    """The datum pin (red #b00020, shaded) and the flow arrow (blue #1f5fa0, shaded) are in
+    the picture, counted by colour: neither colour is anywhere else in the scene (sand part,
+    grey skin, blue-grey sky gradient whose blue leads its red by under 20 levels)."""
+    _, out = built
+    img = np.asarray(Image.open(out / "sh-preview.png").convert("RGB")).astype(int)
+    r, g, b = img[..., 0], img[..., 1], img[..., 2]
+    red = (r > 90) & (r > 2.5 * g) & (r > 1.8 * b)
+    blue = (b > 90) & (b - r > 50) & (b > 1.3 * g)
+    assert red.sum() > 200, red.sum()
+    assert blue.sum() > 500, blue.sum()
+    # the pin stands left of the arrow's head (the datum is upstream, the arrow downstream)
+    assert np.nonzero(red)[1].mean() < np.nonzero(blue)[1].max()

@@ -1,6 +1,6 @@
-"""Where the inlet sits: the sheet's PLACEMENT block on a curved skin or the user's panel.
+"""Where the inlet sits: the sheet's PLACEMENT block.
 
-The frame is stated first. On the analytic skins the model coordinates (those of every STEP
+The frame is stated first. On the analytic skins (flat, cylinder, doubly curved) the model coordinates (those of every STEP
 and STL file) are the datum's frame: the origin at the ramp start on the centreline, on the
 outer skin, x along the flow, y across it, z along the outward normal there. On the user's
 panel they are the panel file's own coordinates; the datum's frame (x along the flow, z
@@ -26,10 +26,7 @@ def _vec(v: np.ndarray, digits: int, unit: str = "") -> str:
 
 
 def placement_lines(d: Design) -> tuple[tuple[str, str], ...]:
-    """(name, value) lines of the PLACEMENT block; empty on a flat skin (the model frame is
-    the design's own there, stated in the title block's units)."""
-    if d.skin.is_flat:
-        return ()
+    """(name, value) lines of the PLACEMENT block (see the module text), on every skin."""
     frame = d.panel_frame
     if frame is None:
         lines = [

@@ -2,10 +2,14 @@
 
 A3 landscape (420 × 297 mm) for ``template.paper = "A4"``, ANSI B / tabloid landscape
 (431.8 × 279.4 mm) for ``"Letter"``. The views are drawn at a standard scale chosen to fit
-(stated under each view): plan view of the skin opening, centreline section (skin, ramp
-floor, lip, throat and transition), an enlarged lip detail; the table of offsets (x,
-half-width, floor depth) at every station of the profile (marked ``*``) and at 5 % steps,
-the key dimensions, a title block and the cautions (README, Cautions). Dimensions in mm.
+(stated in each view's title): plan view of the skin opening, centreline section (skin,
+ramp floor, lip, throat and transition, drawn on the skin in the datum's frame:
+``sheets/section.py``), an enlarged lip detail, both plan and section marking the datum; the
+PLACEMENT block (``sheets/placement.py``: the frame, the datum, the outlet's centre and
+axis); the table of offsets (x, half-width, floor depth) at every station of the profile
+(marked ``*``) and at 5 % steps, the key dimensions, a title block and the cautions (README,
+Cautions). Every label of a view is placed clear of its lines (``sheets/views.py``); the
+right column's rows are spaced over the text boxes a PDF reader measures. Dimensions in mm.
 """
 
 from __future__ import annotations
@@ -200,10 +204,7 @@ def sheet_pdf(
             iax = fig.add_axes((bx / pw, 12 / ph, bw / pw, bh / ph))
             iax.imshow(img, interpolation="bilinear")
             iax.set_axis_off()
-        y = _table(bg, tx, ph, g)
-        if flow:
-            y = _flow_block(bg, tx, y - 7.0, flow)
-        _key_dims(bg, tx, y - 6.5, g, skin_lines)
+        _column(bg, tx, ph, g, flow, skin_lines)
         _title_block(bg, tx, pw, g, spec, spec_hash, version)
         pdf.savefig(fig)
     return buf.getvalue()
@@ -250,30 +251,54 @@ def _placement_block(bg: Axes, x: float, top: float, lines: tuple[tuple[str, str
         y -= 3.2
 
 
-def _flow_block(bg: Axes, tx: float, top: float, flow: dict[str, Any]) -> float:
+def _column(
+    bg: Axes,
+    tx: float,
+    ph: float,
+    g: InletGeometry,
+    flow: dict[str, Any] | None,
+    extra: tuple[tuple[str, str], ...],
+) -> None:
+    """The right column above the cautions (its top at 105 mm): the table of offsets, the
+    AIRFLOW block, the key dimensions, stacked; rows and their fonts shrink together (to
+    no less than 0.75) when they would not fit, so no row's box meets the next."""
+    from ductgen.flow.sheet_block import flow_block_lines
+
+    n_flow = len(flow_block_lines(flow)) if flow else 0
+    need = 5.7 + len(offset_rows(g)) * _ROW_MM + 7.2 + (len(_KEY_NAMES) + len(extra)) * _ROW_MM
+    if flow:
+        need += 7.7 + n_flow * 3.45
+    k = max(0.75, min(1.0, (ph - 16.0 - 109.0) / need))
+    y = _table(bg, tx, ph - 16.0, g, k)
+    if flow:
+        y = _flow_block(bg, tx, y - 7.0 * k, flow, k)
+    _key_dims(bg, tx, y - 6.5 * k, g, extra, k)
+
+
+def _flow_block(bg: Axes, tx: float, top: float, flow: dict[str, Any], k: float = 1.0) -> float:
     """The AIRFLOW block with its title's baseline at ``top``; returns the last row's."""
     from ductgen.flow.sheet_block import FLOW_BLOCK_TITLE, flow_block_lines
 
     bg.text(tx + 4, top, FLOW_BLOCK_TITLE, fontsize=7.5, weight="bold")
-    y = top - 0.7
+    y = top - 0.7 * k
     for line in flow_block_lines(flow):
-        y -= 3.45
-        bg.text(tx + 4, y, line, fontsize=6.5)
+        y -= 3.45 * k
+        bg.text(tx + 4, y, line, fontsize=6.5 * k)
     return y
 
 
-def _table(bg: Axes, tx: float, ph: float, g: InletGeometry) -> float:
-    """The table of offsets from the column's top; returns the last row's baseline (mm)."""
+def _table(bg: Axes, tx: float, top: float, g: InletGeometry, k: float = 1.0) -> float:
+    """The table of offsets from ``top``; returns the last row's baseline (mm)."""
     rows = offset_rows(g)
-    y = ph - 16
+    y = top
     bg.text(tx + 4, y, "TABLE OF OFFSETS (mm)   * = profile station", fontsize=7.5, weight="bold")
-    y -= 5.5
+    y -= 5.5 * k
     cols = (tx + 4, tx + 22, tx + 48, tx + 78)
     for cx, head in zip(cols, ("x/L", "x", "half-width", "floor depth"), strict=True):
-        bg.text(cx, y, head, fontsize=6.8, weight="bold")
-    y -= 0.2
+        bg.text(cx, y, head, fontsize=6.8 * k, weight="bold")
+    y -= 0.2 * k
     for r in rows:
-        y -= _ROW_MM
+        y -= _ROW_MM * k
         mark = "*" if r["station"] else " "
         cells = (
             f"{r['x_over_L']:.3f}{mark}",
@@ -282,34 +307,53 @@ def _table(bg: Axes, tx: float, ph: float, g: InletGeometry) -> float:
             f"{r['floor_depth_mm']:.3f}",
         )
         for cx, c in zip(cols, cells, strict=True):
-            bg.text(cx, y, c, fontsize=6.5, weight="bold" if r["station"] else "normal")
+            bg.text(cx, y, c, fontsize=6.5 * k, weight="bold" if r["station"] else "normal")
     return y
 
 
+#: The key dimensions' names (their values: :func:`_key_dims`).
+_KEY_NAMES = (
+    "throat width W",
+    "throat depth D",
+    "ramp length L",
+    "ramp angle",
+    "entry radius",
+    "floor drop H",
+    "apex width",
+    "max wall divergence",
+    "lip",
+    "throat area W x D",
+)
+
+
 def _key_dims(
-    bg: Axes, tx: float, top: float, g: InletGeometry, extra: tuple[tuple[str, str], ...] = ()
+    bg: Axes,
+    tx: float,
+    top: float,
+    g: InletGeometry,
+    extra: tuple[tuple[str, str], ...] = (),
+    k: float = 1.0,
 ) -> None:
-    pf = g.planform
-    items = [
-        ("throat width W", f"{g.width_mm:.2f} mm"),
-        ("throat depth D", f"{g.depth_mm:.2f} mm"),
-        ("ramp length L", f"{g.length_mm:.2f} mm"),
-        ("ramp angle", f"{g.floor.angle_deg:.2f} deg"),
-        ("entry radius", f"{g.floor.entry_radius_mm:.2f} mm"),
-        ("floor drop H", f"{g.drop_mm:.2f} mm"),
-        ("apex width", f"{pf.apex_width_mm:.2f} mm"),
-        ("max wall divergence", f"{pf.max_divergence_deg:.1f} deg"),
-        ("lip", f"{g.lip.style}, t {g.lip.thickness_mm:.2f} mm, nose {g.lip.nose_ratio:g}:1"),
-        ("throat area W x D", f"{g.throat_area_mm2:.0f} mm2"),
-        *extra,
-    ]
+    pf, lip = g.planform, g.lip
+    values = (
+        f"{g.width_mm:.2f} mm",
+        f"{g.depth_mm:.2f} mm",
+        f"{g.length_mm:.2f} mm",
+        f"{g.floor.angle_deg:.2f} deg",
+        f"{g.floor.entry_radius_mm:.2f} mm",
+        f"{g.drop_mm:.2f} mm",
+        f"{pf.apex_width_mm:.2f} mm",
+        f"{pf.max_divergence_deg:.1f} deg",
+        f"{lip.style}, t {lip.thickness_mm:.2f} mm, nose {lip.nose_ratio:g}:1",
+        f"{g.throat_area_mm2:.0f} mm2",
+    )
     y = top
     bg.text(tx + 4, y, "KEY DIMENSIONS", fontsize=7.5, weight="bold")
-    y -= 0.7
-    for k, v in items:
-        y -= _ROW_MM
-        bg.text(tx + 4, y, k, fontsize=6.5)
-        bg.text(tx + 42, y, v, fontsize=6.5)
+    y -= 0.7 * k
+    for name, value in (*zip(_KEY_NAMES, values, strict=True), *extra):
+        y -= _ROW_MM * k
+        bg.text(tx + 4, y, name, fontsize=6.5 * k)
+        bg.text(tx + 42, y, value, fontsize=6.5 * k)
 
 
 def _title_block(
