@@ -21,9 +21,10 @@ import pymupdf
 import pytest
 
 from ductgen.design import build_design
+from ductgen.flow.report import flow_section
 from ductgen.sheets import skin_lines
 from ductgen.sheets.sheet import sheet_pdf
-from ductgen.spec import load_spec, parse_spec, spec_sha256
+from ductgen.spec import load_spec, parse_spec, read_spec_data, spec_sha256
 from tests.conftest import ROOT
 from tests.pdf_overlap import PT, audit_page, text_overlaps
 
@@ -33,15 +34,18 @@ SAMPLES = sorted(p.stem for p in (ROOT / "samples").glob("*.toml"))
 
 
 def _sheet(spec, split=()) -> pymupdf.Page:  # type: ignore[no-untyped-def]
+    """The sheet as a build draws it (AIRFLOW block included when the spec has [flow]),
+    without the preview picture (an image, not text or lines)."""
     d = build_design(spec)
     summary = dict(d.skin_summary)
+    flow = flow_section(spec.flow, d.duct)[0] if spec.flow is not None else None
     pdf = sheet_pdf(
         d.geometry,
         spec,
         spec_sha256(spec),
         "0",
         None,
-        None,
+        flow,
         split,
         skin_lines(summary, {}),
         design=d,
@@ -56,10 +60,16 @@ def _clear(page: pymupdf.Page) -> None:
     assert text_overlaps(page) == []
 
 
+@pytest.mark.parametrize("paper", ["A4", "Letter"])
 @pytest.mark.parametrize("name", SAMPLES)
-def test_no_text_overlaps_text_or_lines(name: str) -> None:
-    spec = load_spec(ROOT / "samples" / f"{name}.toml")
-    _clear(_sheet(spec))
+def test_no_text_overlaps_text_or_lines(name: str, paper: str) -> None:
+    data = read_spec_data(ROOT / "samples" / f"{name}.toml")
+    data["template"] = {**data.get("template", {}), "paper": paper}
+    spec = parse_spec(data)
+    length = build_design(spec).geometry.length_mm
+    page = _sheet(spec, split=(0.55 * length, 1.2 * length))  # a split insert's glue faces
+    assert "split 1" in page.get_text()
+    _clear(page)
 
 
 def test_the_overlap_measure_sees_overlaps() -> None:

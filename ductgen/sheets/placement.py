@@ -1,7 +1,8 @@
 """Where the inlet sits: the sheet's PLACEMENT block.
 
-The frame is stated first. On the analytic skins (flat, cylinder, doubly curved) the model coordinates (those of every STEP
-and STL file) are the datum's frame: the origin at the ramp start on the centreline, on the
+The frame is stated first. On the analytic skins (flat, cylinder, doubly curved) the model
+coordinates (those of every STEP and STL file) are the datum's frame: the origin at the ramp
+start on the centreline, on the
 outer skin, x along the flow, y across it, z along the outward normal there. On the user's
 panel they are the panel file's own coordinates; the datum's frame (x along the flow, z
 outward at the datum) is stated in them, and the sheet's section is drawn in it.
