@@ -2,10 +2,10 @@
 
 The frame is stated first. On the analytic skins (flat, cylinder, doubly curved) the model
 coordinates (those of every STEP and STL file) are the datum's frame: the origin at the ramp
-start on the centreline, on the
-outer skin, x along the flow, y across it, z along the outward normal there. On the user's
-panel they are the panel file's own coordinates; the datum's frame (x along the flow, z
-outward at the datum) is stated in them, and the sheet's section is drawn in it.
+start on the centreline, on the outer skin, x along the flow, y across it, z along the
+outward normal there. On the user's panel they are the panel file's own coordinates; the
+datum's frame (x along the flow, z outward at the datum) is stated in them, and the sheet's
+section is drawn in it.
 
 Then the datum, the outlet face's centre and the straight spigot's axis in model
 coordinates, and the axis's angles: below the datum frame's x axis (in its x-z plane) and
