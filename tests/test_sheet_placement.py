@@ -72,6 +72,40 @@ def test_no_text_overlaps_text_or_lines(name: str, paper: str) -> None:
     _clear(page)
 
 
+#: Skins beyond the samples: concave (the skin rises over the duct), doubly curved both ways.
+SKINS = {
+    "cylinder-spanwise-concave": {
+        "shape": "cylinder",
+        "radius": 900,
+        "axis": "spanwise",
+        "side": "concave",
+    },
+    "cylinder-streamwise-concave": {
+        "shape": "cylinder",
+        "radius": 500,
+        "axis": "streamwise",
+        "side": "concave",
+    },
+    "doubly-convex": {"shape": "doubly", "radius_streamwise": 1000, "radius_spanwise": 400},
+    "doubly-concave": {
+        "shape": "doubly",
+        "radius_streamwise": 1200,
+        "radius_spanwise": 600,
+        "side": "concave",
+    },
+}
+
+
+@pytest.mark.parametrize("skin", list(SKINS.values()), ids=list(SKINS))
+def test_no_overlaps_on_other_skins(skin: dict) -> None:
+    from tests.test_skin_curved import BASE
+
+    spec = parse_spec({**BASE, "skin": {"thickness": 2.0, **skin}})
+    page = _sheet(spec, split=(0.6 * build_design(spec).geometry.length_mm,))
+    _clear(page)
+    assert "PLACEMENT" in page.get_text() and "datum (0.0, 0.0, 0.0)" in page.get_text()
+
+
 def test_the_overlap_measure_sees_overlaps() -> None:
     """The measure can fail: two texts drawn on one spot, and one across a line, are found."""
     doc = pymupdf.open()

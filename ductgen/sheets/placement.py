@@ -19,11 +19,20 @@ import numpy as np
 
 from ductgen.design import Design
 
-__all__ = ["placement_lines"]
+__all__ = ["datum_label", "placement_lines"]
 
 
 def _vec(v: np.ndarray, digits: int, unit: str = "") -> str:
     return "(" + ", ".join(f"{c:.{digits}f}" for c in np.asarray(v, float)) + ")" + unit
+
+
+def datum_label(d: Design | None) -> str:
+    """The datum marker's label: its model coordinates (mm) when the design is known."""
+    if d is None:
+        return "datum"
+    frame = d.panel_frame
+    p = frame.origin if frame is not None else d.skin.to_model(np.zeros((1, 3)))[0]
+    return "datum " + _vec(p, 1)
 
 
 def placement_lines(d: Design) -> tuple[tuple[str, str], ...]:

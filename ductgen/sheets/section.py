@@ -17,6 +17,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
+from ductgen.sheets.placement import datum_label
 from ductgen.sheets.skin_section import dense, model_to_drawn, section_maps
 from ductgen.sheets.views import TITLE_MM, View, scale_for
 
@@ -99,7 +100,7 @@ def section_view(
         seg = mp(np.array([[x_split, zf], [x_split, 2 * gap]]))
         v.line(seg, colour=_SPLIT, lw=0.6, ls=(0, (6, 2, 1, 2)))
         v.label(f"split {i + 1}", seg[-1], 5.5, colour=_SPLIT)
-    v.label("datum", (0.0, 0.0), 6.0, colour="#b00020")
+    v.label(datum_label(design), (0.0, 0.0), 6.0, colour="#b00020")
     xa = 0.45 * length
     v.label(f"ramp {g.floor.angle_deg:.2f} deg", at(xa, -float(g.floor.depth(xa)) - gap), 6.5)
     t = g.transition

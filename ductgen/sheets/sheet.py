@@ -22,7 +22,7 @@ import numpy as np
 
 from ductgen.export.template_layout import CAUTIONS, build_date
 from ductgen.geometry.inlet import InletGeometry
-from ductgen.sheets.placement import placement_lines
+from ductgen.sheets.placement import datum_label, placement_lines
 from ductgen.sheets.section import section_extent, section_view
 from ductgen.sheets.views import TITLE_MM, View, scale_for, scale_text
 from ductgen.stamp import build_datetime
@@ -68,7 +68,7 @@ def offset_rows(g: InletGeometry) -> list[dict[str, Any]]:
     return out
 
 
-def _plan(fig: Figure, page: _Size, box: _Box, g: InletGeometry) -> float:
+def _plan(fig: Figure, page: _Size, box: _Box, g: InletGeometry, datum: str = "datum") -> float:
     pf, length, w = g.planform, g.length_mm, g.width_mm
     s = scale_for((length * 1.25, w * 1.6), (box[2], box[3] - TITLE_MM))
     v = View(fig, page, box, (0.5 * length, 0.5 * TITLE_MM / s), s)
@@ -85,7 +85,7 @@ def _plan(fig: Figure, page: _Size, box: _Box, g: InletGeometry) -> float:
     v.dim((0, -half_apex), (0, half_apex), (-0.05 * length, 0.0), f"{pf.apex_width_mm:.2f}")
     v.arrow((0.1 * length, 0.62 * w), (0.25 * length, 0.62 * w))
     v.label("FLOW", (0.05 * length, 0.62 * w), 7.0)
-    v.label("datum", (0.0, 0.0), 6.0, colour="#b00020")
+    v.label(datum, (0.0, 0.0), 6.0, colour="#b00020")
     v.finish()
     return s
 
@@ -173,7 +173,11 @@ def sheet_pdf(
         lip_w = (0.30 if placed else 0.45) * (tx - 18)
         plan_box, section_box = _split(ph, tx - 18, g, design)
         views = [
-            ("PLAN VIEW (skin opening, outer surface)", plan_box, _plan),
+            (
+                "PLAN VIEW (skin opening, outer surface)",
+                plan_box,
+                lambda f, p, b, gg: _plan(f, p, b, gg, datum_label(design)),
+            ),
             (
                 "CENTRELINE SECTION" + (" (datum frame)" if placed else ""),
                 section_box,
