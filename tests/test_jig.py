@@ -155,3 +155,38 @@ def test_flat_skin_makes_no_jig() -> None:
 
     spec = load_spec(ROOT / "samples" / "club-racer-brake.toml")
     assert not any("jig" in n for n in planned_files(spec, ["jig"]))
+
+
+@pytest.mark.slow
+def test_jig_on_a_doubly_curved_bspline_panel(tmp_path) -> None:  # type: ignore[no-untyped-def]
+    # the panel made here with the kernel (a B-spline bonnet); the jig's underside measured
+    # against the face itself by the kernel's distance query, its inner edge against the
+    # cutter's mesh along the face's own normal
+    import cadquery as cq
+    from OCP.BRepBuilderAPI import BRepBuilderAPI_MakeVertex
+    from OCP.BRepExtrema import BRepExtrema_DistShapeShape
+    from OCP.gp import gp_Pnt
+
+    from ductgen.pipeline import build
+    from tests.panels import bonnet_face, bonnet_height
+    from tests.test_skin_panel import _panel_skin, _spec
+
+    face = bonnet_face()
+    path = tmp_path / "bonnet.step"
+    cq.exporters.export(face, str(path))
+    at = np.array([40.0, 30.0, float(bonnet_height(np.array(40.0), np.array(30.0)))])
+    spec = _spec(_panel_skin(path, at, np.array([1.0, 0.15, 0.0]), thickness=2.5))
+    res = build(spec, tmp_path / "out", only=["cutter", "jig"], cache=False)
+    c = res.report["jig"]["clearance_mm"]
+    m = trimesh.load(tmp_path / "out" / f"{spec.name}-jig.stl")
+    assert m.is_watertight
+    # underside: faces pointing down (the bonnet rises at most a few degrees here), not
+    # slivers along an edge (whose normals say little)
+    down = (m.face_normals[:, 2] < -0.9) & (m.area_faces > 1.0)
+    under = m.submesh([np.flatnonzero(down)], append=True)
+    pts = under.vertices[:: max(1, len(under.vertices) // 150)]
+    for p in pts:
+        ext = BRepExtrema_DistShapeShape(
+            BRepBuilderAPI_MakeVertex(gp_Pnt(*p)).Vertex(), face.wrapped
+        )
+        assert ext.Value() == pytest.approx(c, abs=0.1)

@@ -199,12 +199,18 @@ def _measure(d: Design, jig: JigLayout, verts: np.ndarray, faces: np.ndarray) ->
     nrm = d.skin.normal(np.zeros((1, 2)))[0]
     down = np.flatnonzero(mesh.face_normals @ nrm < -0.8)
     under: Any = mesh.submesh([down], append=True)
-    _, to_skin, _ = trimesh.proximity.closest_point(_skin_mesh(d, jig), under.vertices)
+    skin = _skin_mesh(d, jig)
+    _, to_skin, _ = trimesh.proximity.closest_point(skin, under.vertices)
+    # a sliver along a mapped top edge can face down too: its top corners (a thickness off
+    # the skin) are not underside points
+    low = to_skin < jig.clearance_mm + 0.5 * jig.thickness_mm
+    to_skin = to_skin[low]
     cut_uv = _densify(jig.inner_xy, 0.05)
     cut = d.skin.to_model(np.column_stack([cut_uv, np.full(len(cut_uv), jig.clearance_mm)]))
     _, gap, _ = trimesh.proximity.closest_point(under, cut)  # the cut line lies on the underside
     edges = under.edges_sorted[trimesh.grouping.group_rows(under.edges_sorted, require_count=1)]
-    rim = under.vertices[np.unique(edges)]
+    rim_ix = np.unique(edges)
+    rim = under.vertices[rim_ix[low[rim_ix]]]
     off = np.asarray(cKDTree(cut).query(rim)[0])
     inner = off < 0.5 * jig.width_mm  # the inner loop (the outer edge is a frame width away)
     return {
