@@ -101,6 +101,11 @@ def mesh_health(vertices: np.ndarray, faces: np.ndarray) -> dict[str, Any]:
     }
 
 
+#: Smallest height (mm) of a triangle over its longest edge for a wall ray to start on it:
+#: far below any printable wall (a 0.4 mm nozzle's line), far above float32 rounding.
+MIN_RAY_FACE_HEIGHT_MM = 0.05
+
+
 def min_wall_mm(
     vertices: np.ndarray, faces: np.ndarray, max_rays: int = 8000, seed: int = 0
 ) -> dict[str, Any]:
@@ -112,7 +117,11 @@ def min_wall_mm(
     convex edge a chord triangle's tilted normal would otherwise "see" the neighbouring
     face a few hundredths of a millimetre away. Only hits leaving the material through a
     face turned towards the ray (cos > 0.25) count, so rays grazing a rounded nose tip
-    do not read as thin walls.
+    do not read as thin walls. No ray starts on a sliver (a triangle less than
+    :data:`MIN_RAY_FACE_HEIGHT_MM` high over its longest edge): on a mesh carried onto a
+    curved skin, slivers along an edge have their three corners on a bent curve and a normal
+    pointing anywhere across it, and their rays found walls of 0.001 mm that are not there;
+    the faces beside them sample the same wall.
     """
     try:  # Intel Embree through embreex: ~70x faster than trimesh's numpy intersector
         from trimesh.ray.ray_pyembree import RayMeshIntersector
@@ -121,10 +130,16 @@ def min_wall_mm(
 
     m = _trimesh(vertices, faces)
     cen, nrm, area = m.triangles_center, m.face_normals, m.area_faces
-    idx = np.arange(len(cen))
+    corners = m.vertices[m.faces]
+    longest = np.linalg.norm(corners[:, [1, 2, 0]] - corners, axis=2).max(axis=1)
+    height = 2.0 * area / np.maximum(longest, 1e-12)
+    # rays start only on faces whose normal means something at this scale (see the text)
+    idx = np.flatnonzero(height >= MIN_RAY_FACE_HEIGHT_MM)
+    if len(idx) == 0:
+        return {"min_wall_mm": None, "at_mm": None, "rays": 0}
     if len(idx) > max_rays:
         rng = np.random.default_rng(seed)
-        pick = rng.choice(idx, size=max_rays, replace=False, p=area / area.sum())
+        pick = rng.choice(idx, size=max_rays, replace=False, p=area[idx] / area[idx].sum())
         idx = np.union1d(pick, rng.choice(idx, size=max_rays // 4, replace=False))
     origins = cen[idx] - 1e-4 * nrm[idx]
     dirs = -nrm[idx]

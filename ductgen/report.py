@@ -226,6 +226,12 @@ def add_insert_pieces(report: dict[str, Any], pieces: list[dict[str, Any]]) -> N
     report["print"]["bed"]["insert"]["pieces"] = pieces
 
 
+def add_jig(report: dict[str, Any], facts: dict[str, Any]) -> None:
+    """Record the conformal jig (mm: width, clearance, its measured fit on the skin and
+    against the opening's cut line, its files and pieces) under ``jig``."""
+    report["jig"] = facts
+
+
 def add_panel_cut(report: dict[str, Any], cut: dict[str, Any]) -> None:
     """Record ``NAME-panel.step``'s volumes (mm³) and source under ``geometry.skin.panel``."""
     report["geometry"]["skin"]["panel"] = cut

@@ -49,6 +49,7 @@ __all__ = [
     "plug_trim_outline",
     "spigot_of",
     "transition_wall_mm",
+    "wall_for_curvature",
 ]
 
 #: Spigot: straight lead-in beyond the bead at the free end (mm); bead width = 2.5 × height.
@@ -123,6 +124,20 @@ def transition_wall_mm(g: InletGeometry, wall: float) -> float:
     if t is None:
         return wall
     return wall * t.ruling_stretch
+
+
+def wall_for_curvature(wall: float, curvature_per_mm: float, depth_mm: float) -> float:
+    """The design-coordinate offset (mm) that gives a wall of ``wall`` mm at ``depth_mm``
+    below a convex skin of curvature κ (1/mm). Design offsets across the flow are arc
+    lengths at the skin surface; at depth d they shrink by 1 − κ·d (the parallel circle of
+    radius R − d), so the offset is wall / (1 − κ·d). A concave or flat skin (κ ≤ 0) needs
+    none (its walls only grow)."""
+    if curvature_per_mm <= 0.0 or depth_mm <= 0.0:
+        return wall
+    shrink = 1.0 - curvature_per_mm * depth_mm
+    if shrink <= 0.0:
+        raise ValueError("depth beyond the skin's centre of curvature")
+    return wall / shrink
 
 
 @dataclass(frozen=True)

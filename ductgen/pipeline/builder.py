@@ -78,7 +78,7 @@ def planned_files(spec: Spec, kinds: list[str]) -> list[str]:
             names += [f"{spec.name}-{k}.step", f"{spec.name}-{k}.stl"]
             if k == "insert":
                 names.append(f"{spec.name}-insert.3mf")
-        else:
+        elif OUTPUTS[k].made_for(spec):
             names += [f"{spec.name}-{suffix}" for suffix in OUTPUTS[k].suffixes]
     return [*names, "report.json"]
 
@@ -105,7 +105,8 @@ def planned_stages(spec: Spec, kinds: list[str]) -> list[str]:
         stages.append("solids")
     if _cuts_panel(spec, kinds):
         stages.append("panel")
-    return [*stages, *(k for k in kinds if k in OUTPUTS), "publish"]
+    made = [k for k in kinds if k in OUTPUTS and OUTPUTS[k].made_for(spec)]
+    return [*stages, *made, "publish"]
 
 
 def select_kinds(only: list[str] | None) -> list[str]:
@@ -200,7 +201,14 @@ def build(
             add_panel_cut(report, cut)
             seconds["panel_s"] = time.perf_counter() - t0
         ctx = BuildContext(
-            spec=spec, design=design, solids=solids, report=report, warnings=warnings, cache=store
+            spec=spec,
+            design=design,
+            solids=solids,
+            report=report,
+            warnings=warnings,
+            cache=store,
+            quality=quality,
+            kernel=run,
         )
         files: dict[str, str] = {}
         for k in solid_kinds:
@@ -233,7 +241,9 @@ def build(
             out.add(name, _plate(out.staging, stls, report, frame, spec.name))
             files["insert_3mf"] = name
         for k in kinds:
-            if k in OUTPUTS:
+            if k in OUTPUTS and not OUTPUTS[k].made_for(spec):
+                report.setdefault("not_made", {})[k] = OUTPUTS[k].why_not
+            elif k in OUTPUTS:
                 note(k)
                 t0 = time.perf_counter()
                 for suffix, data in OUTPUTS[k].encode(ctx).items():

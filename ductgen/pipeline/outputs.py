@@ -30,6 +30,9 @@ class BuildContext:
     report: dict[str, Any]
     warnings: list[DesignWarning] = field(default_factory=list)
     cache: Cache | None = None
+    quality: str = "normal"
+    #: runs a job in the kernel worker (started on first use): ``kernel(job, *args)``
+    kernel: Callable[..., Any] | None = None
 
 
 def _template(ctx: BuildContext) -> dict[str, bytes]:
@@ -70,16 +73,63 @@ def _sheet(ctx: BuildContext) -> dict[str, bytes]:
     return sheet_files(ctx)
 
 
+def _jig(ctx: BuildContext) -> dict[str, bytes]:
+    """``jig.step``/``.stl`` (and ``jig-partK``): the conformal marking jig, built in the
+    kernel worker (:func:`ductgen.solids.jig.jig_job`); its facts go to ``report["jig"]``."""
+    import shutil
+    import tempfile
+    from pathlib import Path
+
+    from ductgen.report import add_jig
+
+    assert ctx.kernel is not None
+    spec = ctx.spec
+    tmp = Path(tempfile.mkdtemp(prefix="ductgen-jig-"))
+    try:
+        facts = ctx.kernel(
+            "ductgen.solids.jig:jig_job",
+            ctx.design,
+            spec.template.kerf,
+            tuple(spec.print.bed),
+            ctx.quality,
+            spec.name,
+            str(tmp),
+        )
+        files = {p.name.removeprefix(f"{spec.name}-"): p.read_bytes() for p in tmp.iterdir()}
+    finally:
+        shutil.rmtree(tmp, ignore_errors=True)
+    add_jig(ctx.report, facts)
+    return dict(sorted(files.items()))
+
+
+def _curved(spec: Spec) -> bool:
+    """The skin is not flat (a flat skin's 1:1 template is exact: no jig needed)."""
+    return spec.skin.shape != "flat"
+
+
 @dataclass(frozen=True)
 class Output:
-    """One output kind: its encoder and the suffixes of the files it writes."""
+    """One output kind: its encoder, the suffixes of the files it writes and, when it is
+    made only for some specs, which (``wanted(spec)``)."""
 
     encode: Callable[[BuildContext], dict[str, bytes]]
     suffixes: tuple[str, ...]
+    wanted: Callable[[Spec], bool] | None = None
+    why_not: str = ""
+
+    def made_for(self, spec: Spec) -> bool:
+        """Whether a build of ``spec`` makes this output."""
+        return self.wanted is None or self.wanted(spec)
 
 
 #: Output kind → encoder and suffixes, in build order.
 OUTPUTS: dict[str, Output] = {
     "template": Output(_template, ("template.dxf", "template.pdf")),
     "sheet": Output(_sheet, ("sheet.pdf", "preview.png")),
+    "jig": Output(
+        _jig,
+        ("jig.step", "jig.stl"),
+        _curved,
+        "a flat skin needs no jig: the 1:1 template (DXF/PDF) is exact on it",
+    ),
 }

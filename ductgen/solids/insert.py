@@ -30,7 +30,7 @@ import numpy as np
 
 from ductgen.design import Design
 from ductgen.errors import GeometryError
-from ductgen.geometry.fabrication import footprint_end_mm, transition_wall_mm
+from ductgen.geometry.fabrication import footprint_end_mm, transition_wall_mm, wall_for_curvature
 from ductgen.geometry.floor import floor_section
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.solids.cutter import build_cutter, make_transition
@@ -197,6 +197,30 @@ def _drilled(shape: cq.Shape, lay) -> cq.Shape:  # type: ignore[no-untyped-def]
     return boolean("cut", shape, holes, "insert holes")
 
 
+def _convex_curvature(d: Design) -> float:
+    """The largest convex skin curvature the insert's walls sit under (1/mm; 0 when flat or
+    concave): on the user's panel its largest principal curvature (conservative)."""
+    from ductgen.geometry.panel import PanelSkin
+
+    sk = d.skin
+    if isinstance(sk, PanelSkin):
+        return float(sk.curvature)
+    return max(float(getattr(sk, "k_stream", 0.0)), float(getattr(sk, "k_span", 0.0)), 0.0)
+
+
+def _wall_body(g: InletGeometry, x_ne: float, r_edge: float, w: float, k: float, z0: float):  # type: ignore[no-untyped-def]
+    """The walls' outer body down to z0 < 0: the footprint offset by edge round + wall, a
+    prism; under a convex skin (k > 0, 1/mm) a ruled loft whose offset grows with depth to
+    edge round + wall/(1 − k·|z0|), so the wall measured on the skin is ``w`` at every depth
+    (1/(1 − k·d) is convex in d, so the straight ruling is never thinner)."""
+    square = g.transition is None
+    if k <= 0.0:
+        return prism(footprint_face(g, x_ne, r_edge + w, square_end=square), z0, 0.0)
+    top = offset_wire(g, x_ne, r_edge + w, 0.0, square_end=square)
+    bottom = offset_wire(g, x_ne, r_edge + wall_for_curvature(w, k, -z0), z0, square_end=square)
+    return cq.Solid.makeLoft([bottom, top], True)
+
+
 def make_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
     """The insert as one closed solid on the design's skin (mm, model coordinates).
 
@@ -219,10 +243,11 @@ def build_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
     x_ne = g.throat_end_mm
     H = g.drop_mm
     span = g.width_mm / 2.0 + off + ins.flange_width + 10.0
+    k = _convex_curvature(d)
     try:
         walls = boolean(
             "intersect",
-            prism(footprint_face(g, x_ne, off, square_end=g.transition is None), -H - w - 2.0, 0.0),
+            _wall_body(g, x_ne, r_edge, w, k, -H - w - 2.0),
             [floor_profile_solid(g, w, -off - 2.0, x_ne + off + 1.0, span)],
             "insert walls",
         )
@@ -253,7 +278,11 @@ def build_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
         inner_extra: list[cq.Shape] = []
         t = g.transition
         if t is not None:
+            # inside a convex skin the section's sides close in with depth (the fade only
+            # lessens it): the wall is sized for the deepest point of the outer section
             wt = transition_wall_mm(g, w)
+            bottom = min(t.floor_z_mm, t.outlet_top_z_mm - t.outlet_height_mm)
+            wt = wall_for_curvature(wt, k, wt - bottom)
             t_out = dataclasses.replace(
                 t,
                 width_mm=t.width_mm + 2 * wt,
