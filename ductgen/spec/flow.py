@@ -65,7 +65,8 @@ TRANSITION_EFFECTIVENESS = 0.6
 
 #: Default kinetic-energy (Coriolis) factor α of the air leaving the inlet's own duct: from
 #: the project's own CFD cross-check (k-ω SST, three meshes), which measured α = 1.20–1.32
-#: at the transition exit of the club-racer and e-kart samples; 1.25 is inside that range.
+#: at the transition exit of the club-racer and e-kart samples (as they were then, before
+#: their throats were deepened); 1.25 is inside that range.
 #: Not a published value; α = 1 is the uniform flow of the one-dimensional model before it.
 KINETIC_ENERGY_FACTOR = 1.25
 
