@@ -4,8 +4,8 @@ Reference values: ``tests/data/speed_reference.json``, measured by this module's
 on builds made with commit b22f352 (the commit before the concurrent pipeline, the early
 kernel start and the shared exact volume), and re-measured when the samples themselves changed
 (deeper throats and longer transitions, so that none warns about its own design) — not an
-outside check: it proves that running stages concurrently changed no output. Report numbers are compared by
-tests/test_reference_reports.py; here, for every sample:
+outside check: it proves that running stages concurrently changed no output. Report numbers
+are compared by tests/test_reference_reports.py; here, for every sample:
 
 * every STL file's volume (its triangles, divergence theorem) equals the reference to 1e-9
   relative;
