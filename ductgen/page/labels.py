@@ -97,6 +97,7 @@ LABELS: dict[str, str] = {
     "flow.exit_direction": "exit direction",
     "flow.flow_angle_deg": "flow angle (yaw)",
     "flow.inlet_cp": "surface pressure coefficient at the inlet",
+    "flow.inlet_cp_gradient_per_m": "surface Cp gradient along the run",
     "flow.kinetic_energy_factor": "outflow kinetic-energy factor α",
     "flow.momentum_factor": "outflow momentum factor β",
     "flow.exit": "duct ends in",

@@ -235,6 +235,18 @@ class FlowSpec(Section):
             "a suction region); it sets the local head the inlet recovers from",
         ),
     ]
+    inlet_cp_gradient_per_m: Annotated[
+        float | None,
+        Field(
+            default=None,
+            ge=-20,
+            le=20,
+            description="dCp/dx of the surface along the run to the inlet (1/m; > 0 adverse: "
+            "the pressure rises toward the inlet, < 0 favourable); Cp is taken linear, inlet_cp "
+            "at the ramp start, and the boundary layer is then integrated by Head's method; "
+            "unset = the flat-plate layer",
+        ),
+    ]
     kinetic_energy_factor: Annotated[
         float,
         Field(
