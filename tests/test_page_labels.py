@@ -174,9 +174,17 @@ def _live(flow: dict | None = None) -> dict:
 def test_every_live_row_has_a_plain_label() -> None:
     from ductgen.page.labels import RESULT_LABELS
 
-    out = _live({"speed": "420 km/h", "external_drag_coefficient": 0.1, "exit": "plenum"})
+    out = _live(
+        {
+            "speed": "420 km/h",
+            "external_drag_coefficient": 0.1,
+            "exit": "plenum",
+            "inlet_cp_gradient_per_m": 0.2,
+        }
+    )
     rows = out["numbers"] + out["flow"]["rows"]
-    assert {r["key"] for r in rows} >= {"steepest_wall_angle_deg", "impact_pressure_pa"}
+    keys = {r["key"] for r in rows}
+    assert keys >= {"steepest_wall_angle_deg", "impact_pressure_pa", "shape_factor"}
     for r in rows:
         assert r["label"] in RESULT_LABELS.values() and "_" not in r["label"], r
 

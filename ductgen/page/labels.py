@@ -162,4 +162,5 @@ RESULT_LABELS: dict[str, str] = {
     "kinetic_energy_factor_plenum": "outflow α, dumped into a plenum",
     "kinetic_energy_factor_hose": "outflow α, mixed out in the hose",
     "momentum_factor": "outflow momentum factor β",
+    "shape_factor": "boundary layer shape factor H (Head's method)",
 }

@@ -130,6 +130,9 @@ def _term_rows(flow: dict[str, Any]) -> list[dict[str, Any]]:
     ]
     if exit_kind == "hose":
         rows.append(_row("momentum_factor", flow.get("momentum_factor"), "", 3))
+    grad = flow.get("boundary_layer_gradient")
+    if grad is not None:  # Head's method along the Cp gradient
+        rows.append(_row("shape_factor", grad["shape_factor"], "", 2))
     return rows
 
 
