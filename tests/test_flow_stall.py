@@ -14,12 +14,22 @@ from ductgen.flow.stall import STALL_LINE_POINTS, stall_line_included_deg, steep
 from ductgen.geometry.transition import Transition
 from ductgen.pipeline import build
 from ductgen.sizing import size_result_dict, size_throat
-from ductgen.spec import load_spec
+from ductgen.spec import load_spec, parse_spec, read_spec_data
 from tests.conftest import ROOT
+
+#: The club and e-kart samples' throats and transitions as they first shipped (28 / 20 mm deep,
+#: 170 / 100 mm long): their floors stalled, and the samples were since deepened and lengthened.
+STALLING = {"club-racer-brake": (28.0, 170.0), "ekart-battery-vent": (20.0, 100.0)}
 
 
 def _sample(name: str):  # type: ignore[no-untyped-def]
     return build_design(load_spec(ROOT / "samples" / f"{name}.toml"))
+
+
+def _stalling_spec(name: str):  # type: ignore[no-untyped-def]
+    data = read_spec_data(ROOT / "samples" / f"{name}.toml")
+    data["throat"]["depth"], data["outlet"]["transition_length"] = STALLING[name]
+    return parse_spec(data)
 
 
 @pytest.mark.parametrize(
@@ -32,7 +42,7 @@ def test_sample_floor_is_the_steepest_wall(
     # [derived] roof-aligned round outlet: the floor's centre ruling drops from the throat
     # floor to the outlet's bottom, atan((d_out - D)/L): club 15.83 deg, e-kart 16.70 deg,
     # far above the equivalent cone's 4.6 / 2.8 deg included
-    d = _sample(name)
+    d = build_design(_stalling_spec(name))
     expected = math.degrees(math.atan((outlet_mm - depth_mm) / length_mm))
     assert d.duct.steepest_wall_angle_deg == pytest.approx(expected, abs=1e-4)
     assert d.duct.steepest_wall_name == "floor"
@@ -65,7 +75,7 @@ def test_stall_line_passes_its_recalled_points() -> None:
 def test_length_under_the_stall_line_for_the_club_sample() -> None:
     # [derived] the club's floor stays at atan(48.2/L) with the outlet held: the length
     # that puts it on line a-a, solved here from that closed form
-    d = _sample("club-racer-brake")
+    d = build_design(_stalling_spec("club-racer-brake"))
     rep = steepest_wall_report(d.duct)
     assert rep["steepest_wall_stalls"] is True
     length = brentq(
@@ -75,6 +85,25 @@ def test_length_under_the_stall_line_for_the_club_sample() -> None:
     )
     assert rep["length_under_stall_line_mm"] == pytest.approx(length, rel=1e-4)
     assert rep["length_under_stall_line_mm"] > 170.0
+
+
+@pytest.mark.parametrize(
+    ("name", "outlet_mm", "depth_mm", "length_mm"),
+    [("club-racer-brake", 76.2, 36.0, 220.0), ("ekart-battery-vent", 50.0, 24.0, 130.0)],
+)
+def test_samples_as_shipped_clear_the_line(
+    name: str, outlet_mm: float, depth_mm: float, length_mm: float
+) -> None:
+    # [derived] the shipped samples: roof-aligned round outlet, the floor at
+    # atan((d_out - D)/L) = 10.36 / 11.31 deg, under line a-a at N/W1 = L/D (11.2 / 12.1 deg)
+    d = _sample(name)
+    floor = math.degrees(math.atan((outlet_mm - depth_mm) / length_mm))
+    rep = steepest_wall_report(d.duct)
+    assert rep["steepest_wall_angle_deg"] == pytest.approx(floor, abs=1e-4)
+    assert floor < stall_line_included_deg(length_mm / depth_mm)
+    assert rep["steepest_wall_stalls"] is False
+    assert rep["length_under_stall_line_mm"] == pytest.approx(length_mm, rel=1e-12)
+    assert "diffuser_angle_large" not in {w.code for w in d.warnings}
 
 
 def test_cowling_rect_outlet_is_under_the_line() -> None:
@@ -95,7 +124,7 @@ def test_size_offers_the_transition_length() -> None:
 
 def test_report_carries_the_steepest_wall(tmp_path) -> None:  # type: ignore[no-untyped-def]
     # [derived] as above: the club's floor at atan(48.2/170) = 15.83 deg, in report.json
-    spec = load_spec(ROOT / "samples" / "club-racer-brake.toml")
+    spec = _stalling_spec("club-racer-brake")
     build(spec, tmp_path, only=["template"])  # no solids needed for report.json
     rep = json.loads((tmp_path / "report.json").read_text())
     tr = rep["geometry"]["transition"]

@@ -77,7 +77,8 @@ def test_net_drag_only_with_rearward_exit() -> None:
 
 
 def test_transition_methods_are_fluids_and_blevins() -> None:
-    spec = load_spec(SAMPLE)
+    # the duct of _with_flow: a 110 x 28 mm throat to a 3 in hose over 170 mm
+    spec = _with_flow()
     f, _ = _section(spec)
     t = geometry_from_spec(spec).transition
     assert t is not None
@@ -97,7 +98,7 @@ def test_transition_methods_are_fluids_and_blevins() -> None:
     cp_ideal = 1 - (a1 / a2) ** 2
     assert ks["effectiveness_0.6"] == pytest.approx(0.4 * cp_ideal, rel=1e-12)
     assert ks["effectiveness_0.8"] == pytest.approx(0.2 * cp_ideal, rel=1e-12)
-    # an independent hand computation on this sample [derived]: Crane 0.011,
+    # an independent hand computation on this duct [derived]: Crane 0.011,
     # Idelchik 0.054, effectiveness 0.8-0.6 -> 0.11-0.22
     assert ks["crane"] == pytest.approx(0.011, abs=5e-4)
     assert ks["idelchik"] == pytest.approx(0.054, abs=5e-4)
@@ -205,14 +206,14 @@ def test_white_boundary_layer_worked_example() -> None:
 
 
 def test_flow_angle_exit_cp_and_delta_spread(tmp_path: Path) -> None:
-    spec = _sample_with(flow_angle_deg=8.0)
+    spec = _with_flow(flow_angle_deg=8.0)  # 28 mm deep throat, 1.6 m run
     build(spec, tmp_path, only=["template"])  # no solids needed for report.json
     rep = json.loads((tmp_path / "report.json").read_text())
     f, codes = rep["flow"], {w["code"] for w in rep["warnings"]}
     assert f["flow_angle_deg"] == 8.0 and "flow_angle_large" in codes
     assert f["exit_cp"] == 0.0 and f["exit_cp_source"] == "default"
     assert "exit_cp_defaulted" in codes and "rarely ambient" in f["exit_cp_note"]
-    # [derived] by hand: delta/D = 0.998 (0.37 Re^-1/5) and 1.03 (White) on this sample
+    # [derived] by hand: delta/D = 0.998 (0.37 Re^-1/5) and 1.03 (White) on this duct
     assert f["delta_over_depth"] == pytest.approx(0.998, abs=1e-3)
     assert f["delta_over_depth_white"] == pytest.approx(1.03, abs=5e-3)
     assert f["delta_over_depth_max"] == f["delta_over_depth_white"]

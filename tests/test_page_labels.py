@@ -4,6 +4,7 @@ label, every skin shape a drawing caption, and the panel file list stays in the 
 from __future__ import annotations
 
 import json
+import math
 import os
 from pathlib import Path
 
@@ -155,3 +156,76 @@ def test_a_densified_polyline_keeps_its_points_and_short_segments() -> None:
     for p in pts:  # every corner is still there, in order
         assert np.min(np.linalg.norm(out - p, axis=1)) < 1e-12
     assert len(out) == 1 + 4 + 1 + 10  # the start, then ceil(10/3), ceil(2.5/3), ceil(29.26/3)
+
+
+def _live(flow: dict | None = None) -> dict:
+    """The page's live answer for the club sample with ``flow`` keys changed."""
+    import tomllib
+
+    from ductgen.page.preview import preview
+
+    data = tomllib.loads((ROOT / "samples" / "club-racer-brake.toml").read_text())
+    data["flow"].update(flow or {})
+    out = preview(data)
+    assert out["ok"], out
+    return out
+
+
+def test_every_live_row_has_a_plain_label() -> None:
+    from ductgen.page.labels import RESULT_LABELS
+
+    out = _live(
+        {
+            "speed": "420 km/h",
+            "external_drag_coefficient": 0.1,
+            "exit": "plenum",
+            "inlet_cp_gradient_per_m": 0.2,
+        }
+    )
+    rows = out["numbers"] + out["flow"]["rows"]
+    keys = {r["key"] for r in rows}
+    assert keys >= {"steepest_wall_angle_deg", "impact_pressure_pa", "shape_factor"}
+    for r in rows:
+        assert r["label"] in RESULT_LABELS.values() and "_" not in r["label"], r
+
+
+def test_live_answer_shows_the_reviewers_terms() -> None:
+    # closed forms beside each: isentropic impact pressure p[(1 + 0.2 M^2)^3.5 - 1] (NACA
+    # Report 1135), applied above Mach 0.3 (common practice, no source); the axial head
+    # cos^2(psi) [derived]; the default beta = 1 + (alpha - 1)/3 [derived]
+    out = _live({"speed": "420 km/h", "flow_angle_deg": 10.0, "inlet_cp": -0.2})
+    rows = {r["key"]: r for r in out["flow"]["rows"]}
+    m, q = rows["mach"]["value"], rows["dynamic_pressure_pa"]["value"]
+    assert m > 0.3
+    qc = rows["impact_pressure_pa"]["value"]
+    p = qc / ((1.0 + 0.2 * m * m) ** 3.5 - 1.0)
+    assert q == pytest.approx(0.7 * p * m * m, rel=1e-9)  # 1/2 rho V^2 = gamma/2 p M^2
+    assert rows["recovery_head_pa"]["value"] == qc > q
+    assert rows["yaw_factor"]["value"] == pytest.approx(math.cos(math.radians(10.0)) ** 2)
+    assert rows["inlet_cp"]["value"] == -0.2
+    assert rows["kinetic_energy_factor"]["label"] == "outflow α, mixed out in the hose"
+    assert rows["momentum_factor"]["value"] == pytest.approx(1.0 + 0.25 / 3.0, rel=1e-12)
+    slow = {r["key"]: r["value"] for r in _live()["flow"]["rows"]}
+    assert slow["recovery_head_pa"] == slow["dynamic_pressure_pa"]  # Mach 0.11
+
+
+def test_live_answer_shows_the_steepest_wall_and_its_clearing_length() -> None:
+    # [derived] a roof-aligned 3 in outlet 170 mm behind a 28 mm throat: the floor at
+    # atan(48.2/170) = 15.83 deg, above line a-a of the 2-D diffuser chart (Kline et al.,
+    # recalled) at N/W1 = 6.07; the page offers the length that clears it
+    import tomllib
+
+    from ductgen.flow.stall import stall_line_included_deg
+    from ductgen.page.preview import preview
+
+    data = tomllib.loads((ROOT / "samples" / "club-racer-brake.toml").read_text())
+    data["throat"]["depth"], data["outlet"]["transition_length"] = 28, 170
+    rows = {r["key"]: r["value"] for r in preview(data)["numbers"]}
+    assert rows["steepest_wall_angle_deg"] == pytest.approx(
+        math.degrees(math.atan(48.2 / 170.0)), abs=1e-4
+    )
+    assert rows["stall_line_included_deg"] == pytest.approx(stall_line_included_deg(170 / 28))
+    n = rows["length_under_stall_line_mm"]
+    assert n > 170 and math.degrees(math.atan(48.2 / n)) == pytest.approx(
+        stall_line_included_deg(n / 28.0), abs=1e-3
+    )

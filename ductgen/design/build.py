@@ -173,9 +173,11 @@ def build_design(
         SpecError: a cross-field rule is broken (every fabrication problem at once).
     """
     if spec.flow is not None:  # before any kernel work: a speed the model cannot estimate
+        from ductgen.flow.gradient import check_inlet_cp_gradient
         from ductgen.flow.report import check_speed
 
         check_speed(spec.flow)
+        check_inlet_cp_gradient(spec.flow)
     g = geometry_from_spec(spec, profile)
     fab = fabrication_from_spec(spec)
     duct = duct_shape(g)

@@ -20,6 +20,7 @@ from typing import Any, Literal
 from ductgen.errors import DesignWarning, SpecError
 from ductgen.flow.atmosphere import Air, standard_air
 from ductgen.flow.boundary_layer import BoundaryLayer, turbulent_flat_plate
+from ductgen.flow.gradient import check_inlet_cp_gradient, layer_keys, model_thickness_m
 from ductgen.flow.inputs import DuctShape
 from ductgen.flow.losses import BendElement, ConeElement, CoolerElement, Element, HoseElement
 from ductgen.flow.operating_point import OperatingPoint, System, solve, solve_band
@@ -63,7 +64,8 @@ INLET_CP_NOTE = (
     "ram_recovery = inlet_cp + (1 - inlet_cp) * yaw_factor * local_ram_recovery: the "
     "recovery model applies to the local head (1 - Cp) q above the local static pressure "
     "(free-stream total pressure outside the boundary layer, derived); the boundary layer is "
-    "still the flat-plate one (no pressure-gradient method such as Thwaites' or Head's)"
+    "the flat-plate one unless flow.inlet_cp_gradient_per_m is given (then Head's method "
+    "along a linear Cp, see boundary_layer_method)"
 )
 YAW_NOTE = (
     "cos^2 of flow_angle_deg on the recovered head: the head along the inlet's axis "
@@ -174,6 +176,7 @@ def build_system(
     ``pick`` chooses the transition's K: the spec's method, or the min/max over methods.
     """
     check_speed(flow)
+    check_inlet_cp_gradient(flow)
     air = standard_air(flow.altitude, flow.temperature_offset, flow.density)
     bl = turbulent_flat_plate(flow.speed, flow.run_length, air.kinematic_viscosity_m2_s)
     depth_m, throat_m2 = shape.throat_depth_mm * 1e-3, shape.throat_area_mm2 * 1e-6
@@ -191,7 +194,7 @@ def build_system(
         air=air,
         speed_m_s=flow.speed,
         throat_area_m2=throat_m2,
-        recovery=_recovery(flow, bl.thickness_m / depth_m),
+        recovery=_recovery(flow, model_thickness_m(flow, air, bl) / depth_m),
         elements=tuple(elements),
         exit_area_m2=exit_area,
         exit_cp=flow.exit_cp_value,
@@ -267,10 +270,9 @@ def flow_section(flow: FlowSpec, shape: DuctShape) -> tuple[dict[str, Any], list
     """The report's ``flow`` section and the flow warnings."""
     fa = flow_analysis(flow, shape)
     air, bl, sys_, p = fa.air, fa.boundary_layer, fa.system, fa.point
-    warnings: list[DesignWarning] = []
     mach = air.mach(flow.speed)
     depth_m = shape.throat_depth_mm * 1e-3
-    d_over, d_over_white = bl.thickness_m / depth_m, bl.thickness_white_m / depth_m
+    layer, d_max, delta_max_m, warnings = layer_keys(flow, air, bl, depth_m)
     rec = sys_.recovery
     out: dict[str, Any] = {
         "density_kg_m3": air.density_kg_m3,
@@ -284,15 +286,7 @@ def flow_section(flow: FlowSpec, shape: DuctShape) -> tuple[dict[str, Any], list
         "mach": mach,
         "dynamic_pressure_pa": sys_.dynamic_pressure_pa,
         "flow_angle_deg": flow.flow_angle_deg,
-        "run_length_m": bl.run_length_m,
-        "reynolds_run": bl.reynolds,
-        "boundary_layer_thickness_m": bl.thickness_m,
-        "boundary_layer_thickness_white_m": bl.thickness_white_m,
-        "displacement_thickness_m": bl.displacement_thickness_m,
-        "momentum_thickness_m": bl.momentum_thickness_m,
-        "delta_over_depth": d_over,
-        "delta_over_depth_white": d_over_white,
-        "delta_over_depth_max": max(d_over, d_over_white),
+        **layer,
         "recovery_model": rec.kind,
         "recovery_assumption": rec.assumption,
         "exit_area_m2": sys_.exit_area_m2,
@@ -364,8 +358,8 @@ def flow_section(flow: FlowSpec, shape: DuctShape) -> tuple[dict[str, Any], list
             )
     warnings += flow_warnings(
         mach=mach,
-        delta_over_depth=max(d_over, d_over_white),
-        delta_m=max(bl.thickness_m, bl.thickness_white_m),
+        delta_over_depth=d_max,
+        delta_m=delta_max_m,
         flow_angle_deg=flow.flow_angle_deg,
         exit_cp_given=flow.exit_cp is not None,
         ivr=p.inlet_velocity_ratio if p.found else None,

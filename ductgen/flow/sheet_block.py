@@ -61,7 +61,14 @@ def flow_block_lines(flow: Mapping[str, Any]) -> list[str]:
     cp = f"exit_cp {flow['exit_cp']:g}"
     if flow.get("exit_cp_source") == "default":
         cp += " (not given: ambient assumed)"
-    lines.append(f"delta/D {flow['delta_over_depth_max']:.2f} (boundary layer), {cp}")
+    layer = "boundary layer"
+    grad = flow.get("boundary_layer_gradient")
+    if grad is not None:
+        layer = (
+            f"Head's method, dCp/dx {grad['inlet_cp_gradient_per_m']:g} /m, H "
+            f"{grad['shape_factor']:.2f}" + (", SEPARATES" if grad.get("separated") else "")
+        )
+    lines.append(f"delta/D {flow['delta_over_depth_max']:.2f} ({layer}), {cp}")
     return lines
 
 

@@ -1,8 +1,9 @@
 """When the transition's steepest wall stalls: the two-dimensional diffuser's stall line.
 
 The transition from the throat rectangle to a roof-aligned outlet diverges on one wall (the
-floor) far more than its equivalent cone suggests: on the club-racer sample the floor drops
-at 15.8° while the equivalent cone's included angle is 4.6°. A wall that steep behaves like
+floor) far more than its equivalent cone suggests: on a 110 × 28 mm throat into a 3 in hose
+over 170 mm (the club-racer sample as it first shipped) the floor drops at 15.8° while the
+equivalent cone's included angle is 4.6°. A wall that steep behaves like
 one wall of a two-dimensional (flat-wall) diffuser whose walls diverge at the included angle
 2θ = steepest wall + the facing wall's divergence (the roof's, 0 when it stays level), over a
 length N from a throat W1 across that plane (the throat depth for the floor).

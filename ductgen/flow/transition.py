@@ -2,9 +2,10 @@
 
 The transition is treated as the conical diffuser of the same area ratio and
 equivalent-cone angle (Sovran & Klomp via Dixon), on circles of the same areas. Published
-methods disagree widely for it (on the club-racer sample K = 0.011 by Crane TP-410, 0.034 by
-Rennels, 0.054 by Idelchik, 0.11–0.22 by a diffuser effectiveness of 0.8–0.6), so ductgen
-reports them all and carries their spread into the sensitivity band:
+methods disagree widely for it (on a 110 × 28 mm throat into a 3 in hose over 170 mm
+K = 0.011 by Crane TP-410, 0.034 by Rennels, 0.054 by Idelchik, 0.11–0.22 by a diffuser
+effectiveness of 0.8–0.6), so ductgen reports them all and carries their spread into the
+sensitivity band:
 
 * ``effectiveness`` (default): Blevins, *Applied Fluid Dynamics Handbook* §7.4 — the real
   pressure recovery is an effectiveness η_D times the ideal Cp,ideal = 1 − (A1/A2)², so the

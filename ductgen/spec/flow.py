@@ -65,7 +65,8 @@ TRANSITION_EFFECTIVENESS = 0.6
 
 #: Default kinetic-energy (Coriolis) factor α of the air leaving the inlet's own duct: from
 #: the project's own CFD cross-check (k-ω SST, three meshes), which measured α = 1.20–1.32
-#: at the transition exit of the club-racer and e-kart samples; 1.25 is inside that range.
+#: at the transition exit of the club-racer and e-kart samples (as they were then, before
+#: their throats were deepened); 1.25 is inside that range.
 #: Not a published value; α = 1 is the uniform flow of the one-dimensional model before it.
 KINETIC_ENERGY_FACTOR = 1.25
 
@@ -232,6 +233,18 @@ class FlowSpec(Section):
             description="static-pressure coefficient of the surface where the inlet sits "
             "(0 = free-stream static, > 0 a stagnation region such as a bonnet's front, < 0 "
             "a suction region); it sets the local head the inlet recovers from",
+        ),
+    ]
+    inlet_cp_gradient_per_m: Annotated[
+        float | None,
+        Field(
+            default=None,
+            ge=-20,
+            le=20,
+            description="dCp/dx of the surface along the run to the inlet (1/m; > 0 adverse: "
+            "the pressure rises toward the inlet, < 0 favourable); Cp is taken linear, inlet_cp "
+            "at the ramp start, and the boundary layer is then integrated by Head's method; "
+            "unset = the flat-plate layer",
         ),
     ]
     kinetic_energy_factor: Annotated[
