@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import fnmatch
 import math
+import re
 from pathlib import Path
 
 import numpy as np
@@ -185,3 +186,24 @@ def test_other_models_name_their_source() -> None:
     f = flow_section(spec.flow, build_design(spec).duct)[0]
     assert f["recovery_source"].startswith("capture model")
     assert f["recovery_uncertainty"] is None
+
+
+@pytest.mark.usefixtures("synthetic_map")
+def test_pages_show_the_source_and_uncertainty() -> None:
+    # the sweep's comparison table and the design page's airflow block
+    from ductgen.page.preview import flow_rows
+    from ductgen.sweep.compare import metric_value
+    from ductgen.sweep.html import table_html
+
+    f = _flow()[0]
+    report = {"flow": f}
+    row = {"variant": "v1", "status": "built", "error": None}
+    row |= {k: metric_value(report, k) for k in ("ram_recovery", "recovery_uncertainty",
+                                                   "recovery_source")}  # fmt: skip
+    page = table_html([row], "v1")
+    assert 'data-col="recovery_source"' in page and "CFD recovery map" in page
+    shown = dict(re.findall(r'data-col="([^"]+)" data-value="[^"]*"[^>]*>([^<]*)<', page))
+    assert shown["recovery_uncertainty"] == f"{f['recovery_uncertainty']:.3f}"
+    rows = {r["key"]: r for r in flow_rows(f)}
+    assert rows["recovery_uncertainty"]["value"] == f["recovery_uncertainty"]
+    assert rows["recovery_source"]["text"] == "ductgen CFD map (64 points)"
