@@ -280,6 +280,47 @@ def run_point(task: dict[str, Any]) -> dict[str, Any]:
     cluster); returns the result record, never raises."""
     work = Path(task["work"]) / task["point"]
     work.mkdir(parents=True, exist_ok=True)
+    if Path(task["result"]).is_file() or not _claim(work / "claim"):
+        return {"point": task["point"], "skipped": True}
+    try:
+        rec = {**_run_claimed(task, work), **task["record"], "spec_text": task["spec_text"]}
+        rec["finished_utc"] = dt.datetime.now(dt.timezone.utc).isoformat(timespec="seconds")
+        result = Path(task["result"])
+        failed = result.with_name(f"{task['point']}.failed.json")
+        if rec["exit_code"] == 0:
+            rec["map_inputs"] = inputs_of(rec)
+            write_json_atomic(result, rec)
+            failed.unlink(missing_ok=True)
+        else:
+            write_json_atomic(failed, rec)
+        return rec
+    except Exception as err:  # a runner must go on with the other points
+        return {"point": task["point"], "exit_code": -1, "error": [repr(err)]}
+    finally:
+        (work / "claim").unlink(missing_ok=True)
+
+
+def _claim(path: Path) -> bool:
+    """Take the point for this process (another runner on a cluster or beside this one may
+    hold it); a claim left by a dead process on this host is taken over."""
+    me = f"{socket.gethostname()} {os.getpid()}"
+    for _ in range(2):
+        try:
+            fd = os.open(path, os.O_CREAT | os.O_EXCL | os.O_WRONLY)
+        except FileExistsError:
+            host, _, pid = path.read_text().partition(" ")
+            alive = host != socket.gethostname() or Path(f"/proc/{pid.strip()}").exists()
+            if alive:
+                return False
+            path.unlink(missing_ok=True)
+            continue
+        os.write(fd, me.encode())
+        os.close(fd)
+        return True
+    return False
+
+
+def _run_claimed(task: dict[str, Any], work: Path) -> dict[str, Any]:
     spec_path = work / f"{task['point']}.toml"
     spec_path.write_text(task["spec_text"])
     out = work / "out"
@@ -328,10 +369,10 @@ def inputs_of(record: dict[str, Any]) -> dict[str, float]:
     """The map's four inputs as the run gave them, and the recovery it measured."""
     r = record["cfd"]["result"]
     f = record["flow_1d"]
-    spec = record["spec_text"]
-    angle = next(float(ln.split("=")[2].strip(" }")) for ln in spec.splitlines()
-                 if ln.startswith("ramp "))  # fmt: skip
-    width = float(spec.split("width = ")[1].split(",")[0])
+    import tomllib
+
+    spec = tomllib.loads(record["spec_text"])
+    angle, width = float(spec["ramp"]["angle_deg"]), float(spec["throat"]["width"])
     return {
         "ramp_angle_deg": angle,
         "width_over_depth": width / DEPTH_MM,
@@ -384,34 +425,29 @@ def _run(args: argparse.Namespace) -> None:
             "spec_text": (SPECS / f"{p['point']}.toml").read_text(),
             "work": str(work / fp),
             "code": str(code),
+            "result": str(folder / f"{p['point']}.json"),
             "mesh": MESH,
             "np": args.np,
             "nice": not args.no_nice,
+            "record": {
+                "plan_target": p,
+                "spec_file": str((SPECS / f"{p['point']}.toml").relative_to(ROOT)),
+                "fingerprint": fp,
+                "settings": s,
+                "ductgen_commit": commit,
+            },
         }
         for p in todo
     ]
     ex, close = _executor(args.jobs, args.scheduler)
     try:
         futures: list[Future[Any]] = [ex.submit(run_point, t) for t in tasks]
-        by_point = {p["point"]: p for p in todo}
         for fut in as_completed(futures):
             rec = fut.result()
             pid = rec["point"]
-            rec.update(
-                {
-                    "plan_target": by_point[pid],
-                    "spec_file": str((SPECS / f"{pid}.toml").relative_to(ROOT)),
-                    "spec_text": (SPECS / f"{pid}.toml").read_text(),
-                    "fingerprint": fp,
-                    "settings": s,
-                    "ductgen_commit": commit,
-                    "finished_utc": dt.datetime.now(dt.timezone.utc).isoformat(timespec="seconds"),
-                }
-            )
-            if rec["exit_code"] == 0:
-                rec["map_inputs"] = inputs_of(rec)
-                write_json_atomic(folder / f"{pid}.json", rec)
-                (folder / f"{pid}.failed.json").unlink(missing_ok=True)
+            if rec.get("skipped"):
+                print(f"{pid} skipped: done or held by another runner", flush=True)
+            elif rec["exit_code"] == 0:
                 m = rec["map_inputs"]
                 print(
                     f"{pid} done in {rec['wall_s'] / 60:.1f} min: IVR {m['ivr']:.3f} "
@@ -419,7 +455,6 @@ def _run(args: argparse.Namespace) -> None:
                     flush=True,
                 )
             else:
-                write_json_atomic(folder / f"{pid}.failed.json", rec)
                 print(f"{pid} FAILED: {' | '.join(rec.get('error', []))[-400:]}", flush=True)
     finally:
         close()
