@@ -553,6 +553,93 @@ def _status(args: argparse.Namespace) -> None:
         print(f"{folder.name}{mark}: {n} of {len(plan)} done, {nf} failed")
 
 
+#: The recalled published band (NACA ACR 5I20 / RM A7I30, recalled, not re-read): recovery
+#: about 0.8-0.9 at IVR 0.8-1 with a thin boundary layer, 0.1-0.15 lower at delta/D ~ 1.
+RECALLED_BAND = {"thin": (0.8, 1.0, 0.8, 0.9), "delta/D ~ 1": (0.8, 1.0, 0.65, 0.8)}
+
+
+def _figure(args: argparse.Namespace) -> None:
+    """Recovery against IVR: the campaign's CFD points, the capture model (x 0.95), the
+    recalled published band and, when the table fits, the map at 7 deg, W/D 4."""
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+    import numpy as np
+
+    from ductgen.flow.recovery import CaptureRecovery
+    from ductgen.flow.recovery_map import fit_map, read_map_table
+
+    fp = args.fingerprint or _current(args)
+    rows = table_rows(records(fp))
+    fig, ax = plt.subplots(figsize=(7.0, 4.6), dpi=130)
+    for (label, (x0, x1, y0, y1)), c in zip(
+        RECALLED_BAND.items(), ("#9ecae1", "#fdd0a2"), strict=True
+    ):
+        ax.add_patch(
+            plt.Rectangle(
+                (x0, y0),
+                x1 - x0,
+                y1 - y0,
+                color=c,
+                alpha=0.6,
+                lw=0,
+                label=f"NACA band, {label} (recalled, not re-read)",
+            )
+        )
+    ivr = np.linspace(0.3, 1.1, 81)
+    for dd, ls in ((0.2, "-"), (1.0, "--")):
+        cap = CaptureRecovery(dd, 0.95)
+        ax.plot(
+            ivr,
+            [cap(v) for v in ivr],
+            "k",
+            ls=ls,
+            lw=1,
+            label=f"capture model x 0.95, delta/D {dd:g}",
+        )
+    try:
+        m = fit_map(read_map_table(DATA_CSV.read_text()))
+        for dd, ls in ((0.2, "-"), (1.0, "--")):
+            ax.plot(
+                ivr,
+                [m((7.0, 4.0, dd, v)) for v in ivr],
+                "C3",
+                ls=ls,
+                lw=1.5,
+                label=f"CFD map, 7 deg, W/D 4, delta/D {dd:g}",
+            )
+    except (OSError, ValueError) as err:
+        print(f"no map curve: {err}")
+    if rows:
+        sc = ax.scatter(
+            [r["ivr"] for r in rows],
+            [r["ram_recovery"] for r in rows],
+            c=[r["delta_over_depth"] for r in rows],
+            cmap="viridis",
+            vmin=0,
+            vmax=1.5,
+            edgecolor="k",
+            s=30,
+            zorder=5,
+            label=f"CFD points ({len(rows)} of {len(read_plan())})",
+        )
+        fig.colorbar(sc, ax=ax, label="delta/D")
+    ax.set_xlabel("inlet velocity ratio IVR")
+    ax.set_ylabel("ram recovery (p_t1 - p0)/q0")
+    ax.set_xlim(0.25, 1.15)
+    ax.set_ylim(0.3, 1.0)
+    ax.grid(True, lw=0.3)
+    ax.legend(fontsize=6.5, loc="lower right")
+    ax.set_title(
+        f"Ram recovery: ductgen CFD ({MESH} mesh) vs capture model vs recalled band", fontsize=9
+    )
+    fig.tight_layout()
+    out = Path(args.out) if args.out else RESULTS / f"recovery-comparison-{fp}.png"
+    fig.savefig(out)
+    print(f"wrote {out}")
+
+
 def main(argv: list[str] | None = None) -> None:
     ap = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
     sub = ap.add_subparsers(dest="cmd", required=True)
@@ -570,6 +657,10 @@ def main(argv: list[str] | None = None) -> None:
     col.add_argument("--fingerprint", default=None)
     col.add_argument("--out", default=None)
     col.add_argument("--to-data", action="store_true", help=f"write {DATA_CSV.name}")
+    fig = sub.add_parser("figure", help="recovery vs IVR: CFD, capture model, recalled band")
+    fig.add_argument("--fingerprint", default=None)
+    fig.add_argument("--out", default=None)
+    fig.add_argument("--work", default="/tmp/recovery-campaign", help="scratch folder")
     st = sub.add_parser("status", help="points done per settings fingerprint")
     st.add_argument("--work", default="/tmp/recovery-campaign", help="scratch folder")
     sub.add_parser("plan", help="write the plan and the specs")
@@ -578,6 +669,8 @@ def main(argv: list[str] | None = None) -> None:
         _run(args)
     elif args.cmd == "collect":
         _collect(args)
+    elif args.cmd == "figure":
+        _figure(args)
     elif args.cmd == "status":
         _status(args)
     else:
