@@ -269,7 +269,14 @@ def default_map() -> RecoveryMap:
     """
     from ductgen.resources import data_path
 
-    return _map_from_path(str(data_path(MAP_FILE)))
+    try:
+        path = data_path(MAP_FILE)
+    except FileNotFoundError:
+        raise FileNotFoundError(
+            f"this version ships no {MAP_FILE}: the CFD campaign that makes it "
+            "(bench/recovery_campaign.py) is not complete"
+        ) from None
+    return _map_from_path(str(path))
 
 
 @dataclass(frozen=True)
