@@ -406,7 +406,7 @@ def _run(args: argparse.Namespace) -> None:
     fp = fingerprint(s)
     folder = RESULTS / fp
     write_json_atomic(folder / "settings.json", {"fingerprint": fp, **s})
-    done = {p.stem for p in folder.glob("p*.json")}
+    done = {p.stem for p in folder.glob("p[0-9][0-9][0-9].json")}
     failed = {p.name.split(".")[0] for p in folder.glob("p*.failed.json")}
     todo = [p for p in plan if p["point"] not in done]
     if not args.retry_failed:
@@ -416,17 +416,24 @@ def _run(args: argparse.Namespace) -> None:
         todo = [p for p in todo if p["point"] in want]
     if args.limit is not None:
         todo = todo[: args.limit]
-    print(f"settings {fp}: {len(done)} done, {len(failed)} failed, {len(todo)} to run", flush=True)
+    if args.cmd == "study":
+        todo = [p for p in plan if p["point"] == args.point]
+        if not todo:
+            sys.exit(f"no point {args.point} in the plan")
+    else:
+        print(f"settings {fp}: {len(done)} done, {len(failed)} failed, {len(todo)} to run")
     if not todo:
         return
     tasks = [
         {
-            "point": p["point"],
+            "point": p["point"] if args.cmd == "run" else f"study-{p['point']}",
             "spec_text": (SPECS / f"{p['point']}.toml").read_text(),
             "work": str(work / fp),
             "code": str(code),
-            "result": str(folder / f"{p['point']}.json"),
-            "mesh": MESH,
+            "result": str(
+                folder / (f"{p['point']}.json" if args.cmd == "run" else f"study-{p['point']}.json")
+            ),
+            "mesh": MESH if args.cmd == "run" else "study",
             "np": args.np,
             "nice": not args.no_nice,
             "record": {
@@ -527,6 +534,15 @@ def _collect(args: argparse.Namespace) -> None:
         "note: one turbulence model (k-omega SST) with wall functions on one mesh level per "
         "point; not a measurement",
     ]
+    studies = sorted((RESULTS / fp).glob("study-p[0-9][0-9][0-9].json"))
+    for st in studies:  # the campaign's mesh uncertainty: the GCI study of one point
+        g = json.loads(st.read_text())["cfd"]["study"]["ram_recovery_flow_avg"]
+        head += [
+            f"mesh_uncertainty_rel: {g['uncertainty_rel']:.4g}",
+            f"mesh uncertainty basis: {g['uncertainty_basis']} of the flow-averaged recovery, "
+            f"coarse/medium/fine study of point {st.stem[6:]} (Celik et al. 2008)",
+        ]
+        break
     path = Path(args.out) if args.out else RESULTS / f"table-{fp}.csv"
     if args.to_data:
         path = DATA_CSV
@@ -652,6 +668,13 @@ def main(argv: list[str] | None = None) -> None:
     run.add_argument("--retry-failed", action="store_true")
     run.add_argument("--no-nice", action="store_true", help="do not run under nice -n 19")
     run.add_argument("--work", default="/tmp/recovery-campaign", help="scratch folder")
+    study = sub.add_parser("study", help="coarse/medium/fine study (GCI) of one point")
+    study.add_argument("point", help="plan point id, e.g. p001")
+    study.add_argument("--np", type=int, default=2, help="MPI ranks")
+    study.add_argument("--scheduler", default=None, help="Dask scheduler address")
+    study.add_argument("--no-nice", action="store_true", help="do not run under nice -n 19")
+    study.add_argument("--work", default="/tmp/recovery-campaign", help="scratch folder")
+    study.set_defaults(jobs=1, retry_failed=True, points=None, limit=None)
     col = sub.add_parser("collect", help="write the table of finished points")
     col.add_argument("--work", default="/tmp/recovery-campaign", help="scratch folder")
     col.add_argument("--fingerprint", default=None)
@@ -665,7 +688,7 @@ def main(argv: list[str] | None = None) -> None:
     st.add_argument("--work", default="/tmp/recovery-campaign", help="scratch folder")
     sub.add_parser("plan", help="write the plan and the specs")
     args = ap.parse_args(argv)
-    if args.cmd == "run":
+    if args.cmd in ("run", "study"):
         _run(args)
     elif args.cmd == "collect":
         _collect(args)
