@@ -207,3 +207,13 @@ def test_pages_show_the_source_and_uncertainty() -> None:
     rows = {r["key"]: r for r in flow_rows(f)}
     assert rows["recovery_uncertainty"]["value"] == f["recovery_uncertainty"]
     assert rows["recovery_source"]["text"] == "ductgen CFD map (64 points)"
+
+
+def test_spec_accepts_map_and_round_trips() -> None:
+    from ductgen.spec.flow import FlowSpec, flow_data
+
+    f = FlowSpec.model_validate({"speed": "40 m/s", "recovery": "map"})
+    assert f.recovery_kind == "map"
+    assert FlowSpec.model_validate(flow_data(f)) == f
+    with pytest.raises(ValueError, match="'map'"):
+        FlowSpec.model_validate({"speed": "40 m/s", "recovery": "mapp"})

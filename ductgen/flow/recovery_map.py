@@ -44,7 +44,7 @@ import numpy as np
 
 from ductgen.errors import SpecError
 from ductgen.flow.inputs import DuctShape
-from ductgen.flow.recovery import RecoveryModel
+from ductgen.flow.recovery import RecoveryModel, TableRecovery
 
 __all__ = [
     "INPUTS",
@@ -337,11 +337,12 @@ def recovery_source(rec: RecoveryModel) -> str:
             f"ductgen CFD recovery map ({m.table.name}, {m.points} points, "
             f"{m.table.header.get('mesh', 'mesh not stated')}; fit: {m.kind})"
         )
+    if isinstance(rec, TableRecovery):
+        return f"user table {Path(rec.path).name} (flow.recovery)"
     return {
         "capture": "capture model: first-principles boundary-layer capture estimate times "
         "inlet_loss_factor (not a published curve)",
         "constant": "constant given in the spec (flow.recovery)",
-        "table": "user table (flow.recovery)",
     }.get(rec.kind, rec.kind)
 
 
