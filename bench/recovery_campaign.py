@@ -588,7 +588,7 @@ def _figure(args: argparse.Namespace) -> None:
 
     fp = args.fingerprint or _current(args)
     rows = table_rows(records(fp))
-    fig, ax = plt.subplots(figsize=(7.0, 4.6), dpi=130)
+    fig, ax = plt.subplots(figsize=(7.0, 5.4), dpi=130)
     for (label, (x0, x1, y0, y1)), c in zip(
         RECALLED_BAND.items(), ("#9ecae1", "#fdd0a2"), strict=True
     ):
@@ -646,7 +646,7 @@ def _figure(args: argparse.Namespace) -> None:
     ax.set_xlim(0.25, 1.15)
     ax.set_ylim(0.3, 1.0)
     ax.grid(True, lw=0.3)
-    ax.legend(fontsize=6.5, loc="lower right")
+    ax.legend(fontsize=6.5, loc="upper center", bbox_to_anchor=(0.5, -0.13), ncol=2)
     ax.set_title(
         f"Ram recovery: ductgen CFD ({MESH} mesh) vs capture model vs recalled band", fontsize=9
     )
