@@ -263,6 +263,26 @@ def settings(code: Path) -> dict[str, Any]:
     }
 
 
+def solver_settings(code: Path) -> dict[str, Any]:
+    """The case dictionaries' templates of the snapshot (meshing, schemes, solution,
+    turbulence; ``{name}`` fields are filled per point), the mesh levels, layers and
+    iteration caps: the solver settings stored beside the points (their source's hash is
+    in the fingerprint)."""
+    script = (
+        "import json; from ductgen.cfd import templates as T, case as C\n"
+        "print(json.dumps({'dictionaries': {k: {'path': v[0], 'template': v[3]} "
+        "for k, v in T.FILES.items()}, 'fan_curve': T.FAN_CURVE, 'flavour': T.FLAVOUR, "
+        "'levels': C.LEVELS, 'layers': C.LAYERS, 'max_iterations': C.MAX_ITERATIONS, "
+        "'coarse_cells_per_depth': C.COARSE_CELLS_PER_DEPTH, "
+        "'refinement_ratio': C.REFINEMENT_RATIO, 'extension_diameters': C.EXTENSION_DIAMETERS}))"
+    )
+    out = subprocess.run(
+        [sys.executable, "-c", script], cwd=code, env={**os.environ, "PYTHONPATH": str(code)},
+        capture_output=True, text=True, check=True,
+    )  # fmt: skip
+    return json.loads(out.stdout)
+
+
 def fingerprint(s: dict[str, Any]) -> str:
     return hashlib.sha256(json.dumps(s, sort_keys=True).encode()).hexdigest()[:12]
 
@@ -406,6 +426,8 @@ def _run(args: argparse.Namespace) -> None:
     fp = fingerprint(s)
     folder = RESULTS / fp
     write_json_atomic(folder / "settings.json", {"fingerprint": fp, **s})
+    if not (folder / "solver_settings.json").is_file():
+        write_json_atomic(folder / "solver_settings.json", solver_settings(code))
     done = {p.stem for p in folder.glob("p[0-9][0-9][0-9].json")}
     failed = {p.name.split(".")[0] for p in folder.glob("p*.failed.json")}
     todo = [p for p in plan if p["point"] not in done]
