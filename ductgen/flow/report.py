@@ -32,6 +32,7 @@ from ductgen.flow.recovery import (
     TableRecovery,
     table_recovery,
 )
+from ductgen.flow.recovery_map import map_recovery, recovery_keys
 from ductgen.flow.terms import INCOMPRESSIBLE_MACH, impact_pressure_pa, yaw_factor
 from ductgen.flow.transition import TransitionElement, ideal_pressure_recovery
 from ductgen.flow.warnings import flow_warnings
@@ -103,8 +104,10 @@ def _elements(flow: FlowSpec) -> list[Element]:
     return out
 
 
-def _recovery(flow: FlowSpec, delta_over_depth: float) -> RecoveryModel:
+def _recovery(flow: FlowSpec, delta_over_depth: float, shape: DuctShape) -> RecoveryModel:
     kind = flow.recovery_kind
+    if kind == "map":
+        return map_recovery(delta_over_depth, shape)
     if kind == "constant":
         assert isinstance(flow.recovery, float)
         return ConstantRecovery(flow.recovery)
@@ -194,7 +197,7 @@ def build_system(
         air=air,
         speed_m_s=flow.speed,
         throat_area_m2=throat_m2,
-        recovery=_recovery(flow, model_thickness_m(flow, air, bl) / depth_m),
+        recovery=_recovery(flow, model_thickness_m(flow, air, bl) / depth_m, shape),
         elements=tuple(elements),
         exit_area_m2=exit_area,
         exit_cp=flow.exit_cp_value,
@@ -294,6 +297,9 @@ def flow_section(flow: FlowSpec, shape: DuctShape) -> tuple[dict[str, Any], list
         "exit_cp_source": "given" if flow.exit_cp is not None else "default",
     }
     out.update(_terms(flow, sys_))
+    rec_keys, outside = recovery_keys(rec, p.inlet_velocity_ratio if p.found else None)
+    out.update(rec_keys)
+    warnings += [DesignWarning("recovery_map_extrapolated", m) for m in outside]
     if flow.exit_cp is None:
         out["exit_cp_note"] = (
             "defaulted to 0 (ambient): the static pressure where the duct dumps is rarely "

@@ -27,7 +27,8 @@ A7I30 reports the large effect of boundary-layer thickness on recovery),
 flow angle; the estimate applies a cos² penalty on the recovered head, ``flow.yaw_factor``),
 ``exit_cp_defaulted`` (no ``exit_cp`` given, ambient
 assumed), ``ivr_low`` (IVR < 0.3), ``ivr_above_one``, ``no_operating_point``,
-``required_flow_not_met``, ``recovery_table_extrapolated``.
+``required_flow_not_met``, ``recovery_table_extrapolated``, ``recovery_map_extrapolated``
+(raised in :mod:`ductgen.flow.recovery_map`: the design or its IVR outside the CFD map).
 """
 
 from __future__ import annotations

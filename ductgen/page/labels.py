@@ -149,6 +149,8 @@ RESULT_LABELS: dict[str, str] = {
     "volume_flow_high_m3_s": "band high",
     "inlet_velocity_ratio": "inlet velocity ratio",
     "ram_recovery": "ram recovery",
+    "recovery_uncertainty": "recovery ±",
+    "recovery_source": "recovery source",
     "mass_flow_kg_s": "mass flow",
     "delta_over_depth_max": "boundary layer δ / D",
     "momentum_drag_n": "momentum drag",

@@ -81,6 +81,20 @@ def key_numbers(d: Design) -> list[dict[str, Any]]:
     return rows
 
 
+def _source(flow: dict[str, Any]) -> str:
+    """The recovery's source in a few words (the report's ``recovery_source`` says it in
+    full)."""
+    kind = flow.get("recovery_model", "")
+    if kind == "map":
+        n = (flow.get("recovery_map") or {}).get("points")
+        return f"ductgen CFD map ({n} points)"
+    return {
+        "capture": "capture model (no published source)",
+        "constant": "constant from the spec",
+        "table": "your table",
+    }.get(kind, str(flow.get("recovery_source", "")))
+
+
 def flow_rows(flow: dict[str, Any]) -> list[dict[str, Any]]:
     """The airflow block from the report's ``flow`` section (L/s, kg/s, Pa shown)."""
     band = flow.get("sensitivity", {})
@@ -96,6 +110,8 @@ def flow_rows(flow: dict[str, Any]) -> list[dict[str, Any]]:
         _row("volume_flow_high_m3_s", lps(band.get("volume_flow_high_m3_s")), "L/s", 1),
         _row("inlet_velocity_ratio", flow.get("inlet_velocity_ratio"), "", 3),
         _row("ram_recovery", flow.get("ram_recovery"), "", 3),
+        _row("recovery_uncertainty", flow.get("recovery_uncertainty"), "", 3),
+        {**_row("recovery_source", None, "", 0), "text": _source(flow)},
         _row("mass_flow_kg_s", flow.get("mass_flow_kg_s"), "kg/s", 4),
         _row("delta_over_depth_max", flow.get("delta_over_depth_max"), "", 2),
         _row("momentum_drag_n", flow.get("momentum_drag_n"), "N", 2),

@@ -44,6 +44,7 @@ __all__ = [
     "HOSE_ROUGHNESS_M",
     "INLET_LOSS_FACTOR",
     "KINETIC_ENERGY_FACTOR",
+    "RECOVERY_NAMES",
     "TRANSITION_EFFECTIVENESS",
     "BendLoss",
     "CoolerLoss",
@@ -91,22 +92,27 @@ FLOW_UNITS: dict[str, str] = {
 }
 
 
+#: Named recovery models (``flow.recovery``): the capture estimate and the CFD map.
+RECOVERY_NAMES = ("capture", "map")
+_RECOVERY_EXPECTED = "expected 'capture', 'map', a number in (0, 1] or a .csv table path"
+
+
 def _recovery_value(value: Any) -> Any:
-    """``"capture"``, a constant in (0, 1], or a CSV table path (validated here)."""
+    """``"capture"``, ``"map"``, a constant in (0, 1], or a CSV table path (validated here)."""
     if isinstance(value, bool):
-        raise ValueError("expected 'capture', a number in (0, 1] or a .csv table path")
+        raise ValueError(_RECOVERY_EXPECTED)
     if isinstance(value, int | float):
         v = float(value)
         if not 0.0 < v <= 1.0:
             raise ValueError(f"a constant ram recovery must be in (0, 1], got {v:g}")
         return v
     if not isinstance(value, str):
-        raise ValueError("expected 'capture', a number in (0, 1] or a .csv table path")
+        raise ValueError(_RECOVERY_EXPECTED)
     text = value.strip()
-    if text == "capture":
+    if text in RECOVERY_NAMES:
         return text
     if not text.lower().endswith(".csv"):
-        raise ValueError("expected 'capture', a number in (0, 1] or a path ending in .csv")
+        raise ValueError(_RECOVERY_EXPECTED.replace(".csv table path", "path ending in .csv"))
     path = find_recovery_table(text)
     read_recovery_table(path)  # raises ValueError naming the row
     return str(path)
@@ -165,8 +171,9 @@ class FlowSpec(Section):
         BeforeValidator(_recovery_value),
         Field(
             default="capture",
-            description="ram recovery: 'capture' (boundary-layer estimate), a constant, "
-            "or an IVR table CSV",
+            description="ram recovery: 'capture' (boundary-layer estimate), 'map' (ductgen's "
+            "CFD recovery map in ramp angle, W/D, delta/D and IVR), a constant, or an IVR "
+            "table CSV",
         ),
     ]
     inlet_loss_factor: Annotated[
@@ -332,10 +339,10 @@ class FlowSpec(Section):
 
     @property
     def recovery_kind(self) -> str:
-        """``"capture"``, ``"constant"`` or ``"table"``."""
+        """``"capture"``, ``"map"``, ``"constant"`` or ``"table"``."""
         if isinstance(self.recovery, float):
             return "constant"
-        return "capture" if self.recovery == "capture" else "table"
+        return self.recovery if self.recovery in RECOVERY_NAMES else "table"
 
 
 def _with_unit(key: str, value: Any) -> Any:
@@ -366,6 +373,6 @@ def flow_data(flow: FlowSpec) -> dict[str, Any]:
     ]
     if not out["losses"]:
         del out["losses"]
-    if isinstance(flow.recovery, str) and flow.recovery != "capture":
+    if isinstance(flow.recovery, str) and flow.recovery not in RECOVERY_NAMES:
         out["recovery"] = str(Path(flow.recovery))
     return out

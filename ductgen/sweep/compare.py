@@ -52,6 +52,8 @@ METRICS: tuple[str, ...] = (
     "delta_over_depth",
     "volume_flow_m3_s",
     "ram_recovery",
+    "recovery_uncertainty",
+    "recovery_source",
     "momentum_drag_n",
 )
 

@@ -207,6 +207,8 @@ COLUMNS: dict[str, tuple[str, str, float, int]] = {
     "delta_over_depth": ("δ / D", "", 1.0, 2),
     "volume_flow_m3_s": ("flow", "L/s", 1e3, 1),
     "ram_recovery": ("ram recovery", "", 1.0, 3),
+    "recovery_uncertainty": ("recovery ±", "", 1.0, 3),
+    "recovery_source": ("recovery source", "", 1.0, 0),
     "momentum_drag_n": ("momentum drag", "N", 1.0, 2),
     "warnings_count": ("warnings", "", 1.0, 0),
     "build_s": ("build time", "s", 1.0, 1),

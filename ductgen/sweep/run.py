@@ -15,6 +15,7 @@ files are all present. A variant that fails is reported and does not stop the ot
 from __future__ import annotations
 
 import contextlib
+import dataclasses
 import json
 import multiprocessing
 import os
@@ -74,20 +75,11 @@ def build_variant(task: VariantTask) -> VariantResult:
         (folder / STAMP_FILE).unlink(missing_ok=True)
         _close_worker_at_exit()
         t0 = time.perf_counter()
-        result = build(
-            task.spec,
-            folder,
-            only=list(task.kinds),
-            force=True,
-            quality=task.quality,
-            design=task.design,
-            cache=task.cache,
-        )
+        kw: dict[str, Any] = {"quality": task.quality, "design": task.design, "cache": task.cache}
         if task.cfd:  # ductgen sweep --cfd
-            from ductgen.cfd import cfd_for_build
-
-            stl = next(p for p in result.files.values() if p.name.endswith("-cutter.stl"))
-            cfd_for_build(task.spec, result.design, result.report, stl, folder, mesh=task.cfd)
+            result = _build_with_cfd(task, folder, kw)
+        else:
+            result = build(task.spec, folder, only=list(task.kinds), force=True, **kw)
         seconds = time.perf_counter() - t0
         stamp = {
             "id": task.id,
@@ -104,6 +96,25 @@ def build_variant(task: VariantTask) -> VariantResult:
     except Exception as err:  # one failing variant must not stop the sweep
         msg = str(err).replace("\n", " ").strip() or type(err).__name__
         return VariantResult(task.id, "failed", str(folder), error=f"{type(err).__name__}: {msg}")
+
+
+def _build_with_cfd(task: VariantTask, folder: Path, kw: dict[str, Any]) -> Any:
+    """Build and run the CFD check in one staging folder and publish them together (as
+    ``ductgen cfd`` does): an interrupted or failed CFD run leaves no half-written case,
+    ``cfd.json`` or report without its ``cfd`` section in the variant folder."""
+    from ductgen.atomic import OutputSet
+    from ductgen.cfd import cfd_for_build
+    from ductgen.pipeline.builder import build
+
+    assert task.cfd is not None
+    with OutputSet(folder, force=True) as staged:
+        result = build(task.spec, staged.staging, only=list(task.kinds), force=True, **kw)
+        stl = next(p for p in result.files.values() if p.name.endswith("-cutter.stl"))
+        cfd_for_build(task.spec, result.design, result.report, stl, staged.staging, mesh=task.cfd)
+        for entry in sorted(staged.staging.iterdir()):
+            staged.staged_path(entry.name)
+        published = staged.publish()
+    return dataclasses.replace(result, files=published)  # the files where they now are
 
 
 def _cached(task: VariantTask) -> VariantResult | None:

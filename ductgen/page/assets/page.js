@@ -104,7 +104,7 @@ function fmt(v, digits) {
 function fillTable(table, rows) {
   table.replaceChildren(...rows.map((r) => el("tr", {}, el("td", { text: r.label }),
     el("td", { class: "v", id: "num-" + r.key, "data-value": r.value === null ? "" : String(r.value),
-               text: `${fmt(r.value, r.digits)}${r.unit ? " " + r.unit : ""}` }))));
+               text: r.text !== undefined ? r.text : `${fmt(r.value, r.digits)}${r.unit ? " " + r.unit : ""}` }))));
 }
 
 function showWarnings(ws) {

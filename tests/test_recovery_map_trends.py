@@ -1,0 +1,73 @@
+"""The shipped recovery map against what the NACA reports state, and the issue's checks on
+it. The map comes from ductgen's own CFD campaign (``bench/recovery_campaign.py``); these
+tests run once a complete map is shipped in ``ductgen/data/recovery_map.csv`` and are
+skipped, saying why, while the campaign is partial (no test here runs the campaign).
+
+Trends checked (sources in docs/sources.md):
+- recovery falls as the boundary layer thickens: NACA RM A7I30, abstract (published);
+- a best ramp angle near 7°: NACA ACR 5I20 / RM A7I30 [recalled, not re-read];
+- recovery falls as the IVR drops (over 0.5-0.9): NACA ACR 5I20 / RM A7I30 [recalled, not
+  re-read].
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+
+import numpy as np
+import pytest
+
+from ductgen.flow.recovery_map import INPUTS, MAP_FILE, default_map
+
+try:
+    MAP = default_map()
+    WHY = ""
+except (OSError, ValueError) as err:  # no map, or a partial campaign below MIN_POINTS
+    MAP, WHY = None, f"no complete recovery map shipped yet: {err}"
+
+pytestmark = pytest.mark.skipif(MAP is None, reason=WHY or "map present")
+
+
+def _r(angle: float = 7.0, wd: float = 4.0, dd: float = 0.5, ivr: float = 0.8) -> float:
+    assert MAP is not None
+    return MAP((angle, wd, dd, ivr))
+
+
+def test_recovery_falls_as_the_boundary_layer_thickens() -> None:
+    # NACA RM A7I30, abstract: boundary-layer thickness has a large effect on ram recovery
+    for ivr in (0.6, 0.8, 1.0):
+        assert _r(dd=0.2, ivr=ivr) > _r(dd=1.0, ivr=ivr)
+
+
+def test_best_ramp_angle_near_seven_degrees() -> None:
+    # NACA ACR 5I20 / RM A7I30 [recalled, not re-read]: a best ramp angle near 7 deg
+    angles = np.linspace(5.0, 11.0, 25)
+    best = angles[int(np.argmax([_r(angle=a) for a in angles]))]
+    assert 6.0 <= best <= 8.0
+
+
+def test_recovery_falls_as_ivr_drops() -> None:
+    # NACA ACR 5I20 / RM A7I30 [recalled, not re-read]
+    assert _r(ivr=0.5) < _r(ivr=0.9)
+
+
+def test_issue_checks_on_the_map() -> None:
+    # ramp angle 5/7/9 deg differ by >= 0.01; W/D 3 vs 4 moves it; thicker layer lowers it
+    by_angle = [_r(angle=a) for a in (5.0, 7.0, 9.0)]
+    assert max(by_angle) - min(by_angle) >= 0.01
+    assert _r(wd=3.0) != pytest.approx(_r(wd=4.0), abs=1e-4)
+    assert _r(dd=1.2) < _r(dd=0.3)
+
+
+def test_fit_reproduces_the_campaign_points_within_the_stated_residual() -> None:
+    # the table read here with the csv module, independently of the map's reader
+    from ductgen.resources import data_path
+
+    text = data_path(MAP_FILE).read_text(encoding="utf-8")
+    rows = list(csv.DictReader(io.StringIO(
+        "\n".join(ln for ln in text.splitlines() if not ln.startswith("#")))))  # fmt: skip
+    assert MAP is not None and len(rows) == MAP.points
+    for row in rows:
+        x = tuple(float(row[k]) for k in INPUTS)
+        assert abs(MAP(x) - float(row["ram_recovery"])) <= MAP.residual_max + 1e-9
