@@ -165,15 +165,10 @@ def test_profiles_lists_sources(capsys: pytest.CaptureFixture[str]) -> None:
         ('style = "flush"', 1.0),
         ("thickness = 3.5", 1.0),
         ("thickness = 1", 0.5),  # its plug's mesh closes T-junctions with zero-area slivers
-        pytest.param(
-            'style = "raised"',
-            1.0,
-            marks=pytest.mark.xfail(
-                strict=True,
-                reason="known: a raised lip's insert on a 2 mm deep throat fails in the kernel "
-                "(the insert's hole cut is invalid); exit 1 naming the stage",
-            ),
-        ),
+        # raised: its flange's and plug plate's outlines are offsets of the wall by more than
+        # the wall's concave radius (they fold over; the fold is cut out) and its floor lies
+        # on the skin's inner face (no flange notch past the throat)
+        ('style = "raised"', 1.0),
     ],
 )
 def test_the_smallest_throat_builds(tmp_path: Path, lip: str, wall: float) -> None:
@@ -189,3 +184,18 @@ def test_the_smallest_throat_builds(tmp_path: Path, lip: str, wall: float) -> No
     for kind in ("cutter", "insert", "plug"):
         assert g[f"{kind}_volume_mm3"] > 0.0
         assert (tmp_path / "o" / f"tiny-{kind}.stl").stat().st_size > 0
+
+
+@pytest.mark.slow
+def test_a_raised_lip_20_by_5_plug_builds(tmp_path: Path) -> None:
+    """A raised lip on a 20 x 5 mm throat: its plug's plate outline (the wall offset by the
+    25 mm trim margin, past the wall's concave radius) folded over itself and the plug's
+    mesh came out open; the plug builds, closed and checked against its integrated volume."""
+    from ductgen.pipeline import build
+    from ductgen.spec import load_spec
+
+    text = 'name = "t20"\n[throat]\nwidth = 20\ndepth = 5\n[lip]\nstyle = "raised"\n'
+    result = build(load_spec(_spec(tmp_path, text)), tmp_path / "o", only=["plug"])
+    solid = result.solids["plug"]
+    assert solid["expected_volume_mm3"] is not None
+    assert solid["volume_mm3"] == pytest.approx(solid["expected_volume_mm3"], rel=1e-3)

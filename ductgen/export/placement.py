@@ -189,17 +189,65 @@ class Occupancy:
         ny, nx = self.grid.shape
         if bw > nx or bh > ny:
             return None
-        s = np.zeros((ny + 1, nx + 1), dtype=np.int64)
-        s[1:, 1:] = np.cumsum(np.cumsum(self.grid, axis=0), axis=1)
-        total = s[bh:, bw:] - s[:-bh, bw:] - s[bh:, :-bw] + s[:-bh, :-bw]  # (ny-bh+1, nx-bw+1)
+        # search a window of cells round the anchor, widened until the nearest free place in
+        # it is nearer than any place outside it could be (then it is the nearest of all,
+        # ties included); the same answer as searching the whole grid, on far fewer cells
+        aj, ai = (anchor[0] - r[0]) / c, (anchor[1] - r[1]) / c
+        reach = 16 + max(bw, bh)  # cells beyond the anchor's box
+        while True:
+            j0 = max(0, int(np.floor(aj - w / c)) - pad - reach)
+            j1 = min(nx, int(np.ceil(aj)) - pad + bw + reach)
+            i0 = max(0, int(np.floor(ai - h / c)) - pad - reach)
+            i1 = min(ny, int(np.ceil(ai)) - pad + bh + reach)
+            whole = (i0, j0, i1, j1) == (0, 0, ny, nx)
+            got = self._nearest_free(i0, i1, j0, j1, bh, bw, pad, size, anchor, lim)
+            # a place outside the window lies at least this far from the anchor (mm)
+            sure = (
+                min(
+                    reach * c if j0 > 0 else np.inf,
+                    reach * c if j1 < nx else np.inf,
+                    reach * c if i0 > 0 else np.inf,
+                    reach * c if i1 < ny else np.inf,
+                )
+                - 2.0 * c
+            )
+            if whole or (got is not None and got[0] < sure):
+                return None if got is None else got[1]
+            reach *= 2
+
+    def _nearest_free(
+        self,
+        i0: int,
+        i1: int,
+        j0: int,
+        j1: int,
+        bh: int,
+        bw: int,
+        pad: int,
+        size: tuple[float, float],
+        anchor: tuple[float, float],
+        lim: Box,
+    ) -> tuple[float, tuple[float, float]] | None:
+        """(distance mm, lower-left corner mm) of the free box nearest ``anchor`` among those
+        whose cells lie in rows i0:i1 and columns j0:j1; None when none is free."""
+        r, c = self.region, self.cell
+        w, h = size
+        g = self.grid[i0:i1, j0:j1]
+        ny, nx = g.shape
+        if bw > nx or bh > ny:
+            return None
+        s = np.zeros((ny + 1, nx + 1), dtype=np.int32)
+        s[1:, 1:] = np.cumsum(np.cumsum(g, axis=0, dtype=np.int32), axis=1, dtype=np.int32)
+        total = s[bh:, bw:] - s[:-bh, bw:] - s[bh:, :-bw] + s[:-bh, :-bw]
         ii, jj = np.nonzero(total == 0)
-        x0 = r[0] + (jj + pad) * c
-        y0 = r[1] + (ii + pad) * c
+        x0 = r[0] + (jj + j0 + pad) * c
+        y0 = r[1] + (ii + i0 + pad) * c
         ok = (x0 >= lim[0]) & (y0 >= lim[1]) & (x0 + w <= lim[2]) & (y0 + h <= lim[3])
         x0, y0 = x0[ok], y0[ok]
         if len(x0) == 0:
             return None
         dx = np.maximum(np.maximum(x0 - anchor[0], anchor[0] - (x0 + w)), 0.0)
         dy = np.maximum(np.maximum(y0 - anchor[1], anchor[1] - (y0 + h)), 0.0)
-        k = int(np.lexsort((x0, y0, np.hypot(dx, dy)))[0])
-        return float(x0[k]), float(y0[k])
+        dist = np.hypot(dx, dy)
+        k = int(np.lexsort((x0, y0, dist))[0])
+        return float(dist[k]), (float(x0[k]), float(y0[k]))

@@ -25,7 +25,7 @@ from ductgen.solids.heal import heal
 from ductgen.solids.step_text import stamp_step
 from ductgen.units import FILE_UNITS
 
-__all__ = ["read_step", "step_bytes", "stl_bytes"]
+__all__ = ["read_step", "step_bytes", "step_bytes_healed", "stl_bytes"]
 
 
 _NOISE = re.compile(rb"(?<![\w.#])-?\d\.\d*E-(?:1[3-9]|[2-9]\d|\d{3})(?![\w.])")
@@ -34,6 +34,12 @@ _NOISE = re.compile(rb"(?<![\w.#])-?\d\.\d*E-(?:1[3-9]|[2-9]\d|\d{3})(?![\w.])")
 def step_bytes(shape: Any, name: str = "ductgen", unit: str = "mm") -> bytes:
     """Encode a cadquery shape as a STEP AP214 file in ``unit`` (lengths stay in mm inside),
     healed (:func:`heal`), time-stamped with the build date."""
+    return step_bytes_healed(shape, name, unit)[0]
+
+
+def step_bytes_healed(shape: Any, name: str = "ductgen", unit: str = "mm") -> tuple[bytes, Any]:
+    """:func:`step_bytes` and the healed shape it wrote (a ``TopoDS_Shape``, mm): what a
+    reader of the file gets, for later work on the same solid without reading it back."""
     from OCP.IFSelect import IFSelect_RetDone
     from OCP.Interface import Interface_Static
     from OCP.STEPControl import STEPControl_AsIs, STEPControl_Controller, STEPControl_Writer
@@ -66,7 +72,7 @@ def step_bytes(shape: Any, name: str = "ductgen", unit: str = "mm") -> bytes:
     data = stamp_step(data, name)
     # coordinates below 1e-12 (mm, or of a unit vector) are rounding noise that differs
     # between runs of the shape fixing: write them as zero
-    return _NOISE.sub(b"0.", data)
+    return _NOISE.sub(b"0.", data), healed
 
 
 def read_step(path: str | Path) -> Any:

@@ -16,8 +16,8 @@ faces scatters by ±2 % with the tolerance asked. :func:`heal`:
 2. writes extrusion faces as B-spline surfaces of the same parameterisation (exact, so the
    surface curves stay exact), on which the exact volume converges;
 3. fixes the shape (``ShapeFix_Shape``: same-parameter, wires, orientation);
-4. gives any edge the analyser still finds off its surface a tolerance of 1.5× its measured
-   deviation, rounded up to two significant digits for reproducible files
+4. gives any edge the analyser (one pass) still finds off its surface a tolerance of 1.5×
+   its measured deviation, rounded up to two significant digits for reproducible files
    (``ShapeFix_ShapeTolerance``, never above :data:`MAX_TOLERANCE_MM`).
 
 The healed shape replaces the original only if it is valid and of the same type.
@@ -256,13 +256,12 @@ def heal(shape: Any) -> Any:
     fix.Perform()
     s = fix.Shape()
     limit = ShapeFix_ShapeTolerance()
-    for _ in range(3):
-        bad = off_surface_edges(s)
-        if not bad:
-            break
-        for edge, dev in bad:
-            tol = min(_round_up(1.5 * dev), MAX_TOLERANCE_MM)
-            limit.LimitTolerance(edge, tol, MAX_TOLERANCE_MM, TopAbs_SHAPE)
+    # one pass: the analyser measures each flagged edge's deviation, and a tolerance of 1.5x
+    # that clears it (raising tolerances flags nothing new); a deviation above
+    # MAX_TOLERANCE_MM stays flagged whatever is done here
+    for edge, dev in off_surface_edges(s):
+        tol = min(_round_up(1.5 * dev), MAX_TOLERANCE_MM)
+        limit.LimitTolerance(edge, tol, MAX_TOLERANCE_MM, TopAbs_SHAPE)
     if not BRepCheck_Analyzer(s).IsValid() or s.ShapeType() != shape.ShapeType():
         return shape
     return s

@@ -52,6 +52,7 @@ __all__ = [
     "footprint_face",
     "make_insert",
     "prism",
+    "untangled_runs",
 ]
 
 V = cq.Vector
@@ -90,12 +91,16 @@ def offset_wire(
     pf = g.planform
     L, h1 = g.length_mm, g.width_mm / 2.0
     x = np.union1d(np.linspace(0.0, L, n), pf.node_x_mm)
-    xo, yo = pf.wall_offset(x, d).T  # upper wall (y > 0) offset outward
-    upper = cq.Edge.makeSpline([V(float(a), float(b), z) for a, b in zip(xo, yo, strict=True)])
-    lower = cq.Edge.makeSpline([V(float(a), float(-b), z) for a, b in zip(xo, yo, strict=True)])
+    fine = pf.wall_offset(np.linspace(0.0, L, 20 * n), d)
+    # upper wall (y > 0) offset outward; past the wall's concave radius the offset folds
+    # over itself, and the fold is cut out
+    folds = not np.all(np.diff(fine[:, 0]) > 0.0)
+    runs = untangled_runs(fine) if folds else [pf.wall_offset(x, d)]
+    upper_edges = [cq.Edge.makeSpline([V(float(a), float(b), z) for a, b in r]) for r in runs]
+    lower_edges = [cq.Edge.makeSpline([V(float(a), float(-b), z) for a, b in r]) for r in runs]
     a_apex = math.atan2(1.0, -float(pf.slope(0.0)))
     hw0 = float(pf.half_width(0.0))
-    edges = [lower]
+    edges = list(lower_edges)
     if x_end > L + 1e-9:
         edges.append(cq.Edge.makeLine(V(L, -h1 - d, z), V(x_end, -h1 - d, z)))
     if square_end:
@@ -116,12 +121,46 @@ def offset_wire(
     if x_end > L + 1e-9:
         edges.append(cq.Edge.makeLine(V(x_end, h1 + d, z), V(L, h1 + d, z)))
     edges += [
-        upper,
+        *reversed(upper_edges),
         _arc(0.0, hw0, d, a_apex, math.pi, z),
         cq.Edge.makeLine(V(-d, hw0, z), V(-d, -hw0, z)),
         _arc(0.0, -hw0, d, math.pi, 2.0 * math.pi - a_apex, z),
     ]
     return cq.Wire.assembleEdges(edges)
+
+
+def untangled_runs(pts: np.ndarray) -> list[np.ndarray]:
+    """A polyline (N, 2) mm with its self-intersecting loops cut out (each loop replaced by
+    the point where the curve crosses itself): the smooth runs between those corners, each
+    (k ≥ 2, 2). An offset curve folds into such loops ("swallowtails") where the offset
+    distance exceeds the base curve's radius of curvature on its concave side; the region
+    the offset bounds (the points within the distance of the base curve) ends at the
+    crossing."""
+    pts = np.asarray(pts, dtype=float)
+    a, b = pts[:-1], pts[1:]
+    runs: list[list[np.ndarray]] = [[pts[0]]]
+    i = 0
+    while i < len(a):
+        p, r = a[i], b[i] - a[i]
+        q, sv = a[i + 2 :], b[i + 2 :] - a[i + 2 :]
+        den = r[0] * sv[:, 1] - r[1] * sv[:, 0]
+        ok = np.abs(den) > 1e-15
+        qp = q - p
+        with np.errstate(divide="ignore", invalid="ignore"):
+            t = (qp[:, 0] * sv[:, 1] - qp[:, 1] * sv[:, 0]) / den
+            u = (qp[:, 0] * r[1] - qp[:, 1] * r[0]) / den
+        hit = np.nonzero(ok & (t > 0.0) & (t < 1.0) & (u > 0.0) & (u < 1.0))[0]
+        if len(hit):
+            j = int(hit[-1])  # the widest loop starting on this segment
+            cross = p + t[j] * r
+            runs[-1].append(cross)
+            runs.append([cross])
+            i = i + 2 + j + 1
+            runs[-1].append(b[i - 1])
+            continue
+        runs[-1].append(b[i])
+        i += 1
+    return [np.asarray(r) for r in runs if len(r) >= 2]
 
 
 def footprint_face(
@@ -325,16 +364,17 @@ def build_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
                     g.lip.roof_z_mm,
                 )
             )
-            inner_extra.append(
-                _box(
-                    x_ne + off,
-                    x_ne + off + ins.flange_width + 2.0,
-                    -g.width_mm / 2.0,
-                    g.width_mm / 2.0,
-                    -H,
-                    max(top, -t_skin),
+            if max(top, -t_skin) > -H + 1e-6:  # a floor at the skin's inner face: no notch
+                inner_extra.append(
+                    _box(
+                        x_ne + off,
+                        x_ne + off + ins.flange_width + 2.0,
+                        -g.width_mm / 2.0,
+                        g.width_mm / 2.0,
+                        -H,
+                        max(top, -t_skin),
+                    )
                 )
-            )
         if ins.mount == "surface":
             x_open = g.length_mm if g.lip.style == "raised" else x_ne
             inner_extra.append(

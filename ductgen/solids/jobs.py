@@ -146,7 +146,7 @@ def build_solids(
 
     from ductgen.atomic import write_atomic
     from ductgen.meshstats import mesh_stats
-    from ductgen.solids.cad_io import step_bytes, stl_bytes
+    from ductgen.solids.cad_io import step_bytes_healed, stl_bytes
     from ductgen.solids.check import CHECK_MESH, CHECK_MESH_CURVED, check_solid
     from ductgen.solids.deform import place
     from ductgen.solids.mesh import triangulate
@@ -178,7 +178,14 @@ def build_solids(
         t0 = time.perf_counter()
         stage(f"{kind} STEP")
         step_name = f"{prefix}-{kind}.step"
-        write_atomic(Path(staging) / step_name, step_bytes(solid, f"{prefix}-{kind}"))
+        data, healed = step_bytes_healed(solid, f"{prefix}-{kind}")
+        write_atomic(Path(staging) / step_name, data)
+        if kind == "insert":  # the split, if one is needed, cuts the solid the file holds
+            import cadquery as cq
+
+            from ductgen.solids.split import keep_for_split
+
+            keep_for_split(str(Path(staging) / step_name), cq.Shape.cast(healed))
         times["step_s"] = time.perf_counter() - t0
         t0 = time.perf_counter()
         stage(f"{kind} STL")

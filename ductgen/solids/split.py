@@ -19,6 +19,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 from itertools import pairwise
+from pathlib import Path
 from typing import Any
 
 import numpy as np
@@ -28,11 +29,25 @@ __all__ = [
     "BedFit",
     "bed_fit",
     "estimate_stations",
+    "keep_for_split",
     "split_across_flow",
     "split_for_bed",
     "split_insert_job",
     "split_shifted",
 ]
+
+#: The last insert each kernel worker built, by the path of its staged STEP file: the split
+#: cuts the solid still in memory (no STEP re-read, and before healing, so the new glue
+#: edges are healed once, with the piece).
+_IN_MEMORY: dict[str, Any] = {}
+
+
+def keep_for_split(step_path: str, solid: Any) -> None:
+    """Remember ``solid`` (cadquery, mm) as the insert written to ``step_path``, for
+    :func:`split_insert_job` in the same worker (only the latest one is kept)."""
+    _IN_MEMORY.clear()
+    _IN_MEMORY[str(Path(step_path).resolve())] = solid
+
 
 #: Orientation name → (axis index, sign) of the direction that points up on the printer.
 UP_AXES: dict[str, tuple[int, int]] = {
@@ -139,24 +154,60 @@ def estimate_stations(
     return None
 
 
-def _box(x0: float, x1: float, y0: float, y1: float, z0: float, z1: float) -> Any:
-    import cadquery as cq
+def _plane_face(
+    origin: tuple[float, float, float],
+    normal: tuple[float, float, float],
+    xdir: tuple[float, float, float],
+    u: tuple[float, float],
+    v: tuple[float, float],
+) -> Any:
+    """A planar rectangle (mm): ``origin`` + a·xdir + b·(normal × xdir), a in ``u``, b in
+    ``v``."""
+    from OCP.BRepBuilderAPI import BRepBuilderAPI_MakeFace
+    from OCP.gp import gp_Ax3, gp_Dir, gp_Pln, gp_Pnt
 
-    return cq.Solid.makeBox(x1 - x0, y1 - y0, z1 - z0, cq.Vector(x0, y0, z0))
+    pln = gp_Pln(gp_Ax3(gp_Pnt(*origin), gp_Dir(*normal), gp_Dir(*xdir)))
+    return BRepBuilderAPI_MakeFace(pln, u[0], u[1], v[0], v[1]).Face()
 
 
-def _region(stations_x: float, bb: Any, key: tuple[float, float]) -> Any:
-    """Everything upstream of x = s, plus the tongue: a solid (mm)."""
-    from ductgen.solids.primitives import boolean
-
+def _cut_faces(s: float, bb: Any, key: tuple[float, float]) -> list[Any]:
+    """The stepped glue surface at x = ``s`` as planar faces reaching past the part's box:
+    x = s beside the tongue, the tongue's two sides y = yc ± half and its end x = s + length
+    (mm)."""
     length, half = key
     pad = 10.0
-    up = _box(bb.xmin - pad, stations_x, bb.ymin - pad, bb.ymax + pad, bb.zmin - pad, bb.zmax + pad)
     yc = 0.5 * (bb.ymin + bb.ymax)
-    tongue = _box(
-        stations_x, stations_x + length, yc - half, yc + half, bb.zmin - pad, bb.zmax + pad
-    )
-    return boolean("fuse", up, tongue, "split region", glue=True)
+    z = (bb.zmin - pad, bb.zmax + pad)
+    y0, y1 = bb.ymin - pad, bb.ymax + pad
+    # planes x = const: axes y (a) and z (b); planes y = const: axes z (a) and x (b)
+    return [
+        _plane_face((s, 0, 0), (1, 0, 0), (0, 1, 0), (y0, yc - half), z),
+        _plane_face((s, 0, 0), (1, 0, 0), (0, 1, 0), (yc + half, y1), z),
+        _plane_face((s + length, 0, 0), (1, 0, 0), (0, 1, 0), (yc - half, yc + half), z),
+        _plane_face((0, yc - half, 0), (0, 1, 0), (0, 0, 1), z, (s, s + length)),
+        _plane_face((0, yc + half, 0), (0, 1, 0), (0, 0, 1), z, (s, s + length)),
+    ]
+
+
+def _upstream(p: np.ndarray, s: float, yc: float, key: tuple[float, float]) -> np.ndarray:
+    """+1 where points (N, 3) lie strictly inside the region upstream of the glue surface at
+    ``s`` (with the tongue), -1 strictly outside, 0 on it (within 1e-6 mm)."""
+    length, half = key
+    eps = 1e-6
+    dy = half - np.abs(p[:, 1] - yc)
+    # signed distance-like value: positive inside, negative outside
+    inside_main = s - p[:, 0]
+    inside_tongue = np.minimum(np.minimum(p[:, 0] - s, s + length - p[:, 0]), dy)
+    d = np.maximum(inside_main, inside_tongue)
+    return np.where(d > eps, 1, np.where(d < -eps, -1, 0))
+
+
+def _boundary_points(solid: Any) -> np.ndarray:
+    """Points on ``solid``'s boundary (N, 3) mm: its vertices and its edges' midpoints
+    (enough of them lie off every glue surface to tell which side the body is on)."""
+    pts = [v.toTuple() for v in solid.Vertices()]
+    pts += [e.positionAt(0.5).toTuple() for e in solid.Edges()]
+    return np.asarray(pts, dtype=float)
 
 
 def split_across_flow(
@@ -167,6 +218,10 @@ def split_across_flow(
 ) -> list[Any]:
     """Cut ``solid`` (a cadquery Solid, mm) at x = each station into keyed pieces.
 
+    One splitting operation of the kernel (``BRepAlgoAPI_Splitter``) by the planar faces of
+    every glue surface (no Boolean of volumes), then each resulting body is assigned to the
+    piece between the glue surfaces it lies between.
+
     Args:
         solid: the part.
         stations_x: increasing x of the glue faces (mm), inside the part's x range.
@@ -176,8 +231,11 @@ def split_across_flow(
     Returns:
         The pieces, upstream first, each one valid solid.
     """
+    import cadquery as cq
+    from OCP.BRepAlgoAPI import BRepAlgoAPI_Splitter
+    from OCP.TopTools import TopTools_ListOfShape
+
     from ductgen.errors import GeometryError
-    from ductgen.solids.primitives import boolean
 
     bb = solid.BoundingBox()
     xs = sorted(stations_x)
@@ -186,13 +244,40 @@ def split_across_flow(
     if any(b - a <= key_length for a, b in pairwise(xs)):
         raise GeometryError("split", "stations closer than the key length")
     key = (key_length, 0.5 * key_fraction * (bb.ymax - bb.ymin))
-    regions = [_region(s, bb, key) for s in xs]
+    yc = 0.5 * (bb.ymin + bb.ymax)
+    args, tools = TopTools_ListOfShape(), TopTools_ListOfShape()
+    args.Append(solid.wrapped)
+    for s in xs:
+        for f in _cut_faces(s, bb, key):
+            tools.Append(f)
+    sp = BRepAlgoAPI_Splitter()
+    sp.SetArguments(args)
+    sp.SetTools(tools)
+    sp.SetRunParallel(False)  # a reproducible order of sub-shapes
+    sp.SetNonDestructive(True)
+    sp.Build()
+    if not sp.IsDone():
+        raise GeometryError("split", "the kernel's splitter did not finish")
+    groups: list[list[Any]] = [[] for _ in range(len(xs) + 1)]
+    for body in cq.Shape.cast(sp.Shape()).Solids():
+        p = _boundary_points(body)
+        # the piece index: how many glue surfaces the body lies downstream of
+        side = np.array([_upstream(p, s, yc, key) for s in xs])  # (stations, points)
+        decided = []
+        for row in side:
+            firm = row[row != 0]
+            if len(firm) == 0 or np.any(firm != firm[0]):
+                raise GeometryError("split", "a piece straddles a glue face")
+            decided.append(firm[0] < 0)
+        groups[int(sum(decided))].append(body)
     pieces = []
-    rest = solid
-    for i, reg in enumerate(regions):
-        pieces.append(boolean("intersect", rest, reg, f"split piece {i + 1}"))
-        rest = boolean("cut", rest, reg, f"split rest {i + 1}")
-    pieces.append(rest)
+    for i, g in enumerate(groups, start=1):
+        if len(g) != 1:
+            raise GeometryError(f"split piece {i}", f"the piece is {len(g)} solids, not one")
+        piece = g[0].clean()
+        if not piece.isValid():
+            raise GeometryError(f"split piece {i}", "the piece is invalid")
+        pieces.append(piece)
     return pieces
 
 
@@ -273,8 +358,6 @@ def split_insert_job(
 
     ``frame`` (origin, rows x y z): on the user's panel the stations and the bed fit are in
     the datum's frame; the pieces are split there and written back in panel coordinates."""
-    from pathlib import Path
-
     from ductgen.atomic import write_atomic
     from ductgen.meshstats import mesh_stats
     from ductgen.solids.cad_io import read_step, step_bytes, stl_bytes
@@ -283,7 +366,8 @@ def split_insert_job(
     from ductgen.worker import stage
 
     stage("insert split")
-    whole = read_step(Path(staging) / step_name)
+    path = Path(staging) / step_name
+    whole = _IN_MEMORY.pop(str(path.resolve()), None) or read_step(path)
     to_model = None
     if frame is not None:
         whole, to_model = _into_frame(whole, frame)
