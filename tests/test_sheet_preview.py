@@ -60,3 +60,19 @@ def test_marks_sit_on_the_skin(design) -> None:  # type: ignore[no-untyped-def]
     cut = m["lines"][1]
     r = 900.0
     assert np.allclose(np.hypot(cut[:, 0], cut[:, 2] + r), r + 0.05, atol=1e-9)
+
+
+def test_whole_patch_faces_point_out_of_the_skin(design) -> None:  # type: ignore[no-untyped-def]
+    """The patch a curved cutter is clipped by (no cut-out): every triangle's normal points
+    away from the cylinder's axis (outward, by the cylinder's own geometry), so what the
+    clip keeps is inside the skin."""
+    r = 900.0
+    xyz, faces = curved_panel(CurvedSkin(1.0 / r, 0.0), design.plug_trim_xy, None)
+    a, b, c = (xyz[faces[:, i]] for i in range(3))
+    n = np.cross(b - a, c - a)
+    centre = (a + b + c) / 3.0
+    radial = centre - np.column_stack(
+        [np.zeros(len(centre)), centre[:, 1], np.full(len(centre), -r)]
+    )
+    assert np.all(np.einsum("ij,ij->i", n, radial) > 0)
+    assert len(faces) > 100

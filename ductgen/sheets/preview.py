@@ -111,6 +111,7 @@ def render_png(
     colour: str = "#c9a86b",
     panel: tuple[np.ndarray, np.ndarray] | None = None,
     marks: dict[str, Any] | None = None,
+    clip_by: tuple[np.ndarray, np.ndarray] | None = None,
 ) -> bytes:
     """Shaded 3D view of a triangle mesh (vertices mm (N, 3), faces (M, 3)), seen from above,
     upstream and to one side, centred with :data:`MARGIN` free round it.
@@ -121,6 +122,10 @@ def render_png(
 
     With ``panel`` (vertices (N, 3), faces (M, 3), model coordinates) a curved skin panel is
     drawn round the part, with the part's cut-out in it.
+
+    With ``clip_by`` (a skin patch without the cut-out, its normals outward) the mesh keeps
+    only what lies inside the skin: a curved cutter's overcut above the skin is cut away, as
+    the flat cutter's is at the skin plane, so the cavity shows.
 
     With ``marks`` (:func:`patch_marks`, model coordinates): the patch's edges and the cut
     edge as dark lines, the datum as a red pin (a ball on a short stalk along the skin's
@@ -150,6 +155,9 @@ def render_png(
             mesh = mesh.extract_surface(algorithm="dataset_surface")
             span = float(np.ptp(opening[:, 0]))
             plate = _skin_plate(np.asarray(opening, dtype=float), 0.3 * span)
+        if clip_by is not None:
+            mesh = mesh.clip_surface(_polydata(*clip_by), invert=True)
+            mesh = mesh.extract_surface(algorithm="dataset_surface")
         mesh = mesh.compute_normals(cell_normals=False, split_vertices=True, feature_angle=35.0)
         pl = pv.Plotter(off_screen=True, window_size=list(size))
         # pyvista types this method as functools.wraps of a function that takes self first
@@ -163,10 +171,7 @@ def render_png(
         if plate is not None:
             pl.add_mesh(plate, color="#9aa3ad", specular=0.2, smooth_shading=False)
         if panel is not None:
-            ptri = np.hstack(
-                [np.full((len(panel[1]), 1), 3, dtype=np.int64), np.asarray(panel[1], np.int64)]
-            )
-            plate = pv.PolyData(np.asarray(panel[0], dtype=float), ptri.ravel())
+            plate = _polydata(*panel)
             pl.add_mesh(plate, color="#9aa3ad", opacity=0.55, smooth_shading=True)
         if marks is not None:
             _add_marks(pl, marks, mesh.bounds)
@@ -190,6 +195,14 @@ def render_png(
     # (optimize=True: 5 s more)
     Image.fromarray(np.asarray(img)).save(buf, format="PNG", compress_level=3)
     return buf.getvalue()
+
+
+def _polydata(verts: np.ndarray, faces: np.ndarray) -> Any:
+    """A pyvista triangle mesh (vertices (N, 3) mm, faces (M, 3))."""
+    import pyvista as pv
+
+    tri = np.hstack([np.full((len(faces), 1), 3, dtype=np.int64), np.asarray(faces, np.int64)])
+    return pv.PolyData(np.asarray(verts, dtype=float), tri.ravel())
 
 
 def _add_marks(pl: Any, marks: dict[str, Any], bounds: Any) -> None:
@@ -219,7 +232,7 @@ def _add_marks(pl: Any, marks: dict[str, Any], bounds: Any) -> None:
 def curved_panel(
     skin: Any,
     around_xy: np.ndarray,
-    hole_xy: np.ndarray,
+    hole_xy: np.ndarray | None,
     turned: Any = None,
     step: float = 4.0,
 ) -> tuple[np.ndarray, np.ndarray]:
@@ -229,8 +242,9 @@ def curved_panel(
     (u, v) (Delaunay, scipy) over a ``step`` grid and the hole's outline sampled every
     ``step`` / 8, grid points nearer the outline than ``step`` / 3 left out, so the cut edge
     follows the outline to within the sag of a 0.5 mm chord; triangles inside the hole are
-    dropped, then every point is mapped. ``turned``: the plug's map (it is built turned
-    over), used instead of the skin's."""
+    dropped, then every point is mapped; ``hole_xy`` None: the whole patch. Triangles run
+    counter-clockwise in (u, v), so their normals point out of the skin. ``turned``: the
+    plug's map (it is built turned over), used instead of the skin's."""
     from matplotlib.path import Path as MplPath
     from scipy.spatial import Delaunay
 
@@ -240,13 +254,21 @@ def curved_panel(
         np.linspace(lo[0], hi[0], nu), np.linspace(lo[1], hi[1], nv), indexing="ij"
     )
     grid = np.column_stack([uu.ravel(), vv.ravel()])
-    ring = _dense_ring(np.asarray(hole_xy, dtype=float), step / 8.0)
-    hole = MplPath(np.vstack([ring, ring[:1]]))
-    near = _distance_to(grid, ring) < step / 3.0
-    grid = grid[~near & ~hole.contains_points(grid)]
-    uv = np.vstack([grid, ring])
-    faces = Delaunay(uv).simplices
-    faces = faces[~hole.contains_points(uv[faces].mean(axis=1))]
+    if hole_xy is None:  # the whole patch (the surface a curved cutter is clipped by)
+        uv = grid
+        faces = Delaunay(uv).simplices
+    else:
+        ring = _dense_ring(np.asarray(hole_xy, dtype=float), step / 8.0)
+        hole = MplPath(np.vstack([ring, ring[:1]]))
+        near = _distance_to(grid, ring) < step / 3.0
+        grid = grid[~near & ~hole.contains_points(grid)]
+        uv = np.vstack([grid, ring])
+        faces = Delaunay(uv).simplices
+        faces = faces[~hole.contains_points(uv[faces].mean(axis=1))]
+    # counter-clockwise in (u, v): every normal points out of the skin (+w)
+    a, b, c = (uv[faces[:, i]] for i in range(3))
+    cw = (b[:, 0] - a[:, 0]) * (c[:, 1] - a[:, 1]) - (b[:, 1] - a[:, 1]) * (c[:, 0] - a[:, 0]) < 0
+    faces[cw] = faces[cw][:, ::-1]
     pts = np.column_stack([uv, np.zeros(len(uv))])
     xyz = skin.to_model(pts) if turned is None else turned(pts)
     return xyz, faces
@@ -327,6 +349,7 @@ def preview_png(ctx: Any, worker: Any = None) -> bytes:
     d = ctx.design
     g = d.geometry
     turned = d.placement.plug_map if kind == "plug" else None
+    clip_by = None
     if d.skin.is_flat and kind == "cutter":  # the flat plate, the cutter clipped under it
         opening = g.planform.outline(300)
         panel = None
@@ -339,10 +362,14 @@ def preview_png(ctx: Any, worker: Any = None) -> bytes:
         hole = d.layout.opening_xy if kind == "cutter" else d.layout.cutout_xy
         panel = curved_panel(d.skin, d.plug_trim_xy, hole, turned=turned)
         marks = patch_marks(d.skin, d.plug_trim_xy, hole, g.length_mm, g.width_mm, turned)
+        if kind == "cutter":  # cut its overcut away along the skin, so the cavity shows
+            clip_by = curved_panel(d.skin, d.plug_trim_xy, None)
     frame = d.panel_frame
     if frame is not None and panel is not None:  # the user's panel: view it in the datum's
         mesh = (frame.to_local(mesh[0]), mesh[1])  # frame, as the analytic skins are viewed
         panel = (frame.to_local(panel[0]), panel[1])
+        if clip_by is not None:
+            clip_by = (frame.to_local(clip_by[0]), clip_by[1])
         marks = {
             "lines": [frame.to_local(p) for p in marks["lines"]],
             "datum": frame.to_local(marks["datum"])[0],
@@ -355,7 +382,9 @@ def preview_png(ctx: Any, worker: Any = None) -> bytes:
         from ductgen.cache import fingerprint, kernel_versions, source_fingerprint
 
         code = source_fingerprint(("sheets/preview.py",))
-        key = fingerprint("preview", kernel_versions(("vtk",)), code, mesh, opening, panel, marks)
+        key = fingerprint(
+            "preview", kernel_versions(("vtk",)), code, mesh, opening, panel, marks, clip_by
+        )
         entry = store.get(key)
         if entry is not None:
             return bytes(entry.blobs["png"])
@@ -367,6 +396,7 @@ def preview_png(ctx: Any, worker: Any = None) -> bytes:
             opening,
             panel=panel,
             marks=marks,
+            clip_by=clip_by,
             timeout_s=120.0,
         )
     except GeometryError as err:  # the renderer crashed the worker (no GL driver at all)
