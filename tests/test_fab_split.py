@@ -15,6 +15,7 @@ import numpy as np
 import pytest
 
 from ductgen.solids.split import bed_fit, estimate_stations
+from tests.conftest import ROOT
 
 BED = (220.0, 220.0, 250.0)
 
@@ -125,3 +126,39 @@ def test_a_station_through_separate_bodies_is_moved_until_each_piece_is_one() ->
     assert xs == [53.0]
     assert all(len(p.Solids()) == 1 and p.isValid() for p in pieces)
     assert sum(p.Volume() for p in pieces) == pytest.approx(u.Volume(), rel=1e-9)
+
+
+@pytest.mark.slow
+def test_piece_stls_stand_as_the_report_says(tmp_path) -> None:  # type: ignore[no-untyped-def]
+    """Each ``NAME-insert-partK.stl`` stands on the bed as it prints (lowest point at z = 0),
+    its ``up`` axis vertical: its height and its centroid's height equal the STEP piece's
+    extent and centre of mass along that axis (the STEP, in model coordinates: the kernel's
+    bounding box and exact mass properties of the same piece)."""
+    import cadquery as cq
+    import trimesh
+
+    from ductgen.pipeline import build
+    from ductgen.spec.load import load_spec
+
+    spec = load_spec(ROOT / "samples" / "round-cowling-vent.toml")
+    res = build(spec, tmp_path, only=["insert"], cache=False)
+    entry = res.report["print"]["bed"]["insert"]
+    assert entry["pieces"]
+    for piece in entry["pieces"]:
+        stl = trimesh.load(tmp_path / piece["stl"])
+        assert stl.bounds[0][2] == pytest.approx(0.0, abs=1e-4)
+        assert min(stl.bounds[0][:2]) == pytest.approx(0.0, abs=1e-4)
+        axis, sign = "xyz".index(piece["up"][-1]), (-1.0 if piece["up"][0] == "-" else 1.0)
+        step = cq.importers.importStep(str(tmp_path / piece["step"])).val()
+        bb = step.BoundingBox()
+        lo, hi = (bb.xmin, bb.ymin, bb.zmin)[axis], (bb.xmax, bb.ymax, bb.zmax)[axis]
+        height = hi - lo
+        assert stl.extents[2] == pytest.approx(height, abs=0.1)
+        # the kernel's exact centre of mass, its height above the lowest point along `up`
+        com = sign * cq.Shape.centerOfMass(step).toTuple()[axis]
+        # (the kernel's mass properties of mapped splines and the triangulation agree to a
+        # few 1e-3; a wrong orientation would move the centroid by tens of mm)
+        assert stl.center_mass[2] == pytest.approx(com - (lo if sign > 0 else -hi), abs=0.5)
+        assert stl.volume == pytest.approx(step.Volume(), rel=5e-3)
+        # a rotation, never a mirror image: the same handedness (positive volume, outward)
+        assert stl.volume > 0 and stl.is_winding_consistent

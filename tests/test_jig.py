@@ -144,6 +144,16 @@ def test_jig_pieces_partition_it_and_read_back(tmp_path) -> None:  # type: ignor
     assert all(p.is_watertight for p in parts)
     assert sum(p.volume for p in parts) == pytest.approx(whole.volume, rel=2e-3)
     assert all(p["fits"] for p in facts["pieces"])
+    # the plate: every piece, its volume, lying on the bed (units stated: mm)
+    scene = trimesh.load(tmp_path / "kitcar-bonnet-intake-jig.3mf", file_type="3mf")
+    assert scene.units in ("millimeters", "mm", "millimeter")
+    meshes = list(scene.dump())
+    assert sorted(m.volume for m in meshes) == pytest.approx(
+        sorted(p.volume for p in parts), rel=1e-6
+    )
+    for m in meshes:
+        assert m.bounds[0][2] == pytest.approx(0.0, abs=1e-6)
+        assert m.extents[2] < 4.0 + 0.2 + 10.0  # lying as on the skin, not standing up
     for name in ["kitcar-bonnet-intake-jig.step", *(p["step"] for p in facts["pieces"])]:
         shape = read_step(tmp_path / name)
         assert BRepCheck_Analyzer(shape.wrapped).IsValid()

@@ -56,21 +56,10 @@ class PlatePart:
 
 def turn_up(vertices: np.ndarray, up: str) -> np.ndarray:
     """``vertices`` (N, 3) rotated (a proper rotation) so that the axis ``up`` ("+z", "-x",
-    ...) points along +Z."""
-    sign = -1.0 if up.startswith("-") else 1.0
-    axis = "xyz".index(up[-1])
-    # rows: the new x, y, z axes expressed in the old frame (a right-handed triple)
-    if axis == 2:
-        rot = np.diag([1.0, sign, sign])
-    elif axis == 0:
-        rot = np.array([[0.0, 1.0, 0.0], [0.0, 0.0, 1.0], [1.0, 0.0, 0.0]])
-        rot[1] *= sign
-        rot[2] *= sign
-    else:
-        rot = np.array([[0.0, 0.0, 1.0], [1.0, 0.0, 0.0], [0.0, 1.0, 0.0]])
-        rot[1] *= sign
-        rot[2] *= sign
-    return np.asarray(vertices, dtype=float) @ rot.T
+    ...) points along +Z (:func:`ductgen.solids.split.up_rotation`)."""
+    from ductgen.solids.split import up_rotation
+
+    return np.asarray(vertices, dtype=float) @ up_rotation(up).T
 
 
 def _mesh_xml(part: PlatePart, oid: int) -> str:

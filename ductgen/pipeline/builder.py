@@ -238,7 +238,7 @@ def build(
         if "insert" in solids:
             stls = [p["stl"] for p in pieces] if plan is not None else [files["insert_stl"]]
             name = f"{spec.name}-insert.3mf"
-            out.add(name, _plate(out.staging, stls, report, frame, spec.name))
+            out.add(name, _plate(out.staging, stls, report, frame, spec.name, plan is not None))
             files["insert_3mf"] = name
         for k in kinds:
             if k in OUTPUTS and not OUTPUTS[k].made_for(spec):
@@ -265,12 +265,21 @@ def build(
     )
 
 
-def _plate(staging: Path, stls: list[str], report: dict[str, Any], frame: Any, title: str) -> bytes:
+def _plate(
+    staging: Path,
+    stls: list[str],
+    report: dict[str, Any],
+    frame: Any,
+    title: str,
+    standing: bool = False,
+) -> bytes:
     """``NAME-insert.3mf``: the insert (or its pieces) on one plate, standing as the report's
     bed fit says (in the datum's frame on a panel)."""
     from ductgen.export.threemf import plate_3mf, stl_part
 
     up = str(report.get("print", {}).get("bed", {}).get("insert", {}).get("orientation_up", "+z"))
     where = None if frame is None else (frame.origin, frame.axes)
+    if standing:  # the pieces' STLs already stand as they print
+        up, where = "+z", None
     parts = [stl_part(n.removesuffix(".stl"), (staging / n).read_bytes(), where) for n in stls]
     return plate_3mf(parts, up, title)

@@ -98,8 +98,24 @@ def _jig(ctx: BuildContext) -> dict[str, bytes]:
         files = {p.name.removeprefix(f"{spec.name}-"): p.read_bytes() for p in tmp.iterdir()}
     finally:
         shutil.rmtree(tmp, ignore_errors=True)
+    files["jig.3mf"] = _jig_plate(facts, files, spec.name)  # takes the print frames out
     add_jig(ctx.report, facts)
     return dict(sorted(files.items()))
+
+
+def _jig_plate(facts: dict[str, Any], files: dict[str, bytes], name: str) -> bytes:
+    """``jig.3mf``: the jig (or its pieces) on one plate, each lying as on the skin (its
+    print frame: the skin's outward normal at its middle up)."""
+    from ductgen.export.threemf import plate_3mf, stl_part
+
+    parts = facts.get("pieces") or [facts]
+    plate = []
+    for p in parts:
+        stl = p["stl"].removeprefix(f"{name}-")
+        origin, axes = p.pop("print_frame")
+        plate.append(stl_part(p["stl"].removesuffix(".stl"), files[stl], (origin, axes)))
+    facts.pop("print_frame", None)
+    return plate_3mf(plate, "+z", f"{name} jig")
 
 
 def _curved(spec: Spec) -> bool:
@@ -128,7 +144,7 @@ OUTPUTS: dict[str, Output] = {
     "sheet": Output(_sheet, ("sheet.pdf", "preview.png")),
     "jig": Output(
         _jig,
-        ("jig.step", "jig.stl"),
+        ("jig.step", "jig.stl", "jig.3mf"),
         _curved,
         "a flat skin needs no jig: the 1:1 template (DXF/PDF) is exact on it",
     ),

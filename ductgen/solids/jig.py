@@ -120,17 +120,22 @@ def split_jig(frame: cq.Solid, jig: JigLayout, stations: list[float]) -> list[cq
     return [p.Solids()[0] for p in pieces]
 
 
-def _stand(d: Design, v: np.ndarray, u_mid: float) -> np.ndarray:
-    """Vertices (N, 3) in the print frame of a piece: the skin's tangent frame at (u_mid, 0),
-    its outward normal up, so a piece lies on the bed as on the skin there."""
+def _print_frame(d: Design, u_mid: float) -> tuple[np.ndarray, np.ndarray]:
+    """The print frame of a piece (origin (3,), rows x y z (3, 3)): the skin's tangent frame
+    at (u_mid, 0), its outward normal up, so a piece lies on the bed as on the skin there."""
     fn = d.skin.to_model
     p0, p1 = fn(np.array([[u_mid - 0.5, 0.0, 0.0], [u_mid + 0.5, 0.0, 0.0]]))
     z = d.skin.normal(np.array([[u_mid, 0.0]]))[0]
     x = p1 - p0
     x = x - (x @ z) * z
     x /= np.linalg.norm(x)
-    axes = np.vstack([x, np.cross(z, x), z])
-    return (np.asarray(v, dtype=float) - 0.5 * (p0 + p1)) @ axes.T
+    return 0.5 * (p0 + p1), np.vstack([x, np.cross(z, x), z])
+
+
+def _stand(d: Design, v: np.ndarray, u_mid: float) -> np.ndarray:
+    """Vertices (N, 3) in the print frame of a piece (:func:`_print_frame`)."""
+    origin, axes = _print_frame(d, u_mid)
+    return (np.asarray(v, dtype=float) - origin) @ axes.T
 
 
 def _mid_u(flat: cq.Shape) -> float:
@@ -264,6 +269,7 @@ def jig_job(
             "volume_mm3": volume,
             "size_mm": list(fit.size_mm),
             "fits": fit.fits,
+            "print_frame": [a.tolist() for a in _print_frame(d, _mid_u(solid))],
             "mapped": mapped,
         }
 

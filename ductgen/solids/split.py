@@ -34,6 +34,8 @@ __all__ = [
     "split_for_bed",
     "split_insert_job",
     "split_shifted",
+    "stand_on_bed",
+    "up_rotation",
 ]
 
 #: The last insert each kernel worker built, by the path of its staged STEP file: the split
@@ -98,6 +100,34 @@ def _standing(vertices: np.ndarray, up: str) -> np.ndarray:
     z = sign * v[:, axis]
     x, y = v[:, others[0]], sign * v[:, others[1]]
     return np.column_stack([x, y, z])
+
+
+def up_rotation(up: str) -> np.ndarray:
+    """The proper rotation (3, 3; rows: the new x, y, z axes in the old frame) that turns the
+    axis ``up`` ("+z", "-x", ...) to +Z."""
+    sign = -1.0 if up.startswith("-") else 1.0
+    axis = "xyz".index(up[-1])
+    if axis == 2:
+        rot = np.diag([1.0, sign, sign])
+    elif axis == 0:
+        rot = np.array([[0.0, 1.0, 0.0], [0.0, 0.0, 1.0], [1.0, 0.0, 0.0]])
+    else:
+        rot = np.array([[0.0, 0.0, 1.0], [1.0, 0.0, 0.0], [0.0, 1.0, 0.0]])
+    if axis != 2:
+        rot[1] *= sign
+        rot[2] *= sign
+    return rot
+
+
+def stand_on_bed(vertices: np.ndarray, up: str, turn_deg: float) -> np.ndarray:
+    """``vertices`` (N, 3, mm) as printed: turned so ``up`` points up (+Z, a rotation, never
+    a mirror image), turned ``turn_deg`` about Z (the bed fit's turn), and moved onto the bed
+    with its lowest point at Z = 0 and its footprint from X = 0, Y = 0."""
+    v = np.asarray(vertices, dtype=float) @ up_rotation(up).T
+    t = math.radians(turn_deg)
+    rot = np.array([[math.cos(t), -math.sin(t)], [math.sin(t), math.cos(t)]])
+    v[:, :2] = v[:, :2] @ rot.T
+    return v - v.min(axis=0)
 
 
 def bed_fit(vertices: np.ndarray, bed: tuple[float, float, float], up: str = "+z") -> BedFit:
@@ -353,8 +383,10 @@ def split_insert_job(
 ) -> list[dict[str, Any]]:
     """Kernel-worker job: split the staged insert STEP across the flow at ``stations_x`` (or
     at more stations, when a piece still does not fit) and stage each piece as
-    ``PREFIX-insert-partK.step/.stl``. Returns per piece: file names, volume (mm³, its
-    triangulation), size standing ``up`` (mm) and whether it fits ``bed``.
+    ``PREFIX-insert-partK.step/.stl``: the STEP in model coordinates, the STL standing as it
+    prints (:func:`stand_on_bed`: ``up`` along +Z, turned ``stl_turn_deg`` about Z, lowest
+    point at Z = 0). Returns per piece: file names, volume (mm³, its triangulation), size
+    standing ``up`` (mm), whether it fits ``bed`` and the turn.
 
     ``frame`` (origin, rows x y z): on the user's panel the stations and the bed fit are in
     the datum's frame; the pieces are split there and written back in panel coordinates."""
@@ -386,10 +418,12 @@ def split_insert_job(
 
             raise GeometryError("insert split", f"piece {k} is not one valid closed solid")
         fit = bed_fit(v, bed, up)
+        turn = bed_fit(v @ up_rotation(up).T, bed, "+z").turn_deg  # its turn once standing
         if to_model is not None:
-            piece, v = to_model(piece), np.asarray(frame[0]) + v @ np.asarray(frame[1])
+            piece = to_model(piece)
+        # the STEP in model coordinates (for CAD), the STL standing on the bed as it prints
         write_atomic(Path(staging) / f"{base}.step", step_bytes(piece, base))
-        write_atomic(Path(staging) / f"{base}.stl", stl_bytes(v, f, base))
+        write_atomic(Path(staging) / f"{base}.stl", stl_bytes(stand_on_bed(v, up, turn), f, base))
         out.append(
             {
                 "step": f"{base}.step",
@@ -398,6 +432,7 @@ def split_insert_job(
                 "size_mm": list(fit.size_mm),
                 "up": up,
                 "fits": fit.fits,
+                "stl_turn_deg": turn,
             }
         )
     return out
