@@ -7,7 +7,7 @@ Placeholders are ``str.format`` fields; literal braces are doubled.
 
 from __future__ import annotations
 
-__all__ = ["FILES", "FLAVOUR", "PLATE_ZONE", "ZONE_FUNCTION", "header"]
+__all__ = ["FILES", "FLAVOUR", "PLATE_ZONE", "STL_ZONE", "ZONE_FUNCTION", "header"]
 
 #: The OpenFOAM flavour and version these templates are written for.
 FLAVOUR = "OpenFOAM ESI v1912"
@@ -40,14 +40,14 @@ blocks
 
 boundary
 (
-    inlet {{ type patch; faces ((4 7 11 8)); }}
-    outflow {{ type patch; faces ((5 9 10 6)); }}
+    inlet {{ type patch; faces ((4 7 11 8){lower_inlet}); }}
+    outflow {{ type patch; faces ((5 9 10 6){lower_outflow}); }}
     top {{ type patch; faces ((8 11 10 9)); }}
-    sides {{ type patch; faces ((4 8 9 5) (7 6 10 11)); }}
+    sides {{ type patch; faces ((4 8 9 5) (7 6 10 11){lower_sides}); }}
     lowerBox
     {{
         type wall;
-        faces ((0 3 2 1) (0 4 7 3) (1 2 6 5) (0 1 5 4) (3 7 6 2));
+        faces ((0 3 2 1){lower_walls});
     }}
 );
 """
@@ -223,7 +223,11 @@ functions
         writeControl writeTime; interpolationScheme cell; setFormat raw; fields (p);
         sets
         (
-            depth {{ type midPoint; axis z; start ({lx0} {ly0} {lz0}); end ({lx0} {ly0} {lz1}); }}
+            depth
+            {{
+                type midPoint; axis {line_axis};
+                start ({lx0} {ly0} {lz0}); end ({lx1} {ly1} {lz1});
+            }}
         );
     }}
     yPlus
@@ -264,6 +268,16 @@ PLATE_ZONE = """    {{
             origin ({x} {y0} {z0});
             span (0 {dy} {dz});
         }}
+    }}
+"""
+
+#: A face zone from an STL plate in constant/triSurface (curved skins: tilted planes).
+STL_ZONE = """    {{
+        name {name};
+        type faceZoneSet;
+        action new;
+        source searchableSurfaceToFaceZone;
+        sourceInfo {{ surface triSurfaceMesh; surfaceName {file}; }}
     }}
 """
 
