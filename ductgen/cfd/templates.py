@@ -303,7 +303,7 @@ SOLUTION = """solvers
     "(U|k|omega)" {{ solver smoothSolver; smoother symGaussSeidel; tolerance 1e-8; relTol 0.1; }}
 }}
 SIMPLE {{ nNonOrthogonalCorrectors 0; consistent yes; }}
-relaxationFactors {{ fields {{ p 0.5; }} equations {{ U 0.7; ".*" 0.7; }} }}
+relaxationFactors {{ fields {{ p 0.7; }} equations {{ U 0.9; ".*" 0.8; }} }}
 """
 
 TRANSPORT = """transportModel Newtonian;
