@@ -7,7 +7,8 @@ cells and iterations of the finest mesh, CFD flow and recovery (flow-averaged), 
 Richardson-extrapolated flow with its GCI (study only), the 1-D flow and recovery, the
 differences, the transition exit's kinetic-energy factor α and the transition K counted to
 the mixed-out exit beside the 1-D K, and the mesh's cells across the throat depth and
-prism-layer coverage of the cavity walls. The table is also written as ``bench-cfd.json``
+prism-layer coverage of the cavity walls (any layer, and all five). Curved-skin samples
+run too (the skin is the domain's floor). The table is also written as ``bench-cfd.json``
 in the output folder.
 """
 
@@ -50,7 +51,7 @@ def main() -> None:
         f"{'sample':22s}{'cells':>8s}{'it':>6s}{'Q cfd L/s':>11s}{'Q ext L/s':>11s}"
         f"{'GCI %':>7s}{'range %':>8s}{'Q 1-D L/s':>11s}{'dQ %':>7s}{'eta cfd':>9s}"
         f"{'eta 1-D':>9s}{'IVR':>7s}{'alpha':>7s}{'K mix':>7s}{'K 1-D':>7s}{'n/D':>5s}"
-        f"{'layers':>7s}{'min':>6s}"
+        f"{'layers':>7s}{'all 5':>7s}{'min':>6s}"
     )
     print(head, flush=True)
     for path in paths:
@@ -87,6 +88,9 @@ def main() -> None:
             "outlet_extension_diameters": r.get("outlet_extension_diameters"),
             "cells_across_throat_depth": r.get("cells_across_throat_depth"),
             "layer_coverage": r.get("layer_coverage"),
+            "layer_coverage_all_layers": r.get("layer_coverage_all_layers"),
+            "solve_s": r.get("solve_s"),
+            "warnings": sec.get("warnings"),
             "layers_by_patch": r.get("layers_by_patch"),
             "y_plus_by_patch": sec.get("y_plus_by_patch"),
             "probe_static_cp": r.get("probe_static_cp"),
@@ -106,6 +110,7 @@ def main() -> None:
             f"{r['inlet_velocity_ratio']:>7.3f}{_f(r.get('kinetic_energy_factor'), 7, 3)}"
             f"{_f(r.get('transition_k_mixed_out'), 7, 3)}{_f(one.get('transition_k'), 7, 3)}"
             f"{_f(r.get('cells_across_throat_depth'), 5, 0)}{_f(r.get('layer_coverage'), 7, 2)}"
+            f"{_f(r.get('layer_coverage_all_layers'), 7, 2)}"
             f"{minutes:>6.1f}",
             flush=True,
         )

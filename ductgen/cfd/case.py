@@ -12,6 +12,13 @@ evened out; the transition's exit is a face zone inside the domain. The backgrou
 times as many cells across the throat depth) and shrinks by :data:`REFINEMENT_RATIO` per
 level, so every cell of the refined meshes (surface levels, layers in relative size)
 shrinks by the same ratio: the systematic refinement a grid convergence index needs.
+
+On a curved skin or the user's panel (``domain`` given) the same box is laid out in the
+datum frame and stands on the skin (:mod:`ductgen.cfd.skin_wall`): it reaches below the
+skin's lowest point and above its highest by the flat box's height, the lower block's ends
+and sides are inlet, outflow and sides (the air above a falling skin reaches below z = 0),
+the inlet profile counts from the skin's height under the centreline, and the throat and
+the transition's exit are STL plates (the design section under the lip, the outlet plane).
 """
 
 from __future__ import annotations
@@ -19,16 +26,20 @@ from __future__ import annotations
 import math
 import shutil
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any
 
+import numpy as np
+
 from ductgen.cfd import templates as T
 from ductgen.cfd.fields import InletProfile, field_files, inlet_profile
+from ductgen.cfd.skin_wall import SkinDomain, SkinWallError
 from ductgen.cfd.surface import WettedSurface
 from ductgen.geometry.inlet import InletGeometry
 
 __all__ = [
+    "COARSE_CELLS_PER_DEPTH",
     "EXTENSION_DIAMETERS",
     "LAYERS",
     "MAX_ITERATIONS",
@@ -92,6 +103,12 @@ class CaseSetup:
     extension_m: float = 0.0
     extension_diameter_m: float = 0.0
     cells_across_depth_core: float = 0.0
+    #: On a curved skin: the throat section and the transition's exit as triangles (m),
+    #: written as STL plates for the face zones (None: axis-aligned plates, flat skin).
+    throat_plate: Any = None
+    exit_plate: Any = None
+    #: Start and end (m) of the line through the throat's depth (cells counted on it).
+    depth_line: tuple[float, float, float, float, float, float] | None = None
 
     @property
     def fluid_box_volume_m3(self) -> float:
@@ -107,11 +124,13 @@ def case_setup(
     flow_report: dict[str, Any],
     downstream_pa: Callable[[float], float],
     extension_diameter_m: float = 0.0,
+    domain: SkinDomain | None = None,
 ) -> CaseSetup:
     """The case numbers of one design (``geometry`` in mm, ``surface`` with its outlet
     extended or not, ``flow_report`` the 1-D model's ``flow`` section, ``downstream_pa(Q)``
     the static pressure above ambient the duct system behind the outlet needs at flow Q,
-    Pa, ``extension_diameter_m`` the diameter the extension's length is counted in, m)."""
+    Pa, ``extension_diameter_m`` the diameter the extension's length is counted in, m;
+    ``domain`` the skin round the inlet on a curved skin or panel, datum frame)."""
     g = geometry
     mm = 1e-3
     d, w, length = g.depth_mm * mm, g.width_mm * mm, g.length_mm * mm
@@ -123,6 +142,18 @@ def case_setup(
     x1 = max(cx1 + 3.0 * h, throat_end + 0.5 * length)
     half = w / 2.0 + max(0.75 * w, 2.0 * delta)
     zt = max(4.0 * delta, w)
+    skin_lo = skin_hi = skin_x0 = 0.0
+    if domain is not None:  # the box stands on the skin: reach below and above it
+        gx = np.linspace(x0 - h, x1 + h, 60) * 1e3
+        gy = np.linspace(-half - h, half + h, 24) * 1e3
+        xx, yy = np.meshgrid(gx, gy)
+        z = domain.sheet.height(xx.ravel(), yy.ravel())
+        if np.isnan(z).any():
+            raise SkinWallError("the skin sheet does not cover the CFD domain's floor")
+        skin_lo, skin_hi = float(z.min()) * 1e-3, float(z.max()) * 1e-3
+        skin_x0 = domain.height_m(x0, 0.0)
+        cz0 = min(cz0, skin_lo)
+        zt += max(skin_hi, 0.0)
     nx = math.ceil((x1 - x0) / h)
     ny = math.ceil(2.0 * half / h)
     nzu = math.ceil(zt / h)
@@ -150,7 +181,9 @@ def case_setup(
     nu = float(flow_report["kinematic_viscosity_m2_s"])
     rho = float(flow_report["density_kg_m3"])
     delta_in = 0.37 * run * (speed * run / nu) ** -0.2  # the 1-D model's flat-plate law
-    profile = inlet_profile(speed, delta_in, run, nu, zt)
+    profile = inlet_profile(speed, delta_in, run, nu, zt - skin_x0)
+    if domain is not None:
+        profile = replace(profile, origin_m=skin_x0)
     ang = math.radians(float(flow_report.get("flow_angle_deg", 0.0)))
     q_ref = w * d * speed
     curve = []
@@ -165,12 +198,19 @@ def case_setup(
         box=(x0, x1, -half, half, zb, zt),
         cells=(nx, ny, nzl, nzu),
         opening=opening,
-        approach=(x0 - h, -side, -h, opening[3], side, min(zt, max(2.0 * delta, d))),
+        approach=(
+            x0 - h,
+            -side,
+            min(-h, skin_lo - h),
+            opening[3],
+            side,
+            min(zt, max(2.0 * delta, d) + max(skin_hi, 0.0)),
+        ),
         location=location,
         throat_x_m=tx,
         throat_bounds=throat_bounds,
         throat_area_m2=w * d,
-        probe=(x0 / 2.0, 0.0, min(2.5 * delta_in + 0.5 * h, 0.8 * zt)),
+        probe=(x0 / 2.0, 0.0, _probe_z(domain, x0 / 2.0, min(2.5 * delta_in + 0.5 * h, 0.8 * zt))),
         speed_m_s=speed,
         direction=(math.cos(ang), math.sin(ang)),
         nu_m2_s=nu,
@@ -186,7 +226,31 @@ def case_setup(
         extension_diameter_m=extension_diameter_m or surface.outlet_hydraulic_diameter_m,
         # nominal: the depth over the cavity cell (background cell / 2^level), layers aside
         cells_across_depth_core=d / (h / 2 ** LEVELS["cavity"]),
+        **_curved_zones(domain, tx, wy, surface, d),
     )
+
+
+def _probe_z(domain: SkinDomain | None, x: float, above: float) -> float:
+    return above if domain is None else domain.height_m(x, 0.0) + above
+
+
+def _curved_zones(
+    domain: SkinDomain | None, tx: float, wy: float, surface: WettedSurface, d: float
+) -> dict[str, Any]:
+    """On a curved skin: the throat section u = tx under the lip (design coordinates, a
+    plane on the analytic skins), the transition's exit plane (normal to the outlet axis)
+    and the line through the throat's depth, in metres."""
+    if domain is None:
+        return {}
+    mm = 1e3
+    top = domain.to_datum(domain.skin.to_model(np.array([[tx * mm, 0.0, -0.01]])))[0] / mm
+    bottom = domain.to_datum(domain.skin.to_model(np.array([[tx * mm, 0.0, -3.0 * d * mm]])))
+    exit_tri = surface.triangles["outlet"] - surface.extension_m * np.asarray(surface.outlet_axis)
+    return {
+        "throat_plate": domain.section_plate(tx * mm, wy * mm, 3.0 * d * mm),
+        "exit_plate": domain.exit_plate(exit_tri, np.asarray(surface.outlet_axis)),
+        "depth_line": (*map(float, top), *map(float, bottom[0] / mm)),
+    }
 
 
 def _fmt(v: float) -> str:
@@ -215,6 +279,52 @@ def _plate(name: str, b: tuple[float, float, float, float, float, float]) -> str
     )  # fmt: skip
 
 
+def _lower_faces(curved: bool) -> dict[str, str]:
+    """Boundary faces of the lower block: on a flat skin all inside the body (walls, cut
+    away); on a curved skin the air above a falling skin reaches below z = 0, so the lower
+    block's ends and sides are inlet, outflow and sides like the upper block's."""
+    if not curved:
+        return dict(
+            lower_inlet="", lower_outflow="", lower_sides="",
+            lower_walls=" (0 4 7 3) (1 2 6 5) (0 1 5 4) (3 7 6 2)",
+        )  # fmt: skip
+    return dict(
+        lower_inlet=" (0 4 7 3)", lower_outflow=" (1 2 6 5)",
+        lower_sides=" (0 1 5 4) (3 7 6 2)", lower_walls="",
+    )  # fmt: skip
+
+
+def _line(s: CaseSetup) -> dict[str, str]:
+    if s.depth_line is None:
+        zb = s.box[4]
+        a = (s.throat_x_m, 0.0, zb, s.throat_x_m, 0.0, -1e-5)
+        axis = "z"
+    else:
+        a, axis = s.depth_line, "distance"
+    return dict(line_axis=axis, **{k: _fmt(v) for k, v in zip(
+        ("lx0", "ly0", "lz0", "lx1", "ly1", "lz1"), a, strict=True)})  # fmt: skip
+
+
+def _zones(s: CaseSetup) -> str:
+    if s.throat_plate is None:
+        throat = (s.throat_x_m, *s.throat_bounds[1:3], s.throat_x_m, *s.throat_bounds[4:6])
+        return _plate("throat", throat) + _plate("transitionExit", s.exit_bounds)
+    return T.STL_ZONE.format(name="throat", file="throatPlate.stl") + T.STL_ZONE.format(
+        name="transitionExit", file="exitPlate.stl"
+    )
+
+
+def _stl(tri: Any) -> str:
+    out = ["solid plate"]
+    for t in np.asarray(tri, float):
+        n = np.cross(t[1] - t[0], t[2] - t[0])
+        n /= max(float(np.linalg.norm(n)), 1e-300)
+        out += [f"  facet normal {n[0]:.6g} {n[1]:.6g} {n[2]:.6g}", "    outer loop"]
+        out += [f"      vertex {v[0]:.9g} {v[1]:.9g} {v[2]:.9g}" for v in t]
+        out += ["    endloop", "  endfacet"]
+    return "\n".join([*out, "endsolid plate"]) + "\n"
+
+
 def write_case(case_dir: Path, s: CaseSetup, surface: WettedSurface, n_procs: int = 1) -> Path:
     """Write the complete case (system/, constant/, 0/) into ``case_dir`` (replaced)."""
     if case_dir.exists():
@@ -227,7 +337,7 @@ def write_case(case_dir: Path, s: CaseSetup, surface: WettedSurface, n_procs: in
     values = {
         "blockMesh": dict(
             x0=_fmt(x0), x1=_fmt(x1), y0=_fmt(y0), y1=_fmt(y1), zb=_fmt(zb), zt=_fmt(zt),
-            nx=nx, ny=ny, nzl=nzl, nzu=nzu, gz=1,
+            nx=nx, ny=ny, nzl=nzl, nzu=nzu, gz=1, **_lower_faces(s.throat_plate is not None),
         ),
         "features": dict(included_angle=150),
         "snappy": dict(
@@ -244,17 +354,13 @@ def write_case(case_dir: Path, s: CaseSetup, surface: WettedSurface, n_procs: in
             max_iterations=s.max_iterations,
             throat_functions=_zone_functions(),
             px=_fmt(s.probe[0]), py=_fmt(s.probe[1]), pz=_fmt(s.probe[2]),
-            lx0=_fmt(s.throat_x_m), ly0=_fmt(0.0), lz0=_fmt(zb), lz1=_fmt(-1e-5),
+            **_line(s),
         ),
         "schemes": {},
         "solution": {},
         "transport": dict(nu=_fmt(s.nu_m2_s)),
         "turbulence": {},
-        "topoSet": dict(
-            zones=_plate("throat", (s.throat_x_m, *s.throat_bounds[1:3], s.throat_x_m,
-                                    *s.throat_bounds[4:6]))
-            + _plate("transitionExit", s.exit_bounds),
-        ),
+        "topoSet": dict(zones=_zones(s)),
         "decompose": dict(n=n_procs),
     }  # fmt: skip
     for key, (path, cls, obj, text) in T.FILES.items():
@@ -263,6 +369,9 @@ def write_case(case_dir: Path, s: CaseSetup, surface: WettedSurface, n_procs: in
     rows = "\n".join(f"    ({_fmt(q)} {_fmt(-p)})" for q, p in s.system_curve)
     (case_dir / "constant/ductSystem").write_text(T.FAN_CURVE.format(rows=rows))
     (case_dir / "constant/triSurface/duct.stl").write_text(surface.stl_text())
+    if s.throat_plate is not None:
+        (case_dir / "constant/triSurface/throatPlate.stl").write_text(_stl(s.throat_plate))
+        (case_dir / "constant/triSurface/exitPlate.stl").write_text(_stl(s.exit_plate))
     for name, text in field_files(s.profile, s.speed_m_s, s.direction).items():
         (case_dir / "0" / name).write_text(text)
     return case_dir

@@ -35,6 +35,8 @@ class InletProfile:
     k_m2_s2: tuple[float, ...]
     omega_1_s: tuple[float, ...]
     delta_m: float
+    #: Height of the skin under the inlet's centre (m): z in the tables counts from it.
+    origin_m: float = 0.0
 
 
 def inlet_profile(
@@ -76,7 +78,7 @@ def _profile(p: InletProfile, which: str, direction: tuple[float, float]) -> str
     else:
         vals = [f"{v:.8g}" for v in p.omega_1_s]
     return (
-        "{ type fixedProfile; direction (0 0 1); origin 0;\n"
+        f"{{ type fixedProfile; direction (0 0 1); origin {p.origin_m:.8g};\n"
         "        profile table\n        (\n" + _table(p.z_m, vals) + "\n        ); }"
     )
 

@@ -18,6 +18,7 @@ from pathlib import Path
 from typing import Any
 
 from ductgen.cfd.case import (
+    COARSE_CELLS_PER_DEPTH,
     EXTENSION_DIAMETERS,
     LAYERS,
     MESH_LEVELS,
@@ -25,6 +26,7 @@ from ductgen.cfd.case import (
     case_setup,
     write_case,
 )
+from ductgen.cfd.curved import curved_surface
 from ductgen.cfd.extension import downstream_need, extension_plan
 from ductgen.cfd.gci import gci, representative_size
 from ductgen.cfd.results import case_numbers, cells_across_depth, layer_report, total_volume_m3
@@ -37,6 +39,7 @@ from ductgen.cfd.runner import (
     require_openfoam,
     solve,
 )
+from ductgen.cfd.skin_wall import SkinWallError
 from ductgen.cfd.surface import extend_outlet, wetted_surface
 from ductgen.cfd.templates import FLAVOUR
 from ductgen.errors import SpecError
@@ -63,14 +66,6 @@ def check_inputs(spec: Spec, mesh: str, n_procs: int, write_only: bool) -> None:
             None,
             "a [flow] section (speed, altitude, run_length, losses)",
             "the CFD case needs the design speed, the air and the duct system behind the inlet",
-        )
-    if spec.skin.shape != "flat":
-        raise SpecError(
-            "skin.shape",
-            spec.skin.shape,
-            "flat (for ductgen cfd)",
-            "the CFD case puts the inlet in a flat wall under a flat air slab; a curved "
-            "panel's own pressure field and geometry are not modelled in the case yet",
         )
     if mesh not in MESH_CHOICES:
         raise SpecError("--mesh", mesh, " | ".join(MESH_CHOICES), "mesh refinement")
@@ -241,28 +236,41 @@ def cfd_for_build(
     note = progress or (lambda *_a: None)
     check_inputs(spec, mesh, n_procs, write_only)
     cut = trimesh.load(cutter_stl, force="mesh")
-    lo, hi = cut.bounds
-    span = float(hi[0] - lo[0])
-    surface = wetted_surface(
-        cut.vertices,
-        cut.faces,
-        (lo[0] - 10 * span, -10 * span),
-        (hi[0] + 10 * span, 10 * span, 10 * span),
-    )
-    plan = extension_plan(
-        spec, surface.outlet_hydraulic_diameter_m, EXTENSION_DIAMETERS, surface.outlet_area_m2
-    )
-    surface = extend_outlet(surface, plan.length_m)
+    domain, notes = None, []
+    if spec.skin.shape == "flat":
+        lo, hi = cut.bounds
+        span = float(hi[0] - lo[0])
+        surface = wetted_surface(
+            cut.vertices,
+            cut.faces,
+            (lo[0] - 10 * span, -10 * span),
+            (hi[0] + 10 * span, 10 * span, 10 * span),
+        )
+        plan = extension_plan(
+            spec, surface.outlet_hydraulic_diameter_m, EXTENSION_DIAMETERS, surface.outlet_area_m2
+        )
+        surface = extend_outlet(surface, plan.length_m)
+    else:
+        try:
+            surface, domain, plan, notes = curved_surface(
+                spec, design, report["flow"], cut.vertices, cut.faces, EXTENSION_DIAMETERS,
+                design.geometry.depth_mm * 1e-3 / COARSE_CELLS_PER_DEPTH,
+            )  # fmt: skip
+        except SkinWallError as err:
+            raise SpecError(
+                "skin", spec.skin.shape, "a skin the CFD domain can stand on", str(err)
+            ) from None
     need = downstream_need(spec, design, plan)
     names = list(MESH_LEVELS) if mesh == "study" else [mesh]
     levels = []
     for name in names:
         setup = case_setup(
-            spec.name, name, design.geometry, surface, report["flow"], need, plan.diameter_m
-        )
+            spec.name, name, design.geometry, surface, report["flow"], need, plan.diameter_m,
+            domain,
+        )  # fmt: skip
         levels.append(_one_mesh(out_dir / f"cfd-{name}", setup, surface, n_procs, write_only, note))
     final = levels[-1]
-    warnings = [
+    warnings = notes + [
         f"{lv['mesh']} mesh: checkMesh: {f} (solved anyway: a quality check, not a broken mesh)"
         for lv in levels
         for f in lv.get("check_mesh_failures", [])
@@ -282,6 +290,17 @@ def cfd_for_build(
         "levels": levels,
         "warnings": warnings,
     }
+    if domain is not None:
+        section["skin_wall"] = {
+            "source": domain.sheet.source,
+            "frame": "datum frame: x along the flow in the tangent plane at the ramp start, "
+            "z along the outward normal there",
+            "datum_origin_mm": [float(c) for c in domain.origin],
+            "datum_axes": [[float(c) for c in row] for row in domain.axes],
+            "sheet_step_mm": domain.sheet.step_mm,
+            "inlet_profile": "1/7-power layer counted from the skin's height under the "
+            "inlet's centreline",
+        }
     if not write_only:
         section["result"] = {k: v for k, v in final.items() if k not in ("y_plus",)}
         section["y_plus_range"] = [final["y_plus"]["min"], final["y_plus"]["max"]]
