@@ -9,8 +9,11 @@ wall-clock time, and a job that crashes, runs out of memory or overruns becomes 
 :class:`~ductgen.errors.GeometryError` naming the stage. The child stays alive between
 jobs (importing the kernel costs ~2 s) and is restarted after a failure.
 
-Jobs are named by ``"module:function"`` and called with picklable arguments; the function
-may call :func:`stage` to say what it is doing, so a timeout or crash can name the stage.
+A job is a module-level function passed by reference (``worker.run(build_solids, d, ...)``,
+so the caller imports it and the layer contracts see the dependency), called in the child
+with picklable arguments; the child imports it by its module and name. The jobs ductgen
+runs are listed in :data:`ductgen.solids.registry.KERNEL_JOBS`. A job may call
+:func:`stage` to say what it is doing, so a timeout or crash can name the stage.
 """
 
 from __future__ import annotations
@@ -24,10 +27,11 @@ import subprocess
 import sys
 import threading
 import traceback
+from collections.abc import Callable
 from dataclasses import dataclass
 from importlib import import_module
 from multiprocessing.connection import Connection
-from typing import Any
+from typing import Any, ParamSpec, TypeVar
 
 from ductgen.errors import DuctgenError, GeometryError
 
@@ -39,8 +43,12 @@ __all__ = [
     "default_worker",
     "die_with_parent",
     "env_limit",
+    "job_target",
     "stage",
 ]
+
+P = ParamSpec("P")
+R = TypeVar("R")
 
 _stage_conn: Any = None
 
@@ -121,6 +129,22 @@ def env_limit(
     if value > hi:
         raise SpecError(name, text, allowed, why)
     return value
+
+
+def job_target(job: Callable[..., Any]) -> str:
+    """``"module:function"`` of a module-level function (what the child imports and calls).
+
+    Raises:
+        TypeError: ``job`` is a lambda, a nested function or a bound method, which the
+            child could not import by name.
+    """
+    module = getattr(job, "__module__", None)
+    name = getattr(job, "__qualname__", "")
+    if not module or not name or "." in name or "<" in name:
+        raise TypeError(f"a kernel job must be a module-level function, not {job!r}")
+    if getattr(import_module(module), name, None) is not job:
+        raise TypeError(f"{module}.{name} does not name the job {job!r}")
+    return f"{module}:{name}"
 
 
 def stage(name: str) -> None:
@@ -284,11 +308,20 @@ class KernelWorker:
         self._proc = None
         self._conn = None
 
-    def run(self, target: str, *args: Any, timeout_s: float | None = None, **kwargs: Any) -> Any:
-        """Run ``module:function(*args, **kwargs)`` in the child and return its result (a
-        second thread waits for the first one's job)."""
+    def run(self, job: Callable[P, R], *args: P.args, **kwargs: P.kwargs) -> R:
+        """Run ``job(*args, **kwargs)`` in the child under the CPU-time limit and return its
+        result (a second thread waits for the first one's job)."""
         with self._lock:
-            return self._run(target, args, kwargs, timeout_s)
+            result: R = self._run(job_target(job), args, kwargs, None)
+            return result
+
+    def run_within(
+        self, timeout_s: float, job: Callable[P, R], *args: P.args, **kwargs: P.kwargs
+    ) -> R:
+        """:meth:`run` with its own CPU-time limit ``timeout_s`` (s) instead of the worker's."""
+        with self._lock:
+            result: R = self._run(job_target(job), args, kwargs, timeout_s)
+            return result
 
     def _run(
         self, target: str, args: tuple[Any, ...], kwargs: dict[str, Any], timeout_s: float | None

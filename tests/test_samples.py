@@ -43,7 +43,7 @@ def test_sample_cutter_volume_agrees_with_geometry(sample_builds: dict, name: st
 
     result, folder = sample_builds[name]
     m = result.solids["cutter"]
-    assert m["volume_mm3"] == pytest.approx(m["expected_volume_mm3"], rel=5e-3)
+    assert m.volume_mm3 == pytest.approx(m.expected_volume_mm3, rel=5e-3)
     mesh = trimesh.load(folder / f"{name}-cutter.stl", force="mesh")
     assert mesh.is_watertight and mesh.is_winding_consistent
-    assert mesh.volume == pytest.approx(m["expected_volume_mm3"], rel=5e-3)
+    assert mesh.volume == pytest.approx(m.expected_volume_mm3, rel=5e-3)

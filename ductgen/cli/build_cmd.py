@@ -42,15 +42,16 @@ def build_command(
     """Build solids, files and report.json from a spec."""
     from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
 
-    from ductgen.cli.common import only_kinds, out_folder
+    from ductgen.cli.common import out_folder
     from ductgen.pipeline import build
+    from ductgen.pipeline.options import BuildOptions
     from ductgen.spec import load_spec
     from ductgen.spec.template import with_template_options
 
     s = load_spec(spec)
     s = with_template_options(s, kerf=kerf, paper=paper)
     out_dir = out_folder(out, Path.cwd() / s.name)
-    kinds = only_kinds(only)
+    options = BuildOptions.check(only, quality, force, not no_cache)
     show = not (quiet or as_json)
     with Progress(
         SpinnerColumn(),
@@ -64,11 +65,8 @@ def build_command(
         result = build(
             s,
             out_dir,
-            only=kinds,
-            force=force,
-            quality=quality,
+            options=options,
             progress=lambda stage: bar.update(task, description=f"building: {stage}"),
-            cache=not no_cache,
         )
     if as_json:
         typer.echo(json.dumps(result.report, indent=2))

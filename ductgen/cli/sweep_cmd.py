@@ -115,12 +115,13 @@ def sweep_command(
     """Build variants of a spec in parallel and compare them side by side."""
     from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
 
-    from ductgen.cli.common import only_kinds, out_folder
+    from ductgen.cli.common import out_folder
+    from ductgen.pipeline.options import BuildOptions
     from ductgen.spec import load_spec
     from ductgen.sweep import parse_vary, run_sweep
 
     varies = [parse_vary(v) for v in vary]
-    kinds = only_kinds(only)
+    kinds = None if only is None else list(BuildOptions.check(only, quality).kinds)
     _announce(varies, zip_values, jobs, kinds, yes, max_variants, quiet or as_json)
     out_dir = (
         out_folder(out, Path()) if out is not None else Path.cwd() / f"{load_spec(spec).name}-sweep"

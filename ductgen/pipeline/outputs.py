@@ -8,28 +8,36 @@ suffixes it writes after ``NAME-``. To add an output, add a line here.
 from __future__ import annotations
 
 from collections.abc import Callable
-from dataclasses import dataclass, field
-from typing import Any
+from dataclasses import dataclass
 
 from ductgen.cache import Cache
 from ductgen.design import Design
 from ductgen.errors import DesignWarning
+from ductgen.report import BuildRecord
+from ductgen.solids.results import SolidResult
 from ductgen.spec.model import Spec
+from ductgen.worker import KernelWorker
 
 __all__ = ["OUTPUTS", "BuildContext", "Output"]
 
 
 @dataclass
 class BuildContext:
-    """What an encoder may read (the spec, the design, the measured solids, the report so
-    far, the solid cache or None) and the warnings it may add."""
+    """What an encoder may read (the spec, the design, the measured solids, the build's
+    record so far, the solid cache or None, the caller's kernel worker) and
+    the warnings it may add (the record's list)."""
 
     spec: Spec
     design: Design
-    solids: dict[str, dict[str, Any]]
-    report: dict[str, Any]
-    warnings: list[DesignWarning] = field(default_factory=list)
+    solids: dict[str, SolidResult]
+    record: BuildRecord
+    worker: KernelWorker
     cache: Cache | None = None
+
+    @property
+    def warnings(self) -> list[DesignWarning]:
+        """The build's warnings; an encoder appends its own."""
+        return self.record.warnings
 
 
 def _template(ctx: BuildContext) -> dict[str, bytes]:
@@ -49,7 +57,7 @@ def _template(ctx: BuildContext) -> dict[str, bytes]:
                 "template",
                 dkey,
                 ctx.spec,
-                ctx.report["spec_sha256"],
+                ctx.record.spec_sha256,
                 build_datetime().isoformat(),
                 kernel_versions(("ezdxf", "matplotlib", "numpy")),
                 source_fingerprint(("export", "stamp.py", "units.py")),
@@ -57,7 +65,7 @@ def _template(ctx: BuildContext) -> dict[str, bytes]:
             entry = ctx.cache.get(key)
             if entry is not None:
                 return {name: bytes(data) for name, data in entry.blobs.items()}
-    files = template_files(ctx.design, ctx.spec, ctx.report["spec_sha256"])
+    files = template_files(ctx.design, ctx.spec, ctx.record.spec_sha256)
     if key is not None and ctx.cache is not None:
         ctx.cache.put(key, {}, files)
     return files

@@ -16,6 +16,7 @@ from typing import Any
 import numpy as np
 
 from ductgen.errors import ExportError, GeometryError
+from ductgen.solids.jobs import cutter_mesh_job
 
 __all__ = ["GL_PACKAGES", "MARGIN", "curved_panel", "preview_png", "render_png"]
 
@@ -233,11 +234,11 @@ def preview_png(ctx: Any, worker: Any = None) -> bytes:
     from ductgen.worker import default_worker
 
     w = worker or default_worker()
-    kind = next((k for k in _KINDS if "mesh" in ctx.solids.get(k, {})), None)
+    kind = next((k for k in _KINDS if k in ctx.solids), None)
     if kind is None:
-        kind, mesh = "cutter", w.run("ductgen.solids.jobs:cutter_mesh_job", ctx.design)
+        kind, mesh = "cutter", w.run(cutter_mesh_job, ctx.design)
     else:
-        mesh = ctx.solids[kind]["mesh"]
+        mesh = ctx.solids[kind].mesh
     d = ctx.design
     panel = None
     if d.skin.is_flat:
@@ -262,14 +263,7 @@ def preview_png(ctx: Any, worker: Any = None) -> bytes:
         if entry is not None:
             return bytes(entry.blobs["png"])
     try:
-        png = w.run(
-            "ductgen.sheets.preview:render_png",
-            mesh[0],
-            mesh[1],
-            opening,
-            panel=panel,
-            timeout_s=120.0,
-        )
+        png = w.run_within(120.0, render_png, mesh[0], mesh[1], opening, panel=panel)
     except GeometryError as err:  # the renderer crashed the worker (no GL driver at all)
         raise ExportError(_gl_message(err.detail)) from err
     if key is not None and store is not None:

@@ -17,6 +17,7 @@ from typing import Any
 from ductgen.design import Design
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.solids.kinds import SOLID_KINDS
+from ductgen.solids.results import Mesh, SolidResult
 from ductgen.tolerances import DEFAULT_TOLERANCES, STL_QUALITY
 from ductgen.worker import stage
 
@@ -135,12 +136,13 @@ def _clipped_below_skin(vertices: Any, faces: Any, g: InletGeometry) -> tuple[An
 
 def build_solids(
     d: Design, kinds: list[str], quality: str, prefix: str, staging: str
-) -> dict[str, dict[str, Any]]:
+) -> dict[str, SolidResult]:
     """Build, check and encode each kind; write ``PREFIX-KIND.step/.stl`` into ``staging``.
 
-    Returns per kind: measured volume and area (mm³, mm²), face count, expected volume,
-    the written file names, wall-clock seconds per stage, and the STL mesh (vertices mm,
-    faces) for previews and mesh checks in the parent.
+    Returns per kind its :class:`~ductgen.solids.results.SolidResult`: measured volume and
+    area (mm³, mm²), face count, expected volume, the written file names, wall-clock seconds
+    per stage, and the STL mesh (vertices mm, faces) for previews and mesh checks in the
+    parent.
     """
     import time
 
@@ -151,7 +153,7 @@ def build_solids(
     from ductgen.solids.deform import place
     from ductgen.solids.mesh import triangulate
 
-    out: dict[str, dict[str, Any]] = {}
+    out: dict[str, SolidResult] = {}
     built: dict[str, Any] = {}
     book = recipes()
     tol = DEFAULT_TOLERANCES
@@ -197,26 +199,29 @@ def build_solids(
         stl_name = f"{prefix}-{kind}.stl"
         write_atomic(Path(staging) / stl_name, stl_bytes(verts, faces, f"{prefix}-{kind}"))
         times["stl_s"] = time.perf_counter() - t0
-        out[kind] = {
-            "volume_mm3": res.volume_mm3,
-            "expected_volume_mm3": res.expected_volume_mm3,
-            "stl_volume_mm3": vol,
-            "area_mm2": res.area_mm2,
-            "faces": res.faces,
-            "check_mesh": check_mesh,
-            "files": {"step": step_name, "stl": stl_name},
-            "seconds": times,
-            "mesh": (verts.astype("float32"), faces.astype("int32")),
-        }
+        wetted = None
         if kind == "cutter":
             flat_mesh = triangulate(flat, *CHECK_MESH) if curved else res.mesh
-            out[kind]["wetted_area_mm2"] = wetted_area_mm2(
+            wetted = wetted_area_mm2(
                 *flat_mesh, d.geometry, d.placement.solid_map if curved else None
             )
+        out[kind] = SolidResult(
+            volume_mm3=res.volume_mm3,
+            expected_volume_mm3=res.expected_volume_mm3,
+            stl_volume_mm3=vol,
+            area_mm2=res.area_mm2,
+            faces=res.faces,
+            check_mesh=check_mesh,
+            step_file=step_name,
+            stl_file=stl_name,
+            mesh=Mesh(verts.astype("float32"), faces.astype("int32")),
+            seconds=times,
+            wetted_area_mm2=wetted,
+        )
     return out
 
 
-def cutter_mesh_job(d: Design) -> tuple[Any, Any]:
+def cutter_mesh_job(d: Design) -> Mesh:
     """The cutter's triangulation (vertices mm, faces) for the preview, when the build
     made no solids (``--only sheet``)."""
     from ductgen.solids.cutter import make_cutter
@@ -224,7 +229,7 @@ def cutter_mesh_job(d: Design) -> tuple[Any, Any]:
 
     stage("preview cutter")
     verts, faces = triangulate(make_cutter(d), *STL_QUALITY["draft"])
-    return verts.astype("float32"), faces.astype("int32")
+    return Mesh(verts.astype("float32"), faces.astype("int32"))
 
 
 def warm_up() -> str:

@@ -237,27 +237,15 @@ def run_sweep(
             unknown ``--only`` kind, ``--baseline`` or ``--quality``, or an unreachable
             scheduler.
     """
-    from ductgen.pipeline.builder import output_kinds
     from ductgen.pipeline.builder import package_version as _version
+    from ductgen.pipeline.options import BuildOptions
     from ductgen.sweep.compare import compare_all, comparison_rows
     from ductgen.sweep.html import write_outputs
-    from ductgen.tolerances import STL_QUALITY
     from ductgen.worker import WorkerLimits
 
     WorkerLimits.from_env()  # a bad DUCTGEN_MEMORY_MB / DUCTGEN_TIMEOUT_S: exit 2 up front
     t_start = time.perf_counter()
-    kinds_all = output_kinds()
-    kinds = kinds_all if not only else [k for k in kinds_all if k in only]
-    bad = [k for k in (only or []) if k not in kinds_all]
-    if bad:
-        raise SpecError(
-            "--only",
-            ",".join(bad),
-            "a comma list of " + ", ".join(kinds_all),
-            "unknown output kind",
-        )
-    if quality not in STL_QUALITY:
-        raise SpecError("--quality", quality, " | ".join(STL_QUALITY), "STL tessellation setting")
+    kinds = list(BuildOptions.check(only, quality).kinds)
     if jobs is not None and jobs < 1:
         raise SpecError("-j", jobs, ">= 1", "number of worker processes")
     spec_path = Path(spec_path)
