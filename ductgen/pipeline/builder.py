@@ -145,7 +145,7 @@ def _geometry(b: _Build) -> None:
     output needs them)."""
     needs_fab = any(k in b.options.kinds for k in _NEEDS_FABRICATION)
     if b.design is None or (needs_fab and not b.design.fabrication_checked):
-        b.design = build_design(b.spec, check_fabrication=needs_fab)
+        b.design = build_design(b.spec, check_fabrication=needs_fab, worker=b.worker)
 
 
 def _open(b: _Build) -> None:
