@@ -13,6 +13,7 @@ from pathlib import Path
 from typing import Any
 
 from ductgen.design import Design, build_design
+from ductgen.display import SHOWN
 from ductgen.errors import DesignWarning, DuctgenError, SpecError
 from ductgen.page.draw import plan_svg, section_svg, skin_caption
 from ductgen.page.panel_view import panel_svg
@@ -43,61 +44,55 @@ def check_spec(data: Any, base_dir: Path | None) -> tuple[Spec, Design]:
     return spec, build_design(spec)
 
 
-def _row(key: str, label: str, value: float | None, unit: str, digits: int) -> dict[str, Any]:
-    return {"key": key, "label": label, "value": value, "unit": unit, "digits": digits}
+def _row(key: str, stored: float | None) -> dict[str, Any]:
+    """One shown number: its label, unit and digits from :data:`ductgen.display.SHOWN`, its
+    value (``stored`` in the report's unit) in the shown unit."""
+    how = SHOWN[key]
+    value = None if stored is None else how.value(stored)
+    return {"key": key, "label": how.label, "value": value, "unit": how.unit, "digits": how.digits}
 
 
 def key_numbers(d: Design) -> list[dict[str, Any]]:
-    """The key numbers block (mm, mm², deg)."""
+    """The key numbers block (mm, mm², deg, cm³)."""
     g = d.geometry
     pf, fl = g.planform, g.floor
     rows = [
-        _row("throat_width_mm", "throat width W", g.width_mm, "mm", 2),
-        _row("throat_depth_mm", "throat depth D", g.depth_mm, "mm", 2),
-        _row("ramp_length_mm", "ramp length L", g.length_mm, "mm", 2),
-        _row("floor_drop_mm", "floor drop H", g.drop_mm, "mm", 2),
-        _row("ramp_angle_deg", "ramp angle", fl.angle_deg, "°", 2),
-        _row("throat_area_mm2", "throat area W·D", g.throat_area_mm2, "mm²", 0),
-        _row("max_wall_divergence_deg", "max wall divergence", pf.max_divergence_deg, "°", 1),
-        _row("apex_width_mm", "apex width", pf.apex_width_mm, "mm", 1),
-        _row(
-            "ramp_cavity_volume_mm3", "ramp cavity volume", g.ramp_cavity_volume_mm3 / 1e3, "cm³", 1
-        ),
+        _row("throat_width_mm", g.width_mm),
+        _row("throat_depth_mm", g.depth_mm),
+        _row("ramp_length_mm", g.length_mm),
+        _row("floor_drop_mm", g.drop_mm),
+        _row("ramp_angle_deg", fl.angle_deg),
+        _row("throat_area_mm2", g.throat_area_mm2),
+        _row("max_wall_divergence_deg", pf.max_divergence_deg),
+        _row("apex_width_mm", pf.apex_width_mm),
+        _row("ramp_cavity_volume_mm3", g.ramp_cavity_volume_mm3),
     ]
     if g.transition is not None:
-        t = g.transition
-        rows.append(_row("transition_area_ratio", "transition area ratio", t.area_ratio, "", 2))
+        rows.append(_row("transition_area_ratio", g.transition.area_ratio))
     return rows
 
 
 def flow_rows(flow: dict[str, Any]) -> list[dict[str, Any]]:
-    """The airflow block from the report's ``flow`` section (L/s, kg/s, Pa shown)."""
+    """The airflow block from the report's ``flow`` section (km/h, L/s, kg/s, N shown)."""
     band = flow.get("sensitivity", {})
-
-    def lps(v: float | None) -> float | None:
-        return None if v is None else v * 1e3
-
     rows = [
-        _row("speed_m_s", "speed", flow["speed_m_s"] * 3.6, "km/h", 1),
-        _row("volume_flow_m3_s", "delivered flow", lps(flow.get("volume_flow_m3_s")), "L/s", 1),
-        _row("volume_flow_low_m3_s", "band low", lps(band.get("volume_flow_low_m3_s")), "L/s", 1),
-        _row(
-            "volume_flow_high_m3_s", "band high", lps(band.get("volume_flow_high_m3_s")), "L/s", 1
+        _row("speed_m_s", flow["speed_m_s"]),
+        _row("volume_flow_m3_s", flow.get("volume_flow_m3_s")),
+        _row("volume_flow_low_m3_s", band.get("volume_flow_low_m3_s")),
+        _row("volume_flow_high_m3_s", band.get("volume_flow_high_m3_s")),
+        *(
+            _row(k, flow.get(k))
+            for k in (
+                "inlet_velocity_ratio",
+                "ram_recovery",
+                "mass_flow_kg_s",
+                "delta_over_depth_max",
+                "momentum_drag_n",
+            )
         ),
-        _row(
-            "inlet_velocity_ratio", "inlet velocity ratio", flow.get("inlet_velocity_ratio"), "", 3
-        ),
-        _row("ram_recovery", "ram recovery", flow.get("ram_recovery"), "", 3),
-        _row("mass_flow_kg_s", "mass flow", flow.get("mass_flow_kg_s"), "kg/s", 4),
-        _row(
-            "delta_over_depth_max", "boundary layer δ / D", flow.get("delta_over_depth_max"), "", 2
-        ),
-        _row("momentum_drag_n", "momentum drag", flow.get("momentum_drag_n"), "N", 2),
     ]
     if "required_flow_m3_s" in flow:
-        rows.append(
-            _row("required_flow_m3_s", "required flow", lps(flow["required_flow_m3_s"]), "L/s", 1)
-        )
+        rows.append(_row("required_flow_m3_s", flow["required_flow_m3_s"]))
     return rows
 
 
