@@ -188,7 +188,7 @@ def _bed_section(
     from ductgen.solids.split import bed_fit, estimate_stations
 
     warnings: list[DesignWarning] = []
-    bed = tuple(spec.print.bed)
+    bed = spec.print.bed
     section: dict[str, Any] = {"bed_mm": list(bed)}
     insert_up: str | None = None
     split: InsertSplit | None = None

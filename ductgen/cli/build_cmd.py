@@ -155,7 +155,7 @@ def init_command(
 
 def _convert_toml(data: bytes, suffix: str) -> bytes:
     """TOML spec text re-written as YAML or JSON."""
-    import tomllib
+    from ductgen.spec.load import tomllib
 
     values = tomllib.loads(data.decode())
     head = "ductgen spec (from the TOML starter; see README for every key)"

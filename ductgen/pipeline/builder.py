@@ -208,7 +208,7 @@ def _split(b: _Build) -> None:
         b.solids["insert"].step_file,
         b.spec.name,
         (list(split.stations_x_mm), split.up),
-        tuple(b.spec.print.bed),
+        b.spec.print.bed,
         _frame(b),
     )
     for k, piece in enumerate(pieces, start=1):

@@ -59,6 +59,11 @@ def recipes() -> dict[str, SolidRecipe]:
     }
 
 
+def _subdivided(mesh: Any, step_mm: float) -> Any:
+    """``mesh`` (a trimesh) with every edge split to at most ``step_mm`` (mm)."""
+    return mesh.subdivide_to_size(step_mm)
+
+
 def mapped_mesh(flat: Any, fn: Any, lin: float, ang: float, curvature: float) -> tuple[Any, Any]:
     """Triangulation of a mapped solid (vertices mm, faces): the design-coordinate solid
     triangulated at (``lin`` mm, ``ang`` rad), its edges split until a mapped chord sags less
@@ -76,7 +81,7 @@ def mapped_mesh(flat: Any, fn: Any, lin: float, ang: float, curvature: float) ->
     m = trimesh.Trimesh(v, f)  # merges the kernel's per-face copies of shared vertices
     step = math.sqrt(8.0 * lin / curvature) if curvature > 0 else math.inf
     if math.isfinite(step):
-        m = m.subdivide_to_size(step)
+        m = _subdivided(m, step)
     return np.asarray(fn(m.vertices)), np.asarray(m.faces)
 
 
@@ -90,7 +95,7 @@ def mapped_volume_mm3(flat: Any, fn: Any, step_mm: float = 2.0) -> float:
     from ductgen.solids.mesh import triangulate
 
     v, f = triangulate(flat, *CHECK_MESH)
-    fine = trimesh.Trimesh(v, f, process=False).subdivide_to_size(step_mm)
+    fine = _subdivided(trimesh.Trimesh(v, f, process=False), step_mm)
     return float(trimesh.Trimesh(fn(fine.vertices), fine.faces, process=False).volume)
 
 
@@ -104,7 +109,7 @@ def wetted_area_mm2(vertices: Any, faces: Any, g: InletGeometry, fn: Any = None)
 
     soup, tris = _clipped_below_skin(np.asarray(vertices, dtype=float), np.asarray(faces), g)
     if fn is not None:
-        fine = trimesh.Trimesh(soup, tris, process=False).subdivide_to_size(2.0)
+        fine = _subdivided(trimesh.Trimesh(soup, tris, process=False), 2.0)
         return float(trimesh.Trimesh(fn(fine.vertices), fine.faces, process=False).area)
     t = soup[tris]
     return float(0.5 * np.linalg.norm(np.cross(t[:, 1] - t[:, 0], t[:, 2] - t[:, 0]), axis=1).sum())
@@ -202,8 +207,12 @@ def build_solids(
         wetted = None
         if kind == "cutter":
             flat_mesh = triangulate(flat, *CHECK_MESH) if curved else res.mesh
+            if flat_mesh is None:
+                from ductgen.errors import GeometryError
+
+                raise GeometryError("cutter check", "the check gave no triangulation")
             wetted = wetted_area_mm2(
-                *flat_mesh, d.geometry, d.placement.solid_map if curved else None
+                flat_mesh[0], flat_mesh[1], d.geometry, d.placement.solid_map if curved else None
             )
         out[kind] = SolidResult(
             volume_mm3=res.volume_mm3,

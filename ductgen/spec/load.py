@@ -95,7 +95,7 @@ def _yaml_loader() -> type:
     import yaml
 
     class Loader(yaml.SafeLoader):
-        def construct_mapping(self, node, deep=False):  # type: ignore[no-untyped-def]
+        def construct_mapping(self, node: Any, deep: bool = False) -> Any:
             seen: set[object] = set()
             for key_node, _ in node.value:
                 if key_node.tag == "tag:yaml.org,2002:merge":
