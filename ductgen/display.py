@@ -41,7 +41,7 @@ SHOWN: dict[str, Shown] = {
     # geometry (mm, deg, mm², mm³)
     "throat_width_mm": Shown("throat width W", "mm", 1.0, 2),
     "throat_depth_mm": Shown("throat depth D", "mm", 1.0, 2),
-    "ramp_length_mm": Shown("ramp length L", "mm", 1.0, 2),
+    "ramp_length_mm": Shown("ramp length L", "mm", 1.0, 1),
     "floor_drop_mm": Shown("floor drop H", "mm", 1.0, 2),
     "ramp_angle_deg": Shown("ramp angle", "°", 1.0, 2),
     "throat_area_mm2": Shown("throat area W·D", "mm²", 1.0, 0),
@@ -60,14 +60,14 @@ SHOWN: dict[str, Shown] = {
     "mass_g": Shown("insert mass", "g", 1.0, 0),
     # flow (SI)
     "speed_m_s": Shown("speed", "km/h", 3.6, 1),
-    "volume_flow_m3_s": Shown("delivered flow", *_LPS),
+    "volume_flow_m3_s": Shown("flow", *_LPS),
     "volume_flow_low_m3_s": Shown("band low", *_LPS),
     "volume_flow_high_m3_s": Shown("band high", *_LPS),
     "required_flow_m3_s": Shown("required flow", *_LPS),
     "inlet_velocity_ratio": Shown("inlet velocity ratio", "", 1.0, 3),
     "ram_recovery": Shown("ram recovery", "", 1.0, 3),
     "mass_flow_kg_s": Shown("mass flow", "kg/s", 1.0, 4),
-    "delta_over_depth": Shown("boundary layer δ / D", "", 1.0, 2),
+    "delta_over_depth": Shown("δ / D", "", 1.0, 2),
     "delta_over_depth_max": Shown("boundary layer δ / D", "", 1.0, 2),
     "momentum_drag_n": Shown("momentum drag", "N", 1.0, 2),
     # the sweep's own columns

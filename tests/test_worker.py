@@ -87,10 +87,10 @@ def _alive(pid: int) -> bool:
 @pytest.mark.skipif(not sys.platform.startswith("linux"), reason="reads /proc")
 def test_a_worker_started_from_a_thread_still_dies_with_its_parent() -> None:
     script = (
-        "import threading, time\n"
+        "import math, threading, time\n"
         "from ductgen.worker import KernelWorker\n"
         "w = KernelWorker()\n"
-        "t = threading.Thread(target=w.run, args=('math:sqrt', 4.0))\n"
+        "t = threading.Thread(target=w.run, args=(math.sqrt, 4.0))\n"
         "t.start(); t.join()\n"
         "print(w._proc.pid, flush=True)\n"
         "time.sleep(120)\n"

@@ -30,7 +30,6 @@ from ductgen.spec.model import PanelSkinSpec, Spec
 from ductgen.worker import KernelWorker, WorkerLimits, default_worker
 
 __all__ = [
-    "STAGES",
     "BuildOptions",
     "BuildResult",
     "Stage",
@@ -40,6 +39,7 @@ __all__ = [
     "planned_files",
     "planned_stages",
     "select_kinds",
+    "stages",
 ]
 
 #: Output kinds whose making checks the insert and plug rules.
@@ -273,18 +273,21 @@ def _wants(kind: str, b: _Build) -> bool:
     return kind in b.options.kinds
 
 
-#: The build, in order. Progress names match :func:`planned_stages`.
-STAGES: tuple[Stage, ...] = (
-    Stage("geometry", _always, _geometry, "geometry_s"),
-    Stage(None, _always, _open),
-    Stage("solids", lambda b: bool(b.options.solid_kinds), _solids, "solids_s"),
-    Stage(None, _always, _record),
-    Stage("panel", lambda b: _cuts_panel(b.spec, b.options.kinds), _panel, "panel_s"),
-    Stage("insert split", lambda b: b.rec.split is not None, _split, "insert_split_s"),
-    Stage(None, lambda b: "insert" in b.solids, _plate),
-    *(Stage(k, partial(_wants, k), partial(_encode, k), f"{k}_s") for k in OUTPUTS),
-    Stage("publish", _always, _publish),
-)
+def stages() -> tuple[Stage, ...]:
+    """The build, in order (one stage per file output of
+    :data:`~ductgen.pipeline.outputs.OUTPUTS`); progress names match
+    :func:`planned_stages`."""
+    return (
+        Stage("geometry", _always, _geometry, "geometry_s"),
+        Stage(None, _always, _open),
+        Stage("solids", lambda b: bool(b.options.solid_kinds), _solids, "solids_s"),
+        Stage(None, _always, _record),
+        Stage("panel", lambda b: _cuts_panel(b.spec, b.options.kinds), _panel, "panel_s"),
+        Stage("insert split", lambda b: b.rec.split is not None, _split, "insert_split_s"),
+        Stage(None, lambda b: "insert" in b.solids, _plate),
+        *(Stage(k, partial(_wants, k), partial(_encode, k), f"{k}_s") for k in OUTPUTS),
+        Stage("publish", _always, _publish),
+    )
 
 
 def build(
@@ -301,7 +304,7 @@ def build(
     options: BuildOptions | None = None,
 ) -> BuildResult:
     """Build every requested output of ``spec`` into ``out_dir``, stage by stage
-    (:data:`STAGES`).
+    (:func:`stages`).
 
     ``options``: the checked options (:meth:`BuildOptions.check`); without them ``only``,
     ``quality``, ``force`` and ``cache`` are checked here. ``design``: the design of
@@ -323,7 +326,7 @@ def build(
         options = BuildOptions.check(only, quality, force, cache)
     with contextlib.ExitStack() as exits:
         b = _Build(spec, Path(out_dir), options, worker or default_worker(), design, exits)
-        for st in STAGES:
+        for st in stages():
             if not st.when(b):
                 continue
             if st.name is not None:

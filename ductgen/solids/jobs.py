@@ -156,7 +156,6 @@ def build_solids(
     from ductgen.solids.cad_io import step_bytes, stl_bytes
     from ductgen.solids.check import CHECK_MESH, CHECK_MESH_CURVED, check_solid
     from ductgen.solids.deform import place
-    from ductgen.solids.mesh import triangulate
 
     out: dict[str, SolidResult] = {}
     built: dict[str, Any] = {}
@@ -189,13 +188,7 @@ def build_solids(
         times["step_s"] = time.perf_counter() - t0
         t0 = time.perf_counter()
         stage(f"{kind} STL")
-        lin, ang = STL_QUALITY[quality]
-        if curved:  # the design mesh, refined for the curvature and mapped (see mapped_mesh)
-            verts, faces = mapped_mesh(flat, fn, lin, ang, d.placement.curvature)
-        elif (lin, ang) == check_mesh and res.mesh is not None:
-            verts, faces = res.mesh
-        else:
-            verts, faces = triangulate(solid, lin, ang)
+        verts, faces = _stl_mesh(d, flat, solid, res.mesh, fn, STL_QUALITY[quality], check_mesh)
         tight, winding, vol, _ = mesh_stats(verts, faces)
         if not (tight and winding):
             from ductgen.errors import GeometryError
@@ -204,16 +197,7 @@ def build_solids(
         stl_name = f"{prefix}-{kind}.stl"
         write_atomic(Path(staging) / stl_name, stl_bytes(verts, faces, f"{prefix}-{kind}"))
         times["stl_s"] = time.perf_counter() - t0
-        wetted = None
-        if kind == "cutter":
-            flat_mesh = triangulate(flat, *CHECK_MESH) if curved else res.mesh
-            if flat_mesh is None:
-                from ductgen.errors import GeometryError
-
-                raise GeometryError("cutter check", "the check gave no triangulation")
-            wetted = wetted_area_mm2(
-                flat_mesh[0], flat_mesh[1], d.geometry, d.placement.solid_map if curved else None
-            )
+        wetted = _cutter_wetted_area(d, flat, res.mesh) if kind == "cutter" else None
         out[kind] = SolidResult(
             volume_mm3=res.volume_mm3,
             expected_volume_mm3=res.expected_volume_mm3,
@@ -228,6 +212,43 @@ def build_solids(
             wetted_area_mm2=wetted,
         )
     return out
+
+
+def _stl_mesh(
+    d: Design,
+    flat: Any,
+    solid: Any,
+    check: tuple[Any, Any] | None,
+    fn: Any,
+    deflection: tuple[float, float],
+    check_mesh: tuple[float, float],
+) -> tuple[Any, Any]:
+    """The STL's triangulation (vertices mm, faces) at ``deflection`` (mm, rad): on a curved
+    skin the design mesh refined for the curvature and mapped (see :func:`mapped_mesh`);
+    else the check's own mesh when it was made at the same deflection, or a new one."""
+    from ductgen.solids.mesh import triangulate
+
+    lin, ang = deflection
+    if d.placement.curvature != 0.0:
+        return mapped_mesh(flat, fn, lin, ang, d.placement.curvature)
+    if (lin, ang) == check_mesh and check is not None:
+        return check
+    return triangulate(solid, lin, ang)
+
+
+def _cutter_wetted_area(d: Design, flat: Any, check: tuple[Any, Any] | None) -> float:
+    """The cutter's wetted area (mm², :func:`wetted_area_mm2`) from its design-coordinate
+    triangulation (the check's on a flat skin, mapped on a curved one)."""
+    from ductgen.solids.check import CHECK_MESH
+    from ductgen.solids.mesh import triangulate
+
+    curved = d.placement.curvature != 0.0
+    mesh = triangulate(flat, *CHECK_MESH) if curved else check
+    if mesh is None:
+        from ductgen.errors import GeometryError
+
+        raise GeometryError("cutter check", "the check gave no triangulation")
+    return wetted_area_mm2(mesh[0], mesh[1], d.geometry, d.placement.solid_map if curved else None)
 
 
 def cutter_mesh_job(d: Design) -> Mesh:

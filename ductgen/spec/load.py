@@ -11,8 +11,9 @@ import difflib
 import hashlib
 import json
 import sys
+import typing
 from pathlib import Path
-from typing import Any
+from typing import Any, Literal
 
 from pydantic import BaseModel, ValidationError
 
@@ -32,6 +33,7 @@ __all__ = [
     "parse_spec",
     "read_spec_data",
     "spec_sha256",
+    "union_tags",
 ]
 
 _SUFFIXES = {".toml": "toml", ".yaml": "yaml", ".yml": "yaml", ".json": "json"}
@@ -280,8 +282,31 @@ _ALLOWED = {
 }
 
 
-#: Union tags pydantic puts in an error's location (outlet kinds, loss kinds, skin shapes).
-_TAGS = ("round", "rect", "none", "hose", "bend", "cooler", "diffuser", *SKIN_SHAPES)
+def union_tags(root: Any = Spec) -> frozenset[str]:
+    """Every tag of the spec's tagged unions (outlet kinds, loss kinds, skin shapes), read
+    off the models: a member's ``kind`` or ``shape`` key typed as one literal. Pydantic puts
+    the tag in an error's location; error keys leave it out."""
+    tags: set[str] = set()
+    seen: set[Any] = set()
+
+    def visit(tp: Any) -> None:
+        for arg in typing.get_args(tp):
+            visit(arg)
+        if not (isinstance(tp, type) and issubclass(tp, BaseModel)) or tp in seen:
+            return
+        seen.add(tp)
+        for name, f in tp.model_fields.items():
+            literal = typing.get_args(f.annotation)
+            if name in ("kind", "shape") and typing.get_origin(f.annotation) is Literal:
+                tags.update(str(t) for t in literal if len(literal) == 1)
+            visit(f.annotation)
+
+    visit(root)
+    return frozenset(tags)
+
+
+#: Union tags pydantic puts in an error's location.
+_TAGS = union_tags()
 
 _LIMITS = ("greater_than", "greater_than_equal", "less_than", "less_than_equal")
 

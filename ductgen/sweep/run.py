@@ -28,7 +28,13 @@ from typing import Any
 
 from ductgen.errors import SpecError
 from ductgen.sweep.results import SweepResult, VariantResult, VariantTask
-from ductgen.sweep.variants import STAMP_FILE, content_hash, make_variants, read_stamp
+from ductgen.sweep.variants import (
+    STAMP_FILE,
+    Variant,
+    content_hash,
+    make_variants,
+    read_stamp,
+)
 from ductgen.sweep.vary import Vary
 
 __all__ = [
@@ -199,6 +205,36 @@ def _run_all(
         done(fut.result())
 
 
+def _tasks(
+    variants: list[Variant],
+    out: Path,
+    kinds: list[str],
+    quality: str,
+    cfd: str | None,
+    cache: bool,
+) -> list[VariantTask]:
+    """One build task per variant, each into ``out/ID`` with the hash its cached folder is
+    recognised by."""
+    from ductgen.pipeline.builder import package_version
+
+    version = package_version()
+    return [
+        VariantTask(
+            v.id,
+            v.spec,
+            str(out / v.id),
+            tuple(kinds),
+            quality,
+            content_hash(v.spec, [*kinds, f"cfd-{cfd}"] if cfd else kinds, quality, version),
+            v.raw,
+            v.design,
+            cfd,
+            cache,
+        )
+        for v in variants
+    ]
+
+
 def run_sweep(
     spec_path: str | Path,
     varies: list[Vary],
@@ -237,7 +273,6 @@ def run_sweep(
             unknown ``--only`` kind, ``--baseline`` or ``--quality``, or an unreachable
             scheduler.
     """
-    from ductgen.pipeline.builder import package_version as _version
     from ductgen.pipeline.options import BuildOptions
     from ductgen.sweep.compare import compare_all, comparison_rows
     from ductgen.sweep.html import write_outputs
@@ -266,22 +301,7 @@ def run_sweep(
             "the solids are compared against it",
         )
     out = Path(out_dir).resolve()
-    version = _version()
-    tasks = [
-        VariantTask(
-            v.id,
-            v.spec,
-            str(out / v.id),
-            tuple(kinds),
-            quality,
-            content_hash(v.spec, [*kinds, f"cfd-{cfd}"] if cfd else kinds, quality, version),
-            v.raw,
-            v.design,
-            cfd,
-            cache,
-        )
-        for v in variants
-    ]
+    tasks = _tasks(variants, out, kinds, quality, cfd, cache)
     results: dict[str, VariantResult] = {}
     for t in tasks:
         hit = _cached(t)
