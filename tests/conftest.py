@@ -62,6 +62,29 @@ def _solid_cache(tmp_path_factory: pytest.TempPathFactory, monkeypatch: pytest.M
     monkeypatch.delenv("DUCTGEN_CACHE_MB", raising=False)
 
 
+@pytest.fixture(autouse=True)
+def _kernel_jobs_only_in_slow_tests(
+    request: pytest.FixtureRequest, monkeypatch: pytest.MonkeyPatch
+) -> Iterator[None]:
+    """A test that runs a ductgen job in the kernel worker (a solid, a panel, a preview
+    picture) is marked ``slow``: ``-m "not slow"`` then really skips every kernel build.
+    (Builds in a child ``ductgen`` process are not seen here.)"""
+    from ductgen.worker import KernelWorker
+
+    used: list[str] = []
+    real = KernelWorker._run
+
+    def spy(self: KernelWorker, target: str, *rest: object) -> object:
+        if target.startswith("ductgen."):
+            used.append(target)
+        return real(self, target, *rest)
+
+    monkeypatch.setattr(KernelWorker, "_run", spy)
+    yield
+    if used and request.node.get_closest_marker("slow") is None:
+        pytest.fail(f"ran kernel jobs {sorted(set(used))} but is not marked slow")
+
+
 def naca_ordinates() -> list[tuple[float, float]]:
     """The standard wall table (x/L, 2y/W) from ``tests/data/naca_ordinates.json``, the one
     test copy of it (source: NACA ACR 5I20, recalled from memory; see the file)."""
