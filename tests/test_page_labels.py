@@ -147,10 +147,10 @@ def test_the_plan_of_a_doubly_curved_skin_is_the_developed_template() -> None:
 def test_a_densified_polyline_keeps_its_points_and_short_segments() -> None:
     import numpy as np
 
-    from ductgen.page.draw import _dense
+    from ductgen.page.draw import densified
 
     pts = np.array([[0.0, 0.0], [10.0, 0.0], [10.0, 2.5], [0.0, 30.0]])
-    out = _dense(pts, 3.0)
+    out = densified(pts, 3.0)
     assert np.linalg.norm(np.diff(out, axis=0), axis=1).max() <= 3.0 + 1e-12
     for p in pts:  # every corner is still there, in order
         assert np.min(np.linalg.norm(out - p, axis=1)) < 1e-12

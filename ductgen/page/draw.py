@@ -25,7 +25,7 @@ import numpy as np
 
 from ductgen.design import Design
 
-__all__ = ["SKIN_CAPTIONS", "plan_svg", "section_svg", "skin_caption"]
+__all__ = ["SKIN_CAPTIONS", "densified", "plan_svg", "section_svg", "skin_caption"]
 
 XZ = Callable[[np.ndarray], np.ndarray]
 
@@ -184,7 +184,7 @@ def plan_svg(d: Design) -> str:
     )
 
 
-def _dense(pts: list[tuple[float, float]] | np.ndarray, step: float) -> np.ndarray:
+def densified(pts: list[tuple[float, float]] | np.ndarray, step: float) -> np.ndarray:
     """A polyline with extra points so no segment is longer than ``step`` (mm)."""
     p = np.asarray(pts, dtype=float)
     d = np.diff(p, axis=0)
@@ -249,8 +249,8 @@ def section_svg(d: Design, samples: int = 160) -> str:
     skins = {"a": skin_a, "b": skin_b, "top": top}
     if maps is not None:
         step = span / 60.0
-        shapes = {k: maps[0](_dense(v, step)) for k, v in shapes.items()}  # type: ignore[misc]
-        skins = {k: maps[1](_dense(v, step)) for k, v in skins.items()}  # type: ignore[misc]
+        shapes = {k: maps[0](densified(v, step)) for k, v in shapes.items()}  # type: ignore[misc]
+        skins = {k: maps[1](densified(v, step)) for k, v in skins.items()}  # type: ignore[misc]
     pts = {k: _pts(np.array(v)) for k, v in (shapes | skins).items()}
     parts = [
         f'<polygon id="section-air" points="{pts["air"]}" fill="{_AIR}"/>',
