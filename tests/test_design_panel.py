@@ -72,6 +72,7 @@ def _probe_points(d, n: int = 600) -> np.ndarray:  # type: ignore[no-untyped-def
 # --- analytic patches moved anywhere give the analytic skin moved -----------------------
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize(
     ("name", "analytic", "make"),
     [
@@ -258,6 +259,7 @@ def test_bonnet_opening_floor_and_cut_panel(bonnet, tmp_path) -> None:  # type: 
     assert skin["smallest_radius_mm"] < 1.0 / abs(hxx)
 
 
+@pytest.mark.slow
 def test_a_noisy_scan_places_as_the_cad_file(bonnet, tmp_path) -> None:  # type: ignore[no-untyped-def]
     import trimesh
 
@@ -312,6 +314,7 @@ def panels(tmp_path_factory) -> dict[str, Path]:  # type: ignore[no-untyped-def]
     return out
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize(
     ("panel", "skin", "key", "words"),
     [
