@@ -105,6 +105,7 @@ def test_an_s_shaped_panel_is_cut_with_its_opening_or_refused(tmp_path, reverse)
         assert _state(body, p) == "in" and _state(cut, p) == "out", p
 
 
+@pytest.mark.slow
 def test_a_reversed_open_bonnet_asks_for_skin_outward(tmp_path) -> None:  # type: ignore[no-untyped-def]
     from ductgen.design import build_design
 

@@ -24,6 +24,7 @@ GEOMETRY_KEYS = [
 ]
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("name", sample_ids())
 def test_sample_builds_every_output(sample_builds: dict, name: str) -> None:
     _, folder = sample_builds[name]
@@ -37,6 +38,7 @@ def test_sample_builds_every_output(sample_builds: dict, name: str) -> None:
     assert not [p for p in folder.iterdir() if p.name.startswith(".")], "staging left behind"
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("name", sample_ids())
 def test_sample_cutter_volume_agrees_with_geometry(sample_builds: dict, name: str) -> None:
     import trimesh
