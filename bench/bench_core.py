@@ -25,12 +25,13 @@ def main() -> None:
     t0 = time.perf_counter()
     from ductgen.design import build_design
     from ductgen.pipeline import build
+    from ductgen.solids.jobs import warm_up
     from ductgen.spec import load_spec
     from ductgen.worker import default_worker
 
     t_import = time.perf_counter() - t0
     t0 = time.perf_counter()
-    default_worker().run("ductgen.solids.jobs:warm_up")  # starts the child, imports the kernel
+    default_worker().run(warm_up)  # starts the child, imports the kernel
     t_kernel = time.perf_counter() - t0
     print(
         f"import ductgen: {t_import:.2f} s; kernel worker start + import cadquery: {t_kernel:.2f} s"

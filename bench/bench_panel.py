@@ -34,6 +34,7 @@ def main() -> None:
     from ductgen.design import build_design
     from ductgen.design import panel as panel_design
     from ductgen.pipeline import build
+    from ductgen.solids.jobs import warm_up
     from ductgen.solids.mesh import triangulate
     from ductgen.spec import parse_spec
     from ductgen.worker import default_worker
@@ -56,7 +57,7 @@ def main() -> None:
         "lip": {"thickness": 4.5},
         "outlet": {"kind": "round", "diameter": 50, "transition_length": 110},
     }
-    default_worker().run("ductgen.solids.jobs:warm_up")
+    default_worker().run(warm_up)
     print(f"scan: {len(mesh.faces):,} triangles, {scan.stat().st_size / 1e6:.1f} MB")
     print("first run reads the file; later runs reuse the worker's parsed copy")
     print(f"{'panel':<12} {'design s (first / best)':>24} {'+ cutter build s (best)':>24}")

@@ -24,10 +24,11 @@ def main() -> None:
     args = ap.parse_args()
 
     from ductgen.pipeline import build
+    from ductgen.solids.jobs import warm_up
     from ductgen.spec import load_spec
     from ductgen.worker import default_worker
 
-    default_worker().run("ductgen.solids.jobs:warm_up")
+    default_worker().run(warm_up)
     curved = load_spec(ROOT / "samples" / f"{args.sample}.toml")
     flat_skin = curved.skin.model_copy(
         update={"shape": "flat", "radius": None, "axis": None, "side": "convex"}

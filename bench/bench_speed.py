@@ -53,6 +53,7 @@ _FULL = r"""
 import json, os, sys, time
 from pathlib import Path
 import ductgen.worker as w
+from ductgen.solids.jobs import warm_up
 from ductgen.pipeline import build
 from ductgen.spec import load_spec
 import ductgen.export.template, ductgen.sheets.sheet, ductgen.sheets.preview  # noqa
@@ -93,7 +94,7 @@ def _start(self):
     self._conn = Pipe(self._conn)
 w.KernelWorker._start = _start
 if "--cold-worker" not in sys.argv:
-    worker.run("ductgen.solids.jobs:warm_up")
+    worker.run(warm_up)
 def cpu():
     return pcpu() + wcpu()
 spec = load_spec(sys.argv[1])

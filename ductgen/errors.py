@@ -68,7 +68,7 @@ class SpecError(DuctgenError):
         )
         super().__init__(self._format())
 
-    def __reduce__(self):  # type: ignore[no-untyped-def]  # survive pickling across processes
+    def __reduce__(self) -> tuple[Any, tuple[Any, ...]]:  # survive pickling across processes
         return (_rebuild_spec_error, ([vars(p) for p in self.problems], self.source))
 
     @classmethod
@@ -105,7 +105,7 @@ class GeometryError(DuctgenError):
         self.detail = message
         super().__init__(f"geometry failed at stage '{stage}': {message}")
 
-    def __reduce__(self):  # type: ignore[no-untyped-def]
+    def __reduce__(self) -> tuple[Any, tuple[Any, ...]]:
         return (GeometryError, (self.stage, self.detail))
 
 

@@ -28,6 +28,7 @@ import numpy as np
 from ductgen.errors import DesignWarning
 from ductgen.meshstats import mesh_stats
 from ductgen.resources import materials_path
+from ductgen.worker import KernelWorker
 
 __all__ = [
     "FDM_MIN_WALL_MM",
@@ -288,19 +289,21 @@ def plug_section(plug: Any, edge_radius_mm: float) -> tuple[dict[str, Any], list
 # --- `ductgen check`: the health decision for one user file --------------------------------
 
 
-def check_file(path: str | Path, min_wall: float = 0.0) -> dict[str, Any]:
+def check_file(
+    path: str | Path, min_wall: float = 0.0, worker: KernelWorker | None = None
+) -> dict[str, Any]:
     """Health report of one STL or STEP file (mm): ``healthy`` means closed, consistently
     wound, positive volume and (when ``min_wall`` > 0 mm) no wall thinner than ``min_wall``.
 
     STL is read with numpy (:func:`ductgen.solids.read.read_stl`); STEP in the kernel
-    worker (memory cap, timeout).
+    worker ``worker`` (default: the process-wide one; memory cap, timeout).
 
     Raises:
         SpecError: on ``FILE`` when the file is missing, a folder, empty, truncated, garbage
             or holds NaN vertices; on ``--min-wall`` when it is negative or not finite.
     """
     from ductgen.errors import SpecError
-    from ductgen.solids.read import check_readable, read_stl
+    from ductgen.solids.read import check_readable, read_stl, step_mesh
 
     if not (math.isfinite(min_wall) and min_wall >= 0):
         raise SpecError(
@@ -314,7 +317,7 @@ def check_file(path: str | Path, min_wall: float = 0.0) -> dict[str, Any]:
     elif suffix in (".step", ".stp"):
         from ductgen.worker import default_worker
 
-        verts, faces = default_worker().run("ductgen.solids.read:step_mesh", str(p))
+        verts, faces = (worker or default_worker()).run(step_mesh, str(p))
     else:
         raise SpecError("FILE", str(p), "a .stl, .step or .stp file", "unknown file type")
     health = mesh_health(verts, faces)

@@ -10,26 +10,110 @@ built), ``warnings`` and ``files``.
 from __future__ import annotations
 
 import json
+from dataclasses import dataclass, field
 from typing import Any
 
 from ductgen.design import Design
 from ductgen.errors import DesignWarning
 from ductgen.flow.stall import steepest_wall_report
 from ductgen.geometry.inlet import InletGeometry
+from ductgen.solids.results import InsertPiece, Mesh, SolidResult
 from ductgen.spec.model import Spec
 
 __all__ = [
-    "add_insert_pieces",
-    "add_panel_cut",
-    "finish_report",
+    "BuildRecord",
+    "InsertSplit",
+    "flow_report",
     "geometry_section",
-    "insert_split_plan",
     "report_bytes",
-    "start_report",
+    "start_record",
 ]
 
 
-def geometry_section(g: InletGeometry, solids: dict[str, dict[str, Any]]) -> dict[str, Any]:
+@dataclass(frozen=True)
+class InsertSplit:
+    """Where the insert must be split to fit the printer's bed: stations along the flow
+    (x, mm) and the axis it stands on (``"+z"``, ``"-x"``...)."""
+
+    stations_x_mm: tuple[float, ...]
+    up: str
+
+
+@dataclass
+class BuildRecord:
+    """Everything a build computed, typed where later stages read it; ``report.json`` is
+    :meth:`to_report` of this, serialised once at the end of the build.
+
+    Attributes:
+        name, spec_sha256, ductgen_version: the header.
+        geometry: the ``geometry`` section without its ``skin`` (mm, deg, mm², mm³).
+        skin: ``geometry.skin``: the skin, the datum, the outlet's point and axis (mm).
+        template: ``template``: how the template is developed.
+        flow: the ``flow`` section (SI), None without ``[flow]``.
+        parts: the ``print`` section's mesh checks of the insert and the plug's layup
+            facts, None when neither was built.
+        bed: ``print.bed`` (without the insert's pieces), None when no part was meshed.
+        insert_up: the axis the insert stands on to print (None: no insert mesh).
+        split: where the insert is split to fit the bed, None when it fits (or no station
+            set fits).
+        warnings: every warning so far (output encoders add theirs).
+        panel_cut: ``geometry.skin.panel``, the cut panel's volumes (mm³), when made.
+        pieces: the split insert's pieces, when split.
+        files: output kind → file name.
+        jig: ``jig``: the conformal marking jig's facts (mm), when made.
+        not_made: ``not_made``: output kind → why it was not made for this spec.
+    """
+
+    name: str
+    spec_sha256: str
+    ductgen_version: str
+    geometry: dict[str, Any]
+    skin: dict[str, Any]
+    template: dict[str, Any]
+    flow: dict[str, Any] | None
+    parts: dict[str, Any] | None
+    bed: dict[str, Any] | None
+    insert_up: str | None
+    split: InsertSplit | None
+    warnings: list[DesignWarning]
+    panel_cut: dict[str, Any] | None = None
+    pieces: list[InsertPiece] = field(default_factory=list)
+    files: dict[str, str] = field(default_factory=dict)
+    jig: dict[str, Any] | None = None
+    not_made: dict[str, str] = field(default_factory=dict)
+
+    def to_report(self) -> dict[str, Any]:
+        """The ``report.json`` document (sections in their written order)."""
+        skin = dict(self.skin)
+        if self.panel_cut is not None:
+            skin["panel"] = self.panel_cut
+        report: dict[str, Any] = {
+            "name": self.name,
+            "spec_sha256": self.spec_sha256,
+            "ductgen_version": self.ductgen_version,
+            "geometry": {**self.geometry, "skin": skin},
+            "template": self.template,
+        }
+        if self.flow is not None:
+            report["flow"] = self.flow
+        section = None if self.parts is None else dict(self.parts)
+        if self.bed is not None:
+            bed = dict(self.bed)
+            if self.pieces:
+                bed["insert"] = {**bed["insert"], "pieces": [p.as_dict() for p in self.pieces]}
+            section = {**(section or {}), "bed": bed}
+        if section is not None:
+            report["print"] = section
+        if self.jig is not None:
+            report["jig"] = self.jig
+        if self.not_made:
+            report["not_made"] = dict(self.not_made)
+        report["warnings"] = [w.to_dict() for w in self.warnings]
+        report["files"] = dict(self.files)
+        return report
+
+
+def geometry_section(g: InletGeometry, solids: dict[str, SolidResult]) -> dict[str, Any]:
     """The ``geometry`` section from the pure geometry and the measured solids."""
     pf, fl = g.planform, g.floor
     geo: dict[str, Any] = {
@@ -63,14 +147,14 @@ def geometry_section(g: InletGeometry, solids: dict[str, dict[str, Any]]) -> dic
             "outlet_centre_z_mm": t.outlet_centre_z_mm,
         }
     for kind, m in solids.items():
-        geo[f"{kind}_volume_mm3"] = m["volume_mm3"]
-        if "wetted_area_mm2" in m:
-            geo["wetted_area_mm2"] = m["wetted_area_mm2"]
+        geo[f"{kind}_volume_mm3"] = m.volume_mm3
+        if m.wetted_area_mm2 is not None:
+            geo["wetted_area_mm2"] = m.wetted_area_mm2
     geo["offsets"] = g.offsets()
     return geo
 
 
-def _print_mesh(d: Design, mesh: tuple[Any, Any]) -> tuple[Any, Any]:
+def _print_mesh(d: Design, mesh: Mesh) -> tuple[Any, Any]:
     """A part's mesh in the frame its print orientation is judged in: model coordinates,
     except on the user's panel (arbitrary pose), where it is the datum's frame (x along the
     flow, z out of the panel), as on the analytic skins."""
@@ -80,7 +164,7 @@ def _print_mesh(d: Design, mesh: tuple[Any, Any]) -> tuple[Any, Any]:
 
 
 def _print_section(
-    spec: Spec, d: Design, solids: dict[str, dict[str, Any]]
+    spec: Spec, d: Design, solids: dict[str, SolidResult]
 ) -> tuple[dict[str, Any] | None, list[DesignWarning]]:
     """``print`` section from the insert mesh, and the plug's layup facts."""
     from ductgen.printability import plug_section, print_section
@@ -89,7 +173,7 @@ def _print_section(
     section: dict[str, Any] | None = None
     ins = spec.insert
     if "insert" in solids:
-        verts, faces = _print_mesh(d, solids["insert"]["mesh"])
+        verts, faces = _print_mesh(d, solids["insert"].mesh)
         section, warns = print_section(
             verts, faces, ins.material, ins.near_heat, ins.service_temperature
         )
@@ -102,28 +186,34 @@ def _print_section(
 
 
 def _bed_section(
-    spec: Spec, d: Design, solids: dict[str, dict[str, Any]]
-) -> tuple[dict[str, Any] | None, list[DesignWarning]]:
+    spec: Spec, d: Design, solids: dict[str, SolidResult]
+) -> tuple[dict[str, Any] | None, list[DesignWarning], str | None, InsertSplit | None]:
     """``print.bed``: does each printed part fit ``[print] bed`` in its suggested
     orientation; where the insert does not, the stations of a keyed split across the flow
-    (estimate from the mesh; the pieces themselves: :func:`ductgen.solids.split.split_for_bed`)."""
+    (estimate from the mesh; the pieces themselves: :func:`ductgen.solids.split.split_for_bed`).
+    Also the axis the insert stands on and its split (None when it fits)."""
     from ductgen.printability import overhang_by_orientation
     from ductgen.solids.split import bed_fit, estimate_stations
 
     warnings: list[DesignWarning] = []
-    bed = tuple(spec.print.bed)
-    section: dict = {"bed_mm": list(bed)}
+    bed = spec.print.bed
+    section: dict[str, Any] = {"bed_mm": list(bed)}
+    insert_up: str | None = None
+    split: InsertSplit | None = None
     for kind in ("insert", "plug"):
-        if "mesh" not in solids.get(kind, {}):
+        if kind not in solids:
             continue
-        verts, faces = _print_mesh(d, solids[kind]["mesh"])
+        verts, faces = _print_mesh(d, solids[kind].mesh)
         over = overhang_by_orientation(verts, faces)
         up = min(over, key=over.__getitem__)
         fit = bed_fit(verts, bed, up)
         entry = fit.as_dict()
+        if kind == "insert":
+            insert_up = up
         if kind == "insert" and not fit.fits:
             xs = estimate_stations(verts, bed, up)
             entry["split_stations_x_mm"] = xs
+            split = InsertSplit(tuple(xs), up) if xs else None
             more = (
                 f"split it across the flow at x = {', '.join(f'{x:.1f}' for x in xs)} mm "
                 f"into {len(xs) + 1} keyed pieces"
@@ -147,7 +237,7 @@ def _bed_section(
                 )
             )
         section[kind] = entry
-    return (section if len(section) > 1 else None), warnings
+    return (section if len(section) > 1 else None), warnings, insert_up, split
 
 
 def _skin_section(d: Design) -> dict[str, Any]:
@@ -175,75 +265,44 @@ def flow_report(spec: Spec, d: Design) -> tuple[dict[str, Any], list[DesignWarni
     return section, warnings
 
 
-def start_report(
+def start_record(
     spec: Spec,
     d: Design,
-    solids: dict[str, dict[str, Any]],
+    solids: dict[str, SolidResult],
     spec_sha256: str,
     version: str,
-) -> tuple[dict[str, Any], list[DesignWarning]]:
-    """Every computed section of ``report.json`` and the warnings so far (the design's, the
-    flow model's, the printability check's); :func:`finish_report` adds files and warnings.
-    """
-    report: dict[str, Any] = {
-        "name": spec.name,
-        "spec_sha256": spec_sha256,
-        "ductgen_version": version,
-        "geometry": geometry_section(d.geometry, solids),
-    }
-    report["geometry"]["skin"] = _skin_section(d)
-    if "transition" in report["geometry"]:
-        report["geometry"]["transition"].update(steepest_wall_report(d.duct))
-    report["template"] = {
-        "development": "exact" if d.development.exact else "least-distortion (LSCM + ARAP)",
-        "max_length_distortion_pct": d.development.max_length_distortion_pct,
-    }
+) -> BuildRecord:
+    """Every computed section of the report and the warnings so far (the design's, the flow
+    model's, the printability check's); the build adds the panel cut, the insert's pieces,
+    the encoders' warnings and the files."""
+    geometry = geometry_section(d.geometry, solids)
+    if "transition" in geometry:
+        geometry["transition"].update(steepest_wall_report(d.duct))
     warnings = list(d.warnings)
+    flow = None
     if spec.flow is not None:
-        report["flow"], flow_warnings = flow_report(spec, d)
+        flow, flow_warnings = flow_report(spec, d)
         warnings += flow_warnings
-    section, print_warnings = _print_section(spec, d, solids)
-    bed, bed_warnings = _bed_section(spec, d, solids)
-    if bed is not None:
-        section = {**(section or {}), "bed": bed}
-    if section is not None:
-        report["print"] = section
+    parts, print_warnings = _print_section(spec, d, solids)
+    bed, bed_warnings, insert_up, split = _bed_section(spec, d, solids)
     warnings += print_warnings + bed_warnings
-    return report, warnings
-
-
-def insert_split_plan(report: dict[str, Any]) -> tuple[list[float], str] | None:
-    """(stations x in mm, the orientation it stands in) when the report says the insert
-    must be split to fit the printer's bed, else None."""
-    entry = report.get("print", {}).get("bed", {}).get("insert", {})
-    xs = entry.get("split_stations_x_mm")
-    return (list(xs), str(entry["orientation_up"])) if xs else None
-
-
-def add_insert_pieces(report: dict[str, Any], pieces: list[dict[str, Any]]) -> None:
-    """Record the split insert's pieces (files, volume, size, fit) under
-    ``print.bed.insert.pieces``."""
-    report["print"]["bed"]["insert"]["pieces"] = pieces
-
-
-def add_jig(report: dict[str, Any], facts: dict[str, Any]) -> None:
-    """Record the conformal jig (mm: width, clearance, its measured fit on the skin and
-    against the opening's cut line, its files and pieces) under ``jig``."""
-    report["jig"] = facts
-
-
-def add_panel_cut(report: dict[str, Any], cut: dict[str, Any]) -> None:
-    """Record ``NAME-panel.step``'s volumes (mm³) and source under ``geometry.skin.panel``."""
-    report["geometry"]["skin"]["panel"] = cut
-
-
-def finish_report(
-    report: dict[str, Any], warnings: list[DesignWarning], files: dict[str, str]
-) -> dict[str, Any]:
-    """Add the ``warnings`` and ``files`` sections (kind → file name)."""
-    report["warnings"] = [w.to_dict() for w in warnings]
-    report["files"] = files
-    return report
+    return BuildRecord(
+        name=spec.name,
+        spec_sha256=spec_sha256,
+        ductgen_version=version,
+        geometry=geometry,
+        skin=_skin_section(d),
+        template={
+            "development": "exact" if d.development.exact else "least-distortion (LSCM + ARAP)",
+            "max_length_distortion_pct": d.development.max_length_distortion_pct,
+        },
+        flow=flow,
+        parts=parts,
+        bed=bed,
+        insert_up=insert_up,
+        split=split,
+        warnings=warnings,
+    )
 
 
 def report_bytes(report: dict[str, Any]) -> bytes:

@@ -42,6 +42,7 @@ __all__ = [
     "size_result_dict",
     "size_throat",
     "sized_spec_data",
+    "spec_with_throat",
 ]
 
 _D_MIN_MM = 0.5
@@ -65,7 +66,9 @@ class SizeResult:
     max_ivr: float = 1.0
 
 
-def _with_throat(base: Spec, depth_mm: float, aspect: float, angle_deg: float) -> Spec:
+def spec_with_throat(base: Spec, depth_mm: float, aspect: float, angle_deg: float) -> Spec:
+    """``base`` with a throat ``depth_mm`` deep (mm), ``aspect`` times as wide, and a ramp at
+    ``angle_deg`` (deg) whose length follows from the floor drop."""
     # values are already in internal units and in range: copy without re-validating (fast)
     throat = base.throat.model_copy(update={"width": aspect * depth_mm, "depth": depth_mm})
     ramp = base.ramp.model_copy(update={"angle_deg": angle_deg, "length": None})
@@ -159,7 +162,7 @@ def size_throat(
     profile = load_profile(spec0.planform.profile)
 
     def q_of(d: float) -> float:
-        return delivered_flow(_with_throat(spec0, float(d), aspect, angle_deg), profile)
+        return delivered_flow(spec_with_throat(spec0, float(d), aspect, angle_deg), profile)
 
     qs = [q_of(d) for d in grid]
     hit = next((i for i, q in enumerate(qs) if q >= flow_m3_s), None)

@@ -9,8 +9,11 @@ wall-clock time, and a job that crashes, runs out of memory or overruns becomes 
 :class:`~ductgen.errors.GeometryError` naming the stage. The child stays alive between
 jobs (importing the kernel costs ~2 s) and is restarted after a failure.
 
-Jobs are named by ``"module:function"`` and called with picklable arguments; the function
-may call :func:`stage` to say what it is doing, so a timeout or crash can name the stage.
+A job is a module-level function passed by reference (``worker.run(build_solids, d, ...)``,
+so the caller imports it and the layer contracts see the dependency), called in the child
+with picklable arguments; the child imports it by its module and name. The jobs ductgen
+runs are listed in :data:`ductgen.solids.registry.KERNEL_JOBS`. A job may call
+:func:`stage` to say what it is doing, so a timeout or crash can name the stage.
 """
 
 from __future__ import annotations
@@ -24,12 +27,13 @@ import subprocess
 import sys
 import threading
 import traceback
-from dataclasses import dataclass
+from collections.abc import Callable
 from importlib import import_module
 from multiprocessing.connection import Connection
-from typing import Any
+from typing import Any, ParamSpec, TypeVar
 
 from ductgen.errors import DuctgenError, GeometryError
+from ductgen.worker_limits import MEMORY_MB_RANGE, TIMEOUT_S_RANGE, WorkerLimits, env_limit
 
 __all__ = [
     "MEMORY_MB_RANGE",
@@ -39,88 +43,30 @@ __all__ = [
     "default_worker",
     "die_with_parent",
     "env_limit",
+    "job_target",
     "stage",
 ]
+
+P = ParamSpec("P")
+R = TypeVar("R")
 
 _stage_conn: Any = None
 
 
-@dataclass(frozen=True)
-class WorkerLimits:
-    """Limits of one kernel process.
-
-    Attributes:
-        memory_mb: address-space cap of the child (MiB); ``DUCTGEN_MEMORY_MB`` overrides.
-        timeout_s: CPU-time limit of one job (s of the child's CPU); ``DUCTGEN_TIMEOUT_S``
-            overrides. Wall-clock backstop: :data:`WALL_FACTOR` times this.
-    """
-
-    memory_mb: int = 8192
-    timeout_s: float = 300.0
-
-    @classmethod
-    def from_env(cls) -> WorkerLimits:
-        """The limits, with ``DUCTGEN_MEMORY_MB`` and ``DUCTGEN_TIMEOUT_S`` when set.
-
-        Raises:
-            SpecError: naming the variable, on a value that is not a number in its range.
-        """
-        return cls(
-            memory_mb=int(env_limit(*MEMORY_MB_RANGE, default=cls.memory_mb, whole=True)),
-            timeout_s=env_limit(*TIMEOUT_S_RANGE, default=cls.timeout_s),
-        )
-
-
-#: (variable, smallest, largest, unit, why) of the address-space cap. Measured on a full
-#: build of a small spec: at 1 GiB the CAD kernel does not even load, at 2 GiB the preview
-#: renderer runs out; 3 GiB builds everything.
-MEMORY_MB_RANGE = (
-    "DUCTGEN_MEMORY_MB",
-    3072.0,
-    1048576.0,
-    "MiB",
-    "the kernel process's memory cap; the CAD kernel and the preview renderer need about "
-    "3 GiB of address space to load and run",
-)
-#: (variable, smallest, largest, unit, why) of the per-job time limit.
-TIMEOUT_S_RANGE = (
-    "DUCTGEN_TIMEOUT_S",
-    0.1,
-    86400.0,
-    "s",
-    "the longest one kernel job may run before it is stopped (at most a day)",
-)
-
-
-def env_limit(
-    name: str, lo: float, hi: float, unit: str, why: str, *, default: float, whole: bool = False
-) -> float:
-    """The number in environment variable ``name`` (``default`` when unset or empty), checked
-    to be finite (and whole with ``whole``) and within ``lo``..``hi``.
+def job_target(job: Callable[..., Any]) -> str:
+    """``"module:function"`` of a module-level function (what the child imports and calls).
 
     Raises:
-        SpecError: naming the variable, its range and why (exit 2).
+        TypeError: ``job`` is a lambda, a nested function or a bound method, which the
+            child could not import by name.
     """
-    import math
-
-    from ductgen.errors import SpecError
-
-    text = os.environ.get(name, "").strip()
-    if not text:
-        return default
-    allowed = f"{'a whole number' if whole else 'a number'} from {lo:,.10g} to {hi:,.10g} {unit}"
-    try:
-        value = float(text)
-    except ValueError:
-        raise SpecError(name, text, allowed, f"not a number: {why}") from None
-    if not math.isfinite(value) or (whole and not value.is_integer()):
-        raise SpecError(name, text, allowed, why)
-    if value < lo:
-        reason = "too little memory" if unit == "MiB" else "too short"
-        raise SpecError(name, text, allowed, f"{reason}: {why}")
-    if value > hi:
-        raise SpecError(name, text, allowed, why)
-    return value
+    module = getattr(job, "__module__", None)
+    name = getattr(job, "__qualname__", "")
+    if not module or not name or "." in name or "<" in name:
+        raise TypeError(f"a kernel job must be a module-level function, not {job!r}")
+    if getattr(import_module(module), name, None) is not job:
+        raise TypeError(f"{module}.{name} does not name the job {job!r}")
+    return f"{module}:{name}"
 
 
 def stage(name: str) -> None:
@@ -284,11 +230,20 @@ class KernelWorker:
         self._proc = None
         self._conn = None
 
-    def run(self, target: str, *args: Any, timeout_s: float | None = None, **kwargs: Any) -> Any:
-        """Run ``module:function(*args, **kwargs)`` in the child and return its result (a
-        second thread waits for the first one's job)."""
+    def run(self, job: Callable[P, R], *args: P.args, **kwargs: P.kwargs) -> R:
+        """Run ``job(*args, **kwargs)`` in the child under the CPU-time limit and return its
+        result (a second thread waits for the first one's job)."""
         with self._lock:
-            return self._run(target, args, kwargs, timeout_s)
+            result: R = self._run(job_target(job), args, kwargs, None)
+            return result
+
+    def run_within(
+        self, timeout_s: float, job: Callable[P, R], *args: P.args, **kwargs: P.kwargs
+    ) -> R:
+        """:meth:`run` with its own CPU-time limit ``timeout_s`` (s) instead of the worker's."""
+        with self._lock:
+            result: R = self._run(job_target(job), args, kwargs, timeout_s)
+            return result
 
     def _run(
         self, target: str, args: tuple[Any, ...], kwargs: dict[str, Any], timeout_s: float | None

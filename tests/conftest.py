@@ -62,6 +62,44 @@ def _solid_cache(tmp_path_factory: pytest.TempPathFactory, monkeypatch: pytest.M
     monkeypatch.delenv("DUCTGEN_CACHE_MB", raising=False)
 
 
+#: ductgen kernel jobs the current test ran (setup included), with DUCTGEN_CHECK_SLOW=1.
+_KERNEL_JOBS_RUN: list[str] = []
+
+
+def pytest_configure(config: pytest.Config) -> None:
+    """With ``DUCTGEN_CHECK_SLOW=1``, note every ductgen job the kernel worker runs."""
+    if os.environ.get("DUCTGEN_CHECK_SLOW") != "1":
+        return
+    from ductgen.worker import KernelWorker
+
+    real = KernelWorker._run
+
+    def spy(self: KernelWorker, target: str, *rest: object) -> object:
+        if target.startswith("ductgen."):
+            _KERNEL_JOBS_RUN.append(target)
+        return real(self, target, *rest)
+
+    KernelWorker._run = spy  # type: ignore[method-assign]
+
+
+@pytest.hookimpl(tryfirst=True)
+def pytest_runtest_setup(item: pytest.Item) -> None:
+    _KERNEL_JOBS_RUN.clear()
+
+
+@pytest.hookimpl(wrapper=True)
+def pytest_runtest_call(item: pytest.Item) -> Iterator[None]:
+    """With ``DUCTGEN_CHECK_SLOW=1``: a test that ran a ductgen job in the kernel worker (a
+    solid, a panel, a preview picture; in its body or its fixtures' setup) and is not
+    marked ``slow`` fails, naming the jobs. ``DUCTGEN_CHECK_SLOW=1 pytest -m "not slow"``
+    lists the tests still to mark (builds in a child ``ductgen`` process are not seen).
+    Off by default until every kernel test is marked."""
+    result = yield
+    if _KERNEL_JOBS_RUN and item.get_closest_marker("slow") is None:
+        pytest.fail(f"ran kernel jobs {sorted(set(_KERNEL_JOBS_RUN))} but is not marked slow")
+    return result
+
+
 def naca_ordinates() -> list[tuple[float, float]]:
     """The standard wall table (x/L, 2y/W) from ``tests/data/naca_ordinates.json``, the one
     test copy of it (source: NACA ACR 5I20, recalled from memory; see the file)."""

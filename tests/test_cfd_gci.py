@@ -57,7 +57,7 @@ def test_oscillatory_and_degenerate() -> None:
 
 
 def test_study_states_gci_or_range() -> None:
-    from ductgen.cfd.run import STUDY_KEYS, _study
+    from ductgen.cfd.run import STUDY_KEYS, gci_study
 
     cells = (40_000, 130_000, 430_000)  # coarse, medium, fine
     hs = [(1.0 / n) ** (1.0 / 3.0) for n in cells]  # Celik's h = (V/N)^(1/3), V = 1 m³
@@ -70,7 +70,7 @@ def test_study_states_gci_or_range() -> None:
 
     # derived: phi = 0.7 + 40 h^2 exactly (order 2) with h from the cell counts: the GCI is
     # the stated uncertainty and the refinement ratios are the counts' cube roots
-    mono = _study(levels([0.7 + 40 * h * h for h in hs]))
+    mono = gci_study(levels([0.7 + 40 * h * h for h in hs]))
     g = mono["volume_flow_m3_s"]
     assert g["uncertainty_basis"].startswith("GCI")
     assert g["uncertainty_rel"] == g["gci_fine"] and g["extrapolated"] == pytest.approx(0.7)
@@ -81,6 +81,6 @@ def test_study_states_gci_or_range() -> None:
     assert g["r21"] == pytest.approx(r["r21"]) and g["order"] == pytest.approx(2.0)
     # oscillating values (coarse 91.3, medium 90.2, fine 92.0 as measured on a sample):
     # the range of the three meshes relative to the fine value, (92.0 - 90.2) / 92.0
-    osc = _study(levels([91.3, 90.2, 92.0]))["volume_flow_m3_s"]
+    osc = gci_study(levels([91.3, 90.2, 92.0]))["volume_flow_m3_s"]
     assert osc["uncertainty_basis"] == "range of three meshes"
     assert osc["uncertainty_rel"] == pytest.approx(1.8 / 92.0)

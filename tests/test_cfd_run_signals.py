@@ -18,8 +18,8 @@ import pytest
 
 from tests.conftest import SAMPLES
 from tests.test_cfd_case import require_openfoam
-from tests.test_hardening_signals import WAIT_S, _cmdline, _gone, _marked, _until
-from tests.test_hardening_signals import run as run  # the fixture
+from tests.test_cli_signals import WAIT_S, _cmdline, _gone, _marked, _until
+from tests.test_cli_signals import run as run  # the fixture
 
 #: OpenFOAM programs (and the MPI launcher) that must not outlive an interrupted run.
 TOOLS = ("simpleFoam", "snappyHexMesh", "blockMesh", "mpirun", "orted", "topoSet")

@@ -28,6 +28,7 @@ def _spec(tmp_path: Path, text: str, name: str = "s.toml") -> Path:
     return p
 
 
+@pytest.mark.slow
 def test_build_writes_cutter_and_report(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
     spec = _spec(tmp_path, GOOD)
     out = tmp_path / "out"
@@ -117,6 +118,7 @@ def test_kernel_timeout_is_a_geometry_error_naming_the_stage(tmp_path: Path) -> 
     assert not out.exists() or not any(out.iterdir())
 
 
+@pytest.mark.slow
 def test_kernel_out_of_memory_is_a_geometry_error(tmp_path: Path) -> None:
     """A kernel process capped below what it needs (300 MiB: less than DUCTGEN_MEMORY_MB
     accepts, so the cap is given to the worker directly) fails as a GeometryError naming the

@@ -10,7 +10,7 @@ from ductgen.design import build_design
 from ductgen.errors import DesignWarning
 from ductgen.flow.operating_point import solve
 from ductgen.flow.report import build_system, flow_section
-from ductgen.report import start_report
+from ductgen.report import start_record
 from ductgen.spec import parse_spec
 
 
@@ -168,7 +168,8 @@ class _Report:
     """The report sections and warnings a build without solids writes."""
 
     def __init__(self, spec: Any) -> None:
-        self.report, self.warnings = start_report(spec, build_design(spec), {}, "0" * 64, "t")
+        record = start_record(spec, build_design(spec), {}, "0" * 64, "t")
+        self.report, self.warnings = record.to_report(), record.warnings
 
 
 def _run_hooks(spec: Any) -> _Report:

@@ -179,7 +179,7 @@ def test_jig_on_a_doubly_curved_bspline_panel(tmp_path) -> None:  # type: ignore
 
     from ductgen.pipeline import build
     from tests.panels import bonnet_face, bonnet_height
-    from tests.test_skin_panel import _panel_skin, _spec
+    from tests.test_design_panel import _panel_skin, _spec
 
     face = bonnet_face()
     path = tmp_path / "bonnet.step"

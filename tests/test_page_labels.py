@@ -130,7 +130,7 @@ def test_the_plan_of_a_doubly_curved_skin_is_the_developed_template() -> None:
     from ductgen.design import build_design
     from ductgen.page.draw import plan_svg, skin_caption
     from ductgen.spec import parse_spec
-    from tests.test_skin_curved import BASE
+    from tests.test_design_skin import BASE
 
     skin = {"shape": "doubly", "radius_streamwise": 700, "radius_spanwise": 300}
     d = build_design(parse_spec({**BASE, "skin": skin}))
@@ -148,10 +148,10 @@ def test_the_plan_of_a_doubly_curved_skin_is_the_developed_template() -> None:
 def test_a_densified_polyline_keeps_its_points_and_short_segments() -> None:
     import numpy as np
 
-    from ductgen.page.draw import _dense
+    from ductgen.page.draw import densified
 
     pts = np.array([[0.0, 0.0], [10.0, 0.0], [10.0, 2.5], [0.0, 30.0]])
-    out = _dense(pts, 3.0)
+    out = densified(pts, 3.0)
     assert np.linalg.norm(np.diff(out, axis=0), axis=1).max() <= 3.0 + 1e-12
     for p in pts:  # every corner is still there, in order
         assert np.min(np.linalg.norm(out - p, axis=1)) < 1e-12
@@ -172,7 +172,7 @@ def _live(flow: dict | None = None) -> dict:
 
 
 def test_every_live_row_has_a_plain_label() -> None:
-    from ductgen.page.labels import RESULT_LABELS
+    from ductgen.display import SHOWN
 
     out = _live(
         {
@@ -186,7 +186,7 @@ def test_every_live_row_has_a_plain_label() -> None:
     keys = {r["key"] for r in rows}
     assert keys >= {"steepest_wall_angle_deg", "impact_pressure_pa", "shape_factor"}
     for r in rows:
-        assert r["label"] in RESULT_LABELS.values() and "_" not in r["label"], r
+        assert r["label"] in {s.label for s in SHOWN.values()} and "_" not in r["label"], r
 
 
 def test_live_answer_shows_the_reviewers_terms() -> None:

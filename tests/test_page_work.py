@@ -159,7 +159,7 @@ def panel_work(tmp_path_factory: pytest.TempPathFactory) -> Path:
     a spec that uses it by a relative name."""
     cq = pytest.importorskip("cadquery")
     from tests.panels import cylinder_panel
-    from tests.test_skin_curved import BASE
+    from tests.test_design_skin import BASE
 
     folder = tmp_path_factory.mktemp("page-panel")
     (folder / "panels").mkdir()

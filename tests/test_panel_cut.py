@@ -21,7 +21,7 @@ cq = pytest.importorskip("cadquery")
 from ductgen.errors import DuctgenError, SpecError  # noqa: E402
 from ductgen.spec import parse_spec  # noqa: E402
 from tests.panels import bonnet_face, bonnet_height, s_height, s_panel_face  # noqa: E402
-from tests.test_skin_curved import BASE  # noqa: E402
+from tests.test_design_skin import BASE  # noqa: E402
 
 T = 2.5  # skin thickness, mm
 
@@ -105,6 +105,7 @@ def test_an_s_shaped_panel_is_cut_with_its_opening_or_refused(tmp_path, reverse)
         assert _state(body, p) == "in" and _state(cut, p) == "out", p
 
 
+@pytest.mark.slow
 def test_a_reversed_open_bonnet_asks_for_skin_outward(tmp_path) -> None:  # type: ignore[no-untyped-def]
     from ductgen.design import build_design
 

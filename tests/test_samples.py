@@ -24,6 +24,7 @@ GEOMETRY_KEYS = [
 ]
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("name", sample_ids())
 def test_sample_builds_every_output(sample_builds: dict, name: str) -> None:
     _, folder = sample_builds[name]
@@ -37,13 +38,14 @@ def test_sample_builds_every_output(sample_builds: dict, name: str) -> None:
     assert not [p for p in folder.iterdir() if p.name.startswith(".")], "staging left behind"
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("name", sample_ids())
 def test_sample_cutter_volume_agrees_with_geometry(sample_builds: dict, name: str) -> None:
     import trimesh
 
     result, folder = sample_builds[name]
     m = result.solids["cutter"]
-    assert m["volume_mm3"] == pytest.approx(m["expected_volume_mm3"], rel=5e-3)
+    assert m.volume_mm3 == pytest.approx(m.expected_volume_mm3, rel=5e-3)
     mesh = trimesh.load(folder / f"{name}-cutter.stl", force="mesh")
     assert mesh.is_watertight and mesh.is_winding_consistent
-    assert mesh.volume == pytest.approx(m["expected_volume_mm3"], rel=5e-3)
+    assert mesh.volume == pytest.approx(m.expected_volume_mm3, rel=5e-3)

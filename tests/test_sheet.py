@@ -50,6 +50,7 @@ def _rows(page) -> list[list[str]]:  # type: ignore[no-untyped-def]
     return out
 
 
+@pytest.mark.slow
 def test_offsets_table_equals_report(built) -> None:  # type: ignore[no-untyped-def]
     _, out = built
     report = json.loads((out / "report.json").read_text())
@@ -72,6 +73,7 @@ def test_offsets_table_equals_report(built) -> None:  # type: ignore[no-untyped-
     assert np.allclose(xl, np.linspace(0, 1, 21), atol=5e-4)
 
 
+@pytest.mark.slow
 def test_sheet_has_views_dimensions_title_block_and_cautions(built) -> None:  # type: ignore[no-untyped-def]
     res, out = built
     g = res.report["geometry"]
@@ -102,6 +104,7 @@ def test_sheet_has_views_dimensions_title_block_and_cautions(built) -> None:  # 
     )  # A3
 
 
+@pytest.mark.slow
 def test_preview_is_a_shaded_picture(built) -> None:  # type: ignore[no-untyped-def]
     _, out = built
     img = np.asarray(

@@ -98,7 +98,7 @@ SKINS = {
 
 @pytest.mark.parametrize("skin", list(SKINS.values()), ids=list(SKINS))
 def test_no_overlaps_on_other_skins(skin: dict) -> None:
-    from tests.test_skin_curved import BASE
+    from tests.test_design_skin import BASE
 
     spec = parse_spec({**BASE, "skin": {"thickness": 2.0, **skin}})
     page = _sheet(spec, split=(0.6 * build_design(spec).geometry.length_mm,))
@@ -169,7 +169,7 @@ def test_panel_sheet_states_the_panel_frame_and_is_clear(tmp_path) -> None:  # t
     """A cylinder panel moved anywhere: the sheet gives the datum and the outlet in the
     panel file's coordinates (the analytic sample's, moved) and no text overlaps."""
     from tests.panels import MOTION, cylinder_panel
-    from tests.test_skin_panel import BASE
+    from tests.test_design_panel import BASE
 
     path = tmp_path / "bonnet.step"
     cq.exporters.export(MOTION.shape(cylinder_panel(900.0, "spanwise", 2.0)), str(path))

@@ -16,7 +16,7 @@ from ductgen.cli.app import main
 from ductgen.errors import SpecError
 from ductgen.sweep.scheduler import check_scheduler, split_address
 from tests.conftest import GOOD
-from tests.test_hardening_inputs import _tree_digest
+from tests.test_cli_app import _tree_digest
 
 pytestmark = pytest.mark.usefixtures("keep_signal_handlers")
 

@@ -4,6 +4,7 @@ a running job)."""
 
 from __future__ import annotations
 
+import math
 import os
 import subprocess
 import sys
@@ -26,7 +27,7 @@ def test_two_threads_sharing_a_worker_each_get_their_own_answers() -> None:
     def ask(name: str, base: float) -> None:
         try:
             for k in range(25):
-                got[name].append(worker.run("math:hypot", base, float(k)))
+                got[name].append(worker.run(math.hypot, base, float(k)))
         except BaseException as err:  # reported below
             errors.append(err)
 
@@ -46,14 +47,14 @@ def test_two_threads_sharing_a_worker_each_get_their_own_answers() -> None:
 def test_stop_ends_a_running_job_and_the_next_job_runs() -> None:
     worker = KernelWorker()
     try:
-        worker.run("math:sqrt", 4.0)  # the child is up
+        worker.run(math.sqrt, 4.0)  # the child is up
         threading.Timer(0.5, worker.stop).start()
         t0 = time.monotonic()
         with pytest.raises(GeometryError) as err:
-            worker.run("time:sleep", 60.0, timeout_s=120.0)
+            worker.run_within(120.0, time.sleep, 60.0)
         assert time.monotonic() - t0 < 60.0  # stopped, not finished (a timeout, not a timing)
         assert "process died" in str(err.value)
-        assert worker.run("math:sqrt", 9.0) == 3.0
+        assert worker.run(math.sqrt, 9.0) == 3.0
     finally:
         worker.close()
 
@@ -63,13 +64,13 @@ def test_a_worker_started_from_a_thread_outlives_that_thread() -> None:
     started from a page's request thread must not die when that request ends."""
     worker = KernelWorker()
     try:
-        t = threading.Thread(target=worker.run, args=("math:sqrt", 4.0))
+        t = threading.Thread(target=worker.run, args=(math.sqrt, 4.0))
         t.start()
         t.join(timeout=60)
         pid = worker._proc.pid
         time.sleep(1.0)  # room for a death signal to arrive (not a timing assertion)
         assert worker._proc.poll() is None, "the child died with the thread that started it"
-        assert worker.run("math:sqrt", 9.0) == 3.0 and worker._proc.pid == pid
+        assert worker.run(math.sqrt, 9.0) == 3.0 and worker._proc.pid == pid
     finally:
         worker.close()
 
@@ -86,10 +87,10 @@ def _alive(pid: int) -> bool:
 @pytest.mark.skipif(not sys.platform.startswith("linux"), reason="reads /proc")
 def test_a_worker_started_from_a_thread_still_dies_with_its_parent() -> None:
     script = (
-        "import threading, time\n"
+        "import math, threading, time\n"
         "from ductgen.worker import KernelWorker\n"
         "w = KernelWorker()\n"
-        "t = threading.Thread(target=w.run, args=('math:sqrt', 4.0))\n"
+        "t = threading.Thread(target=w.run, args=(math.sqrt, 4.0))\n"
         "t.start(); t.join()\n"
         "print(w._proc.pid, flush=True)\n"
         "time.sleep(120)\n"

@@ -27,7 +27,7 @@ pytestmark = pytest.mark.skipif(
     not sys.platform.startswith("linux"), reason="CPU time read from /proc (Linux)"
 )
 
-_JOB = "hashlib:pbkdf2_hmac"
+_JOB = hashlib.pbkdf2_hmac
 
 
 def _cpu_s(pid: int) -> float:
@@ -49,7 +49,7 @@ def test_a_paused_worker_past_the_limit_still_finishes() -> None:
     n = _iterations_for(1.0)
     w = KernelWorker(WorkerLimits(timeout_s=limit))
     try:
-        w.run("os:getpid")  # started and idle
+        w.run(os.getpid)  # started and idle
         pid = w._proc.pid
         got: dict[str, object] = {}
 
@@ -81,12 +81,12 @@ def test_a_paused_worker_past_the_limit_still_finishes() -> None:
 def test_a_job_over_its_cpu_seconds_is_stopped_naming_the_variable() -> None:
     w = KernelWorker(WorkerLimits(timeout_s=0.5))
     try:
-        w.run("os:getpid")
+        w.run(os.getpid)
         with pytest.raises(GeometryError) as err:
             w.run(_JOB, "sha256", b"p", b"s", _iterations_for(30.0))
         assert "CPU seconds" in str(err.value) and "DUCTGEN_TIMEOUT_S" in str(err.value)
         assert "pbkdf2_hmac" in str(err.value)  # the stage
-        assert w.run("os:getpid") != 0  # a fresh child takes the next job
+        assert w.run(os.getpid) != 0  # a fresh child takes the next job
     finally:
         w.close()
 
@@ -96,9 +96,9 @@ def test_the_wall_clock_backstop(monkeypatch: pytest.MonkeyPatch) -> None:
     monkeypatch.setattr(worker_mod, "WALL_FACTOR", 2.0)
     w = KernelWorker(WorkerLimits(timeout_s=0.5))
     try:
-        w.run("os:getpid")
+        w.run(os.getpid)
         with pytest.raises(GeometryError) as err:
-            w.run("time:sleep", 30.0)
+            w.run(time.sleep, 30.0)
         assert "wall-clock" in str(err.value) and "DUCTGEN_TIMEOUT_S" in str(err.value)
     finally:
         w.close()

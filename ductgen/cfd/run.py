@@ -45,7 +45,7 @@ from ductgen.cfd.templates import FLAVOUR
 from ductgen.errors import SpecError
 from ductgen.spec.model import Spec
 
-__all__ = ["MESH_CHOICES", "cfd_for_build", "check_inputs", "run_cfd"]
+__all__ = ["MESH_CHOICES", "cfd_for_build", "check_inputs", "gci_study", "run_cfd"]
 
 #: Values of ``--mesh``.
 MESH_CHOICES = (*MESH_LEVELS, "study")
@@ -174,7 +174,7 @@ def _compare(cfd: dict[str, Any], flow: dict[str, Any]) -> dict[str, Any]:
     return out
 
 
-def _study(levels: list[dict[str, Any]]) -> dict[str, Any]:
+def gci_study(levels: list[dict[str, Any]]) -> dict[str, Any]:
     """GCI of each study quantity with Celik's representative cell size h = (V/N)^(1/3)
     from each mesh's cell count and volume, so the refinement ratios are the ones the
     meshes really have (prism-layer cells grow with the wall area, as r², not r³, so they
@@ -307,7 +307,7 @@ def cfd_for_build(
         section["y_plus_by_patch"] = final["y_plus"]["by_patch"]
         section["one_d"] = _compare(final, report["flow"])
         if mesh == "study":
-            section["study"] = _study(levels)
+            section["study"] = gci_study(levels)
         if pictures:
             section["pictures"] = _pictures(out_dir / f"cfd-{names[-1]}", spec.name, out_dir, final)
         if not keep_case:

@@ -183,6 +183,7 @@ def _analytic_sheet(skin: Any, box: tuple[float, float, float, float]) -> SkinSh
 
 def _panel_sheet(skin: Any, spec: Any, box: tuple[float, float, float, float]) -> SkinSheet:
     """The user's panel sampled by the kernel worker over the box (its datum frame)."""
+    from ductgen.panel_file import sample_panel
     from ductgen.worker import default_worker
 
     s = spec.skin
@@ -193,7 +194,7 @@ def _panel_sheet(skin: Any, spec: Any, box: tuple[float, float, float, float]) -
     step = max(step, math.sqrt(area / MAX_POINTS))
     sample_box = (x0 - margin, x1 + margin, y0 - margin, y1 + margin)
     got = default_worker().run(
-        "ductgen.solids.panel:sample_panel",
+        sample_panel,
         str(s.file),
         s.units,
         tuple(s.at),

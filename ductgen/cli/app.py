@@ -9,6 +9,8 @@ from __future__ import annotations
 
 import os
 import sys
+from collections.abc import Callable
+from typing import Any
 
 import typer
 
@@ -36,7 +38,7 @@ app = typer.Typer(
 )
 
 #: Command name → function: the whole command line, in one table.
-COMMANDS = {
+COMMANDS: dict[str, Callable[..., Any]] = {
     "build": build_cmd.build_command,
     "init": build_cmd.init_command,
     "profiles": build_cmd.profiles_command,
@@ -50,7 +52,9 @@ for _name, _command in COMMANDS.items():
     app.command(_name)(_command)
 
 
-def _click_exceptions() -> tuple[tuple[type, ...], tuple[type, ...], tuple[type, ...]]:
+def _click_exceptions() -> tuple[
+    tuple[type[Exception], ...], tuple[type[Exception], ...], tuple[type[Exception], ...]
+]:
     """(Exit, Abort, ClickException) classes of click and of typer's own copy of click
     (typer >= 0.2x raises the latter)."""
     import click
@@ -64,8 +68,9 @@ def _click_exceptions() -> tuple[tuple[type, ...], tuple[type, ...], tuple[type,
     except ImportError:  # pragma: no cover - typer without a vendored click
         pass
 
-    def found(name: str) -> tuple[type, ...]:
-        return tuple({getattr(m, name) for m in mods if isinstance(getattr(m, name, None), type)})
+    def found(name: str) -> tuple[type[Exception], ...]:
+        got = {getattr(m, name, None) for m in mods}
+        return tuple(t for t in got if isinstance(t, type) and issubclass(t, Exception))
 
     return found("Exit"), found("Abort"), found("ClickException")
 
@@ -79,11 +84,11 @@ def main(argv: list[str] | None = None) -> int:
         rv = app(args=argv, standalone_mode=False)
         code = rv if isinstance(rv, int) else 0  # click returns Exit codes in this mode
     except exits as ex:
-        code = ex.exit_code
+        code = int(getattr(ex, "exit_code", 1))
     except aborts:
         code = 130
     except usage as ex:
-        ex.show(file=sys.stderr)
+        getattr(ex, "show")(file=sys.stderr)  # noqa: B009 - click's and typer's classes
         code = 2
     except DuctgenError as ex:
         err_console.print(f"error: {ex}", soft_wrap=True)

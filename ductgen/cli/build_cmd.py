@@ -4,11 +4,14 @@ from __future__ import annotations
 
 import json
 from pathlib import Path
-from typing import Annotated
+from typing import TYPE_CHECKING, Annotated
 
 import typer
 
 from ductgen.cli.common import err_console
+
+if TYPE_CHECKING:
+    from ductgen.pipeline import BuildResult
 
 __all__ = ["build_command", "init_command", "profiles_command"]
 
@@ -42,15 +45,16 @@ def build_command(
     """Build solids, files and report.json from a spec."""
     from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
 
-    from ductgen.cli.common import only_kinds, out_folder
+    from ductgen.cli.common import out_folder
     from ductgen.pipeline import build
+    from ductgen.pipeline.options import BuildOptions
     from ductgen.spec import load_spec
     from ductgen.spec.template import with_template_options
 
     s = load_spec(spec)
     s = with_template_options(s, kerf=kerf, paper=paper)
     out_dir = out_folder(out, Path.cwd() / s.name)
-    kinds = only_kinds(only)
+    options = BuildOptions.check(only, quality, force, not no_cache)
     show = not (quiet or as_json)
     with Progress(
         SpinnerColumn(),
@@ -64,11 +68,8 @@ def build_command(
         result = build(
             s,
             out_dir,
-            only=kinds,
-            force=force,
-            quality=quality,
+            options=options,
             progress=lambda stage: bar.update(task, description=f"building: {stage}"),
-            cache=not no_cache,
         )
     if as_json:
         typer.echo(json.dumps(result.report, indent=2))
@@ -78,41 +79,43 @@ def build_command(
     _summary(result, out_dir)
 
 
-def _summary(result, out_dir: Path) -> None:  # type: ignore[no-untyped-def]
+#: The report numbers the summary shows, in order: (section, key); labels, units and
+#: rounding from :data:`ductgen.display.SHOWN`.
+SUMMARY: tuple[tuple[str, str], ...] = (
+    ("geometry", "throat_width_mm"),
+    ("geometry", "throat_depth_mm"),
+    ("geometry", "ramp_angle_deg"),
+    ("geometry", "ramp_length_mm"),
+    ("geometry", "floor_drop_mm"),
+    ("geometry", "max_wall_divergence_deg"),
+    ("geometry", "cutter_volume_mm3"),
+    ("geometry", "insert_volume_mm3"),
+    ("geometry", "plug_volume_mm3"),
+    ("print", "min_wall_mm"),
+    ("print", "mass_g"),
+    ("flow", "volume_flow_m3_s"),
+)
+
+
+def _summary(result: BuildResult, out_dir: Path) -> None:
     from rich.console import Console
     from rich.table import Table
 
-    g = result.report["geometry"]
+    from ductgen.display import SHOWN
+
+    rec = result.record
+    sections = {"geometry": rec.geometry, "print": rec.parts or {}, "flow": rec.flow or {}}
     con = Console(emoji=False, markup=False, highlight=False)
-    t = Table(title=f"{result.report['name']}", show_header=False, box=None)
-    rows = [
-        ("throat W × D", f"{g['throat_width_mm']:.1f} × {g['throat_depth_mm']:.1f} mm"),
-        ("ramp angle / length", f"{g['ramp_angle_deg']:.2f}° / {g['ramp_length_mm']:.1f} mm"),
-        ("floor drop", f"{g['floor_drop_mm']:.1f} mm"),
-        ("max wall divergence", f"{g['max_wall_divergence_deg']:.1f}°"),
-    ]
-    for k in ("cutter", "insert", "plug"):
-        if f"{k}_volume_mm3" in g:
-            rows.append((f"{k} volume", f"{g[f'{k}_volume_mm3'] / 1000:.1f} cm³"))
-    pr = result.report.get("print")
-    if pr and pr.get("min_wall_mm") is not None:
-        mat = pr.get("material", "")
-        mass = pr.get("mass_g")
-        rows.append(
-            (
-                "insert print",
-                f"min wall {pr['min_wall_mm']:.2f} mm"
-                + (f", {mass:.0f} g {mat}" if mass is not None else f", {mat}"),
-            )
-        )
-    flow = result.report.get("flow")
-    if flow and "volume_flow_m3_s" in flow:
-        rows.append(("delivered flow", f"{flow['volume_flow_m3_s'] * 1000:.1f} L/s"))
-    for a, b in rows:
-        t.add_row(a, b)
+    t = Table(title=rec.name, show_header=False, box=None)
+    for section, key in SUMMARY:
+        value = sections[section].get(key)
+        if value is not None:
+            t.add_row(SHOWN[key].label, SHOWN[key].text(value))
+        if key == "mass_g" and rec.parts and rec.parts.get("material"):
+            t.add_row("insert material", str(rec.parts["material"]))
     con.print(t)
-    for w in result.report.get("warnings", []):
-        err_console.print(f"warning {w['code']}: {w['message']}", soft_wrap=True)
+    for w in rec.warnings:
+        err_console.print(f"warning {w.code}: {w.message}", soft_wrap=True)
     con.print(f"wrote {len(result.files)} files to {out_dir}")
 
 
@@ -152,7 +155,7 @@ def init_command(
 
 def _convert_toml(data: bytes, suffix: str) -> bytes:
     """TOML spec text re-written as YAML or JSON."""
-    import tomllib
+    from ductgen.spec.load import tomllib
 
     values = tomllib.loads(data.decode())
     head = "ductgen spec (from the TOML starter; see README for every key)"

@@ -7,7 +7,7 @@ other CLI modules, so it adds no import cycle whichever way the commands are reg
 from __future__ import annotations
 
 from pathlib import Path
-from typing import Annotated
+from typing import Annotated, Any
 
 import typer
 from rich.console import Console
@@ -77,7 +77,7 @@ def cfd_command(
         _summary(section, out_dir)
 
 
-def _summary(section: dict, out_dir: Path) -> None:  # type: ignore[type-arg]
+def _summary(section: dict[str, Any], out_dir: Path) -> None:
     from rich.console import Console
 
     con = Console(emoji=False, markup=False, highlight=False)

@@ -6,7 +6,7 @@ from pathlib import Path
 
 from rich.console import Console
 
-__all__ = ["err_console", "only_kinds", "out_folder"]
+__all__ = ["err_console", "out_folder"]
 
 #: stderr console; user text is never read as markup or emoji codes (``120:100:10`` stays).
 err_console = Console(stderr=True, highlight=False, emoji=False, markup=False)
@@ -22,20 +22,3 @@ def out_folder(out: str | None, default: Path) -> Path:
     if not out.strip():
         raise SpecError("-o/--out", out, "a folder path", "the path is empty")
     return Path(out)
-
-
-def only_kinds(only: str | None) -> list[str] | None:
-    """The ``--only`` list; None when not given. An empty list is refused (it would
-    silently build everything)."""
-    from ductgen.errors import SpecError
-
-    if only is None:
-        return None
-    kinds = [k.strip() for k in only.split(",") if k.strip()]
-    if not kinds:
-        from ductgen.pipeline.builder import output_kinds
-
-        raise SpecError(
-            "--only", only, "a comma list of " + ", ".join(output_kinds()), "the list is empty"
-        )
-    return kinds

@@ -51,12 +51,11 @@ def design_command(
     ] = False,
 ) -> None:
     """Edit a spec in a local web page: drawings, numbers, airflow and warnings as you type."""
-    import tomllib
-
     from ductgen.errors import SpecError
     from ductgen.page.guard import PathRefused, WorkFolder, package_dir
     from ductgen.page.server import DesignApp, is_loopback, make_server
     from ductgen.spec import read_spec_data
+    from ductgen.spec.load import tomllib
     from ductgen.spec.starter import STARTER
 
     if spec is not None:

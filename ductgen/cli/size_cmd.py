@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import json
 from pathlib import Path
-from typing import Annotated
+from typing import Annotated, Any
 
 import typer
 
@@ -94,7 +94,7 @@ def size_command(
         err_console.print(f"wrote {write_spec}; next: ductgen build {write_spec}")
 
 
-def _print(out: dict) -> None:  # type: ignore[type-arg]
+def _print(out: dict[str, Any]) -> None:
     from rich.console import Console
     from rich.table import Table
 
@@ -152,7 +152,7 @@ def _print(out: dict) -> None:  # type: ignore[type-arg]
         t.add_row(a, b)
     con.print(t)
     if f.get("operating_point") == "found":
-        b = Table(
+        budget = Table(
             "element",
             "V m/s",
             "K",
@@ -160,13 +160,13 @@ def _print(out: dict) -> None:  # type: ignore[type-arg]
             title="pressure budget (sums to the recovered pressure)",
         )
         for item in f["budget"]:
-            b.add_row(
+            budget.add_row(
                 item["element"],
                 "" if item["velocity_m_s"] is None else f"{item['velocity_m_s']:.2f}",
                 "" if item["k"] is None else f"{item['k']:.3f}",
                 f"{item['dp_pa']:.1f}",
             )
-        b.add_row("recovered", "", "", f"{f['recovered_total_pressure_pa']:.1f}")
-        con.print(b)
+        budget.add_row("recovered", "", "", f"{f['recovered_total_pressure_pa']:.1f}")
+        con.print(budget)
     for w in out["warnings"]:
         err_console.print(f"warning {w['code']}: {w['message']}", soft_wrap=True)

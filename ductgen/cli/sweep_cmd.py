@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from pathlib import Path
-from typing import Annotated
+from typing import Annotated, Any
 
 import typer
 
@@ -22,7 +22,15 @@ CONFIRM_ABOVE = 50
 SECONDS_PER_VARIANT = {"all": 15.0, "cutter": 8.0}
 
 
-def _announce(varies, zip_values, jobs, kinds, yes, max_variants, silent):  # type: ignore[no-untyped-def]
+def _announce(
+    varies: list[Any],
+    zip_values: bool,
+    jobs: int | None,
+    kinds: list[str] | None,
+    yes: bool,
+    max_variants: int | None,
+    silent: bool,
+) -> None:
     """Say how many variants and roughly how long, and refuse a large sweep without
     ``--yes`` or beyond ``--max-variants`` (exit 2, before anything is built)."""
     from ductgen.errors import SpecError
@@ -115,12 +123,13 @@ def sweep_command(
     """Build variants of a spec in parallel and compare them side by side."""
     from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
 
-    from ductgen.cli.common import only_kinds, out_folder
+    from ductgen.cli.common import out_folder
+    from ductgen.pipeline.options import BuildOptions
     from ductgen.spec import load_spec
     from ductgen.sweep import parse_vary, run_sweep
 
     varies = [parse_vary(v) for v in vary]
-    kinds = only_kinds(only)
+    kinds = None if only is None else list(BuildOptions.check(only, quality).kinds)
     _announce(varies, zip_values, jobs, kinds, yes, max_variants, quiet or as_json)
     out_dir = (
         out_folder(out, Path()) if out is not None else Path.cwd() / f"{load_spec(spec).name}-sweep"
@@ -137,7 +146,7 @@ def sweep_command(
     ) as bar:
         task = bar.add_task("sweep", total=None, counts="validating")
 
-        def progress(result, done: int, failed: int, total: int) -> None:  # type: ignore[no-untyped-def]
+        def progress(result: Any, done: int, failed: int, total: int) -> None:
             counts = f"done {done - failed} · failed {failed} · remaining {total - done}"
             bar.update(task, total=total, completed=done, counts=counts)
             if result is not None and result.status == "failed":
@@ -172,7 +181,7 @@ def sweep_command(
         raise typer.Exit(1)
 
 
-def _summary(result, out_dir: Path) -> None:  # type: ignore[no-untyped-def]
+def _summary(result: Any, out_dir: Path) -> None:
     from rich.console import Console
     from rich.table import Table
 

@@ -49,6 +49,7 @@ from ductgen.spec.model import (
     Spec,
 )
 from ductgen.spec.types import MAX_LENGTH_MM
+from ductgen.worker import KernelWorker
 
 __all__ = [
     "Design",
@@ -165,9 +166,15 @@ def fabrication_from_spec(spec: Spec) -> Fabrication:
 
 
 def build_design(
-    spec: Spec, profile: Profile | None = None, *, check_fabrication: bool = True
+    spec: Spec,
+    profile: Profile | None = None,
+    *,
+    check_fabrication: bool = True,
+    worker: KernelWorker | None = None,
 ) -> Design:
     """The design of ``spec``: geometry, fabrication layout, skin map, warnings.
+    ``worker``: the kernel worker that samples a user's panel file (default: the
+    process-wide one).
 
     Raises:
         SpecError: a cross-field rule is broken (every fabrication problem at once).
@@ -189,7 +196,7 @@ def build_design(
     spigot = spigot_of(g, fab)
     trim = plug_trim_outline(g, fab.plug)
     skin, skin_summary, skin_warnings = skin_from_spec(
-        spec.skin, g, layout, trim, spigot, fab.insert.wall
+        spec.skin, g, layout, trim, spigot, fab.insert.wall, worker
     )
     warnings += skin_warnings
     place, place_warnings = placement(skin, g, float(np.max(layout.outline_xy[:, 0])))

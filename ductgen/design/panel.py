@@ -1,7 +1,8 @@
 """``skin.shape = "panel"``: the user's own panel as the design's skin map, with its checks.
 
-The panel file is read and sampled in the kernel worker (:mod:`ductgen.solids.panel`, run by
-name, so this layer does not import the kernel); here the samples become a height field and
+The panel file is read and sampled in the caller's kernel worker (the job
+:func:`ductgen.panel_file.sample_panel`, a layer below; it loads the kernel only inside the
+worker); here the samples become a height field and
 the geodesic parallel coordinates of :mod:`ductgen.geometry.panel`, and the design is held to
 the analytic skins' limits using the panel's own curvatures under the parts: the wrap angle
 (the normal's turn along and across the flow, each side of the datum), the depth inside a
@@ -27,7 +28,9 @@ from ductgen.geometry.panel import (
     convex_curvatures,
     make_panel_skin,
 )
+from ductgen.panel_file import sample_panel
 from ductgen.spec.model import PanelSkinSpec
+from ductgen.worker import KernelWorker
 
 __all__ = [
     "MAX_FLOW_OFF_DEG",
@@ -61,8 +64,16 @@ class PanelRegion:
     u_parts: float
 
 
-def _sample(skin: PanelSkinSpec, region: PanelRegion) -> dict[str, Any]:
-    """The worker's samples of the panel round the datum (cached per file version)."""
+def _xyz(v: Any) -> tuple[float, float, float]:
+    """A point or direction (three numbers, checked by the spec) as a typed triple."""
+    return (float(v[0]), float(v[1]), float(v[2]))
+
+
+def _sample(
+    skin: PanelSkinSpec, region: PanelRegion, worker: KernelWorker | None
+) -> dict[str, Any]:
+    """The samples of the panel round the datum, taken in ``worker`` (default: the
+    process-wide one; cached per file version)."""
     from ductgen.worker import default_worker
 
     margin_u = 10.0 + 0.05 * (region.u_hi - region.u_lo)
@@ -84,13 +95,13 @@ def _sample(skin: PanelSkinSpec, region: PanelRegion) -> dict[str, Any]:
     key = (path, version, skin.units, skin.at, skin.flow_direction, skin.outward, box, step)
     if key not in _CACHE:
         _CACHE.clear()
-        _CACHE[key] = default_worker().run(
-            "ductgen.solids.panel:sample_panel",
+        _CACHE[key] = (worker or default_worker()).run(
+            sample_panel,
             path,
             skin.units,
-            tuple(skin.at),
-            tuple(skin.flow_direction),
-            None if skin.outward is None else tuple(skin.outward),
+            _xyz(skin.at),
+            _xyz(skin.flow_direction),
+            None if skin.outward is None else _xyz(skin.outward),
             box,
             step,
         )
@@ -114,7 +125,11 @@ def _off_edge(frame: PanelFrame, x: float, y: float) -> SpecError:
 
 
 def panel_skin(
-    skin: PanelSkinSpec, region: PanelRegion, deep_mm: float, outlet_need: Any
+    skin: PanelSkinSpec,
+    region: PanelRegion,
+    deep_mm: float,
+    outlet_need: Any,
+    worker: KernelWorker | None = None,
 ) -> tuple[PanelSkin, dict[str, Any], list[DesignWarning]]:
     """The skin map of a panel, its report entries and warnings.
 
@@ -124,12 +139,13 @@ def panel_skin(
         deep_mm: how deep the parts reach below the skin (mm).
         outlet_need: ``() -> (radius mm, why)``: the smallest radius along the flow that
             keeps the straight spigot inside a convex skin, or None without a duct.
+        worker: the kernel worker that samples the file (default: the process-wide one).
 
     Raises:
         SpecError: bad file or units, ``skin.at`` off the surface, a flow direction off the
             surface, an inlet over the panel's edge or a crease, a radius below a limit.
     """
-    s = _sample(skin, region)
+    s = _sample(skin, region, worker)
     warnings: list[DesignWarning] = []
     off = float(s["flow_off_tangent_deg"])
     if off > MAX_FLOW_OFF_DEG:

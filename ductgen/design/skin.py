@@ -29,6 +29,7 @@ from ductgen.spec.model import (
     PanelSkinSpec,
     SkinSpec,
 )
+from ductgen.worker import KernelWorker
 
 __all__ = [
     "MAX_DISTORTION_PCT",
@@ -81,9 +82,11 @@ def skin_from_spec(
     trim_xy: np.ndarray,
     spigot: Spigot | None,
     wall: float,
+    worker: KernelWorker | None = None,
 ) -> tuple[CurvedSkin | FlatSkin | PanelSkin, dict[str, Any], list[DesignWarning]]:
     """The skin map of ``[skin]``, checked against the design; the skin as the report states
     it (shape, side, radii in mm, axis; a panel's file, datum and radii); warnings.
+    ``worker``: the kernel worker that samples a panel file (default: the process-wide one).
 
     Raises:
         SpecError: a radius is below the smallest the inlet can wrap — the message gives that radius
@@ -94,7 +97,7 @@ def skin_from_spec(
     if isinstance(skin, FlatSkinSpec):
         return FLAT, summary, []
     if isinstance(skin, PanelSkinSpec):
-        return _panel(skin, g, layout, trim_xy, spigot, wall)
+        return _panel(skin, g, layout, trim_xy, spigot, wall, worker)
     sign = 1.0 if skin.side == "convex" else -1.0
     if isinstance(skin, CylinderSkinSpec):
         keys = {"stream": "skin.radius", "span": "skin.radius"}
@@ -159,6 +162,7 @@ def _panel(
     trim_xy: np.ndarray,
     spigot: Spigot | None,
     wall: float,
+    worker: KernelWorker | None,
 ) -> tuple[PanelSkin, dict[str, Any], list[DesignWarning]]:
     pts = np.vstack([layout.outline_xy, trim_xy, layout.opening_xy])
     v_max = float(np.max(np.abs(pts[:, 1])))
@@ -175,7 +179,7 @@ def _panel(
     outlet = None
     if t is not None:
         outlet = lambda: _straight_outlet_limit(g, spigot, wall)  # noqa: E731
-    return panel_skin(skin, region, _deepest(g, spigot, wall), outlet)
+    return panel_skin(skin, region, _deepest(g, spigot, wall), outlet, worker)
 
 
 def _straight_outlet_limit(

@@ -22,14 +22,14 @@ from ductgen.geometry.fabrication import footprint_end_mm
 from ductgen.spec.model import Spec
 from ductgen.stamp import build_date
 
-__all__ = ["template_files"]
+__all__ = ["flange_contours", "template_files"]
 
 
 def template_files(d: Design, spec: Spec, spec_hash: str) -> dict[str, bytes]:
     """Encode ``template.dxf`` and ``template.pdf`` (suffix → bytes) for one inlet."""
     g = d.geometry
     t = spec.template
-    drawing = develop_drawing(template_drawing(g, spec, spec_hash, *_fabrication(d, spec)), d)
+    drawing = develop_drawing(template_drawing(g, spec, spec_hash, *flange_contours(d, spec)), d)
     info = [
         f"Skin opening of {spec.name}: W {g.width_mm:.2f} mm, L {g.length_mm:.2f} mm, "
         f"apex {g.planform.apex_width_mm:.2f} mm.",
@@ -78,7 +78,7 @@ def develop_drawing(drawing: TemplateDrawing, d: Design) -> TemplateDrawing:
     return out
 
 
-def _fabrication(
+def flange_contours(
     d: Design, spec: Spec
 ) -> tuple[list[tuple[str, Contour]], list[tuple[float, float]], float]:
     """The insert's flange (or surface bezel) outline as an outer CUT contour, offset outward

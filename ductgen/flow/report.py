@@ -14,6 +14,7 @@ recovery's uncertainty on short ducts (:mod:`ductgen.flow.transition`).
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any, Literal
 
@@ -41,6 +42,7 @@ from ductgen.spec.recovery_table import read_recovery_table
 
 __all__ = [
     "DRAG_NOTE",
+    "ELEMENT_OF",
     "SENSITIVITY_DELTA",
     "FlowAnalysis",
     "build_system",
@@ -80,27 +82,45 @@ KE_DEFAULT_NOTE = (
 EXIT_DEFAULT_NOTE = "default: plenum without loss elements, hose with them"
 
 
+def _hose(e: HoseLoss, name: str) -> Element:
+    return HoseElement(name, e.length, e.diameter, e.roughness)
+
+
+def _bend(e: BendLoss, name: str) -> Element:
+    return BendElement(name, e.angle_deg, e.radius, e.diameter, e.roughness)
+
+
+def _cooler(e: CoolerLoss, name: str) -> Element:
+    return CoolerElement(name, e.k, e.face_area, e.pressure_drop, e.reference_flow)
+
+
+def _diffuser(e: DiffuserLoss, name: str) -> Element:
+    if e.angle_deg is not None:
+        angle = e.angle_deg
+    else:
+        assert e.length is not None
+        angle = 2.0 * math.degrees(
+            math.atan(abs(e.outlet_diameter - e.inlet_diameter) / (2.0 * e.length))
+        )
+    return ConeElement.from_diameters(name, e.inlet_diameter, e.outlet_diameter, angle)
+
+
+#: Loss ``kind`` (:data:`ductgen.spec.losses.LOSS_KINDS`) → the flow element it makes, from
+#: its spec model and its name (the label, or "KIND N").
+ELEMENT_OF: dict[str, Callable[[Any, str], Element]] = {
+    "hose": _hose,
+    "bend": _bend,
+    "cooler": _cooler,
+    "diffuser": _diffuser,
+}
+
+
 def _elements(flow: FlowSpec) -> list[Element]:
     out: list[Element] = []
     counts: dict[str, int] = {}
     for e in flow.losses:
         counts[e.kind] = counts.get(e.kind, 0) + 1
-        name = e.label or f"{e.kind} {counts[e.kind]}"
-        if isinstance(e, HoseLoss):
-            out.append(HoseElement(name, e.length, e.diameter, e.roughness))
-        elif isinstance(e, BendLoss):
-            out.append(BendElement(name, e.angle_deg, e.radius, e.diameter, e.roughness))
-        elif isinstance(e, CoolerLoss):
-            out.append(CoolerElement(name, e.k, e.face_area, e.pressure_drop, e.reference_flow))
-        elif isinstance(e, DiffuserLoss):
-            if e.angle_deg is not None:
-                angle = e.angle_deg
-            else:
-                assert e.length is not None
-                angle = 2.0 * math.degrees(
-                    math.atan(abs(e.outlet_diameter - e.inlet_diameter) / (2.0 * e.length))
-                )
-            out.append(ConeElement.from_diameters(name, e.inlet_diameter, e.outlet_diameter, angle))
+        out.append(ELEMENT_OF[e.kind](e, e.label or f"{e.kind} {counts[e.kind]}"))
     return out
 
 

@@ -24,10 +24,10 @@ from typing import Any
 import numpy as np
 
 from ductgen.design import Design
-from ductgen.sheets.skin_section import dense as _dense
+from ductgen.sheets.skin_section import dense as densified
 from ductgen.sheets.skin_section import section_maps
 
-__all__ = ["SKIN_CAPTIONS", "plan_svg", "section_svg", "skin_caption"]
+__all__ = ["SKIN_CAPTIONS", "densified", "plan_svg", "section_svg", "skin_caption"]
 
 _INK = "#1d2b36"
 _OPENING = "#2f6f73"
@@ -218,8 +218,8 @@ def section_svg(d: Design, samples: int = 160) -> str:
     skins = {"a": skin_a, "b": skin_b, "top": top}
     if maps is not None:
         step = span / 60.0
-        shapes = {k: maps[0](_dense(v, step)) for k, v in shapes.items()}  # type: ignore[misc]
-        skins = {k: maps[1](_dense(v, step)) for k, v in skins.items()}  # type: ignore[misc]
+        shapes = {k: maps[0](densified(v, step)) for k, v in shapes.items()}  # type: ignore[misc]
+        skins = {k: maps[1](densified(v, step)) for k, v in skins.items()}  # type: ignore[misc]
     pts = {k: _pts(np.array(v)) for k, v in (shapes | skins).items()}
     parts = [
         f'<polygon id="section-air" points="{pts["air"]}" fill="{_AIR}"/>',

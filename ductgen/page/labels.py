@@ -9,7 +9,7 @@ label here, so a new spec key cannot reach the page as a raw name.
 
 from __future__ import annotations
 
-__all__ = ["ADD_ITEM", "LABELS", "RESULT_LABELS"]
+__all__ = ["ADD_ITEM", "LABELS"]
 
 LABELS: dict[str, str] = {
     # sections (legends); a nested section sits among its parent's fields
@@ -122,47 +122,3 @@ LABELS: dict[str, str] = {
 
 #: The add-button's words for a list section (never a plural cut short: "add loss").
 ADD_ITEM: dict[str, str] = {"flow.losses": "add a loss"}
-
-#: The words of the live answer's rows (key numbers and airflow), by the row's key (the
-#: report key it shows). ``tests/test_page_labels.py`` checks every row the page can show
-#: has one.
-RESULT_LABELS: dict[str, str] = {
-    # key numbers
-    "throat_width_mm": "throat width W",
-    "throat_depth_mm": "throat depth D",
-    "ramp_length_mm": "ramp length L",
-    "floor_drop_mm": "floor drop H",
-    "ramp_angle_deg": "ramp angle",
-    "throat_area_mm2": "throat area W·D",
-    "max_wall_divergence_deg": "max wall divergence",
-    "apex_width_mm": "apex width",
-    "ramp_cavity_volume_mm3": "ramp cavity volume",
-    "transition_area_ratio": "transition area ratio",
-    "steepest_wall_angle_deg": "steepest transition wall",
-    "stall_line_included_deg": "stall line (2-D diffuser, recalled)",
-    "length_under_stall_line_mm": "transition length that clears the stall line",
-    # airflow
-    "speed_m_s": "speed",
-    "mach": "Mach number",
-    "volume_flow_m3_s": "delivered flow",
-    "volume_flow_low_m3_s": "band low",
-    "volume_flow_high_m3_s": "band high",
-    "inlet_velocity_ratio": "inlet velocity ratio",
-    "ram_recovery": "ram recovery",
-    "recovery_uncertainty": "recovery ±",
-    "recovery_source": "recovery source",
-    "mass_flow_kg_s": "mass flow",
-    "delta_over_depth_max": "boundary layer δ / D",
-    "momentum_drag_n": "momentum drag",
-    "external_drag_n": "external drag (given coefficient)",
-    "required_flow_m3_s": "required flow",
-    "dynamic_pressure_pa": "dynamic pressure ½ρV²",
-    "impact_pressure_pa": "impact pressure (isentropic)",
-    "recovery_head_pa": "head the recovery applies to",
-    "inlet_cp": "surface pressure coefficient at the inlet",
-    "yaw_factor": "flow-angle factor cos²ψ",
-    "kinetic_energy_factor_plenum": "outflow α, dumped into a plenum",
-    "kinetic_energy_factor_hose": "outflow α, mixed out in the hose",
-    "momentum_factor": "outflow momentum factor β",
-    "shape_factor": "boundary layer shape factor H (Head's method)",
-}

@@ -13,9 +13,9 @@ from pathlib import Path
 from typing import Any
 
 from ductgen.design import Design, build_design
+from ductgen.display import SHOWN
 from ductgen.errors import DesignWarning, DuctgenError, SpecError
 from ductgen.page.draw import plan_svg, section_svg, skin_caption
-from ductgen.page.labels import RESULT_LABELS
 from ductgen.page.panel_view import panel_svg
 from ductgen.spec import Spec, parse_spec
 
@@ -44,39 +44,44 @@ def check_spec(data: Any, base_dir: Path | None) -> tuple[Spec, Design]:
     return spec, build_design(spec)
 
 
-def _row(
-    key: str, value: float | None, unit: str, digits: int, label_key: str | None = None
-) -> dict[str, Any]:
-    label = RESULT_LABELS[label_key or key]
-    return {"key": key, "label": label, "value": value, "unit": unit, "digits": digits}
+def _row(key: str, stored: float | None, shown_as: str | None = None) -> dict[str, Any]:
+    """One shown number: its label, unit and digits from :data:`ductgen.display.SHOWN` (under
+    ``shown_as`` when one report key is worded by context), its value (``stored`` in the
+    report's unit) in the shown unit."""
+    how = SHOWN[shown_as or key]
+    value = None if stored is None else how.value(stored)
+    return {"key": key, "label": how.label, "value": value, "unit": how.unit, "digits": how.digits}
 
 
 def key_numbers(d: Design) -> list[dict[str, Any]]:
-    """The key numbers block (mm, mm², deg), with the transition's steepest wall against the
-    two-dimensional diffuser stall line (:mod:`ductgen.flow.stall`) when there is one."""
+    """The key numbers block (mm, mm², deg, cm³), with the transition's steepest wall against
+    the two-dimensional diffuser stall line (:mod:`ductgen.flow.stall`) when there is one."""
     from ductgen.flow.stall import steepest_wall_report
 
     g = d.geometry
     pf, fl = g.planform, g.floor
     rows = [
-        _row("throat_width_mm", g.width_mm, "mm", 2),
-        _row("throat_depth_mm", g.depth_mm, "mm", 2),
-        _row("ramp_length_mm", g.length_mm, "mm", 2),
-        _row("floor_drop_mm", g.drop_mm, "mm", 2),
-        _row("ramp_angle_deg", fl.angle_deg, "°", 2),
-        _row("throat_area_mm2", g.throat_area_mm2, "mm²", 0),
-        _row("max_wall_divergence_deg", pf.max_divergence_deg, "°", 1),
-        _row("apex_width_mm", pf.apex_width_mm, "mm", 1),
-        _row("ramp_cavity_volume_mm3", g.ramp_cavity_volume_mm3 / 1e3, "cm³", 1),
+        _row("throat_width_mm", g.width_mm),
+        _row("throat_depth_mm", g.depth_mm),
+        _row("ramp_length_mm", g.length_mm),
+        _row("floor_drop_mm", g.drop_mm),
+        _row("ramp_angle_deg", fl.angle_deg),
+        _row("throat_area_mm2", g.throat_area_mm2),
+        _row("max_wall_divergence_deg", pf.max_divergence_deg),
+        _row("apex_width_mm", pf.apex_width_mm),
+        _row("ramp_cavity_volume_mm3", g.ramp_cavity_volume_mm3),
     ]
     if g.transition is not None:
-        rows.append(_row("transition_area_ratio", g.transition.area_ratio, "", 2))
+        rows.append(_row("transition_area_ratio", g.transition.area_ratio))
     wall = steepest_wall_report(d.duct)
     if wall:
         rows += [
-            _row("steepest_wall_angle_deg", wall["steepest_wall_angle_deg"], "°", 1),
-            _row("stall_line_included_deg", wall["stall_line_included_deg"], "°", 1),
-            _row("length_under_stall_line_mm", wall["length_under_stall_line_mm"], "mm", 0),
+            _row(k, wall[k])
+            for k in (
+                "steepest_wall_angle_deg",
+                "stall_line_included_deg",
+                "length_under_stall_line_mm",
+            )
         ]
     return rows
 
@@ -96,30 +101,27 @@ def _source(flow: dict[str, Any]) -> str:
 
 
 def flow_rows(flow: dict[str, Any]) -> list[dict[str, Any]]:
-    """The airflow block from the report's ``flow`` section (L/s, kg/s, Pa shown)."""
+    """The airflow block from the report's ``flow`` section (km/h, L/s, kg/s, N shown)."""
     band = flow.get("sensitivity", {})
-
-    def lps(v: float | None) -> float | None:
-        return None if v is None else v * 1e3
-
     rows = [
-        _row("speed_m_s", flow["speed_m_s"] * 3.6, "km/h", 1),
-        _row("mach", flow.get("mach"), "", 3),
-        _row("volume_flow_m3_s", lps(flow.get("volume_flow_m3_s")), "L/s", 1),
-        _row("volume_flow_low_m3_s", lps(band.get("volume_flow_low_m3_s")), "L/s", 1),
-        _row("volume_flow_high_m3_s", lps(band.get("volume_flow_high_m3_s")), "L/s", 1),
-        _row("inlet_velocity_ratio", flow.get("inlet_velocity_ratio"), "", 3),
-        _row("ram_recovery", flow.get("ram_recovery"), "", 3),
-        _row("recovery_uncertainty", flow.get("recovery_uncertainty"), "", 3),
-        {**_row("recovery_source", None, "", 0), "text": _source(flow)},
-        _row("mass_flow_kg_s", flow.get("mass_flow_kg_s"), "kg/s", 4),
-        _row("delta_over_depth_max", flow.get("delta_over_depth_max"), "", 2),
-        _row("momentum_drag_n", flow.get("momentum_drag_n"), "N", 2),
+        _row("speed_m_s", flow["speed_m_s"]),
+        _row("mach", flow.get("mach")),
+        _row("volume_flow_m3_s", flow.get("volume_flow_m3_s")),
+        _row("volume_flow_low_m3_s", band.get("volume_flow_low_m3_s")),
+        _row("volume_flow_high_m3_s", band.get("volume_flow_high_m3_s")),
+        _row("inlet_velocity_ratio", flow.get("inlet_velocity_ratio")),
+        _row("ram_recovery", flow.get("ram_recovery")),
+        _row("recovery_uncertainty", flow.get("recovery_uncertainty")),
+        {**_row("recovery_source", None), "text": _source(flow)},
+        *(
+            _row(k, flow.get(k))
+            for k in ("mass_flow_kg_s", "delta_over_depth_max", "momentum_drag_n")
+        ),
     ]
     if flow.get("external_drag_n") is not None:
-        rows.append(_row("external_drag_n", flow["external_drag_n"], "N", 2))
+        rows.append(_row("external_drag_n", flow["external_drag_n"]))
     if "required_flow_m3_s" in flow:
-        rows.append(_row("required_flow_m3_s", lps(flow["required_flow_m3_s"]), "L/s", 1))
+        rows.append(_row("required_flow_m3_s", flow["required_flow_m3_s"]))
     return rows + _term_rows(flow)
 
 
@@ -131,24 +133,28 @@ def _term_rows(flow: dict[str, Any]) -> list[dict[str, Any]]:
         return []
     exit_kind = flow.get("exit")
     rows = [
-        _row("dynamic_pressure_pa", flow.get("dynamic_pressure_pa"), "Pa", 0),
-        _row("impact_pressure_pa", flow.get("impact_pressure_pa"), "Pa", 0),
-        _row("recovery_head_pa", flow.get("recovery_head_pa"), "Pa", 0),
-        _row("inlet_cp", flow.get("inlet_cp"), "", 3),
-        _row("yaw_factor", flow.get("yaw_factor"), "", 4),
+        _row(k, flow.get(k))
+        for k in (
+            "dynamic_pressure_pa",
+            "impact_pressure_pa",
+            "recovery_head_pa",
+            "inlet_cp",
+            "yaw_factor",
+        )
+    ]
+    where = "plenum" if exit_kind == "plenum" else "hose"
+    rows.append(
         _row(
             "kinetic_energy_factor",
             flow.get("kinetic_energy_factor"),
-            "",
-            2,
-            label_key=f"kinetic_energy_factor_{'plenum' if exit_kind == 'plenum' else 'hose'}",
-        ),
-    ]
+            shown_as=f"kinetic_energy_factor_{where}",
+        )
+    )
     if exit_kind == "hose":
-        rows.append(_row("momentum_factor", flow.get("momentum_factor"), "", 3))
+        rows.append(_row("momentum_factor", flow.get("momentum_factor")))
     grad = flow.get("boundary_layer_gradient")
     if grad is not None:  # Head's method along the Cp gradient
-        rows.append(_row("shape_factor", grad["shape_factor"], "", 2))
+        rows.append(_row("shape_factor", grad["shape_factor"]))
     return rows
 
 

@@ -7,40 +7,39 @@ existing file is replaced without ``force``.
 
 from __future__ import annotations
 
+import contextlib
 import time
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
+from functools import partial
 from pathlib import Path
 from typing import Any
 
 from ductgen.atomic import OutputSet, check_free
-from ductgen.cache import open_cache
+from ductgen.cache import Cache, open_cache
 from ductgen.design import Design, build_design
-from ductgen.errors import SpecError
+from ductgen.pipeline.options import BuildOptions, output_kinds
 from ductgen.pipeline.outputs import OUTPUTS, BuildContext
 from ductgen.pipeline.solid_cache import SolidStage
-from ductgen.report import (
-    add_insert_pieces,
-    add_panel_cut,
-    finish_report,
-    insert_split_plan,
-    report_bytes,
-    start_report,
-)
+from ductgen.report import BuildRecord, report_bytes, start_record
 from ductgen.solids.kinds import SOLID_KINDS
+from ductgen.solids.panel_cut import cut_panel_job
+from ductgen.solids.results import SolidResult
 from ductgen.spec.load import spec_sha256
 from ductgen.spec.model import PanelSkinSpec, Spec
-from ductgen.tolerances import STL_QUALITY
 from ductgen.worker import KernelWorker, WorkerLimits, default_worker
 
 __all__ = [
+    "BuildOptions",
     "BuildResult",
+    "Stage",
     "build",
     "output_kinds",
     "package_version",
     "planned_files",
     "planned_stages",
     "select_kinds",
+    "stages",
 ]
 
 #: Output kinds whose making checks the insert and plug rules.
@@ -54,12 +53,7 @@ def package_version() -> str:
     return __version__
 
 
-def output_kinds() -> list[str]:
-    """Every kind ``--only`` accepts, in build order."""
-    return [*SOLID_KINDS, *OUTPUTS]
-
-
-def _cuts_panel(spec: Spec, kinds: list[str]) -> bool:
+def _cuts_panel(spec: Spec, kinds: Sequence[str]) -> bool:
     """Whether the build writes ``NAME-panel.step``: the user's panel is a CAD file and the
     cutter is built."""
     skin = spec.skin
@@ -70,7 +64,7 @@ def _cuts_panel(spec: Spec, kinds: list[str]) -> bool:
     )
 
 
-def planned_files(spec: Spec, kinds: list[str]) -> list[str]:
+def planned_files(spec: Spec, kinds: Sequence[str]) -> list[str]:
     """File names a build of ``kinds`` will write (``report.json`` always)."""
     names = [f"{spec.name}-panel.step"] if _cuts_panel(spec, kinds) else []
     for k in kinds:
@@ -83,21 +77,7 @@ def planned_files(spec: Spec, kinds: list[str]) -> list[str]:
     return [*names, "report.json"]
 
 
-@dataclass
-class BuildResult:
-    """What a build made: the report (as written), the files by path, the design, and which
-    kernel results came from the solid cache (``cache["hits"]``) or were built
-    (``cache["misses"]``): solid kinds and ``"insert split"``."""
-
-    report: dict[str, Any]
-    files: dict[str, Path]
-    seconds: dict[str, float]
-    solids: dict[str, dict[str, Any]]
-    design: Design | None = None
-    cache: dict[str, list[str]] = field(default_factory=dict)
-
-
-def planned_stages(spec: Spec, kinds: list[str]) -> list[str]:
+def planned_stages(spec: Spec, kinds: Sequence[str]) -> list[str]:
     """The stages :func:`build` reports through ``progress``, in order (an ``"insert
     split"`` stage is added when the insert turns out larger than the bed)."""
     stages = ["geometry"]
@@ -111,15 +91,218 @@ def planned_stages(spec: Spec, kinds: list[str]) -> list[str]:
 
 def select_kinds(only: list[str] | None) -> list[str]:
     """The output kinds to build, in build order; every kind when ``only`` is empty."""
-    kinds = output_kinds()
-    if not only:
-        return kinds
-    bad = [k for k in only if k not in kinds]
-    if bad:
-        raise SpecError(
-            "--only", ",".join(bad), "a comma list of " + ", ".join(kinds), "unknown output kind"
-        )
-    return [k for k in kinds if k in only]
+    return list(BuildOptions.check(only).kinds)
+
+
+@dataclass
+class BuildResult:
+    """What a build made: the report (as written), its record, the files by path, the
+    seconds per stage, the solids, the design, and which kernel results came from the solid
+    cache (``cache["hits"]``) or were built (``cache["misses"]``): solid kinds and
+    ``"insert split"``."""
+
+    report: dict[str, Any]
+    files: dict[str, Path]
+    seconds: dict[str, float]
+    solids: dict[str, SolidResult]
+    record: BuildRecord
+    design: Design | None = None
+    cache: dict[str, list[str]] = field(default_factory=dict)
+
+
+@dataclass
+class _Build:
+    """One build in progress: its inputs, and what each stage leaves for the next."""
+
+    spec: Spec
+    out_dir: Path
+    options: BuildOptions
+    worker: KernelWorker
+    design: Design | None
+    exits: contextlib.ExitStack
+    store: Cache | None = None
+    seconds: dict[str, float] = field(default_factory=dict)
+    out: OutputSet | None = None
+    kernel: SolidStage | None = None
+    solids: dict[str, SolidResult] = field(default_factory=dict)
+    record: BuildRecord | None = None
+    files: dict[str, str] = field(default_factory=dict)
+    paths: dict[str, Path] = field(default_factory=dict)
+    report: dict[str, Any] = field(default_factory=dict)
+
+    @property
+    def staging(self) -> Path:
+        assert self.out is not None
+        return self.out.staging
+
+    @property
+    def rec(self) -> BuildRecord:
+        assert self.record is not None
+        return self.record
+
+
+def _geometry(b: _Build) -> None:
+    """The design, built and checked before the kernel starts (the fabrication rules when an
+    output needs them)."""
+    needs_fab = any(k in b.options.kinds for k in _NEEDS_FABRICATION)
+    if b.design is None or (needs_fab and not b.design.fabrication_checked):
+        b.design = build_design(b.spec, check_fabrication=needs_fab, worker=b.worker)
+
+
+def _open(b: _Build) -> None:
+    """Check no file would be replaced without ``force``; open the staging folder."""
+    check_free([b.out_dir / n for n in planned_files(b.spec, b.options.kinds)], b.options.force)
+    b.store = open_cache(b.options.cache)
+    assert b.design is not None
+    b.kernel = SolidStage(b.store, b.design, b.options.quality, b.worker)
+    b.out = b.exits.enter_context(OutputSet(b.out_dir, force=b.options.force))
+
+
+def _solids(b: _Build) -> None:
+    """The solids: from the cache or built in the kernel worker; their files staged."""
+    assert b.kernel is not None and b.out is not None
+    kinds = list(b.options.solid_kinds)
+    b.solids = b.kernel.solids(kinds, b.spec.name, b.staging)
+    for k in kinds:
+        for fmt, name in b.solids[k].files.items():
+            b.out.staged_path(name)
+            b.files[f"{k}_{fmt}"] = name
+        for stage_name, s in b.solids[k].seconds.items():
+            b.seconds[f"{k}_{stage_name}"] = s
+
+
+def _record(b: _Build) -> None:
+    """The record's computed sections (geometry, flow, print checks, bed fit)."""
+    assert b.design is not None
+    b.record = start_record(b.spec, b.design, b.solids, spec_sha256(b.spec), package_version())
+
+
+def _panel(b: _Build) -> None:
+    """``NAME-panel.step``: the user's panel with the inlet cut out (kernel worker)."""
+    skin = b.spec.skin
+    assert isinstance(skin, PanelSkinSpec) and b.out is not None and b.design is not None
+    cut = b.worker.run(
+        cut_panel_job,
+        b.design,
+        skin.file,
+        skin.units,
+        [b.solids["cutter"].step_file],
+        str(b.staging),
+        "insert" in b.solids,
+    )
+    b.out.staged_path(cut.pop("file"))
+    b.rec.panel_cut = cut
+    b.files["panel_step"] = f"{b.spec.name}-panel.step"
+
+
+def _frame(b: _Build) -> tuple[list[float], list[list[float]]] | None:
+    frame = None if b.design is None else b.design.panel_frame
+    return None if frame is None else (frame.origin.tolist(), frame.axes.tolist())
+
+
+def _split(b: _Build) -> None:
+    """The insert is larger than the bed: keyed pieces that fit."""
+    split = b.rec.split
+    assert split is not None and b.kernel is not None and b.out is not None
+    pieces = b.kernel.split_insert(
+        b.staging,
+        b.solids["insert"].step_file,
+        b.spec.name,
+        (list(split.stations_x_mm), split.up),
+        b.spec.print.bed,
+        _frame(b),
+    )
+    for k, piece in enumerate(pieces, start=1):
+        for fmt in ("step", "stl"):
+            name = getattr(piece, fmt)
+            b.out.staged_path(name)
+            b.files[f"insert_part{k}_{fmt}"] = name
+    b.rec.pieces = pieces
+
+
+def _plate(b: _Build) -> None:
+    """``NAME-insert.3mf``: the insert (or its pieces) on one plate, standing as the bed fit
+    says (in the datum's frame on a panel); split pieces' STLs already stand as they print."""
+    from ductgen.export.threemf import plate_3mf, stl_part
+
+    assert b.out is not None and b.design is not None
+    pieces = b.rec.pieces
+    stls = [p.stl for p in pieces] if pieces else [b.files["insert_stl"]]
+    frame = b.design.panel_frame
+    where = None if frame is None else (frame.origin, frame.axes)
+    up = b.rec.insert_up or "+z"
+    if pieces:  # the pieces' STLs already stand as they print
+        up, where = "+z", None
+    parts = [stl_part(n.removesuffix(".stl"), (b.staging / n).read_bytes(), where) for n in stls]
+    name = f"{b.spec.name}-insert.3mf"
+    b.out.add(name, plate_3mf(parts, up, b.spec.name))
+    b.files["insert_3mf"] = name
+
+
+def _encode(kind: str, b: _Build) -> None:
+    """One file output of :data:`~ductgen.pipeline.outputs.OUTPUTS`."""
+    assert b.out is not None and b.design is not None
+    ctx = BuildContext(b.spec, b.design, b.solids, b.rec, b.worker, b.store, b.options.quality)
+    for suffix, data in OUTPUTS[kind].encode(ctx).items():
+        name = f"{b.spec.name}-{suffix}"
+        b.out.add(name, data)
+        b.files[suffix.replace(".", "_")] = name
+
+
+def _publish(b: _Build) -> None:
+    """``report.json`` (the record, serialised once), then every file renamed into place."""
+    assert b.out is not None
+    b.rec.files = b.files
+    b.report = b.rec.to_report()
+    b.out.add("report.json", report_bytes(b.report))
+    b.paths = b.out.publish()
+
+
+@dataclass(frozen=True)
+class Stage:
+    """One step of :func:`build`: its progress name (None: not reported), when it runs, what
+    it does, and the key of its seconds in ``BuildResult.seconds`` (None: not timed)."""
+
+    name: str | None
+    when: Callable[[_Build], bool]
+    run: Callable[[_Build], None]
+    seconds: str | None = None
+
+
+def _always(_b: _Build) -> bool:
+    return True
+
+
+def _wants(kind: str, b: _Build) -> bool:
+    return kind in b.options.kinds and OUTPUTS[kind].made_for(b.spec)
+
+
+def _not_wanted(b: _Build) -> list[str]:
+    """Asked-for output kinds this spec does not get (e.g. the jig on a flat skin)."""
+    return [k for k in b.options.kinds if k in OUTPUTS and not OUTPUTS[k].made_for(b.spec)]
+
+
+def _not_made(b: _Build) -> None:
+    """Say in the record why each asked-for output was not made."""
+    b.rec.not_made = {k: OUTPUTS[k].why_not for k in _not_wanted(b)}
+
+
+def stages() -> tuple[Stage, ...]:
+    """The build, in order (one stage per file output of
+    :data:`~ductgen.pipeline.outputs.OUTPUTS`); progress names match
+    :func:`planned_stages`."""
+    return (
+        Stage("geometry", _always, _geometry, "geometry_s"),
+        Stage(None, _always, _open),
+        Stage("solids", lambda b: bool(b.options.solid_kinds), _solids, "solids_s"),
+        Stage(None, _always, _record),
+        Stage("panel", lambda b: _cuts_panel(b.spec, b.options.kinds), _panel, "panel_s"),
+        Stage("insert split", lambda b: b.rec.split is not None, _split, "insert_split_s"),
+        Stage(None, lambda b: "insert" in b.solids, _plate),
+        Stage(None, lambda b: bool(_not_wanted(b)), _not_made),
+        *(Stage(k, partial(_wants, k), partial(_encode, k), f"{k}_s") for k in OUTPUTS),
+        Stage("publish", _always, _publish),
+    )
 
 
 def build(
@@ -133,13 +316,18 @@ def build(
     progress: Callable[[str], None] | None = None,
     design: Design | None = None,
     cache: bool = True,
+    options: BuildOptions | None = None,
 ) -> BuildResult:
-    """Build every requested output of ``spec`` into ``out_dir``.
+    """Build every requested output of ``spec`` into ``out_dir``, stage by stage
+    (:func:`stages`).
 
-    ``design``: the design of ``spec`` when the caller already built it (a sweep does, to
-    validate its variants); otherwise it is built here. ``cache``: take solids, the insert's
-    pieces and the preview from the user's solid cache and store new ones there
-    (:mod:`ductgen.cache`; ``DUCTGEN_CACHE_DIR``, ``DUCTGEN_CACHE_MB``); False bypasses it.
+    ``options``: the checked options (:meth:`BuildOptions.check`); without them ``only``,
+    ``quality``, ``force`` and ``cache`` are checked here. ``design``: the design of
+    ``spec`` when the caller already built it (a sweep does, to validate its variants);
+    otherwise it is built here. ``cache``: take solids, the insert's pieces and the preview
+    from the user's solid cache and store new ones there (:mod:`ductgen.cache`;
+    ``DUCTGEN_CACHE_DIR``, ``DUCTGEN_CACHE_MB``); False bypasses it. ``worker``: the kernel
+    worker every kernel job of this build runs in (default: the process-wide one).
 
     Raises:
         SpecError: bad input (before anything is written), e.g. a bad ``DUCTGEN_CACHE_MB``.
@@ -149,137 +337,26 @@ def build(
     note = progress or (lambda _s: None)
     if worker is None:
         WorkerLimits.from_env()  # a bad DUCTGEN_MEMORY_MB / DUCTGEN_TIMEOUT_S: exit 2 first
-    if quality not in STL_QUALITY:
-        raise SpecError("--quality", quality, " | ".join(STL_QUALITY), "STL tessellation setting")
-    kinds = select_kinds(only)
-    out_dir = Path(out_dir)
-    seconds: dict[str, float] = {}
-
-    t0 = time.perf_counter()
-    note("geometry")
-    needs_fab = any(k in kinds for k in _NEEDS_FABRICATION)
-    if design is None or (needs_fab and not design.fabrication_checked):
-        design = build_design(spec, check_fabrication=needs_fab)  # before the kernel starts
-    seconds["geometry_s"] = time.perf_counter() - t0
-    check_free([out_dir / n for n in planned_files(spec, kinds)], force)
-
-    solid_kinds = [k for k in kinds if k in SOLID_KINDS]
-    store = open_cache(cache)
-
-    def run(job: str, *args: Any, **kwargs: Any) -> Any:  # the kernel worker, started on use
-        return (worker or default_worker()).run(job, *args, **kwargs)
-
-    stage = SolidStage(store, design, quality, run)
-    with OutputSet(out_dir, force=force) as out:
-        solids: dict[str, dict[str, Any]] = {}
-        if solid_kinds:
-            note("solids")
+    if options is None:
+        options = BuildOptions.check(only, quality, force, cache)
+    with contextlib.ExitStack() as exits:
+        b = _Build(spec, Path(out_dir), options, worker or default_worker(), design, exits)
+        for st in stages():
+            if not st.when(b):
+                continue
+            if st.name is not None:
+                note(st.name)
             t0 = time.perf_counter()
-            solids = stage.solids(solid_kinds, spec.name, out.staging)
-            seconds["solids_s"] = time.perf_counter() - t0
-            for k in solid_kinds:
-                for name in solids[k]["files"].values():
-                    out.staged_path(name)
-                for stage_name, s in solids[k]["seconds"].items():
-                    seconds[f"{k}_{stage_name}"] = s
-        report, warnings = start_report(spec, design, solids, spec_sha256(spec), package_version())
-        frame = design.panel_frame
-        skin = spec.skin
-        if _cuts_panel(spec, kinds) and isinstance(skin, PanelSkinSpec):
-            note("panel")
-            t0 = time.perf_counter()
-            cut = (worker or default_worker()).run(
-                "ductgen.solids.panel_cut:cut_panel_job",
-                design,
-                skin.file,
-                skin.units,
-                [solids["cutter"]["files"]["step"]],
-                str(out.staging),
-                "insert" in solids,
-            )
-            out.staged_path(cut.pop("file"))
-            add_panel_cut(report, cut)
-            seconds["panel_s"] = time.perf_counter() - t0
-        ctx = BuildContext(
-            spec=spec,
-            design=design,
-            solids=solids,
-            report=report,
-            warnings=warnings,
-            cache=store,
-            quality=quality,
-            kernel=run,
-        )
-        files: dict[str, str] = {}
-        for k in solid_kinds:
-            for fmt, name in solids[k]["files"].items():
-                files[f"{k}_{fmt}"] = name
-        if "panel" in report["geometry"]["skin"]:
-            files["panel_step"] = f"{spec.name}-panel.step"
-        plan = insert_split_plan(report) if "insert" in solids else None
-        pieces: list[dict[str, Any]] = []
-        if plan is not None:  # the insert is larger than the bed: keyed pieces that fit
-            note("insert split")
-            t0 = time.perf_counter()
-            pieces = stage.split_insert(
-                out.staging,
-                solids["insert"]["files"]["step"],
-                spec.name,
-                plan,
-                tuple(spec.print.bed),
-                None if frame is None else (frame.origin.tolist(), frame.axes.tolist()),
-            )
-            for k, piece in enumerate(pieces, start=1):
-                for fmt in ("step", "stl"):
-                    out.staged_path(piece[fmt])
-                    files[f"insert_part{k}_{fmt}"] = piece[fmt]
-            add_insert_pieces(report, pieces)
-            seconds["insert_split_s"] = time.perf_counter() - t0
-        if "insert" in solids:
-            stls = [p["stl"] for p in pieces] if plan is not None else [files["insert_stl"]]
-            name = f"{spec.name}-insert.3mf"
-            out.add(name, _plate(out.staging, stls, report, frame, spec.name, plan is not None))
-            files["insert_3mf"] = name
-        for k in kinds:
-            if k in OUTPUTS and not OUTPUTS[k].made_for(spec):
-                report.setdefault("not_made", {})[k] = OUTPUTS[k].why_not
-            elif k in OUTPUTS:
-                note(k)
-                t0 = time.perf_counter()
-                for suffix, data in OUTPUTS[k].encode(ctx).items():
-                    name = f"{spec.name}-{suffix}"
-                    out.add(name, data)
-                    files[suffix.replace(".", "_")] = name
-                seconds[f"{k}_s"] = time.perf_counter() - t0
-        finish_report(report, ctx.warnings, files)
-        out.add("report.json", report_bytes(report))
-        note("publish")
-        paths = out.publish()
+            st.run(b)
+            if st.seconds is not None:
+                b.seconds[st.seconds] = time.perf_counter() - t0
+    assert b.kernel is not None
     return BuildResult(
-        report=report,
-        files=paths,
-        seconds=seconds,
-        solids=solids,
-        design=design,
-        cache={"hits": stage.hits, "misses": stage.misses},
+        report=b.report,
+        files=b.paths,
+        seconds=b.seconds,
+        solids=b.solids,
+        record=b.rec,
+        design=b.design,
+        cache={"hits": b.kernel.hits, "misses": b.kernel.misses},
     )
-
-
-def _plate(
-    staging: Path,
-    stls: list[str],
-    report: dict[str, Any],
-    frame: Any,
-    title: str,
-    standing: bool = False,
-) -> bytes:
-    """``NAME-insert.3mf``: the insert (or its pieces) on one plate, standing as the report's
-    bed fit says (in the datum's frame on a panel)."""
-    from ductgen.export.threemf import plate_3mf, stl_part
-
-    up = str(report.get("print", {}).get("bed", {}).get("insert", {}).get("orientation_up", "+z"))
-    where = None if frame is None else (frame.origin, frame.axes)
-    if standing:  # the pieces' STLs already stand as they print
-        up, where = "+z", None
-    parts = [stl_part(n.removesuffix(".stl"), (staging / n).read_bytes(), where) for n in stls]
-    return plate_3mf(parts, up, title)

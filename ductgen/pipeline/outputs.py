@@ -8,31 +8,38 @@ suffixes it writes after ``NAME-``. To add an output, add a line here.
 from __future__ import annotations
 
 from collections.abc import Callable
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Any
 
 from ductgen.cache import Cache
 from ductgen.design import Design
 from ductgen.errors import DesignWarning
+from ductgen.report import BuildRecord
+from ductgen.solids.results import SolidResult
 from ductgen.spec.model import Spec
+from ductgen.worker import KernelWorker
 
 __all__ = ["OUTPUTS", "BuildContext", "Output"]
 
 
 @dataclass
 class BuildContext:
-    """What an encoder may read (the spec, the design, the measured solids, the report so
-    far, the solid cache or None) and the warnings it may add."""
+    """What an encoder may read (the spec, the design, the measured solids, the build's
+    record so far, the solid cache or None, the caller's kernel worker) and
+    the warnings it may add (the record's list)."""
 
     spec: Spec
     design: Design
-    solids: dict[str, dict[str, Any]]
-    report: dict[str, Any]
-    warnings: list[DesignWarning] = field(default_factory=list)
+    solids: dict[str, SolidResult]
+    record: BuildRecord
+    worker: KernelWorker
     cache: Cache | None = None
     quality: str = "normal"
-    #: runs a job in the kernel worker (started on first use): ``kernel(job, *args)``
-    kernel: Callable[..., Any] | None = None
+
+    @property
+    def warnings(self) -> list[DesignWarning]:
+        """The build's warnings; an encoder appends its own."""
+        return self.record.warnings
 
 
 def _template(ctx: BuildContext) -> dict[str, bytes]:
@@ -52,7 +59,7 @@ def _template(ctx: BuildContext) -> dict[str, bytes]:
                 "template",
                 dkey,
                 ctx.spec,
-                ctx.report["spec_sha256"],
+                ctx.record.spec_sha256,
                 build_datetime().isoformat(),
                 kernel_versions(("ezdxf", "matplotlib", "numpy")),
                 source_fingerprint(("export", "stamp.py", "units.py")),
@@ -60,7 +67,7 @@ def _template(ctx: BuildContext) -> dict[str, bytes]:
             entry = ctx.cache.get(key)
             if entry is not None:
                 return {name: bytes(data) for name, data in entry.blobs.items()}
-    files = template_files(ctx.design, ctx.spec, ctx.report["spec_sha256"])
+    files = template_files(ctx.design, ctx.spec, ctx.record.spec_sha256)
     if key is not None and ctx.cache is not None:
         ctx.cache.put(key, {}, files)
     return files
@@ -75,22 +82,22 @@ def _sheet(ctx: BuildContext) -> dict[str, bytes]:
 
 def _jig(ctx: BuildContext) -> dict[str, bytes]:
     """``jig.step``/``.stl`` (and ``jig-partK``): the conformal marking jig, built in the
-    kernel worker (:func:`ductgen.solids.jig.jig_job`); its facts go to ``report["jig"]``."""
+    caller's kernel worker (:func:`ductgen.solids.jig.jig_job`); its facts go to the record's
+    ``jig`` (``report["jig"]``)."""
     import shutil
     import tempfile
     from pathlib import Path
 
-    from ductgen.report import add_jig
+    from ductgen.solids.jig import jig_job
 
-    assert ctx.kernel is not None
     spec = ctx.spec
     tmp = Path(tempfile.mkdtemp(prefix="ductgen-jig-"))
     try:
-        facts = ctx.kernel(
-            "ductgen.solids.jig:jig_job",
+        facts = ctx.worker.run(
+            jig_job,
             ctx.design,
             spec.template.kerf,
-            tuple(spec.print.bed),
+            spec.print.bed,
             ctx.quality,
             spec.name,
             str(tmp),
@@ -99,7 +106,7 @@ def _jig(ctx: BuildContext) -> dict[str, bytes]:
     finally:
         shutil.rmtree(tmp, ignore_errors=True)
     files["jig.3mf"] = _jig_plate(facts, files, spec.name)  # takes the print frames out
-    add_jig(ctx.report, facts)
+    ctx.record.jig = facts
     return dict(sorted(files.items()))
 
 

@@ -16,17 +16,20 @@ from __future__ import annotations
 import dataclasses
 import functools
 import time
-from collections.abc import Callable
 from pathlib import Path
 from typing import Any
 
 import numpy as np
 
 from ductgen.atomic import write_atomic
-from ductgen.cache import Cache, fingerprint, kernel_versions, source_fingerprint
+from ductgen.cache import Cache, Entry, fingerprint, kernel_versions, source_fingerprint
 from ductgen.design import Design
+from ductgen.solids.jobs import build_solids
+from ductgen.solids.results import InsertPiece, Mesh, SolidResult
+from ductgen.solids.split import split_insert_job
 from ductgen.solids.step_text import stamp_step
 from ductgen.tolerances import STL_QUALITY
+from ductgen.worker import KernelWorker
 
 __all__ = ["SolidStage", "design_key"]
 
@@ -41,8 +44,6 @@ _SOLID_SOURCES = (
     "stamp.py",
     "cache.py",
 )
-_JOB = "ductgen.solids.jobs:build_solids"
-_SPLIT_JOB = "ductgen.solids.split:split_insert_job"
 
 
 @functools.cache
@@ -66,17 +67,24 @@ def design_key(d: Design) -> str | None:
 
 class SolidStage:
     """The solids and the insert split of one build, hits from ``cache``, misses from the
-    kernel worker through ``run(job, *args)``.
+    caller's kernel worker (its process starts on first use, so a build whose every solid
+    hits starts none).
 
     Attributes:
         hits, misses: solid kinds (and ``"insert split"``) served from the cache or built.
     """
 
-    def __init__(self, cache: Cache | None, design: Design, quality: str, run: Callable) -> None:
+    def __init__(
+        self,
+        cache: Cache | None,
+        design: Design,
+        quality: str,
+        worker: KernelWorker,
+    ) -> None:
         self.cache = cache
         self.design = design
         self.quality = quality
-        self.run = run
+        self.worker = worker
         self.dkey = design_key(design) if cache is not None else None
         self.keys: dict[str, str] = {}
         self.hits: list[str] = []
@@ -87,9 +95,9 @@ class SolidStage:
             return None
         return fingerprint(self.dkey, STL_QUALITY[self.quality], *parts)
 
-    def solids(self, kinds: list[str], prefix: str, staging: Path) -> dict[str, dict[str, Any]]:
+    def solids(self, kinds: list[str], prefix: str, staging: Path) -> dict[str, SolidResult]:
         """Per kind what :func:`ductgen.solids.jobs.build_solids` returns, its files staged."""
-        got: dict[str, dict[str, Any]] = {}
+        got: dict[str, SolidResult] = {}
         missing = []
         for kind in kinds:
             t0 = time.perf_counter()
@@ -100,11 +108,12 @@ class SolidStage:
             if entry is None:
                 missing.append(kind)
                 continue
-            got[kind] = _solid_from_entry(entry, kind, prefix, staging)
-            got[kind]["seconds"] = {"cache_s": time.perf_counter() - t0}
+            got[kind] = _solid_from_entry(entry, kind, prefix, staging, t0)
             self.hits.append(kind)
         if missing:
-            built = self.run(_JOB, self.design, missing, self.quality, prefix, str(staging))
+            built = self.worker.run(
+                build_solids, self.design, missing, self.quality, prefix, str(staging)
+            )
             for kind in missing:
                 got[kind] = built[kind]
                 self.misses.append(kind)
@@ -120,7 +129,7 @@ class SolidStage:
         plan: tuple[list[float], str],
         bed: tuple[float, float, float],
         frame: tuple[list[float], list[list[float]]] | None,
-    ) -> list[dict[str, Any]]:
+    ) -> list[InsertPiece]:
         """The insert's bed-size pieces (see :func:`ductgen.solids.split.split_insert_job`)."""
         stations, up = plan
         base = self.keys.get("insert")
@@ -129,8 +138,8 @@ class SolidStage:
         if entry is not None:
             self.hits.append("insert split")
             return _pieces_from_entry(entry, prefix, staging)
-        pieces = self.run(
-            _SPLIT_JOB,
+        made = self.worker.run(
+            split_insert_job,
             str(staging),
             step_name,
             prefix,
@@ -140,49 +149,46 @@ class SolidStage:
             self.quality,
             frame,
         )
+        pieces = [InsertPiece.from_dict(p) for p in made]
         self.misses.append("insert split")
         if key is not None and self.cache is not None:
             blobs = {}
             for k, p in enumerate(pieces):
                 for fmt in ("step", "stl"):
-                    blobs[f"{fmt}{k}"] = (staging / p[fmt]).read_bytes()
-            meta = [{k: v for k, v in p.items() if k not in ("step", "stl")} for p in pieces]
+                    blobs[f"{fmt}{k}"] = (staging / getattr(p, fmt)).read_bytes()
+            meta = [
+                {k: v for k, v in p.as_dict().items() if k not in ("step", "stl")} for p in pieces
+            ]
             self.cache.put(key, {"pieces": meta}, blobs)
         return pieces
 
 
-def _solid_to_entry(r: dict[str, Any], staging: Path) -> tuple[dict[str, Any], dict[str, Any]]:
-    meta = {k: v for k, v in r.items() if k not in ("files", "seconds", "mesh")}
-    meta["check_mesh"] = list(meta["check_mesh"])
-    verts, faces = r["mesh"]
+def _solid_to_entry(r: SolidResult, staging: Path) -> tuple[dict[str, Any], dict[str, Any]]:
     blobs = {
-        "step": (staging / r["files"]["step"]).read_bytes(),
-        "stl": (staging / r["files"]["stl"]).read_bytes(),
-        "verts": np.asarray(verts),
-        "faces": np.asarray(faces),
+        "step": (staging / r.step_file).read_bytes(),
+        "stl": (staging / r.stl_file).read_bytes(),
+        "verts": np.asarray(r.mesh.vertices),
+        "faces": np.asarray(r.mesh.faces),
     }
-    return meta, blobs
+    return r.numbers(), blobs
 
 
-def _solid_from_entry(entry: Any, kind: str, prefix: str, staging: Path) -> dict[str, Any]:
+def _solid_from_entry(
+    entry: Entry, kind: str, prefix: str, staging: Path, t0: float
+) -> SolidResult:
     step_name, stl_name = f"{prefix}-{kind}.step", f"{prefix}-{kind}.stl"
     write_atomic(staging / step_name, stamp_step(entry.blobs["step"], f"{prefix}-{kind}"))
     write_atomic(staging / stl_name, entry.blobs["stl"])
-    out: dict[str, Any] = {}
-    for k, v in entry.meta.items():  # the worker's key order (the report reads some in order)
-        out[k] = tuple(v) if k == "check_mesh" else v
-        if k == "check_mesh":
-            out["files"] = {"step": step_name, "stl": stl_name}
-            out["seconds"] = {}
-            out["mesh"] = (entry.blobs["verts"], entry.blobs["faces"])
-    return out
+    mesh = Mesh(entry.blobs["verts"], entry.blobs["faces"])
+    seconds = {"cache_s": time.perf_counter() - t0}
+    return SolidResult.from_numbers(entry.meta, step_name, stl_name, mesh, seconds)
 
 
-def _pieces_from_entry(entry: Any, prefix: str, staging: Path) -> list[dict[str, Any]]:
+def _pieces_from_entry(entry: Entry, prefix: str, staging: Path) -> list[InsertPiece]:
     pieces = []
     for k, meta in enumerate(entry.meta["pieces"]):
         base = f"{prefix}-insert-part{k + 1}"
         write_atomic(staging / f"{base}.step", stamp_step(entry.blobs[f"step{k}"], base))
         write_atomic(staging / f"{base}.stl", entry.blobs[f"stl{k}"])
-        pieces.append({"step": f"{base}.step", "stl": f"{base}.stl", **meta})
+        pieces.append(InsertPiece.from_dict({"step": f"{base}.step", "stl": f"{base}.stl", **meta}))
     return pieces

@@ -81,21 +81,20 @@ def sheet_files(ctx: Any) -> dict[str, bytes]:
     from ductgen.sheets.sheet import sheet_pdf
 
     try:
-        png: bytes | None = preview_png(ctx)
+        png: bytes | None = preview_png(ctx, ctx.worker)
     except ExportError as err:
         ctx.warnings.append(DesignWarning("preview_unavailable", str(err)))
         png = None
-    split = ctx.report.get("print", {}).get("bed", {}).get("insert", {})
+    record = ctx.record
     pdf = sheet_pdf(
         ctx.design.geometry,
         ctx.spec,
-        ctx.report["spec_sha256"],
-        ctx.report["ductgen_version"],
+        record.spec_sha256,
+        record.ductgen_version,
         png,
-        ctx.report.get("flow"),
-        tuple(split.get("split_stations_x_mm") or ()),
-        skin_lines(ctx.report["geometry"].get("skin", {}), ctx.report.get("template", {})),
-        design=ctx.design,
+        record.flow,
+        () if record.split is None else record.split.stations_x_mm,
+        skin_lines(record.skin, record.template),
     )
     files = {"sheet.pdf": pdf}
     if png is not None:

@@ -16,6 +16,7 @@ from typing import Any
 import numpy as np
 
 from ductgen.errors import ExportError, GeometryError
+from ductgen.solids.jobs import cutter_mesh_job
 
 __all__ = [
     "GL_PACKAGES",
@@ -341,11 +342,11 @@ def preview_png(ctx: Any, worker: Any = None) -> bytes:
     from ductgen.worker import default_worker
 
     w = worker or default_worker()
-    kind = next((k for k in _KINDS if "mesh" in ctx.solids.get(k, {})), None)
+    kind = next((k for k in _KINDS if k in ctx.solids), None)
     if kind is None:
-        kind, mesh = "cutter", w.run("ductgen.solids.jobs:cutter_mesh_job", ctx.design)
+        kind, mesh = "cutter", w.run(cutter_mesh_job, ctx.design)
     else:
-        mesh = ctx.solids[kind]["mesh"]
+        mesh = ctx.solids[kind].mesh
     d = ctx.design
     g = d.geometry
     turned = d.placement.plug_map if kind == "plug" else None
@@ -389,15 +390,15 @@ def preview_png(ctx: Any, worker: Any = None) -> bytes:
         if entry is not None:
             return bytes(entry.blobs["png"])
     try:
-        png = w.run(
-            "ductgen.sheets.preview:render_png",
+        png = w.run_within(
+            120.0,
+            render_png,
             mesh[0],
             mesh[1],
             opening,
             panel=panel,
             marks=marks,
             clip_by=clip_by,
-            timeout_s=120.0,
         )
     except GeometryError as err:  # the renderer crashed the worker (no GL driver at all)
         raise ExportError(_gl_message(err.detail)) from err

@@ -17,6 +17,7 @@ from typing import Any
 from ductgen.design import Design
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.solids.kinds import SOLID_KINDS
+from ductgen.solids.results import Mesh, SolidResult
 from ductgen.tolerances import DEFAULT_TOLERANCES, STL_QUALITY
 from ductgen.worker import stage
 
@@ -58,6 +59,11 @@ def recipes() -> dict[str, SolidRecipe]:
     }
 
 
+def _subdivided(mesh: Any, step_mm: float) -> Any:
+    """``mesh`` (a trimesh) with every edge split to at most ``step_mm`` (mm)."""
+    return mesh.subdivide_to_size(step_mm)
+
+
 def mapped_mesh(flat: Any, fn: Any, lin: float, ang: float, curvature: float) -> tuple[Any, Any]:
     """Triangulation of a mapped solid (vertices mm, faces): the design-coordinate solid
     triangulated at (``lin`` mm, ``ang`` rad), its edges split until a mapped chord sags less
@@ -75,7 +81,7 @@ def mapped_mesh(flat: Any, fn: Any, lin: float, ang: float, curvature: float) ->
     m = trimesh.Trimesh(v, f)  # merges the kernel's per-face copies of shared vertices
     step = math.sqrt(8.0 * lin / curvature) if curvature > 0 else math.inf
     if math.isfinite(step):
-        m = m.subdivide_to_size(step)
+        m = _subdivided(m, step)
     return np.asarray(fn(m.vertices)), np.asarray(m.faces)
 
 
@@ -89,7 +95,7 @@ def mapped_volume_mm3(flat: Any, fn: Any, step_mm: float = 2.0) -> float:
     from ductgen.solids.mesh import triangulate
 
     v, f = triangulate(flat, *CHECK_MESH)
-    fine = trimesh.Trimesh(v, f, process=False).subdivide_to_size(step_mm)
+    fine = _subdivided(trimesh.Trimesh(v, f, process=False), step_mm)
     return float(trimesh.Trimesh(fn(fine.vertices), fine.faces, process=False).volume)
 
 
@@ -103,7 +109,7 @@ def wetted_area_mm2(vertices: Any, faces: Any, g: InletGeometry, fn: Any = None)
 
     soup, tris = _clipped_below_skin(np.asarray(vertices, dtype=float), np.asarray(faces), g)
     if fn is not None:
-        fine = trimesh.Trimesh(soup, tris, process=False).subdivide_to_size(2.0)
+        fine = _subdivided(trimesh.Trimesh(soup, tris, process=False), 2.0)
         return float(trimesh.Trimesh(fn(fine.vertices), fine.faces, process=False).area)
     t = soup[tris]
     return float(0.5 * np.linalg.norm(np.cross(t[:, 1] - t[:, 0], t[:, 2] - t[:, 0]), axis=1).sum())
@@ -135,12 +141,13 @@ def _clipped_below_skin(vertices: Any, faces: Any, g: InletGeometry) -> tuple[An
 
 def build_solids(
     d: Design, kinds: list[str], quality: str, prefix: str, staging: str
-) -> dict[str, dict[str, Any]]:
+) -> dict[str, SolidResult]:
     """Build, check and encode each kind; write ``PREFIX-KIND.step/.stl`` into ``staging``.
 
-    Returns per kind: measured volume and area (mm³, mm²), face count, expected volume,
-    the written file names, wall-clock seconds per stage, and the STL mesh (vertices mm,
-    faces) for previews and mesh checks in the parent.
+    Returns per kind its :class:`~ductgen.solids.results.SolidResult`: measured volume and
+    area (mm³, mm²), face count, expected volume, the written file names, wall-clock seconds
+    per stage, and the STL mesh (vertices mm, faces) for previews and mesh checks in the
+    parent.
     """
     import time
 
@@ -149,9 +156,8 @@ def build_solids(
     from ductgen.solids.cad_io import step_bytes_healed, stl_bytes
     from ductgen.solids.check import CHECK_MESH, CHECK_MESH_CURVED, check_solid
     from ductgen.solids.deform import place
-    from ductgen.solids.mesh import triangulate
 
-    out: dict[str, dict[str, Any]] = {}
+    out: dict[str, SolidResult] = {}
     built: dict[str, Any] = {}
     book = recipes()
     tol = DEFAULT_TOLERANCES
@@ -189,13 +195,7 @@ def build_solids(
         times["step_s"] = time.perf_counter() - t0
         t0 = time.perf_counter()
         stage(f"{kind} STL")
-        lin, ang = STL_QUALITY[quality]
-        if curved:  # the design mesh, refined for the curvature and mapped (see mapped_mesh)
-            verts, faces = mapped_mesh(flat, fn, lin, ang, d.placement.curvature)
-        elif (lin, ang) == check_mesh and res.mesh is not None:
-            verts, faces = res.mesh
-        else:
-            verts, faces = triangulate(solid, lin, ang)
+        verts, faces = _stl_mesh(d, flat, solid, res.mesh, fn, STL_QUALITY[quality], check_mesh)
         tight, winding, vol, _ = mesh_stats(verts, faces)
         if not (tight and winding):
             from ductgen.errors import GeometryError
@@ -204,26 +204,61 @@ def build_solids(
         stl_name = f"{prefix}-{kind}.stl"
         write_atomic(Path(staging) / stl_name, stl_bytes(verts, faces, f"{prefix}-{kind}"))
         times["stl_s"] = time.perf_counter() - t0
-        out[kind] = {
-            "volume_mm3": res.volume_mm3,
-            "expected_volume_mm3": res.expected_volume_mm3,
-            "stl_volume_mm3": vol,
-            "area_mm2": res.area_mm2,
-            "faces": res.faces,
-            "check_mesh": check_mesh,
-            "files": {"step": step_name, "stl": stl_name},
-            "seconds": times,
-            "mesh": (verts.astype("float32"), faces.astype("int32")),
-        }
-        if kind == "cutter":
-            flat_mesh = triangulate(flat, *CHECK_MESH) if curved else res.mesh
-            out[kind]["wetted_area_mm2"] = wetted_area_mm2(
-                *flat_mesh, d.geometry, d.placement.solid_map if curved else None
-            )
+        wetted = _cutter_wetted_area(d, flat, res.mesh) if kind == "cutter" else None
+        out[kind] = SolidResult(
+            volume_mm3=res.volume_mm3,
+            expected_volume_mm3=res.expected_volume_mm3,
+            stl_volume_mm3=vol,
+            area_mm2=res.area_mm2,
+            faces=res.faces,
+            check_mesh=check_mesh,
+            step_file=step_name,
+            stl_file=stl_name,
+            mesh=Mesh(verts.astype("float32"), faces.astype("int32")),
+            seconds=times,
+            wetted_area_mm2=wetted,
+        )
     return out
 
 
-def cutter_mesh_job(d: Design) -> tuple[Any, Any]:
+def _stl_mesh(
+    d: Design,
+    flat: Any,
+    solid: Any,
+    check: tuple[Any, Any] | None,
+    fn: Any,
+    deflection: tuple[float, float],
+    check_mesh: tuple[float, float],
+) -> tuple[Any, Any]:
+    """The STL's triangulation (vertices mm, faces) at ``deflection`` (mm, rad): on a curved
+    skin the design mesh refined for the curvature and mapped (see :func:`mapped_mesh`);
+    else the check's own mesh when it was made at the same deflection, or a new one."""
+    from ductgen.solids.mesh import triangulate
+
+    lin, ang = deflection
+    if d.placement.curvature != 0.0:
+        return mapped_mesh(flat, fn, lin, ang, d.placement.curvature)
+    if (lin, ang) == check_mesh and check is not None:
+        return check
+    return triangulate(solid, lin, ang)
+
+
+def _cutter_wetted_area(d: Design, flat: Any, check: tuple[Any, Any] | None) -> float:
+    """The cutter's wetted area (mm², :func:`wetted_area_mm2`) from its design-coordinate
+    triangulation (the check's on a flat skin, mapped on a curved one)."""
+    from ductgen.solids.check import CHECK_MESH
+    from ductgen.solids.mesh import triangulate
+
+    curved = d.placement.curvature != 0.0
+    mesh = triangulate(flat, *CHECK_MESH) if curved else check
+    if mesh is None:
+        from ductgen.errors import GeometryError
+
+        raise GeometryError("cutter check", "the check gave no triangulation")
+    return wetted_area_mm2(mesh[0], mesh[1], d.geometry, d.placement.solid_map if curved else None)
+
+
+def cutter_mesh_job(d: Design) -> Mesh:
     """The cutter's triangulation (vertices mm, faces) for the preview, when the build
     made no solids (``--only sheet``)."""
     from ductgen.solids.cutter import make_cutter
@@ -231,7 +266,7 @@ def cutter_mesh_job(d: Design) -> tuple[Any, Any]:
 
     stage("preview cutter")
     verts, faces = triangulate(make_cutter(d), *STL_QUALITY["draft"])
-    return verts.astype("float32"), faces.astype("int32")
+    return Mesh(verts.astype("float32"), faces.astype("int32"))
 
 
 def warm_up() -> str:

@@ -24,7 +24,7 @@ from typing import Any
 import numpy as np
 
 from ductgen.design import Design
-from ductgen.solids.panel import load_panel
+from ductgen.panel_file import load_panel
 
 __all__ = ["CUT_FUZZY_MM", "REMOVED_REL", "SLIVER_FRACTION", "cut_panel_job", "cutout_tool"]
 

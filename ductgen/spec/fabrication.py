@@ -12,7 +12,7 @@ from typing import Annotated, Literal
 
 from pydantic import Field, StrictBool, StrictFloat, StrictInt
 
-from ductgen.spec.types import Deg, Mm, Section
+from ductgen.spec.types import Deg, Mm, Section, every_default
 
 __all__ = ["MATERIALS", "HolesSpec", "InsertSpec", "PlugSpec"]
 
@@ -87,7 +87,7 @@ class InsertSpec(Section):
             description="surface mount: width of the bezel's feathered edge",
         ),
     ]
-    holes: HolesSpec = Field(default_factory=HolesSpec)
+    holes: HolesSpec = Field(default_factory=every_default(HolesSpec))
     bead_height: Annotated[
         Mm, Field(default=1.2, ge=0, le=10, description="hose retention bead height on the spigot")
     ]

@@ -7,7 +7,7 @@ A new element is a model here with its ``kind`` in :data:`LossElement`, its elem
 
 from __future__ import annotations
 
-from typing import Annotated, Literal
+from typing import Annotated, Literal, get_args
 
 from pydantic import Field, StrictFloat, StrictStr, model_validator
 
@@ -15,6 +15,7 @@ from ductgen.spec.types import Deg, M, Section, si
 
 __all__ = [
     "HOSE_ROUGHNESS_M",
+    "LOSS_KINDS",
     "Area",
     "BendLoss",
     "CoolerLoss",
@@ -146,3 +147,9 @@ class DiffuserLoss(Section):
 LossElement = Annotated[
     HoseLoss | BendLoss | CoolerLoss | DiffuserLoss, Field(discriminator="kind")
 ]
+
+#: Loss ``kind`` → its spec model, read off :data:`LossElement` (the one list of kinds; the
+#: flow model's :data:`ductgen.flow.report.ELEMENT_OF` must cover it).
+LOSS_KINDS: dict[str, type[Section]] = {
+    m.model_fields["kind"].default: m for m in get_args(get_args(LossElement)[0])
+}

@@ -17,7 +17,7 @@ from ductgen.spec.fabrication import InsertSpec, PlugSpec
 from ductgen.spec.flow import FlowSpec
 from ductgen.spec.printing import PrintSpec
 from ductgen.spec.template import TemplateSpec
-from ductgen.spec.types import MAX_LENGTH_MM, Deg, Mm, Section
+from ductgen.spec.types import MAX_LENGTH_MM, Deg, Mm, Section, every_default
 
 #: A direction component: any finite number within ±1e6 (directions are normalised).
 Vec = Annotated[float, Field(ge=-1e6, le=1e6, allow_inf_nan=False)]
@@ -356,16 +356,16 @@ class Spec(Section):
         ),
     ]
     throat: ThroatSpec
-    ramp: RampSpec = Field(default_factory=RampSpec)
-    planform: PlanformSpec = Field(default_factory=PlanformSpec)
-    lip: LipSpec = Field(default_factory=LipSpec)
+    ramp: RampSpec = Field(default_factory=every_default(RampSpec))
+    planform: PlanformSpec = Field(default_factory=every_default(PlanformSpec))
+    lip: LipSpec = Field(default_factory=every_default(LipSpec))
     outlet: OutletSpec = Field(default_factory=NoOutlet)
-    skin: SkinSpec = Field(default_factory=FlatSkinSpec)
-    cutter: CutterSpec = Field(default_factory=CutterSpec)
-    insert: InsertSpec = Field(default_factory=InsertSpec)
-    plug: PlugSpec = Field(default_factory=PlugSpec)
-    template: TemplateSpec = Field(default_factory=TemplateSpec)
-    print: PrintSpec = Field(default_factory=PrintSpec)
+    skin: SkinSpec = Field(default_factory=every_default(FlatSkinSpec))
+    cutter: CutterSpec = Field(default_factory=every_default(CutterSpec))
+    insert: InsertSpec = Field(default_factory=every_default(InsertSpec))
+    plug: PlugSpec = Field(default_factory=every_default(PlugSpec))
+    template: TemplateSpec = Field(default_factory=every_default(TemplateSpec))
+    print: PrintSpec = Field(default_factory=every_default(PrintSpec))
     flow: FlowSpec | None = None
 
     @field_validator("skin", mode="before")

@@ -7,7 +7,8 @@ mph or m/s (see :mod:`ductgen.units`).
 
 from __future__ import annotations
 
-from typing import Annotated
+from collections.abc import Callable
+from typing import Annotated, TypeVar, cast
 
 from pydantic import BaseModel, BeforeValidator, ConfigDict
 
@@ -20,6 +21,7 @@ __all__ = [
     "MPerS",
     "Mm",
     "Section",
+    "every_default",
     "si",
 ]
 
@@ -63,3 +65,13 @@ class Section(BaseModel):
     """
 
     model_config = ConfigDict(extra="forbid", frozen=True)
+
+
+_S = TypeVar("_S", bound=Section)
+
+
+def every_default(cls: type[_S]) -> Callable[[], _S]:
+    """``cls`` as a no-argument factory (``Field(default_factory=every_default(RampSpec))``):
+    every key of the section has a default, given inside ``Annotated`` where the type
+    checker's pydantic plugin does not look."""
+    return cast("Callable[[], _S]", cls)

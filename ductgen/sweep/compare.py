@@ -83,7 +83,7 @@ def metric_value(report: dict[str, Any] | None, name: str) -> Any:
 def _load(path: str) -> Any:
     import trimesh
 
-    mesh = trimesh.load(path, force="mesh")
+    mesh: Any = trimesh.load(path, force="mesh")
     if not mesh.is_watertight:
         raise ValueError(f"{Path(path).name} is not a closed mesh")
     return mesh
@@ -114,12 +114,12 @@ def compare_meshes(a: Any, b: Any, samples: int = SAMPLES) -> dict[str, float]:
         dense = np.vstack(
             [dst.vertices, trimesh.sample.sample_surface(dst, 5 * samples, seed=2)[0]]
         )
-        bound = cKDTree(dense).query(pts)[0]
+        bound: Any = cKDTree(dense).query(pts)[0]
         order = np.argsort(-bound)
         k = min(256, len(pts))
         while True:
-            _, dist, _ = trimesh.proximity.closest_point(dst, pts[order[:k]])
-            best = float(np.max(dist))
+            found: Any = trimesh.proximity.closest_point(dst, pts[order[:k]])
+            best = float(np.max(found[1]))
             if k >= len(pts) or best >= bound[order[k]]:
                 return best
             k = min(4 * k, len(pts))

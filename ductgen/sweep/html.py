@@ -18,6 +18,7 @@ import re
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
+from ductgen.display import SHOWN
 from ductgen.sweep.compare import METRICS, csv_text
 
 if TYPE_CHECKING:
@@ -25,7 +26,6 @@ if TYPE_CHECKING:
     from ductgen.sweep.variants import Variant
 
 __all__ = [
-    "COLUMNS",
     "CSS",
     "MAX_OVERLAY",
     "MAX_PREVIEWS",
@@ -192,31 +192,6 @@ def _metric_plots(rows: list[dict[str, Any]], keys: list[str]) -> str | None:
     return _png(fig)
 
 
-#: Column → (heading, unit shown, factor from the stored unit, decimals shown).
-COLUMNS: dict[str, tuple[str, str, float, int]] = {
-    "ramp_length_mm": ("ramp length", "mm", 1.0, 1),
-    "throat_area_mm2": ("throat area", "mm²", 1.0, 0),
-    "ramp_cavity_volume_mm3": ("ramp cavity volume", "cm³", 1e-3, 1),
-    "cutter_volume_mm3": ("cutter volume", "cm³", 1e-3, 1),
-    "insert_volume_mm3": ("insert volume", "cm³", 1e-3, 1),
-    "plug_volume_mm3": ("plug volume", "cm³", 1e-3, 1),
-    "wetted_area_mm2": ("wetted area", "cm²", 1e-2, 1),
-    "max_wall_divergence_deg": ("max wall divergence", "deg", 1.0, 1),
-    "steepest_wall_angle_deg": ("transition steepest wall", "deg", 1.0, 1),
-    "length_under_stall_line_mm": ("transition length under stall line", "mm", 1.0, 0),
-    "delta_over_depth": ("δ / D", "", 1.0, 2),
-    "volume_flow_m3_s": ("flow", "L/s", 1e3, 1),
-    "ram_recovery": ("ram recovery", "", 1.0, 3),
-    "recovery_uncertainty": ("recovery ±", "", 1.0, 3),
-    "recovery_source": ("recovery source", "", 1.0, 0),
-    "momentum_drag_n": ("momentum drag", "N", 1.0, 2),
-    "warnings_count": ("warnings", "", 1.0, 0),
-    "build_s": ("build time", "s", 1.0, 1),
-    "sym_diff_volume_mm3": ("sym. diff. volume vs baseline", "cm³", 1e-3, 2),
-    "hausdorff_mm": ("Hausdorff distance vs baseline", "mm", 1.0, 2),
-}
-
-
 def number(v: float, decimals: int | None = None) -> str:
     """A number as people read it: fixed point (never an exponent), thin-space thousands
     groups, ``decimals`` places, or four significant digits when None."""
@@ -234,7 +209,8 @@ def _breakable(text: str) -> str:
 
 
 def _heading(col: str) -> str:
-    label, unit, _, _ = COLUMNS.get(col, (col, "", 1.0, 0))
+    how = SHOWN.get(col)
+    label, unit = (col, "") if how is None else (how.label, how.unit)
     unit_html = f'<br><span class="unit">{html.escape(unit)}</span>' if unit else ""
     name = html.escape(col)
     return f'<th data-col="{name}" title="{name}">{_breakable(label)}{unit_html}</th>'
@@ -245,8 +221,9 @@ def _cell(col: str, v: Any) -> tuple[str, str]:
     if v is None:
         return "", ""
     if _numeric(v):
-        _, _, factor, decimals = COLUMNS.get(col, ("", "", 1.0, None))  # type: ignore[arg-type]
-        return number(float(v) * factor, decimals), repr(v)
+        how = SHOWN.get(col)  # unlisted (a varied spec key): four significant digits
+        shown_v = float(v) if how is None else how.value(float(v))
+        return number(shown_v, None if how is None else how.digits), repr(v)
     text = str(v)
     if col == "variant":
         return _breakable(text), html.escape(text)

@@ -29,7 +29,13 @@ from typing import Any
 
 from ductgen.errors import SpecError
 from ductgen.sweep.results import SweepResult, VariantResult, VariantTask
-from ductgen.sweep.variants import STAMP_FILE, content_hash, make_variants, read_stamp
+from ductgen.sweep.variants import (
+    STAMP_FILE,
+    Variant,
+    content_hash,
+    make_variants,
+    read_stamp,
+)
 from ductgen.sweep.vary import Vary
 
 __all__ = [
@@ -210,6 +216,36 @@ def _run_all(
         done(fut.result())
 
 
+def _tasks(
+    variants: list[Variant],
+    out: Path,
+    kinds: list[str],
+    quality: str,
+    cfd: str | None,
+    cache: bool,
+) -> list[VariantTask]:
+    """One build task per variant, each into ``out/ID`` with the hash its cached folder is
+    recognised by."""
+    from ductgen.pipeline.builder import package_version
+
+    version = package_version()
+    return [
+        VariantTask(
+            v.id,
+            v.spec,
+            str(out / v.id),
+            tuple(kinds),
+            quality,
+            content_hash(v.spec, [*kinds, f"cfd-{cfd}"] if cfd else kinds, quality, version),
+            v.raw,
+            v.design,
+            cfd,
+            cache,
+        )
+        for v in variants
+    ]
+
+
 def run_sweep(
     spec_path: str | Path,
     varies: list[Vary],
@@ -248,27 +284,14 @@ def run_sweep(
             unknown ``--only`` kind, ``--baseline`` or ``--quality``, or an unreachable
             scheduler.
     """
-    from ductgen.pipeline.builder import output_kinds
-    from ductgen.pipeline.builder import package_version as _version
+    from ductgen.pipeline.options import BuildOptions
     from ductgen.sweep.compare import compare_all, comparison_rows
     from ductgen.sweep.html import write_outputs
-    from ductgen.tolerances import STL_QUALITY
     from ductgen.worker import WorkerLimits
 
     WorkerLimits.from_env()  # a bad DUCTGEN_MEMORY_MB / DUCTGEN_TIMEOUT_S: exit 2 up front
     t_start = time.perf_counter()
-    kinds_all = output_kinds()
-    kinds = kinds_all if not only else [k for k in kinds_all if k in only]
-    bad = [k for k in (only or []) if k not in kinds_all]
-    if bad:
-        raise SpecError(
-            "--only",
-            ",".join(bad),
-            "a comma list of " + ", ".join(kinds_all),
-            "unknown output kind",
-        )
-    if quality not in STL_QUALITY:
-        raise SpecError("--quality", quality, " | ".join(STL_QUALITY), "STL tessellation setting")
+    kinds = list(BuildOptions.check(only, quality).kinds)
     if jobs is not None and jobs < 1:
         raise SpecError("-j", jobs, ">= 1", "number of worker processes")
     spec_path = Path(spec_path)
@@ -289,22 +312,7 @@ def run_sweep(
             "the solids are compared against it",
         )
     out = Path(out_dir).resolve()
-    version = _version()
-    tasks = [
-        VariantTask(
-            v.id,
-            v.spec,
-            str(out / v.id),
-            tuple(kinds),
-            quality,
-            content_hash(v.spec, [*kinds, f"cfd-{cfd}"] if cfd else kinds, quality, version),
-            v.raw,
-            v.design,
-            cfd,
-            cache,
-        )
-        for v in variants
-    ]
+    tasks = _tasks(variants, out, kinds, quality, cfd, cache)
     results: dict[str, VariantResult] = {}
     for t in tasks:
         hit = _cached(t)

@@ -206,9 +206,9 @@ def _range(option: str, a_text: str, b_text: str, step_text: str) -> tuple[Any, 
         raise SpecError(
             "--vary", option, f"at most {MAX_VARIANTS} values", f"the range has {n} values"
         )
-    values = []
+    values: list[str | float] = []
     for i in range(n):
-        v = float(f"{a + i * step:.12g}")  # drop float noise of repeated steps
+        v: float = float(f"{a + i * step:.12g}")  # drop float noise of repeated steps
         if v.is_integer() and all(float(m).is_integer() for m, _ in parts):
             v = int(v)
         if unit:

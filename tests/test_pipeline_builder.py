@@ -74,6 +74,7 @@ def _closed_stl(path: Path) -> tuple[bool, float]:
     return bool(np.all(counts == 2)), vol
 
 
+@pytest.mark.slow
 @settings(
     max_examples=EXAMPLES,
     deadline=None,

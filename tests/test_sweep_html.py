@@ -52,7 +52,7 @@ def test_numbers_have_units_and_no_exponents() -> None:
     assert cells["volume_flow_m3_s"] == "61.2"  # 0.0612345 m³/s = 61.2 L/s
     assert cells["ram_recovery"] == "0.812"
     assert cells["ramp.angle_deg"] == "5.500"
-    for unit in ("cm³", "cm²", "mm²", "L/s", "deg", ">s<", ">mm<"):
+    for unit in ("cm³", "cm²", "mm²", "L/s", "°", ">s<", ">mm<"):
         assert unit in page
     assert number(1268780.4) == "1\u2009268\u2009780"  # four significant digits at least
 

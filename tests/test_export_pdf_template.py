@@ -96,10 +96,10 @@ def test_tiles_cover_outline_with_overlap(big) -> None:  # type: ignore[no-untyp
     wins = _windows(doc)
     assert len(wins) > 1
     # every point of the opening and the flange lies inside some tile window
-    from ductgen.export.template import _fabrication
+    from ductgen.export.template import flange_contours
     from ductgen.export.template_layout import template_drawing
 
-    d = template_drawing(g, spec, "0" * 64, *_fabrication(build_design(spec), spec))
+    d = template_drawing(g, spec, "0" * 64, *flange_contours(build_design(spec), spec))
     pts = np.vstack([c.sample(1.0) for _, c in d.cuts])
     for p in pts:
         assert any(x0 <= p[0] <= x1 and y0 <= p[1] <= y1 for x0, x1, y0, y1 in wins)

@@ -112,3 +112,29 @@ def test_a_null_optional_quantity_is_not_given_and_a_bad_one_names_the_key() -> 
     with pytest.raises(SpecError) as err:
         parse_spec({**base, "flow": {**base["flow"], "density": "-1 kg/m^3"}})
     assert "flow.density" in str(err.value)
+
+
+def test_every_loss_kind_makes_a_flow_element() -> None:
+    """One list of loss kinds (the spec's tagged union) and the flow model's factory table
+    cover each other: a new kind without its element fails here, not in a user's build."""
+    from ductgen.flow.report import ELEMENT_OF
+    from ductgen.spec.losses import LOSS_KINDS
+
+    assert set(ELEMENT_OF) == set(LOSS_KINDS) and len(LOSS_KINDS) >= 4
+
+
+@pytest.mark.parametrize("kind", ["hose", "bend", "cooler", "diffuser"])
+def test_loss_error_keys_leave_the_union_tag_out(kind: str) -> None:
+    """The tag pydantic puts in an error's location (``flow.losses.0.hose.x``) is read off
+    the union, so the key a user sees is ``flow.losses[0].x`` for every kind."""
+    from ductgen.spec.losses import LOSS_KINDS
+
+    assert kind in LOSS_KINDS
+    data = {
+        "name": "t",
+        "throat": {"width": 100, "depth": 25},
+        "flow": {"speed": "50 m/s", "losses": [{"kind": kind, "bogus": 1}]},
+    }
+    with pytest.raises(SpecError) as err:
+        parse_spec(data)
+    assert "flow.losses[0].bogus" in [p.key for p in err.value.problems]

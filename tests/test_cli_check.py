@@ -44,6 +44,7 @@ def test_thin_wall_flag(tmp_path) -> None:  # type: ignore[no-untyped-def]
     assert main(["check", str(p), "--min-wall", "1.2"]) == 1  # FDM: warn below 1.2 mm (practice)
 
 
+@pytest.mark.slow
 def test_step_file(tmp_path, capsys) -> None:  # type: ignore[no-untyped-def]
     cq = pytest.importorskip("cadquery")
     from ductgen.solids.cad_io import step_bytes

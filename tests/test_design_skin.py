@@ -199,8 +199,8 @@ def test_doubly_curved_solids_are_valid_and_closed(tmp_path) -> None:  # type: i
         # valid and closed (check_solid raised otherwise); the exact volume of the mapped
         # B-rep agrees with the mapped design triangulation (whose flat mesh reads ~3e-4
         # low at the check deflection, measured here) to 2e-3; the written STL is watertight
-        assert m["volume_mm3"] == pytest.approx(m["expected_volume_mm3"], rel=2e-3), kind
-        stl = trimesh.load(tmp_path / m["files"]["stl"])
+        assert m.volume_mm3 == pytest.approx(m.expected_volume_mm3, rel=2e-3), kind
+        stl = trimesh.load(tmp_path / m.stl_file)
         assert stl.is_watertight and stl.is_winding_consistent, kind
 
 

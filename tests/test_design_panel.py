@@ -2,7 +2,7 @@
 CAD kernel (tests/panels.py).
 
 Independent checks: a cylinder or torus patch is the surface the analytic skins describe in
-closed form (tests/test_skin_curved.py checks those against the cylinder's own geometry), so
+closed form (tests/test_design_skin.py checks those against the cylinder's own geometry), so
 a patch moved by a rigid motion must give the analytic skin's outputs moved by the same
 motion; on a B-spline bonnet the kernel's own surface (point distance, face normal, line
 intersection) and Boolean volumes judge the placed solids; the flat design's floor depth
@@ -32,8 +32,8 @@ from tests.panels import (  # noqa: E402
     cylinder_panel,
     torus_panel,
 )
-from tests.test_skin_curved import BASE as CURVED_BASE  # noqa: E402
-from tests.test_skin_curved import _opening_from_dxf  # noqa: E402
+from tests.test_design_skin import BASE as CURVED_BASE  # noqa: E402
+from tests.test_design_skin import _opening_from_dxf  # noqa: E402
 
 #: The curved-skin tests' inlet, its files named "panel-…".
 BASE = {**CURVED_BASE, "name": "panel"}
@@ -72,6 +72,7 @@ def _probe_points(d, n: int = 600) -> np.ndarray:  # type: ignore[no-untyped-def
 # --- analytic patches moved anywhere give the analytic skin moved -----------------------
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize(
     ("name", "analytic", "make"),
     [
@@ -212,7 +213,7 @@ def test_bonnet_opening_floor_and_cut_panel(bonnet, tmp_path) -> None:  # type: 
     from OCP.gp import gp_Pnt
 
     from ductgen.pipeline import build
-    from tests.test_skin_curved import _depth_along
+    from tests.test_design_skin import _depth_along
 
     path, face = bonnet
     flow = np.array([1.0, 0.15, 0.0])
@@ -258,6 +259,7 @@ def test_bonnet_opening_floor_and_cut_panel(bonnet, tmp_path) -> None:  # type: 
     assert skin["smallest_radius_mm"] < 1.0 / abs(hxx)
 
 
+@pytest.mark.slow
 def test_a_noisy_scan_places_as_the_cad_file(bonnet, tmp_path) -> None:  # type: ignore[no-untyped-def]
     import trimesh
 
@@ -312,6 +314,7 @@ def panels(tmp_path_factory) -> dict[str, Path]:  # type: ignore[no-untyped-def]
     return out
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize(
     ("panel", "skin", "key", "words"),
     [

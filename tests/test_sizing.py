@@ -8,7 +8,7 @@ from pathlib import Path
 import pytest
 
 from ductgen.cli.app import main
-from ductgen.sizing import _with_throat, delivered_flow, size_throat
+from ductgen.sizing import delivered_flow, size_throat, spec_with_throat
 from ductgen.spec import load_spec, parse_spec
 
 TARGET = 0.05  # m^3/s
@@ -29,7 +29,7 @@ def test_size_delivers_target_and_is_smallest(plain) -> None:  # type: ignore[no
     g = plain.geometry
     assert g.width_mm / g.depth_mm == pytest.approx(4.0, abs=1e-3)
     # 1 % shallower (same W/D) no longer delivers the target
-    smaller = _with_throat(plain.spec, 0.99 * g.depth_mm, 4.0, 7.0)
+    smaller = spec_with_throat(plain.spec, 0.99 * g.depth_mm, 4.0, 7.0)
     assert delivered_flow(smaller) < TARGET
     # the ramp length follows the floor drop: L = H / tan(7 deg) for a straight floor
     # (trigonometry [derived])

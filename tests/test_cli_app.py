@@ -313,8 +313,14 @@ CASES: list[tuple[str, Callable[[Path], list[str]], str, list[str]]] = [
 ]  # fmt: skip
 
 
+#: Cases whose file the kernel worker reads (a STEP file, a panel scan): slow.
+_KERNEL = ("check-garbage-step", "panel-nan-vertex")
+
+
 @pytest.mark.parametrize(
-    ("make", "key", "words"), [c[1:] for c in CASES], ids=[c[0] for c in CASES]
+    ("make", "key", "words"),
+    [pytest.param(*c[1:], marks=[pytest.mark.slow] if c[0] in _KERNEL else []) for c in CASES],
+    ids=[c[0] for c in CASES],
 )
 def test_bad_input_exits_2_names_key_and_changes_nothing(
     tmp_path: Path,
@@ -359,6 +365,7 @@ def test_fifo_stl_is_refused_without_blocking(
     assert "FILE" in err and "pipe" in err
 
 
+@pytest.mark.slow
 def test_truncated_step_is_unreadable_not_unhealthy(
     tmp_path: Path, capsys: pytest.CaptureFixture[str]
 ) -> None:

@@ -1,12 +1,12 @@
-"""The user's panel file, in the kernel worker: read it, find the datum, sample the surface,
-and cut the finished panel.
-
-A CAD file (STEP) is read with the kernel; its outer surface under the inlet is sampled by
-casting rays along the datum's normal. A mesh scan (STL, OBJ, PLY; no units of its own) is
-read with trimesh and a smoothing bicubic spline is fitted to its vertices by least squares,
-whose residual is reported. Both give the same thing back: the datum frame and a grid of
-heights over the tangent plane (:class:`ductgen.geometry.panel.HeightField`'s input), as
-plain arrays so the result crosses the process boundary.
+"""The user's panel file, in the kernel worker: read it, find the datum, sample the surface.
+Below ``design/``, which asks for the samples; besides ``solids/`` the only module that
+touches the CAD kernel (inside its jobs only). A CAD file (STEP) is read with the kernel;
+its outer surface under the inlet is sampled by casting rays along the datum's normal. A
+mesh scan (STL, OBJ, PLY; no units of its own) is read with trimesh and a smoothing bicubic
+spline is fitted to its vertices by least squares, whose residual is reported. Both give
+the same thing back: the datum frame and a grid of heights over the tangent plane
+(:class:`ductgen.geometry.panel.HeightField`'s input), as plain arrays so the result
+crosses the process boundary.
 """
 
 from __future__ import annotations
