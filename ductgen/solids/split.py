@@ -159,14 +159,14 @@ def split_across_flow(
     stations_x: list[float],
     key_length: float = 6.0,
     key_fraction: float = 0.4,
+    by_planes: bool = True,
 ) -> list[Any]:
     """Cut ``solid`` (a cadquery Solid, mm) at x = each station into keyed pieces.
 
     One splitting operation of the kernel (``BRepAlgoAPI_Splitter``) by the planar faces of
     every glue surface (no Boolean of volumes), then each resulting body is assigned to the
-    piece between the glue surfaces it lies between. Where that leaves a piece invalid (seen
-    on a mapped insert on a curved skin), the pieces are made by Booleans instead, with
-    their fuzzy retries.
+    piece between the glue surfaces it lies between. Where that leaves a piece invalid, or
+    with ``by_planes`` False, the pieces are made by Booleans, with their fuzzy retries.
 
     Args:
         solid: the part.
@@ -188,7 +188,7 @@ def split_across_flow(
     if any(b - a <= key_length for a, b in pairwise(xs)):
         raise GeometryError("split", "stations closer than the key length")
     key = (key_length, 0.5 * key_fraction * (bb.ymax - bb.ymin))
-    pieces = split_by_planes(solid, xs, key)
+    pieces = split_by_planes(solid, xs, key) if by_planes else None
     return pieces if pieces is not None else split_by_booleans(solid, xs, key)
 
 
@@ -199,7 +199,7 @@ STATION_SHIFTS_MM = (4.0, -4.0, 8.0, -8.0, 12.0, -12.0)
 
 
 def split_shifted(
-    solid: Any, stations_x: list[float], key_length: float = 6.0
+    solid: Any, stations_x: list[float], key_length: float = 6.0, by_planes: bool = True
 ) -> tuple[list[float], list[Any]]:
     """:func:`split_across_flow`, and where a piece comes out as more than one solid, the
     same split with every station moved by :data:`STATION_SHIFTS_MM` in turn; the stations
@@ -207,12 +207,13 @@ def split_shifted(
     from ductgen.errors import GeometryError
 
     try:
-        return list(stations_x), split_across_flow(solid, stations_x, key_length)
+        pieces = split_across_flow(solid, stations_x, key_length, by_planes=by_planes)
+        return list(stations_x), pieces
     except GeometryError as first:
         for dx in STATION_SHIFTS_MM:
             xs = [x + dx for x in stations_x]
             try:
-                return xs, split_across_flow(solid, xs, key_length)
+                return xs, split_across_flow(solid, xs, key_length, by_planes=by_planes)
             except GeometryError:
                 continue
         raise first
@@ -225,6 +226,7 @@ def split_for_bed(
     up: str,
     max_pieces: int = 8,
     key_length: float = 6.0,
+    by_planes: bool = True,
 ) -> tuple[list[float], list[Any]]:
     """Fewest equal pieces across the flow that each fit ``bed`` standing ``up``.
 
@@ -243,7 +245,7 @@ def split_for_bed(
     if xs == []:
         return [], [solid]
     while xs is not None and len(xs) < max_pieces:
-        xs, pieces = split_shifted(solid, xs, key_length)
+        xs, pieces = split_shifted(solid, xs, key_length, by_planes)
         if all(bed_fit(triangulate(p, 0.1, 0.3)[0], bed, up).fits for p in pieces):
             return xs, pieces
         bb = solid.BoundingBox()  # the estimate was short: one piece more
@@ -278,15 +280,22 @@ def split_insert_job(
 
     stage("insert split")
     path = Path(staging) / step_name
-    whole = _IN_MEMORY.pop(str(path.resolve()), None) or read_step(path)
+    # a flat insert is cut in memory by planes; a mapped one (curved skin, not kept) is read
+    # back and cut by Booleans: in memory, with healing's tolerances, the splitter's pieces
+    # came out invalid and the Booleans took minutes
+    whole = _IN_MEMORY.pop(str(path.resolve()), None)
+    by_planes = whole is not None
+    if whole is None:
+        whole = read_step(path)
     to_model = None
     if frame is not None:
         whole, to_model = _into_frame(whole, frame)
-    _, pieces = split_shifted(whole, list(stations_x))
+    _, pieces = split_shifted(whole, list(stations_x), by_planes=by_planes)
     lin, ang = STL_QUALITY[quality]
     meshes = [triangulate(p, lin, ang) for p in pieces]
     if not all(bed_fit(v, bed, up).fits for v, _ in meshes):
-        _, pieces = split_for_bed(whole, triangulate(whole, 0.1, 0.3)[0], bed, up)
+        v = triangulate(whole, 0.1, 0.3)[0]
+        _, pieces = split_for_bed(whole, v, bed, up, by_planes=by_planes)
         meshes = [triangulate(p, lin, ang) for p in pieces]
     out = []
     for k, (piece, (v, f)) in enumerate(zip(pieces, meshes, strict=True), start=1):
