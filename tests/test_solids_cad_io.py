@@ -65,3 +65,64 @@ def test_step_checks_clean_and_volume_exact(sample_builds: dict, name: str, kind
     brep, mesh = _volumes(solid)
     assert brep == pytest.approx(mesh, rel=5e-4)
     assert all(dev <= 2e-4 for _, dev in off_surface_edges(solid.wrapped))
+
+
+def _analyser_findings(shape) -> dict[str, int]:  # type: ignore[no-untyped-def]
+    """The argument analyser (OCCT's ``BOPAlgo_ArgumentAnalyzer``) with every check mode on:
+    finding kind → count."""
+    from collections import Counter
+
+    from OCP.BOPAlgo import BOPAlgo_ArgumentAnalyzer
+
+    a = BOPAlgo_ArgumentAnalyzer()
+    a.SetShape1(shape)
+    for mode in (
+        "ArgumentTypeMode",
+        "SelfInterMode",
+        "SmallEdgeMode",
+        "RebuildFaceMode",
+        "TangentMode",
+        "MergeVertexMode",
+        "MergeEdgeMode",
+        "ContinuityMode",
+        "CurveOnSurfaceMode",
+    ):
+        setattr(a, mode, True)
+    a.Perform()
+    return dict(Counter(str(r.GetCheckStatus()).split(".")[-1] for r in a.GetCheckResult()))
+
+
+@pytest.mark.slow
+def test_the_healed_solids_pass_every_analyser_mode() -> None:
+    """The shapes the STEP writer is given (built, placed, healed) pass the argument
+    analyser with every mode on, curve-on-surface included: no edge lies farther from its
+    faces than its tolerance. A representative subset (the club racer's cutter, insert and
+    plug: extrusion walls, edge rounds, the lofted transition, the spigot); every sample
+    would take minutes."""
+    from ductgen.design import build_design
+    from ductgen.solids import jobs
+    from ductgen.solids.deform import place
+    from ductgen.solids.heal import heal
+    from ductgen.spec import load_spec
+    from tests.conftest import ROOT
+
+    d = build_design(load_spec(ROOT / "samples" / "club-racer-brake.toml"))
+    book, built = jobs.recipes(), {}
+    for kind in ("cutter", "insert", "plug"):
+        built[kind] = book[kind].build(d, built)
+        assert _analyser_findings(heal(place(built[kind], d, kind).wrapped)) == {}, kind
+
+
+@pytest.mark.slow
+@pytest.mark.xfail(
+    strict=True,
+    reason="known: a STEP file holds no per-edge tolerance, and the kernel's reader gives "
+    "edges its own sampled tolerance and projects new surface curves, so the club racer's "
+    "files read back with edges 1e-7 to 1.4e-4 mm off their faces",
+)
+def test_step_files_read_back_pass_every_analyser_mode(sample_builds: dict) -> None:
+    """The same check on the STEP files read back (what a second CAD program sees)."""
+    _, folder = sample_builds["club-racer-brake"]
+    for kind in ("cutter", "insert", "plug"):
+        shape = cq.importers.importStep(str(folder / f"club-racer-brake-{kind}.step")).val()
+        assert _analyser_findings(shape.wrapped) == {}, kind

@@ -101,14 +101,12 @@ def make_cavity(g: InletGeometry) -> cq.Solid:
         hw1 = g.width_mm / 2.0 + 1e-3
 
         def on_rim(e: cq.Edge) -> bool:
-            bb = e.BoundingBox()
-            return (
-                abs(bb.zmin) < 1e-6
-                and abs(bb.zmax) < 1e-6
-                and bb.xmin > -1e-3
-                and bb.xmax < x_prism + 1e-3
-                and -hw1 <= bb.ymin
-                and bb.ymax <= hw1
+            # the edges at z = 0 are the planform's (inside the limits) and the slab's
+            # outline (outside them at its ends), so both ends and the middle decide; an
+            # optimal bounding box of every edge cost more than the fillet's selection needs
+            pts = [e.startPoint(), e.positionAt(0.5), e.endPoint()]
+            return all(
+                abs(p.z) < 1e-6 and -1e-3 < p.x < x_prism + 1e-3 and -hw1 <= p.y <= hw1 for p in pts
             )
 
         rim = [e for e in body.Edges() if on_rim(e)]
@@ -136,8 +134,10 @@ def make_cavity(g: InletGeometry) -> cq.Solid:
 
 
 def _is_plane_at_z(face: cq.Face, z: float) -> bool:
+    if face.geomType() != "PLANE":  # the cheap test first: a box only for planes
+        return False
     bb = face.BoundingBox()
-    return face.geomType() == "PLANE" and abs(bb.zmin - z) < 1e-6 and abs(bb.zmax - z) < 1e-6
+    return abs(bb.zmin - z) < 1e-6 and abs(bb.zmax - z) < 1e-6
 
 
 def _section_wire(points: list[tuple[float, float, float]], arcs: list | None) -> cq.Wire:

@@ -186,7 +186,7 @@ def build_solids(
         step_name = f"{prefix}-{kind}.step"
         data, healed = step_bytes_healed(solid, f"{prefix}-{kind}")
         write_atomic(Path(staging) / step_name, data)
-        if kind == "insert":  # the split, if one is needed, cuts the solid the file holds
+        if kind == "insert" and not curved:  # a split, if needed, cuts the solid in the file
             import cadquery as cq
 
             from ductgen.solids.split import keep_for_split

@@ -184,73 +184,19 @@ def estimate_stations(
     return None
 
 
-def _plane_face(
-    origin: tuple[float, float, float],
-    normal: tuple[float, float, float],
-    xdir: tuple[float, float, float],
-    u: tuple[float, float],
-    v: tuple[float, float],
-) -> Any:
-    """A planar rectangle (mm): ``origin`` + a·xdir + b·(normal × xdir), a in ``u``, b in
-    ``v``."""
-    from OCP.BRepBuilderAPI import BRepBuilderAPI_MakeFace
-    from OCP.gp import gp_Ax3, gp_Dir, gp_Pln, gp_Pnt
-
-    pln = gp_Pln(gp_Ax3(gp_Pnt(*origin), gp_Dir(*normal), gp_Dir(*xdir)))
-    return BRepBuilderAPI_MakeFace(pln, u[0], u[1], v[0], v[1]).Face()
-
-
-def _cut_faces(s: float, bb: Any, key: tuple[float, float]) -> list[Any]:
-    """The stepped glue surface at x = ``s`` as planar faces reaching past the part's box:
-    x = s beside the tongue, the tongue's two sides y = yc ± half and its end x = s + length
-    (mm)."""
-    length, half = key
-    pad = 10.0
-    yc = 0.5 * (bb.ymin + bb.ymax)
-    z = (bb.zmin - pad, bb.zmax + pad)
-    y0, y1 = bb.ymin - pad, bb.ymax + pad
-    # planes x = const: axes y (a) and z (b); planes y = const: axes z (a) and x (b)
-    return [
-        _plane_face((s, 0, 0), (1, 0, 0), (0, 1, 0), (y0, yc - half), z),
-        _plane_face((s, 0, 0), (1, 0, 0), (0, 1, 0), (yc + half, y1), z),
-        _plane_face((s + length, 0, 0), (1, 0, 0), (0, 1, 0), (yc - half, yc + half), z),
-        _plane_face((0, yc - half, 0), (0, 1, 0), (0, 0, 1), z, (s, s + length)),
-        _plane_face((0, yc + half, 0), (0, 1, 0), (0, 0, 1), z, (s, s + length)),
-    ]
-
-
-def _upstream(p: np.ndarray, s: float, yc: float, key: tuple[float, float]) -> np.ndarray:
-    """+1 where points (N, 3) lie strictly inside the region upstream of the glue surface at
-    ``s`` (with the tongue), -1 strictly outside, 0 on it (within 1e-6 mm)."""
-    length, half = key
-    eps = 1e-6
-    dy = half - np.abs(p[:, 1] - yc)
-    # signed distance-like value: positive inside, negative outside
-    inside_main = s - p[:, 0]
-    inside_tongue = np.minimum(np.minimum(p[:, 0] - s, s + length - p[:, 0]), dy)
-    d = np.maximum(inside_main, inside_tongue)
-    return np.where(d > eps, 1, np.where(d < -eps, -1, 0))
-
-
-def _boundary_points(solid: Any) -> np.ndarray:
-    """Points on ``solid``'s boundary (N, 3) mm: its vertices and its edges' midpoints
-    (enough of them lie off every glue surface to tell which side the body is on)."""
-    pts = [v.toTuple() for v in solid.Vertices()]
-    pts += [e.positionAt(0.5).toTuple() for e in solid.Edges()]
-    return np.asarray(pts, dtype=float)
-
-
 def split_across_flow(
     solid: Any,
     stations_x: list[float],
     key_length: float = 6.0,
     key_fraction: float = 0.4,
+    by_planes: bool = True,
 ) -> list[Any]:
     """Cut ``solid`` (a cadquery Solid, mm) at x = each station into keyed pieces.
 
     One splitting operation of the kernel (``BRepAlgoAPI_Splitter``) by the planar faces of
     every glue surface (no Boolean of volumes), then each resulting body is assigned to the
-    piece between the glue surfaces it lies between.
+    piece between the glue surfaces it lies between. Where that leaves a piece invalid, or
+    with ``by_planes`` False, the pieces are made by Booleans, with their fuzzy retries.
 
     Args:
         solid: the part.
@@ -261,11 +207,9 @@ def split_across_flow(
     Returns:
         The pieces, upstream first, each one valid solid.
     """
-    import cadquery as cq
-    from OCP.BRepAlgoAPI import BRepAlgoAPI_Splitter
-    from OCP.TopTools import TopTools_ListOfShape
 
     from ductgen.errors import GeometryError
+    from ductgen.solids.split_cut import split_by_booleans, split_by_planes
 
     bb = solid.BoundingBox()
     xs = sorted(stations_x)
@@ -274,41 +218,8 @@ def split_across_flow(
     if any(b - a <= key_length for a, b in pairwise(xs)):
         raise GeometryError("split", "stations closer than the key length")
     key = (key_length, 0.5 * key_fraction * (bb.ymax - bb.ymin))
-    yc = 0.5 * (bb.ymin + bb.ymax)
-    args, tools = TopTools_ListOfShape(), TopTools_ListOfShape()
-    args.Append(solid.wrapped)
-    for s in xs:
-        for f in _cut_faces(s, bb, key):
-            tools.Append(f)
-    sp = BRepAlgoAPI_Splitter()
-    sp.SetArguments(args)
-    sp.SetTools(tools)
-    sp.SetRunParallel(False)  # a reproducible order of sub-shapes
-    sp.SetNonDestructive(True)
-    sp.Build()
-    if not sp.IsDone():
-        raise GeometryError("split", "the kernel's splitter did not finish")
-    groups: list[list[Any]] = [[] for _ in range(len(xs) + 1)]
-    for body in cq.Shape.cast(sp.Shape()).Solids():
-        p = _boundary_points(body)
-        # the piece index: how many glue surfaces the body lies downstream of
-        side = np.array([_upstream(p, s, yc, key) for s in xs])  # (stations, points)
-        decided = []
-        for row in side:
-            firm = row[row != 0]
-            if len(firm) == 0 or np.any(firm != firm[0]):
-                raise GeometryError("split", "a piece straddles a glue face")
-            decided.append(firm[0] < 0)
-        groups[int(sum(decided))].append(body)
-    pieces = []
-    for i, g in enumerate(groups, start=1):
-        if len(g) != 1:
-            raise GeometryError(f"split piece {i}", f"the piece is {len(g)} solids, not one")
-        piece = g[0].clean()
-        if not piece.isValid():
-            raise GeometryError(f"split piece {i}", "the piece is invalid")
-        pieces.append(piece)
-    return pieces
+    pieces = split_by_planes(solid, xs, key) if by_planes else None
+    return pieces if pieces is not None else split_by_booleans(solid, xs, key)
 
 
 #: Shifts (mm) tried, in this order, for all the stations together when a cut leaves a piece
@@ -318,7 +229,7 @@ STATION_SHIFTS_MM = (4.0, -4.0, 8.0, -8.0, 12.0, -12.0)
 
 
 def split_shifted(
-    solid: Any, stations_x: list[float], key_length: float = 6.0
+    solid: Any, stations_x: list[float], key_length: float = 6.0, by_planes: bool = True
 ) -> tuple[list[float], list[Any]]:
     """:func:`split_across_flow`, and where a piece comes out as more than one solid, the
     same split with every station moved by :data:`STATION_SHIFTS_MM` in turn; the stations
@@ -326,12 +237,13 @@ def split_shifted(
     from ductgen.errors import GeometryError
 
     try:
-        return list(stations_x), split_across_flow(solid, stations_x, key_length)
+        pieces = split_across_flow(solid, stations_x, key_length, by_planes=by_planes)
+        return list(stations_x), pieces
     except GeometryError as first:
         for dx in STATION_SHIFTS_MM:
             xs = [x + dx for x in stations_x]
             try:
-                return xs, split_across_flow(solid, xs, key_length)
+                return xs, split_across_flow(solid, xs, key_length, by_planes=by_planes)
             except GeometryError:
                 continue
         raise first
@@ -344,6 +256,7 @@ def split_for_bed(
     up: str,
     max_pieces: int = 8,
     key_length: float = 6.0,
+    by_planes: bool = True,
 ) -> tuple[list[float], list[Any]]:
     """Fewest equal pieces across the flow that each fit ``bed`` standing ``up``.
 
@@ -362,7 +275,7 @@ def split_for_bed(
     if xs == []:
         return [], [solid]
     while xs is not None and len(xs) < max_pieces:
-        xs, pieces = split_shifted(solid, xs, key_length)
+        xs, pieces = split_shifted(solid, xs, key_length, by_planes)
         if all(bed_fit(triangulate(p, 0.1, 0.3)[0], bed, up).fits for p in pieces):
             return xs, pieces
         bb = solid.BoundingBox()  # the estimate was short: one piece more
@@ -399,15 +312,22 @@ def split_insert_job(
 
     stage("insert split")
     path = Path(staging) / step_name
-    whole = _IN_MEMORY.pop(str(path.resolve()), None) or read_step(path)
+    # a flat insert is cut in memory by planes; a mapped one (curved skin, not kept) is read
+    # back and cut by Booleans: in memory, with healing's tolerances, the splitter's pieces
+    # came out invalid and the Booleans took minutes
+    whole = _IN_MEMORY.pop(str(path.resolve()), None)
+    by_planes = whole is not None
+    if whole is None:
+        whole = read_step(path)
     to_model = None
     if frame is not None:
         whole, to_model = _into_frame(whole, frame)
-    _, pieces = split_shifted(whole, list(stations_x))
+    _, pieces = split_shifted(whole, list(stations_x), by_planes=by_planes)
     lin, ang = STL_QUALITY[quality]
     meshes = [triangulate(p, lin, ang) for p in pieces]
     if not all(bed_fit(v, bed, up).fits for v, _ in meshes):
-        _, pieces = split_for_bed(whole, triangulate(whole, 0.1, 0.3)[0], bed, up)
+        v = triangulate(whole, 0.1, 0.3)[0]
+        _, pieces = split_for_bed(whole, v, bed, up, by_planes=by_planes)
         meshes = [triangulate(p, lin, ang) for p in pieces]
     out = []
     for k, (piece, (v, f)) in enumerate(zip(pieces, meshes, strict=True), start=1):
