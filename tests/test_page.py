@@ -381,7 +381,9 @@ def test_screenshot_is_not_blank_and_shows_the_plan_view(server, browser) -> Non
     r = plan.rect
     crop = img[int(r["y"]) : int(r["y"] + r["height"]), int(r["x"]) : int(r["x"] + r["width"])]
     # the opening (teal #2f6f73) and the flange (sand #efe2c6) are drawn in the plan view
-    for rgb, least in (((0x2F, 0x6F, 0x73), 2000), ((0xEF, 0xE2, 0xC6), 2000)):
+    # (1000 px each: the club sample's 620 mm insert is drawn at a smaller scale since its
+    # throat was deepened and its transition lengthened; 1506 px of flange measured then)
+    for rgb, least in (((0x2F, 0x6F, 0x73), 1000), ((0xEF, 0xE2, 0xC6), 1000)):
         hit = np.all(np.abs(crop - np.array(rgb) / 255.0) < 0.03, axis=2)
         assert hit.sum() > least, rgb
 
