@@ -565,6 +565,11 @@ def _collect(args: argparse.Namespace) -> None:
             f"coarse/medium/fine study of point {st.stem[6:]} (Celik et al. 2008)",
         ]
         break
+    else:
+        head.append(
+            "mesh uncertainty basis: not measured yet (a coarse/medium/fine study of one point, "
+            "`python bench/recovery_campaign.py study pNNN`, states it)"
+        )
     path = Path(args.out) if args.out else RESULTS / f"table-{fp}.csv"
     if args.to_data:
         path = DATA_CSV
