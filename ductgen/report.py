@@ -259,8 +259,10 @@ def flow_report(spec: Spec, d: Design) -> tuple[dict[str, Any], list[DesignWarni
     section, warnings = flow_section(spec.flow, d.duct)
     if spec.skin.shape != "flat":
         section["curvature_note"] = (
-            "the boundary layer is the flat-plate estimate over the run length along the "
-            "surface; the pressure gradient of the skin's curvature is not modelled"
+            "the skin's curvature is not turned into a pressure gradient by ductgen: the "
+            "boundary layer is the flat-plate estimate over the run length along the surface "
+            "unless flow.inlet_cp and flow.inlet_cp_gradient_per_m give the surface pressure "
+            "(then Head's method)"
         )
     return section, warnings
 
