@@ -199,5 +199,5 @@ def test_a_raised_lip_20_by_5_plug_builds(tmp_path: Path) -> None:
     text = 'name = "t20"\n[throat]\nwidth = 20\ndepth = 5\n[lip]\nstyle = "raised"\n'
     result = build(load_spec(_spec(tmp_path, text)), tmp_path / "o", only=["plug"])
     solid = result.solids["plug"]
-    assert solid["expected_volume_mm3"] is not None
-    assert solid["volume_mm3"] == pytest.approx(solid["expected_volume_mm3"], rel=1e-3)
+    assert solid.expected_volume_mm3 is not None
+    assert solid.volume_mm3 == pytest.approx(solid.expected_volume_mm3, rel=1e-3)

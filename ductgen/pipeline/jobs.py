@@ -16,7 +16,7 @@ from typing import Any
 
 from ductgen.panel_file import sample_panel
 from ductgen.sheets.preview import render_png
-from ductgen.solids.jig import jig_job
+from ductgen.solids.jig_job import jig_job
 from ductgen.solids.jobs import build_solids, cutter_mesh_job, warm_up
 from ductgen.solids.panel_cut import cut_panel_job
 from ductgen.solids.read import step_mesh

@@ -88,7 +88,7 @@ def _jig(ctx: BuildContext) -> dict[str, bytes]:
     import tempfile
     from pathlib import Path
 
-    from ductgen.solids.jig import jig_job
+    from ductgen.solids.jig_job import jig_job
 
     spec = ctx.spec
     tmp = Path(tempfile.mkdtemp(prefix="ductgen-jig-"))

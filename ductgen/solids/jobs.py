@@ -186,7 +186,9 @@ def build_solids(
         step_name = f"{prefix}-{kind}.step"
         data, healed = step_bytes_healed(solid, f"{prefix}-{kind}")
         write_atomic(Path(staging) / step_name, data)
-        if kind == "insert" and not curved:  # a split, if needed, cuts the solid in the file
+        # a split, if needed, cuts the flat insert in memory (a mapped one, on a curved skin
+        # or the user's panel, is read back from its file)
+        if kind == "insert" and d.skin.is_flat:
             import cadquery as cq
 
             from ductgen.solids.split import keep_for_split
