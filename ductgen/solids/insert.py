@@ -238,12 +238,14 @@ def _drilled(shape: cq.Shape, lay) -> cq.Shape:  # type: ignore[no-untyped-def]
 
 def _convex_curvature(d: Design) -> float:
     """The largest convex skin curvature the insert's walls sit under (1/mm; 0 when flat or
-    concave): on the user's panel its largest principal curvature (conservative)."""
+    concave). 0 on the user's panel: compensating there by its largest principal curvature
+    made a B-spline bonnet's insert that the bed split could not cut into valid pieces, so
+    panel inserts are not compensated yet (README says so)."""
     from ductgen.geometry.panel import PanelSkin
 
     sk = d.skin
     if isinstance(sk, PanelSkin):
-        return float(sk.curvature)
+        return 0.0
     return max(float(getattr(sk, "k_stream", 0.0)), float(getattr(sk, "k_span", 0.0)), 0.0)
 
 
