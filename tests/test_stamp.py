@@ -73,3 +73,20 @@ def test_source_date_epoch_is_the_stated_date(tmp_path, monkeypatch) -> None:  #
         pdf = pymupdf.open(stream=files[name], filetype="pdf")
         assert pdf.metadata["creationDate"].startswith("D:20231114221320"), name
         assert "2023-11-14" in "".join(page.get_text() for page in pdf), name
+
+
+def test_stl_bytes_do_not_keep_rounding_noise_at_zero() -> None:
+    """A vertex on a coordinate plane reads 0.0, -0.0 or 6e-30 mm from one kernel run to the
+    next; the file must not tell them apart (closed form: all three are zero to 1e-9 mm)."""
+    import numpy as np
+
+    from ductgen.solids.cad_io import stl_bytes
+
+    faces = np.array([[0, 1, 2], [0, 3, 1], [1, 3, 2], [0, 2, 3]])
+    files = set()
+    for zero in (0.0, -0.0, 6.3e-30, -8.1e-31):
+        verts = np.array([[zero, 0.0, 0.0], [10.0, zero, 0.0], [0.0, 10.0, 0.0], [0.0, 0.0, 10.0]])
+        files.add(stl_bytes(verts, faces))
+    assert len(files) == 1
+    moved = np.array([[1e-3, 0.0, 0.0], [10.0, 0.0, 0.0], [0.0, 10.0, 0.0], [0.0, 0.0, 10.0]])
+    assert stl_bytes(moved, faces) not in files  # a real micrometre still shows

@@ -86,10 +86,13 @@ def stl_bytes(vertices: np.ndarray, faces: np.ndarray, name: str = "ductgen") ->
     """Encode a triangle mesh (mm) as binary STL with outward facet normals (trimesh's
     exporter). The vertices are rounded to the float32 the file stores before the normals are
     computed, so the same rounded mesh always gives the same bytes, even when the kernel's
-    float64 coordinates differ in their last bits."""
+    float64 coordinates differ in their last bits. Coordinates within 1e-9 mm of zero are
+    written as +0.0: on a coordinate plane the kernel's rounding noise is 0.0 in one run and
+    6e-30 (or -0.0) in another, which float32 keeps apart."""
     import trimesh
 
     rounded = np.asarray(vertices, dtype=np.float32).astype(np.float64)
+    rounded[np.abs(rounded) < 1e-9] = 0.0  # also turns -0.0 into +0.0
     mesh = trimesh.Trimesh(rounded, np.asarray(faces), process=False, validate=False)
     del name  # binary STL headers carry no reliable metadata; the file name says it
     return bytes(trimesh.exchange.stl.export_stl(mesh))
