@@ -209,7 +209,7 @@ def size_throat(
     depth = math.ceil(depth / _ROUND_MM - 1e-9) * _ROUND_MM
     width = math.ceil(aspect * depth / _ROUND_MM - 1e-9) * _ROUND_MM
     throat = ThroatSpec(width=round(width, 6), depth=round(depth, 6))
-    ramp = RampSpec(angle_deg=angle_deg, entry_radius=spec0.ramp.entry_radius)
+    ramp = RampSpec(angle_deg=angle_deg, length=None, entry_radius=spec0.ramp.entry_radius)
     spec = spec0.model_copy(update={"throat": throat, "ramp": ramp})
     g = geometry_from_spec(spec)
     assert spec.flow is not None

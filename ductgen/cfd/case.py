@@ -334,7 +334,7 @@ def write_case(case_dir: Path, s: CaseSetup, surface: WettedSurface, n_procs: in
     x0, x1, y0, y1, zb, zt = s.box
     nx, ny, nzl, nzu = s.cells
     bx = s.opening
-    values = {
+    values: dict[str, dict[str, object]] = {
         "blockMesh": dict(
             x0=_fmt(x0), x1=_fmt(x1), y0=_fmt(y0), y1=_fmt(y1), zb=_fmt(zb), zt=_fmt(zt),
             nx=nx, ny=ny, nzl=nzl, nzu=nzu, gz=1, **_lower_faces(s.throat_plate is not None),

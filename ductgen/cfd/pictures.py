@@ -30,7 +30,11 @@ def _read(case: Path) -> tuple[Any, Any]:
     reader.set_active_time_value(reader.time_values[-1])
     reader.cell_to_point_creation = True
     data = reader.read()
+    if not isinstance(data, pv.MultiBlock):
+        raise RuntimeError(f"{case}: OpenFOAM reader returned no multiblock of meshes")
     bnd = data["boundary"]
+    if not isinstance(bnd, pv.MultiBlock):
+        raise RuntimeError(f"{case}: the OpenFOAM case has no boundary patches")
     names = list(bnd.keys())  # a MultiBlock's `in` tests blocks, not names
     walls = [bnd[n] for n in ("duct_cavity", "duct_floor") if n in names]
     return data["internalMesh"], pv.merge(walls)
@@ -61,16 +65,16 @@ def render(case: Path, out_dir: Path, name: str, p_inf: float, speed: float) -> 
     )
     sl.point_data["Cp0"] = (sl.point_data["p0"] - p_inf) / q_inf
     pl = pv.Plotter(off_screen=True, window_size=[1200, 700])
-    pl.set_background("white")
+    pl.set_background("white")  # type: ignore[arg-type]  # pyvista: wraps() types self
     pl.add_mesh(
         sl, scalars="Cp0", cmap="viridis", clim=[0.0, 1.0],
         scalar_bar_args={"title": "(p0 - p_inf) / q_inf", "color": "black"},
     )  # fmt: skip
     pl.add_text(f"{name}: total pressure on the throat plane x = {x_t * 1000:.1f} mm, "
                 "looking upstream", font_size=10, color="black")  # fmt: skip
-    pl.view_vector((1, 0, 0), viewup=(0, 0, 1))
+    pl.view_vector((1, 0, 0), viewup=(0, 0, 1))  # type: ignore[arg-type]  # pyvista: wraps() types self
     pl.camera.parallel_projection = True
-    pl.reset_camera(bounds=sl.bounds)
+    pl.reset_camera(bounds=sl.bounds)  # type: ignore[call-arg]  # pyvista: wraps() types self
     pl.camera.zoom(0.95)
     files["throat"] = f"{name}-cfd-throat.png"
     pl.screenshot(str(out_dir / files["throat"]))
@@ -94,7 +98,7 @@ def render(case: Path, out_dir: Path, name: str, p_inf: float, speed: float) -> 
         max_steps=4000,
     )
     pl = pv.Plotter(off_screen=True, window_size=[1400, 900])
-    pl.set_background("white", top="#dfe7ef")
+    pl.set_background("white", top="#dfe7ef")  # type: ignore[arg-type]  # pyvista: wraps() types self
     pl.add_mesh(cav, color="#b8b8b8", opacity=0.35, smooth_shading=True)
     if lines.n_points:
         lines.point_data["speed"] = np.linalg.norm(lines.point_data["U"], axis=1) / speed

@@ -39,7 +39,7 @@ from ductgen.cfd.runner import (
     require_openfoam,
     solve,
 )
-from ductgen.cfd.skin_wall import SkinWallError
+from ductgen.cfd.skin_wall import SkinDomain, SkinWallError
 from ductgen.cfd.surface import extend_outlet, wetted_surface
 from ductgen.cfd.templates import FLAVOUR
 from ductgen.errors import SpecError
@@ -236,7 +236,10 @@ def cfd_for_build(
     note = progress or (lambda *_a: None)
     check_inputs(spec, mesh, n_procs, write_only)
     cut = trimesh.load(cutter_stl, force="mesh")
-    domain, notes = None, []
+    if not isinstance(cut, trimesh.Trimesh):
+        raise CfdError(f"{cutter_stl}: not a triangle mesh")
+    domain: SkinDomain | None = None
+    notes: list[str] = []
     if spec.skin.shape == "flat":
         lo, hi = cut.bounds
         span = float(hi[0] - lo[0])

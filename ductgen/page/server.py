@@ -29,7 +29,7 @@ import sys
 import threading
 from http.server import BaseHTTPRequestHandler, ThreadingHTTPServer
 from importlib.resources import files
-from typing import Any
+from typing import Any, cast
 from urllib.parse import parse_qs, unquote, urlsplit
 
 from ductgen.errors import DuctgenError, OverwriteError, SpecError, excerpt
@@ -76,6 +76,13 @@ def _say(line: str) -> None:
         sys.stderr.flush()
     except (OSError, ValueError):
         pass
+
+
+def _port(address: object) -> int:
+    """The port of a TCP server's address, ``(host, port)`` or ``(host, port, flow, scope)``."""
+    if not isinstance(address, tuple):
+        raise TypeError(f"not a TCP address: {address!r}")
+    return int(address[1])
 
 
 def _only(value: Any) -> list[str] | None:
@@ -159,7 +166,7 @@ class _Handler(BaseHTTPRequestHandler):
         if need_key:
             status = credential_status(
                 self.app.secret,
-                self.server.server_address[1],
+                _port(self.server.server_address),
                 self.headers.get("Cookie"),
                 self.headers.get("Authorization"),
             )
@@ -203,7 +210,7 @@ class _Handler(BaseHTTPRequestHandler):
         address bar and the history (303 to ``/``)."""
         if not self._admit(need_key=False):
             return
-        port = self.server.server_address[1]
+        port = _port(self.server.server_address)
         if credential_status(self.app.secret, port, None, f"Bearer {token}"):
             return self._refuse(403, "wrong key for this page")
         cookie = f"{cookie_name(port)}={self.app.secret}; Path=/; HttpOnly; SameSite=Strict"
@@ -212,7 +219,7 @@ class _Handler(BaseHTTPRequestHandler):
     def _asset(self, name: str) -> None:
         if name not in ASSETS:
             return self._json(404, {"ok": False, "message": f"no such asset {name}"})
-        body = files("ductgen.page").joinpath("assets", name).read_bytes()
+        body = (files("ductgen.page") / "assets" / name).read_bytes()
         ctype = mimetypes.guess_type(name)[0] or "application/octet-stream"
         self._send(200, body, f"{ctype}; charset=utf-8")
 
@@ -416,7 +423,7 @@ def make_server(
         ) from err
     family = infos[0][0]
     server_cls = type("DesignServer", (_Server,), {"address_family": family})
-    handler = type("Handler", (_Handler,), {"app": app})
+    handler = cast("type[_Handler]", type("Handler", (_Handler,), {"app": app}))
     try:
         server = server_cls((bind, port), handler)
     except OSError as err:
@@ -426,5 +433,5 @@ def make_server(
         raise SpecError(
             key, host if key == "--host" else port, allowed, err.strerror or str(err)
         ) from err
-    handler.hosts = allowed_hosts(bind, server.server_address[1])
+    handler.hosts = allowed_hosts(bind, _port(server.server_address))
     return server
