@@ -36,6 +36,7 @@ from ductgen.cfd import templates as T
 from ductgen.cfd.fields import InletProfile, field_files, inlet_profile
 from ductgen.cfd.skin_wall import SkinDomain, SkinWallError
 from ductgen.cfd.surface import WettedSurface
+from ductgen.flow.record import FlowRecord
 from ductgen.geometry.inlet import InletGeometry
 
 __all__ = [
@@ -121,20 +122,20 @@ def case_setup(
     mesh: str,
     geometry: InletGeometry,
     surface: WettedSurface,
-    flow_report: dict[str, Any],
+    flow: FlowRecord,
     downstream_pa: Callable[[float], float],
     extension_diameter_m: float = 0.0,
     domain: SkinDomain | None = None,
 ) -> CaseSetup:
     """The case numbers of one design (``geometry`` in mm, ``surface`` with its outlet
-    extended or not, ``flow_report`` the 1-D model's ``flow`` section, ``downstream_pa(Q)``
+    extended or not, ``flow`` the 1-D model's record, ``downstream_pa(Q)``
     the static pressure above ambient the duct system behind the outlet needs at flow Q,
     Pa, ``extension_diameter_m`` the diameter the extension's length is counted in, m;
     ``domain`` the skin round the inlet on a curved skin or panel, datum frame)."""
     g = geometry
     mm = 1e-3
     d, w, length = g.depth_mm * mm, g.width_mm * mm, g.length_mm * mm
-    delta = float(flow_report["boundary_layer_thickness_m"])
+    delta = flow.boundary_layer_thickness_m
     h = d / COARSE_CELLS_PER_DEPTH / REFINEMENT_RATIO ** MESH_LEVELS[mesh]
     (_cx0, _cy0, cz0), (cx1, _cy1, _cz1) = surface.cavity_bounds_m
     throat_end = g.throat_end_mm * mm
@@ -176,15 +177,16 @@ def case_setup(
     tx = length + 0.75 * a
     wy = w / 2.0 + 2.0 * r + 0.005
     throat_bounds = (tx - h, -wy, zb, tx + h, wy, -1e-4)
-    run = max(float(flow_report["run_length_m"]) + x0, 0.05 * float(flow_report["run_length_m"]))
-    speed = float(flow_report["speed_m_s"])
-    nu = float(flow_report["kinematic_viscosity_m2_s"])
-    rho = float(flow_report["density_kg_m3"])
+    run_length = flow.run_length_m
+    run = max(run_length + x0, 0.05 * run_length)
+    speed = flow.speed_m_s
+    nu = flow.kinematic_viscosity_m2_s
+    rho = flow.density_kg_m3
     delta_in = 0.37 * run * (speed * run / nu) ** -0.2  # the 1-D model's flat-plate law
     profile = inlet_profile(speed, delta_in, run, nu, zt - skin_x0)
     if domain is not None:
         profile = replace(profile, origin_m=skin_x0)
-    ang = math.radians(float(flow_report.get("flow_angle_deg", 0.0)))
+    ang = math.radians(flow.flow_angle_deg)
     q_ref = w * d * speed
     curve = []
     for i in range(41):

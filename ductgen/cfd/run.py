@@ -43,6 +43,8 @@ from ductgen.cfd.skin_wall import SkinDomain, SkinWallError
 from ductgen.cfd.surface import extend_outlet, wetted_surface
 from ductgen.cfd.templates import FLAVOUR
 from ductgen.errors import SpecError
+from ductgen.flow.record import FlowRecord
+from ductgen.report import BuildRecord
 from ductgen.spec.model import Spec
 
 __all__ = ["MESH_CHOICES", "cfd_for_build", "check_inputs", "gci_study", "run_cfd"]
@@ -154,18 +156,17 @@ def _one_mesh(
     }
 
 
-def _compare(cfd: dict[str, Any], flow: dict[str, Any]) -> dict[str, Any]:
-    q1, r1 = flow.get("volume_flow_m3_s"), flow.get("ram_recovery")
+def _compare(cfd: dict[str, Any], flow: FlowRecord) -> dict[str, Any]:
+    q1, r1 = flow.volume_flow_m3_s, flow.ram_recovery
     out: dict[str, Any] = {
         "volume_flow_m3_s": q1,
         "ram_recovery": r1,
-        "inlet_velocity_ratio": flow.get("inlet_velocity_ratio"),
+        "inlet_velocity_ratio": flow.inlet_velocity_ratio,
         "kinetic_energy_factor": 1.0,  # the 1-D model assumes uniform flow everywhere
     }
-    t = flow.get("transition_loss") or {}
-    if "k" in t:
-        out["transition_k"] = t["k"]
-        out["transition_k_by_method"] = t.get("k_by_method")
+    if flow.transition_k is not None:
+        out["transition_k"] = flow.transition_k
+        out["transition_k_by_method"] = flow.transition_k_by_method
     q, r = cfd.get("volume_flow_m3_s"), cfd.get("ram_recovery_flow_avg")
     if q is not None and q1:
         out["flow_difference"] = (q - q1) / q1
@@ -215,7 +216,7 @@ def gci_study(levels: list[dict[str, Any]]) -> dict[str, Any]:
 def cfd_for_build(
     spec: Spec,
     design: Any,
-    report: dict[str, Any],
+    record: BuildRecord,
     cutter_stl: Path,
     out_dir: Path,
     *,
@@ -226,8 +227,9 @@ def cfd_for_build(
     pictures: bool = True,
     progress: Progress | None = None,
 ) -> dict[str, Any]:
-    """Run the CFD check of a finished build (its report and cutter STL); writes
-    ``cfd.json``, adds the ``cfd`` section to ``out_dir/report.json``; returns the section."""
+    """Run the CFD check of a finished build (its record and cutter STL); writes
+    ``cfd.json``, sets the record's ``cfd`` section and rewrites ``out_dir/report.json``
+    from the record; returns the section."""
     import trimesh
 
     from ductgen.atomic import write_atomic
@@ -235,6 +237,9 @@ def cfd_for_build(
 
     note = progress or (lambda *_a: None)
     check_inputs(spec, mesh, n_procs, write_only)
+    flow = record.flow
+    if flow is None:  # check_inputs refused a spec without [flow]; its build has a record
+        raise CfdError("the build's record has no flow section")
     cut = trimesh.load(cutter_stl, force="mesh")
     if not isinstance(cut, trimesh.Trimesh):
         raise CfdError(f"{cutter_stl}: not a triangle mesh")
@@ -256,7 +261,7 @@ def cfd_for_build(
     else:
         try:
             surface, domain, plan, notes = curved_surface(
-                spec, design, report["flow"], cut.vertices, cut.faces, EXTENSION_DIAMETERS,
+                spec, design, flow, cut.vertices, cut.faces, EXTENSION_DIAMETERS,
                 design.geometry.depth_mm * 1e-3 / COARSE_CELLS_PER_DEPTH,
             )  # fmt: skip
         except SkinWallError as err:
@@ -268,7 +273,7 @@ def cfd_for_build(
     levels = []
     for name in names:
         setup = case_setup(
-            spec.name, name, design.geometry, surface, report["flow"], need, plan.diameter_m,
+            spec.name, name, design.geometry, surface, flow, need, plan.diameter_m,
             domain,
         )  # fmt: skip
         levels.append(_one_mesh(out_dir / f"cfd-{name}", setup, surface, n_procs, write_only, note))
@@ -308,7 +313,7 @@ def cfd_for_build(
         section["result"] = {k: v for k, v in final.items() if k not in ("y_plus",)}
         section["y_plus_range"] = [final["y_plus"]["min"], final["y_plus"]["max"]]
         section["y_plus_by_patch"] = final["y_plus"]["by_patch"]
-        section["one_d"] = _compare(final, report["flow"])
+        section["one_d"] = _compare(final, flow)
         if mesh == "study":
             section["study"] = gci_study(levels)
         if pictures:
@@ -318,8 +323,8 @@ def cfd_for_build(
                 shutil.rmtree(out_dir / f"cfd-{name}", ignore_errors=True)
     cfd_json = (json.dumps(section, indent=2, allow_nan=False) + "\n").encode()
     write_atomic(out_dir / "cfd.json", cfd_json, force=True)
-    report["cfd"] = section
-    write_atomic(out_dir / "report.json", report_bytes(report), force=True)
+    record.cfd = section
+    write_atomic(out_dir / "report.json", report_bytes(record.to_report()), force=True)
     return section
 
 
@@ -379,7 +384,7 @@ def run_cfd(
         section = cfd_for_build(
             spec,
             result.design,
-            result.report,
+            result.record,
             Path(stl),
             staged.staging,
             mesh=mesh,

@@ -34,6 +34,7 @@ if TYPE_CHECKING:
     from matplotlib.typing import RcKeyType
 
     from ductgen.design import Design
+    from ductgen.flow.record import FlowRecord
 
     _Size = tuple[float, float]  # paper (width, height), mm
     _Box = tuple[float, float, float, float]  # x, y, width, height on the paper, mm
@@ -118,7 +119,7 @@ def sheet_pdf(
     spec_hash: str,
     version: str,
     preview: bytes | None = None,
-    flow: dict[str, Any] | None = None,
+    flow: FlowRecord | None = None,
     split_x_mm: tuple[float, ...] = (),
     skin_lines: tuple[tuple[str, str], ...] = (),
     design: Design | None = None,
@@ -132,7 +133,7 @@ def sheet_pdf(
         g: inlet geometry; spec: the spec (name, template units and paper).
         spec_hash: ``spec_sha256``; version: ductgen version for the title block.
         preview: optional PNG drawn in the picture box.
-        flow: the report's ``flow`` section, drawn as the AIRFLOW block when given.
+        flow: the build's flow record, drawn as the AIRFLOW block when given.
         skin_lines: (name, value) lines on the skin, added to the key dimensions (a
             curved skin: its radii, how the template was developed).
         design: the design ``g`` belongs to: on a curved skin or the user's panel the
@@ -260,7 +261,7 @@ def _column(
     tx: float,
     ph: float,
     g: InletGeometry,
-    flow: dict[str, Any] | None,
+    flow: FlowRecord | None,
     extra: tuple[tuple[str, str], ...],
 ) -> None:
     """The right column above the cautions (its top at 105 mm): the table of offsets, the
@@ -268,18 +269,18 @@ def _column(
     no less than 0.75) when they would not fit, so no row's box meets the next."""
     from ductgen.flow.sheet_block import flow_block_lines
 
-    n_flow = len(flow_block_lines(flow)) if flow else 0
+    n_flow = len(flow_block_lines(flow)) if flow is not None else 0
     need = 5.7 + len(offset_rows(g)) * _ROW_MM + 7.2 + (len(_KEY_NAMES) + len(extra)) * _ROW_MM
-    if flow:
+    if flow is not None:
         need += 7.7 + n_flow * 3.45
     k = max(0.75, min(1.0, (ph - 16.0 - 109.0) / need))
     y = _table(bg, tx, ph - 16.0, g, k)
-    if flow:
+    if flow is not None:
         y = _flow_block(bg, tx, y - 7.0 * k, flow, k)
     _key_dims(bg, tx, y - 6.5 * k, g, extra, k)
 
 
-def _flow_block(bg: Axes, tx: float, top: float, flow: dict[str, Any], k: float = 1.0) -> float:
+def _flow_block(bg: Axes, tx: float, top: float, flow: FlowRecord, k: float = 1.0) -> float:
     """The AIRFLOW block with its title's baseline at ``top``; returns the last row's."""
     from ductgen.flow.sheet_block import FLOW_BLOCK_TITLE, flow_block_lines
 
