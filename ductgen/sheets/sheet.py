@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import io
 import textwrap
+from collections.abc import Callable
 from typing import TYPE_CHECKING, Any
 
 import numpy as np
@@ -270,7 +271,7 @@ def _column(
     from ductgen.flow.sheet_block import flow_block_lines
 
     n_flow = len(flow_block_lines(flow)) if flow is not None else 0
-    need = 5.7 + len(offset_rows(g)) * _ROW_MM + 7.2 + (len(_KEY_NAMES) + len(extra)) * _ROW_MM
+    need = 5.7 + len(offset_rows(g)) * _ROW_MM + 7.2 + (len(_KEY_DIMS) + 1 + len(extra)) * _ROW_MM
     if flow is not None:
         need += 7.7 + n_flow * 3.45
     k = max(0.75, min(1.0, (ph - 16.0 - 109.0) / need))
@@ -317,18 +318,34 @@ def _table(bg: Axes, tx: float, top: float, g: InletGeometry, k: float = 1.0) ->
 
 
 #: The key dimensions' names (their values: :func:`_key_dims`).
-_KEY_NAMES = (
-    "throat width W",
-    "throat depth D",
-    "ramp length L",
-    "ramp angle",
-    "entry radius",
-    "floor drop H",
-    "apex width",
-    "max wall divergence",
-    "lip",
-    "throat area W x D",
+#: The KEY DIMENSIONS rows: report key (label, unit and digits from ``display.SHOWN``) and
+#: the value of the geometry (mm, deg, mm²); the lip's row is :func:`_lip_row`, after the
+#: max wall divergence.
+_KEY_DIMS: tuple[tuple[str, Callable[[InletGeometry], float]], ...] = (
+    ("throat_width_mm", lambda g: g.width_mm),
+    ("throat_depth_mm", lambda g: g.depth_mm),
+    ("ramp_length_mm", lambda g: g.length_mm),
+    ("ramp_angle_deg", lambda g: g.floor.angle_deg),
+    ("ramp_entry_radius_mm", lambda g: g.floor.entry_radius_mm),
+    ("floor_drop_mm", lambda g: g.drop_mm),
+    ("apex_width_mm", lambda g: g.planform.apex_width_mm),
+    ("max_wall_divergence_deg", lambda g: g.planform.max_divergence_deg),
+    ("throat_area_mm2", lambda g: g.throat_area_mm2),
 )
+
+
+def _lip_row(g: InletGeometry) -> tuple[str, str]:
+    lip = g.lip
+    return "lip", f"{lip.style}, t {lip.thickness_mm:.2f} mm, nose {lip.nose_ratio:g}:1"
+
+
+def _key_rows(g: InletGeometry) -> list[tuple[str, str]]:
+    """The KEY DIMENSIONS rows (label, value) of the geometry."""
+    from ductgen.display import SHOWN
+
+    rows = [(SHOWN[k].ascii_label, SHOWN[k].ascii_text(get(g))) for k, get in _KEY_DIMS]
+    rows.insert(8, _lip_row(g))
+    return rows
 
 
 def _key_dims(
@@ -339,23 +356,10 @@ def _key_dims(
     extra: tuple[tuple[str, str], ...] = (),
     k: float = 1.0,
 ) -> None:
-    pf, lip = g.planform, g.lip
-    values = (
-        f"{g.width_mm:.2f} mm",
-        f"{g.depth_mm:.2f} mm",
-        f"{g.length_mm:.2f} mm",
-        f"{g.floor.angle_deg:.2f} deg",
-        f"{g.floor.entry_radius_mm:.2f} mm",
-        f"{g.drop_mm:.2f} mm",
-        f"{pf.apex_width_mm:.2f} mm",
-        f"{pf.max_divergence_deg:.1f} deg",
-        f"{lip.style}, t {lip.thickness_mm:.2f} mm, nose {lip.nose_ratio:g}:1",
-        f"{g.throat_area_mm2:.0f} mm2",
-    )
     y = top
     bg.text(tx + 4, y, "KEY DIMENSIONS", fontsize=7.5, weight="bold")
     y -= 0.7 * k
-    for name, value in (*zip(_KEY_NAMES, values, strict=True), *extra):
+    for name, value in (*_key_rows(g), *extra):
         y -= _ROW_MM * k
         bg.text(tx + 4, y, name, fontsize=6.5 * k)
         bg.text(tx + 42, y, value, fontsize=6.5 * k)
