@@ -98,7 +98,7 @@ SKINS = {
 
 @pytest.mark.parametrize("skin", list(SKINS.values()), ids=list(SKINS))
 def test_no_overlaps_on_other_skins(skin: dict) -> None:
-    from tests.test_design_skin import BASE
+    from tests.helpers import CURVED_BASE as BASE
 
     spec = parse_spec({**BASE, "skin": {"thickness": 2.0, **skin}})
     page = _sheet(spec, split=(0.6 * build_design(spec).geometry.length_mm,))
