@@ -25,8 +25,9 @@ from scipy.optimize import brentq
 from ductgen.design.build import duct_shape, geometry_from_spec
 from ductgen.errors import SpecError
 from ductgen.flow.operating_point import solve
-from ductgen.flow.report import build_system, flow_section
+from ductgen.flow.report import flow_section
 from ductgen.flow.stall import steepest_wall_report
+from ductgen.flow.system import build_system
 from ductgen.flow.warnings import geometry_warnings
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.geometry.profile import Profile, load_profile

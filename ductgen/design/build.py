@@ -181,7 +181,7 @@ def build_design(
     """
     if spec.flow is not None:  # before any kernel work: a speed the model cannot estimate
         from ductgen.flow.gradient import check_inlet_cp_gradient
-        from ductgen.flow.report import check_speed
+        from ductgen.flow.system import check_speed
 
         check_speed(spec.flow)
         check_inlet_cp_gradient(spec.flow)
