@@ -136,25 +136,12 @@ def case_setup(
     d, w, length = g.depth_mm * mm, g.width_mm * mm, g.length_mm * mm
     delta = flow.boundary_layer_thickness_m
     h = d / COARSE_CELLS_PER_DEPTH / REFINEMENT_RATIO ** MESH_LEVELS[mesh]
-    (_cx0, _cy0, cz0), (cx1, _cy1, _cz1) = surface.cavity_bounds_m
     throat_end = g.throat_end_mm * mm
     x0 = -max(0.5 * length, 2.0 * delta)
-    x1 = max(cx1 + 3.0 * h, throat_end + 0.5 * length)
-    half = w / 2.0 + max(0.75 * w, 2.0 * delta)
-    zt = max(4.0 * delta, w)
-    skin_lo = skin_hi = skin_x0 = 0.0
-    if domain is not None:  # the box stands on the skin: reach below and above it
-        skin_lo, skin_hi, skin_x0 = _skin_range(domain, x0, x1, half, h)
-        cz0 = min(cz0, skin_lo)
-        zt += max(skin_hi, 0.0)
-    nx = math.ceil((x1 - x0) / h)
-    ny = math.ceil(2.0 * half / h)
-    nzu = math.ceil(zt / h)
-    nzl = math.ceil((-cz0 + 0.5 * h) / h)
-    x1 = x0 + nx * h
-    half = ny * h / 2.0
-    zt = nzu * h
-    zb = -nzl * h
+    x1, half, zt, zb, cells, (skin_lo, skin_hi, skin_x0) = _grid(
+        surface, domain, x0, throat_end + 0.5 * length, w, delta, h
+    )
+    nx, ny, nzl, nzu = cells
     exit_x, exit_bounds = _exit_box(surface, h)
     r = g.edge_radius_mm * mm
     side = w / 2.0 + 2.0 * r + 0.2 * w
@@ -205,6 +192,35 @@ def case_setup(
         cells_across_depth_core=d / (h / 2 ** LEVELS["cavity"]),
         **_curved_zones(domain, tx, wy, surface, d),
     )
+
+
+def _grid(
+    surface: WettedSurface,
+    domain: SkinDomain | None,
+    x0: float,
+    x_past: float,
+    w: float,
+    delta: float,
+    h: float,
+) -> tuple[float, float, float, float, tuple[int, int, int, int], tuple[float, float, float]]:
+    """The background grid from ``x0``: its far end, half-width, top and bottom (m, on
+    whole cells of ``h``), its cell counts (x, y, lower and upper z), and the skin's lowest
+    and highest height and its height at ``x0`` (m; zeros on a flat skin). The box reaches
+    past the cavity and ``x_past``, W/2 + max(0.75 W, 2 δ) to each side, max(4 δ, W) up."""
+    (_cx0, _cy0, cz0), (cx1, _cy1, _cz1) = surface.cavity_bounds_m
+    x1 = max(cx1 + 3.0 * h, x_past)
+    half = w / 2.0 + max(0.75 * w, 2.0 * delta)
+    zt = max(4.0 * delta, w)
+    skin = (0.0, 0.0, 0.0)
+    if domain is not None:  # the box stands on the skin: reach below and above it
+        skin = _skin_range(domain, x0, x1, half, h)
+        cz0 = min(cz0, skin[0])
+        zt += max(skin[1], 0.0)
+    nx = math.ceil((x1 - x0) / h)
+    ny = math.ceil(2.0 * half / h)
+    nzu = math.ceil(zt / h)
+    nzl = math.ceil((-cz0 + 0.5 * h) / h)
+    return x0 + nx * h, ny * h / 2.0, nzu * h, -nzl * h, (nx, ny, nzl, nzu), skin
 
 
 def _skin_range(

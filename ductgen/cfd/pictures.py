@@ -53,9 +53,27 @@ def render(case: Path, out_dir: Path, name: str, p_inf: float, speed: float) -> 
     topo = (case / "system/topoSetDict").read_text()
     origin = [float(v) for v in topo.split("origin (")[1].split(")")[0].split()]
     span = [float(v) for v in topo.split("span (")[1].split(")")[0].split()]
+    files = {
+        "throat": _throat_picture(internal, out_dir, name, origin, span, p_inf, speed),
+        "ramp": _ramp_picture(internal, walls, out_dir, name, speed),
+    }
+    return files
+
+
+def _throat_picture(
+    internal: Any,
+    out_dir: Path,
+    name: str,
+    origin: list[float],
+    span: list[float],
+    p_inf: float,
+    speed: float,
+) -> str:
+    """Cp0 on the throat plane below the skin, looking upstream; returns the file name."""
+    import pyvista as pv
+
     x_t = origin[0]
     q_inf = 0.5 * speed**2
-    files: dict[str, str] = {}
 
     # throat plane: Cp0 on a slice below the skin
     sl = internal.slice(normal=(1, 0, 0), origin=(x_t, 0, 0))
@@ -76,9 +94,15 @@ def render(case: Path, out_dir: Path, name: str, p_inf: float, speed: float) -> 
     pl.camera.parallel_projection = True
     pl.reset_camera(bounds=sl.bounds)  # type: ignore[call-arg]  # pyvista: wraps() types self
     pl.camera.zoom(0.95)
-    files["throat"] = f"{name}-cfd-throat.png"
-    pl.screenshot(str(out_dir / files["throat"]))
+    file = f"{name}-cfd-throat.png"
+    pl.screenshot(str(out_dir / file))
     pl.close()
+    return file
+
+
+def _ramp_picture(internal: Any, walls: Any, out_dir: Path, name: str, speed: float) -> str:
+    """Streamlines from the boundary layer ahead of the ramp; returns the file name."""
+    import pyvista as pv
 
     # streamlines over the ramp
     cav = walls.clip(normal=(0, 0, 1), origin=(0, 0, -1e-5), invert=True)
@@ -114,10 +138,10 @@ def render(case: Path, out_dir: Path, name: str, p_inf: float, speed: float) -> 
     c = np.array([(b[0] + b[1]) / 2, 0.0, -0.3 * depth])
     pl.camera_position = [tuple(c + length * np.array([1.0, -0.55, 0.85])), tuple(c), (0, 0, 1)]
     pl.camera.zoom(0.85)
-    files["ramp"] = f"{name}-cfd-ramp.png"
-    pl.screenshot(str(out_dir / files["ramp"]))
+    file = f"{name}-cfd-ramp.png"
+    pl.screenshot(str(out_dir / file))
     pl.close()
-    return files
+    return file
 
 
 if __name__ == "__main__":  # pragma: no cover - run by ductgen.cfd.run in a child process
