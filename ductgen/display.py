@@ -1,16 +1,17 @@
 """How each number people read is shown: one table, report key → label, unit, scale, digits.
 
-The CLI's build summary, the design page's number and airflow blocks and the sweep's
-comparison table all take their labels, units and rounding from :data:`SHOWN`, so a number
-reads the same everywhere. Keys are ``report.json``'s (their stored unit in the name); a
-few are the sweep's own columns (``build_s``, ``hausdorff_mm``...).
+The CLI's build summary, the drawing sheet's KEY DIMENSIONS, the design page's number and
+airflow blocks and the sweep's comparison table all take their labels, units and rounding
+from :data:`SHOWN`, so a number reads the same everywhere. Keys are ``report.json``'s
+(their stored unit in the name); a few are the sweep's own columns (``build_s``,
+``hausdorff_mm``...).
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass
 
-__all__ = ["SHOWN", "Shown", "shown"]
+__all__ = ["SHOWN", "Shown", "ascii_text", "shown"]
 
 
 @dataclass(frozen=True)
@@ -32,6 +33,26 @@ class Shown:
         sep = "" if self.unit in ("", "°") else " "
         return f"{self.value(stored):.{self.digits}f}{sep}{self.unit}"
 
+    @property
+    def ascii_label(self) -> str:
+        """The label in ASCII (the drawing sheet's PDF core fonts): ``W·D`` → ``W x D``."""
+        return ascii_text(self.label)
+
+    def ascii_text(self, stored: float) -> str:
+        """The number as the drawing sheet prints it: ASCII unit after a space
+        (``"7.00 deg"``, ``"1250 mm2"``)."""
+        unit = ascii_text(self.unit)
+        return f"{self.value(stored):.{self.digits}f}" + (f" {unit}" if unit else "")
+
+
+#: Characters the sheet's PDF core fonts are not trusted with, and what they become.
+_ASCII = {"·": " x ", "°": "deg", "²": "2", "³": "3", "½": "1/2", "δ": "delta", "±": "+/-"}
+
+
+def ascii_text(text: str) -> str:
+    """``text`` with :data:`_ASCII`'s characters spelled in ASCII."""
+    return "".join(_ASCII.get(c, c) for c in text)
+
 
 _CM3 = ("cm³", 1e-3, 1)
 _LPS = ("L/s", 1e3, 1)
@@ -41,12 +62,14 @@ SHOWN: dict[str, Shown] = {
     # geometry (mm, deg, mm², mm³)
     "throat_width_mm": Shown("throat width W", "mm", 1.0, 2),
     "throat_depth_mm": Shown("throat depth D", "mm", 1.0, 2),
-    "ramp_length_mm": Shown("ramp length L", "mm", 1.0, 1),
+    # lengths the drawing sheet dimensions are shown to 0.01 mm everywhere
+    "ramp_length_mm": Shown("ramp length L", "mm", 1.0, 2),
+    "ramp_entry_radius_mm": Shown("entry radius", "mm", 1.0, 2),
     "floor_drop_mm": Shown("floor drop H", "mm", 1.0, 2),
     "ramp_angle_deg": Shown("ramp angle", "°", 1.0, 2),
     "throat_area_mm2": Shown("throat area W·D", "mm²", 1.0, 0),
     "max_wall_divergence_deg": Shown("max wall divergence", "°", 1.0, 1),
-    "apex_width_mm": Shown("apex width", "mm", 1.0, 1),
+    "apex_width_mm": Shown("apex width", "mm", 1.0, 2),
     "ramp_cavity_volume_mm3": Shown("ramp cavity volume", *_CM3),
     "transition_area_ratio": Shown("transition area ratio", "", 1.0, 2),
     "cutter_volume_mm3": Shown("cutter volume", *_CM3),

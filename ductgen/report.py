@@ -15,6 +15,7 @@ from typing import Any
 
 from ductgen.design import Design
 from ductgen.errors import DesignWarning
+from ductgen.flow.record import FlowRecord
 from ductgen.flow.stall import steepest_wall_report
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.solids.results import InsertPiece, Mesh, SolidResult
@@ -49,7 +50,7 @@ class BuildRecord:
         geometry: the ``geometry`` section without its ``skin`` (mm, deg, mm², mm³).
         skin: ``geometry.skin``: the skin, the datum, the outlet's point and axis (mm).
         template: ``template``: how the template is developed.
-        flow: the ``flow`` section (SI), None without ``[flow]``.
+        flow: the ``flow`` section (SI) and its typed numbers, None without ``[flow]``.
         parts: the ``print`` section's mesh checks of the insert and the plug's layup
             facts, None when neither was built.
         bed: ``print.bed`` (without the insert's pieces), None when no part was meshed.
@@ -62,6 +63,8 @@ class BuildRecord:
         files: output kind → file name.
         jig: ``jig``: the conformal marking jig's facts (mm), when made.
         not_made: ``not_made``: output kind → why it was not made for this spec.
+        cfd: ``cfd``: the CFD cross-check's section, added after the build by
+            :func:`ductgen.cfd.cfd_for_build`.
     """
 
     name: str
@@ -70,7 +73,7 @@ class BuildRecord:
     geometry: dict[str, Any]
     skin: dict[str, Any]
     template: dict[str, Any]
-    flow: dict[str, Any] | None
+    flow: FlowRecord | None
     parts: dict[str, Any] | None
     bed: dict[str, Any] | None
     insert_up: str | None
@@ -81,6 +84,7 @@ class BuildRecord:
     files: dict[str, str] = field(default_factory=dict)
     jig: dict[str, Any] | None = None
     not_made: dict[str, str] = field(default_factory=dict)
+    cfd: dict[str, Any] | None = None
 
     def to_report(self) -> dict[str, Any]:
         """The ``report.json`` document (sections in their written order)."""
@@ -95,7 +99,7 @@ class BuildRecord:
             "template": self.template,
         }
         if self.flow is not None:
-            report["flow"] = self.flow
+            report["flow"] = self.flow.section
         section = None if self.parts is None else dict(self.parts)
         if self.bed is not None:
             bed = dict(self.bed)
@@ -110,6 +114,8 @@ class BuildRecord:
             report["not_made"] = dict(self.not_made)
         report["warnings"] = [w.to_dict() for w in self.warnings]
         report["files"] = dict(self.files)
+        if self.cfd is not None:
+            report["cfd"] = self.cfd
         return report
 
 
@@ -281,9 +287,10 @@ def start_record(
     if "transition" in geometry:
         geometry["transition"].update(steepest_wall_report(d.duct))
     warnings = list(d.warnings)
-    flow = None
+    flow: FlowRecord | None = None
     if spec.flow is not None:
-        flow, flow_warnings = flow_report(spec, d)
+        section, flow_warnings = flow_report(spec, d)
+        flow = FlowRecord.of_section(section)
         warnings += flow_warnings
     parts, print_warnings = _print_section(spec, d, solids)
     bed, bed_warnings, insert_up, split = _bed_section(spec, d, solids)

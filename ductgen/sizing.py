@@ -15,6 +15,7 @@ to 0.01 mm so the written spec still meets the target.
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -25,8 +26,9 @@ from scipy.optimize import brentq
 from ductgen.design.build import duct_shape, geometry_from_spec
 from ductgen.errors import SpecError
 from ductgen.flow.operating_point import solve
-from ductgen.flow.report import build_system, flow_section
+from ductgen.flow.report import flow_section
 from ductgen.flow.stall import steepest_wall_report
+from ductgen.flow.system import build_system
 from ductgen.flow.warnings import geometry_warnings
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.geometry.profile import Profile, load_profile
@@ -145,45 +147,24 @@ def size_throat(
     Raises:
         SpecError: bad arguments, or no throat up to the spec's size limits delivers the flow.
     """
-    checks = [
-        ("--flow", flow_m3_s, "> 0 m^3/s", flow_m3_s > 0),
-        ("--speed", speed_m_s, "> 0 and <= 400 m/s", 0 < speed_m_s <= 400),
-        ("--aspect", aspect, "0.2 to 50", 0.2 <= aspect <= 50),
-        ("--angle", angle_deg, "> 0 and < 30 deg", 0 < angle_deg < 30),
-        ("--max-ivr", max_ivr, "0.1 to 3", 0.1 <= max_ivr <= 3),
-    ]
-    bad = [(k, v, a, "sizing input") for k, v, a, ok in checks if not (ok and math.isfinite(v))]
-    if bad:
-        raise SpecError.many(bad)
+    _check_args(flow_m3_s, speed_m_s, aspect, angle_deg, max_ivr)
     spec0 = _base_spec(base, flow_m3_s, speed_m_s, name)
     d_max = min(_upper("depth"), _upper("width") / aspect)
     grid = np.geomspace(_D_MIN_MM, d_max, 48)
-
     profile = load_profile(spec0.planform.profile)
 
     def q_of(d: float) -> float:
         return delivered_flow(spec_with_throat(spec0, float(d), aspect, angle_deg), profile)
 
+    def ivr_of(d: float, q: float) -> float:
+        return q / (aspect * d * d * 1e-6 * speed_m_s)  # throat area in m², d in mm
+
     qs = [q_of(d) for d in grid]
-    hit = next((i for i, q in enumerate(qs) if q >= flow_m3_s), None)
-    if hit is None:
-        best = max(qs)
-        raise SpecError(
-            "--flow",
-            flow_m3_s,
-            f"<= {best:.4g} m^3/s for this speed and system",
-            f"no throat up to {d_max:g} mm deep delivers it: the losses behind the inlet or the "
-            "speed limit the flow",
-        )
-    if hit == 0:
-        depth = float(grid[0])
-    else:
-        depth = float(brentq(lambda d: q_of(d) - flow_m3_s, grid[hit - 1], grid[hit], xtol=1e-6))
+    depth = _depth_for_flow(q_of, grid, qs, flow_m3_s, d_max)
     limited_by = "flow"
-    area = lambda d: aspect * d * d * 1e-6  # noqa: E731  (m², d in mm)
-    if q_of(depth) / (area(depth) * speed_m_s) > max_ivr:
+    if ivr_of(depth, q_of(depth)) > max_ivr:
         limited_by = "ivr"
-        excess = [q / (area(d) * speed_m_s) - max_ivr for d, q in zip(grid, qs, strict=True)]
+        excess = [ivr_of(d, q) - max_ivr for d, q in zip(grid, qs, strict=True)]
         j = next((i for i, e in enumerate(excess) if grid[i] > depth and e <= 0), None)
         if j is None:
             raise SpecError(
@@ -193,9 +174,7 @@ def size_throat(
                 f"no throat up to {d_max:g} mm keeps IVR below it",
             )
         lo = max(depth, float(grid[j - 1]))
-        depth = float(
-            brentq(lambda d: q_of(d) / (area(d) * speed_m_s) - max_ivr, lo, grid[j], xtol=1e-6)
-        )
+        depth = float(brentq(lambda d: ivr_of(d, q_of(d)) - max_ivr, lo, grid[j], xtol=1e-6))
     d_min = max(_limit("depth", "ge"), _limit("width", "ge") / aspect)
     if depth < d_min:  # a throat below the spec's smallest would not build
         q_min = q_of(d_min)
@@ -206,11 +185,7 @@ def size_throat(
             f"the smallest throat ductgen builds ({aspect * d_min:g} x {d_min:g} mm at W/D "
             f"{aspect:g}) already delivers {q_min:.3g} m^3/s; a smaller flow needs no sizing",
         )
-    depth = math.ceil(depth / _ROUND_MM - 1e-9) * _ROUND_MM
-    width = math.ceil(aspect * depth / _ROUND_MM - 1e-9) * _ROUND_MM
-    throat = ThroatSpec(width=round(width, 6), depth=round(depth, 6))
-    ramp = RampSpec(angle_deg=angle_deg, entry_radius=spec0.ramp.entry_radius)
-    spec = spec0.model_copy(update={"throat": throat, "ramp": ramp})
+    spec = _rounded_spec(spec0, depth, aspect, angle_deg)
     g = geometry_from_spec(spec)
     assert spec.flow is not None
     shape = duct_shape(g)
@@ -225,6 +200,55 @@ def size_throat(
         limited_by=limited_by,
         max_ivr=max_ivr,
     )
+
+
+def _check_args(
+    flow_m3_s: float, speed_m_s: float, aspect: float, angle_deg: float, max_ivr: float
+) -> None:
+    """Refuse sizing arguments out of range, every one at once (SpecError, exit 2)."""
+    checks = [
+        ("--flow", flow_m3_s, "> 0 m^3/s", flow_m3_s > 0),
+        ("--speed", speed_m_s, "> 0 and <= 400 m/s", 0 < speed_m_s <= 400),
+        ("--aspect", aspect, "0.2 to 50", 0.2 <= aspect <= 50),
+        ("--angle", angle_deg, "> 0 and < 30 deg", 0 < angle_deg < 30),
+        ("--max-ivr", max_ivr, "0.1 to 3", 0.1 <= max_ivr <= 3),
+    ]
+    bad = [(k, v, a, "sizing input") for k, v, a, ok in checks if not (ok and math.isfinite(v))]
+    if bad:
+        raise SpecError.many(bad)
+
+
+def _depth_for_flow(
+    q_of: Callable[[float], float],
+    grid: np.ndarray,
+    qs: list[float],
+    flow_m3_s: float,
+    d_max: float,
+) -> float:
+    """The smallest depth (mm) on or between the ``grid`` depths (up to ``d_max``)
+    delivering ``flow_m3_s`` (``qs`` the flows at the grid's depths); SpecError when none
+    does."""
+    hit = next((i for i, q in enumerate(qs) if q >= flow_m3_s), None)
+    if hit is None:
+        raise SpecError(
+            "--flow",
+            flow_m3_s,
+            f"<= {max(qs):.4g} m^3/s for this speed and system",
+            f"no throat up to {d_max:g} mm deep delivers it: the losses behind the inlet or the "
+            "speed limit the flow",
+        )
+    if hit == 0:
+        return float(grid[0])
+    return float(brentq(lambda d: q_of(d) - flow_m3_s, grid[hit - 1], grid[hit], xtol=1e-6))
+
+
+def _rounded_spec(spec0: Spec, depth: float, aspect: float, angle_deg: float) -> Spec:
+    """``spec0`` with the throat rounded up to the sizing step and the ramp at ``angle_deg``."""
+    depth = math.ceil(depth / _ROUND_MM - 1e-9) * _ROUND_MM
+    width = math.ceil(aspect * depth / _ROUND_MM - 1e-9) * _ROUND_MM
+    throat = ThroatSpec(width=round(width, 6), depth=round(depth, 6))
+    ramp = RampSpec(angle_deg=angle_deg, length=None, entry_radius=spec0.ramp.entry_radius)
+    return spec0.model_copy(update={"throat": throat, "ramp": ramp})
 
 
 def size_result_dict(r: SizeResult) -> dict[str, Any]:

@@ -36,7 +36,7 @@ def _write(sample_builds: dict, name: str, out: Path) -> tuple[dict, Path]:
     spec = load_spec(next(p for p in SAMPLES if p.stem == name))
     stl = folder / f"{spec.name}-cutter.stl"
     section = cfd_for_build(
-        spec, result.design, copy.deepcopy(result.report), stl, out, write_only=True
+        spec, result.design, copy.deepcopy(result.record), stl, out, write_only=True
     )
     return section, out / "cfd-coarse"
 
@@ -49,6 +49,7 @@ def _vertices(stl_text: str, solid: str) -> np.ndarray:
 FLAT_SAMPLES = [p.stem for p in SAMPLES if 'shape = "cylinder"' not in p.read_text()]
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("name", FLAT_SAMPLES)
 def test_case_written_for_every_sample(sample_builds: dict, name: str, tmp_path: Path) -> None:
     import trimesh
@@ -110,6 +111,7 @@ def test_case_written_for_every_sample(sample_builds: dict, name: str, tmp_path:
     assert level["base_cell_m"] == pytest.approx(d_m / COARSE_CELLS_PER_DEPTH, rel=1e-12)
 
 
+@pytest.mark.slow
 @pytest.mark.openfoam
 def test_dictionaries_parse_and_background_mesh_checks(sample_builds: dict, tmp_path: Path):
     require_openfoam()

@@ -64,7 +64,7 @@ def test_extension_is_a_closed_prism_of_the_outlet() -> None:
 def test_system_behind_the_extension_is_the_budget_with_a_shorter_hose(tmp_path: Path) -> None:
     from ductgen.cfd.extension import downstream_need, extension_plan
     from ductgen.design import build_design
-    from ductgen.flow.report import TRANSITION_NAME, build_system
+    from ductgen.flow.system import TRANSITION_NAME, build_system
     from ductgen.spec import load_spec
 
     club = next(p for p in SAMPLES if p.stem == "club-racer-brake")

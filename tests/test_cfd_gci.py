@@ -57,7 +57,7 @@ def test_oscillatory_and_degenerate() -> None:
 
 
 def test_study_states_gci_or_range() -> None:
-    from ductgen.cfd.run import STUDY_KEYS, gci_study
+    from ductgen.cfd.study import STUDY_KEYS, gci_study
 
     cells = (40_000, 130_000, 430_000)  # coarse, medium, fine
     hs = [(1.0 / n) ** (1.0 / 3.0) for n in cells]  # Celik's h = (V/N)^(1/3), V = 1 m³

@@ -17,8 +17,8 @@ from pathlib import Path
 import pytest
 
 from tests.conftest import SAMPLES
+from tests.processes import WAIT_S, cmdline, gone, marked, until
 from tests.test_cfd_case import require_openfoam
-from tests.test_cli_signals import WAIT_S, _cmdline, _gone, _marked, _until
 from tests.test_cli_signals import run as run  # the fixture
 
 #: OpenFOAM programs (and the MPI launcher) that must not outlive an interrupted run.
@@ -27,11 +27,11 @@ TOOLS = ("simpleFoam", "snappyHexMesh", "blockMesh", "mpirun", "orted", "topoSet
 
 def _running(marker: str, tool: str) -> bool:
     """A marked process whose program is ``tool`` (a rank under mpirun, or the serial tool)."""
-    return any(Path(_cmdline(p).split(" ")[0]).name == tool for p in _marked(marker))
+    return any(Path(cmdline(p).split(" ")[0]).name == tool for p in marked(marker))
 
 
 def _tools_left(marker: str) -> list[str]:
-    return [c for c in (_cmdline(p) for p in _marked(marker)) if any(t in c for t in TOOLS)]
+    return [c for c in (cmdline(p) for p in marked(marker)) if any(t in c for t in TOOLS)]
 
 
 @pytest.mark.openfoam
@@ -57,7 +57,7 @@ def test_interrupted_cfd_stops_the_tools_and_publishes_nothing(
     out.mkdir()
     (out / "notes.txt").write_text("mine")
     p = run("cfd", str(club), "-o", str(out), "--np", n_procs, "--mesh", "coarse")
-    _until(lambda: _running(run.marker, tool) or p.poll() is not None, f"{tool} to run")
+    until(lambda: _running(run.marker, tool) or p.poll() is not None, f"{tool} to run")
     assert p.poll() is None, f"ductgen cfd ended before {tool} ran: {p.communicate()[1][-2000:]}"
     if tool == "simpleFoam":  # let the solver iterate a little (it has not written yet)
         time.sleep(3.0)
@@ -66,7 +66,7 @@ def test_interrupted_cfd_stops_the_tools_and_publishes_nothing(
     _, err = p.communicate(timeout=WAIT_S)
     assert p.returncode == 128 + sig, err[-2000:]
     assert "interrupted" in err and "Traceback" not in err and "failed" not in err
-    _until(lambda: _gone(run.marker), "every OpenFOAM tool and mpirun rank to end")
+    until(lambda: gone(run.marker), "every OpenFOAM tool and mpirun rank to end")
     assert _tools_left(run.marker) == []
     # nothing published, no staging folder left: the folder is as it was
     assert sorted(x.name for x in out.iterdir()) == ["notes.txt"]

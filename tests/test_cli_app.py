@@ -9,7 +9,6 @@ of these cases reaches the CAD kernel except the truncated STEP (read in the wor
 
 from __future__ import annotations
 
-import hashlib
 import json
 import os
 import signal
@@ -21,20 +20,7 @@ import pytest
 
 from ductgen.cli.app import main
 from tests.conftest import GOOD
-
-
-def _tree_digest(root: Path) -> dict[str, str]:
-    """Name → sha256 of every regular file (and a marker for folders) under ``root``."""
-    out: dict[str, str] = {}
-    for p in sorted(root.rglob("*")):
-        rel = str(p.relative_to(root))
-        if p.is_symlink() or not (p.is_file() or p.is_dir()):
-            out[rel] = "special"
-        elif p.is_dir():
-            out[rel] = "dir"
-        else:
-            out[rel] = hashlib.sha256(p.read_bytes()).hexdigest()
-    return out
+from tests.helpers import tree_digest
 
 
 @pytest.fixture(autouse=True)
@@ -330,7 +316,7 @@ def test_bad_input_exits_2_names_key_and_changes_nothing(
     words: list[str],
 ) -> None:
     args = make(tmp_path)
-    before = _tree_digest(tmp_path)
+    before = tree_digest(tmp_path)
     code = main(args)
     out = capsys.readouterr()
     err = " ".join(out.err.split())
@@ -340,7 +326,7 @@ def test_bad_input_exits_2_names_key_and_changes_nothing(
         assert w in err, f"{w!r} missing from: {err[:500]}"
     assert "Traceback" not in out.err + out.out
     assert len(out.err) < 4000, "messages echo an excerpt, never the whole value"
-    assert _tree_digest(tmp_path) == before
+    assert tree_digest(tmp_path) == before
 
 
 def test_fifo_spec_is_refused_without_blocking(
@@ -348,11 +334,11 @@ def test_fifo_spec_is_refused_without_blocking(
 ) -> None:
     fifo = tmp_path / "s.toml"
     os.mkfifo(fifo)
-    before = _tree_digest(tmp_path)
+    before = tree_digest(tmp_path)
     assert main(["build", str(fifo), "-o", str(tmp_path / "o")]) == 2
     err = capsys.readouterr().err
     assert "file" in err and "pipe" in err and "Traceback" not in err
-    assert _tree_digest(tmp_path) == before
+    assert tree_digest(tmp_path) == before
 
 
 def test_fifo_stl_is_refused_without_blocking(
@@ -375,11 +361,11 @@ def test_truncated_step_is_unreadable_not_unhealthy(
         "#1 = CARTESIAN_POINT('',(0.,0.,0.));\n#2 = DIRECTION('',(0.,0.,1."
     )
     (tmp_path / "t.step").write_text(text)
-    before = _tree_digest(tmp_path)
+    before = tree_digest(tmp_path)
     assert main(["check", str(tmp_path / "t.step")]) == 2
     err = " ".join(capsys.readouterr().err.split())
     assert "FILE" in err and "unreadable" in err and "Traceback" not in err
-    assert _tree_digest(tmp_path) == before
+    assert tree_digest(tmp_path) == before
 
 
 def test_init_writes_the_format_its_suffix_names(tmp_path: Path) -> None:
@@ -469,11 +455,11 @@ def test_bad_kernel_limits_in_the_environment_exit_2(
     args = ["build", str(spec), "-o", str(tmp_path / "out"), "--only", "cutter"]
     if command == "sweep":
         args = ["sweep", str(spec), "-o", str(tmp_path / "sw"), "--vary", "throat.width=70,90"]
-    before = _tree_digest(tmp_path)
+    before = tree_digest(tmp_path)
     code = main(args)
     err = " ".join(capsys.readouterr().err.split())
     assert code == 2, err
     assert name in err and "Traceback" not in err and "internal error" not in err
     for w in words:
         assert w in err, f"{w!r} missing from: {err[:500]}"
-    assert _tree_digest(tmp_path) == before
+    assert tree_digest(tmp_path) == before

@@ -14,7 +14,6 @@ import os
 import signal
 import subprocess
 import sys
-import time
 import uuid
 from pathlib import Path
 
@@ -22,8 +21,7 @@ import pytest
 
 from ductgen.cli.app import main
 from tests.conftest import GOOD
-
-WAIT_S = 120.0  # upper bound of any wait (the machine is shared; kernel start takes 2-8 s)
+from tests.processes import WAIT_S, cmdline, gone, marked, until
 
 
 def _digest(root: Path) -> dict[str, str]:
@@ -33,45 +31,8 @@ def _digest(root: Path) -> dict[str, str]:
     }
 
 
-def _marked(marker: str) -> list[int]:
-    """Live (non-zombie) processes whose environment holds ``marker``."""
-    found = []
-    needle = f"DUCTGEN_TEST_MARK={marker}".encode()
-    for d in Path("/proc").iterdir():
-        if not d.name.isdigit():
-            continue
-        try:
-            if needle not in (d / "environ").read_bytes().split(b"\0"):
-                continue
-            state = (d / "stat").read_text().rsplit(")", 1)[1].split()[0]
-        except OSError:
-            continue
-        if state != "Z":
-            found.append(int(d.name))
-    return found
-
-
-def _cmdline(pid: int) -> str:
-    try:
-        return Path(f"/proc/{pid}/cmdline").read_bytes().replace(b"\0", b" ").decode()
-    except OSError:
-        return ""
-
-
 def _kernel_workers(marker: str) -> list[int]:
-    return [p for p in _marked(marker) if "ductgen.worker import _main" in _cmdline(p)]
-
-
-def _until(cond, what: str) -> None:  # type: ignore[no-untyped-def]
-    deadline = time.monotonic() + WAIT_S
-    while not cond():
-        if time.monotonic() > deadline:
-            pytest.fail(f"waited {WAIT_S:.0f} s for {what}")
-        time.sleep(0.1)
-
-
-def _gone(marker: str) -> bool:
-    return not _marked(marker)
+    return [p for p in marked(marker) if "ductgen.worker import _main" in cmdline(p)]
 
 
 def _staged_files(folder: Path) -> list[Path]:
@@ -110,7 +71,7 @@ def run(tmp_path: Path):  # type: ignore[no-untyped-def]
         if p.poll() is None:
             os.killpg(p.pid, signal.SIGKILL)
         p.communicate(timeout=30)
-    for pid in _marked(marker):  # only processes this test started
+    for pid in marked(marker):  # only processes this test started
         os.kill(pid, signal.SIGKILL)
 
 
@@ -137,16 +98,16 @@ def test_signal_during_build_publishes_nothing(tmp_path: Path, run, sig: int, mo
     before = _digest(out)
     p = run("build", str(spec), "-o", str(out), "--force")
     if moment == "kernel started":
-        _until(lambda: _kernel_workers(run.marker) or p.poll() is not None, "the kernel worker")
+        until(lambda: _kernel_workers(run.marker) or p.poll() is not None, "the kernel worker")
     else:
-        _until(lambda: _staged_files(out) or p.poll() is not None, "a staged file")
+        until(lambda: _staged_files(out) or p.poll() is not None, "a staged file")
     assert p.poll() is None, "the build ended before the signal"
     p.send_signal(sig)
     _, err = p.communicate(timeout=WAIT_S)
     assert p.returncode == 128 + sig
     assert "interrupted" in err and "Traceback" not in err
     assert _digest(out) == before  # previous files intact, no staging folder left
-    _until(lambda: _gone(run.marker), "every started process to end")
+    until(lambda: gone(run.marker), "every started process to end")
 
 
 def test_killed_parent_leaves_no_orphan_and_next_run_cleans_staging(tmp_path: Path, run) -> None:  # type: ignore[no-untyped-def]
@@ -155,11 +116,11 @@ def test_killed_parent_leaves_no_orphan_and_next_run_cleans_staging(tmp_path: Pa
     out.mkdir()
     # the insert and plug still take seconds after the cutter's files are staged
     p = run("build", str(spec), "-o", str(out), "--only", "cutter,insert,plug")
-    _until(lambda: _staged_files(out) or p.poll() is not None, "a staged file")
+    until(lambda: _staged_files(out) or p.poll() is not None, "a staged file")
     assert p.poll() is None
     os.kill(p.pid, signal.SIGKILL)  # no clean-up runs in the parent
     _, err = p.communicate(timeout=WAIT_S)
-    _until(lambda: _gone(run.marker), "the kernel worker to die with its parent")
+    until(lambda: gone(run.marker), "the kernel worker to die with its parent")
     assert "Traceback" not in err and "BrokenPipeError" not in err
     assert list(out.glob(".ductgen-staging-*")), "SIGKILL leaves the staging folder"
     q = run("build", str(spec), "-o", str(out), "--only", "template", "-q")
@@ -183,14 +144,14 @@ def test_sigterm_to_sweep_stops_every_worker(tmp_path: Path, run) -> None:  # ty
         "--vary",
         "throat.width=70,90",
     )
-    _until(
+    until(
         lambda: len(_kernel_workers(run.marker)) >= 2 or p.poll() is not None, "two kernel workers"
     )
     assert p.poll() is None
     p.send_signal(signal.SIGTERM)
     _, err = p.communicate(timeout=WAIT_S)
     assert p.returncode == 143
-    _until(lambda: _gone(run.marker), "pool and kernel workers to end")
+    until(lambda: gone(run.marker), "pool and kernel workers to end")
     assert "Traceback" not in err and "KeyboardInterrupt" not in err
     if sw.exists():
         for d in sw.iterdir():

@@ -14,6 +14,8 @@ from hypothesis import strategies as st
 
 cq = pytest.importorskip("cadquery")
 
+pytestmark = pytest.mark.slow  # every test here builds a cutter in this process (the CAD kernel)
+
 from ductgen.design import build_design, geometry_from_spec  # noqa: E402
 from ductgen.meshstats import mesh_stats  # noqa: E402
 from ductgen.solids.cad_io import read_step, step_bytes, stl_bytes  # noqa: E402

@@ -24,6 +24,8 @@ from ductgen.design import build_design  # noqa: E402
 from ductgen.errors import SpecError  # noqa: E402
 from ductgen.spec import parse_spec  # noqa: E402
 from tests.conftest import ROOT  # noqa: E402
+from tests.helpers import PANEL_BASE as BASE  # noqa: E402
+from tests.helpers import opening_from_dxf, panel_skin, panel_spec  # noqa: E402
 from tests.panels import (  # noqa: E402
     MOTION,
     bent_plate,
@@ -32,25 +34,6 @@ from tests.panels import (  # noqa: E402
     cylinder_panel,
     torus_panel,
 )
-from tests.test_design_skin import BASE as CURVED_BASE  # noqa: E402
-from tests.test_design_skin import _opening_from_dxf  # noqa: E402
-
-#: The curved-skin tests' inlet, its files named "panel-…".
-BASE = {**CURVED_BASE, "name": "panel"}
-
-
-def _spec(skin: dict, base: dict | None = None):  # type: ignore[no-untyped-def]
-    return parse_spec({**(base or BASE), "skin": {"thickness": 2.0, **skin}})
-
-
-def _panel_skin(path: Path, at, flow, **more) -> dict:  # type: ignore[no-untyped-def]
-    return {
-        "shape": "panel",
-        "file": str(path),
-        "at": [float(c) for c in at],
-        "flow_direction": [float(c) for c in flow],
-        **more,
-    }
 
 
 def _export(shape, path: Path) -> Path:  # type: ignore[no-untyped-def]
@@ -96,9 +79,9 @@ def _probe_points(d, n: int = 600) -> np.ndarray:  # type: ignore[no-untyped-def
 def test_a_moved_analytic_patch_maps_as_the_analytic_skin(tmp_path, name, analytic, make) -> None:  # type: ignore[no-untyped-def]
     path = _export(MOTION.shape(make()), tmp_path / f"{name}.step")
     d = build_design(
-        _spec(_panel_skin(path, MOTION.points(np.zeros(3)), MOTION.vector([1.0, 0.0, 0.0])))
+        panel_spec(panel_skin(path, MOTION.points(np.zeros(3)), MOTION.vector([1.0, 0.0, 0.0])))
     )
-    ref = build_design(_spec(analytic))
+    ref = build_design(panel_spec(analytic))
     p = _probe_points(ref)
     # every solid's map (skin, fading duct, rigid spigot) and the plug's, to 0.01 mm
     for got, want in (
@@ -150,7 +133,7 @@ def test_a_moved_cylinder_panel_builds_the_sample_moved(sample_builds, tmp_path)
     path = _export(MOTION.shape(cylinder_panel(radius, "spanwise", t)), tmp_path / "bonnet.step")
     data["skin"] = {
         "thickness": t,
-        **_panel_skin(path, MOTION.points(np.zeros(3)), MOTION.vector([1.0, 0.0, 0.0])),
+        **panel_skin(path, MOTION.points(np.zeros(3)), MOTION.vector([1.0, 0.0, 0.0])),
     }
     data["name"] = "moved"
     got = build(parse_spec(data), tmp_path / "out")
@@ -171,8 +154,8 @@ def test_a_moved_cylinder_panel_builds_the_sample_moved(sample_builds, tmp_path)
     # the template's opening, flat, to 0.05 mm: every point of either outline lies within
     # 0.05 mm of the other (a point-to-segment distance; the panel's flattened outline is
     # densified, the sample's developed one keeps its arcs, both read through ezdxf)
-    a = _opening_from_dxf(tmp_path / "out" / "moved-template.dxf")
-    b = _opening_from_dxf(ref_dir / f"{name}-template.dxf")
+    a = opening_from_dxf(tmp_path / "out" / "moved-template.dxf")
+    b = opening_from_dxf(ref_dir / f"{name}-template.dxf")
     assert max(_to_polyline(a, b), _to_polyline(b, a)) < 0.05
     # the panel itself, cut: one valid solid in the file's own frame
     cut = cq.importers.importStep(str(tmp_path / "out" / "moved-panel.step")).val()
@@ -216,11 +199,11 @@ def test_bonnet_opening_floor_and_cut_panel(bonnet, tmp_path) -> None:  # type: 
     from OCP.gp import gp_Pnt
 
     from ductgen.pipeline import build
-    from tests.test_design_skin import _depth_along
+    from tests.helpers import depth_along
 
     path, face = bonnet
     flow = np.array([1.0, 0.15, 0.0])
-    spec = _spec(_panel_skin(path, AT, flow, thickness=2.5))
+    spec = panel_spec(panel_skin(path, AT, flow, thickness=2.5))
     result = build(spec, tmp_path / "out", only=["cutter", "insert"])
     d, g = result.design, result.design.geometry
     # the opening's rim, mapped onto the panel, lies on the B-spline surface to 0.01 mm
@@ -237,7 +220,7 @@ def test_bonnet_opening_floor_and_cut_panel(bonnet, tmp_path) -> None:  # type: 
     for x in g.planform.node_x_mm[1:-1]:
         for vv in (0.0, 0.4 * float(g.planform.half_width(x))):
             p0, n = _surface_normal(face, d.skin.to_model(np.array([[x, vv, 0.0]]))[0])
-            assert _depth_along(cutter, p0, n) == pytest.approx(float(g.floor.depth(x)), abs=0.05)
+            assert depth_along(cutter, p0, n) == pytest.approx(float(g.floor.depth(x)), abs=0.05)
     # NAME-panel.step: one valid closed solid whose volume is the thickened panel's minus
     # the skin inside the insert's cut-out outline (which holds the opening, so the cutter
     # takes nothing more from the skin): a shell of area A and thickness t on a convex
@@ -280,8 +263,8 @@ def test_a_noisy_scan_places_as_the_cad_file(bonnet, tmp_path) -> None:  # type:
     scan = tmp_path / "bonnet.stl"
     trimesh.Trimesh(v, f).export(str(scan))
     flow = np.array([1.0, 0.15, 0.0])
-    cad = build_design(_spec(_panel_skin(path, AT, flow)))
-    got = build_design(_spec(_panel_skin(scan, AT, flow, units="mm")))
+    cad = build_design(panel_spec(panel_skin(path, AT, flow)))
+    got = build_design(panel_spec(panel_skin(scan, AT, flow, units="mm")))
     p = _probe_points(cad)
     assert (
         np.max(np.linalg.norm(got.placement.solid_map(p) - cad.placement.solid_map(p), axis=1))
@@ -336,9 +319,9 @@ def panels(tmp_path_factory) -> dict[str, Path]:  # type: ignore[no-untyped-def]
 )
 def test_bad_panels_name_the_key(panels, panel, skin, key, words) -> None:  # type: ignore[no-untyped-def]
     path = panels.get(panel, Path("/nonexistent/bonnet.step"))
-    given = {**_panel_skin(path, [0.0, 0.0, 0.0], [1.0, 0.0, 0.0]), **skin}
+    given = {**panel_skin(path, [0.0, 0.0, 0.0], [1.0, 0.0, 0.0]), **skin}
     with pytest.raises(SpecError) as err:
-        build_design(_spec(given))
+        build_design(panel_spec(given))
     assert key in {p.key for p in err.value.problems}
     assert words in str(err.value)
 
@@ -346,7 +329,7 @@ def test_bad_panels_name_the_key(panels, panel, skin, key, words) -> None:  # ty
 def test_a_bad_panel_exits_2_and_writes_nothing(panels, tmp_path) -> None:  # type: ignore[no-untyped-def]
     import tomli_w
 
-    spec = {**BASE, "skin": _panel_skin(panels["plate"], [0.0, 0.0, 3.0], [1.0, 0.0, 0.0])}
+    spec = {**BASE, "skin": panel_skin(panels["plate"], [0.0, 0.0, 3.0], [1.0, 0.0, 0.0])}
     (tmp_path / "s.toml").write_text(tomli_w.dumps(spec))
     run = subprocess.run(
         [

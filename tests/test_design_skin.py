@@ -25,16 +25,10 @@ from ductgen.solids.deform import map_solid  # noqa: E402
 from ductgen.solids.insert import make_insert  # noqa: E402
 from ductgen.solids.mesh import triangulate  # noqa: E402
 from ductgen.spec import parse_spec  # noqa: E402
+from tests.helpers import CURVED_BASE as BASE  # noqa: E402
+from tests.helpers import depth_along, opening_from_dxf  # noqa: E402
 
 R = 600.0
-BASE = {
-    "name": "curved",
-    "throat": {"width": 80, "depth": 20},
-    "ramp": {"angle_deg": 7.0, "entry_radius": 60},
-    "lip": {"thickness": 4.5},
-    "outlet": {"kind": "round", "diameter": 50, "transition_length": 110, "spigot_length": 35},
-    "insert": {"wall": 2.0, "flange_width": 14, "holes": {"count": 6, "diameter": 3.2}},
-}
 CYLINDERS = [
     ("streamwise", "convex"),
     ("streamwise", "concave"),
@@ -105,27 +99,13 @@ def test_cylinder_opening_floor_and_volume(axis: str, side: str) -> None:
         for vv in (0.0, 0.4 * float(g.planform.half_width(x))):
             p0 = d.skin.to_model(np.array([[x, vv, 0.0]]))[0]
             n = d.skin.normal(np.array([[x, vv]]))[0]
-            assert _depth_along(cutter, p0, n) == pytest.approx(float(g.floor.depth(x)), abs=0.05)
+            assert depth_along(cutter, p0, n) == pytest.approx(float(g.floor.depth(x)), abs=0.05)
     # the cavity's volume is the cylindrical-coordinates integral of the flat cavity:
     # V = ∫(1 + s·w/R) dV_flat = V_flat + s·(∫w dV_flat)/R
     flat = make_cavity(g)
     vol, moment = _moments(flat)
     mapped = map_solid(flat, d.skin.to_model, 1.0 / R, "cavity")
     assert _volume(mapped) == pytest.approx(vol + s * moment / R, rel=5e-3)
-
-
-def _depth_along(solid, p0: np.ndarray, n: np.ndarray) -> float:  # type: ignore[no-untyped-def]
-    """Distance (mm) from ``p0`` along −n to the nearest boundary crossing of ``solid``."""
-    from OCP.BRepIntCurveSurface import BRepIntCurveSurface_Inter
-    from OCP.gp import gp_Dir, gp_Lin, gp_Pnt
-
-    inter = BRepIntCurveSurface_Inter()
-    inter.Init(solid.wrapped, gp_Lin(gp_Pnt(*p0), gp_Dir(*(-n))), 1e-7)
-    ts = []
-    while inter.More():
-        ts.append(inter.W())
-        inter.Next()
-    return min(t for t in ts if t > 1e-6)
 
 
 def _face_points(shape, n: int = 24) -> np.ndarray:  # type: ignore[no-untyped-def]
@@ -235,24 +215,6 @@ def test_unknown_axis_is_refused() -> None:
 CURVED_SAMPLES = ["kitcar-bonnet-intake", "round-cowling-vent"]
 
 
-def _opening_from_dxf(path) -> np.ndarray:  # type: ignore[no-untyped-def]
-    """The template's air opening: the smallest closed CUT polyline (ezdxf, mm)."""
-    import ezdxf
-    from ezdxf import path as dxf_path
-
-    doc = ezdxf.readfile(path)
-    best = None
-    for pl in doc.modelspace().query("LWPOLYLINE[layer=='CUT']"):
-        pts = np.array([(v.x, v.y) for v in dxf_path.make_path(pl).flattening(0.05)])
-        area = 0.5 * abs(
-            np.dot(pts[:, 0], np.roll(pts[:, 1], -1)) - np.dot(pts[:, 1], np.roll(pts[:, 0], -1))
-        )
-        if best is None or area < best[0]:
-            best = (area, pts)
-    assert best is not None
-    return best[1]
-
-
 @pytest.mark.slow
 @pytest.mark.parametrize("name", CURVED_SAMPLES)
 def test_cutter_cuts_the_panel_where_the_template_says(sample_builds, name: str) -> None:  # type: ignore[no-untyped-def]
@@ -286,7 +248,7 @@ def test_cutter_cuts_the_panel_where_the_template_says(sample_builds, name: str)
     # air; just outside it is panel
     import trimesh
 
-    opening = _opening_from_dxf(folder / f"{name}-template.dxf")
+    opening = opening_from_dxf(folder / f"{name}-template.dxf")
     ring = MplPath(opening)
     d = result.design
     # classified on a fine triangulation of the cut panel (ray parity, trimesh): the kernel's

@@ -148,10 +148,11 @@ def test_gradient_past_the_cp_range_is_refused(tmp_path: Path) -> None:
 
 
 def test_sheet_block_names_the_method() -> None:
+    from ductgen.flow.record import FlowRecord
     from ductgen.flow.sheet_block import flow_block_lines
 
     f, _ = _section(inlet_cp_gradient_per_m=0.3)
-    line = flow_block_lines(f)[-1]
+    line = flow_block_lines(FlowRecord.of_section(f))[-1]
     h = f["boundary_layer_gradient"]["shape_factor"]
     assert f"Head's method, dCp/dx 0.3 /m, H {h:.2f}" in line
-    assert "Head" not in flow_block_lines(_section()[0])[-1]
+    assert "Head" not in flow_block_lines(FlowRecord.of_section(_section()[0]))[-1]

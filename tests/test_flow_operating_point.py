@@ -9,7 +9,8 @@ import pytest
 from ductgen.design import build_design
 from ductgen.errors import DesignWarning
 from ductgen.flow.operating_point import solve
-from ductgen.flow.report import build_system, flow_section
+from ductgen.flow.report import flow_section
+from ductgen.flow.system import build_system
 from ductgen.report import start_record
 from ductgen.spec import parse_spec
 

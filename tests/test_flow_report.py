@@ -18,6 +18,7 @@ from fluids.fittings import diffuser_conical
 
 from ductgen.design import build_design, geometry_from_spec
 from ductgen.flow.boundary_layer import turbulent_flat_plate
+from ductgen.flow.record import FlowRecord
 from ductgen.flow.report import flow_section
 from ductgen.flow.warnings import geometry_warnings
 from ductgen.pipeline import build
@@ -239,7 +240,7 @@ def test_sheet_shows_flow_block() -> None:
     spec = load_spec(SAMPLE)
     g = geometry_from_spec(spec)
     f, _ = flow_section(spec.flow, build_design(spec).duct)
-    pdf = sheet_pdf(g, spec, "0" * 64, "test", None, f)
+    pdf = sheet_pdf(g, spec, "0" * 64, "test", None, FlowRecord.of_section(f))
     text = pymupdf.open(stream=pdf, filetype="pdf")[0].get_text()
     assert "AIRFLOW" in text
     band = f["sensitivity"]

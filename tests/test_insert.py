@@ -67,6 +67,7 @@ def _section_edges(solid, origin, normal):  # type: ignore[no-untyped-def]
     return solid.intersect(plane).Edges()
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("which", ["round_insert", "surface_insert"])
 def test_insert_is_one_valid_closed_solid(which: str, request: pytest.FixtureRequest) -> None:
     _, _, solid, (v, f) = request.getfixturevalue(which)
@@ -81,6 +82,7 @@ def test_insert_is_one_valid_closed_solid(which: str, request: pytest.FixtureReq
     assert m.volume == pytest.approx(vol, rel=1e-4)
 
 
+@pytest.mark.slow
 def test_spigot_outer_diameter_is_hose_id_minus_clearance(round_insert) -> None:  # type: ignore[no-untyped-def]
     g, fab, solid, _ = round_insert
     sp = spigot_of(g, fab)
@@ -96,6 +98,7 @@ def test_spigot_outer_diameter_is_hose_id_minus_clearance(round_insert) -> None:
     assert sp.clamp_land_mm >= 15.0  # clamp land ≥ 15 mm (the spec's lower limit)
 
 
+@pytest.mark.slow
 def test_bead_stands_above_the_spigot(round_insert) -> None:  # type: ignore[no-untyped-def]
     g, fab, solid, _ = round_insert
     sp = spigot_of(g, fab)
@@ -105,6 +108,7 @@ def test_bead_stands_above_the_spigot(round_insert) -> None:  # type: ignore[no-
     assert r == pytest.approx(sp.od_mm / 2.0 + fab.insert.bead_height, abs=0.05)
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("which", ["round_insert", "surface_insert"])
 def test_flange_slice_shows_the_requested_holes(which: str, request: pytest.FixtureRequest) -> None:
     g, fab, solid, _ = request.getfixturevalue(which)
@@ -122,6 +126,7 @@ def test_flange_slice_shows_the_requested_holes(which: str, request: pytest.Fixt
         assert np.min(np.hypot(*(lay.hole_centres_xy - np.array(c[:2])).T)) < 1e-3
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("path", SAMPLES, ids=[p.stem for p in SAMPLES])
 def test_min_wall_on_every_sample(path: Path) -> None:
     spec = load_spec(path)
@@ -150,6 +155,7 @@ def test_min_wall_on_every_sample(path: Path) -> None:
     assert mesh_stats(v, f)[0]
 
 
+@pytest.mark.slow
 def test_behind_mount_is_flush_with_the_skin(round_insert) -> None:  # type: ignore[no-untyped-def]
     g, fab, _, (v, _) = round_insert
     assert float(np.max(v[:, 2])) == pytest.approx(

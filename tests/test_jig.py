@@ -178,14 +178,14 @@ def test_jig_on_a_doubly_curved_bspline_panel(tmp_path) -> None:  # type: ignore
     from OCP.gp import gp_Pnt
 
     from ductgen.pipeline import build
+    from tests.helpers import panel_skin, panel_spec
     from tests.panels import bonnet_face, bonnet_height
-    from tests.test_design_panel import _panel_skin, _spec
 
     face = bonnet_face()
     path = tmp_path / "bonnet.step"
     cq.exporters.export(face, str(path))
     at = np.array([40.0, 30.0, float(bonnet_height(np.array(40.0), np.array(30.0)))])
-    spec = _spec(_panel_skin(path, at, np.array([1.0, 0.15, 0.0]), thickness=2.5))
+    spec = panel_spec(panel_skin(path, at, np.array([1.0, 0.15, 0.0]), thickness=2.5))
     res = build(spec, tmp_path / "out", only=["cutter", "jig"], cache=False)
     c = res.report["jig"]["clearance_mm"]
     m = trimesh.load(tmp_path / "out" / f"{spec.name}-jig.stl")

@@ -25,6 +25,17 @@ import pytest
 import tomllib
 
 from ductgen.spec import load_spec
+from tests.browser import (
+    auth_header,
+    field_of,
+    get_json,
+    open_page,
+    save_shot,
+    text_of,
+    type_id,
+    type_key,
+    wait_until,
+)
 from tests.conftest import CHROMIUM_FLAGS
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -118,49 +129,9 @@ def _exists(p: str) -> str | None:
     return p if Path(p).exists() else None
 
 
-def _wait(d, seconds: float, cond):  # type: ignore[no-untyped-def]
-    from selenium.common.exceptions import NoSuchElementException, StaleElementReferenceException
-    from selenium.webdriver.support.ui import WebDriverWait
-
-    ignored = (StaleElementReferenceException, NoSuchElementException, ValueError)
-    wait = WebDriverWait(d, seconds, poll_frequency=0.05, ignored_exceptions=ignored)
-    return wait.until(lambda _d: cond())
-
-
-def _field(d, key: str):  # type: ignore[no-untyped-def]
-    from selenium.webdriver.common.by import By
-
-    return d.find_element(By.CSS_SELECTOR, f'[data-key="{key}"]')
-
-
-def _text(d, elem_id: str) -> str:  # type: ignore[no-untyped-def]
-    from selenium.webdriver.common.by import By
-
-    return d.find_element(By.ID, elem_id).text
-
-
-def _type(d, key: str, text: str) -> None:  # type: ignore[no-untyped-def]
-    from selenium.webdriver.common.keys import Keys
-
-    f = _field(d, key)
-    f.send_keys(Keys.CONTROL, "a")
-    f.send_keys(Keys.DELETE)
-    f.send_keys(text)
-
-
 def _shown_mm(d, num: str) -> float:  # type: ignore[no-untyped-def]
     """The number shown in the key-numbers block (text like '284.25 mm')."""
-    return float(_text(d, f"num-{num}").split()[0])
-
-
-def _open(d, url: str, keep: bool = False) -> None:  # type: ignore[no-untyped-def]
-    """Load the page; without ``keep``, from the spec file (edits an earlier test left in
-    the browser's storage are forgotten first)."""
-    d.get(url)
-    if not keep:
-        d.execute_script("localStorage.clear()")
-        d.refresh()
-    _wait(d, 30, lambda: "up to date" in _text(d, "status"))
+    return float(text_of(d, f"num-{num}").split()[0])
 
 
 def _ramp_length(r: float, h: float, theta_deg: float) -> float:
@@ -170,26 +141,13 @@ def _ramp_length(r: float, h: float, theta_deg: float) -> float:
     return r * math.sin(t) + (h - r * (1.0 - math.cos(t))) / math.tan(t)
 
 
-def _key(url: str) -> dict[str, str]:
-    """The page's key (printed in its address) as a script sends it."""
-    return {"Authorization": "Bearer " + url.split("token=", 1)[1]}
-
-
 def _post(url: str, path: str, body: dict[str, Any], host: str | None = None) -> tuple[int, dict]:
     u = http.client.urlsplit(url)
     conn = http.client.HTTPConnection(u.hostname, u.port, timeout=60)
-    headers = {"Content-Type": "application/json", **_key(url)}
+    headers = {"Content-Type": "application/json", **auth_header(url)}
     if host is not None:
         headers["Host"] = host
     conn.request("POST", path, json.dumps(body), headers)
-    r = conn.getresponse()
-    return r.status, json.loads(r.read() or b"{}")
-
-
-def _get(url: str, path: str, host: str | None = None) -> tuple[int, dict]:
-    u = http.client.urlsplit(url)
-    conn = http.client.HTTPConnection(u.hostname, u.port, timeout=60)
-    conn.request("GET", path, headers={**_key(url), **({"Host": host} if host else {})})
     r = conn.getresponse()
     return r.status, json.loads(r.read() or b"{}")
 
@@ -199,15 +157,15 @@ def _get(url: str, path: str, host: str | None = None) -> tuple[int, dict]:
 
 def test_page_shows_sample_and_ramp_length_follows_the_angle(server, browser) -> None:  # type: ignore[no-untyped-def]
     d = browser
-    _open(d, server)
+    open_page(d, server)
     raw = tomllib.loads(SAMPLE.read_text())
     # the sample's values, as written in the file (units as text)
-    assert _field(d, "name").get_attribute("value") == raw["name"]
-    assert float(_field(d, "throat.width").get_attribute("value")) == raw["throat"]["width"]
-    assert float(_field(d, "throat.depth").get_attribute("value")) == raw["throat"]["depth"]
-    assert float(_field(d, "ramp.angle_deg").get_attribute("value")) == 7.0
-    assert _field(d, "outlet.diameter").get_attribute("value") == raw["outlet"]["diameter"]
-    assert _field(d, "flow.speed").get_attribute("value") == raw["flow"]["speed"]
+    assert field_of(d, "name").get_attribute("value") == raw["name"]
+    assert float(field_of(d, "throat.width").get_attribute("value")) == raw["throat"]["width"]
+    assert float(field_of(d, "throat.depth").get_attribute("value")) == raw["throat"]["depth"]
+    assert float(field_of(d, "ramp.angle_deg").get_attribute("value")) == 7.0
+    assert field_of(d, "outlet.diameter").get_attribute("value") == raw["outlet"]["diameter"]
+    assert field_of(d, "flow.speed").get_attribute("value") == raw["flow"]["speed"]
     # H = D + lip thickness for a flush lip (README conventions); R = entry radius
     r, h = raw["ramp"]["entry_radius"], raw["throat"]["depth"] + raw["lip"]["thickness"]
     assert _shown_mm(d, "ramp_length_mm") == pytest.approx(_ramp_length(r, h, 7.0), abs=0.1)
@@ -215,21 +173,21 @@ def test_page_shows_sample_and_ramp_length_follows_the_angle(server, browser) ->
     # the live answer carries the transition's steepest wall and the airflow's terms
     assert "transition steepest wall" in d.find_element("id", "numbers").text
     assert "impact pressure (isentropic)" in d.find_element("id", "flow").text
-    _type(d, "ramp.angle_deg", "6")
+    type_key(d, "ramp.angle_deg", "6")
     want = _ramp_length(r, h, 6.0)  # 405.89 mm by the formula
     # the page's promise: the shown value follows within one second
-    _wait(d, 1.0, lambda: abs(_shown_mm(d, "ramp_length_mm") - want) <= 0.1)
+    wait_until(d, 1.0, lambda: abs(_shown_mm(d, "ramp_length_mm") - want) <= 0.1)
     assert f">L {want:.1f}<" in d.find_element("id", "plan").get_attribute("innerHTML")
-    _type(d, "ramp.angle_deg", "7")
-    _wait(d, 5, lambda: abs(_shown_mm(d, "ramp_length_mm") - _ramp_length(r, h, 7.0)) <= 0.1)
+    type_key(d, "ramp.angle_deg", "7")
+    wait_until(d, 5, lambda: abs(_shown_mm(d, "ramp_length_mm") - _ramp_length(r, h, 7.0)) <= 0.1)
 
 
 def test_bad_value_shows_the_cli_sentence_and_builds_nothing(server, browser, tmp_path) -> None:  # type: ignore[no-untyped-def]
     d = browser
-    _open(d, server)
-    _type(d, "throat.width", "12 kg")
-    _wait(d, 5, lambda: _text(d, "err-f-throat-width") != "")
-    shown = _text(d, "err-f-throat-width")
+    open_page(d, server)
+    type_key(d, "throat.width", "12 kg")
+    wait_until(d, 5, lambda: text_of(d, "err-f-throat-width") != "")
+    shown = text_of(d, "err-f-throat-width")
     # the CLI's own message for the same value in a spec file
     bad = tmp_path / "bad.toml"
     bad.write_text(SAMPLE.read_text().replace("width = 110", 'width = "12 kg"'))
@@ -243,7 +201,7 @@ def test_bad_value_shows_the_cli_sentence_and_builds_nothing(server, browser, tm
     assert cli.returncode == 2
     lines = [ln.strip() for ln in cli.stderr.splitlines() if ln.strip().startswith("throat.width")]
     assert lines and shown == lines[0]
-    assert _field(d, "throat.width").get_attribute("aria-invalid") == "true"
+    assert field_of(d, "throat.width").get_attribute("aria-invalid") == "true"
     assert not d.find_element("id", "build-btn").is_enabled()
     # the server refuses too: nothing is started or written
     out = tmp_path / "page-bad"
@@ -251,9 +209,9 @@ def test_bad_value_shows_the_cli_sentence_and_builds_nothing(server, browser, tm
     status, res = _post(server, "/api/build", {"data": data, "out": "page-bad"})
     assert status == 400 and res["problems"][0]["key"] == "throat.width"
     assert not out.exists() and not (tmp_path / "cli").exists()
-    assert _get(server, "/api/job")[1]["status"] == "idle"
-    _type(d, "throat.width", "110")
-    _wait(d, 5, lambda: _text(d, "err-f-throat-width") == "")
+    assert get_json(server, "/api/job")[1]["status"] == "idle"
+    type_key(d, "throat.width", "110")
+    wait_until(d, 5, lambda: text_of(d, "err-f-throat-width") == "")
 
 
 def _same(a: Any, b: Any, where: str = "") -> None:
@@ -273,22 +231,23 @@ def _same(a: Any, b: Any, where: str = "") -> None:
         assert a == b, where
 
 
+@pytest.mark.slow
 def test_build_from_page_writes_what_ductgen_build_writes(  # type: ignore[no-untyped-def]
     server, browser, page_out, tmp_path
 ) -> None:
     from ductgen.cli import main
 
     d = browser
-    _open(d, server)
+    open_page(d, server)
     d.find_element("id", "build-btn").click()
-    _wait(d, 10, lambda: "running" in _text(d, "job") or "done" in _text(d, "job"))
+    wait_until(d, 10, lambda: "running" in text_of(d, "job") or "done" in text_of(d, "job"))
     # a second build while one runs is refused with a message
     data = d.execute_script("return window.ductgenPage.specData()")
     status, res = _post(server, "/api/build", {"data": data, "out": "second"})
     assert status == 409 and res["message"].startswith("busy:")
     assert not (page_out / "second").exists()
-    _wait(d, 600, lambda: "done" in _text(d, "job") or "failed" in _text(d, "job"))
-    assert "done" in _text(d, "job"), _text(d, "job")
+    wait_until(d, 600, lambda: "done" in text_of(d, "job") or "failed" in text_of(d, "job"))
+    assert "done" in text_of(d, "job"), text_of(d, "job")
     # the same build through the CLI
     cli_out = tmp_path / "cli"
     assert main(["build", str(SAMPLE), "-o", str(cli_out), "--quiet"]) == 0
@@ -306,9 +265,11 @@ def test_build_from_page_writes_what_ductgen_build_writes(  # type: ignore[no-un
     )
     assert json.loads(got) == page_report
     # the 3D view shows the built cutter: triangles drawn, not a blank canvas
-    _wait(d, 30, lambda: int(d.find_element("id", "viewer").get_attribute("data-drawn") or 0) > 0)
+    wait_until(
+        d, 30, lambda: int(d.find_element("id", "viewer").get_attribute("data-drawn") or 0) > 0
+    )
     png = d.find_element("id", "viewer").screenshot_as_png
-    _save_shot(png, "page-viewer.png")
+    save_shot(png, "page-viewer.png")
     img = _png(png)
     background = np.array([0xEE, 0xF2, 0xF4]) / 255.0
     assert np.any(np.abs(img - background) > 0.1, axis=2).mean() > 0.05
@@ -318,40 +279,31 @@ def test_save_and_reload_round_trip(server, browser, page_out) -> None:  # type:
     from ductgen.spec import parse_spec
 
     d = browser
-    _open(d, server)
+    open_page(d, server)
     saved = page_out / "saved.toml"  # the page's work folder
-    _type_id(d, "save-path", saved.name)
+    type_id(d, "save-path", saved.name)
     d.find_element("id", "save-btn").click()
-    _wait(d, 10, lambda: _text(d, "save-msg").startswith(("saved", "not saved")))
-    assert _text(d, "save-msg").startswith("saved"), _text(d, "save-msg")
+    wait_until(d, 10, lambda: text_of(d, "save-msg").startswith(("saved", "not saved")))
+    assert text_of(d, "save-msg").startswith("saved"), text_of(d, "save-msg")
     assert load_spec(saved) == load_spec(SAMPLE)
     # reload the saved file into the page: the form gives the same spec again
-    _type(d, "ramp.angle_deg", "6.5")
+    type_key(d, "ramp.angle_deg", "6.5")
     d.find_element("id", "open-btn").click()
-    _wait(d, 10, lambda: _text(d, "save-msg").startswith("opened"))
-    _wait(d, 10, lambda: _field(d, "ramp.angle_deg").get_attribute("value") in ("7", "7.0"))
+    wait_until(d, 10, lambda: text_of(d, "save-msg").startswith("opened"))
+    wait_until(d, 10, lambda: field_of(d, "ramp.angle_deg").get_attribute("value") in ("7", "7.0"))
     assert parse_spec(d.execute_script("return window.ductgenPage.specData()")) == load_spec(SAMPLE)
     # a changed value survives a save and a reload, and nothing else changes
-    _type(d, "ramp.angle_deg", "6.5")
-    _type_id(d, "save-path", "changed.toml")
+    type_key(d, "ramp.angle_deg", "6.5")
+    type_id(d, "save-path", "changed.toml")
     d.find_element("id", "save-btn").click()
-    _wait(d, 10, lambda: "changed.toml" in _text(d, "save-msg"))
+    wait_until(d, 10, lambda: "changed.toml" in text_of(d, "save-msg"))
     base = load_spec(SAMPLE)
     want = base.model_copy(update={"ramp": base.ramp.model_copy(update={"angle_deg": 6.5})})
     assert load_spec(page_out / "changed.toml") == want
     # saving over an existing file needs the replace box
     d.find_element("id", "save-btn").click()
-    _wait(d, 10, lambda: _text(d, "save-msg").startswith("not saved"))
-    assert "refusing to overwrite" in _text(d, "save-msg")
-
-
-def _type_id(d, elem_id: str, text: str) -> None:  # type: ignore[no-untyped-def]
-    from selenium.webdriver.common.keys import Keys
-
-    f = d.find_element("id", elem_id)
-    f.send_keys(Keys.CONTROL, "a")
-    f.send_keys(Keys.DELETE)
-    f.send_keys(text)
+    wait_until(d, 10, lambda: text_of(d, "save-msg").startswith("not saved"))
+    assert "refusing to overwrite" in text_of(d, "save-msg")
 
 
 def _png(data: bytes) -> np.ndarray:
@@ -362,19 +314,11 @@ def _png(data: bytes) -> np.ndarray:
     return mpimg.imread(io.BytesIO(data), format="png")[..., :3]
 
 
-def _save_shot(data: bytes, name: str) -> None:
-    """Keep a screenshot for people to look at (DUCTGEN_SHOTS=folder)."""
-    folder = os.environ.get("DUCTGEN_SHOTS")
-    if folder:
-        Path(folder).mkdir(parents=True, exist_ok=True)
-        (Path(folder) / name).write_bytes(data)
-
-
 def test_screenshot_is_not_blank_and_shows_the_plan_view(server, browser) -> None:  # type: ignore[no-untyped-def]
     d = browser
-    _open(d, server)
+    open_page(d, server)
     png = d.get_screenshot_as_png()
-    _save_shot(png, "page.png")
+    save_shot(png, "page.png")
     img = _png(png)
     assert np.abs(img - img.mean(axis=(0, 1))).max() > 0.3  # not one flat colour
     plan = d.find_element("id", "plan-svg")
@@ -429,9 +373,11 @@ def test_sweep_from_the_page_is_small_and_checked_before_it_starts(server, page_
 
 def test_foreign_host_header_and_non_json_posts_are_refused(server) -> None:  # type: ignore[no-untyped-def]
     # a page elsewhere reaching the server through DNS rebinding names another host
-    assert _get(server, "/api/job", host="attacker.example:80")[0] == 403
+    assert get_json(server, "/api/job", host="attacker.example:80")[0] == 403
     assert _post(server, "/api/preview", {"data": {}}, host="attacker.example")[0] == 403
     u = http.client.urlsplit(server)
     conn = http.client.HTTPConnection(u.hostname, u.port, timeout=30)
-    conn.request("POST", "/api/build", "data=1", {"Content-Type": "text/plain", **_key(server)})
+    conn.request(
+        "POST", "/api/build", "data=1", {"Content-Type": "text/plain", **auth_header(server)}
+    )
     assert conn.getresponse().status == 415

@@ -130,7 +130,7 @@ def test_the_plan_of_a_doubly_curved_skin_is_the_developed_template() -> None:
     from ductgen.design import build_design
     from ductgen.page.draw import plan_svg, skin_caption
     from ductgen.spec import parse_spec
-    from tests.test_design_skin import BASE
+    from tests.helpers import CURVED_BASE as BASE
 
     skin = {"shape": "doubly", "radius_streamwise": 700, "radius_spanwise": 300}
     d = build_design(parse_spec({**BASE, "skin": skin}))

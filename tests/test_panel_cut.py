@@ -20,8 +20,8 @@ cq = pytest.importorskip("cadquery")
 
 from ductgen.errors import DuctgenError, SpecError  # noqa: E402
 from ductgen.spec import parse_spec  # noqa: E402
+from tests.helpers import CURVED_BASE as BASE  # noqa: E402
 from tests.panels import bonnet_face, bonnet_height, s_height, s_panel_face  # noqa: E402
-from tests.test_design_skin import BASE  # noqa: E402
 
 T = 2.5  # skin thickness, mm
 

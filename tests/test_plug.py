@@ -42,6 +42,7 @@ def plug(request: pytest.FixtureRequest):  # type: ignore[no-untyped-def]
     return d, d.fab, make_plug(d)
 
 
+@pytest.mark.slow
 def test_plug_is_valid_closed_with_integrated_volume(plug) -> None:  # type: ignore[no-untyped-def]
     d, _, solid = plug
     assert solid.isValid() and len(solid.Solids()) == 1
@@ -52,6 +53,7 @@ def test_plug_is_valid_closed_with_integrated_volume(plug) -> None:  # type: ign
     assert vol == pytest.approx(plug_volume_mm3(d), rel=2e-3)
 
 
+@pytest.mark.slow
 def test_plug_walls_drafted_at_least_draft_deg(plug) -> None:  # type: ignore[no-untyped-def]
     _, fab, solid = plug
     need = math.sin(math.radians(fab.plug.draft_deg))
@@ -71,6 +73,7 @@ def test_plug_walls_drafted_at_least_draft_deg(plug) -> None:  # type: ignore[no
     assert checked > 50
 
 
+@pytest.mark.slow
 def test_trim_outline_is_the_opening_offset_by_the_margin(plug) -> None:  # type: ignore[no-untyped-def]
     d, fab, _ = plug
     g = d.geometry

@@ -137,6 +137,7 @@ def test_sheet_without_opengl_still_builds_and_warns(
     assert "preview_unavailable" in [w["code"] for w in res.report["warnings"]]
 
 
+@pytest.mark.slow
 def test_preview_shows_datum_pin_and_flow_arrow(built) -> None:  # type: ignore[no-untyped-def]
     """The datum pin (red #b00020, shaded) and the flow arrow (blue #1f5fa0, shaded) are in
     the picture, counted by colour: neither colour is anywhere else in the scene (sand part,

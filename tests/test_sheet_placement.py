@@ -21,6 +21,7 @@ import pymupdf
 import pytest
 
 from ductgen.design import build_design
+from ductgen.flow.record import FlowRecord
 from ductgen.flow.report import flow_section
 from ductgen.sheets import skin_lines
 from ductgen.sheets.sheet import sheet_pdf
@@ -38,7 +39,9 @@ def _sheet(spec, split=()) -> pymupdf.Page:  # type: ignore[no-untyped-def]
     without the preview picture (an image, not text or lines)."""
     d = build_design(spec)
     summary = dict(d.skin_summary)
-    flow = flow_section(spec.flow, d.duct)[0] if spec.flow is not None else None
+    flow = (
+        FlowRecord.of_section(flow_section(spec.flow, d.duct)[0]) if spec.flow is not None else None
+    )
     pdf = sheet_pdf(
         d.geometry,
         spec,
@@ -98,7 +101,7 @@ SKINS = {
 
 @pytest.mark.parametrize("skin", list(SKINS.values()), ids=list(SKINS))
 def test_no_overlaps_on_other_skins(skin: dict) -> None:
-    from tests.test_design_skin import BASE
+    from tests.helpers import CURVED_BASE as BASE
 
     spec = parse_spec({**BASE, "skin": {"thickness": 2.0, **skin}})
     page = _sheet(spec, split=(0.6 * build_design(spec).geometry.length_mm,))

@@ -105,6 +105,7 @@ def test_builds_write_the_split_pieces(sample_builds) -> None:  # type: ignore[n
     assert split >= 1  # the samples include inserts larger than a 220 mm bed
 
 
+@pytest.mark.slow
 def test_a_station_through_separate_bodies_is_moved_until_each_piece_is_one() -> None:
     # a U open upstream: two prongs (x 0-50) joined by a bar (x 50-100). A cut at x = 45
     # leaves the upstream piece in two (the prongs' ends); moved 8 mm downstream the cut

@@ -117,7 +117,7 @@ def test_a_null_optional_quantity_is_not_given_and_a_bad_one_names_the_key() -> 
 def test_every_loss_kind_makes_a_flow_element() -> None:
     """One list of loss kinds (the spec's tagged union) and the flow model's factory table
     cover each other: a new kind without its element fails here, not in a user's build."""
-    from ductgen.flow.report import ELEMENT_OF
+    from ductgen.flow.system import ELEMENT_OF
     from ductgen.spec.losses import LOSS_KINDS
 
     assert set(ELEMENT_OF) == set(LOSS_KINDS) and len(LOSS_KINDS) >= 4

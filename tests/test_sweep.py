@@ -6,10 +6,8 @@ from __future__ import annotations
 import csv
 import json
 import math
-import os
 import re
 import shutil
-import subprocess
 from pathlib import Path
 
 import numpy as np
@@ -19,7 +17,7 @@ from ductgen.cli.app import main
 from ductgen.errors import GeometryError
 from ductgen.sweep import parse_vary, run_sweep
 from ductgen.sweep.compare import compare_meshes
-from tests.conftest import CHROMIUM_FLAGS
+from tests.browser import chromium_path, run_chromium
 
 pytestmark = pytest.mark.slow
 
@@ -249,41 +247,13 @@ def test_cli_sweep_zip_two_jobs(tmp_path: Path) -> None:
 # --- the comparison page in a real browser ------------------------------------------------
 
 
-def _chromium() -> str | None:
-    path = shutil.which("chromium") or (
-        "/usr/bin/chromium" if Path("/usr/bin/chromium").exists() else None
-    )
-    if path is None:
-        if os.environ.get("CI", "").lower() == "true":
-            pytest.fail(
-                "chromium is missing under CI: .ci/run must install chromium chromium-driver"
-            )
-        pytest.skip("chromium not installed (apt-get install chromium chromium-driver)")
-    return path
-
-
-def _browser(exe: str, tmp: Path, *args: str) -> subprocess.CompletedProcess:
-    return subprocess.run(
-        [
-            exe,
-            *CHROMIUM_FLAGS,
-            f"--user-data-dir={tmp / 'profile'}",
-            *args,
-        ],
-        capture_output=True,
-        text=True,
-        timeout=120,
-        check=False,
-    )
-
-
 def test_comparison_page_renders_in_headless_chromium(sweep, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
     import matplotlib.image as mpimg
 
-    exe = _chromium()
+    exe = chromium_path()
     _, out, result = sweep
     url = (out / "comparison.html").resolve().as_uri()
-    dom = _browser(exe, tmp_path, "--dump-dom", url)
+    dom = run_chromium(exe, tmp_path, "--dump-dom", url)
     assert dom.returncode == 0, dom.stderr[-2000:]
     # the rendered DOM holds one table row per variant, with its ramp length
     for row in result.rows:
@@ -291,7 +261,7 @@ def test_comparison_page_renders_in_headless_chromium(sweep, tmp_path: Path) -> 
         assert f">{row['ramp_length_mm']:.1f}<" in dom.stdout  # shown in mm, 0.1 mm
     assert dom.stdout.count("data:image/png;base64,") >= 2  # overlays and metric plots inline
     png = tmp_path / "shot.png"
-    shot = _browser(exe, tmp_path, f"--screenshot={png}", "--window-size=1400,2000", url)
+    shot = run_chromium(exe, tmp_path, f"--screenshot={png}", "--window-size=1400,2000", url)
     assert shot.returncode == 0 and png.is_file(), shot.stderr[-2000:]
     img = mpimg.imread(png)[..., :3]
     assert img.shape[:2] == (2000, 1400)

@@ -12,11 +12,14 @@ from typing import Any
 import pytest
 
 import ductgen.cfd
+from ductgen.report import BuildRecord, report_bytes
 from ductgen.spec import load_spec
 from ductgen.sweep.results import VariantTask
 from ductgen.sweep.run import build_variant
 from ductgen.sweep.variants import STAMP_FILE
 from tests.conftest import ROOT
+
+pytestmark = pytest.mark.slow  # every test here builds a variant's cutter in the kernel worker
 
 SAMPLE = ROOT / "ductgen" / "data" / "samples" / "drone-avionics-vent.toml"
 
@@ -27,7 +30,7 @@ def _task(folder: Path) -> VariantTask:
     )
 
 
-def _half_written_then_fail(spec: Any, design: Any, report: Any, stl: Path, out: Path,
+def _half_written_then_fail(spec: Any, design: Any, record: Any, stl: Path, out: Path,
                             **_kw: Any) -> dict[str, Any]:  # fmt: skip
     (out / "cfd-coarse").mkdir()
     (out / "cfd-coarse" / "log.simpleFoam").write_text("Time = 1\n")
@@ -35,14 +38,14 @@ def _half_written_then_fail(spec: Any, design: Any, report: Any, stl: Path, out:
     raise RuntimeError("simpleFoam stopped")
 
 
-def _fake_cfd(spec: Any, design: Any, report: dict[str, Any], stl: Path, out: Path,
+def _fake_cfd(spec: Any, design: Any, record: BuildRecord, stl: Path, out: Path,
               **_kw: Any) -> dict[str, Any]:  # fmt: skip
     assert stl.parent == out and stl.is_file()  # the cutter is in the staging folder too
     assert not (out.parent / stl.name).exists()  # not yet published
     section = {"result": {"volume_flow_m3_s": 0.0066}}
     (out / "cfd.json").write_text(json.dumps(section))
-    report["cfd"] = section
-    (out / "report.json").write_text(json.dumps(report))
+    record.cfd = section
+    (out / "report.json").write_bytes(report_bytes(record.to_report()))
     return section
 
 

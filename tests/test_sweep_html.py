@@ -15,7 +15,7 @@ import pytest
 
 from ductgen.sweep.compare import EXTRA, METRICS
 from ductgen.sweep.html import CSS, failures_html, number, table_html
-from tests.test_sweep import _browser, _chromium
+from tests.browser import chromium_path, run_chromium
 
 
 def _rows() -> list[dict]:
@@ -67,7 +67,7 @@ def test_failures_are_listed_with_their_errors() -> None:
 
 
 def test_table_fits_a_1400_px_window(tmp_path: Path) -> None:
-    exe = _chromium()
+    exe = chromium_path()
     rows = _rows()
     probe = (
         "<script>const t=document.getElementById('comparison');"
@@ -82,7 +82,7 @@ def test_table_fits_a_1400_px_window(tmp_path: Path) -> None:
         "</body></html>",
         encoding="utf-8",
     )
-    dom = _browser(exe, tmp_path, "--window-size=1400,1000", "--dump-dom", page.as_uri())
+    dom = run_chromium(exe, tmp_path, "--window-size=1400,1000", "--dump-dom", page.as_uri())
     assert dom.returncode == 0, dom.stderr[-2000:]
     m = re.search(r'data-fit="(\d+),(\d+),(\d+),(\d+)"', dom.stdout)
     assert m, dom.stdout[-2000:]

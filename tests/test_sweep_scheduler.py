@@ -16,7 +16,7 @@ from ductgen.cli.app import main
 from ductgen.errors import SpecError
 from ductgen.sweep.scheduler import check_scheduler, split_address
 from tests.conftest import GOOD
-from tests.test_cli_app import _tree_digest
+from tests.helpers import tree_digest
 
 pytestmark = pytest.mark.usefixtures("keep_signal_handlers")
 
@@ -71,12 +71,12 @@ def _sweep(tmp: Path, address: str) -> list[str]:
 
 def _refused(tmp: Path, capsys: pytest.CaptureFixture[str], address: str) -> str:
     args = _sweep(tmp, address)
-    before = _tree_digest(tmp)
+    before = tree_digest(tmp)
     code = main(args)
     err = " ".join(capsys.readouterr().err.split())
     assert code == 2, err
     assert "--scheduler" in err and "Traceback" not in err and "internal error" not in err
-    assert _tree_digest(tmp) == before
+    assert tree_digest(tmp) == before
     return err
 
 

@@ -1,5 +1,5 @@
 """The CFD case of one design at one mesh level: its numbers (:class:`CaseSetup`) and the
-files of a complete OpenFOAM case written from our templates (:func:`write_case`).
+files of a complete OpenFOAM case are written from them by :mod:`ductgen.cfd.case_files`.
 
 Domain (metres, design coordinates: x downstream from the ramp start, z up, skin z = 0):
 a box above the skin reaching ``max(0.5 L, 2 δ)`` upstream, past the lip and the duct
@@ -24,18 +24,16 @@ the transition's exit are STL plates (the design section under the lip, the outl
 from __future__ import annotations
 
 import math
-import shutil
 from collections.abc import Callable
 from dataclasses import dataclass, replace
-from pathlib import Path
 from typing import Any
 
 import numpy as np
 
-from ductgen.cfd import templates as T
-from ductgen.cfd.fields import InletProfile, field_files, inlet_profile
+from ductgen.cfd.fields import InletProfile, inlet_profile
 from ductgen.cfd.skin_wall import SkinDomain, SkinWallError
 from ductgen.cfd.surface import WettedSurface
+from ductgen.flow.record import FlowRecord
 from ductgen.geometry.inlet import InletGeometry
 
 __all__ = [
@@ -47,8 +45,10 @@ __all__ = [
     "REFINEMENT_RATIO",
     "CaseSetup",
     "case_setup",
-    "write_case",
 ]
+
+#: A box (x0, y0, z0, x1, y1, z1), m.
+Box = tuple[float, float, float, float, float, float]
 
 #: Mesh name → refinement step (0 coarsest).
 MESH_LEVELS = {"coarse": 0, "medium": 1, "fine": 2}
@@ -121,53 +121,28 @@ def case_setup(
     mesh: str,
     geometry: InletGeometry,
     surface: WettedSurface,
-    flow_report: dict[str, Any],
+    flow: FlowRecord,
     downstream_pa: Callable[[float], float],
     extension_diameter_m: float = 0.0,
     domain: SkinDomain | None = None,
 ) -> CaseSetup:
     """The case numbers of one design (``geometry`` in mm, ``surface`` with its outlet
-    extended or not, ``flow_report`` the 1-D model's ``flow`` section, ``downstream_pa(Q)``
+    extended or not, ``flow`` the 1-D model's record, ``downstream_pa(Q)``
     the static pressure above ambient the duct system behind the outlet needs at flow Q,
     Pa, ``extension_diameter_m`` the diameter the extension's length is counted in, m;
     ``domain`` the skin round the inlet on a curved skin or panel, datum frame)."""
     g = geometry
     mm = 1e-3
     d, w, length = g.depth_mm * mm, g.width_mm * mm, g.length_mm * mm
-    delta = float(flow_report["boundary_layer_thickness_m"])
+    delta = flow.boundary_layer_thickness_m
     h = d / COARSE_CELLS_PER_DEPTH / REFINEMENT_RATIO ** MESH_LEVELS[mesh]
-    (_cx0, _cy0, cz0), (cx1, _cy1, _cz1) = surface.cavity_bounds_m
     throat_end = g.throat_end_mm * mm
     x0 = -max(0.5 * length, 2.0 * delta)
-    x1 = max(cx1 + 3.0 * h, throat_end + 0.5 * length)
-    half = w / 2.0 + max(0.75 * w, 2.0 * delta)
-    zt = max(4.0 * delta, w)
-    skin_lo = skin_hi = skin_x0 = 0.0
-    if domain is not None:  # the box stands on the skin: reach below and above it
-        gx = np.linspace(x0 - h, x1 + h, 60) * 1e3
-        gy = np.linspace(-half - h, half + h, 24) * 1e3
-        xx, yy = np.meshgrid(gx, gy)
-        z = domain.sheet.height(xx.ravel(), yy.ravel())
-        if np.isnan(z).any():
-            raise SkinWallError("the skin sheet does not cover the CFD domain's floor")
-        skin_lo, skin_hi = float(z.min()) * 1e-3, float(z.max()) * 1e-3
-        skin_x0 = domain.height_m(x0, 0.0)
-        cz0 = min(cz0, skin_lo)
-        zt += max(skin_hi, 0.0)
-    nx = math.ceil((x1 - x0) / h)
-    ny = math.ceil(2.0 * half / h)
-    nzu = math.ceil(zt / h)
-    nzl = math.ceil((-cz0 + 0.5 * h) / h)
-    x1 = x0 + nx * h
-    half = ny * h / 2.0
-    zt = nzu * h
-    zb = -nzl * h
-    out_tri = surface.triangles["outlet"]
-    ylo, yhi = float(out_tri[:, :, 1].min()), float(out_tri[:, :, 1].max())
-    zlo, zhi = float(out_tri[:, :, 2].min()), float(out_tri[:, :, 2].max())
-    gap = 0.25 * (zhi - zlo)  # inside the solid round the duct, short of the free air
-    exit_x = surface.transition_exit_x_m + 0.1 * h
-    exit_bounds = (exit_x, ylo - gap, zlo - gap, exit_x, yhi + gap, min(zhi + gap, -1e-4))
+    x1, half, zt, zb, cells, (skin_lo, skin_hi, skin_x0) = _grid(
+        surface, domain, x0, throat_end + 0.5 * length, w, delta, h
+    )
+    nx, ny, nzl, nzu = cells
+    exit_x, exit_bounds = _exit_box(surface, h)
     r = g.edge_radius_mm * mm
     side = w / 2.0 + 2.0 * r + 0.2 * w
     opening = (-0.1 * length, -side, zb, throat_end + 0.2 * length, side, max(d, 0.5 * delta))
@@ -176,21 +151,10 @@ def case_setup(
     tx = length + 0.75 * a
     wy = w / 2.0 + 2.0 * r + 0.005
     throat_bounds = (tx - h, -wy, zb, tx + h, wy, -1e-4)
-    run = max(float(flow_report["run_length_m"]) + x0, 0.05 * float(flow_report["run_length_m"]))
-    speed = float(flow_report["speed_m_s"])
-    nu = float(flow_report["kinematic_viscosity_m2_s"])
-    rho = float(flow_report["density_kg_m3"])
-    delta_in = 0.37 * run * (speed * run / nu) ** -0.2  # the 1-D model's flat-plate law
-    profile = inlet_profile(speed, delta_in, run, nu, zt - skin_x0)
-    if domain is not None:
-        profile = replace(profile, origin_m=skin_x0)
-    ang = math.radians(float(flow_report.get("flow_angle_deg", 0.0)))
-    q_ref = w * d * speed
-    curve = []
-    for i in range(41):
-        q = 3.0 * q_ref * i / 40.0
-        v_out = q / surface.outlet_area_m2
-        curve.append((q, (downstream_pa(q) - 0.5 * rho * v_out * v_out) / rho))
+    speed, nu, rho = flow.speed_m_s, flow.kinematic_viscosity_m2_s, flow.density_kg_m3
+    profile, delta_in = _inflow(flow, x0, zt, skin_x0 if domain is not None else None)
+    ang = math.radians(flow.flow_angle_deg)
+    curve = _system_curve(w * d * speed, surface.outlet_area_m2, rho, downstream_pa)
     return CaseSetup(
         name=name,
         mesh=mesh,
@@ -230,6 +194,87 @@ def case_setup(
     )
 
 
+def _grid(
+    surface: WettedSurface,
+    domain: SkinDomain | None,
+    x0: float,
+    x_past: float,
+    w: float,
+    delta: float,
+    h: float,
+) -> tuple[float, float, float, float, tuple[int, int, int, int], tuple[float, float, float]]:
+    """The background grid from ``x0``: its far end, half-width, top and bottom (m, on
+    whole cells of ``h``), its cell counts (x, y, lower and upper z), and the skin's lowest
+    and highest height and its height at ``x0`` (m; zeros on a flat skin). The box reaches
+    past the cavity and ``x_past``, W/2 + max(0.75 W, 2 δ) to each side, max(4 δ, W) up."""
+    (_cx0, _cy0, cz0), (cx1, _cy1, _cz1) = surface.cavity_bounds_m
+    x1 = max(cx1 + 3.0 * h, x_past)
+    half = w / 2.0 + max(0.75 * w, 2.0 * delta)
+    zt = max(4.0 * delta, w)
+    skin = (0.0, 0.0, 0.0)
+    if domain is not None:  # the box stands on the skin: reach below and above it
+        skin = _skin_range(domain, x0, x1, half, h)
+        cz0 = min(cz0, skin[0])
+        zt += max(skin[1], 0.0)
+    nx = math.ceil((x1 - x0) / h)
+    ny = math.ceil(2.0 * half / h)
+    nzu = math.ceil(zt / h)
+    nzl = math.ceil((-cz0 + 0.5 * h) / h)
+    return x0 + nx * h, ny * h / 2.0, nzu * h, -nzl * h, (nx, ny, nzl, nzu), skin
+
+
+def _skin_range(
+    domain: SkinDomain, x0: float, x1: float, half: float, h: float
+) -> tuple[float, float, float]:
+    """The skin's lowest and highest height under the box (x0 to x1, |y| ≤ half, a cell
+    ``h`` more each way; m) and its height at the inflow x0 on the centreline (m)."""
+    gx = np.linspace(x0 - h, x1 + h, 60) * 1e3
+    gy = np.linspace(-half - h, half + h, 24) * 1e3
+    xx, yy = np.meshgrid(gx, gy)
+    z = domain.sheet.height(xx.ravel(), yy.ravel())
+    if np.isnan(z).any():
+        raise SkinWallError("the skin sheet does not cover the CFD domain's floor")
+    return float(z.min()) * 1e-3, float(z.max()) * 1e-3, domain.height_m(x0, 0.0)
+
+
+def _exit_box(surface: WettedSurface, h: float) -> tuple[float, Box]:
+    """The transition's exit station (m, a tenth of a cell past it) and the box round the
+    duct there, inside the solid round it and short of the free air (m)."""
+    out_tri = surface.triangles["outlet"]
+    ylo, yhi = float(out_tri[:, :, 1].min()), float(out_tri[:, :, 1].max())
+    zlo, zhi = float(out_tri[:, :, 2].min()), float(out_tri[:, :, 2].max())
+    gap = 0.25 * (zhi - zlo)
+    exit_x = surface.transition_exit_x_m + 0.1 * h
+    return exit_x, (exit_x, ylo - gap, zlo - gap, exit_x, yhi + gap, min(zhi + gap, -1e-4))
+
+
+def _inflow(
+    flow: FlowRecord, x0: float, zt: float, skin_x0: float | None
+) -> tuple[InletProfile, float]:
+    """The inflow's boundary-layer profile at ``x0`` (m; on the skin at height ``skin_x0``
+    when given) and its thickness there, by the 1-D model's flat-plate law (m)."""
+    run = max(flow.run_length_m + x0, 0.05 * flow.run_length_m)
+    speed, nu = flow.speed_m_s, flow.kinematic_viscosity_m2_s
+    delta_in = 0.37 * run * (speed * run / nu) ** -0.2
+    profile = inlet_profile(speed, delta_in, run, nu, zt - (skin_x0 or 0.0))
+    if skin_x0 is not None:
+        profile = replace(profile, origin_m=skin_x0)
+    return profile, delta_in
+
+
+def _system_curve(
+    q_ref: float, outlet_m2: float, rho: float, downstream_pa: Callable[[float], float]
+) -> list[tuple[float, float]]:
+    """The duct system's kinematic static pressure (m²/s²) at the outlet for flows 0 to
+    3 × ``q_ref`` (m³/s), less the outlet's dynamic head."""
+    curve = []
+    for i in range(41):
+        q = 3.0 * q_ref * i / 40.0
+        v_out = q / outlet_m2
+        curve.append((q, (downstream_pa(q) - 0.5 * rho * v_out * v_out) / rho))
+    return curve
+
+
 def _probe_z(domain: SkinDomain | None, x: float, above: float) -> float:
     return above if domain is None else domain.height_m(x, 0.0) + above
 
@@ -251,127 +296,3 @@ def _curved_zones(
         "exit_plate": domain.exit_plate(exit_tri, np.asarray(surface.outlet_axis)),
         "depth_line": (*map(float, top), *map(float, bottom[0] / mm)),
     }
-
-
-def _fmt(v: float) -> str:
-    return f"{v:.9g}"
-
-
-def _zone_functions() -> str:
-    parts = [
-        ("throatFlow", "throat", "sum", "", "phi"),
-        ("throatArea", "throat", "areaAverage", "", "p0f pf"),
-        ("throatFlowAvg", "throat", "weightedAverage", " weightField phi;", "p0f pf"),
-        ("exitFlow", "transitionExit", "sum", "", "phi"),
-        ("exitArea", "transitionExit", "areaAverage", "", "pf"),
-        ("exitFlowAvg", "transitionExit", "weightedAverage", " weightField phi;", "p0f pf Uf"),
-    ]
-    return "".join(
-        T.ZONE_FUNCTION.format(name=n, zone=z, operation=op, extra=extra, fields=f)
-        for n, z, op, extra, f in parts
-    )
-
-
-def _plate(name: str, b: tuple[float, float, float, float, float, float]) -> str:
-    return T.PLATE_ZONE.format(
-        name=name, x=_fmt(b[0]), y0=_fmt(b[1]), z0=_fmt(b[2]),
-        dy=_fmt(b[4] - b[1]), dz=_fmt(b[5] - b[2]),
-    )  # fmt: skip
-
-
-def _lower_faces(curved: bool) -> dict[str, str]:
-    """Boundary faces of the lower block: on a flat skin all inside the body (walls, cut
-    away); on a curved skin the air above a falling skin reaches below z = 0, so the lower
-    block's ends and sides are inlet, outflow and sides like the upper block's."""
-    if not curved:
-        return dict(
-            lower_inlet="", lower_outflow="", lower_sides="",
-            lower_walls=" (0 4 7 3) (1 2 6 5) (0 1 5 4) (3 7 6 2)",
-        )  # fmt: skip
-    return dict(
-        lower_inlet=" (0 4 7 3)", lower_outflow=" (1 2 6 5)",
-        lower_sides=" (0 1 5 4) (3 7 6 2)", lower_walls="",
-    )  # fmt: skip
-
-
-def _line(s: CaseSetup) -> dict[str, str]:
-    if s.depth_line is None:
-        zb = s.box[4]
-        a = (s.throat_x_m, 0.0, zb, s.throat_x_m, 0.0, -1e-5)
-        axis = "z"
-    else:
-        a, axis = s.depth_line, "distance"
-    return dict(line_axis=axis, **{k: _fmt(v) for k, v in zip(
-        ("lx0", "ly0", "lz0", "lx1", "ly1", "lz1"), a, strict=True)})  # fmt: skip
-
-
-def _zones(s: CaseSetup) -> str:
-    if s.throat_plate is None:
-        throat = (s.throat_x_m, *s.throat_bounds[1:3], s.throat_x_m, *s.throat_bounds[4:6])
-        return _plate("throat", throat) + _plate("transitionExit", s.exit_bounds)
-    return T.STL_ZONE.format(name="throat", file="throatPlate.stl") + T.STL_ZONE.format(
-        name="transitionExit", file="exitPlate.stl"
-    )
-
-
-def _stl(tri: Any) -> str:
-    out = ["solid plate"]
-    for t in np.asarray(tri, float):
-        n = np.cross(t[1] - t[0], t[2] - t[0])
-        n /= max(float(np.linalg.norm(n)), 1e-300)
-        out += [f"  facet normal {n[0]:.6g} {n[1]:.6g} {n[2]:.6g}", "    outer loop"]
-        out += [f"      vertex {v[0]:.9g} {v[1]:.9g} {v[2]:.9g}" for v in t]
-        out += ["    endloop", "  endfacet"]
-    return "\n".join([*out, "endsolid plate"]) + "\n"
-
-
-def write_case(case_dir: Path, s: CaseSetup, surface: WettedSurface, n_procs: int = 1) -> Path:
-    """Write the complete case (system/, constant/, 0/) into ``case_dir`` (replaced)."""
-    if case_dir.exists():
-        shutil.rmtree(case_dir)
-    for sub in ("system", "constant/triSurface", "0"):
-        (case_dir / sub).mkdir(parents=True, exist_ok=True)
-    x0, x1, y0, y1, zb, zt = s.box
-    nx, ny, nzl, nzu = s.cells
-    bx = s.opening
-    values = {
-        "blockMesh": dict(
-            x0=_fmt(x0), x1=_fmt(x1), y0=_fmt(y0), y1=_fmt(y1), zb=_fmt(zb), zt=_fmt(zt),
-            nx=nx, ny=ny, nzl=nzl, nzu=nzu, gz=1, **_lower_faces(s.throat_plate is not None),
-        ),
-        "features": dict(included_angle=150),
-        "snappy": dict(
-            bx0=_fmt(bx[0]), by0=_fmt(bx[1]), bz0=_fmt(bx[2]),
-            bx1=_fmt(bx[3]), by1=_fmt(bx[4]), bz1=_fmt(bx[5]),
-            feature_level=LEVELS["feature"], cavity_level=LEVELS["cavity"],
-            floor_level=LEVELS["floor"], box_level=LEVELS["box"], layers=LAYERS,
-            hose_level=LEVELS["hose"], approach_level=LEVELS["approach"],
-            ax0=_fmt(s.approach[0]), ay0=_fmt(s.approach[1]), az0=_fmt(s.approach[2]),
-            ax1=_fmt(s.approach[3]), ay1=_fmt(s.approach[4]), az1=_fmt(s.approach[5]),
-            lx=_fmt(s.location[0]), ly=_fmt(s.location[1]), lz=_fmt(s.location[2]),
-        ),
-        "control": dict(
-            max_iterations=s.max_iterations,
-            throat_functions=_zone_functions(),
-            px=_fmt(s.probe[0]), py=_fmt(s.probe[1]), pz=_fmt(s.probe[2]),
-            **_line(s),
-        ),
-        "schemes": {},
-        "solution": {},
-        "transport": dict(nu=_fmt(s.nu_m2_s)),
-        "turbulence": {},
-        "topoSet": dict(zones=_zones(s)),
-        "decompose": dict(n=n_procs),
-    }  # fmt: skip
-    for key, (path, cls, obj, text) in T.FILES.items():
-        where = path.split("/")[0]
-        (case_dir / path).write_text(T.header(cls, obj, where) + text.format(**values[key]))
-    rows = "\n".join(f"    ({_fmt(q)} {_fmt(-p)})" for q, p in s.system_curve)
-    (case_dir / "constant/ductSystem").write_text(T.FAN_CURVE.format(rows=rows))
-    (case_dir / "constant/triSurface/duct.stl").write_text(surface.stl_text())
-    if s.throat_plate is not None:
-        (case_dir / "constant/triSurface/throatPlate.stl").write_text(_stl(s.throat_plate))
-        (case_dir / "constant/triSurface/exitPlate.stl").write_text(_stl(s.exit_plate))
-    for name, text in field_files(s.profile, s.speed_m_s, s.direction).items():
-        (case_dir / "0" / name).write_text(text)
-    return case_dir

@@ -13,6 +13,7 @@ import numpy as np
 from ductgen.cfd.extension import ExtensionPlan, extension_plan
 from ductgen.cfd.skin_wall import SkinDomain, SkinWallError, datum_frame, skin_sheet
 from ductgen.cfd.surface import WettedSurface, extend_outlet, wetted_surface_on_skin
+from ductgen.flow.record import FlowRecord
 
 __all__ = ["MIN_EXTENSION_DIAMETERS", "curved_surface"]
 
@@ -41,7 +42,7 @@ def _outlet_axis(
 def curved_surface(
     spec: Any,
     design: Any,
-    flow_report: dict[str, Any],
+    flow: FlowRecord,
     vertices_mm: np.ndarray,
     faces: np.ndarray,
     diameters: float,
@@ -60,7 +61,7 @@ def curved_surface(
     verts = (np.asarray(vertices_mm, float) - origin) @ axes.T
     axis = _outlet_axis(design, axes, verts, np.asarray(faces))
     g = design.geometry
-    delta = float(flow_report["boundary_layer_thickness_m"]) * 1e3
+    delta = flow.boundary_layer_thickness_m * 1e3
     h = cell_m * 1e3
     w, length = g.width_mm, g.length_mm
     half = w / 2.0 + max(0.75 * w, 2.0 * delta) + 3.0 * h

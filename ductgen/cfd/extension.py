@@ -58,7 +58,7 @@ def downstream_need(spec: Spec, design: Any, plan: ExtensionPlan) -> Callable[[f
     needs: the 1-D budget without the internal transition, less the modelled run's
     friction (module doc)."""
     from ductgen.flow.losses import HoseElement
-    from ductgen.flow.report import TRANSITION_NAME, build_system
+    from ductgen.flow.system import TRANSITION_NAME, build_system
 
     assert spec.flow is not None  # checked before any work (cfd.run.check_inputs)
     system = build_system(spec.flow, design.duct)[0]

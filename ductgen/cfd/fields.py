@@ -83,16 +83,45 @@ def _profile(p: InletProfile, which: str, direction: tuple[float, float]) -> str
     )
 
 
+#: Wall patches and far-field patches of every case (regular expressions of names).
+_WALLS = "duct_floor|duct_cavity|duct_hose|lowerBox"
+_FAR = "top|sides"
+
+#: A field: class, dimensions, internal value and boundary condition by patch pattern.
+_Field = tuple[str, str, str, dict[str, str]]
+
+
 def field_files(
     p: InletProfile, speed_m_s: float, direction: tuple[float, float]
 ) -> dict[str, str]:
     """``0/U``, ``0/p``, ``0/k``, ``0/omega``, ``0/nut`` as text by file name."""
+    fields = {**_flow_fields(p, speed_m_s, direction), **_turbulence_fields(p, direction)}
+    out: dict[str, str] = {}
+    for name, (cls, dims, internal, patches) in fields.items():
+        body = [
+            f"dimensions {dims};",
+            f"internalField uniform {internal};",
+            "boundaryField",
+            "{",
+            '    #includeEtc "caseDicts/setConstraintTypes"',
+        ]
+        for pat, bc in patches.items():
+            key = f'"{pat}"' if "|" in pat else pat
+            body.append(f"    {key}\n    {bc}")
+        body.append("}")
+        out[name] = header(cls, name, "0") + "\n".join(body) + "\n"
+    return out
+
+
+def _flow_fields(
+    p: InletProfile, speed_m_s: float, direction: tuple[float, float]
+) -> dict[str, _Field]:
+    """Velocity (the inflow's profile, free stream on the far field) and pressure (the duct
+    system's fan curve at the duct's outlet)."""
     cx, cy = direction
     u0 = f"({speed_m_s * cx:.8g} {speed_m_s * cy:.8g} 0)"
-    k0, w0 = p.k_m2_s2[-1], p.omega_1_s[-1]
-    walls = "duct_floor|duct_cavity|duct_hose|lowerBox"
-    far = "top|sides"
-    fields = {
+    walls, far = _WALLS, _FAR
+    return {
         "U": (
             "volVectorField",
             "[0 1 -1 0 0 0 0]",
@@ -120,6 +149,14 @@ def field_files(
                 "outOfBounds clamp; direction out; p0 uniform 0; value uniform 0; }",
             },
         ),
+    }
+
+
+def _turbulence_fields(p: InletProfile, direction: tuple[float, float]) -> dict[str, _Field]:
+    """k and omega (the inflow's profile, its free-stream values elsewhere) and nut."""
+    k0, w0 = p.k_m2_s2[-1], p.omega_1_s[-1]
+    walls, far = _WALLS, _FAR
+    return {
         "k": (
             "volScalarField",
             "[0 2 -2 0 0 0 0]",
@@ -152,18 +189,3 @@ def field_files(
             },
         ),
     }
-    out: dict[str, str] = {}
-    for name, (cls, dims, internal, patches) in fields.items():
-        body = [
-            f"dimensions {dims};",
-            f"internalField uniform {internal};",
-            "boundaryField",
-            "{",
-            '    #includeEtc "caseDicts/setConstraintTypes"',
-        ]
-        for pat, bc in patches.items():
-            key = f'"{pat}"' if "|" in pat else pat
-            body.append(f"    {key}\n    {bc}")
-        body.append("}")
-        out[name] = header(cls, name, "0") + "\n".join(body) + "\n"
-    return out

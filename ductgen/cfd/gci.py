@@ -100,11 +100,13 @@ def gci(
     r21, r32 = h2 / h1, h3 / h2
     e21, e32 = p2 - p1, p3 - p2
     e_a = abs((p1 - p2) / p1) if p1 != 0.0 else math.inf
-    common = {"phi": (p1, p2, p3), "h": (h1, h2, h3), "r21": r21, "r32": r32}
 
     def no_order(oscillatory: bool, note: str) -> GciResult:
         return GciResult(
-            **common,
+            phi=(p1, p2, p3),
+            h=(h1, h2, h3),
+            r21=r21,
+            r32=r32,
             order=None,
             extrapolated=None,
             approx_rel_error=e_a,
@@ -126,7 +128,10 @@ def gci(
     ext = (rp * p1 - p2) / (rp - 1.0)
     e_ext = abs((ext - p1) / ext) if ext != 0.0 else math.inf
     return GciResult(
-        **common,
+        phi=(p1, p2, p3),
+        h=(h1, h2, h3),
+        r21=r21,
+        r32=r32,
         order=p,
         extrapolated=ext,
         approx_rel_error=e_a,

@@ -30,7 +30,11 @@ def _read(case: Path) -> tuple[Any, Any]:
     reader.set_active_time_value(reader.time_values[-1])
     reader.cell_to_point_creation = True
     data = reader.read()
+    if not isinstance(data, pv.MultiBlock):
+        raise RuntimeError(f"{case}: OpenFOAM reader returned no multiblock of meshes")
     bnd = data["boundary"]
+    if not isinstance(bnd, pv.MultiBlock):
+        raise RuntimeError(f"{case}: the OpenFOAM case has no boundary patches")
     names = list(bnd.keys())  # a MultiBlock's `in` tests blocks, not names
     walls = [bnd[n] for n in ("duct_cavity", "duct_floor") if n in names]
     return data["internalMesh"], pv.merge(walls)
@@ -49,9 +53,27 @@ def render(case: Path, out_dir: Path, name: str, p_inf: float, speed: float) -> 
     topo = (case / "system/topoSetDict").read_text()
     origin = [float(v) for v in topo.split("origin (")[1].split(")")[0].split()]
     span = [float(v) for v in topo.split("span (")[1].split(")")[0].split()]
+    files = {
+        "throat": _throat_picture(internal, out_dir, name, origin, span, p_inf, speed),
+        "ramp": _ramp_picture(internal, walls, out_dir, name, speed),
+    }
+    return files
+
+
+def _throat_picture(
+    internal: Any,
+    out_dir: Path,
+    name: str,
+    origin: list[float],
+    span: list[float],
+    p_inf: float,
+    speed: float,
+) -> str:
+    """Cp0 on the throat plane below the skin, looking upstream; returns the file name."""
+    import pyvista as pv
+
     x_t = origin[0]
     q_inf = 0.5 * speed**2
-    files: dict[str, str] = {}
 
     # throat plane: Cp0 on a slice below the skin
     sl = internal.slice(normal=(1, 0, 0), origin=(x_t, 0, 0))
@@ -61,20 +83,26 @@ def render(case: Path, out_dir: Path, name: str, p_inf: float, speed: float) -> 
     )
     sl.point_data["Cp0"] = (sl.point_data["p0"] - p_inf) / q_inf
     pl = pv.Plotter(off_screen=True, window_size=[1200, 700])
-    pl.set_background("white")
+    pl.set_background("white")  # type: ignore[arg-type]  # pyvista: wraps() types self
     pl.add_mesh(
         sl, scalars="Cp0", cmap="viridis", clim=[0.0, 1.0],
         scalar_bar_args={"title": "(p0 - p_inf) / q_inf", "color": "black"},
     )  # fmt: skip
     pl.add_text(f"{name}: total pressure on the throat plane x = {x_t * 1000:.1f} mm, "
                 "looking upstream", font_size=10, color="black")  # fmt: skip
-    pl.view_vector((1, 0, 0), viewup=(0, 0, 1))
+    pl.view_vector((1, 0, 0), viewup=(0, 0, 1))  # type: ignore[arg-type]  # pyvista: wraps() types self
     pl.camera.parallel_projection = True
-    pl.reset_camera(bounds=sl.bounds)
+    pl.reset_camera(bounds=sl.bounds)  # type: ignore[call-arg]  # pyvista: wraps() types self
     pl.camera.zoom(0.95)
-    files["throat"] = f"{name}-cfd-throat.png"
-    pl.screenshot(str(out_dir / files["throat"]))
+    file = f"{name}-cfd-throat.png"
+    pl.screenshot(str(out_dir / file))
     pl.close()
+    return file
+
+
+def _ramp_picture(internal: Any, walls: Any, out_dir: Path, name: str, speed: float) -> str:
+    """Streamlines from the boundary layer ahead of the ramp; returns the file name."""
+    import pyvista as pv
 
     # streamlines over the ramp
     cav = walls.clip(normal=(0, 0, 1), origin=(0, 0, -1e-5), invert=True)
@@ -94,7 +122,7 @@ def render(case: Path, out_dir: Path, name: str, p_inf: float, speed: float) -> 
         max_steps=4000,
     )
     pl = pv.Plotter(off_screen=True, window_size=[1400, 900])
-    pl.set_background("white", top="#dfe7ef")
+    pl.set_background("white", top="#dfe7ef")  # type: ignore[arg-type]  # pyvista: wraps() types self
     pl.add_mesh(cav, color="#b8b8b8", opacity=0.35, smooth_shading=True)
     if lines.n_points:
         lines.point_data["speed"] = np.linalg.norm(lines.point_data["U"], axis=1) / speed
@@ -110,10 +138,10 @@ def render(case: Path, out_dir: Path, name: str, p_inf: float, speed: float) -> 
     c = np.array([(b[0] + b[1]) / 2, 0.0, -0.3 * depth])
     pl.camera_position = [tuple(c + length * np.array([1.0, -0.55, 0.85])), tuple(c), (0, 0, 1)]
     pl.camera.zoom(0.85)
-    files["ramp"] = f"{name}-cfd-ramp.png"
-    pl.screenshot(str(out_dir / files["ramp"]))
+    file = f"{name}-cfd-ramp.png"
+    pl.screenshot(str(out_dir / file))
     pl.close()
-    return files
+    return file
 
 
 if __name__ == "__main__":  # pragma: no cover - run by ductgen.cfd.run in a child process

@@ -233,13 +233,28 @@ def case_numbers(
             "by_patch": yplus,
         },
     }
+    out.update(_transition_numbers(case, rho, q_out, a_out, outlet, p0_throat, q_ref))
+    return out
+
+
+def _transition_numbers(
+    case: Path,
+    rho: float,
+    q_out: float,
+    a_out: float,
+    outlet: dict[str, float],
+    p0_throat: float,
+    q_ref: float,
+) -> dict[str, Any]:
+    """The transition's exit and the hose end: flow, α and β, total pressures (Pa), the
+    transition's K (on ``q_ref``, kinematic m²/s²); empty when the case has no exit zone."""
     try:
         ex_q = abs(last_row(_post(case, "exitFlow"))["sum(phi)"])
         ex_a = last_row(_post(case, "exitArea"))
         ex_w = last_row(_post(case, "exitFlowAvg"))
         o_a = last_row(_post(case, "outletArea"))
     except (ValueError, KeyError):
-        return out
+        return {}
     ux = ex_w["weightedAverage(Uf)_x"]
     ex = mixed_out(
         ex_q, a_out, ex_w["weightedAverage(p0f)"], ex_w["weightedAverage(pf)"],
@@ -250,19 +265,16 @@ def case_numbers(
         q_out, a_out, outlet["weightedAverage(p0)"], outlet["weightedAverage(p)"],
         o_a["areaAverage(p)"], o_ux,
     )  # fmt: skip
-    out.update(
-        {
-            "transition_exit_volume_flow_m3_s": ex_q,
-            "kinetic_energy_factor": ex["kinetic_energy_factor"],
-            "momentum_factor": ex["momentum_factor"],
-            "transition_exit_total_pressure_flow_avg_pa": rho * ex_w["weightedAverage(p0f)"],
-            "transition_exit_total_pressure_mixed_out_pa": rho * ex["total_mixed_out"],
-            # throat plane to the transition's exit, both flow-averaged
-            "transition_k": (p0_throat - ex_w["weightedAverage(p0f)"]) / q_ref,
-            # as the 1-D model counts it: to the mixed-out exit (the mixing loss belongs here)
-            "transition_k_mixed_out": (p0_throat - ex["total_mixed_out"]) / q_ref,
-            "transition_loss_mixed_out_pa": rho * (p0_throat - ex["total_mixed_out"]),
-            "outlet_kinetic_energy_factor": hose_end["kinetic_energy_factor"],
-        }
-    )
-    return out
+    return {
+        "transition_exit_volume_flow_m3_s": ex_q,
+        "kinetic_energy_factor": ex["kinetic_energy_factor"],
+        "momentum_factor": ex["momentum_factor"],
+        "transition_exit_total_pressure_flow_avg_pa": rho * ex_w["weightedAverage(p0f)"],
+        "transition_exit_total_pressure_mixed_out_pa": rho * ex["total_mixed_out"],
+        # throat plane to the transition's exit, both flow-averaged
+        "transition_k": (p0_throat - ex_w["weightedAverage(p0f)"]) / q_ref,
+        # as the 1-D model counts it: to the mixed-out exit (the mixing loss belongs here)
+        "transition_k_mixed_out": (p0_throat - ex["total_mixed_out"]) / q_ref,
+        "transition_loss_mixed_out_pa": rho * (p0_throat - ex["total_mixed_out"]),
+        "outlet_kinetic_energy_factor": hose_end["kinetic_energy_factor"],
+    }

@@ -24,11 +24,11 @@ from ductgen.cfd.case import (
     MESH_LEVELS,
     REFINEMENT_RATIO,
     case_setup,
-    write_case,
 )
+from ductgen.cfd.case_files import write_case
 from ductgen.cfd.curved import curved_surface
-from ductgen.cfd.extension import downstream_need, extension_plan
-from ductgen.cfd.gci import gci, representative_size
+from ductgen.cfd.extension import ExtensionPlan, downstream_need, extension_plan
+from ductgen.cfd.gci import representative_size
 from ductgen.cfd.results import case_numbers, cells_across_depth, layer_report, total_volume_m3
 from ductgen.cfd.runner import (
     PLATEAU_SPREAD,
@@ -39,20 +39,19 @@ from ductgen.cfd.runner import (
     require_openfoam,
     solve,
 )
-from ductgen.cfd.skin_wall import SkinWallError
-from ductgen.cfd.surface import extend_outlet, wetted_surface
+from ductgen.cfd.skin_wall import SkinDomain, SkinWallError
+from ductgen.cfd.study import compare_one_d, gci_study
+from ductgen.cfd.surface import WettedSurface, extend_outlet, wetted_surface
 from ductgen.cfd.templates import FLAVOUR
 from ductgen.errors import SpecError
+from ductgen.flow.record import FlowRecord
+from ductgen.report import BuildRecord
 from ductgen.spec.model import Spec
 
-__all__ = ["MESH_CHOICES", "cfd_for_build", "check_inputs", "gci_study", "run_cfd"]
+__all__ = ["MESH_CHOICES", "cfd_for_build", "check_inputs", "run_cfd"]
 
 #: Values of ``--mesh``.
 MESH_CHOICES = (*MESH_LEVELS, "study")
-#: Quantities the mesh study extrapolates.
-STUDY_KEYS = ("volume_flow_m3_s", "ram_recovery_flow_avg", "ram_recovery_area_avg")
-#: Apparent orders trusted for a GCI (the schemes are first/second order; practice, no source).
-ORDER_RANGE = (0.5, 3.0)
 
 Progress = Callable[[str, int, int], None]
 
@@ -154,68 +153,10 @@ def _one_mesh(
     }
 
 
-def _compare(cfd: dict[str, Any], flow: dict[str, Any]) -> dict[str, Any]:
-    q1, r1 = flow.get("volume_flow_m3_s"), flow.get("ram_recovery")
-    out: dict[str, Any] = {
-        "volume_flow_m3_s": q1,
-        "ram_recovery": r1,
-        "inlet_velocity_ratio": flow.get("inlet_velocity_ratio"),
-        "kinetic_energy_factor": 1.0,  # the 1-D model assumes uniform flow everywhere
-    }
-    t = flow.get("transition_loss") or {}
-    if "k" in t:
-        out["transition_k"] = t["k"]
-        out["transition_k_by_method"] = t.get("k_by_method")
-    q, r = cfd.get("volume_flow_m3_s"), cfd.get("ram_recovery_flow_avg")
-    if q is not None and q1:
-        out["flow_difference"] = (q - q1) / q1
-    if r is not None and r1 is not None:
-        out["recovery_difference"] = r - r1
-    return out
-
-
-def gci_study(levels: list[dict[str, Any]]) -> dict[str, Any]:
-    """GCI of each study quantity with Celik's representative cell size h = (V/N)^(1/3)
-    from each mesh's cell count and volume, so the refinement ratios are the ones the
-    meshes really have (prism-layer cells grow with the wall area, as r², not r³, so they
-    come out below the nominal ratio)."""
-    fine, medium, coarse = levels[2], levels[1], levels[0]
-    h = [lv["representative_cell_m"] for lv in (fine, medium, coarse)]
-    out: dict[str, Any] = {
-        "method": "Celik et al. (2008), J. Fluids Eng. 130(7) 078001; h = (V/N)^(1/3)",
-        "representative_cell_m": h,
-        "cells": [lv["cells"] for lv in (fine, medium, coarse)],
-        "refinement_ratio_nominal": REFINEMENT_RATIO,
-        "refinement_ratio_from_cells": {
-            "r21": h[1] / h[0],
-            "r32": h[2] / h[1],
-            "overall": (fine["cells"] / coarse["cells"]) ** (1.0 / 3.0),
-        },
-    }
-    for key in STUDY_KEYS:
-        vals = [fine[key], medium[key], coarse[key]]
-        out[key] = gci(vals, h).to_dict()
-        # with oscillatory convergence (or an order far from the schemes' nominal 1-2) the
-        # GCI is not meaningful: seen here, apparent orders of 7 and 13 with GCIs of 0.04 %
-        # while the meshes spread by 4 %. Then the spread of the three meshes is stated.
-        g = out[key]
-        g["range_rel"] = (max(vals) - min(vals)) / abs(fine[key]) if fine[key] else None
-        p = g["order"]
-        if (
-            g["gci_fine"] is not None
-            and not g["oscillatory"]
-            and ORDER_RANGE[0] <= p <= ORDER_RANGE[1]
-        ):
-            g["uncertainty_rel"], g["uncertainty_basis"] = g["gci_fine"], "GCI (fine mesh)"
-        else:
-            g["uncertainty_rel"], g["uncertainty_basis"] = g["range_rel"], "range of three meshes"
-    return out
-
-
 def cfd_for_build(
     spec: Spec,
     design: Any,
-    report: dict[str, Any],
+    record: BuildRecord,
     cutter_stl: Path,
     out_dir: Path,
     *,
@@ -226,50 +167,89 @@ def cfd_for_build(
     pictures: bool = True,
     progress: Progress | None = None,
 ) -> dict[str, Any]:
-    """Run the CFD check of a finished build (its report and cutter STL); writes
-    ``cfd.json``, adds the ``cfd`` section to ``out_dir/report.json``; returns the section."""
-    import trimesh
-
+    """Run the CFD check of a finished build (its record and cutter STL); writes
+    ``cfd.json``, sets the record's ``cfd`` section and rewrites ``out_dir/report.json``
+    from the record; returns the section."""
     from ductgen.atomic import write_atomic
     from ductgen.report import report_bytes
 
     note = progress or (lambda *_a: None)
     check_inputs(spec, mesh, n_procs, write_only)
+    flow = record.flow
+    if flow is None:  # check_inputs refused a spec without [flow]; its build has a record
+        raise CfdError("the build's record has no flow section")
+    surface, domain, plan, notes = _domain(spec, design, flow, cutter_stl)
+    need = downstream_need(spec, design, plan)
+    names = list(MESH_LEVELS) if mesh == "study" else [mesh]
+    levels = []
+    for name in names:
+        setup = case_setup(
+            spec.name, name, design.geometry, surface, flow, need, plan.diameter_m, domain
+        )
+        levels.append(_one_mesh(out_dir / f"cfd-{name}", setup, surface, n_procs, write_only, note))
+    section = _section(mesh, plan, levels, notes, domain)
+    if not write_only:
+        final = levels[-1]
+        section["result"] = {k: v for k, v in final.items() if k not in ("y_plus",)}
+        section["y_plus_range"] = [final["y_plus"]["min"], final["y_plus"]["max"]]
+        section["y_plus_by_patch"] = final["y_plus"]["by_patch"]
+        section["one_d"] = compare_one_d(final, flow)
+        if mesh == "study":
+            section["study"] = gci_study(levels)
+        if pictures:
+            section["pictures"] = _pictures(out_dir / f"cfd-{names[-1]}", spec.name, out_dir, final)
+        if not keep_case:
+            for name in names:
+                shutil.rmtree(out_dir / f"cfd-{name}", ignore_errors=True)
+    cfd_json = (json.dumps(section, indent=2, allow_nan=False) + "\n").encode()
+    write_atomic(out_dir / "cfd.json", cfd_json, force=True)
+    record.cfd = section
+    write_atomic(out_dir / "report.json", report_bytes(record.to_report()), force=True)
+    return section
+
+
+def _domain(
+    spec: Spec, design: Any, flow: FlowRecord, cutter_stl: Path
+) -> tuple[WettedSurface, SkinDomain | None, ExtensionPlan, list[str]]:
+    """The wetted surface round the cutter with its outlet extended, the skin domain on a
+    curved skin or panel (None on a flat one), the extension's plan and notes."""
+    import trimesh
+
     cut = trimesh.load(cutter_stl, force="mesh")
-    domain, notes = None, []
-    if spec.skin.shape == "flat":
-        lo, hi = cut.bounds
-        span = float(hi[0] - lo[0])
-        surface = wetted_surface(
-            cut.vertices,
-            cut.faces,
-            (lo[0] - 10 * span, -10 * span),
-            (hi[0] + 10 * span, 10 * span, 10 * span),
-        )
-        plan = extension_plan(
-            spec, surface.outlet_hydraulic_diameter_m, EXTENSION_DIAMETERS, surface.outlet_area_m2
-        )
-        surface = extend_outlet(surface, plan.length_m)
-    else:
+    if not isinstance(cut, trimesh.Trimesh):
+        raise CfdError(f"{cutter_stl}: not a triangle mesh")
+    if spec.skin.shape != "flat":
         try:
-            surface, domain, plan, notes = curved_surface(
-                spec, design, report["flow"], cut.vertices, cut.faces, EXTENSION_DIAMETERS,
+            return curved_surface(
+                spec, design, flow, cut.vertices, cut.faces, EXTENSION_DIAMETERS,
                 design.geometry.depth_mm * 1e-3 / COARSE_CELLS_PER_DEPTH,
             )  # fmt: skip
         except SkinWallError as err:
             raise SpecError(
                 "skin", spec.skin.shape, "a skin the CFD domain can stand on", str(err)
             ) from None
-    need = downstream_need(spec, design, plan)
-    names = list(MESH_LEVELS) if mesh == "study" else [mesh]
-    levels = []
-    for name in names:
-        setup = case_setup(
-            spec.name, name, design.geometry, surface, report["flow"], need, plan.diameter_m,
-            domain,
-        )  # fmt: skip
-        levels.append(_one_mesh(out_dir / f"cfd-{name}", setup, surface, n_procs, write_only, note))
-    final = levels[-1]
+    lo, hi = cut.bounds
+    span = float(hi[0] - lo[0])
+    surface = wetted_surface(
+        cut.vertices,
+        cut.faces,
+        (lo[0] - 10 * span, -10 * span),
+        (hi[0] + 10 * span, 10 * span, 10 * span),
+    )
+    plan = extension_plan(
+        spec, surface.outlet_hydraulic_diameter_m, EXTENSION_DIAMETERS, surface.outlet_area_m2
+    )
+    return extend_outlet(surface, plan.length_m), None, plan, []
+
+
+def _section(
+    mesh: str,
+    plan: ExtensionPlan,
+    levels: list[dict[str, Any]],
+    notes: list[str],
+    domain: SkinDomain | None,
+) -> dict[str, Any]:
+    """The ``cfd`` section before the results: the solver, the rules, the meshes."""
     warnings = notes + [
         f"{lv['mesh']} mesh: checkMesh: {f} (solved anyway: a quality check, not a broken mesh)"
         for lv in levels
@@ -301,22 +281,6 @@ def cfd_for_build(
             "inlet_profile": "1/7-power layer counted from the skin's height under the "
             "inlet's centreline",
         }
-    if not write_only:
-        section["result"] = {k: v for k, v in final.items() if k not in ("y_plus",)}
-        section["y_plus_range"] = [final["y_plus"]["min"], final["y_plus"]["max"]]
-        section["y_plus_by_patch"] = final["y_plus"]["by_patch"]
-        section["one_d"] = _compare(final, report["flow"])
-        if mesh == "study":
-            section["study"] = gci_study(levels)
-        if pictures:
-            section["pictures"] = _pictures(out_dir / f"cfd-{names[-1]}", spec.name, out_dir, final)
-        if not keep_case:
-            for name in names:
-                shutil.rmtree(out_dir / f"cfd-{name}", ignore_errors=True)
-    cfd_json = (json.dumps(section, indent=2, allow_nan=False) + "\n").encode()
-    write_atomic(out_dir / "cfd.json", cfd_json, force=True)
-    report["cfd"] = section
-    write_atomic(out_dir / "report.json", report_bytes(report), force=True)
     return section
 
 
@@ -376,7 +340,7 @@ def run_cfd(
         section = cfd_for_build(
             spec,
             result.design,
-            result.report,
+            result.record,
             Path(stl),
             staged.staging,
             mesh=mesh,

@@ -104,7 +104,11 @@ def _summary(result: BuildResult, out_dir: Path) -> None:
     from ductgen.display import SHOWN
 
     rec = result.record
-    sections = {"geometry": rec.geometry, "print": rec.parts or {}, "flow": rec.flow or {}}
+    sections = {
+        "geometry": rec.geometry,
+        "print": rec.parts or {},
+        "flow": rec.flow.section if rec.flow else {},
+    }
     con = Console(emoji=False, markup=False, highlight=False)
     t = Table(title=rec.name, show_header=False, box=None)
     for section, key in SUMMARY:

@@ -181,7 +181,7 @@ def build_design(
     """
     if spec.flow is not None:  # before any kernel work: a speed the model cannot estimate
         from ductgen.flow.gradient import check_inlet_cp_gradient
-        from ductgen.flow.report import check_speed
+        from ductgen.flow.system import check_speed
 
         check_speed(spec.flow)
         check_inlet_cp_gradient(spec.flow)
@@ -225,10 +225,41 @@ def geometry_from_spec(spec: Spec, profile: Profile | None = None) -> InletGeome
 
     profile = profile or load_profile(spec.planform.profile)
     w, d = spec.throat.width, spec.throat.depth
-    lip_t = spec.lip.thickness
-    drop = d + lip_t if spec.lip.style == "flush" else d
-    r_entry = spec.ramp.entry_radius
+    drop = d + spec.lip.thickness if spec.lip.style == "flush" else d
+    floor = _floor(spec, drop)
+    length = floor.length_mm
+    planform = Planform(profile=profile, width_mm=w, length_mm=length)
+    lip = _lip(spec, length)
+    r_edge = spec.planform.edge_radius
+    _check_edge_radius(spec, planform)
+    transition: Transition | None = None
+    spigot = 0.0
+    out = spec.outlet
+    if isinstance(out, RoundOutlet | RectOutlet):
+        transition = _transition(spec, out, lip, drop)
+        spigot = out.spigot_length
+    else:
+        assert isinstance(out, NoOutlet)
 
+    return InletGeometry(
+        name=spec.name,
+        width_mm=w,
+        depth_mm=d,
+        planform=planform,
+        floor=floor,
+        lip=lip,
+        transition=transition,
+        edge_radius_mm=r_edge,
+        skin_thickness_mm=spec.skin.thickness,
+        spigot_length_mm=spigot,
+        overcut_mm=spec.cutter.overcut,
+    )
+
+
+def _floor(spec: Spec, drop: float) -> Floor:
+    """The ramp floor for ``drop`` (mm): the spec's angle or its length; at most
+    :data:`MAX_LENGTH_MM` long."""
+    r_entry = spec.ramp.entry_radius
     if spec.ramp.length is not None:
         angle = ramp_angle_for_length(spec.ramp.length, drop, r_entry)
     else:
@@ -245,8 +276,12 @@ def geometry_from_spec(spec: Spec, profile: Profile | None = None) -> InletGeome
             f"a ramp at most {MAX_LENGTH_MM:.0f} mm long (this one: {length:.0f} mm)",
             "20 m is beyond any vehicle panel: a steeper ramp or a smaller throat",
         )
-    planform = Planform(profile=profile, width_mm=w, length_mm=length)
+    return floor
 
+
+def _lip(spec: Spec, length: float) -> Lip:
+    """The lip at the ramp's end ``length`` (mm), its fairing and nose checked."""
+    lip_t = spec.lip.thickness
     if spec.lip.style == "raised":
         fairing = spec.lip.fairing_length if spec.lip.fairing_length is not None else 6.0 * lip_t
     else:
@@ -266,72 +301,60 @@ def geometry_from_spec(spec: Spec, profile: Profile | None = None) -> InletGeome
             f"<= {length / lip_t:.2f} for this lip",
             "the elliptical nose would be longer than half the ramp",
         )
+    return lip
 
-    r_edge = spec.planform.edge_radius
-    if r_edge > 0:
-        # flush lip: the nose cut through a round larger than ~0.6 t was measured to fail
-        lip_limit = 0.6 * lip_t if spec.lip.style == "flush" else d / 2.0
-        limit = min(d / 2.0, planform.apex_width_mm / 2.0, lip_limit)
-        if r_edge > limit:
-            raise SpecError(
-                "planform.edge_radius",
-                r_edge,
-                f"<= {limit:.2f} mm",
-                "the round must fit in half the throat depth, half the apex width "
-                "and (flush lip) 0.6 x the lip thickness",
-            )
 
-    roof, flo = lip.roof_z_mm, -drop
-    transition: Transition | None = None
-    spigot = 0.0
-    out = spec.outlet
-    if isinstance(out, RoundOutlet | RectOutlet):
-        # roof-aligned, but low enough that the insert's wall over the duct clears the skin
-        top = min(roof, -(spec.skin.thickness + spec.insert.wall))
-        if isinstance(out, RoundOutlet):
-            ow = oh = out.diameter
-        else:
-            ow, oh = out.width, out.height
-        transition = Transition(
-            x_start_mm=lip.nose_end_mm,
-            length_mm=out.transition_length,
-            width_mm=w,
-            roof_z_mm=roof,
-            floor_z_mm=flo,
-            kind=out.kind,
-            outlet_width_mm=ow,
-            outlet_height_mm=oh,
-            outlet_top_z_mm=top,
+def _check_edge_radius(spec: Spec, planform: Planform) -> None:
+    """The edge round must fit the throat, the apex and (flush lip) the lip (mm)."""
+    r_edge, d, lip_t = spec.planform.edge_radius, spec.throat.depth, spec.lip.thickness
+    if r_edge <= 0:
+        return
+    # flush lip: the nose cut through a round larger than ~0.6 t was measured to fail
+    lip_limit = 0.6 * lip_t if spec.lip.style == "flush" else d / 2.0
+    limit = min(d / 2.0, planform.apex_width_mm / 2.0, lip_limit)
+    if r_edge > limit:
+        raise SpecError(
+            "planform.edge_radius",
+            r_edge,
+            f"<= {limit:.2f} mm",
+            "the round must fit in half the throat depth, half the apex width "
+            "and (flush lip) 0.6 x the lip thickness",
         )
-        # the insert's wall over a sloping duct is thickened by √(1 + slope²) to stay square
-        # to the steepest ruling; lower the outlet until that wall clears the skin too
-        for _ in range(2):
-            wall = spec.insert.wall * transition.ruling_stretch
-            top = min(roof, -(spec.skin.thickness + wall))
-            transition = dataclasses.replace(transition, outlet_top_z_mm=top)
-        spigot = out.spigot_length
-        half = abs(transition.equivalent_cone_half_angle_deg)
-        if half > 30.0:
-            raise SpecError(
-                "outlet.transition_length",
-                out.transition_length,
-                f">= {min_transition_length_mm(transition):.0f} mm for this outlet",
-                f"equivalent-cone half-angle {half:.1f}° > 30°: "
-                "the duct would be a sudden step, not a transition",
-            )
-    else:
-        assert isinstance(out, NoOutlet)
 
-    return InletGeometry(
-        name=spec.name,
-        width_mm=w,
-        depth_mm=d,
-        planform=planform,
-        floor=floor,
-        lip=lip,
-        transition=transition,
-        edge_radius_mm=r_edge,
-        skin_thickness_mm=spec.skin.thickness,
-        spigot_length_mm=spigot,
-        overcut_mm=spec.cutter.overcut,
+
+def _transition(spec: Spec, out: RoundOutlet | RectOutlet, lip: Lip, drop: float) -> Transition:
+    """The rectangle-to-outlet transition behind the lip (mm), roof-aligned but low enough
+    that the insert's wall over the duct clears the skin; refused when it is a step."""
+    roof = lip.roof_z_mm
+    top = min(roof, -(spec.skin.thickness + spec.insert.wall))
+    if isinstance(out, RoundOutlet):
+        ow = oh = out.diameter
+    else:
+        ow, oh = out.width, out.height
+    transition = Transition(
+        x_start_mm=lip.nose_end_mm,
+        length_mm=out.transition_length,
+        width_mm=spec.throat.width,
+        roof_z_mm=roof,
+        floor_z_mm=-drop,
+        kind=out.kind,
+        outlet_width_mm=ow,
+        outlet_height_mm=oh,
+        outlet_top_z_mm=top,
     )
+    # the insert's wall over a sloping duct is thickened by √(1 + slope²) to stay square
+    # to the steepest ruling; lower the outlet until that wall clears the skin too
+    for _ in range(2):
+        wall = spec.insert.wall * transition.ruling_stretch
+        top = min(roof, -(spec.skin.thickness + wall))
+        transition = dataclasses.replace(transition, outlet_top_z_mm=top)
+    half = abs(transition.equivalent_cone_half_angle_deg)
+    if half > 30.0:
+        raise SpecError(
+            "outlet.transition_length",
+            out.transition_length,
+            f">= {min_transition_length_mm(transition):.0f} mm for this outlet",
+            f"equivalent-cone half-angle {half:.1f}° > 30°: "
+            "the duct would be a sudden step, not a transition",
+        )
+    return transition

@@ -47,7 +47,7 @@ class BoundaryLayer:
     @property
     def thickness_white_m(self) -> float:
         """δ by White's 0.16 Re_x^(−1/7) (m)."""
-        return 0.16 * self.run_length_m * self.reynolds ** (-1.0 / 7.0)
+        return 0.16 * self.run_length_m * float(self.reynolds ** (-1.0 / 7.0))
 
 
 def turbulent_flat_plate(

@@ -70,24 +70,24 @@ HEAD_SOURCE = (
 def entrainment_shape_factor(h: float) -> float:
     """Head's H1 = (δ − δ*)/θ from H = δ*/θ (Cebeci & Bradshaw's fits, recalled)."""
     if h <= 1.6:
-        return 3.3 + 0.8234 * (h - 1.1) ** -1.287
-    return 3.3 + 1.5501 * (h - 0.6778) ** -3.064
+        return 3.3 + 0.8234 * float((h - 1.1) ** -1.287)
+    return 3.3 + 1.5501 * float((h - 0.6778) ** -3.064)
 
 
 def shape_factor_from_h1(h1: float) -> float:
     """H from H1, the inverse of :func:`entrainment_shape_factor` (closed form per branch)."""
     if h1 >= entrainment_shape_factor(1.6):
-        return 1.1 + ((h1 - 3.3) / 0.8234) ** (-1.0 / 1.287)
-    return 0.6778 + ((h1 - 3.3) / 1.5501) ** (-1.0 / 3.064)
+        return 1.1 + float(((h1 - 3.3) / 0.8234) ** (-1.0 / 1.287))
+    return 0.6778 + float(((h1 - 3.3) / 1.5501) ** (-1.0 / 3.064))
 
 
 def ludwieg_tillmann_cf(h: float, re_theta: float) -> float:
     """Skin-friction coefficient c_f = 0.246·10^(−0.678 H)·Re_θ^(−0.268) (recalled)."""
-    return 0.246 * 10.0 ** (-0.678 * h) * re_theta**-0.268
+    return 0.246 * float(10.0 ** (-0.678 * h)) * float(re_theta**-0.268)
 
 
 def _entrainment(h1: float) -> float:
-    return 0.0306 * (h1 - 3.0) ** -0.6169
+    return 0.0306 * float((h1 - 3.0) ** -0.6169)
 
 
 @dataclass(frozen=True)

@@ -91,7 +91,7 @@ class System:
 
     def local_ivr(self, q_m3_s: float) -> float:
         """V1 over the local edge velocity V∞·√(1 − Cp): the IVR the recovery model sees."""
-        return self.ivr(q_m3_s) / local_head_ratio(self.inlet_cp) ** 0.5
+        return self.ivr(q_m3_s) / float(local_head_ratio(self.inlet_cp) ** 0.5)
 
     def ram_recovery(self, q_m3_s: float) -> float:
         """(p_t1 − p∞)/q_t = Cp + (1 − Cp)·cos²ψ·η(IVR_local) (dimensionless)."""

@@ -77,7 +77,7 @@ def capture_height_ratio(s: float) -> float:
     if s <= 0.0:
         return 0.0
     if s <= 0.875:
-        return (s / 0.875) ** 0.875
+        return float((s / 0.875) ** 0.875)
     return 1.0 + (s - 0.875)
 
 
@@ -87,7 +87,7 @@ def capture_recovery(s: float) -> float:
     if s <= 0.0:
         return 0.0
     if s <= 0.875:
-        return 0.8 * capture_height_ratio(s) ** (2.0 / 7.0)
+        return 0.8 * float(capture_height_ratio(s) ** (2.0 / 7.0))
     return 1.0 - 0.175 / s
 
 

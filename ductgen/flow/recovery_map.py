@@ -180,7 +180,8 @@ class RecoveryMap:
 
     def clipped(self, x: tuple[float, ...]) -> np.ndarray:
         """The inputs held inside the table's range."""
-        return np.clip(np.asarray(x, float), self.lo, self.hi)
+        held: np.ndarray = np.clip(np.asarray(x, float), self.lo, self.hi)
+        return held
 
     def outside(self, x: tuple[float, ...]) -> list[str]:
         """Names of the inputs outside the table's range (empty inside it)."""

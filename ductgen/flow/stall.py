@@ -50,7 +50,7 @@ def stall_line_included_deg(length_over_width: float) -> float:
     """Included angle 2θ (deg) of line a-a at N/W1 (power law through the recalled points)."""
     (x0, y0), (x1, y1) = STALL_LINE_POINTS
     slope = math.log(y1 / y0) / math.log(x1 / x0)
-    return y0 * (length_over_width / x0) ** slope
+    return y0 * float((length_over_width / x0) ** slope)
 
 
 def length_under_stall_line(

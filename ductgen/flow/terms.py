@@ -48,7 +48,8 @@ INCOMPRESSIBLE_MACH = 0.3
 def impact_pressure_pa(static_pa: float, mach: float, gamma: float = GAMMA_AIR) -> float:
     """Isentropic impact pressure q_c = p_t − p (Pa) of a flow at static pressure
     ``static_pa`` (Pa) and Mach number ``mach`` (NACA Report 1135, isentropic relations)."""
-    return static_pa * ((1.0 + 0.5 * (gamma - 1.0) * mach * mach) ** (gamma / (gamma - 1.0)) - 1.0)
+    ratio: float = (1.0 + 0.5 * (gamma - 1.0) * mach * mach) ** (gamma / (gamma - 1.0))
+    return static_pa * (ratio - 1.0)
 
 
 def local_head_ratio(inlet_cp: float) -> float:

@@ -41,7 +41,10 @@ __all__ = ["FLAT", "CurvedSkin", "DuctMap", "FlatSkin", "SkinMap", "TurnedOver"]
 class SkinMap(Protocol):
     """Design coordinates (u, v, w) → model coordinates (x, y, z), all in mm."""
 
-    name: str
+    @property
+    def name(self) -> str:
+        """The map's name ("flat", "panel", ...); read-only, so frozen dataclasses fit."""
+        ...
 
     def to_model(self, uvw: np.ndarray) -> np.ndarray:
         """Points (N, 3) in design coordinates → (N, 3) model coordinates (mm)."""

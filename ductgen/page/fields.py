@@ -83,5 +83,5 @@ def schema_json() -> dict[str, Any]:
     """The published JSON Schema of the spec, as bundled with the package."""
     from importlib.resources import files
 
-    text = files("ductgen").joinpath("schema", "spec.schema.json").read_text(encoding="utf-8")
+    text = (files("ductgen") / "schema" / "spec.schema.json").read_text(encoding="utf-8")
     return json.loads(text)

@@ -257,9 +257,9 @@ class JobRunner:
                 progress=self._stage,
                 design=design,
             )
-            files = [{"kind": k, "name": n} for k, n in result.report["files"].items()]
+            names = result.record.files
+            files = [{"kind": k, "name": n} for k, n in names.items()]
             files.append({"kind": "report", "name": "report.json"})
-            names = result.report["files"]
             solids = [k for k in ("cutter", "insert", "plug") if f"{k}_stl" in names]
             return {"files": files, "solids": solids, "written": [f["name"] for f in files]}
 

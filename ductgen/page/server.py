@@ -27,23 +27,20 @@ import mimetypes
 import socket
 import sys
 import threading
-from http.server import BaseHTTPRequestHandler, ThreadingHTTPServer
+from http.server import ThreadingHTTPServer
 from importlib.resources import files
-from typing import Any
+from typing import Any, cast
 from urllib.parse import parse_qs, unquote, urlsplit
 
-from ductgen.errors import DuctgenError, OverwriteError, SpecError, excerpt
+from ductgen.errors import SpecError
+from ductgen.page.answers import Answers, port_of, say
 from ductgen.page.app import DesignApp
 from ductgen.page.guard import (
-    HostRule,
-    Refusal,
     allowed_hosts,
-    check_origin,
     cookie_name,
     credential_status,
     is_loopback,
 )
-from ductgen.page.jobs import Busy
 from ductgen.page.preview import check_spec, preview, problem_lines
 
 __all__ = ["ASSETS", "DesignApp", "is_loopback", "make_server"]
@@ -54,28 +51,9 @@ ASSETS = ("index.html", "page.css", "form.js", "page.js", "viewer.js")
 #: Largest request body read (bytes): a spec is a few kB.
 MAX_BODY_BYTES = 1_000_000
 
-#: Seconds a connection may stay silent before it is closed.
-SOCKET_TIMEOUT_S = 10.0
 
 #: Connections served at once; more are answered 503 and closed at once.
 MAX_CONNECTIONS = 96
-
-_NO_KEY = (
-    "this page needs the key ductgen design printed: open the address it printed "
-    "(http://HOST:PORT/?token=...)"
-)
-
-
-def _say(line: str) -> None:
-    """One line on the terminal (the server's only output besides the address)."""
-    try:
-        safe = "".join(c if c.isprintable() else "?" for c in line)  # no terminal escapes
-        if len(safe) > 300:
-            safe = safe[:299] + "…"
-        sys.stderr.write(f"ductgen design: {safe}\n")
-        sys.stderr.flush()
-    except (OSError, ValueError):
-        pass
 
 
 def _only(value: Any) -> list[str] | None:
@@ -86,87 +64,8 @@ def _only(value: Any) -> list[str] | None:
     return value
 
 
-class _Handler(BaseHTTPRequestHandler):
-    server_version = "ductgen-design"
-    timeout = SOCKET_TIMEOUT_S  # StreamRequestHandler sets it on the socket
-    app: DesignApp
-    hosts: HostRule
-
-    def log_message(self, format: str, *args: Any) -> None:
-        pass  # refusals are said once each by _refuse; the page shows the rest
-
-    def log_error(self, format: str, *args: Any) -> None:
-        _say(f"bad request from {self.client_address[0]}: {format % args}")
-
-    # --- answers ---------------------------------------------------------------------------
-    def _send(
-        self, code: int, body: bytes, ctype: str, extra: dict[str, str] | None = None
-    ) -> None:
-        self.send_response(code)
-        self.send_header("Content-Type", ctype)
-        self.send_header("Content-Length", str(len(body)))
-        self.send_header("Cache-Control", "no-store")
-        self.send_header("X-Content-Type-Options", "nosniff")
-        self.send_header("X-Frame-Options", "DENY")
-        self.send_header("Referrer-Policy", "no-referrer")
-        self.send_header(
-            "Content-Security-Policy",
-            "default-src 'self'; img-src 'self' data: blob:; style-src 'self' 'unsafe-inline'; "
-            "frame-ancestors 'none'",
-        )
-        for k, v in (extra or {}).items():
-            self.send_header(k, v)
-        self.end_headers()
-        if self.command != "HEAD":
-            self.wfile.write(body)
-
-    def _json(self, code: int, obj: Any) -> None:
-        body = json.dumps(obj, allow_nan=False, default=str).encode()
-        self._send(code, body, "application/json; charset=utf-8")
-
-    def _refuse(self, code: int, message: str) -> None:
-        what = f"{self.command} {urlsplit(self.path).path[:80]}"
-        _say(f"refused {code} {what} from {self.client_address[0]}: {message}")
-        self._json(code, {"ok": False, "problems": [], "message": message})
-
-    def _error(self, err: Exception) -> None:
-        if isinstance(err, Refusal):
-            self._refuse(err.status, str(err))
-        elif isinstance(err, Busy):
-            self._json(409, {"ok": False, "busy": True, "message": str(err), "job": err.state})
-        elif isinstance(err, SpecError):
-            self._json(400, {"ok": False, "problems": problem_lines(err), "message": str(err)})
-        elif isinstance(err, OverwriteError):
-            self._json(409, {"ok": False, "problems": [], "message": _page_words(str(err))})
-        elif isinstance(err, DuctgenError):
-            self._json(500, {"ok": False, "problems": [], "message": str(err)})
-        else:
-            _say(f"internal error in {self.command} {self.path}: {type(err).__name__}: {err}")
-            msg = f"internal error: {type(err).__name__}: {excerpt(str(err), 300)}"
-            self._json(500, {"ok": False, "problems": [], "message": msg})
-
-    # --- every request ---------------------------------------------------------------------
-    def _admit(self, *, need_key: bool = True) -> bool:
-        """Host, Origin and key checks; False when the request was refused (and answered)."""
-        host = self.headers.get("Host")
-        if not self.hosts.accepts(host):
-            self._refuse(403, f"Host {host!r} does not name this server")
-            return False
-        why = check_origin(self.headers.get("Origin"), host, self.headers.get("Sec-Fetch-Site"))
-        if why is not None:
-            self._refuse(403, why)
-            return False
-        if need_key:
-            status = credential_status(
-                self.app.secret,
-                self.server.server_address[1],
-                self.headers.get("Cookie"),
-                self.headers.get("Authorization"),
-            )
-            if status:
-                self._refuse(status, _NO_KEY if status == 401 else "wrong key for this page")
-                return False
-        return True
+class _Handler(Answers):
+    """The routes; answering, refusing and admitting requests: :class:`Answers`."""
 
     # --- GET --------------------------------------------------------------------------------
     def do_GET(self) -> None:
@@ -203,7 +102,7 @@ class _Handler(BaseHTTPRequestHandler):
         address bar and the history (303 to ``/``)."""
         if not self._admit(need_key=False):
             return
-        port = self.server.server_address[1]
+        port = port_of(self.server.server_address)
         if credential_status(self.app.secret, port, None, f"Bearer {token}"):
             return self._refuse(403, "wrong key for this page")
         cookie = f"{cookie_name(port)}={self.app.secret}; Path=/; HttpOnly; SameSite=Strict"
@@ -212,7 +111,7 @@ class _Handler(BaseHTTPRequestHandler):
     def _asset(self, name: str) -> None:
         if name not in ASSETS:
             return self._json(404, {"ok": False, "message": f"no such asset {name}"})
-        body = files("ductgen.page").joinpath("assets", name).read_bytes()
+        body = (files("ductgen.page") / "assets" / name).read_bytes()
         ctype = mimetypes.guess_type(name)[0] or "application/octet-stream"
         self._send(200, body, f"{ctype}; charset=utf-8")
 
@@ -343,13 +242,6 @@ def _name(data: Any) -> str:
     return name.strip() if isinstance(name, str) and name.strip() else "ductgen"
 
 
-def _page_words(message: str) -> str:
-    """The CLI's overwrite sentence in the page's words (a checkbox, not ``--force``)."""
-    return message.replace("pass --force", "tick 'replace existing files'").replace(
-        "--force", "'replace existing files'"
-    )
-
-
 class _Server(ThreadingHTTPServer):
     """A threading server with a cap on connections and a one-line error report."""
 
@@ -385,7 +277,7 @@ class _Server(ThreadingHTTPServer):
     def handle_error(self, request: Any, client_address: Any) -> None:
         err = sys.exc_info()[1]
         where = client_address[0] if client_address else "?"
-        _say(f"connection from {where} dropped: {type(err).__name__}: {err}")
+        say(f"connection from {where} dropped: {type(err).__name__}: {err}")
 
 
 def make_server(
@@ -416,7 +308,7 @@ def make_server(
         ) from err
     family = infos[0][0]
     server_cls = type("DesignServer", (_Server,), {"address_family": family})
-    handler = type("Handler", (_Handler,), {"app": app})
+    handler = cast("type[_Handler]", type("Handler", (_Handler,), {"app": app}))
     try:
         server = server_cls((bind, port), handler)
     except OSError as err:
@@ -426,5 +318,5 @@ def make_server(
         raise SpecError(
             key, host if key == "--host" else port, allowed, err.strerror or str(err)
         ) from err
-    handler.hosts = allowed_hosts(bind, server.server_address[1])
+    handler.hosts = allowed_hosts(bind, port_of(server.server_address))
     return server

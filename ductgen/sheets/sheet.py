@@ -15,13 +15,12 @@ right column's rows are spaced over the text boxes a PDF reader measures. Dimens
 from __future__ import annotations
 
 import io
-import textwrap
 from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
-from ductgen.export.template_layout import CAUTIONS, build_date
 from ductgen.geometry.inlet import InletGeometry
+from ductgen.sheets.column import offset_rows, right_column, title_block
 from ductgen.sheets.placement import datum_label, placement_lines
 from ductgen.sheets.section import section_extent, section_view
 from ductgen.sheets.views import TITLE_MM, View, scale_for, scale_text
@@ -34,11 +33,12 @@ if TYPE_CHECKING:
     from matplotlib.typing import RcKeyType
 
     from ductgen.design import Design
+    from ductgen.flow.record import FlowRecord
 
     _Size = tuple[float, float]  # paper (width, height), mm
     _Box = tuple[float, float, float, float]  # x, y, width, height on the paper, mm
 
-__all__ = ["SHEET_MM", "offset_rows", "sheet_pdf"]
+__all__ = ["SHEET_MM", "offset_rows", "sheet_pdf"]  # offset_rows: sheets/column.py
 
 #: template.paper → drawing sheet (width, height) mm, landscape.
 SHEET_MM: dict[str, tuple[float, float]] = {"A4": (420.0, 297.0), "Letter": (431.8, 279.4)}
@@ -49,23 +49,6 @@ _RC: dict[RcKeyType, Any] = {
     "font.family": "sans-serif",
     "font.sans-serif": ["Helvetica"],
 }
-
-
-def offset_rows(g: InletGeometry) -> list[dict[str, Any]]:
-    """Offsets at the profile's stations and at 5 % steps of L, sorted by x.
-
-    Each row: ``x_over_L``, ``x_mm``, ``half_width_mm``, ``floor_depth_mm`` and ``station``
-    (True at a tabulated station of the profile). Values come from
-    :meth:`InletGeometry.offsets`, the same function ``report.json`` uses.
-    """
-    prof = np.asarray(g.planform.profile.x, dtype=float)
-    steps = np.round(np.linspace(0.0, 1.0, 21), 12)
-    s = np.array(sorted(set(np.round(prof, 12)) | set(steps)))
-    rows = g.offsets(s)
-    out = []
-    for si, r in zip(s, rows, strict=True):
-        out.append({"x_over_L": float(si), **r, "station": bool(np.any(np.abs(prof - si) < 1e-9))})
-    return out
 
 
 def _plan(fig: Figure, page: _Size, box: _Box, g: InletGeometry, datum: str = "datum") -> float:
@@ -118,7 +101,7 @@ def sheet_pdf(
     spec_hash: str,
     version: str,
     preview: bytes | None = None,
-    flow: dict[str, Any] | None = None,
+    flow: FlowRecord | None = None,
     split_x_mm: tuple[float, ...] = (),
     skin_lines: tuple[tuple[str, str], ...] = (),
     design: Design | None = None,
@@ -132,7 +115,7 @@ def sheet_pdf(
         g: inlet geometry; spec: the spec (name, template units and paper).
         spec_hash: ``spec_sha256``; version: ductgen version for the title block.
         preview: optional PNG drawn in the picture box.
-        flow: the report's ``flow`` section, drawn as the AIRFLOW block when given.
+        flow: the build's flow record, drawn as the AIRFLOW block when given.
         skin_lines: (name, value) lines on the skin, added to the key dimensions (a
             curved skin: its radii, how the template was developed).
         design: the design ``g`` belongs to: on a curved skin or the user's panel the
@@ -144,7 +127,6 @@ def sheet_pdf(
     from matplotlib import rc_context
     from matplotlib.backends.backend_pdf import PdfPages
     from matplotlib.figure import Figure
-    from matplotlib.patches import Rectangle
 
     logging.getLogger("matplotlib.font_manager").setLevel(logging.ERROR)
     page = SHEET_MM[spec.template.paper]
@@ -163,55 +145,85 @@ def sheet_pdf(
         ) as pdf,
     ):
         fig = Figure(figsize=(pw / _INCH, ph / _INCH))
-        bg = fig.add_axes((0, 0, 1, 1))
-        bg.set_xlim(0, pw)
-        bg.set_ylim(0, ph)
-        bg.set_axis_off()
-        bg.add_patch(Rectangle((10, 10), pw - 20, ph - 20, fill=False, lw=1.0))
-        tx = pw - 10 - 118  # right column: table, dimensions, title block
-        bg.plot([tx, tx], [10, ph - 10], color="k", lw=0.6)
-        lip_w = (0.30 if placed else 0.45) * (tx - 18)
-        plan_box, section_box = _split(ph, tx - 18, g, design)
-        views = [
-            (
-                "PLAN VIEW (skin opening, outer surface)",
-                plan_box,
-                lambda f, p, b, gg: _plan(f, p, b, gg, datum_label(design)),
-            ),
-            (
-                "CENTRELINE SECTION" + (" (datum frame)" if placed else ""),
-                section_box,
-                lambda f, p, b, gg: section_view(f, p, b, gg, design, tuple(split_x_mm)),
-            ),
-            ("LIP DETAIL", (14, 14, lip_w, 64), _lip_detail),
-        ]
-        for title, box, fn in views:
-            s = fn(fig, page, box, g)
-            bg.text(
-                box[0],
-                box[1] + box[3] - 1,
-                f"{title}   scale {scale_text(s)}",
-                fontsize=7.5,
-                weight="bold",
-                va="top",
-            )
+        bg, tx = _frame(fig, pw, ph)
+        lip_w = _views(fig, bg, page, tx, g, design, split_x_mm, bool(placed))
         bx = 14 + lip_w + 4
         if placed:
             _placement_block(bg, bx, 78.0, placed)
             bx += 96.0
         if preview:
-            from PIL import Image
-
-            img = np.asarray(Image.open(io.BytesIO(preview)).convert("RGB"))
-            bw = tx - 4 - bx
-            bh = min(64.0, bw * img.shape[0] / img.shape[1])
-            iax = fig.add_axes((bx / pw, 12 / ph, bw / pw, bh / ph))
-            iax.imshow(img, interpolation="bilinear")
-            iax.set_axis_off()
-        _column(bg, tx, ph, g, flow, skin_lines)
-        _title_block(bg, tx, pw, g, spec, spec_hash, version)
+            _picture(fig, page, preview, bx, tx)
+        right_column(bg, tx, ph, g, flow, skin_lines)
+        title_block(bg, tx, pw, g, spec, spec_hash, version)
         pdf.savefig(fig)
     return buf.getvalue()
+
+
+def _frame(fig: Figure, pw: float, ph: float) -> tuple[Axes, float]:
+    """The paper's axes (mm) with the border and the right column's rule; the column's x."""
+    from matplotlib.patches import Rectangle
+
+    bg = fig.add_axes((0, 0, 1, 1))
+    bg.set_xlim(0, pw)
+    bg.set_ylim(0, ph)
+    bg.set_axis_off()
+    bg.add_patch(Rectangle((10, 10), pw - 20, ph - 20, fill=False, lw=1.0))
+    tx = pw - 10 - 118  # right column: table, dimensions, title block
+    bg.plot([tx, tx], [10, ph - 10], color="k", lw=0.6)
+    return bg, tx
+
+
+def _views(
+    fig: Figure,
+    bg: Axes,
+    page: _Size,
+    tx: float,
+    g: InletGeometry,
+    design: Design | None,
+    split_x_mm: tuple[float, ...],
+    placed: bool,
+) -> float:
+    """The plan, the centreline section and the lip detail with their titles and scales;
+    returns the lip detail's width (paper mm)."""
+    lip_w = (0.30 if placed else 0.45) * (tx - 18)
+    plan_box, section_box = _split(page[1], tx - 18, g, design)
+    views = [
+        (
+            "PLAN VIEW (skin opening, outer surface)",
+            plan_box,
+            lambda f, p, b, gg: _plan(f, p, b, gg, datum_label(design)),
+        ),
+        (
+            "CENTRELINE SECTION" + (" (datum frame)" if placed else ""),
+            section_box,
+            lambda f, p, b, gg: section_view(f, p, b, gg, design, tuple(split_x_mm)),
+        ),
+        ("LIP DETAIL", (14, 14, lip_w, 64), _lip_detail),
+    ]
+    for title, box, fn in views:
+        s = fn(fig, page, box, g)
+        bg.text(
+            box[0],
+            box[1] + box[3] - 1,
+            f"{title}   scale {scale_text(s)}",
+            fontsize=7.5,
+            weight="bold",
+            va="top",
+        )
+    return lip_w
+
+
+def _picture(fig: Figure, page: _Size, preview: bytes, bx: float, tx: float) -> None:
+    """The preview PNG in the box from ``bx`` to the right column (paper mm)."""
+    from PIL import Image
+
+    pw, ph = page
+    img = np.asarray(Image.open(io.BytesIO(preview)).convert("RGB"))
+    bw = tx - 4 - bx
+    bh = min(64.0, bw * img.shape[0] / img.shape[1])
+    iax = fig.add_axes((bx / pw, 12 / ph, bw / pw, bh / ph))
+    iax.imshow(img, interpolation="bilinear")
+    iax.set_axis_off()
 
 
 def _split(ph: float, width: float, g: InletGeometry, design: Design | None) -> tuple[_Box, _Box]:
@@ -240,11 +252,6 @@ def _split(ph: float, width: float, g: InletGeometry, design: Design | None) -> 
     return (14.0, top - h_plan, width, h_plan), (14.0, bottom, width, h_sec)
 
 
-#: Baseline steps (mm) of the right column's rows: each over the 6.5 pt text box a PDF
-#: reader measures (1.374 em = 3.15 mm), so no row's box runs into the next.
-_ROW_MM = 3.3
-
-
 def _placement_block(bg: Axes, x: float, top: float, lines: tuple[tuple[str, str], ...]) -> None:
     """The PLACEMENT block (``sheets/placement.py``) from ``top`` (paper mm) down."""
     bg.text(x, top - 1, "PLACEMENT (where it sits)", fontsize=7.5, weight="bold", va="top")
@@ -253,135 +260,3 @@ def _placement_block(bg: Axes, x: float, top: float, lines: tuple[tuple[str, str
         bg.text(x, y, k, fontsize=6.2)
         bg.text(x + 27, y, v, fontsize=6.2)
         y -= 3.2
-
-
-def _column(
-    bg: Axes,
-    tx: float,
-    ph: float,
-    g: InletGeometry,
-    flow: dict[str, Any] | None,
-    extra: tuple[tuple[str, str], ...],
-) -> None:
-    """The right column above the cautions (its top at 105 mm): the table of offsets, the
-    AIRFLOW block, the key dimensions, stacked; rows and their fonts shrink together (to
-    no less than 0.75) when they would not fit, so no row's box meets the next."""
-    from ductgen.flow.sheet_block import flow_block_lines
-
-    n_flow = len(flow_block_lines(flow)) if flow else 0
-    need = 5.7 + len(offset_rows(g)) * _ROW_MM + 7.2 + (len(_KEY_NAMES) + len(extra)) * _ROW_MM
-    if flow:
-        need += 7.7 + n_flow * 3.45
-    k = max(0.75, min(1.0, (ph - 16.0 - 109.0) / need))
-    y = _table(bg, tx, ph - 16.0, g, k)
-    if flow:
-        y = _flow_block(bg, tx, y - 7.0 * k, flow, k)
-    _key_dims(bg, tx, y - 6.5 * k, g, extra, k)
-
-
-def _flow_block(bg: Axes, tx: float, top: float, flow: dict[str, Any], k: float = 1.0) -> float:
-    """The AIRFLOW block with its title's baseline at ``top``; returns the last row's."""
-    from ductgen.flow.sheet_block import FLOW_BLOCK_TITLE, flow_block_lines
-
-    bg.text(tx + 4, top, FLOW_BLOCK_TITLE, fontsize=7.5, weight="bold")
-    y = top - 0.7 * k
-    for line in flow_block_lines(flow):
-        y -= 3.45 * k
-        bg.text(tx + 4, y, line, fontsize=6.5 * k)
-    return y
-
-
-def _table(bg: Axes, tx: float, top: float, g: InletGeometry, k: float = 1.0) -> float:
-    """The table of offsets from ``top``; returns the last row's baseline (mm)."""
-    rows = offset_rows(g)
-    y = top
-    bg.text(tx + 4, y, "TABLE OF OFFSETS (mm)   * = profile station", fontsize=7.5, weight="bold")
-    y -= 5.5 * k
-    cols = (tx + 4, tx + 22, tx + 48, tx + 78)
-    for cx, head in zip(cols, ("x/L", "x", "half-width", "floor depth"), strict=True):
-        bg.text(cx, y, head, fontsize=6.8 * k, weight="bold")
-    y -= 0.2 * k
-    for r in rows:
-        y -= _ROW_MM * k
-        mark = "*" if r["station"] else " "
-        cells = (
-            f"{r['x_over_L']:.3f}{mark}",
-            f"{r['x_mm']:.2f}",
-            f"{r['half_width_mm']:.3f}",
-            f"{r['floor_depth_mm']:.3f}",
-        )
-        for cx, c in zip(cols, cells, strict=True):
-            bg.text(cx, y, c, fontsize=6.5 * k, weight="bold" if r["station"] else "normal")
-    return y
-
-
-#: The key dimensions' names (their values: :func:`_key_dims`).
-_KEY_NAMES = (
-    "throat width W",
-    "throat depth D",
-    "ramp length L",
-    "ramp angle",
-    "entry radius",
-    "floor drop H",
-    "apex width",
-    "max wall divergence",
-    "lip",
-    "throat area W x D",
-)
-
-
-def _key_dims(
-    bg: Axes,
-    tx: float,
-    top: float,
-    g: InletGeometry,
-    extra: tuple[tuple[str, str], ...] = (),
-    k: float = 1.0,
-) -> None:
-    pf, lip = g.planform, g.lip
-    values = (
-        f"{g.width_mm:.2f} mm",
-        f"{g.depth_mm:.2f} mm",
-        f"{g.length_mm:.2f} mm",
-        f"{g.floor.angle_deg:.2f} deg",
-        f"{g.floor.entry_radius_mm:.2f} mm",
-        f"{g.drop_mm:.2f} mm",
-        f"{pf.apex_width_mm:.2f} mm",
-        f"{pf.max_divergence_deg:.1f} deg",
-        f"{lip.style}, t {lip.thickness_mm:.2f} mm, nose {lip.nose_ratio:g}:1",
-        f"{g.throat_area_mm2:.0f} mm2",
-    )
-    y = top
-    bg.text(tx + 4, y, "KEY DIMENSIONS", fontsize=7.5, weight="bold")
-    y -= 0.7 * k
-    for name, value in (*zip(_KEY_NAMES, values, strict=True), *extra):
-        y -= _ROW_MM * k
-        bg.text(tx + 4, y, name, fontsize=6.5 * k)
-        bg.text(tx + 42, y, value, fontsize=6.5 * k)
-
-
-def _title_block(
-    bg: Axes, tx: float, pw: float, g: InletGeometry, spec: Any, spec_hash: str, version: str
-) -> None:
-    from matplotlib.patches import Rectangle
-
-    bg.add_patch(Rectangle((tx, 10), pw - 10 - tx, 95, fill=False, lw=0.6))
-    bg.text(tx + 4, 99, "CAUTIONS", fontsize=7.5, weight="bold")
-    y = 95.0
-    for line in textwrap.wrap(CAUTIONS, 78):
-        bg.text(tx + 4, y, line, fontsize=6.2)
-        y -= 3.1
-    bg.plot([tx, pw - 10], [48, 48], color="k", lw=0.6)
-    units = "mm" if spec.template.units == "mm" else "mm (template in inches)"
-    rows = [
-        (spec.name, 11, "bold"),
-        ("NACA-type flush inlet - drawing sheet", 7.5, "normal"),
-        (f"date {build_date()}    units {units}", 7, "normal"),
-        (f"spec sha256 {spec_hash}", 5.6, "normal"),
-        (f"ductgen {version}    profile {g.planform.profile.name}", 7, "normal"),
-        ("Dimensions in mm. Do not scale from this sheet: use the 1:1 template.", 6.5, "normal"),
-    ]
-    y = 42.0
-    for text, fs, wt in rows:
-        bg.text(tx + 4, y, text, fontsize=fs, weight=wt)
-        y -= 5.6

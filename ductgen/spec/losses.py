@@ -149,7 +149,7 @@ LossElement = Annotated[
 ]
 
 #: Loss ``kind`` → its spec model, read off :data:`LossElement` (the one list of kinds; the
-#: flow model's :data:`ductgen.flow.report.ELEMENT_OF` must cover it).
+#: flow model's :data:`ductgen.flow.system.ELEMENT_OF` must cover it).
 LOSS_KINDS: dict[str, type[Section]] = {
     m.model_fields["kind"].default: m for m in get_args(get_args(LossElement)[0])
 }

@@ -116,11 +116,12 @@ def _build_with_cfd(task: VariantTask, folder: Path, kw: dict[str, Any]) -> Any:
     with OutputSet(folder, force=True) as staged:
         result = build(task.spec, staged.staging, only=list(task.kinds), force=True, **kw)
         stl = next(p for p in result.files.values() if p.name.endswith("-cutter.stl"))
-        cfd_for_build(task.spec, result.design, result.report, stl, staged.staging, mesh=task.cfd)
+        cfd_for_build(task.spec, result.design, result.record, stl, staged.staging, mesh=task.cfd)
         for entry in sorted(staged.staging.iterdir()):
             staged.staged_path(entry.name)
         published = staged.publish()
-    return dataclasses.replace(result, files=published)  # the files where they now are
+    # the files where they now are, and the report with the record's cfd section
+    return dataclasses.replace(result, files=published, report=result.record.to_report())
 
 
 def _cached(task: VariantTask) -> VariantResult | None:
