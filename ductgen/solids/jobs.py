@@ -104,11 +104,11 @@ def mapped_volume_mm3(
     import trimesh
 
     from ductgen.solids.check import CHECK_MESH
-    from ductgen.solids.mesh import triangulate
+    from ductgen.solids.mesh import subdivide_to_size, triangulate
 
     v, f = design_mesh if design_mesh is not None else triangulate(flat, *CHECK_MESH)
-    fine = _subdivided(trimesh.Trimesh(v, f, process=False), step_mm)
-    return float(trimesh.Trimesh(fn(fine.vertices), fine.faces, process=False).volume)
+    fine_v, fine_f = subdivide_to_size(v, f, step_mm)
+    return float(trimesh.Trimesh(fn(fine_v), fine_f, process=False).volume)
 
 
 def wetted_area_mm2(vertices: Any, faces: Any, g: InletGeometry, fn: Any = None) -> float:
@@ -119,10 +119,12 @@ def wetted_area_mm2(vertices: Any, faces: Any, g: InletGeometry, fn: Any = None)
     import numpy as np
     import trimesh
 
+    from ductgen.solids.mesh import subdivide_to_size
+
     soup, tris = _clipped_below_skin(np.asarray(vertices, dtype=float), np.asarray(faces), g)
     if fn is not None:
-        fine = _subdivided(trimesh.Trimesh(soup, tris, process=False), 2.0)
-        return float(trimesh.Trimesh(fn(fine.vertices), fine.faces, process=False).area)
+        fine_v, fine_f = subdivide_to_size(soup, tris, 2.0)
+        return float(trimesh.Trimesh(fn(fine_v), fine_f, process=False).area)
     t = soup[tris]
     return float(0.5 * np.linalg.norm(np.cross(t[:, 1] - t[:, 0], t[:, 2] - t[:, 0]), axis=1).sum())
 
