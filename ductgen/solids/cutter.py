@@ -179,8 +179,14 @@ def build_cutter(d: Design) -> cq.Solid:
     # the duct starts on the throat's exit plane and lies wholly downstream of it, so the two
     # only share (part of) that face: a glued fuse (no face-face intersection) gives the same
     # solid, byte for byte in STEP on every sample, at a fifth of the time
-    glue = t.x_start_mm == g.throat_end_mm and _ends_at(cavity, t.x_start_mm)
-    return _one_solid(boolean("fuse", cavity, duct, "transition", glue=glue), "cutter")
+    # (the check's volume against the integral catches a wrong one; a failed one is retried
+    # as a general fuse)
+    if t.x_start_mm == g.throat_end_mm and _ends_at(cavity, t.x_start_mm):
+        try:
+            return _one_solid(boolean("fuse", cavity, duct, "transition", glue=True), "cutter")
+        except GeometryError:
+            pass
+    return _one_solid(boolean("fuse", cavity, duct, "transition"), "cutter")
 
 
 def _ends_at(solid: cq.Shape, x_mm: float) -> bool:
