@@ -184,3 +184,57 @@ def test_random_valid_specs_give_sound_cutters(
     res = check_solid(make_cutter(d), "cutter", g.cutter_volume_mm3, DEFAULT_TOLERANCES)
     assert res.watertight and res.winding_consistent
     assert res.volume_mm3 == pytest.approx(g.cutter_volume_mm3, rel=2e-3)
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("case", ["arc-flush-round", "rounded-raised-rect"])
+def test_the_glued_transition_fuse_is_the_general_fuse(
+    case: str, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    """The duct only touches the throat's exit plane, so it is fused on glued; the general
+    fuse (forced here) makes the same solid: the same faces and the same exact volume."""
+    import ductgen.solids.cutter as cutter_mod
+
+    real = cutter_mod.boolean
+    calls: list[tuple[str, bool]] = []
+
+    def spy(op, a, b, stage, glue=False):  # type: ignore[no-untyped-def]
+        calls.append((stage, glue))
+        return real(op, a, b, stage, glue=glue)
+
+    monkeypatch.setattr(cutter_mod, "boolean", spy)
+    d = build_design(parse_spec(CASES[case]), check_fabrication=False)
+    glued = cutter_mod.build_cutter(d)
+    assert ("transition", True) in calls
+    monkeypatch.setattr(cutter_mod, "_ends_at", lambda *_: False)
+    general = cutter_mod.build_cutter(d)
+    assert calls[-1] == ("transition", False)
+    assert len(glued.Faces()) == len(general.Faces())
+    assert _gprop_volume(glued) == pytest.approx(_gprop_volume(general), rel=1e-12)
+
+
+@pytest.mark.slow
+def test_a_failed_glued_fuse_falls_back_to_the_general_one(monkeypatch: pytest.MonkeyPatch) -> None:
+    """Were the glued fuse to fail, the general one makes the cutter: one valid closed solid
+    of the volume the geometry integrates."""
+    import ductgen.solids.cutter as cutter_mod
+    from ductgen.errors import GeometryError
+    from ductgen.solids.check import check_solid
+    from ductgen.tolerances import DEFAULT_TOLERANCES
+
+    real = cutter_mod.boolean
+    calls: list[tuple[str, bool]] = []
+
+    def refuse_glue(op, a, b, stage, glue=False):  # type: ignore[no-untyped-def]
+        calls.append((stage, glue))
+        if glue and stage == "transition":
+            raise GeometryError(stage, "refused by the test")
+        return real(op, a, b, stage, glue=glue)
+
+    monkeypatch.setattr(cutter_mod, "boolean", refuse_glue)
+    d = build_design(parse_spec(CASES["arc-flush-round"]), check_fabrication=False)
+    g = d.geometry
+    res = check_solid(cutter_mod.build_cutter(d), "cutter", g.cutter_volume_mm3, DEFAULT_TOLERANCES)
+    assert ("transition", True) in calls and ("transition", False) in calls
+    assert res.watertight and res.winding_consistent
+    assert res.volume_mm3 == pytest.approx(g.cutter_volume_mm3, rel=2e-3)

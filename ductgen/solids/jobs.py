@@ -64,12 +64,21 @@ def _subdivided(mesh: Any, step_mm: float) -> Any:
     return mesh.subdivide_to_size(step_mm)
 
 
-def mapped_mesh(flat: Any, fn: Any, lin: float, ang: float, curvature: float) -> tuple[Any, Any]:
+def mapped_mesh(
+    flat: Any,
+    fn: Any,
+    lin: float,
+    ang: float,
+    curvature: float,
+    design_mesh: tuple[Any, Any] | None = None,
+) -> tuple[Any, Any]:
     """Triangulation of a mapped solid (vertices mm, faces): the design-coordinate solid
     triangulated at (``lin`` mm, ``ang`` rad), its edges split until a mapped chord sags less
     than ``lin`` on the skin's curvature (edge ≤ √(8·lin/κ)), vertices mapped. Watertight
     when the design mesh is (it is checked), and its points lie on the exactly mapped
-    surface — unlike the kernel's own mesh of the mapped splines (see CHECK_MESH_CURVED)."""
+    surface — unlike the kernel's own mesh of the mapped splines (see CHECK_MESH_CURVED).
+    ``design_mesh``: ``flat``'s triangulation at (``lin``, ``ang``) when already made (the
+    mesher gives the same one again)."""
     import math
 
     import numpy as np
@@ -77,7 +86,7 @@ def mapped_mesh(flat: Any, fn: Any, lin: float, ang: float, curvature: float) ->
 
     from ductgen.solids.mesh import triangulate
 
-    v, f = triangulate(flat, lin, ang)
+    v, f = design_mesh if design_mesh is not None else triangulate(flat, lin, ang)
     m = trimesh.Trimesh(v, f)  # merges the kernel's per-face copies of shared vertices
     step = math.sqrt(8.0 * lin / curvature) if curvature > 0 else math.inf
     if math.isfinite(step):
@@ -85,18 +94,23 @@ def mapped_mesh(flat: Any, fn: Any, lin: float, ang: float, curvature: float) ->
     return np.asarray(fn(m.vertices)), np.asarray(m.faces)
 
 
-def mapped_volume_mm3(flat: Any, fn: Any, step_mm: float = 2.0) -> float:
+def mapped_volume_mm3(
+    flat: Any, fn: Any, step_mm: float = 2.0, design_mesh: tuple[Any, Any] | None = None
+) -> float:
     """Volume (mm³) of a design-coordinate solid carried through the point map ``fn``,
     measured without the mapped B-rep: its triangulation, subdivided to ``step_mm`` edges
-    (so a mapped chord departs from the mapped surface by < step²κ/8), vertices mapped."""
-    import trimesh
+    (so a mapped chord departs from the mapped surface by < step²κ/8), vertices mapped.
+    ``design_mesh``: ``flat``'s triangulation at ``CHECK_MESH`` when already made. The
+    volume is the divergence theorem's Σ v0·(v1 × v2) / 6 over the mapped triangles."""
+    import numpy as np
 
     from ductgen.solids.check import CHECK_MESH
-    from ductgen.solids.mesh import triangulate
+    from ductgen.solids.mesh import subdivide_to_size, triangulate
 
-    v, f = triangulate(flat, *CHECK_MESH)
-    fine = _subdivided(trimesh.Trimesh(v, f, process=False), step_mm)
-    return float(trimesh.Trimesh(fn(fine.vertices), fine.faces, process=False).volume)
+    v, f = design_mesh if design_mesh is not None else triangulate(flat, *CHECK_MESH)
+    fine_v, fine_f = subdivide_to_size(v, f, step_mm)
+    t = np.asarray(fn(fine_v), dtype=float)[fine_f]
+    return float(np.einsum("ij,ij->i", t[:, 0], np.cross(t[:, 1], t[:, 2])).sum() / 6.0)
 
 
 def wetted_area_mm2(vertices: Any, faces: Any, g: InletGeometry, fn: Any = None) -> float:
@@ -107,10 +121,12 @@ def wetted_area_mm2(vertices: Any, faces: Any, g: InletGeometry, fn: Any = None)
     import numpy as np
     import trimesh
 
+    from ductgen.solids.mesh import subdivide_to_size
+
     soup, tris = _clipped_below_skin(np.asarray(vertices, dtype=float), np.asarray(faces), g)
     if fn is not None:
-        fine = _subdivided(trimesh.Trimesh(soup, tris, process=False), 2.0)
-        return float(trimesh.Trimesh(fn(fine.vertices), fine.faces, process=False).area)
+        fine_v, fine_f = subdivide_to_size(soup, tris, 2.0)
+        return float(trimesh.Trimesh(fn(fine_v), fine_f, process=False).area)
     t = soup[tris]
     return float(0.5 * np.linalg.norm(np.cross(t[:, 1] - t[:, 0], t[:, 2] - t[:, 0]), axis=1).sum())
 
@@ -156,6 +172,7 @@ def build_solids(
     from ductgen.solids.cad_io import step_bytes_healed, stl_bytes
     from ductgen.solids.check import CHECK_MESH, CHECK_MESH_CURVED, check_solid
     from ductgen.solids.deform import place
+    from ductgen.solids.mesh import triangulate
 
     out: dict[str, SolidResult] = {}
     built: dict[str, Any] = {}
@@ -175,8 +192,12 @@ def build_solids(
         t0 = time.perf_counter()
         stage(f"{kind} check")
         fn = d.placement.plug_map if kind == "plug" else d.placement.solid_map
-        # curved: the flat design's triangulation, mapped (independent of the mapped B-rep)
-        expected = mapped_volume_mm3(flat, fn) if curved else recipe.expected(d)
+        # curved: the flat design's triangulation, mapped (independent of the mapped B-rep);
+        # made once for the expected volume, the STL and the wetted area
+        design_mesh = triangulate(flat, *CHECK_MESH) if curved else None
+        expected = (
+            mapped_volume_mm3(flat, fn, design_mesh=design_mesh) if curved else recipe.expected(d)
+        )
         res = check_solid(
             solid, kind, expected, tol, recipe.volume_rel, check_mesh, exact_volume=curved
         )
@@ -197,7 +218,9 @@ def build_solids(
         times["step_s"] = time.perf_counter() - t0
         t0 = time.perf_counter()
         stage(f"{kind} STL")
-        verts, faces = _stl_mesh(d, flat, solid, res.mesh, fn, STL_QUALITY[quality], check_mesh)
+        verts, faces = _stl_mesh(
+            d, flat, solid, res.mesh, fn, STL_QUALITY[quality], check_mesh, design_mesh
+        )
         tight, winding, vol, _ = mesh_stats(verts, faces)
         if not (tight and winding):
             from ductgen.errors import GeometryError
@@ -206,7 +229,7 @@ def build_solids(
         stl_name = f"{prefix}-{kind}.stl"
         write_atomic(Path(staging) / stl_name, stl_bytes(verts, faces, f"{prefix}-{kind}"))
         times["stl_s"] = time.perf_counter() - t0
-        wetted = _cutter_wetted_area(d, flat, res.mesh) if kind == "cutter" else None
+        wetted = _cutter_wetted_area(d, design_mesh or res.mesh) if kind == "cutter" else None
         out[kind] = SolidResult(
             volume_mm3=res.volume_mm3,
             expected_volume_mm3=res.expected_volume_mm3,
@@ -231,28 +254,30 @@ def _stl_mesh(
     fn: Any,
     deflection: tuple[float, float],
     check_mesh: tuple[float, float],
+    design_mesh: tuple[Any, Any] | None = None,
 ) -> tuple[Any, Any]:
     """The STL's triangulation (vertices mm, faces) at ``deflection`` (mm, rad): on a curved
-    skin the design mesh refined for the curvature and mapped (see :func:`mapped_mesh`);
-    else the check's own mesh when it was made at the same deflection, or a new one."""
+    skin the design mesh refined for the curvature and mapped (see :func:`mapped_mesh`;
+    ``design_mesh``, ``flat``'s triangulation at ``CHECK_MESH``, is reused at that
+    deflection); else the check's own mesh when it was made at the same deflection, or a
+    new one."""
+    from ductgen.solids.check import CHECK_MESH
     from ductgen.solids.mesh import triangulate
 
     lin, ang = deflection
     if d.placement.curvature != 0.0:
-        return mapped_mesh(flat, fn, lin, ang, d.placement.curvature)
+        same = design_mesh if (lin, ang) == CHECK_MESH else None
+        return mapped_mesh(flat, fn, lin, ang, d.placement.curvature, same)
     if (lin, ang) == check_mesh and check is not None:
         return check
     return triangulate(solid, lin, ang)
 
 
-def _cutter_wetted_area(d: Design, flat: Any, check: tuple[Any, Any] | None) -> float:
+def _cutter_wetted_area(d: Design, mesh: tuple[Any, Any] | None) -> float:
     """The cutter's wetted area (mm², :func:`wetted_area_mm2`) from its design-coordinate
-    triangulation (the check's on a flat skin, mapped on a curved one)."""
-    from ductgen.solids.check import CHECK_MESH
-    from ductgen.solids.mesh import triangulate
-
+    triangulation at ``CHECK_MESH`` (the check's on a flat skin; on a curved one the flat
+    design's, mapped)."""
     curved = d.placement.curvature != 0.0
-    mesh = triangulate(flat, *CHECK_MESH) if curved else check
     if mesh is None:
         from ductgen.errors import GeometryError
 
