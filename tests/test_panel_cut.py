@@ -24,8 +24,9 @@ from tests.panels import bonnet_face, bonnet_height, s_height, s_panel_face  # n
 from tests.test_design_skin import BASE  # noqa: E402
 
 T = 2.5  # skin thickness, mm
-#: The tube panel: its length and upstream end (mm).
-TUBE_LENGTH, TUBE_X0 = 500.0, -100.0
+#: The tube panel: its length and upstream end (mm): 15 mm beyond the plug's plate upstream
+#: and 22 mm beyond the duct's outlet face.
+TUBE_LENGTH, TUBE_X0 = 380.0, -40.0
 
 
 def _spec(name: str, path: Path, at: list[float], **skin: object):  # type: ignore[no-untyped-def]
