@@ -24,9 +24,12 @@ from tests.panels import bonnet_face, bonnet_height, s_height, s_panel_face  # n
 from tests.test_design_skin import BASE  # noqa: E402
 
 T = 2.5  # skin thickness, mm
-#: The tube panel: its length and upstream end (mm): 15 mm beyond the plug's plate upstream
-#: and 22 mm beyond the duct's outlet face.
-TUBE_LENGTH, TUBE_X0 = 380.0, -40.0
+#: The tube panels: length and upstream end (mm), and whether a refusal is accepted. The
+#: first ends 15 mm beyond the plug's plate upstream and 22 mm beyond the duct's outlet face
+#: and must be cut; on the second (8 and 10 mm) the kernel's Booleans between the tube and
+#: its cutter were seen to find no intersection at all (cut and common both empty): the
+#: build must then refuse, never publish the uncut tube.
+TUBES = [(380.0, -40.0, False), (360.0, -32.0, True)]
 
 
 def _spec(name: str, path: Path, at: list[float], **skin: object):  # type: ignore[no-untyped-def]
@@ -139,13 +142,16 @@ def _tube(radius: float, length: float, thickness: float, x0: float):  # type: i
 
 
 @pytest.mark.slow
-def test_a_tube_whose_seam_runs_through_the_opening_is_cut_and_measured(tmp_path) -> None:  # type: ignore[no-untyped-def]
+@pytest.mark.parametrize(("length", "x0", "may_refuse"), TUBES, ids=["380mm", "360mm"])
+def test_a_tube_whose_seam_runs_through_the_opening_is_cut_and_measured(  # type: ignore[no-untyped-def]
+    tmp_path, length, x0, may_refuse
+) -> None:
     import trimesh
 
     from ductgen.pipeline import build
     from ductgen.solids.mesh import triangulate
 
-    radius, length, x0 = 400.0, TUBE_LENGTH, TUBE_X0
+    radius = 400.0
     tube = _tube(radius, length, T, x0)
     seams = [e for f in tube.Faces() if f.geomType() == "CYLINDER" for e in f.Edges()]
     seams = [e for e in seams if e.geomType() == "LINE"]
@@ -153,7 +159,13 @@ def test_a_tube_whose_seam_runs_through_the_opening_is_cut_and_measured(tmp_path
     assert seams and all(abs(e.Center().y) < 1e-9 and e.Center().z > -T - 1e-9 for e in seams)
     path = tmp_path / "tube.step"
     cq.exporters.export(tube, str(path))
-    result = build(_spec("tube", path, [0.0, 0.0, 0.0]), tmp_path / "out", only=["cutter"])
+    try:
+        result = build(_spec("tube", path, [0.0, 0.0, 0.0]), tmp_path / "out", only=["cutter"])
+    except DuctgenError as err:
+        # a refusal names the stage, and nothing is published
+        assert may_refuse and "panel cut" in str(err), err
+        assert not (tmp_path / "out" / "tube-panel.step").exists()
+        return
     cut = cq.importers.importStep(str(tmp_path / "out" / "tube-cutter.step")).val()
     panel = cq.importers.importStep(str(tmp_path / "out" / "tube-panel.step")).val()
     assert len(panel.Solids()) == 1 and panel.isValid()

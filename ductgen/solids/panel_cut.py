@@ -152,7 +152,7 @@ def cut_panel_job(
     box = _tool_box(cutters, BOX_MARGIN_MM)
     before_local = precise_volume(_boolean("common", body, box, 0.0))
     inside = _opening_probes(d)
-    failure = ""
+    failure, reasons = "", []
     for fuzzy in CUT_FUZZY_MM:
         result = body
         for c in cutters:
@@ -164,16 +164,18 @@ def cut_panel_job(
         slivers = sum(precise_volume(so) for so in out[1:])
         if not out or not out[0].isValid() or slivers > SLIVER_FRACTION * before:
             failure = "the cut panel is not one valid solid"
+            reasons.append(_attempt(fuzzy, failure))
             continue
         removed = before_local - precise_volume(_boolean("common", out[0], box, 0.0))
         failure = _disproof(body, out[0], inside, removed, expected)
         if not failure:
             break
+        reasons.append(_attempt(fuzzy, failure))
     if failure:
         raise GeometryError(
             "panel cut",
-            f"{failure}; no panel file is written: subtract {name}-cutter.step from the panel "
-            "in your CAD and check the opening",
+            f"{'; '.join(reasons)}; no panel file is written: subtract {name}-cutter.step "
+            "from the panel in your CAD and check the opening",
         )
     file = f"{name}-panel.step"
     (Path(staging) / file).write_bytes(step_bytes(out[0], f"{name}-panel"))
@@ -186,6 +188,11 @@ def cut_panel_job(
         "removed_expected_mm3": expected,
         "slivers_dropped_mm3": slivers,
     }
+
+
+def _attempt(fuzzy: float, why: str) -> str:
+    """One failed cut's reason, named by its fuzzy tolerance (mm)."""
+    return why if fuzzy == 0.0 else f"with a fuzzy tolerance of {fuzzy:g} mm, {why}"
 
 
 def precise_volume(shape: Any) -> float:
