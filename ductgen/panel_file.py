@@ -21,6 +21,7 @@ from typing import Any
 import numpy as np
 
 from ductgen.errors import SpecError
+from ductgen.geometry.panel_samples import crease_angle
 
 __all__ = [
     "CAD_SUFFIXES",
@@ -90,7 +91,7 @@ def _read(path: str, mtime_ns: int, units: str | None) -> tuple[str, Any]:
             shape = cq.importers.importStep(path).val()
         except Exception as err:  # the reader raises several unrelated classes
             raise _bad_file(path, f"the STEP reader failed ({type(err).__name__})") from None
-        if not shape.Faces():
+        if not isinstance(shape, cq.Shape) or not shape.Faces():
             raise _bad_file(path, "it holds no surfaces")
         return "brep", shape
     if units is None:
@@ -278,22 +279,6 @@ def _brep_heights(
     return h, normals
 
 
-def _crease(normals: np.ndarray, h: np.ndarray) -> tuple[float, tuple[int, int]]:
-    """Largest angle (deg) between the normals of neighbouring samples, and where."""
-    worst, where = 0.0, (0, 0)
-    for axis in (0, 1):
-        a = np.take(normals, range(normals.shape[axis] - 1), axis=axis)
-        b = np.take(normals, range(1, normals.shape[axis]), axis=axis)
-        cos = np.clip(np.sum(a * b, axis=2), -1.0, 1.0)
-        ang = np.degrees(np.arccos(cos))
-        ang[~np.isfinite(ang)] = 0.0
-        ang[np.isnan(np.take(h, range(h.shape[axis] - 1), axis=axis))] = 0.0
-        k = np.unravel_index(int(np.argmax(ang)), ang.shape)
-        if ang[k] > worst:
-            worst, where = float(ang[k]), (int(k[0]), int(k[1]))
-    return worst, where
-
-
 def _mesh_heights(
     mesh: Any, axes: np.ndarray, origin: np.ndarray, xs: np.ndarray, ys: np.ndarray, flip: bool
 ) -> tuple[np.ndarray, dict[str, float]]:
@@ -322,7 +307,8 @@ def _mesh_heights(
     if len(pts) < 64:
         raise ValueError("too few vertices under the inlet")
     tree = cKDTree(pts[:, :2])
-    spacing = float(np.median(tree.query(pts[:, :2], k=2)[0][:, 1]))
+    dist: np.ndarray = np.asarray(tree.query(pts[:, :2], k=2)[0])
+    spacing = float(np.median(dist[:, 1]))
     # knots about every 12 mm (and at least 3 vertex spacings): smooth enough to average a
     # scan's noise, fine enough for radii down to the wrap limits
     knot = max(12.0, 3.0 * spacing)
@@ -379,9 +365,11 @@ def sample_panel(
     outward: tuple[float, float, float] | None,
     box: tuple[float, float, float, float],
     step: float,
+    needed: tuple[float, float, float, float] | None = None,
 ) -> dict[str, Any]:
     """The datum frame and the outer surface's heights over ``box`` = (x_lo, x_hi, y_lo,
-    y_hi) in the datum's tangent plane (mm), on a ``step`` mm grid (runs in the worker).
+    y_hi) in the datum's tangent plane (mm), on a ``step`` mm grid (runs in the worker);
+    creases are looked for inside ``needed`` (a box like ``box``; default: all of it).
 
     Raises:
         SpecError: unreadable file or units (``skin.file``, ``skin.units``), ``skin.at``
@@ -425,7 +413,12 @@ def sample_panel(
         # the file's own face orientation, turned over once to match the datum's normal
         flip = flipped
         h, normals = _brep_heights(shape, axes, foot, xs, ys, flip)
-        crease = _crease(normals, h)
+        within = None
+        if needed is not None:
+            within = np.outer(
+                (xs >= needed[0]) & (xs <= needed[1]), (ys >= needed[2]) & (ys <= needed[3])
+            )
+        crease = crease_angle(normals, h, within)
     else:
         try:
             h, stats = _mesh_heights(shape, axes, foot, xs, ys, flipped)

@@ -56,10 +56,11 @@ class Motion:
 MOTION = Motion((0.3, -0.5, 0.8), 37.0, (120.0, -45.0, 310.0))
 
 
-def cylinder_panel(radius: float, axis: str, thickness: float, size=(900.0, 600.0)):  # type: ignore[no-untyped-def]
+def cylinder_panel(radius: float, axis: str, thickness: float, size=(900.0, 600.0), x0=-250.0):  # type: ignore[no-untyped-def]
     """A convex cylinder-patch panel (a closed solid, ``thickness`` mm) whose outer surface
     touches z = 0 at the origin with outward normal +z; its axis along y (``"spanwise"``:
-    it curves along the flow, x) or along x (``"streamwise"``)."""
+    it curves along the flow, x) or along x (``"streamwise"``); ``size`` (along x, across)
+    mm, starting at x = ``x0``."""
     import cadquery as cq
 
     length, width = size
@@ -67,11 +68,11 @@ def cylinder_panel(radius: float, axis: str, thickness: float, size=(900.0, 600.
         base, direction = cq.Vector(0, -width / 2, -radius), cq.Vector(0, 1, 0)
         extent = width
     else:
-        base, direction = cq.Vector(-250, 0, -radius), cq.Vector(1, 0, 0)
+        base, direction = cq.Vector(x0, 0, -radius), cq.Vector(1, 0, 0)
         extent = length
     outer = cq.Solid.makeCylinder(radius, extent, base, direction)
     inner = cq.Solid.makeCylinder(radius - thickness, extent, base, direction)
-    box = cq.Solid.makeBox(length, width, 250.0, cq.Vector(-250, -width / 2, -200))
+    box = cq.Solid.makeBox(length, width, 250.0, cq.Vector(x0, -width / 2, -200))
     return outer.cut(inner).intersect(box)
 
 

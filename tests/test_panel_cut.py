@@ -24,6 +24,12 @@ from tests.helpers import CURVED_BASE as BASE  # noqa: E402
 from tests.panels import bonnet_face, bonnet_height, s_height, s_panel_face  # noqa: E402
 
 T = 2.5  # skin thickness, mm
+#: The tube panels: length and upstream end (mm), and whether a refusal is accepted. The
+#: first ends 15 mm beyond the plug's plate upstream and 22 mm beyond the duct's outlet face
+#: and must be cut; on the second (8 and 10 mm) the kernel's Booleans between the tube and
+#: its cutter were seen to find no intersection at all (cut and common both empty): the
+#: build must then refuse, never publish the uncut tube.
+TUBES = [(380.0, -40.0, False), (360.0, -32.0, True)]
 
 
 def _spec(name: str, path: Path, at: list[float], **skin: object):  # type: ignore[no-untyped-def]
@@ -125,3 +131,58 @@ def test_a_reversed_open_bonnet_asks_for_skin_outward(tmp_path) -> None:  # type
     cq.exporters.export(face, str(good))
     d = build_design(_spec("fwd", good, at))
     assert d.skin.frame.axes[2][2] > 0.99  # type: ignore[union-attr]
+
+
+def _tube(radius: float, length: float, thickness: float, x0: float):  # type: ignore[no-untyped-def]
+    """A closed tube along x (the flow) whose outer surface touches z = 0 along y = 0; the
+    kernel puts each cylinder face's seam there, along the inlet's centreline."""
+    base, axis = cq.Vector(x0, 0, -radius), cq.Vector(1, 0, 0)
+    outer = cq.Solid.makeCylinder(radius, length, base, axis)
+    return outer.cut(cq.Solid.makeCylinder(radius - thickness, length, base, axis))
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize(("length", "x0", "may_refuse"), TUBES, ids=["380mm", "360mm"])
+def test_a_tube_whose_seam_runs_through_the_opening_is_cut_and_measured(  # type: ignore[no-untyped-def]
+    tmp_path, length, x0, may_refuse
+) -> None:
+    import trimesh
+
+    from ductgen.pipeline import build
+    from ductgen.solids.mesh import triangulate
+
+    radius = 400.0
+    tube = _tube(radius, length, T, x0)
+    seams = [e for f in tube.Faces() if f.geomType() == "CYLINDER" for e in f.Edges()]
+    seams = [e for e in seams if e.geomType() == "LINE"]
+    # the case under test: both seams lie on the centreline (y = 0, top of the tube)
+    assert seams and all(abs(e.Center().y) < 1e-9 and e.Center().z > -T - 1e-9 for e in seams)
+    path = tmp_path / "tube.step"
+    cq.exporters.export(tube, str(path))
+    try:
+        result = build(_spec("tube", path, [0.0, 0.0, 0.0]), tmp_path / "out", only=["cutter"])
+    except DuctgenError as err:
+        # a refusal names the stage, and nothing is published
+        assert may_refuse and "panel cut" in str(err), err
+        assert not (tmp_path / "out" / "tube-panel.step").exists()
+        return
+    cut = cq.importers.importStep(str(tmp_path / "out" / "tube-cutter.step")).val()
+    panel = cq.importers.importStep(str(tmp_path / "out" / "tube-panel.step")).val()
+    assert len(panel.Solids()) == 1 and panel.isValid()
+    # the basis: the kernel's Boolean common of the cutter and the tube, made here
+    common = _volume(tube.intersect(cut))
+    got = result.report["geometry"]["skin"]["panel"]
+    assert got["removed_mm3"] == pytest.approx(common, rel=1e-3)
+    # the file itself, measured without the kernel's volume integral: the tube's closed form
+    # π (R² − r²) L less the cut panel's triangulated volume (trimesh), within 1 % (the
+    # triangulation's own error on this tube, measured 0.3 %)
+    v, f = triangulate(panel, 0.01, 0.1)
+    mesh = trimesh.Trimesh(v, f)
+    assert mesh.is_watertight
+    tube_mm3 = np.pi * (radius**2 - (radius - T) ** 2) * length
+    assert tube_mm3 - mesh.volume == pytest.approx(common, rel=1e-2)
+    # along the seam, inside the opening half-way through the skin: no material left
+    g = result.design.geometry
+    for frac in (0.5, 0.75, 0.95):
+        p = np.array([frac * g.length_mm, 0.0, -0.5 * T])
+        assert _state(tube, p) == "in" and _state(panel, p) == "out", p

@@ -68,7 +68,7 @@ def _clear(page: pymupdf.Page) -> None:
 def test_no_text_overlaps_text_or_lines(name: str, paper: str) -> None:
     data = read_spec_data(ROOT / "samples" / f"{name}.toml")
     data["template"] = {**data.get("template", {}), "paper": paper}
-    spec = parse_spec(data)
+    spec = parse_spec(data, base_dir=ROOT / "samples")  # a panel file is beside its spec
     length = build_design(spec).geometry.length_mm
     page = _sheet(spec, split=(0.55 * length, 1.2 * length))  # a split insert's glue faces
     assert "split 1" in page.get_text()

@@ -28,12 +28,15 @@ from ductgen.geometry.panel import (
     convex_curvatures,
     make_panel_skin,
 )
+from ductgen.geometry.panel_samples import continue_surface
 from ductgen.panel_file import sample_panel
 from ductgen.spec.model import PanelSkinSpec
 from ductgen.worker import KernelWorker
 
 __all__ = [
     "MAX_FLOW_OFF_DEG",
+    "PANEL_MARGIN_MM",
+    "PICTURE_BAND_MM",
     "WARN_FLOW_OFF_DEG",
     "PanelRegion",
     "panel_skin",
@@ -48,20 +51,45 @@ WARN_FLOW_OFF_DEG = 3.0
 MAX_FLOW_OFF_DEG = 45.0
 #: Largest number of rays cast to sample a CAD panel (sets the grid step).
 MAX_SAMPLES = 9000
+#: Margin (mm) round the parts' footprint where the panel file must have surface: the
+#: jig's fit is measured on the skin up to 5 mm beyond its outer edge (``solids/jig.py``).
+PANEL_MARGIN_MM = 5.0
+#: Band (mm) round the parts that the map is tabulated over for pictures: the preview
+#: draws the skin 20 mm round the plug's plate (``sheets/preview.py``). Where the file
+#: ends inside it the surface is continued along its own tangent planes, for pictures
+#: only: no part lies there.
+PICTURE_BAND_MM = 20.0
 
 _CACHE: dict[tuple[Any, ...], dict[str, Any]] = {}
 
 
 @dataclass(frozen=True)
 class PanelRegion:
-    """Where the parts reach in design coordinates (mm): u from ``u_lo`` to ``u_hi`` (the
-    duct's straightening end included) and |v| ≤ ``v_max``; ``u_parts`` the largest u of
-    the parts that lie on the skin (flange, plug plate, opening)."""
+    """Where the parts reach in design coordinates (mm), without margins: u from ``u_lo``
+    to ``u_hi`` (the duct's straightening end included) and |v| ≤ ``v_max``; ``u_parts``
+    the largest u of the parts that lie on the skin (flange, plug plate, cut-out, jig)."""
 
     u_lo: float
     u_hi: float
     v_max: float
     u_parts: float
+
+    def needed(self) -> tuple[float, float, float, float]:
+        """(u_lo, u_hi, −v, v) mm where the panel must have surface: the parts plus
+        :data:`PANEL_MARGIN_MM`."""
+        m = PANEL_MARGIN_MM
+        return (self.u_lo - m, self.u_hi + m, -self.v_max - m, self.v_max + m)
+
+    def table(self) -> tuple[float, float, float]:
+        """(u_lo, u_hi, v) mm the map is tabulated over: the needed box, and the pictures'
+        band (:data:`PICTURE_BAND_MM`) round the parts on the skin."""
+        u_lo, u_hi, _, v = self.needed()
+        b = PICTURE_BAND_MM
+        return (
+            min(u_lo, self.u_lo - b),
+            max(u_hi, self.u_parts + b),
+            max(v, self.v_max + b),
+        )
 
 
 def _xyz(v: Any) -> tuple[float, float, float]:
@@ -76,14 +104,12 @@ def _sample(
     process-wide one; cached per file version)."""
     from ductgen.worker import default_worker
 
-    margin_u = 10.0 + 0.05 * (region.u_hi - region.u_lo)
-    margin_v = 10.0 + 0.05 * region.v_max
-    box = (
-        region.u_lo - margin_u,
-        region.u_hi + margin_u,
-        -region.v_max - margin_v,
-        region.v_max + margin_v,
-    )
+    u_lo, u_hi, v_max = region.table()
+    # the grid is in the datum's tangent plane: the geodesic net over the table projects
+    # inside the same box, but a centreline that bends in plan drifts sideways by a few
+    # percent of its length
+    drift = 2.0 + 0.03 * (u_hi - u_lo)
+    box = (u_lo - drift, u_hi + drift, -v_max - drift, v_max + drift)
     area = (box[1] - box[0]) * (box[3] - box[2])
     step = round(max(2.0, math.sqrt(area / MAX_SAMPLES)), 1)
     path = str(Path(skin.file))
@@ -104,6 +130,7 @@ def _sample(
             None if skin.outward is None else _xyz(skin.outward),
             box,
             step,
+            region.needed(),
         )
     return _CACHE[key]
 
@@ -174,13 +201,16 @@ def panel_skin(
         )
     frame = PanelFrame(np.asarray(s["origin"]), np.asarray(s["axes"]))
     x, y, h = np.asarray(s["x"]), np.asarray(s["y"]), np.asarray(s["h"])
-    if np.isnan(h).any():
+    u_lo, u_hi, v_lo, v_hi = region.needed()
+    inside = np.outer((x >= u_lo) & (x <= u_hi), (y >= v_lo) & (y <= v_hi))
+    missing = np.isnan(h) & inside
+    if missing.any():
         # a panel that curves away too fast is not seen from the datum's tangent plane
         # either: say so by its radius before blaming the panel's edge
         _wrap_at_datum(x, y, h, region, MAX_WRAP_DEG)
-        i, j = np.argwhere(np.isnan(h))[0]
+        i, j = np.argwhere(missing)[0]
         raise _off_edge(frame, float(x[i]), float(y[j]))
-    hf = HeightField(x, y, h)
+    hf = HeightField(x, y, continue_surface(x, y, h))
     if float(s.get("crease_deg", 0.0)) > _crease_limit(float(x[1] - x[0])):
         cx, cy = s["crease_at"]
         raise SpecError(
@@ -190,8 +220,9 @@ def panel_skin(
             f"the inlet runs over a crease near {_where(frame, cx, cy, hf)}: the surface turns "
             f"{s['crease_deg']:.1f}° between samples {x[1] - x[0]:.1f} mm apart",
         )
+    t_lo, t_hi, t_v = region.table()
     try:
-        ps = make_panel_skin(frame, hf, (region.u_lo, region.u_hi), region.v_max)
+        ps = make_panel_skin(frame, hf, (t_lo, t_hi), t_v)
     except ValueError:
         edge_x = float(x[0] if abs(region.u_lo) > region.u_hi else x[-1])
         raise _off_edge(frame, edge_x, 0.0) from None

@@ -20,6 +20,7 @@ from ductgen.errors import DesignWarning, SpecError
 from ductgen.geometry.fabrication import FlangeLayout, Spigot
 from ductgen.geometry.flatten import Development
 from ductgen.geometry.inlet import InletGeometry
+from ductgen.geometry.jig import jig_layout
 from ductgen.geometry.panel import PanelSkin, PanelTurnedOver
 from ductgen.geometry.skin import FLAT, CurvedSkin, FlatSkin, TurnedOver
 from ductgen.spec.model import (
@@ -151,10 +152,6 @@ def _summary(skin: SkinSpec) -> dict[str, Any]:
     return out
 
 
-#: Margin (mm) of the panel's map table beyond the parts (the preview draws 20 mm round them).
-PANEL_MARGIN_MM = 30.0
-
-
 def _panel(
     skin: PanelSkinSpec,
     g: InletGeometry,
@@ -164,7 +161,18 @@ def _panel(
     wall: float,
     worker: KernelWorker | None,
 ) -> tuple[PanelSkin, dict[str, Any], list[DesignWarning]]:
-    pts = np.vstack([layout.outline_xy, trim_xy, layout.opening_xy])
+    """The user's panel as the skin: its region is what the parts cover (the flange, the
+    plug's plate, the cut-out, the opening, the marking jig's frame, the duct to its outlet
+    face); ``design/panel.py`` adds its stated margins."""
+    pts = np.vstack(
+        [
+            layout.outline_xy,
+            trim_xy,
+            layout.opening_xy,
+            layout.cutout_xy,
+            jig_layout(g.planform).outer_xy,
+        ]
+    )
     v_max = float(np.max(np.abs(pts[:, 1])))
     u_parts = float(np.max(pts[:, 0]))
     u_hi = u_parts
@@ -174,8 +182,7 @@ def _panel(
         v_max = max(v_max, 0.5 * t.outlet_width_mm + 2.0 * wall)
     if spigot is not None:
         v_max = max(v_max, 0.5 * spigot.od_mm + spigot.bead_height_mm + wall)
-    m = PANEL_MARGIN_MM
-    region = PanelRegion(float(np.min(pts[:, 0])) - m, u_hi + m, v_max + m, u_parts)
+    region = PanelRegion(float(np.min(pts[:, 0])), u_hi, v_max, u_parts)
     outlet = None
     if t is not None:
         outlet = lambda: _straight_outlet_limit(g, spigot, wall)  # noqa: E731
