@@ -171,7 +171,7 @@ def test_an_inlet_15_mm_from_the_panels_edge_builds(tmp_path) -> None:  # type: 
     from ductgen.pipeline import build
 
     radius = 900.0
-    ref = build_design(_spec({"shape": "cylinder", "radius": radius, "axis": "spanwise"}))
+    ref = build_design(panel_spec({"shape": "cylinder", "radius": radius, "axis": "spanwise"}))
     flange = ref.layout.outline_xy  # design (u, v): u arc length along the flow
     x0 = radius * np.sin(float(flange[:, 0].min()) / radius) - 15.0
     width = 2.0 * (float(np.abs(flange[:, 1]).max()) + 15.0)
@@ -179,7 +179,7 @@ def test_an_inlet_15_mm_from_the_panels_edge_builds(tmp_path) -> None:  # type: 
     # past the duct's outlet face
     panel = cylinder_panel(radius, "spanwise", 2.0, size=(400.0 - x0, width), x0=x0)
     path = _export(panel, tmp_path / "edge.step")
-    spec = _spec(_panel_skin(path, [0.0, 0.0, 0.0], [1.0, 0.0, 0.0]))
+    spec = panel_spec(panel_skin(path, [0.0, 0.0, 0.0], [1.0, 0.0, 0.0]))
     out = tmp_path / "out"
     result = build(spec, out, only=["cutter", "plug", "jig", "sheet"])
     for name in ("cutter.step", "plug.step", "jig.step", "sheet.pdf", "preview.png", "panel.step"):
