@@ -153,6 +153,25 @@ def test_init_writes_a_buildable_commented_spec(
     assert _run(["init", str(tmp_path / "z.toml"), "--example", "nope"], capsys)[0] == 2
 
 
+def test_init_example_writes_the_panel_file_its_spec_names(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
+    from ductgen.spec import load_spec
+    from tests.conftest import ROOT
+
+    p = tmp_path / "pod" / "mine.toml"
+    assert _run(["init", str(p), "--example", "kitcar-sidepod-cooler"], capsys)[0] == 0
+    spec = load_spec(p)
+    panel = Path(str(spec.skin.file))  # type: ignore[union-attr]
+    panel = panel if panel.is_absolute() else p.parent / panel
+    assert panel.read_bytes() == (ROOT / "samples" / "kitcar-sidepod-panel.step").read_bytes()
+    # a second init into the same folder refuses before writing anything
+    p.unlink()
+    code, _, err = _run(["init", str(p), "--example", "kitcar-sidepod-cooler"], capsys)
+    assert code == 2 and "kitcar-sidepod-panel.step" in err
+    assert not p.exists()
+
+
 def test_profiles_lists_sources(capsys: pytest.CaptureFixture[str]) -> None:
     code, out, _ = _run(["profiles", "--json"], capsys)
     assert code == 0

@@ -131,9 +131,9 @@ def init_command(
     force: Annotated[bool, typer.Option("--force", help="replace an existing file")] = False,
 ) -> None:
     """Write a commented starter spec."""
-    from ductgen.atomic import write_atomic
+    from ductgen.atomic import check_free, write_atomic
     from ductgen.errors import SpecError
-    from ductgen.spec.starter import STARTER, example_names, example_path
+    from ductgen.spec.starter import STARTER, example_files, example_names, example_path
 
     if path.is_dir():
         raise SpecError("PATH", str(path), "a file name", "the path is a folder")
@@ -149,12 +149,23 @@ def init_command(
                 "--example", example, "one of " + ", ".join(example_names()), "unknown sample"
             )
         data = example_path(example).read_bytes()
+        companions = {path.parent / n: b for n, b in example_files(example).items()}
     else:
-        data = STARTER.encode()
+        data, companions = STARTER.encode(), {}
     if suffix != ".toml":  # same content in the format the suffix names (comments are lost)
         data = _convert_toml(data, suffix)
-    write_atomic(path, data, force=force)
-    err_console.print(f"wrote {path}; next: ductgen build {path}")
+    check_free([path, *companions], force)  # all or nothing: refuse before writing any
+    written: list[Path] = []
+    try:
+        for target, content in companions.items():
+            written.append(write_atomic(target, content, force=force))
+        write_atomic(path, data, force=force)
+    except BaseException:
+        for done in written:
+            done.unlink(missing_ok=True)
+        raise
+    also = "".join(f" and {p.name}" for p in written)
+    err_console.print(f"wrote {path}{also}; next: ductgen build {path}")
 
 
 def _convert_toml(data: bytes, suffix: str) -> bytes:

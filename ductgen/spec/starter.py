@@ -2,11 +2,13 @@
 
 from __future__ import annotations
 
+from collections.abc import Iterator
 from pathlib import Path
+from typing import Any
 
 from ductgen.resources import samples_dir
 
-__all__ = ["STARTER", "example_names", "example_path", "samples_dir"]
+__all__ = ["STARTER", "example_files", "example_names", "example_path", "samples_dir"]
 
 STARTER = """\
 # ductgen spec: one flush (NACA-type) submerged inlet.
@@ -55,3 +57,32 @@ def example_names() -> list[str]:
 
 def example_path(name: str) -> Path:
     return samples_dir() / f"{name}.toml"
+
+
+def _strings(value: Any) -> Iterator[str]:
+    if isinstance(value, str):
+        yield value
+    elif isinstance(value, dict):
+        for v in value.values():
+            yield from _strings(v)
+    elif isinstance(value, list):
+        for v in value:
+            yield from _strings(v)
+
+
+def example_files(name: str) -> dict[str, bytes]:
+    """The files a bundled sample names beside itself (e.g. its panel's STEP, as
+    ``skin.file``), by file name: ``ductgen init --example`` writes them next to the spec so
+    the copy builds where it is written."""
+    from ductgen.spec.load import tomllib
+
+    folder = samples_dir()
+    values = tomllib.loads(example_path(name).read_text(encoding="utf-8"))
+    found: dict[str, bytes] = {}
+    for text in _strings(values):
+        if "/" in text or "\\" in text or text.endswith(".toml"):
+            continue
+        candidate = folder / text
+        if candidate.is_file():
+            found[text] = candidate.read_bytes()
+    return found
