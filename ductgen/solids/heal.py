@@ -26,7 +26,10 @@ The healed shape replaces the original only if it is valid and of the same type.
 from __future__ import annotations
 
 import math
-from typing import Any
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:  # the kernel's bindings carry no type information: these are Any to mypy
+    from OCP.TopoDS import TopoDS_Shape
 
 __all__ = [
     "MAX_TOLERANCE_MM",
@@ -40,7 +43,7 @@ __all__ = [
 MAX_TOLERANCE_MM = 0.01
 
 
-def exact_sections(w: Any) -> int:
+def exact_sections(w: TopoDS_Shape) -> int:
     """Rebuild every edge between a linear-extrusion face of a B-spline and a plane exactly
     (3D curve and both surface curves, tolerance 1e-7 mm), in place; returns how many."""
     from OCP.BRep import BRep_Builder, BRep_Tool
@@ -124,16 +127,15 @@ def exact_sections(w: Any) -> int:
         cP = Geom2d_BSplineCurve(pp, knots, mults, deg)
         v1, v2 = TopoDS_Vertex(), TopoDS_Vertex()
         TopExp.Vertices_s(e, v1, v2)
-        us = []
+        us: list[float] = []
         for v in (v1, v2):
             pr = GeomAPI_ProjectPointOnCurve(BRep_Tool.Pnt_s(v), c3)
             if pr.NbPoints() == 0 or pr.LowerDistance() > 1e-3:
-                us = None
                 break
             us.append(pr.LowerDistanceParameter())
             if pr.LowerDistance() > BRep_Tool.Tolerance_s(v):  # keep the vertex on the edge
                 B.UpdateVertex(v, 1.5 * pr.LowerDistance())
-        if us is None:
+        if len(us) != 2:  # a vertex off the new curve: leave the edge as it was
             continue
         if us[0] > us[1]:
             c3.Reverse()
@@ -151,7 +153,7 @@ def exact_sections(w: Any) -> int:
     return n_done
 
 
-def extrusions_to_bspline(w: Any) -> int:
+def extrusions_to_bspline(w: TopoDS_Shape) -> int:
     """Replace every linear-extrusion face of a non-rational B-spline by the same surface
     written as a B-spline surface, in place; returns how many.
 
@@ -215,7 +217,7 @@ def extrusions_to_bspline(w: Any) -> int:
     return done
 
 
-def off_surface_edges(shape: Any) -> list[tuple[Any, float]]:
+def off_surface_edges(shape: TopoDS_Shape) -> list[tuple[TopoDS_Shape, float]]:
     """(edge, deviation mm) for every edge whose 3D curve leaves its face's surface by more
     than its tolerance (the argument analyser's curve-on-surface test)."""
     from OCP.BOPAlgo import BOPAlgo_ArgumentAnalyzer, BOPAlgo_CheckStatus
@@ -225,7 +227,7 @@ def off_surface_edges(shape: Any) -> list[tuple[Any, float]]:
     a.ArgumentTypeMode = False
     a.CurveOnSurfaceMode = True
     a.Perform()
-    out = []
+    out: list[tuple[TopoDS_Shape, float]] = []
     for r in a.GetCheckResult():
         if r.GetCheckStatus() == BOPAlgo_CheckStatus.BOPAlgo_InvalidCurveOnSurface:
             out.append((r.GetFaultyShapes1().First(), max(r.GetMaxDistance1(), 0.0)))
@@ -241,7 +243,7 @@ def _round_up(tol: float) -> float:
     return math.ceil(tol / step * (1 - 1e-9)) * step
 
 
-def heal(shape: Any) -> Any:
+def heal(shape: TopoDS_Shape) -> TopoDS_Shape:
     """Heal an OCCT shape for export (see the module docstring); returns the healed
     ``TopoDS_Shape``, or the shape unchanged when healing would make it invalid."""
     from OCP.BRepBuilderAPI import BRepBuilderAPI_Copy

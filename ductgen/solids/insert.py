@@ -30,7 +30,13 @@ import numpy as np
 
 from ductgen.design import Design
 from ductgen.errors import GeometryError
-from ductgen.geometry.fabrication import footprint_end_mm, transition_wall_mm, wall_for_curvature
+from ductgen.geometry.fabrication import (
+    FlangeLayout,
+    Spigot,
+    footprint_end_mm,
+    transition_wall_mm,
+    wall_for_curvature,
+)
 from ductgen.geometry.floor import floor_section
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.solids.cutter import build_cutter, make_transition
@@ -206,7 +212,7 @@ def _cylinder_x(radius: float, x0: float, x1: float, zc: float) -> cq.Solid:
     return cq.Solid.makeCylinder(radius, x1 - x0, V(x0, 0.0, zc), V(1, 0, 0))
 
 
-def _bead(sp, radius: float) -> cq.Solid:  # type: ignore[no-untyped-def]
+def _bead(sp: Spigot, radius: float) -> cq.Solid:
     """Retention bead: a ring whose outer face ramps up towards the free end... reversed:
     it rises gently from the free end (the hose slides on) and drops steeply behind."""
     x0, x1, h, zc = sp.bead_x0_mm, sp.bead_x1_mm, sp.bead_height_mm, sp.centre_z_mm
@@ -223,13 +229,13 @@ def _box(x0: float, x1: float, y0: float, y1: float, z0: float, z1: float) -> cq
     return cq.Solid.makeBox(x1 - x0, y1 - y0, z1 - z0, V(x0, y0, z0))
 
 
-def _drilled(shape: cq.Shape, lay) -> cq.Shape:  # type: ignore[no-untyped-def]
+def _drilled(shape: cq.Shape, lay: FlangeLayout) -> cq.Shape:
     """``shape`` with the flange's fastener holes drilled through (vertical, mm)."""
     if not len(lay.hole_centres_xy):
         return shape
     d = lay.hole_diameter_mm
     z0, z1 = lay.z_bottom_mm - 1.0, lay.z_top_mm + 1.0
-    holes = [
+    holes: list[cq.Shape] = [
         cq.Solid.makeCylinder(d / 2.0, z1 - z0, V(float(x), float(y), z0), V(0, 0, 1))
         for x, y in lay.hole_centres_xy
     ]
@@ -249,7 +255,9 @@ def _convex_curvature(d: Design) -> float:
     return max(float(getattr(sk, "k_stream", 0.0)), float(getattr(sk, "k_span", 0.0)), 0.0)
 
 
-def _wall_body(g: InletGeometry, x_ne: float, r_edge: float, w: float, k: float, z0: float):  # type: ignore[no-untyped-def]
+def _wall_body(
+    g: InletGeometry, x_ne: float, r_edge: float, w: float, k: float, z0: float
+) -> cq.Solid:
     """The walls' outer body down to z0 < 0: the footprint offset by edge round + wall, a
     prism; under a convex skin (k > 0, 1/mm) a ruled loft whose offset grows with depth to
     edge round + wall/(1 − k·|z0|), so the wall measured on the skin is ``w`` at every depth
@@ -305,10 +313,10 @@ def build_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
             pieces.append(_drilled(prism(outline, 0.0, land), lay))
             if ins.feather_width > 0:
                 inset = offset_wire(g, x_top, off + ins.flange_width - ins.feather_width)
-                outer = offset_wire(g, x_top, off + ins.flange_width)
+                edge = offset_wire(g, x_top, off + ins.flange_width)
                 pieces.append(
                     cq.Solid.makeLoft(
-                        [outer.translate(V(0, 0, land)), inset.translate(V(0, 0, tb))], True
+                        [edge.translate(V(0, 0, land)), inset.translate(V(0, 0, tb))], True
                     )
                 )
                 pieces.append(prism(cq.Face.makeFromWires(inset), 0.0, tb))
@@ -383,7 +391,7 @@ def build_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
                 prism(footprint_face(g, x_open, r_edge), 0.0, ins.bezel_thickness + 1.0)
             )
         outer = boolean("fuse", walls, pieces, "insert outer body")
-        inner = cutter if cutter is not None else build_cutter(d)
+        inner: cq.Shape = cutter if cutter is not None else build_cutter(d)
         if inner_extra:
             inner = boolean("fuse", inner, inner_extra, "insert inner body")
         body = boolean("cut", outer, [inner], "insert")

@@ -17,12 +17,19 @@ partition the part exactly, so their volumes sum to the whole. Lengths in mm.
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
 from itertools import pairwise
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
+
+from ductgen.solids.results import InsertPiece
+
+if TYPE_CHECKING:  # the fit is pure numpy: the kernel loads only inside the split's jobs
+    import cadquery as cq
+    from OCP.gp import gp_Trsf
 
 __all__ = [
     "UP_AXES",
@@ -41,10 +48,10 @@ __all__ = [
 #: The last insert each kernel worker built, by the path of its staged STEP file: the split
 #: cuts the solid still in memory (no STEP re-read, and before healing, so the new glue
 #: edges are healed once, with the piece).
-_IN_MEMORY: dict[str, Any] = {}
+_IN_MEMORY: dict[str, cq.Shape] = {}
 
 
-def keep_for_split(step_path: str, solid: Any) -> None:
+def keep_for_split(step_path: str, solid: cq.Shape) -> None:
     """Remember ``solid`` (cadquery, mm) as the insert written to ``step_path``, for
     :func:`split_insert_job` in the same worker (only the latest one is kept)."""
     _IN_MEMORY.clear()
@@ -127,7 +134,8 @@ def stand_on_bed(vertices: np.ndarray, up: str, turn_deg: float) -> np.ndarray:
     t = math.radians(turn_deg)
     rot = np.array([[math.cos(t), -math.sin(t)], [math.sin(t), math.cos(t)]])
     v[:, :2] = v[:, :2] @ rot.T
-    return v - v.min(axis=0)
+    out: np.ndarray = v - v.min(axis=0)
+    return out
 
 
 def bed_fit(vertices: np.ndarray, bed: tuple[float, float, float], up: str = "+z") -> BedFit:
@@ -148,7 +156,7 @@ def bed_fit(vertices: np.ndarray, bed: tuple[float, float, float], up: str = "+z
             best = (key, ex, ey, float(deg))
     assert best is not None
     fits = not best[0][0] and height <= bed[2]
-    return BedFit(fits, up, (best[1], best[2], height), best[3], tuple(bed))  # type: ignore[arg-type]
+    return BedFit(fits, up, (best[1], best[2], height), best[3], (bed[0], bed[1], bed[2]))
 
 
 def _slab_fits(v: np.ndarray, a: float, b: float, bed: tuple[float, float, float], up: str) -> bool:
@@ -185,12 +193,12 @@ def estimate_stations(
 
 
 def split_across_flow(
-    solid: Any,
+    solid: cq.Shape,
     stations_x: list[float],
     key_length: float = 6.0,
     key_fraction: float = 0.4,
     by_planes: bool = True,
-) -> list[Any]:
+) -> list[cq.Shape]:
     """Cut ``solid`` (a cadquery Solid, mm) at x = each station into keyed pieces.
 
     One splitting operation of the kernel (``BRepAlgoAPI_Splitter``) by the planar faces of
@@ -229,8 +237,8 @@ STATION_SHIFTS_MM = (4.0, -4.0, 8.0, -8.0, 12.0, -12.0)
 
 
 def split_shifted(
-    solid: Any, stations_x: list[float], key_length: float = 6.0, by_planes: bool = True
-) -> tuple[list[float], list[Any]]:
+    solid: cq.Shape, stations_x: list[float], key_length: float = 6.0, by_planes: bool = True
+) -> tuple[list[float], list[cq.Shape]]:
     """:func:`split_across_flow`, and where a piece comes out as more than one solid, the
     same split with every station moved by :data:`STATION_SHIFTS_MM` in turn; the stations
     used and the pieces. Raises the first failure when no shift works."""
@@ -250,14 +258,14 @@ def split_shifted(
 
 
 def split_for_bed(
-    solid: Any,
+    solid: cq.Shape,
     vertices: np.ndarray,
     bed: tuple[float, float, float],
     up: str,
     max_pieces: int = 8,
     key_length: float = 6.0,
     by_planes: bool = True,
-) -> tuple[list[float], list[Any]]:
+) -> tuple[list[float], list[cq.Shape]]:
     """Fewest equal pieces across the flow that each fit ``bed`` standing ``up``.
 
     Args:
@@ -293,13 +301,13 @@ def split_insert_job(
     up: str,
     quality: str,
     frame: tuple[list[float], list[list[float]]] | None = None,
-) -> list[dict[str, Any]]:
+) -> list[InsertPiece]:
     """Kernel-worker job: split the staged insert STEP across the flow at ``stations_x`` (or
     at more stations, when a piece still does not fit) and stage each piece as
     ``PREFIX-insert-partK.step/.stl``: the STEP in model coordinates, the STL standing as it
     prints (:func:`stand_on_bed`: ``up`` along +Z, turned ``stl_turn_deg`` about Z, lowest
     point at Z = 0). Returns per piece: file names, volume (mm³, its triangulation), size
-    standing ``up`` (mm), whether it fits ``bed`` and the turn.
+    standing ``up`` (mm), whether it fits ``bed`` and the turn (deg).
 
     ``frame`` (origin, rows x y z): on the user's panel the stations and the bed fit are in
     the datum's frame; the pieces are split there and written back in panel coordinates."""
@@ -329,7 +337,7 @@ def split_insert_job(
         v = triangulate(whole, 0.1, 0.3)[0]
         _, pieces = split_for_bed(whole, v, bed, up, by_planes=by_planes)
         meshes = [triangulate(p, lin, ang) for p in pieces]
-    out = []
+    out: list[InsertPiece] = []
     for k, (piece, (v, f)) in enumerate(zip(pieces, meshes, strict=True), start=1):
         base = f"{prefix}-insert-part{k}"
         tight, winding, volume, _ = mesh_stats(v, f)
@@ -345,20 +353,22 @@ def split_insert_job(
         write_atomic(Path(staging) / f"{base}.step", step_bytes(piece, base))
         write_atomic(Path(staging) / f"{base}.stl", stl_bytes(stand_on_bed(v, up, turn), f, base))
         out.append(
-            {
-                "step": f"{base}.step",
-                "stl": f"{base}.stl",
-                "volume_mm3": volume,
-                "size_mm": list(fit.size_mm),
-                "up": up,
-                "fits": fit.fits,
-                "stl_turn_deg": turn,
-            }
+            InsertPiece(
+                step=f"{base}.step",
+                stl=f"{base}.stl",
+                volume_mm3=volume,
+                size_mm=list(fit.size_mm),
+                up=up,
+                fits=fit.fits,
+                stl_turn_deg=float(turn),
+            )
         )
     return out
 
 
-def _into_frame(shape: Any, frame: tuple[list[float], list[list[float]]]) -> tuple[Any, Any]:
+def _into_frame(
+    shape: cq.Shape, frame: tuple[list[float], list[list[float]]]
+) -> tuple[cq.Shape, Callable[[cq.Shape], cq.Shape]]:
     """``shape`` moved into the frame (origin, rows x y z) and the move back."""
     from OCP.gp import gp_Trsf
 
@@ -370,7 +380,7 @@ def _into_frame(shape: Any, frame: tuple[list[float], list[list[float]]]) -> tup
     return shape.transformShape(_matrix(trsf)), lambda s: s.transformShape(_matrix(back))
 
 
-def _matrix(trsf: Any) -> Any:
+def _matrix(trsf: gp_Trsf) -> cq.Matrix:
     import cadquery as cq
 
     return cq.Matrix(trsf)
