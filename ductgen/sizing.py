@@ -24,10 +24,10 @@ import numpy as np
 from scipy.optimize import brentq
 
 from ductgen.design.build import duct_shape, geometry_from_spec
-from ductgen.errors import SpecError
+from ductgen.errors import DesignWarning, SpecError
 from ductgen.flow.operating_point import solve
 from ductgen.flow.report import flow_section
-from ductgen.flow.stall import steepest_wall_report
+from ductgen.flow.stall import steepest_wall
 from ductgen.flow.system import build_system
 from ductgen.flow.warnings import geometry_warnings
 from ductgen.geometry.inlet import InletGeometry
@@ -61,7 +61,7 @@ class SizeResult:
     spec: Spec
     geometry: InletGeometry
     flow: dict[str, Any]
-    warnings: list[Any]
+    warnings: list[DesignWarning]
     target_m3_s: float
     aspect: float
     limited_by: str = "flow"
@@ -251,8 +251,9 @@ def _rounded_spec(spec0: Spec, depth: float, aspect: float, angle_deg: float) ->
     return spec0.model_copy(update={"throat": throat, "ramp": ramp})
 
 
-def size_result_dict(r: SizeResult) -> dict[str, Any]:
-    """The sizing result with report.json key names (geometry keys at the top level)."""
+def size_result_dict(r: SizeResult, spec_file: Path | None = None) -> dict[str, Any]:
+    """The sizing result with report.json key names (geometry keys at the top level), and
+    ``spec_file`` when the sized spec was written there."""
     g = r.geometry
     out: dict[str, Any] = {
         "name": r.spec.name,
@@ -269,9 +270,12 @@ def size_result_dict(r: SizeResult) -> dict[str, Any]:
         "flow": r.flow,
         "warnings": [w.to_dict() for w in r.warnings],
     }
-    wall = steepest_wall_report(duct_shape(g))
-    if wall:  # the transition's steepest wall and the length that clears the stall line
-        out = {**out, "transition": {"length_mm": g.transition.length_mm, **wall}}  # type: ignore[union-attr]
+    wall = steepest_wall(duct_shape(g))
+    if wall is not None and g.transition is not None:
+        # the transition's steepest wall and the length that clears the stall line
+        out = {**out, "transition": {"length_mm": g.transition.length_mm, **wall.report()}}
+    if spec_file is not None:
+        out["spec_file"] = str(spec_file)
     return out
 
 
@@ -318,11 +322,9 @@ class SizeRequest:
     header: str = ""
 
 
-def run_size(req: SizeRequest) -> dict[str, Any]:
-    """Size the throat and, when asked, write a buildable spec of it (atomically).
-
-    Returns the result with report.json key names (:func:`size_result_dict`), plus
-    ``spec_file`` when a spec was written.
+def run_size(req: SizeRequest) -> SizeResult:
+    """Size the throat and, when asked, write a buildable spec of it (atomically) to
+    ``req.write_spec``; returns the sized inlet (:func:`size_result_dict` is its JSON form).
 
     Raises:
         SpecError: bad input (nothing written); ExportError: the spec file exists.
@@ -351,11 +353,9 @@ def run_size(req: SizeRequest) -> dict[str, Any]:
         name=req.name,
         max_ivr=MAX_IVR if req.max_ivr is None else req.max_ivr,
     )
-    out = size_result_dict(result)
     if req.write_spec is not None:
         data = sized_spec_data(result, raw)
         parse_spec(data, source="(sized spec)")  # it must load back as written
         text = spec_text(data, req.write_spec, req.header)
         write_atomic(req.write_spec, text.encode(), force=req.force)
-        out["spec_file"] = str(req.write_spec)
-    return out
+    return result
