@@ -32,6 +32,7 @@ from ductgen.design import Design
 from ductgen.errors import GeometryError
 from ductgen.geometry.fabrication import (
     FlangeLayout,
+    InsertParams,
     Spigot,
     footprint_end_mm,
     transition_wall_mm,
@@ -282,109 +283,23 @@ def build_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
     """The insert in design coordinates (mm): an outer body minus the cutter. Raises
     :class:`GeometryError` when the kernel fails (the design was checked when it was built).
     """
-    g, fab, lay = d.geometry, d.fab, d.layout
-    ins = fab.insert
-    w = ins.wall
+    g, lay, ins = d.geometry, d.layout, d.fab.insert
     r_edge = g.edge_radius_mm
-    off = w + r_edge
-    t_skin = g.skin_thickness_mm
-    x_top = footprint_end_mm(g)
+    off = ins.wall + r_edge
     x_ne = g.throat_end_mm
-    H = g.drop_mm
-    span = g.width_mm / 2.0 + off + ins.flange_width + 10.0
     k = _convex_curvature(d)
     try:
-        walls = boolean(
-            "intersect",
-            _wall_body(g, x_ne, r_edge, w, k, -H - w - 2.0),
-            [floor_profile_solid(g, w, -off - 2.0, x_ne + off + 1.0, span)],
-            "insert walls",
-        )
-        square = g.transition is None and x_top == x_ne
-        pieces: list[cq.Shape] = [
-            prism(footprint_face(g, x_top, off, square_end=square), -t_skin, 0.0)
-        ]
-        outline = footprint_face(g, x_top, off + ins.flange_width)
-        if ins.mount == "behind":
-            pieces.append(_drilled(prism(outline, lay.z_bottom_mm, lay.z_top_mm), lay))
-        else:
-            tb = ins.bezel_thickness
-            land = min(FEATHER_LAND_MM, tb / 2.0)
-            pieces.append(_drilled(prism(outline, 0.0, land), lay))
-            if ins.feather_width > 0:
-                inset = offset_wire(g, x_top, off + ins.flange_width - ins.feather_width)
-                edge = offset_wire(g, x_top, off + ins.flange_width)
-                pieces.append(
-                    cq.Solid.makeLoft(
-                        [edge.translate(V(0, 0, land)), inset.translate(V(0, 0, tb))], True
-                    )
-                )
-                pieces.append(prism(cq.Face.makeFromWires(inset), 0.0, tb))
-            else:
-                pieces.append(prism(outline, 0.0, tb))
+        walls = _walls(g, ins.wall, ins.flange_width, k)
+        pieces = _skin_and_flange(g, ins, lay, off)
         if g.lip.style == "raised":
             pieces.append(_raised_lip(g, g.width_mm / 2.0 + off))
         inner_extra: list[cq.Shape] = []
-        t = g.transition
-        if t is not None:
-            # inside a convex skin the section's sides close in with depth (the fade only
-            # lessens it): the wall is sized for the deepest point of the outer section
-            wt = transition_wall_mm(g, w)
-            bottom = min(t.floor_z_mm, t.outlet_top_z_mm - t.outlet_height_mm)
-            wt = wall_for_curvature(wt, k, wt - bottom)
-            t_out = dataclasses.replace(
-                t,
-                width_mm=t.width_mm + 2 * wt,
-                roof_z_mm=t.roof_z_mm + wt,
-                floor_z_mm=t.floor_z_mm - wt,
-                outlet_width_mm=t.outlet_width_mm + 2 * wt,
-                outlet_height_mm=t.outlet_height_mm + 2 * wt,
-                outlet_top_z_mm=t.outlet_top_z_mm + wt,
-            )
-            pieces.append(make_transition(t_out))
-            sp = d.spigot
-            if sp is not None:
-                zc = sp.centre_z_mm
-                pieces.append(
-                    _cylinder_x(sp.shoulder_radius_mm, sp.x0_mm, sp.x0_mm + sp.shoulder_mm, zc)
-                )
-                pieces.append(_cylinder_x(sp.od_mm / 2.0, sp.x0_mm, sp.x_end_mm, zc))
-                if sp.bead_height_mm > 0:
-                    pieces.append(_bead(sp, sp.od_mm / 2.0))
-                inner_extra.append(
-                    _cylinder_x(sp.bore_mm / 2.0, sp.x0_mm - 0.5, sp.x_end_mm + 1.0, zc)
-                )
-            else:  # rectangular collar
-                h, top = t.outlet_width_mm / 2.0, t.outlet_top_z_mm
-                bot = top - t.outlet_height_mm
-                x1 = t.x_end_mm + g.spigot_length_mm
-                pieces.append(_box(t.x_end_mm, x1, -h - wt, h + wt, bot - wt, top + wt))
-                inner_extra.append(_box(t.x_end_mm - 0.5, x1 + 1.0, -h, h, bot, top))
-        else:  # open throat exit through the downstream wall
-            # beyond the downstream wall the exit is open up to the skin (the flange is
-            # notched there, rather than left as a sliver over the throat's roof)
-            top = min(g.lip.roof_z_mm, -t_skin)
-            inner_extra.append(
-                _box(
-                    x_ne - 0.5,
-                    x_ne + off + 0.5,
-                    -g.width_mm / 2.0,
-                    g.width_mm / 2.0,
-                    -H,
-                    g.lip.roof_z_mm,
-                )
-            )
-            if max(top, -t_skin) > -H + 1e-6:  # a floor at the skin's inner face: no notch
-                inner_extra.append(
-                    _box(
-                        x_ne + off,
-                        x_ne + off + ins.flange_width + 2.0,
-                        -g.width_mm / 2.0,
-                        g.width_mm / 2.0,
-                        -H,
-                        max(top, -t_skin),
-                    )
-                )
+        if g.transition is not None:
+            outer_parts, inner_parts = _outlet(d, k)
+            pieces += outer_parts
+            inner_extra += inner_parts
+        else:
+            inner_extra += _open_exit(g, ins, off)
         if ins.mount == "surface":
             x_open = g.length_mm if g.lip.style == "raised" else x_ne
             inner_extra.append(
@@ -411,3 +326,102 @@ def build_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
     if len(solids) != 1:
         raise GeometryError("insert", f"expected one solid, the kernel produced {len(solids)}")
     return solids[0]
+
+
+def _walls(g: InletGeometry, w: float, flange_width: float, k: float) -> cq.Shape:
+    """The walls and floor: the wall body (:func:`_wall_body`) cut to the floor profile
+    moved down by the wall ``w`` (mm), across the flange's width (mm) and 10 mm more;
+    ``k`` the convex curvature (1/mm)."""
+    r_edge = g.edge_radius_mm
+    off = w + r_edge
+    x_ne = g.throat_end_mm
+    span = g.width_mm / 2.0 + off + flange_width + 10.0
+    return boolean(
+        "intersect",
+        _wall_body(g, x_ne, r_edge, w, k, -g.drop_mm - w - 2.0),
+        [floor_profile_solid(g, w, -off - 2.0, x_ne + off + 1.0, span)],
+        "insert walls",
+    )
+
+
+def _skin_and_flange(
+    g: InletGeometry, ins: InsertParams, lay: FlangeLayout, off: float
+) -> list[cq.Shape]:
+    """The skin fill (the cut-out through the skin's thickness) and the flange behind the
+    skin, or the surface bezel (feathered to :data:`FEATHER_LAND_MM`), holes drilled; ``off``
+    the walls' reach beyond the cavity (mm)."""
+    x_top = footprint_end_mm(g)
+    square = g.transition is None and x_top == g.throat_end_mm
+    pieces: list[cq.Shape] = [
+        prism(footprint_face(g, x_top, off, square_end=square), -g.skin_thickness_mm, 0.0)
+    ]
+    outline = footprint_face(g, x_top, off + ins.flange_width)
+    if ins.mount == "behind":
+        pieces.append(_drilled(prism(outline, lay.z_bottom_mm, lay.z_top_mm), lay))
+        return pieces
+    tb = ins.bezel_thickness
+    land = min(FEATHER_LAND_MM, tb / 2.0)
+    pieces.append(_drilled(prism(outline, 0.0, land), lay))
+    if ins.feather_width > 0:
+        inset = offset_wire(g, x_top, off + ins.flange_width - ins.feather_width)
+        edge = offset_wire(g, x_top, off + ins.flange_width)
+        pieces.append(
+            cq.Solid.makeLoft([edge.translate(V(0, 0, land)), inset.translate(V(0, 0, tb))], True)
+        )
+        pieces.append(prism(cq.Face.makeFromWires(inset), 0.0, tb))
+    else:
+        pieces.append(prism(outline, 0.0, tb))
+    return pieces
+
+
+def _outlet(d: Design, k: float) -> tuple[list[cq.Shape], list[cq.Shape]]:
+    """The transition's outer wall and the spigot (shoulder, tube, bead) or rectangular
+    collar: the pieces to add to the outer body and to the inner one (the bore), mm; ``k``
+    the convex curvature (1/mm)."""
+    g = d.geometry
+    t = g.transition
+    assert t is not None
+    # inside a convex skin the section's sides close in with depth (the fade only lessens
+    # it): the wall is sized for the deepest point of the outer section
+    wt = transition_wall_mm(g, d.fab.insert.wall)
+    bottom = min(t.floor_z_mm, t.outlet_top_z_mm - t.outlet_height_mm)
+    wt = wall_for_curvature(wt, k, wt - bottom)
+    t_out = dataclasses.replace(
+        t,
+        width_mm=t.width_mm + 2 * wt,
+        roof_z_mm=t.roof_z_mm + wt,
+        floor_z_mm=t.floor_z_mm - wt,
+        outlet_width_mm=t.outlet_width_mm + 2 * wt,
+        outlet_height_mm=t.outlet_height_mm + 2 * wt,
+        outlet_top_z_mm=t.outlet_top_z_mm + wt,
+    )
+    outer: list[cq.Shape] = [make_transition(t_out)]
+    sp = d.spigot
+    if sp is not None:
+        zc = sp.centre_z_mm
+        outer.append(_cylinder_x(sp.shoulder_radius_mm, sp.x0_mm, sp.x0_mm + sp.shoulder_mm, zc))
+        outer.append(_cylinder_x(sp.od_mm / 2.0, sp.x0_mm, sp.x_end_mm, zc))
+        if sp.bead_height_mm > 0:
+            outer.append(_bead(sp, sp.od_mm / 2.0))
+        return outer, [_cylinder_x(sp.bore_mm / 2.0, sp.x0_mm - 0.5, sp.x_end_mm + 1.0, zc)]
+    # rectangular collar
+    h, top = t.outlet_width_mm / 2.0, t.outlet_top_z_mm
+    bot = top - t.outlet_height_mm
+    x1 = t.x_end_mm + g.spigot_length_mm
+    outer.append(_box(t.x_end_mm, x1, -h - wt, h + wt, bot - wt, top + wt))
+    return outer, [_box(t.x_end_mm - 0.5, x1 + 1.0, -h, h, bot, top)]
+
+
+def _open_exit(g: InletGeometry, ins: InsertParams, off: float) -> list[cq.Shape]:
+    """Without a transition, the throat's exit open through the downstream wall, and
+    beyond it up to the skin (the flange is notched there, rather than left as a sliver
+    over the throat's roof): pieces of the inner body (mm); ``off`` the walls' reach."""
+    x_ne, h, hw = g.throat_end_mm, g.drop_mm, g.width_mm / 2.0
+    t_skin = g.skin_thickness_mm
+    top = min(g.lip.roof_z_mm, -t_skin)
+    inner: list[cq.Shape] = [_box(x_ne - 0.5, x_ne + off + 0.5, -hw, hw, -h, g.lip.roof_z_mm)]
+    if max(top, -t_skin) > -h + 1e-6:  # a floor at the skin's inner face: no notch
+        inner.append(
+            _box(x_ne + off, x_ne + off + ins.flange_width + 2.0, -hw, hw, -h, max(top, -t_skin))
+        )
+    return inner
