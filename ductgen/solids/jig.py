@@ -33,7 +33,7 @@ from ductgen.geometry.jig import (
     jig_layout,
     jig_stations,
 )
-from ductgen.solids.insert import offset_wire, prism
+from ductgen.solids.footprint import offset_wire, prism
 from ductgen.solids.primitives import boolean, polyline_edges
 
 __all__ = ["build_jig", "jig_job", "split_jig"]
