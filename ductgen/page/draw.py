@@ -24,8 +24,8 @@ from typing import Any
 import numpy as np
 
 from ductgen.design import Design
+from ductgen.sheets.skin_section import XZ, section_maps
 from ductgen.sheets.skin_section import dense as densified
-from ductgen.sheets.skin_section import section_maps
 
 __all__ = ["SKIN_CAPTIONS", "densified", "plan_svg", "section_svg", "skin_caption"]
 
@@ -188,34 +188,13 @@ def section_svg(d: Design, samples: int = 160) -> str:
     """Centreline section (flow left to right, outer skin at the top); on a curved skin
     drawn on the skin (see the module text)."""
     g = d.geometry
-    fl, lip, t = g.floor, g.lip, g.transition
-    length, h = g.length_mm, g.drop_mm
     x_end = g.outlet_x_mm + g.spigot_length_mm
-    xs = np.linspace(0.0, g.throat_end_mm, samples)
-    floor = list(zip(xs.tolist(), (-fl.depth(xs)).tolist(), strict=True))
-    roof = [(lip.nose_end_mm, lip.roof_z_mm), (g.throat_end_mm, lip.roof_z_mm)]
-    if t is not None:
-        bottom = t.outlet_top_z_mm - t.outlet_height_mm
-        floor += [(t.x_end_mm, bottom), (x_end, bottom)]
-        roof += [(t.x_end_mm, t.outlet_top_z_mm), (x_end, t.outlet_top_z_mm)]
-    zmin = min(z for _, z in floor)
     span = max(x_end, 1.0)
     fs = span * 0.03
     gap = fs * 2.0
-    ts = g.skin_thickness_mm
-    xu = -0.12 * span
-    air = [(0.0, 0.0), *floor, *roof[::-1], (length, lip.centre_z_mm), (length, 0.0)]
-    body = [*lip.nose(), *roof, (x_end, max(0.0, lip.centre_z_mm + lip.semi_minor_mm))]
-    x_far = x_end + gap
-    table = getattr(d.skin, "u", None)  # the user's panel is mapped over a table only
-    if isinstance(table, np.ndarray) and table.size:
-        xu, x_far = max(xu, float(table[0])), min(x_far, float(table[-1]))
-    skin_a = [(xu, 0.0), (0.0, 0.0), (0.0, -ts), (xu, -ts)]
-    skin_b = [(lip.nose_end_mm, 0.0), (x_far, 0.0), (x_far, -ts), (lip.nose_end_mm, -ts)]
-    top = [(xu, 0.0), (x_far, 0.0)]
+    shapes, skins, xu = _section_outlines(d, samples, x_end, gap)
+    zmin = min(z for _, z in shapes["floor"])
     maps = section_maps(d)
-    shapes = {"air": air, "floor": floor, "roof": roof, "body": body}
-    skins = {"a": skin_a, "b": skin_b, "top": top}
     if maps is not None:
         step = span / 60.0
         shapes = {k: maps[0](densified(v, step)) for k, v in shapes.items()}  # type: ignore[misc]
@@ -232,10 +211,74 @@ def section_svg(d: Design, samples: int = 160) -> str:
     ]
     drawn = np.vstack([np.asarray(v, dtype=float) for v in (shapes | skins).values()])
     zmin = min(zmin, float(drawn[:, 1].min()))
+    yd = -gap
+    parts += _section_labels(d, maps, zmin, xu, yd, fs, gap)
+    ymax = -zmin + 3 * fs
+    return _frame(
+        "section",
+        min(xu, float(drawn[:, 0].min())) - gap,
+        min(yd, -float(drawn[:, 1].max())) - 3 * fs,
+        max(x_end, float(drawn[:, 0].max())) + 3 * gap,
+        max(ymax, g.drop_mm + 3 * fs),
+        "".join(parts),
+        f"centreline section of {d.name}",
+    )
+
+
+Outline = list[tuple[float, float]]
+
+
+def _section_outlines(
+    d: Design, samples: int, x_end: float, gap: float
+) -> tuple[dict[str, Outline], dict[str, Outline], float]:
+    """The section's outlines in design (u, w) (mm): the parts (``air``, ``floor``,
+    ``roof``, the lip's ``body``) and the skin (``a`` ahead of the opening, ``b`` behind
+    it, its ``top`` line), and the u where the skin drawn ahead begins (mm)."""
+    g = d.geometry
+    fl, lip, t = g.floor, g.lip, g.transition
+    length = g.length_mm
+    xs = np.linspace(0.0, g.throat_end_mm, samples)
+    floor = list(zip(xs.tolist(), (-fl.depth(xs)).tolist(), strict=True))
+    roof = [(lip.nose_end_mm, lip.roof_z_mm), (g.throat_end_mm, lip.roof_z_mm)]
+    if t is not None:
+        bottom = t.outlet_top_z_mm - t.outlet_height_mm
+        floor += [(t.x_end_mm, bottom), (x_end, bottom)]
+        roof += [(t.x_end_mm, t.outlet_top_z_mm), (x_end, t.outlet_top_z_mm)]
+    span = max(x_end, 1.0)
+    ts = g.skin_thickness_mm
+    xu = -0.12 * span
+    air = [(0.0, 0.0), *floor, *roof[::-1], (length, lip.centre_z_mm), (length, 0.0)]
+    body = [*lip.nose(), *roof, (x_end, max(0.0, lip.centre_z_mm + lip.semi_minor_mm))]
+    x_far = x_end + gap
+    table = getattr(d.skin, "u", None)  # the user's panel is mapped over a table only
+    if isinstance(table, np.ndarray) and table.size:
+        xu, x_far = max(xu, float(table[0])), min(x_far, float(table[-1]))
+    skin_a = [(xu, 0.0), (0.0, 0.0), (0.0, -ts), (xu, -ts)]
+    skin_b = [(lip.nose_end_mm, 0.0), (x_far, 0.0), (x_far, -ts), (lip.nose_end_mm, -ts)]
+    top = [(xu, 0.0), (x_far, 0.0)]
+    shapes = {"air": air, "floor": floor, "roof": roof, "body": body}
+    return shapes, {"a": skin_a, "b": skin_b, "top": top}, xu
+
+
+def _section_labels(
+    d: Design,
+    maps: tuple[XZ, XZ] | None,
+    zmin: float,
+    xu: float,
+    yd: float,
+    fs: float,
+    gap: float,
+) -> list[str]:
+    """The section's dimensions and labels (mm, deg): L above the skin, H at the lip
+    station, the ramp angle along the ramp, the flow arrow, the transition's start and
+    outlet; ``zmin`` the lowest drawn point, ``yd`` the height of the L line, ``fs`` the
+    font size."""
+    g = d.geometry
+    fl, t = g.floor, g.transition
+    length, h = g.length_mm, g.drop_mm
+    parts: list[str] = []
     if t is not None:
         parts.append(_line(t.x_start_mm, 0.0, t.x_start_mm, -zmin + gap * 0.3, "thin"))
-    # L above the skin, H at the lip station, the ramp angle along the ramp
-    yd = -gap
     parts.append(_line(0.0, 0.0, 0.0, yd - 0.5 * fs, "thin"))
     parts.append(_line(length, 0.0, length, yd - 0.5 * fs, "thin"))
     parts.append(_dim((0.0, yd), (length, yd), f"L {length:.1f}", fs, "L"))
@@ -277,16 +320,7 @@ def section_svg(d: Design, samples: int = 160) -> str:
                 fs * 0.9,
             )
         )
-    ymax = -zmin + 3 * fs
-    return _frame(
-        "section",
-        min(xu, float(drawn[:, 0].min())) - gap,
-        min(yd, -float(drawn[:, 1].max())) - 3 * fs,
-        max(x_end, float(drawn[:, 0].max())) + 3 * gap,
-        max(ymax, h + 3 * fs),
-        "".join(parts),
-        f"centreline section of {d.name}",
-    )
+    return parts
 
 
 def _flat_caption(d: Design, skin: dict[str, Any]) -> str:
