@@ -12,6 +12,9 @@ from ductgen.cli.common import err_console
 from ductgen.spec.model import DEFAULT_RAMP_ANGLE_DEG
 
 if TYPE_CHECKING:
+    from rich.table import Table
+
+    from ductgen.flow.record import FlowRecord
     from ductgen.sizing import SizeResult
 
 __all__ = ["size_command"]
@@ -158,21 +161,29 @@ def _print(r: SizeResult) -> None:
         t.add_row(a, b)
     con.print(t)
     if f.found:
-        budget = Table(
-            "element",
-            "V m/s",
-            "K",
-            "Δp Pa",
-            title="pressure budget (sums to the recovered pressure)",
-        )
-        for item in f.budget:
-            budget.add_row(
-                item.element,
-                "" if item.velocity_m_s is None else f"{item.velocity_m_s:.2f}",
-                "" if item.k is None else f"{item.k:.3f}",
-                f"{item.dp_pa:.1f}",
-            )
-        budget.add_row("recovered", "", "", f"{f.recovered_total_pressure_pa:.1f}")
-        con.print(budget)
+        con.print(_budget_table(f))
     for w in r.warnings:
         err_console.print(f"warning {w.code}: {w.message}", soft_wrap=True)
+
+
+def _budget_table(f: FlowRecord) -> Table:
+    """The pressure budget at the operating point (m/s, K, Pa), summing to the recovered
+    pressure."""
+    from rich.table import Table
+
+    budget = Table(
+        "element",
+        "V m/s",
+        "K",
+        "Δp Pa",
+        title="pressure budget (sums to the recovered pressure)",
+    )
+    for item in f.budget:
+        budget.add_row(
+            item.element,
+            "" if item.velocity_m_s is None else f"{item.velocity_m_s:.2f}",
+            "" if item.k is None else f"{item.k:.3f}",
+            f"{item.dp_pa:.1f}",
+        )
+    budget.add_row("recovered", "", "", f"{f.recovered_total_pressure_pa:.1f}")
+    return budget
