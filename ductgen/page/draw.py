@@ -106,9 +106,7 @@ def _frame(
 def plan_svg(d: Design) -> str:
     """Plan view of the opening and the flange seen from outside (flow left to right)."""
     g, lay = d.geometry, d.layout
-    w, length = g.width_mm, g.length_mm
-    flat = d.development.xy  # the template's flattening; the identity where it is exact
-    outline = flat(lay.outline_xy)
+    outline = d.development.xy(lay.outline_xy)  # flattened as the template; exact: identity
     x0, x1 = float(outline[:, 0].min()), float(outline[:, 0].max())
     y0, y1 = float(outline[:, 1].min()), float(outline[:, 1].max())
     t = g.transition
@@ -117,6 +115,25 @@ def plan_svg(d: Design) -> str:
     span = max(x1 - x0, y1 - y0)
     fs = span * 0.035
     gap = fs * 2.2
+    parts = _plan_parts(d, outline) + _plan_dimensions(d, outline, (x0, x1, y0, y1), fs, gap)
+    return _frame(
+        "plan",
+        x0 - 5 * gap,
+        -y1 - 2 * gap,
+        x1 + 5 * gap,
+        -y0 + 4 * gap,
+        "".join(parts),
+        f"plan view of {d.name}",
+    )
+
+
+def _plan_parts(d: Design, outline: np.ndarray) -> list[str]:
+    """The plan's shapes (mm, flattened as the template): the flange (``outline``), the
+    skin's cut-out, the transition's footprint, the opening and the holes."""
+    g, lay = d.geometry, d.layout
+    w = g.width_mm
+    flat = d.development.xy
+    t = g.transition
     parts = [
         f'<polygon id="plan-flange" points="{_pts(outline)}" fill="{_FLANGE}" class="ln"/>',
         f'<polygon id="plan-cutout" points="{_pts(flat(lay.cutout_xy))}" class="thin"/>',
@@ -144,7 +161,23 @@ def plan_svg(d: Design) -> str:
         parts.append(
             f'<circle class="ln hole" fill="#ffffff" cx="{hx:.2f}" cy="{-hy:.2f}" r="{r:.2f}"/>'
         )
-    parts.append(_line(x0 - gap, 0.0, x1 + gap, 0.0, "axis"))
+    return parts
+
+
+def _plan_dimensions(
+    d: Design,
+    outline: np.ndarray,
+    box: tuple[float, float, float, float],
+    fs: float,
+    gap: float,
+) -> list[str]:
+    """The plan's axis, dimensions and notes (mm): W at the lip station, L, the flange's
+    length and width, the flow arrow and the flange's note; ``box`` (x0, x1, y0, y1) the
+    drawn extent, ``fs`` the font size, ``gap`` the dimension lines' offset."""
+    g, lay = d.geometry, d.layout
+    w, length = g.width_mm, g.length_mm
+    x0, x1, y0, y1 = box
+    parts = [_line(x0 - gap, 0.0, x1 + gap, 0.0, "axis")]
     # W at the lip station, dimensioned beyond the flange's downstream end
     xd = x1 + gap
     parts.append(_line(length, -w / 2.0, xd + fs, -w / 2.0, "thin"))
@@ -173,15 +206,7 @@ def plan_svg(d: Design) -> str:
     holes = len(lay.hole_centres_xy)
     note = f"flange {lay.flange_width_mm:g} wide, {holes} holes Ø{lay.hole_diameter_mm:g}"
     parts.append(_text(x0 + (x1 - x0) / 2.0, -y1 - gap * 0.6, note, fs * 0.9))
-    return _frame(
-        "plan",
-        x0 - 5 * gap,
-        -y1 - 2 * gap,
-        x1 + 5 * gap,
-        -y0 + 4 * gap,
-        "".join(parts),
-        f"plan view of {d.name}",
-    )
+    return parts
 
 
 def section_svg(d: Design, samples: int = 160) -> str:
