@@ -119,6 +119,48 @@ def _base_spec(base: Spec | None, flow_m3_s: float, speed_m_s: float, name: str 
     return base.model_copy(update=upd)
 
 
+def _depth_for_ivr(
+    q_of: Callable[[float], float],
+    ivr_of: Callable[[float, float], float],
+    grid: np.ndarray,
+    qs: list[float],
+    depth: float,
+    max_ivr: float,
+    d_max: float,
+) -> float:
+    """The depth (mm) above ``depth`` where the inlet velocity ratio falls to ``max_ivr``
+    (bracketed on ``grid``, where the flows are ``qs``, then Brent's method); ``d_max`` the
+    deepest throat tried (mm)."""
+    excess = [ivr_of(d, q) - max_ivr for d, q in zip(grid, qs, strict=True)]
+    j = next((i for i, e in enumerate(excess) if grid[i] > depth and e <= 0), None)
+    if j is None:
+        raise SpecError(
+            "--max-ivr",
+            max_ivr,
+            "a larger limit",
+            f"no throat up to {d_max:g} mm keeps IVR below it",
+        )
+    lo = max(depth, float(grid[j - 1]))
+    return float(brentq(lambda d: ivr_of(d, q_of(d)) - max_ivr, lo, grid[j], xtol=1e-6))
+
+
+def _check_not_below_smallest(
+    q_of: Callable[[float], float], depth: float, aspect: float, flow_m3_s: float
+) -> None:
+    """Raise :class:`SpecError` when ``depth`` (mm) is below the smallest throat the spec
+    builds at W/D ``aspect``: that throat already delivers more than ``flow_m3_s``."""
+    d_min = max(_limit("depth", "ge"), _limit("width", "ge") / aspect)
+    if depth < d_min:  # a throat below the spec's smallest would not build
+        q_min = q_of(d_min)
+        raise SpecError(
+            "--flow",
+            flow_m3_s,
+            f">= {q_min:.3g} m^3/s for this speed and system",
+            f"the smallest throat ductgen builds ({aspect * d_min:g} x {d_min:g} mm at W/D "
+            f"{aspect:g}) already delivers {q_min:.3g} m^3/s; a smaller flow needs no sizing",
+        )
+
+
 def size_throat(
     flow_m3_s: float,
     speed_m_s: float,
@@ -164,27 +206,8 @@ def size_throat(
     limited_by = "flow"
     if ivr_of(depth, q_of(depth)) > max_ivr:
         limited_by = "ivr"
-        excess = [ivr_of(d, q) - max_ivr for d, q in zip(grid, qs, strict=True)]
-        j = next((i for i, e in enumerate(excess) if grid[i] > depth and e <= 0), None)
-        if j is None:
-            raise SpecError(
-                "--max-ivr",
-                max_ivr,
-                "a larger limit",
-                f"no throat up to {d_max:g} mm keeps IVR below it",
-            )
-        lo = max(depth, float(grid[j - 1]))
-        depth = float(brentq(lambda d: ivr_of(d, q_of(d)) - max_ivr, lo, grid[j], xtol=1e-6))
-    d_min = max(_limit("depth", "ge"), _limit("width", "ge") / aspect)
-    if depth < d_min:  # a throat below the spec's smallest would not build
-        q_min = q_of(d_min)
-        raise SpecError(
-            "--flow",
-            flow_m3_s,
-            f">= {q_min:.3g} m^3/s for this speed and system",
-            f"the smallest throat ductgen builds ({aspect * d_min:g} x {d_min:g} mm at W/D "
-            f"{aspect:g}) already delivers {q_min:.3g} m^3/s; a smaller flow needs no sizing",
-        )
+        depth = _depth_for_ivr(q_of, ivr_of, grid, qs, depth, max_ivr, d_max)
+    _check_not_below_smallest(q_of, depth, aspect, flow_m3_s)
     spec = _rounded_spec(spec0, depth, aspect, angle_deg)
     g = geometry_from_spec(spec)
     assert spec.flow is not None
