@@ -150,8 +150,8 @@ def _pieces_for_bed(
     """The fewest equal pieces (1-8 along the flow) whose mapped meshes fit the bed
     lying as on the skin (:func:`_stand`)."""
     from ductgen.errors import GeometryError
+    from ductgen.solids.bed import bed_fit
     from ductgen.solids.jobs import mapped_mesh
-    from ductgen.solids.split import bed_fit
 
     fn, k = d.skin.to_model, d.placement.curvature
     for n in range(1, 9):
@@ -288,10 +288,10 @@ def _write_piece(
     from ductgen.atomic import write_atomic
     from ductgen.errors import GeometryError
     from ductgen.meshstats import mesh_stats
+    from ductgen.solids.bed import bed_fit
     from ductgen.solids.cad_io import step_bytes, stl_bytes
     from ductgen.solids.deform import map_solid
     from ductgen.solids.jobs import mapped_mesh
-    from ductgen.solids.split import bed_fit
 
     fn, k = d.skin.to_model, d.placement.curvature
     lin, ang = mesh_quality
