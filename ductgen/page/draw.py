@@ -11,15 +11,13 @@ drawing reads as seen from outside and from the side); strokes do not scale.
 
 On a curved skin or the user's panel the section is drawn on the skin: every point of the
 centreline section goes through the design's maps (depths along the normal), as the solids
-do. The plan is the opening developed flat, as the template is; :func:`skin_caption` says
-which of the two drawings is flat and by how much the development stretches lengths.
+do. The plan is the opening developed flat, as the template is; :mod:`~ductgen.page.captions`
+says which of the two drawings is flat and how much the development stretches lengths.
 """
 
 from __future__ import annotations
 
-from collections.abc import Callable
 from html import escape
-from typing import Any
 
 import numpy as np
 
@@ -27,7 +25,7 @@ from ductgen.design import Design
 from ductgen.sheets.skin_section import XZ, section_maps
 from ductgen.sheets.skin_section import dense as densified
 
-__all__ = ["SKIN_CAPTIONS", "densified", "plan_svg", "section_svg", "skin_caption"]
+__all__ = ["densified", "plan_svg", "section_svg"]
 
 _INK = "#1d2b36"
 _OPENING = "#2f6f73"
@@ -346,57 +344,3 @@ def _section_labels(
             )
         )
     return parts
-
-
-def _flat_caption(d: Design, skin: dict[str, Any]) -> str:
-    return "flat skin: both drawings are true to scale"
-
-
-def _curved_caption(d: Design, skin: dict[str, Any]) -> str:
-    shape = skin["shape"]
-    if shape == "cylinder":
-        what = f"cylinder R {skin['radius_mm']:g} mm ({skin['side']}, axis {skin['axis']})"
-        along = skin["axis"] == "spanwise"
-    else:
-        what = (
-            f"doubly curved R {skin['radius_streamwise_mm']:g} along / "
-            f"{skin['radius_spanwise_mm']:g} across mm ({skin['side']})"
-        )
-        along = True
-    section = (
-        "section drawn on the curved skin, depths along its normal"
-        if along
-        else "the skin curves across the flow only, so the centreline section is true"
-    )
-    return f"{what}: {section}; plan drawn flat as the developed opening ({_stretch(d)})"
-
-
-def _panel_caption(d: Design, skin: dict[str, Any]) -> str:
-    return (
-        f"your panel {skin.get('file', '')}: section drawn on the panel along the centreline "
-        f"(its frame at the datum, x along the flow); plan drawn flat as the developed "
-        f"opening ({_stretch(d)})"
-    )
-
-
-def _stretch(d: Design) -> str:
-    dev = d.development
-    if dev.exact:
-        return "developed exactly"
-    return f"lengths stretched up to {dev.max_length_distortion_pct:.2f} %"
-
-
-#: ``skin.shape`` → the caption under the drawings (total over the spec's shapes).
-SKIN_CAPTIONS: dict[str, Callable[[Design, dict[str, Any]], str]] = {
-    "flat": _flat_caption,
-    "cylinder": _curved_caption,
-    "doubly": _curved_caption,
-    "panel": _panel_caption,
-}
-
-
-def skin_caption(d: Design) -> str:
-    """What the two drawings show of the skin: which one is drawn flat, and how much the
-    developed plan stretches lengths."""
-    skin = dict(d.skin_summary)
-    return SKIN_CAPTIONS[str(skin.get("shape", "flat"))](d, skin)

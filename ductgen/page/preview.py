@@ -16,7 +16,8 @@ from ductgen.design import Design, build_design
 from ductgen.display import SHOWN
 from ductgen.errors import DesignWarning, DuctgenError, SpecError
 from ductgen.flow.record import FlowRecord
-from ductgen.page.draw import plan_svg, section_svg, skin_caption
+from ductgen.page.captions import skin_caption
+from ductgen.page.draw import plan_svg, section_svg
 from ductgen.page.panel_view import panel_svg
 from ductgen.spec import Spec, parse_spec
 
