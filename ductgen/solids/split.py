@@ -160,9 +160,10 @@ def split_insert_job(
     """Kernel-worker job: split the staged insert STEP across the flow at ``stations_x`` (or
     at more stations, when a piece still does not fit) and stage each piece as
     ``PREFIX-insert-partK.step/.stl``: the STEP in model coordinates, the STL standing as it
-    prints (:func:`stand_on_bed`: ``up`` along +Z, turned ``stl_turn_deg`` about Z, lowest
-    point at Z = 0). Returns per piece: file names, volume (mm³, its triangulation), size
-    standing ``up`` (mm), whether it fits ``bed`` and the turn (deg).
+    prints (:func:`~ductgen.solids.bed.stand_on_bed`: ``up`` along +Z, turned
+    ``stl_turn_deg`` about Z, lowest point at Z = 0). Returns per piece: file names, volume
+    (mm³, its triangulation), size standing ``up`` (mm), whether it fits ``bed`` and the
+    turn (deg).
 
     ``frame`` (origin, rows x y z): on the user's panel the stations and the bed fit are in
     the datum's frame; the pieces are split there and written back in panel coordinates."""
