@@ -24,6 +24,8 @@ from ductgen.worker import stage
 if TYPE_CHECKING:
     import numpy as np
 
+    from ductgen.solids.check import SolidCheck
+
 __all__ = [
     "SOLID_KINDS",
     "SolidRecipe",
@@ -189,9 +191,8 @@ def _one_solid(
     ``BASE.step`` and ``BASE.stl`` into ``staging`` (see :func:`build_solids`)."""
     import time
 
-    from ductgen.solids.check import CHECK_MESH, CHECK_MESH_CURVED, check_solid
+    from ductgen.solids.check import CHECK_MESH, CHECK_MESH_CURVED
     from ductgen.solids.deform import place
-    from ductgen.solids.mesh import triangulate
 
     curved = d.placement.curvature != 0.0
     check_mesh = CHECK_MESH_CURVED if curved else CHECK_MESH
@@ -205,21 +206,7 @@ def _one_solid(
     t0 = time.perf_counter()
     stage(f"{kind} check")
     fn = d.placement.plug_map if kind == "plug" else d.placement.solid_map
-    # curved: the flat design's triangulation, mapped (independent of the mapped B-rep);
-    # made once for the expected volume, the STL and the wetted area
-    design_mesh = triangulate(flat, *CHECK_MESH) if curved else None
-    expected = (
-        mapped_volume_mm3(flat, fn, design_mesh=design_mesh) if curved else recipe.expected(d)
-    )
-    res = check_solid(
-        solid,
-        kind,
-        expected,
-        DEFAULT_TOLERANCES,
-        recipe.volume_rel,
-        check_mesh,
-        exact_volume=curved,
-    )
+    res, design_mesh = _checked(d, kind, recipe, flat, solid, fn)
     times["check_s"] = time.perf_counter() - t0
     t0 = time.perf_counter()
     stage(f"{kind} STEP")
@@ -246,6 +233,35 @@ def _one_solid(
         seconds=times,
         wetted_area_mm2=wetted,
     )
+
+
+def _checked(
+    d: Design, kind: str, recipe: SolidRecipe, flat: Any, solid: Any, fn: Any
+) -> tuple[SolidCheck, tuple[Any, Any] | None]:
+    """The placed ``solid``'s check against its expected volume (mm³): on a flat skin the
+    recipe's independent integral, on a curved one the volume of the flat design's
+    triangulation mapped through ``fn`` (independent of the mapped B-rep). Returns the
+    check and that design triangulation (None on a flat skin), made once for the expected
+    volume, the STL and the wetted area."""
+    from ductgen.solids.check import CHECK_MESH, CHECK_MESH_CURVED, check_solid
+    from ductgen.solids.mesh import triangulate
+
+    curved = d.placement.curvature != 0.0
+    check_mesh = CHECK_MESH_CURVED if curved else CHECK_MESH
+    design_mesh = triangulate(flat, *CHECK_MESH) if curved else None
+    expected = (
+        mapped_volume_mm3(flat, fn, design_mesh=design_mesh) if curved else recipe.expected(d)
+    )
+    res = check_solid(
+        solid,
+        kind,
+        expected,
+        DEFAULT_TOLERANCES,
+        recipe.volume_rel,
+        check_mesh,
+        exact_volume=curved,
+    )
+    return res, design_mesh
 
 
 def _write_step(d: Design, kind: str, solid: Any, base: str, staging: str) -> str:
