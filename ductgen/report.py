@@ -199,7 +199,7 @@ def _bed_section(
     (estimate from the mesh; the pieces themselves: :func:`ductgen.solids.split.split_for_bed`).
     Also the axis the insert stands on and its split (None when it fits)."""
     from ductgen.printability import overhang_by_orientation
-    from ductgen.solids.split import bed_fit, estimate_stations
+    from ductgen.solids.bed import bed_fit, estimate_stations
 
     warnings: list[DesignWarning] = []
     bed = spec.print.bed

@@ -24,10 +24,10 @@ import numpy as np
 from scipy.optimize import brentq
 
 from ductgen.design.build import duct_shape, geometry_from_spec
-from ductgen.errors import SpecError
+from ductgen.errors import DesignWarning, SpecError
 from ductgen.flow.operating_point import solve
 from ductgen.flow.report import flow_section
-from ductgen.flow.stall import steepest_wall_report
+from ductgen.flow.stall import steepest_wall
 from ductgen.flow.system import build_system
 from ductgen.flow.warnings import geometry_warnings
 from ductgen.geometry.inlet import InletGeometry
@@ -61,7 +61,7 @@ class SizeResult:
     spec: Spec
     geometry: InletGeometry
     flow: dict[str, Any]
-    warnings: list[Any]
+    warnings: list[DesignWarning]
     target_m3_s: float
     aspect: float
     limited_by: str = "flow"
@@ -119,6 +119,48 @@ def _base_spec(base: Spec | None, flow_m3_s: float, speed_m_s: float, name: str 
     return base.model_copy(update=upd)
 
 
+def _depth_for_ivr(
+    q_of: Callable[[float], float],
+    ivr_of: Callable[[float, float], float],
+    grid: np.ndarray,
+    qs: list[float],
+    depth: float,
+    max_ivr: float,
+    d_max: float,
+) -> float:
+    """The depth (mm) above ``depth`` where the inlet velocity ratio falls to ``max_ivr``
+    (bracketed on ``grid``, where the flows are ``qs``, then Brent's method); ``d_max`` the
+    deepest throat tried (mm)."""
+    excess = [ivr_of(d, q) - max_ivr for d, q in zip(grid, qs, strict=True)]
+    j = next((i for i, e in enumerate(excess) if grid[i] > depth and e <= 0), None)
+    if j is None:
+        raise SpecError(
+            "--max-ivr",
+            max_ivr,
+            "a larger limit",
+            f"no throat up to {d_max:g} mm keeps IVR below it",
+        )
+    lo = max(depth, float(grid[j - 1]))
+    return float(brentq(lambda d: ivr_of(d, q_of(d)) - max_ivr, lo, grid[j], xtol=1e-6))
+
+
+def _check_not_below_smallest(
+    q_of: Callable[[float], float], depth: float, aspect: float, flow_m3_s: float
+) -> None:
+    """Raise :class:`SpecError` when ``depth`` (mm) is below the smallest throat the spec
+    builds at W/D ``aspect``: that throat already delivers more than ``flow_m3_s``."""
+    d_min = max(_limit("depth", "ge"), _limit("width", "ge") / aspect)
+    if depth < d_min:  # a throat below the spec's smallest would not build
+        q_min = q_of(d_min)
+        raise SpecError(
+            "--flow",
+            flow_m3_s,
+            f">= {q_min:.3g} m^3/s for this speed and system",
+            f"the smallest throat ductgen builds ({aspect * d_min:g} x {d_min:g} mm at W/D "
+            f"{aspect:g}) already delivers {q_min:.3g} m^3/s; a smaller flow needs no sizing",
+        )
+
+
 def size_throat(
     flow_m3_s: float,
     speed_m_s: float,
@@ -164,27 +206,8 @@ def size_throat(
     limited_by = "flow"
     if ivr_of(depth, q_of(depth)) > max_ivr:
         limited_by = "ivr"
-        excess = [ivr_of(d, q) - max_ivr for d, q in zip(grid, qs, strict=True)]
-        j = next((i for i, e in enumerate(excess) if grid[i] > depth and e <= 0), None)
-        if j is None:
-            raise SpecError(
-                "--max-ivr",
-                max_ivr,
-                "a larger limit",
-                f"no throat up to {d_max:g} mm keeps IVR below it",
-            )
-        lo = max(depth, float(grid[j - 1]))
-        depth = float(brentq(lambda d: ivr_of(d, q_of(d)) - max_ivr, lo, grid[j], xtol=1e-6))
-    d_min = max(_limit("depth", "ge"), _limit("width", "ge") / aspect)
-    if depth < d_min:  # a throat below the spec's smallest would not build
-        q_min = q_of(d_min)
-        raise SpecError(
-            "--flow",
-            flow_m3_s,
-            f">= {q_min:.3g} m^3/s for this speed and system",
-            f"the smallest throat ductgen builds ({aspect * d_min:g} x {d_min:g} mm at W/D "
-            f"{aspect:g}) already delivers {q_min:.3g} m^3/s; a smaller flow needs no sizing",
-        )
+        depth = _depth_for_ivr(q_of, ivr_of, grid, qs, depth, max_ivr, d_max)
+    _check_not_below_smallest(q_of, depth, aspect, flow_m3_s)
     spec = _rounded_spec(spec0, depth, aspect, angle_deg)
     g = geometry_from_spec(spec)
     assert spec.flow is not None
@@ -251,8 +274,9 @@ def _rounded_spec(spec0: Spec, depth: float, aspect: float, angle_deg: float) ->
     return spec0.model_copy(update={"throat": throat, "ramp": ramp})
 
 
-def size_result_dict(r: SizeResult) -> dict[str, Any]:
-    """The sizing result with report.json key names (geometry keys at the top level)."""
+def size_result_dict(r: SizeResult, spec_file: Path | None = None) -> dict[str, Any]:
+    """The sizing result with report.json key names (geometry keys at the top level), and
+    ``spec_file`` when the sized spec was written there."""
     g = r.geometry
     out: dict[str, Any] = {
         "name": r.spec.name,
@@ -269,9 +293,12 @@ def size_result_dict(r: SizeResult) -> dict[str, Any]:
         "flow": r.flow,
         "warnings": [w.to_dict() for w in r.warnings],
     }
-    wall = steepest_wall_report(duct_shape(g))
-    if wall:  # the transition's steepest wall and the length that clears the stall line
-        out = {**out, "transition": {"length_mm": g.transition.length_mm, **wall}}  # type: ignore[union-attr]
+    wall = steepest_wall(duct_shape(g))
+    if wall is not None and g.transition is not None:
+        # the transition's steepest wall and the length that clears the stall line
+        out = {**out, "transition": {"length_mm": g.transition.length_mm, **wall.report()}}
+    if spec_file is not None:
+        out["spec_file"] = str(spec_file)
     return out
 
 
@@ -318,11 +345,9 @@ class SizeRequest:
     header: str = ""
 
 
-def run_size(req: SizeRequest) -> dict[str, Any]:
-    """Size the throat and, when asked, write a buildable spec of it (atomically).
-
-    Returns the result with report.json key names (:func:`size_result_dict`), plus
-    ``spec_file`` when a spec was written.
+def run_size(req: SizeRequest) -> SizeResult:
+    """Size the throat and, when asked, write a buildable spec of it (atomically) to
+    ``req.write_spec``; returns the sized inlet (:func:`size_result_dict` is its JSON form).
 
     Raises:
         SpecError: bad input (nothing written); ExportError: the spec file exists.
@@ -351,11 +376,9 @@ def run_size(req: SizeRequest) -> dict[str, Any]:
         name=req.name,
         max_ivr=MAX_IVR if req.max_ivr is None else req.max_ivr,
     )
-    out = size_result_dict(result)
     if req.write_spec is not None:
         data = sized_spec_data(result, raw)
         parse_spec(data, source="(sized spec)")  # it must load back as written
         text = spec_text(data, req.write_spec, req.header)
         write_atomic(req.write_spec, text.encode(), force=req.force)
-        out["spec_file"] = str(req.write_spec)
-    return out
+    return result

@@ -58,3 +58,18 @@ def test_step_file(tmp_path, capsys) -> None:  # type: ignore[no-untyped-def]
 
 def test_missing_file_is_bad_input(tmp_path) -> None:  # type: ignore[no-untyped-def]
     assert main(["check", str(tmp_path / "nope.stl")]) == 2
+
+
+@pytest.mark.slow
+def test_step_without_shapes_is_bad_input(tmp_path, capsys) -> None:  # type: ignore[no-untyped-def]
+    # a well-formed ISO 10303-21 exchange file (header and an empty DATA section) holds
+    # nothing to triangulate: bad input (exit 2) naming the file, not a kernel traceback
+    p = tmp_path / "empty.step"
+    p.write_text(
+        "ISO-10303-21;\nHEADER;\nFILE_DESCRIPTION(('empty'),'2;1');\n"
+        "FILE_NAME('empty.step','2020-01-01T00:00:00',(''),(''),'','','');\n"
+        "FILE_SCHEMA(('AUTOMOTIVE_DESIGN'));\nENDSEC;\nDATA;\nENDSEC;\nEND-ISO-10303-21;\n"
+    )
+    assert main(["check", str(p)]) == 2
+    err = capsys.readouterr().err
+    assert "empty.step" in err and "no surfaces could be read" in err

@@ -57,7 +57,7 @@ def test_every_spec_key_has_a_plain_label() -> None:
 
 def test_every_skin_shape_has_a_caption() -> None:
     """A new shape without its caption fails here, not on a user's page."""
-    from ductgen.page.draw import SKIN_CAPTIONS
+    from ductgen.page.captions import SKIN_CAPTIONS
 
     assert set(SKIN_CAPTIONS) == set(SKIN_SHAPES)
 
@@ -72,7 +72,7 @@ def test_every_skin_shape_has_a_caption() -> None:
 )
 def test_the_caption_says_what_is_drawn_flat(sample: str, words: str) -> None:
     from ductgen.design import build_design
-    from ductgen.page.draw import skin_caption
+    from ductgen.page.captions import skin_caption
     from ductgen.spec import load_spec
 
     caption = skin_caption(build_design(load_spec(ROOT / "samples" / f"{sample}.toml")))
@@ -128,7 +128,8 @@ def test_the_plan_of_a_doubly_curved_skin_is_the_developed_template() -> None:
     import numpy as np
 
     from ductgen.design import build_design
-    from ductgen.page.draw import plan_svg, skin_caption
+    from ductgen.page.captions import skin_caption
+    from ductgen.page.draw import plan_svg
     from ductgen.spec import parse_spec
     from tests.helpers import CURVED_BASE as BASE
 

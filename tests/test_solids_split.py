@@ -1,9 +1,4 @@
-"""Printer-bed fit and the keyed split across the flow.
-
-Fit is checked against closed forms: a rectangle a × b turned by θ spans
-a·cos θ + b·sin θ by a·sin θ + b·cos θ [derived], so 230 × 40 mm fits a 220 mm square bed
-turned (at 45°: 190.9 mm each way) but not straight, and 250 × 100 mm fits at no turn (at
-0°: 250 mm; at 45°: 247.5 mm). The pieces of
+"""The keyed split across the flow (the bed fit: tests/test_solids_bed.py). The pieces of
 a split insert are checked with trimesh (an independent mesh library): each closed, each
 oriented bounding box inside the bed (sorted extents, a sufficient condition), volumes
 summing to the whole to 1e-4.
@@ -14,34 +9,10 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from ductgen.solids.split import bed_fit, estimate_stations
+from ductgen.solids.bed import bed_fit
 from tests.conftest import ROOT
 
 BED = (220.0, 220.0, 250.0)
-
-
-def _box(a: float, b: float, c: float) -> np.ndarray:
-    return np.array([[x, y, z] for x in (0, a) for y in (0, b) for z in (0, c)], dtype=float)
-
-
-def test_fit_closed_forms() -> None:
-    assert bed_fit(_box(200, 100, 50), BED).fits
-    turned = bed_fit(_box(230, 40, 10), BED)
-    assert turned.fits and 10.0 < turned.turn_deg < 80.0  # 230 mm > 220 mm at no turn
-    assert not bed_fit(_box(250, 100, 10), BED).fits
-    assert not bed_fit(_box(100, 100, 260), BED).fits  # too tall
-    assert bed_fit(_box(240, 60, 60), BED, "+x").size_mm[2] == pytest.approx(240)  # standing
-    # 255 mm tall does not stand on a 250 mm printer; laid on its side (x up) and turned
-    # 45° it spans (50 + 255) / √2 = 215.7 mm ≤ 220 mm each way
-    assert not bed_fit(_box(50, 50, 255), BED, "+z").fits
-    assert bed_fit(_box(50, 50, 255), BED, "+x").fits
-
-
-def test_station_estimate_is_monotone_in_bed_size() -> None:
-    v = _box(600, 120, 80)
-    assert estimate_stations(v, BED, "+z") == pytest.approx([200.0, 400.0])  # 3 pieces
-    assert estimate_stations(v, (320, 320, 250), "+z") == pytest.approx([300.0])
-    assert estimate_stations(v, (650, 320, 250), "+z") == []
 
 
 @pytest.mark.slow

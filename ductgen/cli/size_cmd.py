@@ -4,12 +4,18 @@ from __future__ import annotations
 
 import json
 from pathlib import Path
-from typing import Annotated, Any
+from typing import TYPE_CHECKING, Annotated
 
 import typer
 
 from ductgen.cli.common import err_console
 from ductgen.spec.model import DEFAULT_RAMP_ANGLE_DEG
+
+if TYPE_CHECKING:
+    from rich.table import Table
+
+    from ductgen.flow.record import FlowRecord
+    from ductgen.sizing import SizeResult
 
 __all__ = ["size_command"]
 
@@ -64,7 +70,7 @@ def size_command(
     ] = False,
 ) -> None:
     """Throat W, D and ramp length L that deliver a flow at a speed, through the spec's losses."""
-    from ductgen.sizing import SizeRequest, run_size
+    from ductgen.sizing import SizeRequest, run_size, size_result_dict
 
     q = _quantity("--flow", flow, "volume_flow", "m^3/s")
     v = _quantity("--speed", speed, "speed", "m/s")
@@ -72,7 +78,7 @@ def size_command(
         f"written by ductgen size --flow '{flow}' --speed '{speed}'"
         f" --aspect {aspect:g} --angle {angle:g}" + (f" --spec {spec}" if spec is not None else "")
     )
-    out = run_size(
+    result = run_size(
         SizeRequest(
             flow_m3_s=q,
             speed_m_s=v,
@@ -87,86 +93,97 @@ def size_command(
         )
     )
     if as_json:
+        out = size_result_dict(result, write_spec)
         typer.echo(json.dumps(out, indent=2, allow_nan=False))
         return
-    _print(out)
+    _print(result)
     if write_spec is not None:
         err_console.print(f"wrote {write_spec}; next: ductgen build {write_spec}")
 
 
-def _print(out: dict[str, Any]) -> None:
+def _print(r: SizeResult) -> None:
     from rich.console import Console
     from rich.table import Table
 
+    from ductgen.design.build import duct_shape
+    from ductgen.flow.record import FlowRecord
+    from ductgen.flow.stall import steepest_wall
+
     con = Console()
-    f = out["flow"]
+    g, f = r.geometry, FlowRecord.of_section(r.flow)
     t = Table(
-        title=f"{out['name']}: smallest throat for {out['required_flow_m3_s'] * 1000:.1f} L/s",
+        title=f"{r.spec.name}: smallest throat for {r.target_m3_s * 1000:.1f} L/s",
         show_header=False,
         box=None,
     )
     rows = [
         (
             "throat W × D",
-            f"{out['throat_width_mm']:.2f} × {out['throat_depth_mm']:.2f} mm"
-            f" (W/D {out['aspect_ratio']:.2f})",
+            f"{g.width_mm:.2f} × {g.depth_mm:.2f} mm (W/D {g.width_mm / g.depth_mm:.2f})",
         ),
-        ("throat area", f"{out['throat_area_mm2']:.0f} mm²"),
-        ("ramp angle / length", f"{out['ramp_angle_deg']:.2f}° / {out['ramp_length_mm']:.1f} mm"),
+        ("throat area", f"{g.throat_area_mm2:.0f} mm²"),
+        ("ramp angle / length", f"{g.floor.angle_deg:.2f}° / {g.length_mm:.1f} mm"),
         (
             "boundary layer δ, δ/D",
-            f"{f['boundary_layer_thickness_m'] * 1000:.1f} mm, {f['delta_over_depth']:.2f}",
+            f"{f.boundary_layer_thickness_m * 1000:.1f} mm, {f.delta_over_depth:.2f}",
         ),
     ]
-    if f.get("operating_point") == "found":
+    if f.found:
+        assert f.volume_flow_m3_s is not None and f.mass_flow_kg_s is not None
         rows += [
             (
                 "delivered flow",
-                f"{f['volume_flow_m3_s'] * 1000:.2f} L/s ({f['mass_flow_kg_s']:.4f} kg/s)",
+                f"{f.volume_flow_m3_s * 1000:.2f} L/s ({f.mass_flow_kg_s:.4f} kg/s)",
             ),
-            ("inlet velocity ratio", f"{f['inlet_velocity_ratio']:.3f}"),
-            ("ram recovery", f"{f['ram_recovery']:.3f} ({f['recovery_model']})"),
+            ("inlet velocity ratio", f"{f.inlet_velocity_ratio:.3f}"),
+            ("ram recovery", f"{f.ram_recovery:.3f} ({f.recovery_model})"),
         ]
-    tr = out.get("transition")
-    if tr:
-        under = tr["length_under_stall_line_mm"]
+    wall = steepest_wall(duct_shape(g))
+    if wall is not None:
+        under = wall.length_under_stall_line_mm
         rows.append(
             (
                 "transition steepest wall",
-                f"{tr['steepest_wall']} {tr['steepest_wall_angle_deg']:.1f}° "
-                f"(stall line {tr['stall_line_included_deg']:.1f}°); "
+                f"{wall.name} {wall.angle_deg:.1f}° "
+                f"(stall line {wall.stall_line_included_deg:.1f}°); "
                 + (
                     "under the line"
-                    if not tr["steepest_wall_stalls"]
+                    if not wall.stalls
                     else f"lengthen the transition to ≥ {under:.0f} mm"
                     if under is not None
                     else "no length within 50× clears the line"
                 ),
             )
         )
-    if out["size_limited_by"] == "ivr":
-        rows.append(
-            ("sized by", f"IVR limit {out['max_inlet_velocity_ratio']:g}: delivers more than asked")
-        )
+    if r.limited_by == "ivr":
+        rows.append(("sized by", f"IVR limit {r.max_ivr:g}: delivers more than asked"))
     for a, b in rows:
         t.add_row(a, b)
     con.print(t)
-    if f.get("operating_point") == "found":
-        budget = Table(
-            "element",
-            "V m/s",
-            "K",
-            "Δp Pa",
-            title="pressure budget (sums to the recovered pressure)",
+    if f.found:
+        con.print(_budget_table(f))
+    for w in r.warnings:
+        err_console.print(f"warning {w.code}: {w.message}", soft_wrap=True)
+
+
+def _budget_table(f: FlowRecord) -> Table:
+    """The pressure budget at the operating point (m/s, K, Pa), summing to the recovered
+    pressure."""
+    from rich.table import Table
+
+    budget = Table(
+        "element",
+        "V m/s",
+        "K",
+        "Δp Pa",
+        title="pressure budget (sums to the recovered pressure)",
+    )
+    for item in f.budget:
+        budget.add_row(
+            item.element,
+            "" if item.velocity_m_s is None else f"{item.velocity_m_s:.2f}",
+            "" if item.k is None else f"{item.k:.3f}",
+            f"{item.dp_pa:.1f}",
         )
-        for item in f["budget"]:
-            budget.add_row(
-                item["element"],
-                "" if item["velocity_m_s"] is None else f"{item['velocity_m_s']:.2f}",
-                "" if item["k"] is None else f"{item['k']:.3f}",
-                f"{item['dp_pa']:.1f}",
-            )
-        budget.add_row("recovered", "", "", f"{f['recovered_total_pressure_pa']:.1f}")
-        con.print(budget)
-    for w in out["warnings"]:
-        err_console.print(f"warning {w['code']}: {w['message']}", soft_wrap=True)
+    budget.add_row("recovered", "", "", f"{f.recovered_total_pressure_pa:.1f}")
+    return budget

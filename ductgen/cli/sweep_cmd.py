@@ -2,12 +2,20 @@
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from pathlib import Path
-from typing import Annotated, Any
+from typing import TYPE_CHECKING, Annotated
 
 import typer
 
 from ductgen.cli.common import err_console
+
+if TYPE_CHECKING:
+    from ductgen.sweep.results import SweepResult, VariantResult
+    from ductgen.sweep.vary import Vary
+
+#: The sweep's progress callback: ``(result or None, done, failed, total)``.
+ProgressFn = Callable[["VariantResult | None", int, int, int], None]
 
 __all__ = ["CONFIRM_ABOVE", "SECONDS_PER_VARIANT", "sweep_command"]
 
@@ -23,7 +31,7 @@ SECONDS_PER_VARIANT = {"all": 15.0, "cutter": 8.0}
 
 
 def _announce(
-    varies: list[Any],
+    varies: list[Vary],
     zip_values: bool,
     jobs: int | None,
     kinds: list[str] | None,
@@ -121,8 +129,6 @@ def sweep_command(
     ] = False,
 ) -> None:
     """Build variants of a spec in parallel and compare them side by side."""
-    from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
-
     from ductgen.cli.common import out_folder
     from ductgen.pipeline.options import BuildOptions
     from ductgen.spec import load_spec
@@ -134,27 +140,9 @@ def sweep_command(
     out_dir = (
         out_folder(out, Path()) if out is not None else Path.cwd() / f"{load_spec(spec).name}-sweep"
     )
-    show = not (quiet or as_json)
-    with Progress(
-        TextColumn("sweep"),
-        BarColumn(),
-        TextColumn("{task.fields[counts]}"),
-        TimeElapsedColumn(),
-        console=err_console,
-        transient=True,
-        disable=not show,
-    ) as bar:
-        task = bar.add_task("sweep", total=None, counts="validating")
-
-        def progress(result: Any, done: int, failed: int, total: int) -> None:
-            counts = f"done {done - failed} · failed {failed} · remaining {total - done}"
-            bar.update(task, total=total, completed=done, counts=counts)
-            if result is not None and result.status == "failed":
-                bar.console.print(
-                    f"failed {result.id}: {result.error}", soft_wrap=True, markup=False, emoji=False
-                )
-
-        result = run_sweep(
+    result = _with_progress(
+        not (quiet or as_json),
+        lambda progress: run_sweep(
             spec,
             varies,
             out_dir,
@@ -167,7 +155,8 @@ def sweep_command(
             progress=progress,
             cfd="coarse" if cfd else None,
             cache=not no_cache,
-        )
+        ),
+    )
     if as_json:
         typer.echo(result.files["json"].read_text(encoding="utf-8"))
     elif not quiet:
@@ -181,7 +170,34 @@ def sweep_command(
         raise typer.Exit(1)
 
 
-def _summary(result: Any, out_dir: Path) -> None:
+def _with_progress(show: bool, start: Callable[[ProgressFn], SweepResult]) -> SweepResult:
+    """Run ``start(progress)`` under a progress bar on stderr (none unless ``show``): done,
+    failed and remaining variants, and each failure's line as it happens."""
+    from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
+
+    with Progress(
+        TextColumn("sweep"),
+        BarColumn(),
+        TextColumn("{task.fields[counts]}"),
+        TimeElapsedColumn(),
+        console=err_console,
+        transient=True,
+        disable=not show,
+    ) as bar:
+        task = bar.add_task("sweep", total=None, counts="validating")
+
+        def progress(result: VariantResult | None, done: int, failed: int, total: int) -> None:
+            counts = f"done {done - failed} · failed {failed} · remaining {total - done}"
+            bar.update(task, total=total, completed=done, counts=counts)
+            if result is not None and result.status == "failed":
+                bar.console.print(
+                    f"failed {result.id}: {result.error}", soft_wrap=True, markup=False, emoji=False
+                )
+
+        return start(progress)
+
+
+def _summary(result: SweepResult, out_dir: Path) -> None:
     from rich.console import Console
     from rich.table import Table
 

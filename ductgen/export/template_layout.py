@@ -173,11 +173,8 @@ def template_drawing(
         The drawing, mm.
     """
     t = spec.template
-    pf = g.planform
-    length, half = pf.length_mm, 0.5 * g.width_mm
-    h0 = 0.5 * pf.apex_width_mm
     d = TemplateDrawing(name=spec.name, units=t.units)
-    d.cuts.append(("air opening", opening_contour(pf, t.tolerance, 0.5 * t.kerf)))
+    d.cuts.append(("air opening", opening_contour(g.planform, t.tolerance, 0.5 * t.kerf)))
     for role, contour in outer or []:
         d.cuts.append((role, contour))
     for cx, cy in holes or []:
@@ -186,8 +183,17 @@ def template_drawing(
         arm = 0.75 * hole_diameter_mm + 1.5
         d.lines.append(Line((cx - arm, cy), (cx + arm, cy)))
         d.lines.append(Line((cx, cy - arm), (cx, cy + arm)))
+    _add_marks(d, g)
+    _add_text_block(d, g, spec, spec_hash)
+    return d
 
-    # centreline, station ticks outside the walls, flow arrow upstream of everything
+
+def _add_marks(d: TemplateDrawing, g: InletGeometry) -> None:
+    """The centreline, station ticks outside the walls, the flow arrow upstream of every
+    cut, and their labels (mm)."""
+    pf = g.planform
+    length, half = pf.length_mm, 0.5 * g.width_mm
+    h0 = 0.5 * pf.apex_width_mm
     xa = min(float(c.points[:, 0].min()) for _, c in d.cuts) - 4.0
     xb = max(float(c.points[:, 0].max()) for _, c in d.cuts) + 15.0
     d.lines.append(Line((xa - 36.0, 0.0), (xb, 0.0)))
@@ -198,8 +204,6 @@ def template_drawing(
             d.lines.append(Line((x, s * (hw + 2.0)), (x, s * (hw + 2.0 + tick))))
     tip = (xa, 0.0)
     d.lines += [Line(tip, (xa - 6.0, 3.0)), Line(tip, (xa - 6.0, -3.0))]
-
-    ymin = min(float(c.points[:, 1].min()) for _, c in d.cuts) - 25.0
     _place_labels(
         d,
         [
@@ -209,13 +213,18 @@ def template_drawing(
         ],
     )
 
-    # scale bars and text block below the drawing
+
+def _add_text_block(d: TemplateDrawing, g: InletGeometry, spec: Spec, spec_hash: str) -> None:
+    """The scale bars (100 mm, 4 in) and the text block below the cuts: the inlet, the
+    spec's hash, the build date, the units, the kerf, the cut order, the cautions."""
+    t = spec.template
+    ymin = min(float(c.points[:, 1].min()) for _, c in d.cuts) - 25.0
     d.bars.append(ScaleBar((0.0, ymin), 100.0, "100 mm - VERIFY SCALE"))
     d.bars.append(ScaleBar((0.0, ymin - 14.0), 4.0 * _INCH_MM, "4 in - VERIFY SCALE"))
     unit_note = "UNITS: mm (1:1)" if t.units == "mm" else "UNITS: inch (1:1)"
     lines = [
         f"{spec.name}  -  NACA-type flush inlet, skin opening template",
-        f"W {g.width_mm:.2f} x D {g.depth_mm:.2f} mm, L {length:.2f} mm, "
+        f"W {g.width_mm:.2f} x D {g.depth_mm:.2f} mm, L {g.planform.length_mm:.2f} mm, "
         f"ramp {g.floor.angle_deg:.2f} deg",
         f"spec sha256 {spec_hash[:16]}  date {build_date()}  {unit_note}",
         _kerf_note(t.kerf, len(d.cuts) > 1),
@@ -226,7 +235,6 @@ def template_drawing(
     y = ymin - 30.0
     for i, line in enumerate(lines):
         d.texts.append(Text((0.0, y - 5.0 * i), line, 3.0 if i else 3.5))
-    return d
 
 
 def _place_labels(d: TemplateDrawing, labels: list[tuple[Text, tuple[float, float]]]) -> None:

@@ -56,8 +56,8 @@ class PlatePart:
 
 def turn_up(vertices: np.ndarray, up: str) -> np.ndarray:
     """``vertices`` (N, 3) rotated (a proper rotation) so that the axis ``up`` ("+z", "-x",
-    ...) points along +Z (:func:`ductgen.solids.split.up_rotation`)."""
-    from ductgen.solids.split import up_rotation
+    ...) points along +Z (:func:`ductgen.solids.bed.up_rotation`)."""
+    from ductgen.solids.bed import up_rotation
 
     return np.asarray(vertices, dtype=float) @ up_rotation(up).T
 

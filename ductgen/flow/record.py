@@ -12,6 +12,8 @@ from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Any
 
+from ductgen.flow.losses import BudgetItem
+
 __all__ = ["FlowRecord", "LayerGradient"]
 
 
@@ -54,6 +56,16 @@ class FlowRecord:
         delta_over_depth_max: the largest δ/D the model used.
         transition_k, transition_k_by_method: the internal transition's K (on the small
             end's velocity) and its value by method, when there is a transition.
+        operating_point_note: why no operating point was found (None when found).
+        mass_flow_kg_s, recovered_total_pressure_pa: at the operating point (kg/s, Pa).
+        budget: the pressure budget at the operating point, in order (empty when none).
+        delta_over_depth: the boundary layer's δ/D at the inlet.
+        recovery_source, recovery_uncertainty: where the recovery comes from (one line)
+            and its stated uncertainty (None when none is stated);
+            recovery_map_points: the CFD map's point count, when the model is the map.
+        dynamic_pressure_pa, impact_pressure_pa, recovery_head_pa: ½ρV², the isentropic
+            impact pressure and the head the recovery applies to (Pa).
+        momentum_factor: the outflow's β.
     """
 
     section: dict[str, Any]
@@ -89,6 +101,18 @@ class FlowRecord:
     delta_over_depth_max: float
     transition_k: float | None
     transition_k_by_method: dict[str, float] | None
+    operating_point_note: str | None
+    mass_flow_kg_s: float | None
+    recovered_total_pressure_pa: float | None
+    budget: tuple[BudgetItem, ...]
+    delta_over_depth: float
+    recovery_source: str
+    recovery_uncertainty: float | None
+    recovery_map_points: int | None
+    dynamic_pressure_pa: float
+    impact_pressure_pa: float | None
+    recovery_head_pa: float | None
+    momentum_factor: float | None
 
     @classmethod
     def of_section(cls, section: dict[str, Any]) -> FlowRecord:
@@ -96,9 +120,14 @@ class FlowRecord:
         writes it)."""
         s = section
         band = s.get("sensitivity") or {}
-        mixing = next((b for b in s.get("budget", []) if b["element"] == "hose mixing"), None)
+        budget = tuple(
+            BudgetItem(b["element"], _opt(b, "velocity_m_s"), _opt(b, "k"), float(b["dp_pa"]))
+            for b in s.get("budget", [])
+        )
+        mixing = next((b for b in budget if b.element == "hose mixing"), None)
         grad = s.get("boundary_layer_gradient")
         t = s.get("transition_loss") or {}
+        rmap = s.get("recovery_map")
         return cls(
             section=section,
             speed_m_s=float(s["speed_m_s"]),
@@ -121,7 +150,7 @@ class FlowRecord:
             kinetic_energy_factor=_opt(s, "kinetic_energy_factor"),
             kinetic_energy_given=s.get("kinetic_energy_factor_source") == "given",
             exit=s.get("exit"),
-            mixing_k=None if mixing is None else float(mixing["k"]),
+            mixing_k=None if mixing is None else mixing.k,
             inlet_cp=_opt(s, "inlet_cp"),
             yaw_factor=_opt(s, "yaw_factor"),
             recovery_head=str(s.get("recovery_head")),
@@ -139,4 +168,16 @@ class FlowRecord:
             delta_over_depth_max=float(s["delta_over_depth_max"]),
             transition_k=_opt(t, "k"),
             transition_k_by_method=t.get("k_by_method"),
+            operating_point_note=s.get("operating_point_note"),
+            mass_flow_kg_s=_opt(s, "mass_flow_kg_s"),
+            recovered_total_pressure_pa=_opt(s, "recovered_total_pressure_pa"),
+            budget=budget,
+            delta_over_depth=float(s["delta_over_depth"]),
+            recovery_source=str(s.get("recovery_source", "")),
+            recovery_uncertainty=_opt(s, "recovery_uncertainty"),
+            recovery_map_points=None if rmap is None else int(rmap["points"]),
+            dynamic_pressure_pa=float(s["dynamic_pressure_pa"]),
+            impact_pressure_pa=_opt(s, "impact_pressure_pa"),
+            recovery_head_pa=_opt(s, "recovery_head_pa"),
+            momentum_factor=_opt(s, "momentum_factor"),
         )

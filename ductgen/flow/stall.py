@@ -22,6 +22,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable
+from dataclasses import dataclass
 from typing import Any
 
 from scipy.optimize import brentq
@@ -31,8 +32,10 @@ from ductgen.flow.inputs import DuctShape
 __all__ = [
     "STALL_LINE_POINTS",
     "STALL_LINE_SOURCE",
+    "SteepestWall",
     "length_under_stall_line",
     "stall_line_included_deg",
+    "steepest_wall",
     "steepest_wall_report",
 ]
 
@@ -83,21 +86,63 @@ def length_under_stall_line(
     return float(brentq(excess, hi / 2.0, hi, xtol=1e-6))
 
 
-def steepest_wall_report(shape: DuctShape) -> dict[str, Any]:
-    """Report keys (deg, mm) of the transition's steepest wall against line a-a; empty
-    without a transition."""
+@dataclass(frozen=True)
+class SteepestWall:
+    """The transition's steepest wall against line a-a.
+
+    Attributes:
+        name: ``"floor"``, ``"roof"`` or ``"side"``.
+        angle_deg: its steepest local angle to the duct's axis (deg).
+        included_deg: its divergence from the facing wall, 2θ (deg).
+        length_over_width: the transition's length over the throat across that plane, N/W1.
+        stall_line_included_deg: line a-a's 2θ at that N/W1 (deg).
+        stalls: the wall diverges past the line.
+        length_under_stall_line_mm: the transition length that brings the wall under the
+            line (mm), None when no length within the search does.
+    """
+
+    name: str | None
+    angle_deg: float | None
+    included_deg: float
+    length_over_width: float
+    stall_line_included_deg: float
+    stalls: bool
+    length_under_stall_line_mm: float | None
+
+    def report(self) -> dict[str, Any]:
+        """Its report keys (deg, mm), in the written order."""
+        return {
+            "steepest_wall_angle_deg": self.angle_deg,
+            "steepest_wall": self.name,
+            "steepest_wall_included_deg": self.included_deg,
+            "steepest_wall_length_over_width": self.length_over_width,
+            "stall_line_included_deg": self.stall_line_included_deg,
+            "steepest_wall_stalls": self.stalls,
+            "length_under_stall_line_mm": self.length_under_stall_line_mm,
+            "stall_line_source": STALL_LINE_SOURCE,
+        }
+
+
+def steepest_wall(shape: DuctShape) -> SteepestWall | None:
+    """The transition's steepest wall against line a-a; None without a transition."""
     if shape.steepest_wall_included_deg is None or not shape.steepest_wall_across_mm:
-        return {}
+        return None
     assert shape.transition_length_mm is not None
     n_w = shape.transition_length_mm / shape.steepest_wall_across_mm
     line = stall_line_included_deg(n_w)
-    return {
-        "steepest_wall_angle_deg": shape.steepest_wall_angle_deg,
-        "steepest_wall": shape.steepest_wall_name,
-        "steepest_wall_included_deg": shape.steepest_wall_included_deg,
-        "steepest_wall_length_over_width": n_w,
-        "stall_line_included_deg": line,
-        "steepest_wall_stalls": shape.steepest_wall_included_deg > line,
-        "length_under_stall_line_mm": shape.transition_length_under_stall_mm,
-        "stall_line_source": STALL_LINE_SOURCE,
-    }
+    return SteepestWall(
+        name=shape.steepest_wall_name,
+        angle_deg=shape.steepest_wall_angle_deg,
+        included_deg=shape.steepest_wall_included_deg,
+        length_over_width=n_w,
+        stall_line_included_deg=line,
+        stalls=shape.steepest_wall_included_deg > line,
+        length_under_stall_line_mm=shape.transition_length_under_stall_mm,
+    )
+
+
+def steepest_wall_report(shape: DuctShape) -> dict[str, Any]:
+    """Report keys (deg, mm) of the transition's steepest wall against line a-a; empty
+    without a transition."""
+    wall = steepest_wall(shape)
+    return {} if wall is None else wall.report()

@@ -11,6 +11,8 @@ from ductgen.errors import DesignWarning, SpecError
 from ductgen.geometry.fabrication import (
     LEAD_IN_MM,
     Fabrication,
+    InsertParams,
+    PlugParams,
     flange_layout,
     footprint_end_mm,
     spigot_of,
@@ -35,12 +37,16 @@ SPACING_FACTOR = 4.0
 MIN_LIGAMENT_MM = 1.0
 
 
+#: One problem for :meth:`SpecError.many`: (spec key, value, allowed, reason).
+Problem = tuple[str, object, str, str]
+
+
 def validate_fabrication(g: InletGeometry, fab: Fabrication) -> None:
     """Raise :class:`SpecError` (every problem at once) when the insert or plug cannot be
     made: wall thicker than half the throat depth, flange too narrow for the holes, holes
     overlapping, a spigot the transition cannot carry, a plug draft of 45° or more."""
-    ins, plug = fab.insert, fab.plug
-    problems: list[tuple[str, object, str, str]] = []
+    ins = fab.insert
+    problems: list[Problem] = []
     if ins.wall > g.depth_mm / 2.0:
         problems.append(
             (
@@ -50,82 +56,10 @@ def validate_fabrication(g: InletGeometry, fab: Fabrication) -> None:
                 "walls thicker than half the throat depth leave no room for a sound part",
             )
         )
-    d = ins.holes.diameter
     if ins.holes.count > 0:
-        fw = ins.flange_width
-        ed = ins.holes.edge_distance if ins.holes.edge_distance is not None else fw / 2.0
-        need = d + 2.0 * MIN_LIGAMENT_MM
-        if ed >= fw:
-            problems.append(
-                (
-                    "insert.holes.edge_distance",
-                    ed,
-                    f"< {fw:.2f} mm (the flange width)",
-                    "the holes would lie outside the flange",
-                )
-            )
-        elif min(ed, fw - ed) - d / 2.0 < MIN_LIGAMENT_MM:
-            key, val = (
-                ("insert.flange_width", fw)
-                if ins.holes.edge_distance is None
-                else ("insert.holes.edge_distance", ed)
-            )
-            problems.append(
-                (
-                    key,
-                    val,
-                    f"flange >= {need:.2f} mm with the holes centred",
-                    f"holes of {d:g} mm would break out of the flange "
-                    f"(ligament < {MIN_LIGAMENT_MM:g} mm)",
-                )
-            )
-        else:
-            lay = flange_layout(g, ins)
-            if ins.holes.count > 1 and lay.spacing_mm - d < MIN_LIGAMENT_MM:
-                problems.append(
-                    (
-                        "insert.holes.count",
-                        ins.holes.count,
-                        f"<= {int(lay.spacing_mm * ins.holes.count / (d + MIN_LIGAMENT_MM))} "
-                        "for this flange",
-                        f"hole pitch {lay.spacing_mm:.1f} mm leaves holes of {d:g} mm overlapping",
-                    )
-                )
+        problems += _hole_problems(g, ins)
+    problems += _spigot_problems(g, fab)
     t = g.transition
-    sp = spigot_of(g, fab)
-    if t is not None and sp is not None:
-        wt = transition_wall_mm(g, ins.wall)
-        if sp.bore_mm < 0.5 * t.outlet_width_mm:
-            problems.append(
-                (
-                    "outlet.diameter",
-                    t.outlet_width_mm,
-                    f">= {2.0 * (2.0 * ins.wall + fab.fit_clearance_mm):.1f} mm "
-                    f"for insert.wall = {ins.wall:g} mm",
-                    f"the spigot bore ({sp.bore_mm:.1f} mm) would be under half the hose diameter",
-                )
-            )
-        shoulder = t.outlet_width_mm / 2.0 + wt
-        if sp.od_mm / 2.0 + sp.bead_height_mm > shoulder:
-            problems.append(
-                (
-                    "insert.bead_height",
-                    ins.bead_height,
-                    f"<= {shoulder - sp.od_mm / 2.0:.2f} mm",
-                    "the spigot with its bead would be larger than the transition's outer wall it "
-                    "continues (the hose could not seat against the shoulder)",
-                )
-            )
-        if sp.clamp_land_mm < ins.clamp_land:
-            need_len = ins.clamp_land + (sp.bead_x1_mm - sp.bead_x0_mm) + LEAD_IN_MM
-            problems.append(
-                (
-                    "outlet.spigot_length",
-                    g.spigot_length_mm,
-                    f">= {need_len:.1f} mm",
-                    f"the spigot needs a clamp land of {ins.clamp_land:g} mm, a bead and a lead-in",
-                )
-            )
     if (
         t is not None
         and t.kind == "rect"
@@ -139,29 +73,123 @@ def validate_fabrication(g: InletGeometry, fab: Fabrication) -> None:
                 "the collar walls would close the rectangular outlet",
             )
         )
-    if not plug.draft_deg < 45.0:
+    problems += _plug_problems(g, fab.plug)
+    if problems:
+        raise SpecError.many(problems)
+
+
+def _hole_problems(g: InletGeometry, ins: InsertParams) -> list[Problem]:
+    """The flange's holes (mm): inside the flange, a ligament of :data:`MIN_LIGAMENT_MM` to
+    its edges and between neighbours."""
+    d = ins.holes.diameter
+    fw = ins.flange_width
+    ed = ins.holes.edge_distance if ins.holes.edge_distance is not None else fw / 2.0
+    need = d + 2.0 * MIN_LIGAMENT_MM
+    if ed >= fw:
+        return [
+            (
+                "insert.holes.edge_distance",
+                ed,
+                f"< {fw:.2f} mm (the flange width)",
+                "the holes would lie outside the flange",
+            )
+        ]
+    if min(ed, fw - ed) - d / 2.0 < MIN_LIGAMENT_MM:
+        key, val = (
+            ("insert.flange_width", fw)
+            if ins.holes.edge_distance is None
+            else ("insert.holes.edge_distance", ed)
+        )
+        return [
+            (
+                key,
+                val,
+                f"flange >= {need:.2f} mm with the holes centred",
+                f"holes of {d:g} mm would break out of the flange "
+                f"(ligament < {MIN_LIGAMENT_MM:g} mm)",
+            )
+        ]
+    lay = flange_layout(g, ins)
+    if ins.holes.count > 1 and lay.spacing_mm - d < MIN_LIGAMENT_MM:
+        return [
+            (
+                "insert.holes.count",
+                ins.holes.count,
+                f"<= {int(lay.spacing_mm * ins.holes.count / (d + MIN_LIGAMENT_MM))} "
+                "for this flange",
+                f"hole pitch {lay.spacing_mm:.1f} mm leaves holes of {d:g} mm overlapping",
+            )
+        ]
+    return []
+
+
+def _spigot_problems(g: InletGeometry, fab: Fabrication) -> list[Problem]:
+    """A round spigot the transition cannot carry (mm): its bore under half the hose, its
+    bead proud of the transition's outer wall, no room for the clamp land."""
+    t = g.transition
+    sp = spigot_of(g, fab)
+    if t is None or sp is None:
+        return []
+    ins = fab.insert
+    problems: list[Problem] = []
+    wt = transition_wall_mm(g, ins.wall)
+    if sp.bore_mm < 0.5 * t.outlet_width_mm:
         problems.append(
+            (
+                "outlet.diameter",
+                t.outlet_width_mm,
+                f">= {2.0 * (2.0 * ins.wall + fab.fit_clearance_mm):.1f} mm "
+                f"for insert.wall = {ins.wall:g} mm",
+                f"the spigot bore ({sp.bore_mm:.1f} mm) would be under half the hose diameter",
+            )
+        )
+    shoulder = t.outlet_width_mm / 2.0 + wt
+    if sp.od_mm / 2.0 + sp.bead_height_mm > shoulder:
+        problems.append(
+            (
+                "insert.bead_height",
+                ins.bead_height,
+                f"<= {shoulder - sp.od_mm / 2.0:.2f} mm",
+                "the spigot with its bead would be larger than the transition's outer wall it "
+                "continues (the hose could not seat against the shoulder)",
+            )
+        )
+    if sp.clamp_land_mm < ins.clamp_land:
+        need_len = ins.clamp_land + (sp.bead_x1_mm - sp.bead_x0_mm) + LEAD_IN_MM
+        problems.append(
+            (
+                "outlet.spigot_length",
+                g.spigot_length_mm,
+                f">= {need_len:.1f} mm",
+                f"the spigot needs a clamp land of {ins.clamp_land:g} mm, a bead and a lead-in",
+            )
+        )
+    return problems
+
+
+def _plug_problems(g: InletGeometry, plug: PlugParams) -> list[Problem]:
+    """The plug's draft (deg): under 45°, and shallow enough that the drafted walls do not
+    meet above the floor."""
+    if not plug.draft_deg < 45.0:
+        return [
             (
                 "plug.draft_deg",
                 plug.draft_deg,
                 "0 to < 45°",
                 "a plug drafted 45° or more is not the cavity",
             )
-        )
-    else:
-        shrink = g.drop_mm * math.tan(math.radians(plug.draft_deg))
-        if shrink >= g.width_mm / 2.0:
-            problems.append(
-                (
-                    "plug.draft_deg",
-                    plug.draft_deg,
-                    f"< {math.degrees(math.atan(g.width_mm / 2.0 / g.drop_mm)):.1f}° "
-                    "for this throat",
-                    "the drafted walls would meet before the floor",
-                )
+        ]
+    shrink = g.drop_mm * math.tan(math.radians(plug.draft_deg))
+    if shrink >= g.width_mm / 2.0:
+        return [
+            (
+                "plug.draft_deg",
+                plug.draft_deg,
+                f"< {math.degrees(math.atan(g.width_mm / 2.0 / g.drop_mm)):.1f}° for this throat",
+                "the drafted walls would meet before the floor",
             )
-    if problems:
-        raise SpecError.many(problems)
+        ]
+    return []
 
 
 def fabrication_warnings(g: InletGeometry, fab: Fabrication) -> list[DesignWarning]:

@@ -11,23 +11,21 @@ drawing reads as seen from outside and from the side); strokes do not scale.
 
 On a curved skin or the user's panel the section is drawn on the skin: every point of the
 centreline section goes through the design's maps (depths along the normal), as the solids
-do. The plan is the opening developed flat, as the template is; :func:`skin_caption` says
-which of the two drawings is flat and by how much the development stretches lengths.
+do. The plan is the opening developed flat, as the template is; :mod:`~ductgen.page.captions`
+says which of the two drawings is flat and how much the development stretches lengths.
 """
 
 from __future__ import annotations
 
-from collections.abc import Callable
 from html import escape
-from typing import Any
 
 import numpy as np
 
 from ductgen.design import Design
+from ductgen.sheets.skin_section import XZ, section_maps
 from ductgen.sheets.skin_section import dense as densified
-from ductgen.sheets.skin_section import section_maps
 
-__all__ = ["SKIN_CAPTIONS", "densified", "plan_svg", "section_svg", "skin_caption"]
+__all__ = ["densified", "plan_svg", "section_svg"]
 
 _INK = "#1d2b36"
 _OPENING = "#2f6f73"
@@ -106,9 +104,7 @@ def _frame(
 def plan_svg(d: Design) -> str:
     """Plan view of the opening and the flange seen from outside (flow left to right)."""
     g, lay = d.geometry, d.layout
-    w, length = g.width_mm, g.length_mm
-    flat = d.development.xy  # the template's flattening; the identity where it is exact
-    outline = flat(lay.outline_xy)
+    outline = d.development.xy(lay.outline_xy)  # flattened as the template; exact: identity
     x0, x1 = float(outline[:, 0].min()), float(outline[:, 0].max())
     y0, y1 = float(outline[:, 1].min()), float(outline[:, 1].max())
     t = g.transition
@@ -117,6 +113,25 @@ def plan_svg(d: Design) -> str:
     span = max(x1 - x0, y1 - y0)
     fs = span * 0.035
     gap = fs * 2.2
+    parts = _plan_parts(d, outline) + _plan_dimensions(d, outline, (x0, x1, y0, y1), fs, gap)
+    return _frame(
+        "plan",
+        x0 - 5 * gap,
+        -y1 - 2 * gap,
+        x1 + 5 * gap,
+        -y0 + 4 * gap,
+        "".join(parts),
+        f"plan view of {d.name}",
+    )
+
+
+def _plan_parts(d: Design, outline: np.ndarray) -> list[str]:
+    """The plan's shapes (mm, flattened as the template): the flange (``outline``), the
+    skin's cut-out, the transition's footprint, the opening and the holes."""
+    g, lay = d.geometry, d.layout
+    w = g.width_mm
+    flat = d.development.xy
+    t = g.transition
     parts = [
         f'<polygon id="plan-flange" points="{_pts(outline)}" fill="{_FLANGE}" class="ln"/>',
         f'<polygon id="plan-cutout" points="{_pts(flat(lay.cutout_xy))}" class="thin"/>',
@@ -144,7 +159,23 @@ def plan_svg(d: Design) -> str:
         parts.append(
             f'<circle class="ln hole" fill="#ffffff" cx="{hx:.2f}" cy="{-hy:.2f}" r="{r:.2f}"/>'
         )
-    parts.append(_line(x0 - gap, 0.0, x1 + gap, 0.0, "axis"))
+    return parts
+
+
+def _plan_dimensions(
+    d: Design,
+    outline: np.ndarray,
+    box: tuple[float, float, float, float],
+    fs: float,
+    gap: float,
+) -> list[str]:
+    """The plan's axis, dimensions and notes (mm): W at the lip station, L, the flange's
+    length and width, the flow arrow and the flange's note; ``box`` (x0, x1, y0, y1) the
+    drawn extent, ``fs`` the font size, ``gap`` the dimension lines' offset."""
+    g, lay = d.geometry, d.layout
+    w, length = g.width_mm, g.length_mm
+    x0, x1, y0, y1 = box
+    parts = [_line(x0 - gap, 0.0, x1 + gap, 0.0, "axis")]
     # W at the lip station, dimensioned beyond the flange's downstream end
     xd = x1 + gap
     parts.append(_line(length, -w / 2.0, xd + fs, -w / 2.0, "thin"))
@@ -173,49 +204,20 @@ def plan_svg(d: Design) -> str:
     holes = len(lay.hole_centres_xy)
     note = f"flange {lay.flange_width_mm:g} wide, {holes} holes Ø{lay.hole_diameter_mm:g}"
     parts.append(_text(x0 + (x1 - x0) / 2.0, -y1 - gap * 0.6, note, fs * 0.9))
-    return _frame(
-        "plan",
-        x0 - 5 * gap,
-        -y1 - 2 * gap,
-        x1 + 5 * gap,
-        -y0 + 4 * gap,
-        "".join(parts),
-        f"plan view of {d.name}",
-    )
+    return parts
 
 
 def section_svg(d: Design, samples: int = 160) -> str:
     """Centreline section (flow left to right, outer skin at the top); on a curved skin
     drawn on the skin (see the module text)."""
     g = d.geometry
-    fl, lip, t = g.floor, g.lip, g.transition
-    length, h = g.length_mm, g.drop_mm
     x_end = g.outlet_x_mm + g.spigot_length_mm
-    xs = np.linspace(0.0, g.throat_end_mm, samples)
-    floor = list(zip(xs.tolist(), (-fl.depth(xs)).tolist(), strict=True))
-    roof = [(lip.nose_end_mm, lip.roof_z_mm), (g.throat_end_mm, lip.roof_z_mm)]
-    if t is not None:
-        bottom = t.outlet_top_z_mm - t.outlet_height_mm
-        floor += [(t.x_end_mm, bottom), (x_end, bottom)]
-        roof += [(t.x_end_mm, t.outlet_top_z_mm), (x_end, t.outlet_top_z_mm)]
-    zmin = min(z for _, z in floor)
     span = max(x_end, 1.0)
     fs = span * 0.03
     gap = fs * 2.0
-    ts = g.skin_thickness_mm
-    xu = -0.12 * span
-    air = [(0.0, 0.0), *floor, *roof[::-1], (length, lip.centre_z_mm), (length, 0.0)]
-    body = [*lip.nose(), *roof, (x_end, max(0.0, lip.centre_z_mm + lip.semi_minor_mm))]
-    x_far = x_end + gap
-    table = getattr(d.skin, "u", None)  # the user's panel is mapped over a table only
-    if isinstance(table, np.ndarray) and table.size:
-        xu, x_far = max(xu, float(table[0])), min(x_far, float(table[-1]))
-    skin_a = [(xu, 0.0), (0.0, 0.0), (0.0, -ts), (xu, -ts)]
-    skin_b = [(lip.nose_end_mm, 0.0), (x_far, 0.0), (x_far, -ts), (lip.nose_end_mm, -ts)]
-    top = [(xu, 0.0), (x_far, 0.0)]
+    shapes, skins, xu = _section_outlines(d, samples, x_end, gap)
+    zmin = min(z for _, z in shapes["floor"])
     maps = section_maps(d)
-    shapes = {"air": air, "floor": floor, "roof": roof, "body": body}
-    skins = {"a": skin_a, "b": skin_b, "top": top}
     if maps is not None:
         step = span / 60.0
         shapes = {k: maps[0](densified(v, step)) for k, v in shapes.items()}  # type: ignore[misc]
@@ -232,10 +234,74 @@ def section_svg(d: Design, samples: int = 160) -> str:
     ]
     drawn = np.vstack([np.asarray(v, dtype=float) for v in (shapes | skins).values()])
     zmin = min(zmin, float(drawn[:, 1].min()))
+    yd = -gap
+    parts += _section_labels(d, maps, zmin, xu, yd, fs, gap)
+    ymax = -zmin + 3 * fs
+    return _frame(
+        "section",
+        min(xu, float(drawn[:, 0].min())) - gap,
+        min(yd, -float(drawn[:, 1].max())) - 3 * fs,
+        max(x_end, float(drawn[:, 0].max())) + 3 * gap,
+        max(ymax, g.drop_mm + 3 * fs),
+        "".join(parts),
+        f"centreline section of {d.name}",
+    )
+
+
+Outline = list[tuple[float, float]]
+
+
+def _section_outlines(
+    d: Design, samples: int, x_end: float, gap: float
+) -> tuple[dict[str, Outline], dict[str, Outline], float]:
+    """The section's outlines in design (u, w) (mm): the parts (``air``, ``floor``,
+    ``roof``, the lip's ``body``) and the skin (``a`` ahead of the opening, ``b`` behind
+    it, its ``top`` line), and the u where the skin drawn ahead begins (mm)."""
+    g = d.geometry
+    fl, lip, t = g.floor, g.lip, g.transition
+    length = g.length_mm
+    xs = np.linspace(0.0, g.throat_end_mm, samples)
+    floor = list(zip(xs.tolist(), (-fl.depth(xs)).tolist(), strict=True))
+    roof = [(lip.nose_end_mm, lip.roof_z_mm), (g.throat_end_mm, lip.roof_z_mm)]
+    if t is not None:
+        bottom = t.outlet_top_z_mm - t.outlet_height_mm
+        floor += [(t.x_end_mm, bottom), (x_end, bottom)]
+        roof += [(t.x_end_mm, t.outlet_top_z_mm), (x_end, t.outlet_top_z_mm)]
+    span = max(x_end, 1.0)
+    ts = g.skin_thickness_mm
+    xu = -0.12 * span
+    air = [(0.0, 0.0), *floor, *roof[::-1], (length, lip.centre_z_mm), (length, 0.0)]
+    body = [*lip.nose(), *roof, (x_end, max(0.0, lip.centre_z_mm + lip.semi_minor_mm))]
+    x_far = x_end + gap
+    table = getattr(d.skin, "u", None)  # the user's panel is mapped over a table only
+    if isinstance(table, np.ndarray) and table.size:
+        xu, x_far = max(xu, float(table[0])), min(x_far, float(table[-1]))
+    skin_a = [(xu, 0.0), (0.0, 0.0), (0.0, -ts), (xu, -ts)]
+    skin_b = [(lip.nose_end_mm, 0.0), (x_far, 0.0), (x_far, -ts), (lip.nose_end_mm, -ts)]
+    top = [(xu, 0.0), (x_far, 0.0)]
+    shapes = {"air": air, "floor": floor, "roof": roof, "body": body}
+    return shapes, {"a": skin_a, "b": skin_b, "top": top}, xu
+
+
+def _section_labels(
+    d: Design,
+    maps: tuple[XZ, XZ] | None,
+    zmin: float,
+    xu: float,
+    yd: float,
+    fs: float,
+    gap: float,
+) -> list[str]:
+    """The section's dimensions and labels (mm, deg): L above the skin, H at the lip
+    station, the ramp angle along the ramp, the flow arrow, the transition's start and
+    outlet; ``zmin`` the lowest drawn point, ``yd`` the height of the L line, ``fs`` the
+    font size."""
+    g = d.geometry
+    fl, t = g.floor, g.transition
+    length, h = g.length_mm, g.drop_mm
+    parts: list[str] = []
     if t is not None:
         parts.append(_line(t.x_start_mm, 0.0, t.x_start_mm, -zmin + gap * 0.3, "thin"))
-    # L above the skin, H at the lip station, the ramp angle along the ramp
-    yd = -gap
     parts.append(_line(0.0, 0.0, 0.0, yd - 0.5 * fs, "thin"))
     parts.append(_line(length, 0.0, length, yd - 0.5 * fs, "thin"))
     parts.append(_dim((0.0, yd), (length, yd), f"L {length:.1f}", fs, "L"))
@@ -277,67 +343,4 @@ def section_svg(d: Design, samples: int = 160) -> str:
                 fs * 0.9,
             )
         )
-    ymax = -zmin + 3 * fs
-    return _frame(
-        "section",
-        min(xu, float(drawn[:, 0].min())) - gap,
-        min(yd, -float(drawn[:, 1].max())) - 3 * fs,
-        max(x_end, float(drawn[:, 0].max())) + 3 * gap,
-        max(ymax, h + 3 * fs),
-        "".join(parts),
-        f"centreline section of {d.name}",
-    )
-
-
-def _flat_caption(d: Design, skin: dict[str, Any]) -> str:
-    return "flat skin: both drawings are true to scale"
-
-
-def _curved_caption(d: Design, skin: dict[str, Any]) -> str:
-    shape = skin["shape"]
-    if shape == "cylinder":
-        what = f"cylinder R {skin['radius_mm']:g} mm ({skin['side']}, axis {skin['axis']})"
-        along = skin["axis"] == "spanwise"
-    else:
-        what = (
-            f"doubly curved R {skin['radius_streamwise_mm']:g} along / "
-            f"{skin['radius_spanwise_mm']:g} across mm ({skin['side']})"
-        )
-        along = True
-    section = (
-        "section drawn on the curved skin, depths along its normal"
-        if along
-        else "the skin curves across the flow only, so the centreline section is true"
-    )
-    return f"{what}: {section}; plan drawn flat as the developed opening ({_stretch(d)})"
-
-
-def _panel_caption(d: Design, skin: dict[str, Any]) -> str:
-    return (
-        f"your panel {skin.get('file', '')}: section drawn on the panel along the centreline "
-        f"(its frame at the datum, x along the flow); plan drawn flat as the developed "
-        f"opening ({_stretch(d)})"
-    )
-
-
-def _stretch(d: Design) -> str:
-    dev = d.development
-    if dev.exact:
-        return "developed exactly"
-    return f"lengths stretched up to {dev.max_length_distortion_pct:.2f} %"
-
-
-#: ``skin.shape`` → the caption under the drawings (total over the spec's shapes).
-SKIN_CAPTIONS: dict[str, Callable[[Design, dict[str, Any]], str]] = {
-    "flat": _flat_caption,
-    "cylinder": _curved_caption,
-    "doubly": _curved_caption,
-    "panel": _panel_caption,
-}
-
-
-def skin_caption(d: Design) -> str:
-    """What the two drawings show of the skin: which one is drawn flat, and how much the
-    developed plan stretches lengths."""
-    skin = dict(d.skin_summary)
-    return SKIN_CAPTIONS[str(skin.get("shape", "flat"))](d, skin)
+    return parts

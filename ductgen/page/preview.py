@@ -15,7 +15,9 @@ from typing import Any
 from ductgen.design import Design, build_design
 from ductgen.display import SHOWN
 from ductgen.errors import DesignWarning, DuctgenError, SpecError
-from ductgen.page.draw import plan_svg, section_svg, skin_caption
+from ductgen.flow.record import FlowRecord
+from ductgen.page.captions import skin_caption
+from ductgen.page.draw import plan_svg, section_svg
 from ductgen.page.panel_view import panel_svg
 from ductgen.spec import Spec, parse_spec
 
@@ -56,7 +58,7 @@ def _row(key: str, stored: float | None, shown_as: str | None = None) -> dict[st
 def key_numbers(d: Design) -> list[dict[str, Any]]:
     """The key numbers block (mm, mm², deg, cm³), with the transition's steepest wall against
     the two-dimensional diffuser stall line (:mod:`ductgen.flow.stall`) when there is one."""
-    from ductgen.flow.stall import steepest_wall_report
+    from ductgen.flow.stall import steepest_wall
 
     g = d.geometry
     pf, fl = g.planform, g.floor
@@ -73,88 +75,79 @@ def key_numbers(d: Design) -> list[dict[str, Any]]:
     ]
     if g.transition is not None:
         rows.append(_row("transition_area_ratio", g.transition.area_ratio))
-    wall = steepest_wall_report(d.duct)
-    if wall:
+    wall = steepest_wall(d.duct)
+    if wall is not None:
         rows += [
-            _row(k, wall[k])
-            for k in (
-                "steepest_wall_angle_deg",
-                "stall_line_included_deg",
-                "length_under_stall_line_mm",
-            )
+            _row("steepest_wall_angle_deg", wall.angle_deg),
+            _row("stall_line_included_deg", wall.stall_line_included_deg),
+            _row("length_under_stall_line_mm", wall.length_under_stall_line_mm),
         ]
     return rows
 
 
-def _source(flow: dict[str, Any]) -> str:
+def _source(flow: FlowRecord) -> str:
     """The recovery's source in a few words (the report's ``recovery_source`` says it in
     full)."""
-    kind = flow.get("recovery_model", "")
+    kind = flow.recovery_model or ""
     if kind == "map":
-        n = (flow.get("recovery_map") or {}).get("points")
-        return f"ductgen CFD map ({n} points)"
+        return f"ductgen CFD map ({flow.recovery_map_points} points)"
     return {
         "capture": "capture model (no published source)",
         "constant": "constant from the spec",
         "table": "your table",
-    }.get(kind, str(flow.get("recovery_source", "")))
+    }.get(kind, flow.recovery_source)
 
 
-def flow_rows(flow: dict[str, Any]) -> list[dict[str, Any]]:
-    """The airflow block from the report's ``flow`` section (km/h, L/s, kg/s, N shown)."""
-    band = flow.get("sensitivity", {})
+def flow_rows(section: dict[str, Any]) -> list[dict[str, Any]]:
+    """The airflow block from the report's ``flow`` section (km/h, L/s, kg/s, N shown), read
+    through its typed record (:class:`~ductgen.flow.record.FlowRecord`)."""
+    flow = FlowRecord.of_section(section)
     rows = [
-        _row("speed_m_s", flow["speed_m_s"]),
-        _row("mach", flow.get("mach")),
-        _row("volume_flow_m3_s", flow.get("volume_flow_m3_s")),
-        _row("volume_flow_low_m3_s", band.get("volume_flow_low_m3_s")),
-        _row("volume_flow_high_m3_s", band.get("volume_flow_high_m3_s")),
-        _row("inlet_velocity_ratio", flow.get("inlet_velocity_ratio")),
-        _row("ram_recovery", flow.get("ram_recovery")),
-        _row("recovery_uncertainty", flow.get("recovery_uncertainty")),
+        _row("speed_m_s", flow.speed_m_s),
+        _row("mach", flow.mach),
+        _row("volume_flow_m3_s", flow.volume_flow_m3_s),
+        _row("volume_flow_low_m3_s", flow.volume_flow_low_m3_s),
+        _row("volume_flow_high_m3_s", flow.volume_flow_high_m3_s),
+        _row("inlet_velocity_ratio", flow.inlet_velocity_ratio),
+        _row("ram_recovery", flow.ram_recovery),
+        _row("recovery_uncertainty", flow.recovery_uncertainty),
         {**_row("recovery_source", None), "text": _source(flow)},
-        *(
-            _row(k, flow.get(k))
-            for k in ("mass_flow_kg_s", "delta_over_depth_max", "momentum_drag_n")
-        ),
+        _row("mass_flow_kg_s", flow.mass_flow_kg_s),
+        _row("delta_over_depth_max", flow.delta_over_depth_max),
+        _row("momentum_drag_n", flow.momentum_drag_n),
     ]
-    if flow.get("external_drag_n") is not None:
-        rows.append(_row("external_drag_n", flow["external_drag_n"]))
-    if "required_flow_m3_s" in flow:
-        rows.append(_row("required_flow_m3_s", flow["required_flow_m3_s"]))
+    if flow.external_drag_n is not None:
+        rows.append(_row("external_drag_n", flow.external_drag_n))
+    if flow.required_flow_m3_s is not None:
+        rows.append(_row("required_flow_m3_s", flow.required_flow_m3_s))
     return rows + _term_rows(flow)
 
 
-def _term_rows(flow: dict[str, Any]) -> list[dict[str, Any]]:
+def _term_rows(flow: FlowRecord) -> list[dict[str, Any]]:
     """The reviewer's terms: the head (½ρV² beside the isentropic impact pressure, and the
     one the recovery applies to), the surface Cp, the flow angle's factor, the outflow's α
     with where it goes, and β when a hose mixes it out."""
-    if "recovery_head_pa" not in flow:
+    if flow.recovery_head_pa is None:
         return []
-    exit_kind = flow.get("exit")
     rows = [
-        _row(k, flow.get(k))
-        for k in (
-            "dynamic_pressure_pa",
-            "impact_pressure_pa",
-            "recovery_head_pa",
-            "inlet_cp",
-            "yaw_factor",
-        )
+        _row("dynamic_pressure_pa", flow.dynamic_pressure_pa),
+        _row("impact_pressure_pa", flow.impact_pressure_pa),
+        _row("recovery_head_pa", flow.recovery_head_pa),
+        _row("inlet_cp", flow.inlet_cp),
+        _row("yaw_factor", flow.yaw_factor),
     ]
-    where = "plenum" if exit_kind == "plenum" else "hose"
+    where = "plenum" if flow.exit == "plenum" else "hose"
     rows.append(
         _row(
             "kinetic_energy_factor",
-            flow.get("kinetic_energy_factor"),
+            flow.kinetic_energy_factor,
             shown_as=f"kinetic_energy_factor_{where}",
         )
     )
-    if exit_kind == "hose":
-        rows.append(_row("momentum_factor", flow.get("momentum_factor")))
-    grad = flow.get("boundary_layer_gradient")
-    if grad is not None:  # Head's method along the Cp gradient
-        rows.append(_row("shape_factor", grad["shape_factor"]))
+    if flow.exit == "hose":
+        rows.append(_row("momentum_factor", flow.momentum_factor))
+    if flow.gradient is not None:  # Head's method along the Cp gradient
+        rows.append(_row("shape_factor", flow.gradient.shape_factor))
     return rows
 
 
@@ -205,12 +198,13 @@ def preview(data: Any, base_dir: Path | None = None) -> dict[str, Any]:
     if spec.flow is not None:
         section, fw = _flow(spec, d)
         warnings += fw
+        rec = FlowRecord.of_section(section)
         flow = {
             "rows": flow_rows(section),
-            "operating_point": section.get("operating_point"),
-            "note": section.get("operating_point_note"),
+            "operating_point": "found" if rec.found else "none",
+            "note": rec.operating_point_note,
         }
-        meets = section.get("meets_required_flow")
+        meets = None if rec.required_flow_m3_s is None else rec.meets_required_flow
     return {
         "ok": True,
         "name": spec.name,

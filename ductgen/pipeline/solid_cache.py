@@ -149,7 +149,7 @@ class SolidStage:
             self.quality,
             frame,
         )
-        pieces = [InsertPiece.from_dict(p) for p in made]
+        pieces = made
         self.misses.append("insert split")
         if key is not None and self.cache is not None:
             blobs = {}

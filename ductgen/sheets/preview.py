@@ -11,18 +11,21 @@ shapes (seen on this stack).
 
 from __future__ import annotations
 
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
 from ductgen.errors import ExportError, GeometryError
+from ductgen.sheets.skin_patch import curved_panel, patch_marks
 from ductgen.solids.jobs import cutter_mesh_job
+
+if TYPE_CHECKING:
+    from ductgen.design import Design
+    from ductgen.geometry.panel import PanelFrame
 
 __all__ = [
     "GL_PACKAGES",
     "MARGIN",
-    "curved_panel",
-    "patch_marks",
     "preview_png",
     "render_png",
 ]
@@ -145,21 +148,7 @@ def render_png(
         vtkObject.GlobalWarningDisplayOff()
 
         pv.OFF_SCREEN = True
-        tri = np.hstack(
-            [np.full((len(faces), 1), 3, dtype=np.int64), np.asarray(faces, dtype=np.int64)]
-        )
-        mesh = pv.PolyData(np.asarray(verts, dtype=float), tri.ravel())
-        plate = None
-        if opening is not None:
-            # keep what lies below the skin plane (the cutter's overcut rises above it)
-            mesh = mesh.clip(normal=(0, 0, 1), origin=(0, 0, 0), invert=True)
-            mesh = mesh.extract_surface(algorithm="dataset_surface")
-            span = float(np.ptp(opening[:, 0]))
-            plate = _skin_plate(np.asarray(opening, dtype=float), 0.3 * span)
-        if clip_by is not None:
-            mesh = mesh.clip_surface(_polydata(*clip_by), invert=True)
-            mesh = mesh.extract_surface(algorithm="dataset_surface")
-        mesh = mesh.compute_normals(cell_normals=False, split_vertices=True, feature_angle=35.0)
+        mesh, plate = _clipped(verts, faces, opening, clip_by)
         pl = pv.Plotter(off_screen=True, window_size=list(size))
         # pyvista types this method as functools.wraps of a function that takes self first
         pl.set_background("white", top="#dfe7ef")  # type: ignore[arg-type]
@@ -177,11 +166,7 @@ def render_png(
         if marks is not None:
             _add_marks(pl, marks, mesh.bounds)
         pl.enable_lightkit()
-        # looking from above, upstream and to one side: the ramp, walls and lip all show
-        b = (plate if plate is not None else mesh).bounds
-        c = np.array([(b[0] + b[1]) / 2, (b[2] + b[3]) / 2, (b[4] + b[5]) / 2])
-        span = max(b[1] - b[0], b[3] - b[2], b[5] - b[4])
-        pl.camera_position = [tuple(c + span * np.array([-0.55, -0.85, 0.75])), tuple(c), (0, 0, 1)]
+        _aim(pl, (plate if plate is not None else mesh).bounds)
         drawn = [np.asarray(mesh.points)]
         if plate is not None:
             drawn.append(np.asarray(plate.points))
@@ -196,6 +181,43 @@ def render_png(
     # (optimize=True: 5 s more)
     Image.fromarray(np.asarray(img)).save(buf, format="PNG", compress_level=3)
     return buf.getvalue()
+
+
+def _clipped(
+    verts: np.ndarray,
+    faces: np.ndarray,
+    opening: np.ndarray | None,
+    clip_by: tuple[np.ndarray, np.ndarray] | None,
+) -> tuple[Any, Any]:
+    """The mesh to draw (pyvista, mm, with point normals split at 35° creases) and the flat
+    skin plate round a cutter's ``opening`` (None without one): a cutter is clipped at the
+    skin plane, or inside ``clip_by`` on a curved skin (see :func:`render_png`)."""
+    import pyvista as pv
+
+    tri = np.hstack(
+        [np.full((len(faces), 1), 3, dtype=np.int64), np.asarray(faces, dtype=np.int64)]
+    )
+    mesh = pv.PolyData(np.asarray(verts, dtype=float), tri.ravel())
+    plate = None
+    if opening is not None:
+        # keep what lies below the skin plane (the cutter's overcut rises above it)
+        mesh = mesh.clip(normal=(0, 0, 1), origin=(0, 0, 0), invert=True)
+        mesh = mesh.extract_surface(algorithm="dataset_surface")
+        span = float(np.ptp(opening[:, 0]))
+        plate = _skin_plate(np.asarray(opening, dtype=float), 0.3 * span)
+    if clip_by is not None:
+        mesh = mesh.clip_surface(_polydata(*clip_by), invert=True)
+        mesh = mesh.extract_surface(algorithm="dataset_surface")
+    mesh = mesh.compute_normals(cell_normals=False, split_vertices=True, feature_angle=35.0)
+    return mesh, plate
+
+
+def _aim(pl: Any, b: Any) -> None:
+    """Point the camera at the box ``b`` (xmin, xmax, ymin, ymax, zmin, zmax; mm) from
+    above, upstream and to one side, so the ramp, walls and lip all show."""
+    c = np.array([(b[0] + b[1]) / 2, (b[2] + b[3]) / 2, (b[4] + b[5]) / 2])
+    span = max(b[1] - b[0], b[3] - b[2], b[5] - b[4])
+    pl.camera_position = [tuple(c + span * np.array([-0.55, -0.85, 0.75])), tuple(c), (0, 0, 1)]
 
 
 def _polydata(verts: np.ndarray, faces: np.ndarray) -> Any:
@@ -230,105 +252,56 @@ def _add_marks(pl: Any, marks: dict[str, Any], bounds: Any) -> None:
     pl.add_mesh(arrow, color="#1f5fa0")
 
 
-def curved_panel(
-    skin: Any,
-    around_xy: np.ndarray,
-    hole_xy: np.ndarray | None,
-    turned: Any = None,
-    step: float = 4.0,
-) -> tuple[np.ndarray, np.ndarray]:
-    """A patch of the skin's outer surface round a part (model coordinates, mm): a
-    rectangle over ``around_xy``'s extent plus a 20 mm margin with ``hole_xy`` cut out
-    exactly (both closed outlines in design coordinates). The patch is triangulated in
-    (u, v) (Delaunay, scipy) over a ``step`` grid and the hole's outline sampled every
-    ``step`` / 8, grid points nearer the outline than ``step`` / 3 left out, so the cut edge
-    follows the outline to within the sag of a 0.5 mm chord; triangles inside the hole are
-    dropped, then every point is mapped; ``hole_xy`` None: the whole patch. Triangles run
-    counter-clockwise in (u, v), so their normals point out of the skin. ``turned``: the
-    plug's map (it is built turned over), used instead of the skin's."""
-    from matplotlib.path import Path as MplPath
-    from scipy.spatial import Delaunay
-
-    lo, hi = around_xy.min(axis=0) - 20.0, around_xy.max(axis=0) + 20.0
-    nu, nv = int((hi[0] - lo[0]) / step) + 2, int((hi[1] - lo[1]) / step) + 2
-    uu, vv = np.meshgrid(
-        np.linspace(lo[0], hi[0], nu), np.linspace(lo[1], hi[1], nv), indexing="ij"
-    )
-    grid = np.column_stack([uu.ravel(), vv.ravel()])
-    if hole_xy is None:  # the whole patch (the surface a curved cutter is clipped by)
-        uv = grid
-        faces = Delaunay(uv).simplices
-    else:
-        ring = _dense_ring(np.asarray(hole_xy, dtype=float), step / 8.0)
-        hole = MplPath(np.vstack([ring, ring[:1]]))
-        near = _distance_to(grid, ring) < step / 3.0
-        grid = grid[~near & ~hole.contains_points(grid)]
-        uv = np.vstack([grid, ring])
-        faces = Delaunay(uv).simplices
-        faces = faces[~hole.contains_points(uv[faces].mean(axis=1))]
-    # counter-clockwise in (u, v): every normal points out of the skin (+w)
-    a, b, c = (uv[faces[:, i]] for i in range(3))
-    cw = (b[:, 0] - a[:, 0]) * (c[:, 1] - a[:, 1]) - (b[:, 1] - a[:, 1]) * (c[:, 0] - a[:, 0]) < 0
-    faces[cw] = faces[cw][:, ::-1]
-    pts = np.column_stack([uv, np.zeros(len(uv))])
-    xyz = skin.to_model(pts) if turned is None else turned(pts)
-    return xyz, faces
-
-
-def patch_marks(
-    skin: Any,
-    around_xy: np.ndarray,
-    hole_xy: np.ndarray,
-    length_mm: float,
-    width_mm: float,
-    turned: Any = None,
-) -> dict[str, Any]:
-    """What the preview marks on the skin (model coordinates, mm): the patch's edges and
-    the cut edge as polylines (``lines``), the datum (design origin) and a flow arrow beside
-    the opening (``arrow``: tail, head), lifted 0.5 mm off the skin."""
-    lo, hi = around_xy.min(axis=0) - 20.0, around_xy.max(axis=0) + 20.0
-    rect = np.array([[lo[0], lo[1]], [hi[0], lo[1]], [hi[0], hi[1]], [lo[0], hi[1]], lo])
-    edge = _dense_ring(rect[:-1], 2.0)
-    cut = _dense_ring(np.asarray(hole_xy, dtype=float), 1.0)
-
-    def on(uv: np.ndarray, lift: float = 0.0) -> np.ndarray:
-        p = np.column_stack([uv, np.full(len(uv), lift)])
-        return skin.to_model(p) if turned is None else turned(p)
-
-    v_arrow = 0.5 * width_mm + 0.45 * (hi[1] - 0.5 * width_mm)
-    arrow = on(np.array([[0.05 * length_mm, v_arrow], [0.45 * length_mm, v_arrow]]), 0.5)
-    datum = on(np.zeros((1, 2)))[0]
-    normal = on(np.zeros((1, 2)), 1.0)[0] - datum
-    return {
-        "lines": [on(np.vstack([edge, edge[:1]])), on(np.vstack([cut, cut[:1]]), 0.05)],
-        "datum": datum,
-        "normal": normal / np.linalg.norm(normal),
-        "arrow": arrow,
-    }
-
-
-def _dense_ring(ring: np.ndarray, step: float) -> np.ndarray:
-    """A closed outline (N, 2) resampled so no segment is longer than ``step`` (mm)."""
-    p = np.vstack([ring, ring[:1]])
-    d = np.diff(p, axis=0)
-    n = np.maximum(1, np.ceil(np.hypot(d[:, 0], d[:, 1]) / step)).astype(int)
-    out = [p[i] + d[i] * (np.arange(n[i])[:, None] / n[i]) for i in range(len(d))]
-    return np.vstack(out)
-
-
-def _distance_to(points: np.ndarray, ring: np.ndarray) -> np.ndarray:
-    """Distance (mm) from each point to the nearest vertex of a densely sampled ring."""
-    from scipy.spatial import cKDTree
-
-    return np.asarray(cKDTree(ring).query(points)[0])
-
-
 def _gl_message(detail: str) -> str:
     return (
         "preview.png: offscreen OpenGL rendering failed "
         f"({detail}). On Debian/Ubuntu install: apt-get install {GL_PACKAGES}; "
         "or leave 'sheet' out of --only"
     )
+
+
+Tri = tuple[np.ndarray, np.ndarray]
+
+
+def _scene(
+    d: Design, kind: str
+) -> tuple[np.ndarray | None, Tri | None, dict[str, Any], Tri | None]:
+    """What the picture shows round a part of ``kind`` (model coordinates, mm): a flat
+    cutter's opening (the plate is drawn round it), or a patch of the skin with the part's
+    cut-out; the marks on it; the skin patch a cutter is clipped by (see :func:`render_png`)."""
+    g = d.geometry
+    turned = d.placement.plug_map if kind == "plug" else None
+    clip_by = None
+    if d.skin.is_flat and kind == "cutter":  # the flat plate, the cutter clipped under it
+        opening = g.planform.outline(300)
+        span = float(np.ptp(opening[:, 0]))
+        around = np.vstack([opening.min(axis=0), opening.max(axis=0)])
+        around = around + np.array([[-1.0], [1.0]]) * (0.3 * span - 20.0)
+        return opening, None, patch_marks(d.skin, around, opening, g.length_mm, g.width_mm), None
+    hole = d.layout.opening_xy if kind == "cutter" else d.layout.cutout_xy
+    panel = curved_panel(d.skin, d.plug_trim_xy, hole, turned=turned)
+    marks = patch_marks(d.skin, d.plug_trim_xy, hole, g.length_mm, g.width_mm, turned)
+    if kind == "cutter":  # cut its overcut away along the skin, so the cavity shows
+        clip_by = curved_panel(d.skin, d.plug_trim_xy, None)
+    return None, panel, marks, clip_by
+
+
+def _in_frame(
+    frame: PanelFrame, mesh: Tri, panel: Tri, clip_by: Tri | None, marks: dict[str, Any]
+) -> tuple[Tri, Tri, Tri | None, dict[str, Any]]:
+    """The part's mesh, the panel, the clipping patch and the marks moved into the user's
+    panel's datum frame (mm)."""
+    mesh = (frame.to_local(mesh[0]), mesh[1])
+    panel = (frame.to_local(panel[0]), panel[1])
+    if clip_by is not None:
+        clip_by = (frame.to_local(clip_by[0]), clip_by[1])
+    marks = {
+        "lines": [frame.to_local(p) for p in marks["lines"]],
+        "datum": frame.to_local(marks["datum"])[0],
+        "normal": marks["normal"] @ frame.axes.T,
+        "arrow": frame.to_local(marks["arrow"]),
+    }
+    return mesh, panel, clip_by, marks
 
 
 def preview_png(ctx: Any, worker: Any = None) -> bytes:
@@ -348,35 +321,11 @@ def preview_png(ctx: Any, worker: Any = None) -> bytes:
     else:
         mesh = ctx.solids[kind].mesh
     d = ctx.design
-    g = d.geometry
-    turned = d.placement.plug_map if kind == "plug" else None
-    clip_by = None
-    if d.skin.is_flat and kind == "cutter":  # the flat plate, the cutter clipped under it
-        opening = g.planform.outline(300)
-        panel = None
-        span = float(np.ptp(opening[:, 0]))
-        around = np.vstack([opening.min(axis=0), opening.max(axis=0)])
-        around = around + np.array([[-1.0], [1.0]]) * (0.3 * span - 20.0)
-        marks = patch_marks(d.skin, around, opening, g.length_mm, g.width_mm)
-    else:  # a patch of the skin (flat or curved) with the part's cut-out in it
-        opening = None
-        hole = d.layout.opening_xy if kind == "cutter" else d.layout.cutout_xy
-        panel = curved_panel(d.skin, d.plug_trim_xy, hole, turned=turned)
-        marks = patch_marks(d.skin, d.plug_trim_xy, hole, g.length_mm, g.width_mm, turned)
-        if kind == "cutter":  # cut its overcut away along the skin, so the cavity shows
-            clip_by = curved_panel(d.skin, d.plug_trim_xy, None)
+    opening, panel, marks, clip_by = _scene(d, kind)
     frame = d.panel_frame
     if frame is not None and panel is not None:  # the user's panel: view it in the datum's
-        mesh = (frame.to_local(mesh[0]), mesh[1])  # frame, as the analytic skins are viewed
-        panel = (frame.to_local(panel[0]), panel[1])
-        if clip_by is not None:
-            clip_by = (frame.to_local(clip_by[0]), clip_by[1])
-        marks = {
-            "lines": [frame.to_local(p) for p in marks["lines"]],
-            "datum": frame.to_local(marks["datum"])[0],
-            "normal": marks["normal"] @ frame.axes.T,
-            "arrow": frame.to_local(marks["arrow"]),
-        }
+        # frame, as the analytic skins are viewed
+        mesh, panel, clip_by, marks = _in_frame(frame, mesh, panel, clip_by, marks)
     store = getattr(ctx, "cache", None)
     key = None
     if store is not None:  # the same picture of the same meshes: from the solid cache

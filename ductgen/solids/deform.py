@@ -21,6 +21,7 @@ import numpy as np
 from OCP.BRep import BRep_Builder, BRep_Tool
 from OCP.BRepBuilderAPI import BRepBuilderAPI_Copy, BRepBuilderAPI_NurbsConvert
 from OCP.BRepLib import BRepLib
+from OCP.Geom import Geom_BSplineCurve, Geom_BSplineSurface
 from OCP.GeomConvert import GeomConvert
 from OCP.gp import gp_Pnt
 from OCP.ShapeFix import ShapeFix_Shape
@@ -28,7 +29,7 @@ from OCP.TColStd import TColStd_Array1OfInteger, TColStd_Array1OfReal
 from OCP.TopAbs import TopAbs_EDGE, TopAbs_FACE, TopAbs_VERTEX
 from OCP.TopExp import TopExp
 from OCP.TopLoc import TopLoc_Location
-from OCP.TopoDS import TopoDS
+from OCP.TopoDS import TopoDS, TopoDS_Edge, TopoDS_Face
 from OCP.TopTools import TopTools_IndexedMapOfShape
 
 from ductgen.design import Design
@@ -63,10 +64,12 @@ def _spans(length_mm: float, span_mm: float) -> int:
 
 
 def _polyline_length(pts: list[gp_Pnt]) -> float:
-    return sum(a.Distance(b) for a, b in itertools.pairwise(pts))
+    return float(sum(a.Distance(b) for a, b in itertools.pairwise(pts)))
 
 
-def _map_surface(face, fn: PointMap, span_mm: float):  # type: ignore[no-untyped-def]
+def _map_surface(face: TopoDS_Face, fn: PointMap, span_mm: float) -> Geom_BSplineSurface:
+    """The face's surface as a B-spline of degree ≥ 3, knots inserted until a span is at most
+    ``span_mm`` long in space (mm), its poles moved through ``fn``."""
     # a copy: the conversion hands back the very same spline when it already is one, and
     # the caller's shape must stay untouched
     bs = GeomConvert.SurfaceToBSplineSurface_s(BRep_Tool.Surface_s(face).Copy())
@@ -96,7 +99,9 @@ def _map_surface(face, fn: PointMap, span_mm: float):  # type: ignore[no-untyped
     return bs
 
 
-def _map_curve(edge, fn: PointMap, span_mm: float):  # type: ignore[no-untyped-def]
+def _map_curve(edge: TopoDS_Edge, fn: PointMap, span_mm: float) -> Geom_BSplineCurve | None:
+    """The edge's 3D curve refined and mapped as :func:`_map_surface` does a surface (None
+    when the edge has no 3D curve)."""
     crv = BRep_Tool.Curve_s(edge, 0.0, 0.0)
     if crv is None:
         return None

@@ -26,7 +26,14 @@ The healed shape replaces the original only if it is valid and of the same type.
 from __future__ import annotations
 
 import math
-from typing import Any
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:  # the kernel's bindings carry no type information: these are Any to mypy
+    from OCP.BRep import BRep_Builder
+    from OCP.BRepAdaptor import BRepAdaptor_Surface
+    from OCP.Geom import Geom_BSplineCurve
+    from OCP.Geom2d import Geom2d_BSplineCurve
+    from OCP.TopoDS import TopoDS_Edge, TopoDS_Face, TopoDS_Shape
 
 __all__ = [
     "MAX_TOLERANCE_MM",
@@ -40,21 +47,13 @@ __all__ = [
 MAX_TOLERANCE_MM = 0.01
 
 
-def exact_sections(w: Any) -> int:
+def exact_sections(w: TopoDS_Shape) -> int:
     """Rebuild every edge between a linear-extrusion face of a B-spline and a plane exactly
     (3D curve and both surface curves, tolerance 1e-7 mm), in place; returns how many."""
-    from OCP.BRep import BRep_Builder, BRep_Tool
-    from OCP.BRepAdaptor import BRepAdaptor_Surface
-    from OCP.Geom import Geom_BSplineCurve
-    from OCP.Geom2d import Geom2d_BSplineCurve
-    from OCP.GeomAbs import GeomAbs_BSplineCurve, GeomAbs_Plane, GeomAbs_SurfaceOfExtrusion
-    from OCP.GeomAPI import GeomAPI_ProjectPointOnCurve
-    from OCP.gp import gp_Pnt, gp_Pnt2d
-    from OCP.TColgp import TColgp_Array1OfPnt, TColgp_Array1OfPnt2d
-    from OCP.TColStd import TColStd_Array1OfInteger, TColStd_Array1OfReal
+    from OCP.BRep import BRep_Builder
     from OCP.TopAbs import TopAbs_EDGE, TopAbs_FACE
     from OCP.TopExp import TopExp
-    from OCP.TopoDS import TopoDS, TopoDS_Vertex
+    from OCP.TopoDS import TopoDS
     from OCP.TopTools import TopTools_IndexedDataMapOfShapeListOfShape
 
     m = TopTools_IndexedDataMapOfShapeListOfShape()
@@ -66,92 +65,142 @@ def exact_sections(w: Any) -> int:
         faces = [TopoDS.Face_s(f) for f in m.FindFromIndex(i)]
         if len(faces) != 2 or not e.Location().IsIdentity():
             continue
-        ad = [BRepAdaptor_Surface(f, False) for f in faces]
-        kinds = [a.GetType() for a in ad]
-        if sorted([GeomAbs_SurfaceOfExtrusion, GeomAbs_Plane], key=int) != sorted(kinds, key=int):
+        pair = _extrusion_and_plane(e, faces)
+        if pair is None:
             continue
-        ie = kinds.index(GeomAbs_SurfaceOfExtrusion)
-        fE, fP = faces[ie], faces[1 - ie]
-        aE, aP = ad[ie], ad[1 - ie]
-        if not (fE.Location().IsIdentity() and fP.Location().IsIdentity()):
-            continue
-        if BRep_Tool.IsClosed_s(e, fE) or BRep_Tool.IsClosed_s(e, fP):
-            continue
-        basis = aE.BasisCurve()
-        if basis.GetType() != GeomAbs_BSplineCurve:
-            continue
-        C = basis.BSpline()
-        if C.IsRational() or C.IsPeriodic():
-            continue
-        D = aE.Direction()
-        pln = aP.Plane()
-        n = pln.Axis().Direction()
-        org = pln.Location()
-        nd = n.X() * D.X() + n.Y() * D.Y() + n.Z() * D.Z()
-        if abs(nd) < 1e-6:
-            continue
-        npol = C.NbPoles()
-        deg = C.Degree()
-        poles = TColgp_Array1OfPnt(1, npol)
-        pe = TColgp_Array1OfPnt2d(1, npol)
-        pp = TColgp_Array1OfPnt2d(1, npol)
-        flat = [C.KnotSequence().Value(j) for j in range(1, C.KnotSequence().Length() + 1)]
-        xd, yd = pln.XAxis().Direction(), pln.YAxis().Direction()
-        for j in range(1, npol + 1):
-            P = C.Pole(j)
-            s = (
-                n.X() * (org.X() - P.X()) + n.Y() * (org.Y() - P.Y()) + n.Z() * (org.Z() - P.Z())
-            ) / nd
-            Q = gp_Pnt(P.X() + s * D.X(), P.Y() + s * D.Y(), P.Z() + s * D.Z())
-            poles.SetValue(j, Q)
-            g = sum(flat[j : j + deg]) / deg
-            pe.SetValue(j, gp_Pnt2d(g, s))
-            dq = (Q.X() - org.X(), Q.Y() - org.Y(), Q.Z() - org.Z())
-            pp.SetValue(
-                j,
-                gp_Pnt2d(
-                    dq[0] * xd.X() + dq[1] * xd.Y() + dq[2] * xd.Z(),
-                    dq[0] * yd.X() + dq[1] * yd.Y() + dq[2] * yd.Z(),
-                ),
-            )
-        knots = TColStd_Array1OfReal(1, C.NbKnots())
-        mults = TColStd_Array1OfInteger(1, C.NbKnots())
-        for j in range(1, C.NbKnots() + 1):
-            knots.SetValue(j, C.Knot(j))
-            mults.SetValue(j, C.Multiplicity(j))
-        c3 = Geom_BSplineCurve(poles, knots, mults, deg)
-        cE = Geom2d_BSplineCurve(pe, knots, mults, deg)
-        cP = Geom2d_BSplineCurve(pp, knots, mults, deg)
-        v1, v2 = TopoDS_Vertex(), TopoDS_Vertex()
-        TopExp.Vertices_s(e, v1, v2)
-        us = []
-        for v in (v1, v2):
-            pr = GeomAPI_ProjectPointOnCurve(BRep_Tool.Pnt_s(v), c3)
-            if pr.NbPoints() == 0 or pr.LowerDistance() > 1e-3:
-                us = None
-                break
-            us.append(pr.LowerDistanceParameter())
-            if pr.LowerDistance() > BRep_Tool.Tolerance_s(v):  # keep the vertex on the edge
-                B.UpdateVertex(v, 1.5 * pr.LowerDistance())
-        if us is None:
-            continue
-        if us[0] > us[1]:
-            c3.Reverse()
-            cE.Reverse()
-            cP.Reverse()
-            us = [c3.ReversedParameter(u) for u in us]
-        tol = 1e-7
-        B.UpdateEdge(e, c3, tol)
-        B.UpdateEdge(e, cE, fE, tol)
-        B.UpdateEdge(e, cP, fP, tol)
-        B.Range(e, us[0], us[1])
-        B.SameRange(e, True)
-        B.SameParameter(e, True)
-        n_done += 1
+        curves = _section_curves(*pair)
+        if curves is not None and _rebuild_edge(B, e, pair[0], pair[2], curves):
+            n_done += 1
     return n_done
 
 
-def extrusions_to_bspline(w: Any) -> int:
+def _extrusion_and_plane(
+    e: TopoDS_Edge, faces: list[TopoDS_Face]
+) -> tuple[TopoDS_Face, BRepAdaptor_Surface, TopoDS_Face, BRepAdaptor_Surface] | None:
+    """The edge's two faces as (extrusion face, its adaptor, plane face, its adaptor) when
+    one is a linear extrusion of a non-rational, non-periodic B-spline and the other a
+    plane, both unmoved and neither closed along the edge; else None."""
+    from OCP.BRep import BRep_Tool
+    from OCP.BRepAdaptor import BRepAdaptor_Surface
+    from OCP.GeomAbs import GeomAbs_BSplineCurve, GeomAbs_Plane, GeomAbs_SurfaceOfExtrusion
+
+    ad = [BRepAdaptor_Surface(f, False) for f in faces]
+    kinds = [a.GetType() for a in ad]
+    if sorted([GeomAbs_SurfaceOfExtrusion, GeomAbs_Plane], key=int) != sorted(kinds, key=int):
+        return None
+    ie = kinds.index(GeomAbs_SurfaceOfExtrusion)
+    fE, fP = faces[ie], faces[1 - ie]
+    aE, aP = ad[ie], ad[1 - ie]
+    if not (fE.Location().IsIdentity() and fP.Location().IsIdentity()):
+        return None
+    if BRep_Tool.IsClosed_s(e, fE) or BRep_Tool.IsClosed_s(e, fP):
+        return None
+    basis = aE.BasisCurve()
+    if basis.GetType() != GeomAbs_BSplineCurve:
+        return None
+    C = basis.BSpline()
+    if C.IsRational() or C.IsPeriodic():
+        return None
+    return fE, aE, fP, aP
+
+
+def _section_curves(
+    fE: TopoDS_Face, aE: BRepAdaptor_Surface, fP: TopoDS_Face, aP: BRepAdaptor_Surface
+) -> tuple[Geom_BSplineCurve, Geom2d_BSplineCurve, Geom2d_BSplineCurve] | None:
+    """The exact section of the extrusion ``C(u) + v·D`` by the plane (the module
+    docstring, 1.): its 3D curve and its surface curves on the extrusion and on the plane;
+    None when the plane is (nearly) parallel to ``D``."""
+    from OCP.Geom import Geom_BSplineCurve
+    from OCP.Geom2d import Geom2d_BSplineCurve
+    from OCP.gp import gp_Pnt, gp_Pnt2d
+    from OCP.TColgp import TColgp_Array1OfPnt, TColgp_Array1OfPnt2d
+    from OCP.TColStd import TColStd_Array1OfInteger, TColStd_Array1OfReal
+
+    C = aE.BasisCurve().BSpline()
+    D = aE.Direction()
+    pln = aP.Plane()
+    n = pln.Axis().Direction()
+    org = pln.Location()
+    nd = n.X() * D.X() + n.Y() * D.Y() + n.Z() * D.Z()
+    if abs(nd) < 1e-6:
+        return None
+    npol = C.NbPoles()
+    deg = C.Degree()
+    poles = TColgp_Array1OfPnt(1, npol)
+    pe = TColgp_Array1OfPnt2d(1, npol)
+    pp = TColgp_Array1OfPnt2d(1, npol)
+    flat = [C.KnotSequence().Value(j) for j in range(1, C.KnotSequence().Length() + 1)]
+    xd, yd = pln.XAxis().Direction(), pln.YAxis().Direction()
+    for j in range(1, npol + 1):
+        P = C.Pole(j)
+        s = (n.X() * (org.X() - P.X()) + n.Y() * (org.Y() - P.Y()) + n.Z() * (org.Z() - P.Z())) / nd
+        Q = gp_Pnt(P.X() + s * D.X(), P.Y() + s * D.Y(), P.Z() + s * D.Z())
+        poles.SetValue(j, Q)
+        g = sum(flat[j : j + deg]) / deg
+        pe.SetValue(j, gp_Pnt2d(g, s))
+        dq = (Q.X() - org.X(), Q.Y() - org.Y(), Q.Z() - org.Z())
+        pp.SetValue(
+            j,
+            gp_Pnt2d(
+                dq[0] * xd.X() + dq[1] * xd.Y() + dq[2] * xd.Z(),
+                dq[0] * yd.X() + dq[1] * yd.Y() + dq[2] * yd.Z(),
+            ),
+        )
+    knots = TColStd_Array1OfReal(1, C.NbKnots())
+    mults = TColStd_Array1OfInteger(1, C.NbKnots())
+    for j in range(1, C.NbKnots() + 1):
+        knots.SetValue(j, C.Knot(j))
+        mults.SetValue(j, C.Multiplicity(j))
+    c3 = Geom_BSplineCurve(poles, knots, mults, deg)
+    cE = Geom2d_BSplineCurve(pe, knots, mults, deg)
+    cP = Geom2d_BSplineCurve(pp, knots, mults, deg)
+    return c3, cE, cP
+
+
+def _rebuild_edge(
+    B: BRep_Builder,
+    e: TopoDS_Edge,
+    fE: TopoDS_Face,
+    fP: TopoDS_Face,
+    curves: tuple[Geom_BSplineCurve, Geom2d_BSplineCurve, Geom2d_BSplineCurve],
+) -> bool:
+    """Give ``e`` the section's curves (tolerance 1e-7 mm) over the range between its
+    vertices, each vertex's tolerance raised to reach the new curve; False (the edge left
+    as it was) when a vertex lies more than 1e-3 mm off it."""
+    from OCP.BRep import BRep_Tool
+    from OCP.GeomAPI import GeomAPI_ProjectPointOnCurve
+    from OCP.TopExp import TopExp
+    from OCP.TopoDS import TopoDS_Vertex
+
+    c3, cE, cP = curves
+    v1, v2 = TopoDS_Vertex(), TopoDS_Vertex()
+    TopExp.Vertices_s(e, v1, v2)
+    us: list[float] = []
+    for v in (v1, v2):
+        pr = GeomAPI_ProjectPointOnCurve(BRep_Tool.Pnt_s(v), c3)
+        if pr.NbPoints() == 0 or pr.LowerDistance() > 1e-3:
+            break
+        us.append(pr.LowerDistanceParameter())
+        if pr.LowerDistance() > BRep_Tool.Tolerance_s(v):  # keep the vertex on the edge
+            B.UpdateVertex(v, 1.5 * pr.LowerDistance())
+    if len(us) != 2:  # a vertex off the new curve: leave the edge as it was
+        return False
+    if us[0] > us[1]:
+        c3.Reverse()
+        cE.Reverse()
+        cP.Reverse()
+        us = [c3.ReversedParameter(u) for u in us]
+    tol = 1e-7
+    B.UpdateEdge(e, c3, tol)
+    B.UpdateEdge(e, cE, fE, tol)
+    B.UpdateEdge(e, cP, fP, tol)
+    B.Range(e, us[0], us[1])
+    B.SameRange(e, True)
+    B.SameParameter(e, True)
+    return True
+
+
+def extrusions_to_bspline(w: TopoDS_Shape) -> int:
     """Replace every linear-extrusion face of a non-rational B-spline by the same surface
     written as a B-spline surface, in place; returns how many.
 
@@ -215,7 +264,7 @@ def extrusions_to_bspline(w: Any) -> int:
     return done
 
 
-def off_surface_edges(shape: Any) -> list[tuple[Any, float]]:
+def off_surface_edges(shape: TopoDS_Shape) -> list[tuple[TopoDS_Shape, float]]:
     """(edge, deviation mm) for every edge whose 3D curve leaves its face's surface by more
     than its tolerance (the argument analyser's curve-on-surface test)."""
     from OCP.BOPAlgo import BOPAlgo_ArgumentAnalyzer, BOPAlgo_CheckStatus
@@ -225,7 +274,7 @@ def off_surface_edges(shape: Any) -> list[tuple[Any, float]]:
     a.ArgumentTypeMode = False
     a.CurveOnSurfaceMode = True
     a.Perform()
-    out = []
+    out: list[tuple[TopoDS_Shape, float]] = []
     for r in a.GetCheckResult():
         if r.GetCheckStatus() == BOPAlgo_CheckStatus.BOPAlgo_InvalidCurveOnSurface:
             out.append((r.GetFaultyShapes1().First(), max(r.GetMaxDistance1(), 0.0)))
@@ -241,7 +290,7 @@ def _round_up(tol: float) -> float:
     return math.ceil(tol / step * (1 - 1e-9)) * step
 
 
-def heal(shape: Any) -> Any:
+def heal(shape: TopoDS_Shape) -> TopoDS_Shape:
     """Heal an OCCT shape for export (see the module docstring); returns the healed
     ``TopoDS_Shape``, or the shape unchanged when healing would make it invalid."""
     from OCP.BRepBuilderAPI import BRepBuilderAPI_Copy

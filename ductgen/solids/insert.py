@@ -7,9 +7,10 @@ through the spigot and the top) is subtracted once.
 
 Outer pieces (mm, x downstream, z up, skin outer surface z = 0):
 
-* walls/floor — the top footprint offset in plan by wall + edge round (the kernel's planar
-  wire offset, round joins), as a prism, intersected with the floor profile offset
-  downward by the wall (arc radius R − wall, ramp line moved along its normal);
+* walls/floor — the top footprint offset in plan by wall + edge round
+  (:func:`~ductgen.solids.footprint.offset_wire`, round joins), as a prism, intersected
+  with the floor profile offset downward by the wall (arc radius R − wall, ramp line moved
+  along its normal);
 * skin fill and flange — mount ``behind``: the cut-out prism through the skin thickness
   (flush with the outer surface) and the flange under the skin; ``surface``: a bezel on
   the outer surface whose outer edge is feathered to a 0.4 mm land;
@@ -23,25 +24,29 @@ Outer pieces (mm, x downstream, z up, skin outer surface z = 0):
 from __future__ import annotations
 
 import dataclasses
-import math
 
 import cadquery as cq
-import numpy as np
 
 from ductgen.design import Design
 from ductgen.errors import GeometryError
-from ductgen.geometry.fabrication import footprint_end_mm, transition_wall_mm, wall_for_curvature
+from ductgen.geometry.fabrication import (
+    FlangeLayout,
+    InsertParams,
+    Spigot,
+    footprint_end_mm,
+    transition_wall_mm,
+    wall_for_curvature,
+)
 from ductgen.geometry.floor import floor_section
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.solids.cutter import build_cutter, make_transition
 from ductgen.solids.deform import place
+from ductgen.solids.footprint import footprint_face, offset_wire, prism
 from ductgen.solids.primitives import (
-    arc3,
     boolean,
     extrude_xz,
     floor_edges,
     polyline_edges,
-    wall_spline,
     xz_ellipse_arc,
 )
 
@@ -49,131 +54,12 @@ __all__ = [
     "FEATHER_LAND_MM",
     "build_insert",
     "floor_profile_solid",
-    "footprint_face",
     "make_insert",
-    "prism",
-    "untangled_runs",
 ]
 
 V = cq.Vector
 #: Thickness left at the feathered bezel edge (mm): about one 0.4 mm nozzle width.
 FEATHER_LAND_MM = 0.4
-
-
-def footprint_wire(g: InletGeometry, x_end: float, z: float = 0.0) -> cq.Wire:
-    """Closed plan wire of the planform, walls straight at ±W/2 past the lip to ``x_end``."""
-    pf = g.planform
-    hw0, hw1, L = float(pf.node_half_width_mm[0]), g.width_mm / 2.0, g.length_mm
-    edges = [wall_spline(pf, +1.0, z)]
-    if x_end > L + 1e-9:
-        edges += polyline_edges([(L, hw1, z), (x_end, hw1, z), (x_end, -hw1, z), (L, -hw1, z)])
-    else:
-        edges += polyline_edges([(L, hw1, z), (L, -hw1, z)])
-    edges += [wall_spline(pf, -1.0, z), cq.Edge.makeLine(V(0, -hw0, z), V(0, hw0, z))]
-    return cq.Wire.assembleEdges(edges)
-
-
-def _arc(cx: float, cy: float, d: float, a0: float, a1: float, z: float) -> cq.Edge:
-    am = 0.5 * (a0 + a1)
-    pts = [(cx + d * math.cos(a), cy + d * math.sin(a), z) for a in (a0, am, a1)]
-    return arc3(*pts)
-
-
-def offset_wire(
-    g: InletGeometry, x_end: float, d: float, z: float = 0.0, n: int = 40, square_end: bool = False
-) -> cq.Wire:
-    """The footprint wire offset outward by ``d`` (mm) with round corners, built from
-    B-spline, line and arc edges (the kernel's own offset curves make booleans ~10× slower).
-    The wall offset is interpolated through ``n`` exact offset points plus every station
-    (deviation ≪ 0.01 mm). ``square_end`` gives the downstream corners mitred, not round."""
-    if d <= 0:
-        return footprint_wire(g, x_end, z)
-    pf = g.planform
-    L, h1 = g.length_mm, g.width_mm / 2.0
-    x = np.union1d(np.linspace(0.0, L, n), pf.node_x_mm)
-    fine = pf.wall_offset(np.linspace(0.0, L, 20 * n), d)
-    # upper wall (y > 0) offset outward; past the wall's concave radius the offset folds
-    # over itself, and the fold is cut out
-    folds = not np.all(np.diff(fine[:, 0]) > 0.0)
-    runs = untangled_runs(fine) if folds else [pf.wall_offset(x, d)]
-    upper_edges = [cq.Edge.makeSpline([V(float(a), float(b), z) for a, b in r]) for r in runs]
-    lower_edges = [cq.Edge.makeSpline([V(float(a), float(-b), z) for a, b in r]) for r in runs]
-    a_apex = math.atan2(1.0, -float(pf.slope(0.0)))
-    hw0 = float(pf.half_width(0.0))
-    edges = list(lower_edges)
-    if x_end > L + 1e-9:
-        edges.append(cq.Edge.makeLine(V(L, -h1 - d, z), V(x_end, -h1 - d, z)))
-    if square_end:
-        edges += polyline_edges(
-            [
-                (x_end, -h1 - d, z),
-                (x_end + d, -h1 - d, z),
-                (x_end + d, h1 + d, z),
-                (x_end, h1 + d, z),
-            ]
-        )
-    else:
-        edges += [
-            _arc(x_end, -h1, d, -0.5 * math.pi, 0.0, z),
-            cq.Edge.makeLine(V(x_end + d, -h1, z), V(x_end + d, h1, z)),
-            _arc(x_end, h1, d, 0.0, 0.5 * math.pi, z),
-        ]
-    if x_end > L + 1e-9:
-        edges.append(cq.Edge.makeLine(V(x_end, h1 + d, z), V(L, h1 + d, z)))
-    edges += [
-        *reversed(upper_edges),
-        _arc(0.0, hw0, d, a_apex, math.pi, z),
-        cq.Edge.makeLine(V(-d, hw0, z), V(-d, -hw0, z)),
-        _arc(0.0, -hw0, d, math.pi, 2.0 * math.pi - a_apex, z),
-    ]
-    return cq.Wire.assembleEdges(edges)
-
-
-def untangled_runs(pts: np.ndarray) -> list[np.ndarray]:
-    """A polyline (N, 2) mm with its self-intersecting loops cut out (each loop replaced by
-    the point where the curve crosses itself): the smooth runs between those corners, each
-    (k ≥ 2, 2). An offset curve folds into such loops ("swallowtails") where the offset
-    distance exceeds the base curve's radius of curvature on its concave side; the region
-    the offset bounds (the points within the distance of the base curve) ends at the
-    crossing."""
-    pts = np.asarray(pts, dtype=float)
-    a, b = pts[:-1], pts[1:]
-    runs: list[list[np.ndarray]] = [[pts[0]]]
-    i = 0
-    while i < len(a):
-        p, r = a[i], b[i] - a[i]
-        q, sv = a[i + 2 :], b[i + 2 :] - a[i + 2 :]
-        den = r[0] * sv[:, 1] - r[1] * sv[:, 0]
-        ok = np.abs(den) > 1e-15
-        qp = q - p
-        with np.errstate(divide="ignore", invalid="ignore"):
-            t = (qp[:, 0] * sv[:, 1] - qp[:, 1] * sv[:, 0]) / den
-            u = (qp[:, 0] * r[1] - qp[:, 1] * r[0]) / den
-        hit = np.nonzero(ok & (t > 0.0) & (t < 1.0) & (u > 0.0) & (u < 1.0))[0]
-        if len(hit):
-            j = int(hit[-1])  # the widest loop starting on this segment
-            cross = p + t[j] * r
-            runs[-1].append(cross)
-            runs.append([cross])
-            i = i + 2 + j + 1
-            runs[-1].append(b[i - 1])
-            continue
-        runs[-1].append(b[i])
-        i += 1
-    return [np.asarray(r) for r in runs if len(r) >= 2]
-
-
-def footprint_face(
-    g: InletGeometry, x_end: float, offset: float = 0.0, z: float = 0.0, square_end: bool = False
-) -> cq.Face:
-    """Plan face of the footprint offset outward by ``offset`` (mm, round joins) at height z."""
-    return cq.Face.makeFromWires(offset_wire(g, x_end, offset, z, square_end=square_end))
-
-
-def prism(face: cq.Face, z0: float, z1: float) -> cq.Solid:
-    """A plan face at z = 0 (or any z) extruded between heights z0 < z1 (mm)."""
-    f = face.translate(V(0, 0, z0 - face.Center().z))
-    return cq.Solid.extrudeLinear(f, V(0, 0, z1 - z0))
 
 
 def floor_profile_solid(
@@ -206,7 +92,7 @@ def _cylinder_x(radius: float, x0: float, x1: float, zc: float) -> cq.Solid:
     return cq.Solid.makeCylinder(radius, x1 - x0, V(x0, 0.0, zc), V(1, 0, 0))
 
 
-def _bead(sp, radius: float) -> cq.Solid:  # type: ignore[no-untyped-def]
+def _bead(sp: Spigot, radius: float) -> cq.Solid:
     """Retention bead: a ring whose outer face ramps up towards the free end... reversed:
     it rises gently from the free end (the hose slides on) and drops steeply behind."""
     x0, x1, h, zc = sp.bead_x0_mm, sp.bead_x1_mm, sp.bead_height_mm, sp.centre_z_mm
@@ -223,13 +109,13 @@ def _box(x0: float, x1: float, y0: float, y1: float, z0: float, z1: float) -> cq
     return cq.Solid.makeBox(x1 - x0, y1 - y0, z1 - z0, V(x0, y0, z0))
 
 
-def _drilled(shape: cq.Shape, lay) -> cq.Shape:  # type: ignore[no-untyped-def]
+def _drilled(shape: cq.Shape, lay: FlangeLayout) -> cq.Shape:
     """``shape`` with the flange's fastener holes drilled through (vertical, mm)."""
     if not len(lay.hole_centres_xy):
         return shape
     d = lay.hole_diameter_mm
     z0, z1 = lay.z_bottom_mm - 1.0, lay.z_top_mm + 1.0
-    holes = [
+    holes: list[cq.Shape] = [
         cq.Solid.makeCylinder(d / 2.0, z1 - z0, V(float(x), float(y), z0), V(0, 0, 1))
         for x, y in lay.hole_centres_xy
     ]
@@ -249,7 +135,9 @@ def _convex_curvature(d: Design) -> float:
     return max(float(getattr(sk, "k_stream", 0.0)), float(getattr(sk, "k_span", 0.0)), 0.0)
 
 
-def _wall_body(g: InletGeometry, x_ne: float, r_edge: float, w: float, k: float, z0: float):  # type: ignore[no-untyped-def]
+def _wall_body(
+    g: InletGeometry, x_ne: float, r_edge: float, w: float, k: float, z0: float
+) -> cq.Solid:
     """The walls' outer body down to z0 < 0: the footprint offset by edge round + wall, a
     prism; under a convex skin (k > 0, 1/mm) a ruled loft whose offset grows with depth to
     edge round + wall/(1 − k·|z0|), so the wall measured on the skin is ``w`` at every depth
@@ -274,116 +162,30 @@ def build_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
     """The insert in design coordinates (mm): an outer body minus the cutter. Raises
     :class:`GeometryError` when the kernel fails (the design was checked when it was built).
     """
-    g, fab, lay = d.geometry, d.fab, d.layout
-    ins = fab.insert
-    w = ins.wall
+    g, lay, ins = d.geometry, d.layout, d.fab.insert
     r_edge = g.edge_radius_mm
-    off = w + r_edge
-    t_skin = g.skin_thickness_mm
-    x_top = footprint_end_mm(g)
+    off = ins.wall + r_edge
     x_ne = g.throat_end_mm
-    H = g.drop_mm
-    span = g.width_mm / 2.0 + off + ins.flange_width + 10.0
     k = _convex_curvature(d)
     try:
-        walls = boolean(
-            "intersect",
-            _wall_body(g, x_ne, r_edge, w, k, -H - w - 2.0),
-            [floor_profile_solid(g, w, -off - 2.0, x_ne + off + 1.0, span)],
-            "insert walls",
-        )
-        square = g.transition is None and x_top == x_ne
-        pieces: list[cq.Shape] = [
-            prism(footprint_face(g, x_top, off, square_end=square), -t_skin, 0.0)
-        ]
-        outline = footprint_face(g, x_top, off + ins.flange_width)
-        if ins.mount == "behind":
-            pieces.append(_drilled(prism(outline, lay.z_bottom_mm, lay.z_top_mm), lay))
-        else:
-            tb = ins.bezel_thickness
-            land = min(FEATHER_LAND_MM, tb / 2.0)
-            pieces.append(_drilled(prism(outline, 0.0, land), lay))
-            if ins.feather_width > 0:
-                inset = offset_wire(g, x_top, off + ins.flange_width - ins.feather_width)
-                outer = offset_wire(g, x_top, off + ins.flange_width)
-                pieces.append(
-                    cq.Solid.makeLoft(
-                        [outer.translate(V(0, 0, land)), inset.translate(V(0, 0, tb))], True
-                    )
-                )
-                pieces.append(prism(cq.Face.makeFromWires(inset), 0.0, tb))
-            else:
-                pieces.append(prism(outline, 0.0, tb))
+        walls = _walls(g, ins.wall, ins.flange_width, k)
+        pieces = _skin_and_flange(g, ins, lay, off)
         if g.lip.style == "raised":
             pieces.append(_raised_lip(g, g.width_mm / 2.0 + off))
         inner_extra: list[cq.Shape] = []
-        t = g.transition
-        if t is not None:
-            # inside a convex skin the section's sides close in with depth (the fade only
-            # lessens it): the wall is sized for the deepest point of the outer section
-            wt = transition_wall_mm(g, w)
-            bottom = min(t.floor_z_mm, t.outlet_top_z_mm - t.outlet_height_mm)
-            wt = wall_for_curvature(wt, k, wt - bottom)
-            t_out = dataclasses.replace(
-                t,
-                width_mm=t.width_mm + 2 * wt,
-                roof_z_mm=t.roof_z_mm + wt,
-                floor_z_mm=t.floor_z_mm - wt,
-                outlet_width_mm=t.outlet_width_mm + 2 * wt,
-                outlet_height_mm=t.outlet_height_mm + 2 * wt,
-                outlet_top_z_mm=t.outlet_top_z_mm + wt,
-            )
-            pieces.append(make_transition(t_out))
-            sp = d.spigot
-            if sp is not None:
-                zc = sp.centre_z_mm
-                pieces.append(
-                    _cylinder_x(sp.shoulder_radius_mm, sp.x0_mm, sp.x0_mm + sp.shoulder_mm, zc)
-                )
-                pieces.append(_cylinder_x(sp.od_mm / 2.0, sp.x0_mm, sp.x_end_mm, zc))
-                if sp.bead_height_mm > 0:
-                    pieces.append(_bead(sp, sp.od_mm / 2.0))
-                inner_extra.append(
-                    _cylinder_x(sp.bore_mm / 2.0, sp.x0_mm - 0.5, sp.x_end_mm + 1.0, zc)
-                )
-            else:  # rectangular collar
-                h, top = t.outlet_width_mm / 2.0, t.outlet_top_z_mm
-                bot = top - t.outlet_height_mm
-                x1 = t.x_end_mm + g.spigot_length_mm
-                pieces.append(_box(t.x_end_mm, x1, -h - wt, h + wt, bot - wt, top + wt))
-                inner_extra.append(_box(t.x_end_mm - 0.5, x1 + 1.0, -h, h, bot, top))
-        else:  # open throat exit through the downstream wall
-            # beyond the downstream wall the exit is open up to the skin (the flange is
-            # notched there, rather than left as a sliver over the throat's roof)
-            top = min(g.lip.roof_z_mm, -t_skin)
-            inner_extra.append(
-                _box(
-                    x_ne - 0.5,
-                    x_ne + off + 0.5,
-                    -g.width_mm / 2.0,
-                    g.width_mm / 2.0,
-                    -H,
-                    g.lip.roof_z_mm,
-                )
-            )
-            if max(top, -t_skin) > -H + 1e-6:  # a floor at the skin's inner face: no notch
-                inner_extra.append(
-                    _box(
-                        x_ne + off,
-                        x_ne + off + ins.flange_width + 2.0,
-                        -g.width_mm / 2.0,
-                        g.width_mm / 2.0,
-                        -H,
-                        max(top, -t_skin),
-                    )
-                )
+        if g.transition is not None:
+            outer_parts, inner_parts = _outlet(d, k)
+            pieces += outer_parts
+            inner_extra += inner_parts
+        else:
+            inner_extra += _open_exit(g, ins, off)
         if ins.mount == "surface":
             x_open = g.length_mm if g.lip.style == "raised" else x_ne
             inner_extra.append(
                 prism(footprint_face(g, x_open, r_edge), 0.0, ins.bezel_thickness + 1.0)
             )
         outer = boolean("fuse", walls, pieces, "insert outer body")
-        inner = cutter if cutter is not None else build_cutter(d)
+        inner: cq.Shape = cutter if cutter is not None else build_cutter(d)
         if inner_extra:
             inner = boolean("fuse", inner, inner_extra, "insert inner body")
         body = boolean("cut", outer, [inner], "insert")
@@ -403,3 +205,102 @@ def build_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
     if len(solids) != 1:
         raise GeometryError("insert", f"expected one solid, the kernel produced {len(solids)}")
     return solids[0]
+
+
+def _walls(g: InletGeometry, w: float, flange_width: float, k: float) -> cq.Shape:
+    """The walls and floor: the wall body (:func:`_wall_body`) cut to the floor profile
+    moved down by the wall ``w`` (mm), across the flange's width (mm) and 10 mm more;
+    ``k`` the convex curvature (1/mm)."""
+    r_edge = g.edge_radius_mm
+    off = w + r_edge
+    x_ne = g.throat_end_mm
+    span = g.width_mm / 2.0 + off + flange_width + 10.0
+    return boolean(
+        "intersect",
+        _wall_body(g, x_ne, r_edge, w, k, -g.drop_mm - w - 2.0),
+        [floor_profile_solid(g, w, -off - 2.0, x_ne + off + 1.0, span)],
+        "insert walls",
+    )
+
+
+def _skin_and_flange(
+    g: InletGeometry, ins: InsertParams, lay: FlangeLayout, off: float
+) -> list[cq.Shape]:
+    """The skin fill (the cut-out through the skin's thickness) and the flange behind the
+    skin, or the surface bezel (feathered to :data:`FEATHER_LAND_MM`), holes drilled; ``off``
+    the walls' reach beyond the cavity (mm)."""
+    x_top = footprint_end_mm(g)
+    square = g.transition is None and x_top == g.throat_end_mm
+    pieces: list[cq.Shape] = [
+        prism(footprint_face(g, x_top, off, square_end=square), -g.skin_thickness_mm, 0.0)
+    ]
+    outline = footprint_face(g, x_top, off + ins.flange_width)
+    if ins.mount == "behind":
+        pieces.append(_drilled(prism(outline, lay.z_bottom_mm, lay.z_top_mm), lay))
+        return pieces
+    tb = ins.bezel_thickness
+    land = min(FEATHER_LAND_MM, tb / 2.0)
+    pieces.append(_drilled(prism(outline, 0.0, land), lay))
+    if ins.feather_width > 0:
+        inset = offset_wire(g, x_top, off + ins.flange_width - ins.feather_width)
+        edge = offset_wire(g, x_top, off + ins.flange_width)
+        pieces.append(
+            cq.Solid.makeLoft([edge.translate(V(0, 0, land)), inset.translate(V(0, 0, tb))], True)
+        )
+        pieces.append(prism(cq.Face.makeFromWires(inset), 0.0, tb))
+    else:
+        pieces.append(prism(outline, 0.0, tb))
+    return pieces
+
+
+def _outlet(d: Design, k: float) -> tuple[list[cq.Shape], list[cq.Shape]]:
+    """The transition's outer wall and the spigot (shoulder, tube, bead) or rectangular
+    collar: the pieces to add to the outer body and to the inner one (the bore), mm; ``k``
+    the convex curvature (1/mm)."""
+    g = d.geometry
+    t = g.transition
+    assert t is not None
+    # inside a convex skin the section's sides close in with depth (the fade only lessens
+    # it): the wall is sized for the deepest point of the outer section
+    wt = transition_wall_mm(g, d.fab.insert.wall)
+    bottom = min(t.floor_z_mm, t.outlet_top_z_mm - t.outlet_height_mm)
+    wt = wall_for_curvature(wt, k, wt - bottom)
+    t_out = dataclasses.replace(
+        t,
+        width_mm=t.width_mm + 2 * wt,
+        roof_z_mm=t.roof_z_mm + wt,
+        floor_z_mm=t.floor_z_mm - wt,
+        outlet_width_mm=t.outlet_width_mm + 2 * wt,
+        outlet_height_mm=t.outlet_height_mm + 2 * wt,
+        outlet_top_z_mm=t.outlet_top_z_mm + wt,
+    )
+    outer: list[cq.Shape] = [make_transition(t_out)]
+    sp = d.spigot
+    if sp is not None:
+        zc = sp.centre_z_mm
+        outer.append(_cylinder_x(sp.shoulder_radius_mm, sp.x0_mm, sp.x0_mm + sp.shoulder_mm, zc))
+        outer.append(_cylinder_x(sp.od_mm / 2.0, sp.x0_mm, sp.x_end_mm, zc))
+        if sp.bead_height_mm > 0:
+            outer.append(_bead(sp, sp.od_mm / 2.0))
+        return outer, [_cylinder_x(sp.bore_mm / 2.0, sp.x0_mm - 0.5, sp.x_end_mm + 1.0, zc)]
+    # rectangular collar
+    h, top = t.outlet_width_mm / 2.0, t.outlet_top_z_mm
+    bot = top - t.outlet_height_mm
+    x1 = t.x_end_mm + g.spigot_length_mm
+    outer.append(_box(t.x_end_mm, x1, -h - wt, h + wt, bot - wt, top + wt))
+    return outer, [_box(t.x_end_mm - 0.5, x1 + 1.0, -h, h, bot, top)]
+
+
+def _open_exit(g: InletGeometry, ins: InsertParams, off: float) -> list[cq.Shape]:
+    """Without a transition, the throat's exit open through the downstream wall, and
+    beyond it up to the skin (the flange is notched there, rather than left as a sliver
+    over the throat's roof): pieces of the inner body (mm); ``off`` the walls' reach."""
+    x_ne, h, hw = g.throat_end_mm, g.drop_mm, g.width_mm / 2.0
+    t_skin = g.skin_thickness_mm
+    top = min(g.lip.roof_z_mm, -t_skin)
+    inner: list[cq.Shape] = [_box(x_ne - 0.5, x_ne + off + 0.5, -hw, hw, -h, g.lip.roof_z_mm)]
+    if max(top, -t_skin) > -h + 1e-6:  # a floor at the skin's inner face: no notch
+        inner.append(
+            _box(x_ne + off, x_ne + off + ins.flange_width + 2.0, -hw, hw, -h, max(top, -t_skin))
+        )
+    return inner

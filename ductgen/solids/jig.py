@@ -33,7 +33,7 @@ from ductgen.geometry.jig import (
     jig_layout,
     jig_stations,
 )
-from ductgen.solids.insert import offset_wire, prism
+from ductgen.solids.footprint import offset_wire, prism
 from ductgen.solids.primitives import boolean, polyline_edges
 
 __all__ = ["build_jig", "jig_job", "split_jig"]
@@ -150,8 +150,8 @@ def _pieces_for_bed(
     """The fewest equal pieces (1-8 along the flow) whose mapped meshes fit the bed
     lying as on the skin (:func:`_stand`)."""
     from ductgen.errors import GeometryError
+    from ductgen.solids.bed import bed_fit
     from ductgen.solids.jobs import mapped_mesh
-    from ductgen.solids.split import bed_fit
 
     fn, k = d.skin.to_model, d.placement.curvature
     for n in range(1, 9):
@@ -236,44 +236,16 @@ def jig_job(
 ) -> dict[str, Any]:
     """Kernel-worker job: build, map, check and stage ``PREFIX-jig.step/.stl`` (and
     ``PREFIX-jig-partK`` when the whole does not fit ``bed``). Returns the report's facts."""
-    from ductgen.atomic import write_atomic
-    from ductgen.errors import GeometryError
-    from ductgen.meshstats import mesh_stats
-    from ductgen.solids.cad_io import step_bytes, stl_bytes
     from ductgen.solids.check import CHECK_MESH_CURVED
-    from ductgen.solids.deform import map_solid
-    from ductgen.solids.jobs import mapped_mesh
     from ductgen.solids.mesh import triangulate
-    from ductgen.solids.split import bed_fit
     from ductgen.tolerances import STL_QUALITY
     from ductgen.worker import stage
 
     stage("jig")
     jig = jig_layout(d.geometry.planform, kerf_mm)
     flat = build_jig(d, jig)
-    fn, k = d.skin.to_model, d.placement.curvature
     lin, ang = STL_QUALITY[quality]
-
-    def write(solid: cq.Solid, base: str) -> dict[str, Any]:
-        mapped = map_solid(solid, fn, k, "jig")
-        v, f = mapped_mesh(solid, fn, lin, ang, k)
-        tight, winding, volume, _ = mesh_stats(v, f)
-        if not (mapped.isValid() and tight and winding):
-            raise GeometryError("jig", f"{base} is not one valid closed solid")
-        write_atomic(Path(staging) / f"{base}.step", step_bytes(mapped, base))
-        write_atomic(Path(staging) / f"{base}.stl", stl_bytes(v, f, base))
-        fit = bed_fit(_stand(d, v, _mid_u(solid)), bed, "+z")
-        return {
-            "step": f"{base}.step",
-            "stl": f"{base}.stl",
-            "volume_mm3": volume,
-            "size_mm": list(fit.size_mm),
-            "fits": fit.fits,
-            "print_frame": [a.tolist() for a in _print_frame(d, _mid_u(solid))],
-            "mapped": mapped,
-        }
-
-    whole = write(flat, f"{prefix}-jig")
+    whole = _write_piece(d, flat, f"{prefix}-jig", staging, (lin, ang), bed)
     stage("jig check")
     kv, kf = triangulate(whole.pop("mapped"), *CHECK_MESH_CURVED)
     facts: dict[str, Any] = {
@@ -287,6 +259,66 @@ def jig_job(
         **_measure(d, jig, kv, kf),
         **whole,
     }
+    _check_fit(facts, jig)
+    if not whole["fits"]:
+        stage("jig split")
+        xs, pieces = _pieces_for_bed(d, flat, jig, bed)
+        parts = []
+        for n, p in enumerate(pieces, start=1):
+            part = _write_piece(d, p, f"{prefix}-jig-part{n}", staging, (lin, ang), bed)
+            part.pop("mapped")
+            parts.append(part)
+        facts["split_stations_u_mm"] = xs
+        facts["pieces"] = parts
+    return facts
+
+
+def _write_piece(
+    d: Design,
+    solid: cq.Solid,
+    base: str,
+    staging: str,
+    mesh_quality: tuple[float, float],
+    bed: tuple[float, float, float],
+) -> dict[str, Any]:
+    """Map the flat jig (or one piece) onto the skin, check it closed and valid, stage
+    ``BASE.step/.stl`` (mesh deflection ``mesh_quality``: mm, rad); returns its facts (file
+    names, volume mm³, size and bed fit standing on its middle, the print frame) and the
+    mapped solid under ``mapped``."""
+    from ductgen.atomic import write_atomic
+    from ductgen.errors import GeometryError
+    from ductgen.meshstats import mesh_stats
+    from ductgen.solids.bed import bed_fit
+    from ductgen.solids.cad_io import step_bytes, stl_bytes
+    from ductgen.solids.deform import map_solid
+    from ductgen.solids.jobs import mapped_mesh
+
+    fn, k = d.skin.to_model, d.placement.curvature
+    lin, ang = mesh_quality
+    mapped = map_solid(solid, fn, k, "jig")
+    v, f = mapped_mesh(solid, fn, lin, ang, k)
+    tight, winding, volume, _ = mesh_stats(v, f)
+    if not (mapped.isValid() and tight and winding):
+        raise GeometryError("jig", f"{base} is not one valid closed solid")
+    write_atomic(Path(staging) / f"{base}.step", step_bytes(mapped, base))
+    write_atomic(Path(staging) / f"{base}.stl", stl_bytes(v, f, base))
+    fit = bed_fit(_stand(d, v, _mid_u(solid)), bed, "+z")
+    return {
+        "step": f"{base}.step",
+        "stl": f"{base}.stl",
+        "volume_mm3": volume,
+        "size_mm": list(fit.size_mm),
+        "fits": fit.fits,
+        "print_frame": [a.tolist() for a in _print_frame(d, _mid_u(solid))],
+        "mapped": mapped,
+    }
+
+
+def _check_fit(facts: dict[str, Any], jig: JigLayout) -> None:
+    """Raise :class:`GeometryError` when the mapped jig departs more than
+    :data:`FIT_TOL_MM` from its clearance over the skin or from the cut line (mm)."""
+    from ductgen.errors import GeometryError
+
     off_skin = max(
         abs(facts["underside_to_skin_min_mm"] - jig.clearance_mm),
         abs(facts["underside_to_skin_max_mm"] - jig.clearance_mm),
@@ -298,14 +330,3 @@ def jig_job(
             f"the mapped jig departs {off_skin:.3f} mm from its clearance over the skin and "
             f"{off_edge:.3f} mm from the cut line (allowed {FIT_TOL_MM} mm)",
         )
-    if not whole["fits"]:
-        stage("jig split")
-        xs, pieces = _pieces_for_bed(d, flat, jig, bed)
-        parts = []
-        for n, p in enumerate(pieces, start=1):
-            part = write(p, f"{prefix}-jig-part{n}")
-            part.pop("mapped")
-            parts.append(part)
-        facts["split_stations_u_mm"] = xs
-        facts["pieces"] = parts
-    return facts

@@ -12,7 +12,7 @@ from __future__ import annotations
 from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from ductgen.design import Design
 from ductgen.geometry.inlet import InletGeometry
@@ -20,6 +20,11 @@ from ductgen.solids.kinds import SOLID_KINDS
 from ductgen.solids.results import Mesh, SolidResult
 from ductgen.tolerances import DEFAULT_TOLERANCES, STL_QUALITY
 from ductgen.worker import stage
+
+if TYPE_CHECKING:
+    import numpy as np
+
+    from ductgen.solids.check import SolidCheck
 
 __all__ = [
     "SOLID_KINDS",
@@ -165,85 +170,133 @@ def build_solids(
     per stage, and the STL mesh (vertices mm, faces) for previews and mesh checks in the
     parent.
     """
-    import time
-
-    from ductgen.atomic import write_atomic
-    from ductgen.meshstats import mesh_stats
-    from ductgen.solids.cad_io import step_bytes_healed, stl_bytes
-    from ductgen.solids.check import CHECK_MESH, CHECK_MESH_CURVED, check_solid
-    from ductgen.solids.deform import place
-    from ductgen.solids.mesh import triangulate
-
     out: dict[str, SolidResult] = {}
     built: dict[str, Any] = {}
     book = recipes()
-    tol = DEFAULT_TOLERANCES
+    for kind in kinds:
+        out[kind] = _one_solid(d, kind, book[kind], built, quality, f"{prefix}-{kind}", staging)
+    return out
+
+
+def _one_solid(
+    d: Design,
+    kind: str,
+    recipe: SolidRecipe,
+    built: dict[str, Any],
+    quality: str,
+    base: str,
+    staging: str,
+) -> SolidResult:
+    """One kind built flat (kept in ``built``), placed, checked, and written as
+    ``BASE.step`` and ``BASE.stl`` into ``staging`` (see :func:`build_solids`)."""
+    import time
+
+    from ductgen.solids.check import CHECK_MESH, CHECK_MESH_CURVED
+    from ductgen.solids.deform import place
+
     curved = d.placement.curvature != 0.0
     check_mesh = CHECK_MESH_CURVED if curved else CHECK_MESH
-    for kind in kinds:
-        recipe = book[kind]
-        times: dict[str, float] = {}
-        t0 = time.perf_counter()
-        stage(kind)
-        flat = recipe.build(d, built)
-        built[kind] = flat
-        solid = place(flat, d, kind)
-        times["build_s"] = time.perf_counter() - t0
-        t0 = time.perf_counter()
-        stage(f"{kind} check")
-        fn = d.placement.plug_map if kind == "plug" else d.placement.solid_map
-        # curved: the flat design's triangulation, mapped (independent of the mapped B-rep);
-        # made once for the expected volume, the STL and the wetted area
-        design_mesh = triangulate(flat, *CHECK_MESH) if curved else None
-        expected = (
-            mapped_volume_mm3(flat, fn, design_mesh=design_mesh) if curved else recipe.expected(d)
-        )
-        res = check_solid(
-            solid, kind, expected, tol, recipe.volume_rel, check_mesh, exact_volume=curved
-        )
-        times["check_s"] = time.perf_counter() - t0
-        t0 = time.perf_counter()
-        stage(f"{kind} STEP")
-        step_name = f"{prefix}-{kind}.step"
-        data, healed = step_bytes_healed(solid, f"{prefix}-{kind}")
-        write_atomic(Path(staging) / step_name, data)
-        # a split, if needed, cuts the flat insert in memory (a mapped one, on a curved skin
-        # or the user's panel, is read back from its file)
-        if kind == "insert" and d.skin.is_flat:
-            import cadquery as cq
+    times: dict[str, float] = {}
+    t0 = time.perf_counter()
+    stage(kind)
+    flat = recipe.build(d, built)
+    built[kind] = flat
+    solid = place(flat, d, kind)
+    times["build_s"] = time.perf_counter() - t0
+    t0 = time.perf_counter()
+    stage(f"{kind} check")
+    fn = d.placement.plug_map if kind == "plug" else d.placement.solid_map
+    res, design_mesh = _checked(d, kind, recipe, flat, solid, fn)
+    times["check_s"] = time.perf_counter() - t0
+    t0 = time.perf_counter()
+    stage(f"{kind} STEP")
+    step_name = _write_step(d, kind, solid, base, staging)
+    times["step_s"] = time.perf_counter() - t0
+    t0 = time.perf_counter()
+    stage(f"{kind} STL")
+    verts, faces = _stl_mesh(
+        d, flat, solid, res.mesh, fn, STL_QUALITY[quality], check_mesh, design_mesh
+    )
+    vol = _write_stl(kind, verts, faces, base, staging)
+    times["stl_s"] = time.perf_counter() - t0
+    wetted = _cutter_wetted_area(d, design_mesh or res.mesh) if kind == "cutter" else None
+    return SolidResult(
+        volume_mm3=res.volume_mm3,
+        expected_volume_mm3=res.expected_volume_mm3,
+        stl_volume_mm3=vol,
+        area_mm2=res.area_mm2,
+        faces=res.faces,
+        check_mesh=check_mesh,
+        step_file=step_name,
+        stl_file=f"{base}.stl",
+        mesh=Mesh(verts.astype("float32"), faces.astype("int32")),
+        seconds=times,
+        wetted_area_mm2=wetted,
+    )
 
-            from ductgen.solids.split import keep_for_split
 
-            keep_for_split(str(Path(staging) / step_name), cq.Shape.cast(healed))
-        times["step_s"] = time.perf_counter() - t0
-        t0 = time.perf_counter()
-        stage(f"{kind} STL")
-        verts, faces = _stl_mesh(
-            d, flat, solid, res.mesh, fn, STL_QUALITY[quality], check_mesh, design_mesh
-        )
-        tight, winding, vol, _ = mesh_stats(verts, faces)
-        if not (tight and winding):
-            from ductgen.errors import GeometryError
+def _checked(
+    d: Design, kind: str, recipe: SolidRecipe, flat: Any, solid: Any, fn: Any
+) -> tuple[SolidCheck, tuple[Any, Any] | None]:
+    """The placed ``solid``'s check against its expected volume (mm³): on a flat skin the
+    recipe's independent integral, on a curved one the volume of the flat design's
+    triangulation mapped through ``fn`` (independent of the mapped B-rep). Returns the
+    check and that design triangulation (None on a flat skin), made once for the expected
+    volume, the STL and the wetted area."""
+    from ductgen.solids.check import CHECK_MESH, CHECK_MESH_CURVED, check_solid
+    from ductgen.solids.mesh import triangulate
 
-            raise GeometryError(f"{kind} STL", "the STL triangulation is not closed")
-        stl_name = f"{prefix}-{kind}.stl"
-        write_atomic(Path(staging) / stl_name, stl_bytes(verts, faces, f"{prefix}-{kind}"))
-        times["stl_s"] = time.perf_counter() - t0
-        wetted = _cutter_wetted_area(d, design_mesh or res.mesh) if kind == "cutter" else None
-        out[kind] = SolidResult(
-            volume_mm3=res.volume_mm3,
-            expected_volume_mm3=res.expected_volume_mm3,
-            stl_volume_mm3=vol,
-            area_mm2=res.area_mm2,
-            faces=res.faces,
-            check_mesh=check_mesh,
-            step_file=step_name,
-            stl_file=stl_name,
-            mesh=Mesh(verts.astype("float32"), faces.astype("int32")),
-            seconds=times,
-            wetted_area_mm2=wetted,
-        )
-    return out
+    curved = d.placement.curvature != 0.0
+    check_mesh = CHECK_MESH_CURVED if curved else CHECK_MESH
+    design_mesh = triangulate(flat, *CHECK_MESH) if curved else None
+    expected = (
+        mapped_volume_mm3(flat, fn, design_mesh=design_mesh) if curved else recipe.expected(d)
+    )
+    res = check_solid(
+        solid,
+        kind,
+        expected,
+        DEFAULT_TOLERANCES,
+        recipe.volume_rel,
+        check_mesh,
+        exact_volume=curved,
+    )
+    return res, design_mesh
+
+
+def _write_step(d: Design, kind: str, solid: Any, base: str, staging: str) -> str:
+    """Write ``BASE.step`` (healed) into ``staging``; returns its name. A flat insert is
+    kept in memory for its split (a mapped one, on a curved skin or the user's panel, is
+    read back from its file)."""
+    from ductgen.atomic import write_atomic
+    from ductgen.solids.cad_io import step_bytes_healed
+
+    step_name = f"{base}.step"
+    data, healed = step_bytes_healed(solid, base)
+    write_atomic(Path(staging) / step_name, data)
+    if kind == "insert" and d.skin.is_flat:
+        import cadquery as cq
+
+        from ductgen.solids.split import keep_for_split
+
+        keep_for_split(str(Path(staging) / step_name), cq.Shape.cast(healed))
+    return step_name
+
+
+def _write_stl(kind: str, verts: np.ndarray, faces: np.ndarray, base: str, staging: str) -> float:
+    """Write ``BASE.stl`` into ``staging`` after checking the triangulation is closed and
+    consistently wound; returns its enclosed volume (mm³)."""
+    from ductgen.atomic import write_atomic
+    from ductgen.meshstats import mesh_stats
+    from ductgen.solids.cad_io import stl_bytes
+
+    tight, winding, vol, _ = mesh_stats(verts, faces)
+    if not (tight and winding):
+        from ductgen.errors import GeometryError
+
+        raise GeometryError(f"{kind} STL", "the STL triangulation is not closed")
+    write_atomic(Path(staging) / f"{base}.stl", stl_bytes(verts, faces, base))
+    return vol
 
 
 def _stl_mesh(

@@ -134,6 +134,8 @@ def step_mesh(path: str) -> tuple[np.ndarray, np.ndarray]:  # pragma: no cover -
 
     try:
         shape = cq.importers.importStep(str(p)).val()
+        if not isinstance(shape, cq.Shape):  # nothing transferred: the workplane's origin
+            raise _unreadable(p, "no surfaces could be read (truncated or empty STEP)")
         verts, faces = triangulate(shape, 0.05, 0.2)
     except SpecError:
         raise

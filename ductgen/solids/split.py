@@ -1,9 +1,5 @@
-"""Printer-bed fit, and splitting an over-size part across the flow into keyed pieces.
-
-Fit (pure numpy): the part stands in its suggested orientation (the axis direction that is
-"up"); it may turn about the vertical axis on the bed, so the footprint's smallest enclosing
-rectangle over turns of 0-90° (0.5° steps) is compared with the bed in both ways round, and
-the height with the bed's z.
+"""Splitting an over-size part across the flow into keyed pieces that fit the printer's bed
+(the fit: :mod:`ductgen.solids.bed`).
 
 Split (CAD kernel): planes x = s across the flow (x downstream) cut the part into
 pieces whose cut faces are the glue faces. Each joint is keyed by a tongue and groove: the
@@ -16,181 +12,48 @@ partition the part exactly, so their volumes sum to the whole. Lengths in mm.
 
 from __future__ import annotations
 
-import math
-from dataclasses import dataclass
+from collections.abc import Callable
 from itertools import pairwise
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING
 
 import numpy as np
 
+from ductgen.solids.bed import bed_fit, estimate_stations, stand_on_bed, up_rotation
+from ductgen.solids.results import InsertPiece
+
+if TYPE_CHECKING:  # the kernel loads only inside the split's jobs
+    import cadquery as cq
+    from OCP.gp import gp_Trsf
+
 __all__ = [
-    "UP_AXES",
-    "BedFit",
-    "bed_fit",
-    "estimate_stations",
     "keep_for_split",
     "split_across_flow",
     "split_for_bed",
     "split_insert_job",
     "split_shifted",
-    "stand_on_bed",
-    "up_rotation",
 ]
 
 #: The last insert each kernel worker built, by the path of its staged STEP file: the split
 #: cuts the solid still in memory (no STEP re-read, and before healing, so the new glue
 #: edges are healed once, with the piece).
-_IN_MEMORY: dict[str, Any] = {}
+_IN_MEMORY: dict[str, cq.Shape] = {}
 
 
-def keep_for_split(step_path: str, solid: Any) -> None:
+def keep_for_split(step_path: str, solid: cq.Shape) -> None:
     """Remember ``solid`` (cadquery, mm) as the insert written to ``step_path``, for
     :func:`split_insert_job` in the same worker (only the latest one is kept)."""
     _IN_MEMORY.clear()
     _IN_MEMORY[str(Path(step_path).resolve())] = solid
 
 
-#: Orientation name → (axis index, sign) of the direction that points up on the printer.
-UP_AXES: dict[str, tuple[int, int]] = {
-    "+z": (2, 1),
-    "-z": (2, -1),
-    "+x": (0, 1),
-    "-x": (0, -1),
-    "+y": (1, 1),
-    "-y": (1, -1),
-}
-
-
-@dataclass(frozen=True)
-class BedFit:
-    """Whether a part fits the bed standing ``up``.
-
-    Attributes:
-        fits: True when it fits.
-        up: the orientation ("+z", "-x", ...).
-        size_mm: footprint length, width and height (mm) at the best turn.
-        turn_deg: turn about the vertical axis that gives that footprint (deg).
-        bed_mm: the bed (x, y, z) mm.
-    """
-
-    fits: bool
-    up: str
-    size_mm: tuple[float, float, float]
-    turn_deg: float
-    bed_mm: tuple[float, float, float]
-
-    def as_dict(self) -> dict[str, Any]:
-        """Report form (keys with units)."""
-        return {
-            "fits": self.fits,
-            "orientation_up": self.up,
-            "size_mm": list(self.size_mm),
-            "turn_deg": self.turn_deg,
-            "bed_mm": list(self.bed_mm),
-        }
-
-
-def _standing(vertices: np.ndarray, up: str) -> np.ndarray:
-    """Vertices (N, 3) re-expressed with ``up`` as +z (a rotation, or its mirror image for
-    ±y: the extents are the same)."""
-    axis, sign = UP_AXES[up]
-    v = np.asarray(vertices, dtype=float)
-    others = [a for a in range(3) if a != axis]
-    z = sign * v[:, axis]
-    x, y = v[:, others[0]], sign * v[:, others[1]]
-    return np.column_stack([x, y, z])
-
-
-def up_rotation(up: str) -> np.ndarray:
-    """The proper rotation (3, 3; rows: the new x, y, z axes in the old frame) that turns the
-    axis ``up`` ("+z", "-x", ...) to +Z."""
-    sign = -1.0 if up.startswith("-") else 1.0
-    axis = "xyz".index(up[-1])
-    if axis == 2:
-        rot = np.diag([1.0, sign, sign])
-    elif axis == 0:
-        rot = np.array([[0.0, 1.0, 0.0], [0.0, 0.0, 1.0], [1.0, 0.0, 0.0]])
-    else:
-        rot = np.array([[0.0, 0.0, 1.0], [1.0, 0.0, 0.0], [0.0, 1.0, 0.0]])
-    if axis != 2:
-        rot[1] *= sign
-        rot[2] *= sign
-    return rot
-
-
-def stand_on_bed(vertices: np.ndarray, up: str, turn_deg: float) -> np.ndarray:
-    """``vertices`` (N, 3, mm) as printed: turned so ``up`` points up (+Z, a rotation, never
-    a mirror image), turned ``turn_deg`` about Z (the bed fit's turn), and moved onto the bed
-    with its lowest point at Z = 0 and its footprint from X = 0, Y = 0."""
-    v = np.asarray(vertices, dtype=float) @ up_rotation(up).T
-    t = math.radians(turn_deg)
-    rot = np.array([[math.cos(t), -math.sin(t)], [math.sin(t), math.cos(t)]])
-    v[:, :2] = v[:, :2] @ rot.T
-    return v - v.min(axis=0)
-
-
-def bed_fit(vertices: np.ndarray, bed: tuple[float, float, float], up: str = "+z") -> BedFit:
-    """Fit of a mesh (vertices (N, 3) mm) on a bed (x, y, z mm), standing ``up``."""
-    v = _standing(vertices, up)
-    height = float(np.ptp(v[:, 2]))
-    xy = v[:, :2] - v[:, :2].mean(axis=0)
-    best = None
-    for deg in np.arange(0.0, 90.0, 0.5):
-        t = math.radians(float(deg))
-        rot = np.array([[math.cos(t), -math.sin(t)], [math.sin(t), math.cos(t)]])
-        p = xy @ rot.T
-        ex, ey = float(np.ptp(p[:, 0])), float(np.ptp(p[:, 1]))
-        ok = (ex <= bed[0] and ey <= bed[1]) or (ex <= bed[1] and ey <= bed[0])
-        # fitting turns first, then the smallest footprint, then the smallest turn
-        key = (not ok, round(ex * ey, 6), float(deg))
-        if best is None or key < best[0]:
-            best = (key, ex, ey, float(deg))
-    assert best is not None
-    fits = not best[0][0] and height <= bed[2]
-    return BedFit(fits, up, (best[1], best[2], height), best[3], tuple(bed))  # type: ignore[arg-type]
-
-
-def _slab_fits(v: np.ndarray, a: float, b: float, bed: tuple[float, float, float], up: str) -> bool:
-    """Fit of the part between x = a and b, estimated from its vertices there, each also
-    moved to both end planes (so a slab between two vertex rings keeps its full length)."""
-    sl = v[(v[:, 0] >= a - 1e-6) & (v[:, 0] <= b + 1e-6)]
-    if len(sl) == 0:
-        return True
-    ends = [sl.copy(), sl.copy()]
-    ends[0][:, 0], ends[1][:, 0] = a, b
-    return bed_fit(np.vstack([sl, *ends]), bed, up).fits
-
-
-def estimate_stations(
-    vertices: np.ndarray,
-    bed: tuple[float, float, float],
-    up: str,
-    key_length: float = 6.0,
-    max_pieces: int = 8,
-) -> list[float] | None:
-    """Stations x (mm) of the fewest equal pieces across the flow whose vertex slabs (each
-    with the downstream tongue) fit the bed; [] when the part fits whole, None when
-    ``max_pieces`` are not enough. Pure numpy: an estimate from the mesh, before any cut."""
-    v = np.asarray(vertices, dtype=float)
-    if bed_fit(v, bed, up).fits:
-        return []
-    x0, x1 = float(v[:, 0].min()), float(v[:, 0].max())
-    for n in range(2, max_pieces + 1):
-        xs = [x0 + (x1 - x0) * k / n for k in range(1, n)]
-        edges = [x0, *xs, x1]
-        if all(_slab_fits(v, a, min(b + key_length, x1), bed, up) for a, b in pairwise(edges)):
-            return xs
-    return None
-
-
 def split_across_flow(
-    solid: Any,
+    solid: cq.Shape,
     stations_x: list[float],
     key_length: float = 6.0,
     key_fraction: float = 0.4,
     by_planes: bool = True,
-) -> list[Any]:
+) -> list[cq.Shape]:
     """Cut ``solid`` (a cadquery Solid, mm) at x = each station into keyed pieces.
 
     One splitting operation of the kernel (``BRepAlgoAPI_Splitter``) by the planar faces of
@@ -229,8 +92,8 @@ STATION_SHIFTS_MM = (4.0, -4.0, 8.0, -8.0, 12.0, -12.0)
 
 
 def split_shifted(
-    solid: Any, stations_x: list[float], key_length: float = 6.0, by_planes: bool = True
-) -> tuple[list[float], list[Any]]:
+    solid: cq.Shape, stations_x: list[float], key_length: float = 6.0, by_planes: bool = True
+) -> tuple[list[float], list[cq.Shape]]:
     """:func:`split_across_flow`, and where a piece comes out as more than one solid, the
     same split with every station moved by :data:`STATION_SHIFTS_MM` in turn; the stations
     used and the pieces. Raises the first failure when no shift works."""
@@ -250,14 +113,14 @@ def split_shifted(
 
 
 def split_for_bed(
-    solid: Any,
+    solid: cq.Shape,
     vertices: np.ndarray,
     bed: tuple[float, float, float],
     up: str,
     max_pieces: int = 8,
     key_length: float = 6.0,
     by_planes: bool = True,
-) -> tuple[list[float], list[Any]]:
+) -> tuple[list[float], list[cq.Shape]]:
     """Fewest equal pieces across the flow that each fit ``bed`` standing ``up``.
 
     Args:
@@ -293,21 +156,18 @@ def split_insert_job(
     up: str,
     quality: str,
     frame: tuple[list[float], list[list[float]]] | None = None,
-) -> list[dict[str, Any]]:
+) -> list[InsertPiece]:
     """Kernel-worker job: split the staged insert STEP across the flow at ``stations_x`` (or
     at more stations, when a piece still does not fit) and stage each piece as
     ``PREFIX-insert-partK.step/.stl``: the STEP in model coordinates, the STL standing as it
-    prints (:func:`stand_on_bed`: ``up`` along +Z, turned ``stl_turn_deg`` about Z, lowest
-    point at Z = 0). Returns per piece: file names, volume (mm³, its triangulation), size
-    standing ``up`` (mm), whether it fits ``bed`` and the turn.
+    prints (:func:`~ductgen.solids.bed.stand_on_bed`: ``up`` along +Z, turned
+    ``stl_turn_deg`` about Z, lowest point at Z = 0). Returns per piece: file names, volume
+    (mm³, its triangulation), size standing ``up`` (mm), whether it fits ``bed`` and the
+    turn (deg).
 
     ``frame`` (origin, rows x y z): on the user's panel the stations and the bed fit are in
     the datum's frame; the pieces are split there and written back in panel coordinates."""
-    from ductgen.atomic import write_atomic
-    from ductgen.meshstats import mesh_stats
-    from ductgen.solids.cad_io import read_step, step_bytes, stl_bytes
-    from ductgen.solids.mesh import triangulate
-    from ductgen.tolerances import STL_QUALITY
+    from ductgen.solids.cad_io import read_step
     from ductgen.worker import stage
 
     stage("insert split")
@@ -322,6 +182,27 @@ def split_insert_job(
     to_model = None
     if frame is not None:
         whole, to_model = _into_frame(whole, frame)
+    pieces, meshes = _pieces_that_fit(whole, stations_x, bed, up, quality, by_planes)
+    return [
+        _stage_piece(piece, mesh, f"{prefix}-insert-part{k}", k, staging, bed, up, to_model)
+        for k, (piece, mesh) in enumerate(zip(pieces, meshes, strict=True), start=1)
+    ]
+
+
+def _pieces_that_fit(
+    whole: cq.Shape,
+    stations_x: list[float],
+    bed: tuple[float, float, float],
+    up: str,
+    quality: str,
+    by_planes: bool,
+) -> tuple[list[cq.Shape], list[tuple[np.ndarray, np.ndarray]]]:
+    """The pieces of ``whole`` split at ``stations_x`` (mm) and their meshes at the STL
+    ``quality``; when a piece does not fit ``bed`` standing ``up``, the fewest equal pieces
+    that do (:func:`split_for_bed`)."""
+    from ductgen.solids.mesh import triangulate
+    from ductgen.tolerances import STL_QUALITY
+
     _, pieces = split_shifted(whole, list(stations_x), by_planes=by_planes)
     lin, ang = STL_QUALITY[quality]
     meshes = [triangulate(p, lin, ang) for p in pieces]
@@ -329,36 +210,53 @@ def split_insert_job(
         v = triangulate(whole, 0.1, 0.3)[0]
         _, pieces = split_for_bed(whole, v, bed, up, by_planes=by_planes)
         meshes = [triangulate(p, lin, ang) for p in pieces]
-    out = []
-    for k, (piece, (v, f)) in enumerate(zip(pieces, meshes, strict=True), start=1):
-        base = f"{prefix}-insert-part{k}"
-        tight, winding, volume, _ = mesh_stats(v, f)
-        if not (piece.isValid() and tight and winding):
-            from ductgen.errors import GeometryError
-
-            raise GeometryError("insert split", f"piece {k} is not one valid closed solid")
-        fit = bed_fit(v, bed, up)
-        turn = bed_fit(v @ up_rotation(up).T, bed, "+z").turn_deg  # its turn once standing
-        if to_model is not None:
-            piece = to_model(piece)
-        # the STEP in model coordinates (for CAD), the STL standing on the bed as it prints
-        write_atomic(Path(staging) / f"{base}.step", step_bytes(piece, base))
-        write_atomic(Path(staging) / f"{base}.stl", stl_bytes(stand_on_bed(v, up, turn), f, base))
-        out.append(
-            {
-                "step": f"{base}.step",
-                "stl": f"{base}.stl",
-                "volume_mm3": volume,
-                "size_mm": list(fit.size_mm),
-                "up": up,
-                "fits": fit.fits,
-                "stl_turn_deg": turn,
-            }
-        )
-    return out
+    return pieces, meshes
 
 
-def _into_frame(shape: Any, frame: tuple[list[float], list[list[float]]]) -> tuple[Any, Any]:
+def _stage_piece(
+    piece: cq.Shape,
+    mesh: tuple[np.ndarray, np.ndarray],
+    base: str,
+    k: int,
+    staging: str,
+    bed: tuple[float, float, float],
+    up: str,
+    to_model: Callable[[cq.Shape], cq.Shape] | None,
+) -> InsertPiece:
+    """Check piece ``k`` is one valid closed solid and stage ``BASE.step`` (model
+    coordinates, through ``to_model`` when given) and ``BASE.stl`` (standing on the bed as
+    it prints); its record."""
+    from ductgen.atomic import write_atomic
+    from ductgen.meshstats import mesh_stats
+    from ductgen.solids.cad_io import step_bytes, stl_bytes
+
+    v, f = mesh
+    tight, winding, volume, _ = mesh_stats(v, f)
+    if not (piece.isValid() and tight and winding):
+        from ductgen.errors import GeometryError
+
+        raise GeometryError("insert split", f"piece {k} is not one valid closed solid")
+    fit = bed_fit(v, bed, up)
+    turn = bed_fit(v @ up_rotation(up).T, bed, "+z").turn_deg  # its turn once standing
+    if to_model is not None:
+        piece = to_model(piece)
+    # the STEP in model coordinates (for CAD), the STL standing on the bed as it prints
+    write_atomic(Path(staging) / f"{base}.step", step_bytes(piece, base))
+    write_atomic(Path(staging) / f"{base}.stl", stl_bytes(stand_on_bed(v, up, turn), f, base))
+    return InsertPiece(
+        step=f"{base}.step",
+        stl=f"{base}.stl",
+        volume_mm3=volume,
+        size_mm=list(fit.size_mm),
+        up=up,
+        fits=fit.fits,
+        stl_turn_deg=float(turn),
+    )
+
+
+def _into_frame(
+    shape: cq.Shape, frame: tuple[list[float], list[list[float]]]
+) -> tuple[cq.Shape, Callable[[cq.Shape], cq.Shape]]:
     """``shape`` moved into the frame (origin, rows x y z) and the move back."""
     from OCP.gp import gp_Trsf
 
@@ -370,7 +268,7 @@ def _into_frame(shape: Any, frame: tuple[list[float], list[list[float]]]) -> tup
     return shape.transformShape(_matrix(trsf)), lambda s: s.transformShape(_matrix(back))
 
 
-def _matrix(trsf: Any) -> Any:
+def _matrix(trsf: gp_Trsf) -> cq.Matrix:
     import cadquery as cq
 
     return cq.Matrix(trsf)

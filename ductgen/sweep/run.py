@@ -247,6 +247,45 @@ def _tasks(
     ]
 
 
+def _checked(
+    spec_path: Path,
+    varies: list[Vary],
+    zip_values: bool,
+    jobs: int | None,
+    only: list[str] | None,
+    quality: str,
+    baseline: str | None,
+    cfd: str | None,
+) -> tuple[list[str], list[Variant], str]:
+    """Everything :func:`run_sweep` checks before it builds (the same arguments): the output
+    kinds, the variants and the baseline's id. Raises :class:`SpecError` on the first bad
+    one, nothing built or written."""
+    from ductgen.pipeline.options import BuildOptions
+    from ductgen.worker import WorkerLimits
+
+    WorkerLimits.from_env()  # a bad DUCTGEN_MEMORY_MB / DUCTGEN_TIMEOUT_S: exit 2 up front
+    kinds = list(BuildOptions.check(only, quality).kinds)
+    if jobs is not None and jobs < 1:
+        raise SpecError("-j", jobs, ">= 1", "number of worker processes")
+    variants = make_variants(spec_path, varies, zip_values)
+    if cfd is not None:  # ductgen sweep --cfd needs the cutter, a [flow] section, OpenFOAM
+        from ductgen.cfd import check_inputs
+
+        if "cutter" not in kinds:
+            raise SpecError("--only", ",".join(kinds), "a list with cutter", "--cfd meshes it")
+        check_inputs(variants[0].spec, cfd, 1, False)
+    ids = [v.id for v in variants]
+    base = baseline if baseline is not None else ids[0]
+    if base not in ids:
+        raise SpecError(
+            "--baseline",
+            base,
+            "one of the variant ids: " + ", ".join(ids[:8]) + (" ..." if len(ids) > 8 else ""),
+            "the solids are compared against it",
+        )
+    return kinds, variants, base
+
+
 def run_sweep(
     spec_path: str | Path,
     varies: list[Vary],
@@ -285,33 +324,15 @@ def run_sweep(
             unknown ``--only`` kind, ``--baseline`` or ``--quality``, or an unreachable
             scheduler.
     """
-    from ductgen.pipeline.options import BuildOptions
     from ductgen.sweep.compare import compare_all, comparison_rows
     from ductgen.sweep.html import write_outputs
-    from ductgen.worker import WorkerLimits
 
-    WorkerLimits.from_env()  # a bad DUCTGEN_MEMORY_MB / DUCTGEN_TIMEOUT_S: exit 2 up front
     t_start = time.perf_counter()
-    kinds = list(BuildOptions.check(only, quality).kinds)
-    if jobs is not None and jobs < 1:
-        raise SpecError("-j", jobs, ">= 1", "number of worker processes")
     spec_path = Path(spec_path)
-    variants = make_variants(spec_path, varies, zip_values)
-    if cfd is not None:  # ductgen sweep --cfd needs the cutter, a [flow] section, OpenFOAM
-        from ductgen.cfd import check_inputs
-
-        if "cutter" not in kinds:
-            raise SpecError("--only", ",".join(kinds), "a list with cutter", "--cfd meshes it")
-        check_inputs(variants[0].spec, cfd, 1, False)
+    kinds, variants, base = _checked(
+        spec_path, varies, zip_values, jobs, only, quality, baseline, cfd
+    )
     ids = [v.id for v in variants]
-    base = baseline if baseline is not None else ids[0]
-    if base not in ids:
-        raise SpecError(
-            "--baseline",
-            base,
-            "one of the variant ids: " + ", ".join(ids[:8]) + (" ..." if len(ids) > 8 else ""),
-            "the solids are compared against it",
-        )
     out = Path(out_dir).resolve()
     tasks = _tasks(variants, out, kinds, quality, cfd, cache)
     results: dict[str, VariantResult] = {}
