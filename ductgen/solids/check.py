@@ -39,9 +39,11 @@ CHECK_MESH = (0.05, 0.2)
 CHECK_MESH_CURVED = (0.05, 0.2)
 #: Relative tolerance asked of the kernel's adaptive volume integral on a mapped solid. Its
 #: cost is mostly one Gauss pass per knot span of the mapped splines, whatever is asked; on
-#: the curved samples' solids 1e-3 took 0.3-0.4x the time of 1e-7 and gave the same volume
-#: to 1.5e-8 relative (the integral's own scatter between tolerances), far inside the mapped
-#: B-rep's departure from the exactly mapped solid (~1e-5, see :mod:`ductgen.solids.deform`).
+#: the curved and panel samples' nine solids 1e-3 took 0.3-0.4x the CPU of 1e-7 and gave the
+#: same volume to 1.0e-7 relative, which is the integral's own scatter: asked for 1e-7, it
+#: reported an error of 8e-7 on the panel insert, and 1e-3 and 1e-4 agreed to 2e-10. Both are
+#: far inside the mapped B-rep's departure from the exactly mapped solid (~1e-5, see
+#: :mod:`ductgen.solids.deform` and tests/test_solids_check.py).
 EXACT_VOLUME_EPS = 1e-3
 
 
