@@ -1,5 +1,6 @@
-"""The volume the check measures on a solid mapped onto a curved skin (the kernel's adaptive
-mass properties at :data:`~ductgen.solids.check.EXACT_VOLUME_EPS`).
+"""The volumes the check compares on a solid mapped onto a curved skin: the kernel's adaptive
+mass properties at :data:`~ductgen.solids.check.EXACT_VOLUME_EPS`, and the expected volume
+of the flat triangulation refined and mapped (:func:`~ductgen.solids.jobs.mapped_volume_mm3`).
 
 Independent checks: the volume element of cylindrical coordinates, dV = (1 + s·w/R) du dv dw
 (derived), integrated in closed form over a box in design coordinates, u in [0, a],
@@ -21,6 +22,7 @@ from ductgen.design import build_design  # noqa: E402
 from ductgen.solids.check import CHECK_MESH_CURVED, check_solid  # noqa: E402
 from ductgen.solids.cutter import make_cavity  # noqa: E402
 from ductgen.solids.deform import MAP_TOL_MM, map_solid  # noqa: E402
+from ductgen.solids.jobs import EXPECTED_SAG_MM, expected_step_mm, mapped_volume_mm3  # noqa: E402
 from ductgen.spec import parse_spec  # noqa: E402
 from ductgen.tolerances import DEFAULT_TOLERANCES  # noqa: E402
 from tests.helpers import CURVED_BASE  # noqa: E402
@@ -64,6 +66,10 @@ def test_mapped_box_volume_is_the_cylindrical_closed_form(axis: str, side: str) 
     area = 2.0 * (a * 2.0 * b + a * h + 2.0 * b * h)
     bound = area * MAP_TOL_MM / exact  # the mapped splines' departure, at most (1.6e-4)
     assert res.volume_mm3 == pytest.approx(exact, rel=bound / 5.0)
+    # the expected volume (the flat triangulation, refined and mapped; the box's flat mesh is
+    # exact): its chords sag at most EXPECTED_SAG_MM off the mapped surface
+    expected = mapped_volume_mm3(box, d.skin.to_model, expected_step_mm(1.0 / R))
+    assert expected == pytest.approx(exact, rel=area * EXPECTED_SAG_MM / exact)
 
 
 @pytest.mark.slow
