@@ -32,20 +32,19 @@ def triangulate(
         tri = BRep_Tool.Triangulation_s(face.wrapped, loc)
         if tri is None:
             continue
-        trsf = loc.Transformation()
-        n = tri.NbNodes()
-        pts = np.empty((n, 3))
-        for i in range(1, n + 1):
-            p = tri.Node(i).Transformed(trsf)
-            pts[i - 1] = (p.X(), p.Y(), p.Z())
-        m = tri.NbTriangles()
-        idx = np.empty((m, 3), dtype=np.int64)
-        for i in range(1, m + 1):
-            idx[i - 1] = tri.Triangle(i).Get()
-        idx -= 1
+        n, m = tri.NbNodes(), tri.NbTriangles()
+        # one call per node and triangle into a list (not a numpy row each), and no
+        # transformation where the location is the identity (it would change nothing)
+        if loc.IsIdentity():
+            pts = [tri.Node(i).Coord() for i in range(1, n + 1)]
+        else:
+            trsf = loc.Transformation()
+            pts = [tri.Node(i).Transformed(trsf).Coord() for i in range(1, n + 1)]
+        idx = np.array([tri.Triangle(i).Get() for i in range(1, m + 1)], dtype=np.int64)
+        idx = idx.reshape(-1, 3) - 1
         if face.wrapped.Orientation() == TopAbs_REVERSED:
             idx = idx[:, ::-1]
-        verts.append(pts)
+        verts.append(np.array(pts, dtype=np.float64).reshape(-1, 3))
         faces.append(idx + offset)
         offset += n
     if not verts:

@@ -81,8 +81,8 @@ def split_across_flow(
     if any(b - a <= key_length for a, b in pairwise(xs)):
         raise GeometryError("split", "stations closer than the key length")
     key = (key_length, 0.5 * key_fraction * (bb.ymax - bb.ymin))
-    pieces = split_by_planes(solid, xs, key) if by_planes else None
-    return pieces if pieces is not None else split_by_booleans(solid, xs, key)
+    pieces = split_by_planes(solid, xs, key, bb) if by_planes else None
+    return pieces if pieces is not None else split_by_booleans(solid, xs, key, bb)
 
 
 #: Shifts (mm) tried, in this order, for all the stations together when a cut leaves a piece

@@ -90,32 +90,85 @@ def _region(stations_x: float, bb: Any, key: tuple[float, float]) -> Any:
     return boolean("fuse", up, tongue, "split region", glue=True)
 
 
-def split_by_booleans(solid: Any, xs: list[float], key: tuple[float, float]) -> list[Any]:
+def split_by_booleans(
+    solid: Any, xs: list[float], key: tuple[float, float], bb: Any = None
+) -> list[Any]:
     """The pieces by Booleans (each piece: what is left ∩ the region upstream of its glue
-    surface), retried with fuzzy tolerances (:func:`~ductgen.solids.primitives.boolean`)."""
+    surface, the rest: what is left minus it), retried with fuzzy tolerances
+    (:func:`~ductgen.solids.primitives.boolean`). ``bb``: ``solid``'s bounding box when
+    already taken (its optimal box costs ~1 CPU s on a mapped insert)."""
     from ductgen.solids.primitives import boolean
 
-    bb = solid.BoundingBox()
+    bb = solid.BoundingBox() if bb is None else bb
     pieces = []
     rest = solid
     for i, reg in enumerate([_region(s, bb, key) for s in xs]):
-        pieces.append(boolean("intersect", rest, reg, f"split piece {i + 1}"))
-        rest = boolean("cut", rest, reg, f"split rest {i + 1}")
+        both = _common_and_cut(rest, reg)
+        if both is None:
+            both = (
+                boolean("intersect", rest, reg, f"split piece {i + 1}"),
+                boolean("cut", rest, reg, f"split rest {i + 1}"),
+            )
+        pieces.append(both[0])
+        rest = both[1]
     pieces.append(rest)
     return pieces
 
 
-def split_by_planes(solid: Any, xs: list[float], key: tuple[float, float]) -> list[Any] | None:
+def _common_and_cut(a: Any, b: Any) -> tuple[Any, Any] | None:
+    """``a`` ∩ ``b`` and ``a`` − ``b`` from one intersection of the two (the kernel's pave
+    filler, serial, oriented boxes, as :func:`~ductgen.solids.primitives.boolean`'s first
+    try), or None when either is not one valid solid (the caller then runs the Booleans
+    with their fuzzy retries). The common part is copied before the cut is built, so the
+    two share no edges (a shared section edge's tolerance was raised by the later cuts);
+    the pieces' STEP files came out byte for byte those of two separate Booleans, at 0.6x
+    their CPU on the curved samples' inserts."""
+    import cadquery as cq
+    from OCP.BOPAlgo import BOPAlgo_PaveFiller
+    from OCP.BRepAlgoAPI import BRepAlgoAPI_Common, BRepAlgoAPI_Cut
+    from OCP.BRepBuilderAPI import BRepBuilderAPI_Copy
+    from OCP.TopTools import TopTools_ListOfShape
+
+    args = TopTools_ListOfShape()
+    args.Append(a.wrapped)
+    args.Append(b.wrapped)
+    filler = BOPAlgo_PaveFiller()
+    filler.SetArguments(args)
+    filler.SetRunParallel(False)
+    filler.SetUseOBB(True)
+    try:
+        filler.Perform()
+        if filler.HasErrors():
+            return None
+        common = BRepAlgoAPI_Common(a.wrapped, b.wrapped, filler)
+        if not common.IsDone():
+            return None
+        inside = cq.Shape.cast(BRepBuilderAPI_Copy(common.Shape(), True, False).Shape()).clean()
+        cut = BRepAlgoAPI_Cut(a.wrapped, b.wrapped, filler)
+        if not cut.IsDone():
+            return None
+        outside = cq.Shape.cast(cut.Shape()).clean()
+    except Exception:  # kernel exceptions share no base class; the Booleans retry
+        return None
+    if all(s.isValid() and len(s.Solids()) == 1 for s in (inside, outside)):
+        return inside, outside
+    return None
+
+
+def split_by_planes(
+    solid: Any, xs: list[float], key: tuple[float, float], bb: Any = None
+) -> list[Any] | None:
     """The pieces by one splitter operation; None when one comes out invalid. Raises
     :class:`GeometryError` when a piece is not one solid (a station through a place where
-    the part falls apart; Booleans would give the same)."""
+    the part falls apart; Booleans would give the same). ``bb``: ``solid``'s bounding box
+    when already taken."""
     import cadquery as cq
     from OCP.BRepAlgoAPI import BRepAlgoAPI_Splitter
     from OCP.TopTools import TopTools_ListOfShape
 
     from ductgen.errors import GeometryError
 
-    bb = solid.BoundingBox()
+    bb = solid.BoundingBox() if bb is None else bb
     yc = 0.5 * (bb.ymin + bb.ymax)
     args, tools = TopTools_ListOfShape(), TopTools_ListOfShape()
     args.Append(solid.wrapped)
