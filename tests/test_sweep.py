@@ -258,7 +258,7 @@ def test_comparison_page_renders_in_headless_chromium(sweep, tmp_path: Path) -> 
     # the rendered DOM holds one table row per variant, with its ramp length
     for row in result.rows:
         assert f'data-variant="{row["variant"]}"' in dom.stdout
-        assert f">{row['ramp_length_mm']:.1f}<" in dom.stdout  # shown in mm, 0.1 mm
+        assert f">{row['ramp_length_mm']:.2f}<" in dom.stdout  # shown in mm, 0.01 mm
     assert dom.stdout.count("data:image/png;base64,") >= 2  # overlays and metric plots inline
     png = tmp_path / "shot.png"
     shot = run_chromium(exe, tmp_path, f"--screenshot={png}", "--window-size=1400,2000", url)
