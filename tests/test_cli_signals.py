@@ -46,6 +46,13 @@ def _pythonpath() -> str:
     return os.pathsep.join([root, *filter(None, [os.environ.get("PYTHONPATH")])])
 
 
+def sigint_as_at_a_terminal() -> None:
+    """Give the child the default Ctrl-C action: a job started in the background by a
+    non-interactive shell (``cmd &``) inherits SIGINT ignored, and so would every process
+    it starts, which would turn these tests into tests of how the suite was launched."""
+    signal.signal(signal.SIGINT, signal.SIG_DFL)
+
+
 @pytest.fixture
 def run(tmp_path: Path):  # type: ignore[no-untyped-def]
     """Start ``python -m ductgen ARGS`` marked and in its own session; clean up after."""
@@ -61,6 +68,7 @@ def run(tmp_path: Path):  # type: ignore[no-untyped-def]
             stderr=subprocess.PIPE,
             text=True,
             start_new_session=True,
+            preexec_fn=sigint_as_at_a_terminal,
         )
         started.append(p)
         return p
@@ -249,6 +257,7 @@ def test_signal_while_importing_exits_cleanly(
         capture_output=True,
         text=True,
         timeout=WAIT_S,
+        preexec_fn=sigint_as_at_a_terminal,
     )
     assert r.returncode == 128 + sig, r.stderr[-2000:]
     assert "interrupted" in r.stderr
