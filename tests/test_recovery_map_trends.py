@@ -60,7 +60,7 @@ def test_best_ramp_angle_near_seven_degrees() -> None:
     strict=True,
     reason="known disagreement: the map's flow-averaged recovery rises as the IVR drops "
     "(0.744 at IVR 0.9, 0.828 at 0.5; 7 deg, W/D 4, delta/D 0.5); the campaign's area-averaged "
-    "recovery falls as the report states, so the averaging behind the NACA figure matters",
+    "recovery falls as the NACA reports state, so the averaging behind the NACA figure matters",
 )
 def test_recovery_falls_as_ivr_drops() -> None:
     # NACA ACR 5I20 / RM A7I30 [recalled, not re-read]
