@@ -16,8 +16,9 @@ from typing import Any
 from ductgen.errors import SpecError
 from ductgen.page.guard import SPEC_SUFFIXES, PathRefused, WorkFolder, new_secret
 from ductgen.page.jobs import MAX_SWEEP_VARIANTS, JobRunner
+from ductgen.spec.load import FILE_KEYS
 
-__all__ = ["FILE_KEYS", "PANEL_SUFFIXES", "DesignApp"]
+__all__ = ["PANEL_SUFFIXES", "DesignApp"]
 
 #: Files a panel skin may be read from (``skin.file``): STEP, or a mesh scan.
 PANEL_SUFFIXES = (".step", ".stp", ".stl", ".obj", ".ply")
@@ -27,10 +28,6 @@ MAX_LISTED = 200
 
 #: Folders the panel file list does not walk into.
 _SKIPPED = (".git", ".venv", "node_modules", "__pycache__")
-
-#: Spec keys that name a file (read relative to the spec's folder): the page lets them name
-#: files inside the work folder only (or the starting spec's own folder).
-FILE_KEYS = (("planform", "profile"), ("flow", "recovery"), ("skin", "file"))
 
 
 @dataclass

@@ -24,6 +24,7 @@ else:  # pragma: no cover
     import tomli as tomllib
 
 __all__ = [
+    "FILE_KEYS",
     "MAX_SPEC_BYTES",
     "MAX_SPEC_DEPTH",
     "MAX_SPEC_VALUES",
@@ -192,6 +193,12 @@ def read_spec_data(path: Path) -> dict[str, Any]:
         )
     _check_size(data, path)
     return data
+
+
+#: Spec keys that may name a file, read relative to the spec's folder (:func:`parse_spec`
+#: resolves them; the design page confines them to its work folder; ``init --example``
+#: copies the files a sample names).
+FILE_KEYS = (("planform", "profile"), ("flow", "recovery"), ("skin", "file"))
 
 
 def _resolve_csv(

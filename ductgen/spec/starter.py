@@ -2,9 +2,7 @@
 
 from __future__ import annotations
 
-from collections.abc import Iterator
 from pathlib import Path
-from typing import Any
 
 from ductgen.resources import samples_dir
 
@@ -59,30 +57,17 @@ def example_path(name: str) -> Path:
     return samples_dir() / f"{name}.toml"
 
 
-def _strings(value: Any) -> Iterator[str]:
-    if isinstance(value, str):
-        yield value
-    elif isinstance(value, dict):
-        for v in value.values():
-            yield from _strings(v)
-    elif isinstance(value, list):
-        for v in value:
-            yield from _strings(v)
-
-
 def example_files(name: str) -> dict[str, bytes]:
     """The files a bundled sample names beside itself (e.g. its panel's STEP, as
     ``skin.file``), by file name: ``ductgen init --example`` writes them next to the spec so
     the copy builds where it is written."""
-    from ductgen.spec.load import tomllib
+    from ductgen.spec.load import FILE_KEYS, tomllib
 
     folder = samples_dir()
     values = tomllib.loads(example_path(name).read_text(encoding="utf-8"))
     found: dict[str, bytes] = {}
-    for text in _strings(values):
-        if "/" in text or "\\" in text or text.endswith(".toml"):
-            continue
-        candidate = folder / text
-        if candidate.is_file():
-            found[text] = candidate.read_bytes()
+    for section, key in FILE_KEYS:
+        text = values.get(section, {}).get(key)
+        if isinstance(text, str) and (folder / text).is_file():  # not a bundled table's name
+            found[text] = (folder / text).read_bytes()
     return found
