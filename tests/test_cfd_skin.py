@@ -119,7 +119,8 @@ def test_panel_case_stands_on_the_panel(tmp_path: Path) -> None:
     from tests.panels import MOTION, cylinder_panel
 
     # a spanwise cylinder of 2 m radius (it curves along the flow: the skin falls away
-    # below the straight outlet), made by the kernel, moved, as a STEP file
+    # below the straight outlet), made by the kernel, moved, as a STEP file; big enough
+    # that the floor needs no continuation past its edge
     panel = MOTION.shape(cylinder_panel(PANEL_R_M * 1e3, "spanwise", 1.5, size=(1300.0, 600.0)))
     path = tmp_path / "cowling.step"
     cq.exporters.export(panel, str(path))
@@ -140,8 +141,21 @@ def test_panel_case_stands_on_the_panel(tmp_path: Path) -> None:
     origin, axes = np.asarray(wall["datum_origin_mm"]), np.asarray(wall["datum_axes"])
     model = floor.reshape(-1, 3) * 1e3 @ axes + origin
     panel_pts = (model - np.asarray(MOTION.shift)) @ MOTION.matrix * 1e-3
-    assert _off_cylinder(panel_pts.reshape(-1, 3, 3), PANEL_R_M, "y") < ON_SKIN_M
+    tri = panel_pts.reshape(-1, 3, 3)
+    # the skin falls away below the straight outlet: behind the outlet's station the floor
+    # runs on along the cylinder's tangent there (closed form: the circle's tangent line),
+    # and the full eight diameters fit
+    x_f = wall["floor_tangent_from_x_mm"] * 1e-3
+    assert x_f > 0.0 and section["levels"][0]["outlet_extension_diameters"] == pytest.approx(8)
+    ahead, behind = np.all(tri[..., 0] <= x_f, axis=1), np.all(tri[..., 0] >= x_f, axis=1)
+    assert ahead.sum() > 100 and behind.sum() > 100
+    assert _off_cylinder(tri[ahead], PANEL_R_M, "y") < ON_SKIN_M
+    z_f = np.sqrt(PANEL_R_M**2 - x_f**2) - PANEL_R_M
+    slope = -x_f / (z_f + PANEL_R_M)
+    pts = tri[behind].reshape(-1, 3)
+    assert np.max(np.abs(pts[:, 2] - (z_f + slope * (pts[:, 0] - x_f)))) < ON_SKIN_M
     assert section["skin_wall"]["source"] == "the panel file"
+    assert wall["filled_past_panel_edge_mm"] == 0.0
     assert wall["datum_axes"] != np.eye(3).tolist()  # the moved panel's frame, not the identity
     _check_case(case)
 
@@ -156,3 +170,37 @@ def test_a_skin_that_wraps_round_the_domain_is_refused(tmp_path: Path, capsys) -
     err = capsys.readouterr().err
     assert "skin" in err and "domain" in err
     assert not (tmp_path / "o").exists()
+
+
+@pytest.mark.slow
+def test_a_panel_smaller_than_the_domain_is_continued_past_its_edge(tmp_path: Path) -> None:
+    """A panel that covers the inlet but not the domain's floor: the floor is the file's
+    own surface where the file has one and continues it past the edge, said in cfd.json.
+    Where the continuation stands, a streamwise cylinder (axis along the flow: it does
+    not fall away behind the outlet) is a quadratic in y to within y⁴/(8R³) — under
+    0.02 mm at the domain's 0.25 m half-width on R = 2 m (Taylor's remainder)."""
+    cq = pytest.importorskip("cadquery")
+    from ductgen.cfd import run_cfd
+    from ductgen.spec import parse_spec
+    from tests.panels import cylinder_panel
+
+    size = (700.0, 180.0)
+    panel = cylinder_panel(PANEL_R_M * 1e3, "streamwise", 1.5, size=size, x0=-60.0)
+    path = tmp_path / "strip.step"
+    cq.exporters.export(panel, str(path))
+    data = _cylinder_spec_data()
+    data["skin"] = {"shape": "panel", "thickness": 1.5, "file": str(path),
+                    "at": [0.0, 0.0, 0.0], "flow_direction": [1.0, 0.0, 0.0]}  # fmt: skip
+    section = run_cfd(parse_spec(data), tmp_path / "out", write_only=True)
+    wall = section["skin_wall"]
+    assert wall["filled_past_panel_edge_mm"] > 30.0
+    assert "continued" in wall["source"]
+    assert any("past its edge" in w for w in section["warnings"])
+    case = tmp_path / "out" / "cfd-coarse"
+    floor = _solid((case / "constant/triSurface/duct.stl").read_text(), "floor")
+    inside = np.all(np.abs(floor[..., 1]) <= size[1] / 2e3, axis=1)
+    inside &= np.all((floor[..., 0] >= -0.06) & (floor[..., 0] <= size[0] * 1e-3 - 0.06), axis=1)
+    assert inside.sum() > 100 and (~inside).sum() > 100
+    assert _off_cylinder(floor, PANEL_R_M, "x") < 0.05e-3  # the fill's bound plus the sag
+    assert _off_cylinder(floor[inside], PANEL_R_M, "x") < ON_SKIN_M
+    _check_case(case)

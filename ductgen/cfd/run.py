@@ -278,6 +278,8 @@ def _section(
             "datum_origin_mm": [float(c) for c in domain.origin],
             "datum_axes": [[float(c) for c in row] for row in domain.axes],
             "sheet_step_mm": domain.sheet.step_mm,
+            "filled_past_panel_edge_mm": domain.sheet.filled_mm,
+            "floor_tangent_from_x_mm": domain.sheet.faired_from_x_mm,
             "inlet_profile": "1/7-power layer counted from the skin's height under the "
             "inlet's centreline",
         }

@@ -56,12 +56,20 @@ class SkinSheet:
             clockwise seen from above (+z).
         step_mm: spacing of the corners.
         source: what the corners lie on (for cfd.json).
+        grid: (nu, nv) when the corners are a grid whose rows of constant u run downstream.
+        filled_mm: how far past the panel file's edge the floor was continued
+            (:func:`~ductgen.cfd.floor_fill.continue_panel`; 0: not at all).
+        faired_from_x_mm: the station from which the floor runs on along the skin's
+            tangent (:func:`~ductgen.cfd.floor_fill.fair_downstream`; None: nowhere).
     """
 
     points: np.ndarray
     triangles: np.ndarray
     step_mm: float
     source: str
+    grid: tuple[int, int] | None = None
+    filled_mm: float = 0.0
+    faired_from_x_mm: float | None = None
     _interp: Any = field(init=False, repr=False, compare=False)
 
     def __post_init__(self) -> None:
@@ -108,19 +116,27 @@ def _step(curvature: float) -> float:
     return min(MAX_STEP_MM, math.sqrt(8.0 * SAG_MM / curvature))
 
 
-def skin_sheet(design: Any, spec: Any, box_xy: tuple[float, float, float, float]) -> SkinSheet:
+def skin_sheet(
+    design: Any,
+    spec: Any,
+    box_xy: tuple[float, float, float, float],
+    core_xy: tuple[float, float, float, float] | None = None,
+) -> SkinSheet:
     """The skin over ``box_xy`` = (x0, x1, y0, y1) (datum frame, mm) and a margin round it.
+    On the user's panel the file must cover ``core_xy`` (the inlet's own footprint, default
+    the whole box); past its edge the floor continues it
+    (:func:`~ductgen.cfd.floor_fill.continue_panel`).
 
     Raises:
         SkinWallError: the skin turns too steeply in the box, or the panel file does not
-            reach round it.
+            cover the core.
     """
     from ductgen.geometry.panel import PanelSkin
     from ductgen.geometry.skin import CurvedSkin
 
     skin = design.skin
     if isinstance(skin, PanelSkin):
-        return _panel_sheet(skin, spec, box_xy)
+        return _panel_sheet(skin, spec, box_xy, box_xy if core_xy is None else core_xy)
     if isinstance(skin, CurvedSkin):
         return _analytic_sheet(skin, box_xy)
     raise SkinWallError(f"no skin sheet for a {getattr(skin, 'name', skin)!r} skin")
@@ -173,7 +189,7 @@ def _analytic_sheet(skin: Any, box: tuple[float, float, float, float]) -> SkinSh
             and hi[0] > x1
         ):
             source = f"analytic {skin.name} skin (its map at w = 0)"
-            return SkinSheet(pts, np.zeros((0, 3), int), step, source)
+            return SkinSheet(pts, np.zeros((0, 3), int), step, source, grid=(nu, nv))
         margin *= 1.6
     raise SkinWallError(
         "the skin does not reach round the CFD domain's floor from the ramp start (it curves "
@@ -181,8 +197,15 @@ def _analytic_sheet(skin: Any, box: tuple[float, float, float, float]) -> SkinSh
     )
 
 
-def _panel_sheet(skin: Any, spec: Any, box: tuple[float, float, float, float]) -> SkinSheet:
-    """The user's panel sampled by the kernel worker over the box (its datum frame)."""
+def _panel_sheet(
+    skin: Any,
+    spec: Any,
+    box: tuple[float, float, float, float],
+    core: tuple[float, float, float, float],
+) -> SkinSheet:
+    """The user's panel sampled by the kernel worker over the box (its datum frame), which
+    must cover ``core``; continued past the file's edge elsewhere."""
+    from ductgen.cfd.floor_fill import continue_panel
     from ductgen.panel_file import sample_panel
     from ductgen.worker import default_worker
 
@@ -204,20 +227,32 @@ def _panel_sheet(skin: Any, spec: Any, box: tuple[float, float, float, float]) -
         round(step, 2),
     )
     x, y, h = np.asarray(got["x"]), np.asarray(got["y"]), np.asarray(got["h"])
-    if np.isnan(h).any():
-        i, j = np.argwhere(np.isnan(h))[0]
+    cx0, cx1, cy0, cy1 = core
+    inside = ((x >= cx0) & (x <= cx1))[:, None] & ((y >= cy0) & (y <= cy1))[None, :] & np.isnan(h)
+    if inside.any():
+        i, j = np.argwhere(inside)[0]
         raise SkinWallError(
             f"the panel file has no surface at ({x[i]:.0f}, {y[j]:.0f}) mm in the datum's "
-            f"frame, inside the CFD domain's floor (x {x0:.0f}…{x1:.0f}, y {y0:.0f}…{y1:.0f} "
-            "mm): the case needs the skin all round the inlet; give a larger panel"
+            f"frame, under the inlet's own footprint (x {cx0:.0f}…{cx1:.0f}, y "
+            f"{cy0:.0f}…{cy1:.0f} mm): the case needs the file's surface there; give a "
+            "larger panel"
         )
+    h, filled = continue_panel(x, y, h)
     xx, yy = np.meshgrid(x, y, indexing="ij")
     pts = np.column_stack([xx.ravel(), yy.ravel(), h.ravel()])
     gx, gy = np.gradient(h, x, y)
     normals = np.column_stack([-gx.ravel(), -gy.ravel(), np.ones(h.size)])
     normals /= np.linalg.norm(normals, axis=1)[:, None]
     _slope_check(pts, normals, "panel")
-    return SkinSheet(pts, np.zeros((0, 3), int), float(x[1] - x[0]), "the panel file")
+    source = "the panel file"
+    if filled > 0.0:
+        source += (
+            f", continued up to {filled:.0f} mm past its edge by its least-squares quadratic "
+            "surface"
+        )
+    return SkinSheet(
+        pts, np.zeros((0, 3), int), float(x[1] - x[0]), source, (len(x), len(y)), filled
+    )
 
 
 def slab_mesh(sheet: SkinSheet, z_top_mm: float) -> tuple[np.ndarray, np.ndarray]:
