@@ -28,6 +28,7 @@ from pathlib import Path
 from typing import Any
 
 from ductgen.errors import SpecError
+from ductgen.sweep.report_record import ReportFormatError, VariantReport
 from ductgen.sweep.results import SweepResult, VariantResult, VariantTask
 from ductgen.sweep.variants import (
     STAMP_FILE,
@@ -98,7 +99,8 @@ def build_variant(task: VariantTask) -> VariantResult:
             "files": sorted(p.name for p in result.files.values()),
         }
         write_atomic(folder / STAMP_FILE, (json.dumps(stamp, indent=2) + "\n").encode(), force=True)
-        return VariantResult(task.id, "built", str(folder), result.report, seconds)
+        report = VariantReport.of_report(result.report)
+        return VariantResult(task.id, "built", str(folder), report, seconds)
     except Exception as err:  # one failing variant must not stop the sweep
         msg = str(err).replace("\n", " ").strip() or type(err).__name__
         return VariantResult(task.id, "failed", str(folder), error=f"{type(err).__name__}: {msg}")
@@ -134,8 +136,8 @@ def _cached(task: VariantTask) -> VariantResult | None:
     if "report.json" not in names or not all((folder / n).is_file() for n in names):
         return None
     try:
-        report = json.loads((folder / "report.json").read_text(encoding="utf-8"))
-    except (OSError, ValueError):
+        report = VariantReport.read(folder / "report.json")
+    except (OSError, ReportFormatError):  # unreadable or not a report: build it again
         return None
     return VariantResult(task.id, "cached", str(folder), report, stamp.get("build_s"))
 
