@@ -21,14 +21,9 @@ import numpy as np
 
 from ductgen.design.limits import MAX_DEPTH_FRACTION, MAX_WRAP_DEG
 from ductgen.errors import DesignWarning, SpecError
-from ductgen.geometry.panel import (
-    HeightField,
-    PanelFrame,
-    PanelSkin,
-    convex_curvatures,
-    make_panel_skin,
-)
+from ductgen.geometry.panel import PanelSkin, make_panel_skin
 from ductgen.geometry.panel_samples import continue_surface
+from ductgen.geometry.panel_surface import HeightField, PanelFrame, convex_curvatures
 from ductgen.panel_file import sample_panel
 from ductgen.spec.model import PanelSkinSpec
 from ductgen.worker import KernelWorker

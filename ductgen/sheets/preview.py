@@ -21,7 +21,7 @@ from ductgen.solids.jobs import cutter_mesh_job
 
 if TYPE_CHECKING:
     from ductgen.design import Design
-    from ductgen.geometry.panel import PanelFrame
+    from ductgen.geometry.panel_surface import PanelFrame
 
 __all__ = [
     "GL_PACKAGES",

@@ -28,7 +28,7 @@ import numpy as np
 
 from ductgen.design import Design
 from ductgen.errors import GeometryError
-from ductgen.geometry.panel import PanelFrame
+from ductgen.geometry.panel_surface import PanelFrame
 from ductgen.panel_file import load_panel
 
 __all__ = [
