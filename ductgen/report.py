@@ -14,6 +14,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 from ductgen.design import Design
+from ductgen.design.record import SkinRecord, TemplateRecord
 from ductgen.errors import DesignWarning
 from ductgen.flow.record import FlowRecord
 from ductgen.flow.stall import steepest_wall_report
@@ -71,8 +72,8 @@ class BuildRecord:
     spec_sha256: str
     ductgen_version: str
     geometry: dict[str, Any]
-    skin: dict[str, Any]
-    template: dict[str, Any]
+    skin: SkinRecord
+    template: TemplateRecord
     flow: FlowRecord | None
     parts: dict[str, Any] | None
     bed: dict[str, Any] | None
@@ -88,7 +89,7 @@ class BuildRecord:
 
     def to_report(self) -> dict[str, Any]:
         """The ``report.json`` document (sections in their written order)."""
-        skin = dict(self.skin)
+        skin = dict(self.skin.section)
         if self.panel_cut is not None:
             skin["panel"] = self.panel_cut
         report: dict[str, Any] = {
@@ -96,7 +97,7 @@ class BuildRecord:
             "spec_sha256": self.spec_sha256,
             "ductgen_version": self.ductgen_version,
             "geometry": {**self.geometry, "skin": skin},
-            "template": self.template,
+            "template": self.template.section(),
         }
         if self.flow is not None:
             report["flow"] = self.flow.section
@@ -300,11 +301,11 @@ def start_record(
         spec_sha256=spec_sha256,
         ductgen_version=version,
         geometry=geometry,
-        skin=_skin_section(d),
-        template={
-            "development": "exact" if d.development.exact else "least-distortion (LSCM + ARAP)",
-            "max_length_distortion_pct": d.development.max_length_distortion_pct,
-        },
+        skin=SkinRecord.of_section(_skin_section(d)),
+        template=TemplateRecord(
+            "exact" if d.development.exact else "least-distortion (LSCM + ARAP)",
+            d.development.max_length_distortion_pct,
+        ),
         flow=flow,
         parts=parts,
         bed=bed,

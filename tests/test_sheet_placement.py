@@ -21,6 +21,7 @@ import pymupdf
 import pytest
 
 from ductgen.design import build_design
+from ductgen.design.record import SkinRecord, TemplateRecord
 from ductgen.flow.record import FlowRecord
 from ductgen.flow.report import flow_section
 from ductgen.sheets import skin_lines
@@ -38,7 +39,7 @@ def _sheet(spec, split=()) -> pymupdf.Page:  # type: ignore[no-untyped-def]
     """The sheet as a build draws it (AIRFLOW block included when the spec has [flow]),
     without the preview picture (an image, not text or lines)."""
     d = build_design(spec)
-    summary = dict(d.skin_summary)
+    skin = SkinRecord.of_section(dict(d.skin_summary))
     flow = (
         FlowRecord.of_section(flow_section(spec.flow, d.duct)[0]) if spec.flow is not None else None
     )
@@ -50,7 +51,7 @@ def _sheet(spec, split=()) -> pymupdf.Page:  # type: ignore[no-untyped-def]
         None,
         flow,
         split,
-        skin_lines(summary, {}),
+        skin_lines(skin, TemplateRecord("exact", 0.0)),
         design=d,
     )
     return pymupdf.open(stream=pdf, filetype="pdf")[0]

@@ -9,6 +9,7 @@ from pathlib import Path
 
 import pytest
 
+from ductgen.design.record import SkinRecord, TemplateRecord
 from ductgen.errors import SpecError
 from ductgen.sheets import SKIN_LINES, skin_lines
 from ductgen.spec import load_spec, parse_spec
@@ -116,9 +117,10 @@ _SUMMARIES = {
 def test_the_sheet_has_lines_for_every_shape() -> None:
     """A new shape without its sheet lines fails here, not in a user's build."""
     assert set(SKIN_LINES) == set(SKIN_SHAPES) == set(_SUMMARIES)
-    tpl = {"max_length_distortion_pct": 0.4}
-    assert skin_lines(_SUMMARIES["flat"], tpl) == ()
-    lines = {s: dict(skin_lines(_SUMMARIES[s], tpl)) for s in ("cylinder", "doubly", "panel")}
+    tpl = TemplateRecord("least-distortion (LSCM + ARAP)", 0.4)
+    skins = {s: SkinRecord.of_section(_SUMMARIES[s]) for s in _SUMMARIES}
+    assert skin_lines(skins["flat"], tpl) == ()
+    lines = {s: dict(skin_lines(skins[s], tpl)) for s in ("cylinder", "doubly", "panel")}
     assert lines["cylinder"]["skin"] == "cylinder R 900 mm, convex, axis spanwise"
     assert lines["doubly"]["skin"] == "doubly R 900 (along) / 700 (across) mm, concave"
     assert lines["panel"]["smallest radius"] == "640 mm, convex"

@@ -141,16 +141,9 @@ def case_setup(
     x1, half, zt, zb, cells, (skin_lo, skin_hi, skin_x0) = _grid(
         surface, domain, x0, throat_end + 0.5 * length, w, delta, h
     )
-    nx, ny, nzl, nzu = cells
     exit_x, exit_bounds = _exit_box(surface, h)
-    r = g.edge_radius_mm * mm
-    side = w / 2.0 + 2.0 * r + 0.2 * w
-    opening = (-0.1 * length, -side, zb, throat_end + 0.2 * length, side, max(d, 0.5 * delta))
-    location = (x0 + 1.37 * h, 0.613 * half, zt - 1.41 * h)
-    a = g.lip.semi_major_mm * mm
-    tx = length + 0.75 * a
-    wy = w / 2.0 + 2.0 * r + 0.005
-    throat_bounds = (tx - h, -wy, zb, tx + h, wy, -1e-4)
+    zones = _zones(g, h, (x0, half, zb, zt), delta, (skin_lo, skin_hi))
+    tx, wy = zones["throat_x_m"], zones["throat_bounds"][4]
     speed, nu, rho = flow.speed_m_s, flow.kinematic_viscosity_m2_s, flow.density_kg_m3
     profile, delta_in = _inflow(flow, x0, zt, skin_x0 if domain is not None else None)
     ang = math.radians(flow.flow_angle_deg)
@@ -160,19 +153,8 @@ def case_setup(
         mesh=mesh,
         base_cell_m=h,
         box=(x0, x1, -half, half, zb, zt),
-        cells=(nx, ny, nzl, nzu),
-        opening=opening,
-        approach=(
-            x0 - h,
-            -side,
-            min(-h, skin_lo - h),
-            opening[3],
-            side,
-            min(zt, max(2.0 * delta, d) + max(skin_hi, 0.0)),
-        ),
-        location=location,
-        throat_x_m=tx,
-        throat_bounds=throat_bounds,
+        cells=cells,
+        **zones,
         throat_area_m2=w * d,
         probe=(x0 / 2.0, 0.0, _probe_z(domain, x0 / 2.0, min(2.5 * delta_in + 0.5 * h, 0.8 * zt))),
         speed_m_s=speed,
@@ -192,6 +174,42 @@ def case_setup(
         cells_across_depth_core=d / (h / 2 ** LEVELS["cavity"]),
         **_curved_zones(domain, tx, wy, surface, d),
     )
+
+
+def _zones(
+    g: InletGeometry,
+    h: float,
+    box: tuple[float, float, float, float],
+    delta: float,
+    skin: tuple[float, float],
+) -> dict[str, Any]:
+    """The case's regions round the inlet (m): the refined opening and approach, the mesh's
+    inside point, the throat plane's station and its sampling box; from the geometry (mm),
+    the base cell ``h``, the box's (x0, half width, bottom, top), the boundary layer's
+    thickness and the skin's lowest and highest point over the box."""
+    mm = 1e-3
+    x0, half, zb, zt = box
+    d, w, length = g.depth_mm * mm, g.width_mm * mm, g.length_mm * mm
+    throat_end = g.throat_end_mm * mm
+    r = g.edge_radius_mm * mm
+    side = w / 2.0 + 2.0 * r + 0.2 * w
+    opening = (-0.1 * length, -side, zb, throat_end + 0.2 * length, side, max(d, 0.5 * delta))
+    tx = length + 0.75 * g.lip.semi_major_mm * mm
+    wy = w / 2.0 + 2.0 * r + 0.005
+    return {
+        "opening": opening,
+        "approach": (
+            x0 - h,
+            -side,
+            min(-h, skin[0] - h),
+            opening[3],
+            side,
+            min(zt, max(2.0 * delta, d) + max(skin[1], 0.0)),
+        ),
+        "location": (x0 + 1.37 * h, 0.613 * half, zt - 1.41 * h),
+        "throat_x_m": tx,
+        "throat_bounds": (tx - h, -wy, zb, tx + h, wy, -1e-4),
+    }
 
 
 def _grid(

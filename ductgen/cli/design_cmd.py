@@ -3,11 +3,14 @@
 from __future__ import annotations
 
 from pathlib import Path
-from typing import Annotated
+from typing import TYPE_CHECKING, Annotated
 
 import typer
 
 from ductgen.cli.common import err_console
+
+if TYPE_CHECKING:
+    from ductgen.page.server import DesignApp
 
 __all__ = ["DEFAULT_PORT", "design_command"]
 
@@ -51,9 +54,20 @@ def design_command(
     ] = False,
 ) -> None:
     """Edit a spec in a local web page: drawings, numbers, airflow and warnings as you type."""
+    page = _design_app(spec, root, out)
+    _serve(page, host, port, no_browser)
+
+
+def _design_app(spec: Path | None, root: Path | None, out: str | None) -> DesignApp:
+    """The page's state: the spec's data (or the starter), the work folder and the build
+    folder inside it.
+
+    Raises:
+        SpecError: an unreadable spec, or ``-o/--out`` outside the work folder.
+    """
     from ductgen.errors import SpecError
     from ductgen.page.guard import PathRefused, WorkFolder, package_dir
-    from ductgen.page.server import DesignApp, is_loopback, make_server
+    from ductgen.page.server import DesignApp
     from ductgen.spec import read_spec_data
     from ductgen.spec.load import tomllib
     from ductgen.spec.starter import STARTER
@@ -70,7 +84,14 @@ def design_command(
             out_dir = work.writable(out, "-o/--out")
         except PathRefused as err:
             raise SpecError("-o/--out", out, f"a folder inside {work.root}", str(err)) from None
-    page = DesignApp(data=data, work=work, spec_path=spec_path, out_dir=out_dir)
+    return DesignApp(data=data, work=work, spec_path=spec_path, out_dir=out_dir)
+
+
+def _serve(page: DesignApp, host: str | None, port: int, no_browser: bool) -> None:
+    """Serve the page until Ctrl-C: print its address (with a warning when it listens
+    beyond this computer) and open a browser on it."""
+    from ductgen.page.server import is_loopback, make_server
+
     bind = host if host is not None else "127.0.0.1"
     server = make_server(page, bind, port, allow_remote=host is not None)
     bound = server.server_address[1]
@@ -80,10 +101,10 @@ def design_command(
         err_console.print(
             f"warning: listening on {bind}, not only this computer: anyone on your network "
             "who has the address below can use the page and make it write files in "
-            f"{work.root}",
+            f"{page.work.root}",
             soft_wrap=True,
         )
-    typer.echo(f"ductgen design: work folder {work.root}; open this address (Ctrl-C stops):")
+    typer.echo(f"ductgen design: work folder {page.work.root}; open this address (Ctrl-C stops):")
     typer.echo(url)
     if not no_browser:
         import webbrowser

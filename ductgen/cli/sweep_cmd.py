@@ -73,60 +73,70 @@ def _announce(
         err_console.print(line)
 
 
+# The command's options (typer reads them from the annotations).
+_Spec = Annotated[Path, typer.Argument(help="base spec file (.toml, .yaml, .json)")]
+_Vary = Annotated[
+    list[str],
+    typer.Option(
+        "--vary",
+        help="KEY=A:B:STEP (B included when on a step) or KEY=v1,v2,...; units allowed, "
+        "e.g. throat.width=100mm:140mm:10mm. Repeat for a grid.",
+    ),
+]
+_ZipValues = Annotated[bool, typer.Option("--zip", help="pair the --vary lists instead of a grid")]
+_Out = Annotated[
+    str | None, typer.Option("-o", "--out", help="sweep folder [default: ./NAME-sweep]")
+]
+_Jobs = Annotated[
+    int | None, typer.Option("-j", "--jobs", help="worker processes [default: all cores]")
+]
+_Only = Annotated[str | None, typer.Option("--only", help="comma list of outputs [default: all]")]
+_Quality = Annotated[str, typer.Option("--quality", help="STL tessellation: draft | normal | fine")]
+_Baseline = Annotated[
+    str | None,
+    typer.Option("--baseline", help="variant id the solids are compared with [default: first]"),
+]
+_Scheduler = Annotated[
+    str | None,
+    typer.Option(
+        "--scheduler", help="Dask scheduler address (tcp://host:8786): run on that cluster"
+    ),
+]
+_Yes = Annotated[
+    bool,
+    typer.Option("--yes", "-y", help=f"start a sweep of more than {CONFIRM_ABOVE} variants"),
+]
+_MaxVariants = Annotated[
+    int | None,
+    typer.Option("--max-variants", help="refuse a sweep with more variants than this"),
+]
+_Cfd = Annotated[
+    bool, typer.Option("--cfd", help="run the OpenFOAM check (coarse mesh) per variant")
+]
+_Quiet = Annotated[bool, typer.Option("--quiet", "-q", help="print nothing on success")]
+_AsJson = Annotated[bool, typer.Option("--json", help="print comparison.json to stdout")]
+_NoCache = Annotated[
+    bool,
+    typer.Option("--no-cache", help="build every solid, neither reading nor filling the cache"),
+]
+
+
 def sweep_command(
-    spec: Annotated[Path, typer.Argument(help="base spec file (.toml, .yaml, .json)")],
-    vary: Annotated[
-        list[str],
-        typer.Option(
-            "--vary",
-            help="KEY=A:B:STEP (B included when on a step) or KEY=v1,v2,...; units allowed, "
-            "e.g. throat.width=100mm:140mm:10mm. Repeat for a grid.",
-        ),
-    ],
-    zip_values: Annotated[
-        bool, typer.Option("--zip", help="pair the --vary lists instead of a grid")
-    ] = False,
-    out: Annotated[
-        str | None, typer.Option("-o", "--out", help="sweep folder [default: ./NAME-sweep]")
-    ] = None,
-    jobs: Annotated[
-        int | None, typer.Option("-j", "--jobs", help="worker processes [default: all cores]")
-    ] = None,
-    only: Annotated[
-        str | None, typer.Option("--only", help="comma list of outputs [default: all]")
-    ] = None,
-    quality: Annotated[
-        str, typer.Option("--quality", help="STL tessellation: draft | normal | fine")
-    ] = "normal",
-    baseline: Annotated[
-        str | None,
-        typer.Option("--baseline", help="variant id the solids are compared with [default: first]"),
-    ] = None,
-    scheduler: Annotated[
-        str | None,
-        typer.Option(
-            "--scheduler", help="Dask scheduler address (tcp://host:8786): run on that cluster"
-        ),
-    ] = None,
-    yes: Annotated[
-        bool,
-        typer.Option("--yes", "-y", help=f"start a sweep of more than {CONFIRM_ABOVE} variants"),
-    ] = False,
-    max_variants: Annotated[
-        int | None,
-        typer.Option("--max-variants", help="refuse a sweep with more variants than this"),
-    ] = None,
-    cfd: Annotated[
-        bool, typer.Option("--cfd", help="run the OpenFOAM check (coarse mesh) per variant")
-    ] = False,
-    quiet: Annotated[bool, typer.Option("--quiet", "-q", help="print nothing on success")] = False,
-    as_json: Annotated[
-        bool, typer.Option("--json", help="print comparison.json to stdout")
-    ] = False,
-    no_cache: Annotated[
-        bool,
-        typer.Option("--no-cache", help="build every solid, neither reading nor filling the cache"),
-    ] = False,
+    spec: _Spec,
+    vary: _Vary,
+    zip_values: _ZipValues = False,
+    out: _Out = None,
+    jobs: _Jobs = None,
+    only: _Only = None,
+    quality: _Quality = "normal",
+    baseline: _Baseline = None,
+    scheduler: _Scheduler = None,
+    yes: _Yes = False,
+    max_variants: _MaxVariants = None,
+    cfd: _Cfd = False,
+    quiet: _Quiet = False,
+    as_json: _AsJson = False,
+    no_cache: _NoCache = False,
 ) -> None:
     """Build variants of a spec in parallel and compare them side by side."""
     from ductgen.cli.common import out_folder

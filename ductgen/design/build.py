@@ -35,7 +35,8 @@ from ductgen.geometry.flatten import Development, develop
 from ductgen.geometry.floor import Floor, ramp_angle_for_length
 from ductgen.geometry.inlet import InletGeometry, min_transition_length_mm
 from ductgen.geometry.lip import Lip
-from ductgen.geometry.panel import PanelFrame, PanelSkin
+from ductgen.geometry.panel import PanelSkin
+from ductgen.geometry.panel_surface import PanelFrame
 from ductgen.geometry.planform import Planform
 from ductgen.geometry.profile import Profile, load_profile
 from ductgen.geometry.skin import SkinMap

@@ -161,6 +161,15 @@ def flow_warnings(
         exit_cp_given: False when ``flow.exit_cp`` was left to its default.
         ivr: inlet velocity ratio at the operating point.
     """
+    return _condition_warnings(mach, delta_over_depth, delta_m, flow_angle_deg) + (
+        _operating_point_warnings(exit_cp_given, ivr)
+    )
+
+
+def _condition_warnings(
+    mach: float, delta_over_depth: float, delta_m: float, flow_angle_deg: float
+) -> list[DesignWarning]:
+    """The flight condition's warnings: Mach number, boundary layer, flow angle (SI, deg)."""
     out: list[DesignWarning] = []
     if mach > MACH_MAX:
         out.append(
@@ -192,6 +201,12 @@ def flow_warnings(
                 "inlet with the local flow",
             )
         )
+    return out
+
+
+def _operating_point_warnings(exit_cp_given: bool, ivr: float | None) -> list[DesignWarning]:
+    """The exit pressure left to its default, and the inlet velocity ratio out of range."""
+    out: list[DesignWarning] = []
     if not exit_cp_given:
         out.append(
             DesignWarning(

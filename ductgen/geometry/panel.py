@@ -18,9 +18,8 @@ generator or round a circle, the sections circles or generators — so the templ
 developable panel develops with no distortion. On a doubly curved panel the u-lines off the
 centreline are shortened or stretched by the Gaussian curvature, as on the analytic torus.
 
-The geodesic equations of a graph surface r = (x, y, h(x, y)) with unit speed are
-x'' = −h_x Q / (1 + |∇h|²), y'' = −h_y Q / (1 + |∇h|²), Q = h_xx x'² + 2 h_xy x'y' + h_yy y'²
-(the acceleration is along the normal); they are integrated with classical RK4.
+The frame, the height field and the geodesics themselves are
+:mod:`ductgen.geometry.panel_surface`'s.
 """
 
 from __future__ import annotations
@@ -29,146 +28,20 @@ from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
-from numpy.typing import NDArray
 from scipy.interpolate import CubicSpline, RectBivariateSpline
 
-__all__ = [
-    "HeightField",
-    "PanelDuctMap",
-    "PanelFrame",
-    "PanelSkin",
-    "PanelTurnedOver",
-    "convex_curvatures",
-    "make_panel_skin",
-]
+from ductgen.geometry.panel_surface import (
+    HeightField,
+    PanelFrame,
+    both_ways,
+    convex_curvatures,
+    tangent3,
+)
+
+__all__ = ["PanelDuctMap", "PanelSkin", "PanelTurnedOver", "make_panel_skin"]
 
 #: Arc-length step (mm) of the geodesic integration and of the (u, v) table.
 GEODESIC_STEP_MM = 2.0
-
-
-@dataclass(frozen=True)
-class PanelFrame:
-    """The local frame at the datum (model coordinates, mm).
-
-    Attributes:
-        origin: the datum on the panel surface, (3,).
-        axes: rows x (flow direction in the tangent plane), y (across, = z × x), z (outward
-            normal), (3, 3).
-    """
-
-    origin: NDArray[np.float64]
-    axes: NDArray[np.float64]
-
-    def to_model(self, local: np.ndarray) -> np.ndarray:
-        return self.origin + np.asarray(local, dtype=float).reshape(-1, 3) @ self.axes
-
-    def to_local(self, model: np.ndarray) -> np.ndarray:
-        d = np.asarray(model, dtype=float).reshape(-1, 3) - self.origin
-        local: np.ndarray = d @ self.axes.T
-        return local
-
-
-@dataclass(frozen=True)
-class HeightField:
-    """The panel's outer surface as z = h(x, y) in the local frame (mm), a bicubic spline
-    through (or, with ``smoothing`` > 0, fitted to) the grid ``h`` over ``x`` × ``y``."""
-
-    x: np.ndarray
-    y: np.ndarray
-    h: np.ndarray
-    spline: RectBivariateSpline = field(init=False, repr=False, compare=False)
-
-    def __post_init__(self) -> None:
-        object.__setattr__(self, "spline", RectBivariateSpline(self.x, self.y, self.h, s=0))
-
-    def ev(self, x: np.ndarray, y: np.ndarray, dx: int = 0, dy: int = 0) -> np.ndarray:
-        return self.spline.ev(x, y, dx=dx, dy=dy)
-
-    def contains(self, x: np.ndarray, y: np.ndarray, tol: float = 1e-6) -> bool:
-        return bool(
-            np.all(x >= self.x[0] - tol)
-            and np.all(x <= self.x[-1] + tol)
-            and np.all(y >= self.y[0] - tol)
-            and np.all(y <= self.y[-1] + tol)
-        )
-
-    def normal(self, x: np.ndarray, y: np.ndarray) -> np.ndarray:
-        """Unit outward normals (N, 3) in the local frame."""
-        hx, hy = self.ev(x, y, 1, 0), self.ev(x, y, 0, 1)
-        n = np.column_stack([-hx, -hy, np.ones_like(hx)])
-        unit: np.ndarray = n / np.linalg.norm(n, axis=1)[:, None]
-        return unit
-
-    def second_form(self, x: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, ...]:
-        """hx, hy, hxx, hxy, hyy at the points."""
-        return (
-            self.ev(x, y, 1, 0),
-            self.ev(x, y, 0, 1),
-            self.ev(x, y, 2, 0),
-            self.ev(x, y, 1, 1),
-            self.ev(x, y, 0, 2),
-        )
-
-
-def convex_curvatures(hf: HeightField, x: np.ndarray, y: np.ndarray) -> np.ndarray:
-    """Principal curvatures (N, 2) of the panel at local points, 1/mm, signed as the skins
-    are: positive where the surface bulges outward (convex), negative concave."""
-    hx, hy, hxx, hxy, hyy = hf.second_form(np.asarray(x), np.asarray(y))
-    w = np.sqrt(1.0 + hx * hx + hy * hy)
-    e, f, g = 1.0 + hx * hx, hx * hy, 1.0 + hy * hy
-    big_l, big_m, big_n = -hxx / w, -hxy / w, -hyy / w  # sign: convex positive
-    det1 = e * g - f * f
-    mean = (e * big_n - 2.0 * f * big_m + g * big_l) / (2.0 * det1)
-    gauss = (big_l * big_n - big_m * big_m) / det1
-    root = np.sqrt(np.maximum(mean * mean - gauss, 0.0))
-    return np.column_stack([mean + root, mean - root])
-
-
-def _rhs(hf: HeightField, s: np.ndarray) -> np.ndarray:
-    x, y, p, q = s.T
-    hx, hy, hxx, hxy, hyy = hf.second_form(x, y)
-    acc = (hxx * p * p + 2.0 * hxy * p * q + hyy * q * q) / (1.0 + hx * hx + hy * hy)
-    return np.column_stack([p, q, -hx * acc, -hy * acc])
-
-
-def _geodesics(hf: HeightField, start: np.ndarray, length: float, step: float) -> np.ndarray:
-    """States (n + 1, M, 4) = (x, y, x', y') along M unit-speed geodesics from ``start``
-    (M, 4), arc-length samples 0, step, …, n·step ≥ length."""
-    n = max(1, int(np.ceil(length / step - 1e-9)))
-    out = np.empty((n + 1, *start.shape))
-    s = start.astype(float).copy()
-    out[0] = s
-    for i in range(n):
-        k1 = _rhs(hf, s)
-        k2 = _rhs(hf, s + 0.5 * step * k1)
-        k3 = _rhs(hf, s + 0.5 * step * k2)
-        k4 = _rhs(hf, s + step * k3)
-        s = s + step / 6.0 * (k1 + 2.0 * k2 + 2.0 * k3 + k4)
-        out[i + 1] = s
-    return out
-
-
-def _tangent3(hf: HeightField, st: np.ndarray) -> np.ndarray:
-    hx, hy = hf.ev(st[:, 0], st[:, 1], 1, 0), hf.ev(st[:, 0], st[:, 1], 0, 1)
-    t = np.column_stack([st[:, 2], st[:, 3], hx * st[:, 2] + hy * st[:, 3]])
-    unit: np.ndarray = t / np.linalg.norm(t, axis=1)[:, None]
-    return unit
-
-
-def _both_ways(
-    hf: HeightField, start: np.ndarray, lo: float, hi: float, step: float
-) -> tuple[np.ndarray, np.ndarray]:
-    """Geodesics from ``start`` (M, 4) sampled at arc lengths lo…hi (lo ≤ 0 ≤ hi): the
-    parameters (K,) and states (K, M, 4), with velocities pointing toward increasing
-    parameter."""
-    fwd = _geodesics(hf, start, hi, step)
-    back_start = start.copy()
-    back_start[:, 2:] *= -1.0
-    back = _geodesics(hf, back_start, -lo, step)[1:][::-1]
-    back[..., 2:] *= -1.0
-    states = np.concatenate([back, fwd], axis=0)
-    params = step * (np.arange(len(states)) - len(back))
-    return params, states
 
 
 @dataclass(frozen=True)
@@ -388,18 +261,18 @@ def make_panel_skin(
     """
     lo, hi = u_range
     start = np.array([[0.0, 0.0, 1.0, 0.0]])
-    u, states = _both_ways(surface, start, lo, hi, step)
+    u, states = both_ways(surface, start, lo, hi, step)
     cl = states[:, 0, :]
     if not surface.contains(cl[:, 0], cl[:, 1]):
         raise ValueError("the centreline leaves the sampled panel")
-    t3 = _tangent3(surface, cl)
+    t3 = tangent3(surface, cl)
     n3 = surface.normal(cl[:, 0], cl[:, 1])
     b3 = np.cross(n3, t3)
     b3 /= np.linalg.norm(b3, axis=1)[:, None]
     # the across-flow geodesics start along B: B is a unit tangent, so its in-plane part is
     # the unit-speed velocity
     cross0 = np.column_stack([cl[:, :2], b3[:, :2]])
-    v, cross = _both_ways(surface, cross0, -v_max, v_max, step)
+    v, cross = both_ways(surface, cross0, -v_max, v_max, step)
     xy = np.transpose(cross[..., :2], (1, 0, 2))
     if not surface.contains(xy[..., 0], xy[..., 1]):
         raise ValueError("an across-flow section leaves the sampled panel")
@@ -431,7 +304,7 @@ def _sections(
     states ``cross`` (len(v), len(u), 4) and the centreline frame ``centre``."""
     nv, nu = cross.shape[:2]
     st = cross.reshape(-1, 4)
-    tau = (_tangent3(surface, st) @ frame.axes).reshape(nv, nu, 3)
+    tau = (tangent3(surface, st) @ frame.axes).reshape(nv, nu, 3)
     nrm = (surface.normal(st[:, 0], st[:, 1]) @ frame.axes).reshape(nv, nu, 3)
     pts = frame.to_model(np.column_stack([st[:, :2], surface.ev(st[:, 0], st[:, 1])])).reshape(
         nv, nu, 3

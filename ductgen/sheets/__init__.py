@@ -5,67 +5,72 @@ from __future__ import annotations
 from collections.abc import Callable
 from typing import Any
 
+from ductgen.design.record import SkinRecord, TemplateRecord
+
 __all__ = ["SKIN_LINES", "sheet_files", "skin_lines"]
 
 
-def skin_lines(skin: dict[str, Any], template: dict[str, Any]) -> tuple[tuple[str, str], ...]:
+def skin_lines(skin: SkinRecord, template: TemplateRecord) -> tuple[tuple[str, str], ...]:
     """Key-dimension lines for a curved skin: the panel's radii and how the template was
-    developed (report sections in); the datum and the outlet are the PLACEMENT block's
-    (``sheets/placement.py``).
+    developed (the build record's skin and template); the datum and the outlet are the
+    PLACEMENT block's (``sheets/placement.py``).
 
     One entry of :data:`SKIN_LINES` per ``skin.shape``; a shape without one is a test
-    failure (``tests/test_sheet.py``), never a user's build."""
-    return SKIN_LINES[skin.get("shape", "flat")](skin, template)
+    failure (``tests/test_spec_skin.py``), never a user's build."""
+    return SKIN_LINES[skin.shape](skin, template)
 
 
-def _flat_lines(skin: dict[str, Any], template: dict[str, Any]) -> tuple[tuple[str, str], ...]:
+def _flat_lines(skin: SkinRecord, template: TemplateRecord) -> tuple[tuple[str, str], ...]:
     return ()
 
 
-def _cylinder(skin: dict[str, Any]) -> str:
-    return f"cylinder R {skin['radius_mm']:.0f} mm, {skin['side']}, axis {skin['axis']}"
+def _cylinder(skin: SkinRecord) -> str:
+    return f"cylinder R {skin.radius_mm:.0f} mm, {skin.side}, axis {skin.axis}"
 
 
-def _doubly(skin: dict[str, Any]) -> str:
+def _doubly(skin: SkinRecord) -> str:
     return (
-        f"doubly R {skin['radius_streamwise_mm']:.0f} (along) / "
-        f"{skin['radius_spanwise_mm']:.0f} (across) mm, {skin['side']}"
+        f"doubly R {skin.radius_streamwise_mm:.0f} (along) / "
+        f"{skin.radius_spanwise_mm:.0f} (across) mm, {skin.side}"
     )
 
 
-def _curved_lines(
-    panel: str, skin: dict[str, Any], template: dict[str, Any]
-) -> tuple[tuple[str, str], ...]:
-    lines = [("skin", panel)]
-    pct = template.get("max_length_distortion_pct", 0.0)
-    lines.append(("template", "developed exactly" if pct == 0 else f"flattened, {pct:.2f} % max"))
-    return tuple(lines)
+def _curved_lines(panel: str, template: TemplateRecord) -> tuple[tuple[str, str], ...]:
+    pct = template.max_length_distortion_pct
+    return (
+        ("skin", panel),
+        ("template", "developed exactly" if pct == 0 else f"flattened, {pct:.2f} % max"),
+    )
 
 
-def _panel_lines(skin: dict[str, Any], template: dict[str, Any]) -> tuple[tuple[str, str], ...]:
+def _short(name: str) -> str:
+    """A file name cut to 25 characters in the middle."""
+    return name if len(name) <= 26 else name[:12] + "…" + name[-12:]
+
+
+def _panel_lines(skin: SkinRecord, template: TemplateRecord) -> tuple[tuple[str, str], ...]:
     """The user's panel: file, the smallest radius under the parts, the scan fit, the
     template's distortion."""
-    r = skin.get("smallest_radius_mm")
-    radius = "flat" if r is None else f"{r:.0f} mm, {skin['smallest_radius_side']}"
-    name = skin["file"] if len(skin["file"]) <= 26 else skin["file"][:12] + "…" + skin["file"][-12:]
+    r = skin.smallest_radius_mm
+    radius = "flat" if r is None else f"{r:.0f} mm, {skin.smallest_radius_side}"
     lines = [
-        ("skin", f"panel {name}"),
+        ("skin", f"panel {_short(skin.file or '')}"),
         ("smallest radius", radius),
     ]
-    if "fit_rms_mm" in skin:
-        lines.append(("scan fit", f"{skin['fit_rms_mm']:.3f} mm rms, {skin['fit_max_mm']:.3f} max"))
-    pct = template.get("max_length_distortion_pct", 0.0)
+    if skin.fit_rms_mm is not None:
+        lines.append(("scan fit", f"{skin.fit_rms_mm:.3f} mm rms, {skin.fit_max_mm:.3f} max"))
+    pct = template.max_length_distortion_pct
     lines.append(("template", f"flattened from the panel, {pct:.2f} % max"))
     return tuple(lines)
 
 
-Lines = Callable[[dict[str, Any], dict[str, Any]], tuple[tuple[str, str], ...]]
+Lines = Callable[[SkinRecord, TemplateRecord], tuple[tuple[str, str], ...]]
 
 #: ``skin.shape`` → the sheet's key-dimension lines for it (total over the spec's shapes).
 SKIN_LINES: dict[str, Lines] = {
     "flat": _flat_lines,
-    "cylinder": lambda skin, tpl: _curved_lines(_cylinder(skin), skin, tpl),
-    "doubly": lambda skin, tpl: _curved_lines(_doubly(skin), skin, tpl),
+    "cylinder": lambda skin, tpl: _curved_lines(_cylinder(skin), tpl),
+    "doubly": lambda skin, tpl: _curved_lines(_doubly(skin), tpl),
     "panel": _panel_lines,
 }
 

@@ -21,7 +21,7 @@ from ductgen.solids.jobs import cutter_mesh_job
 
 if TYPE_CHECKING:
     from ductgen.design import Design
-    from ductgen.geometry.panel import PanelFrame
+    from ductgen.geometry.panel_surface import PanelFrame
 
 __all__ = [
     "GL_PACKAGES",
@@ -148,30 +148,7 @@ def render_png(
         vtkObject.GlobalWarningDisplayOff()
 
         pv.OFF_SCREEN = True
-        mesh, plate = _clipped(verts, faces, opening, clip_by)
-        pl = pv.Plotter(off_screen=True, window_size=list(size))
-        # pyvista types this method as functools.wraps of a function that takes self first
-        pl.set_background("white", top="#dfe7ef")  # type: ignore[arg-type]
-        pl.add_mesh(mesh, color=colour, smooth_shading=True, specular=0.3, specular_power=20)
-        edges = mesh.extract_feature_edges(
-            35.0, boundary_edges=False, manifold_edges=False, non_manifold_edges=False
-        )
-        if edges.n_points:
-            pl.add_mesh(edges, color="#3a3a3a", line_width=1.5)
-        if plate is not None:
-            pl.add_mesh(plate, color="#9aa3ad", specular=0.2, smooth_shading=False)
-        if panel is not None:
-            plate = _polydata(*panel)
-            pl.add_mesh(plate, color="#9aa3ad", opacity=0.55, smooth_shading=True)
-        if marks is not None:
-            _add_marks(pl, marks, mesh.bounds)
-        pl.enable_lightkit()
-        _aim(pl, (plate if plate is not None else mesh).bounds)
-        drawn = [np.asarray(mesh.points)]
-        if plate is not None:
-            drawn.append(np.asarray(plate.points))
-        img = _framed(pl, MARGIN, np.vstack(drawn))
-        pl.close()
+        img = _draw(pv, verts, faces, (opening, panel, marks, clip_by), size, colour)
     except Exception as err:  # VTK raises plain RuntimeError/ValueError on GL failures
         raise ExportError(_gl_message(f"{type(err).__name__}: {err}")) from err
     from PIL import Image
@@ -181,6 +158,43 @@ def render_png(
     # (optimize=True: 5 s more)
     Image.fromarray(np.asarray(img)).save(buf, format="PNG", compress_level=3)
     return buf.getvalue()
+
+
+def _draw(
+    pv: Any,
+    verts: np.ndarray,
+    faces: np.ndarray,
+    extras: tuple[Any, Any, Any, Any],
+    size: tuple[int, int],
+    colour: str,
+) -> Any:
+    """The picture's pixels: :func:`render_png`'s scene (``extras`` = its ``opening``,
+    ``panel``, ``marks`` and ``clip_by``) drawn offscreen and framed."""
+    opening, panel, marks, clip_by = extras
+    mesh, plate = _clipped(verts, faces, opening, clip_by)
+    pl = pv.Plotter(off_screen=True, window_size=list(size))
+    pl.set_background("white", top="#dfe7ef")
+    pl.add_mesh(mesh, color=colour, smooth_shading=True, specular=0.3, specular_power=20)
+    edges = mesh.extract_feature_edges(
+        35.0, boundary_edges=False, manifold_edges=False, non_manifold_edges=False
+    )
+    if edges.n_points:
+        pl.add_mesh(edges, color="#3a3a3a", line_width=1.5)
+    if plate is not None:
+        pl.add_mesh(plate, color="#9aa3ad", specular=0.2, smooth_shading=False)
+    if panel is not None:
+        plate = _polydata(*panel)
+        pl.add_mesh(plate, color="#9aa3ad", opacity=0.55, smooth_shading=True)
+    if marks is not None:
+        _add_marks(pl, marks, mesh.bounds)
+    pl.enable_lightkit()
+    _aim(pl, (plate if plate is not None else mesh).bounds)
+    drawn = [np.asarray(mesh.points)]
+    if plate is not None:
+        drawn.append(np.asarray(plate.points))
+    img = _framed(pl, MARGIN, np.vstack(drawn))
+    pl.close()
+    return img
 
 
 def _clipped(

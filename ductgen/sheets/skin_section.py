@@ -6,7 +6,7 @@ parts (floor, roof, lip, duct) through the placement's solid map (the duct strai
 its outlet), the skin through the skin map; depths are along the skin's normal. The drawn
 frame is the datum's: x along the flow, z outward, the origin at the ramp start on the
 outer skin (the model frame of the analytic skins; on the user's panel its
-:class:`~ductgen.geometry.panel.PanelFrame`). mm throughout.
+:class:`~ductgen.geometry.panel_surface.PanelFrame`). mm throughout.
 """
 
 from __future__ import annotations

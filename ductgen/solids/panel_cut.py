@@ -28,7 +28,7 @@ import numpy as np
 
 from ductgen.design import Design
 from ductgen.errors import GeometryError
-from ductgen.geometry.panel import PanelFrame
+from ductgen.geometry.panel_surface import PanelFrame
 from ductgen.panel_file import load_panel
 
 __all__ = [
@@ -125,18 +125,8 @@ def cut_panel_job(
 
     from ductgen.solids.cad_io import step_bytes
 
-    name, thickness_mm = d.name, d.geometry.skin_thickness_mm
-    outward = _frame(d).axes[2]
-    kind, shape = load_panel(path, units)
-    if kind != "brep":
-        raise GeometryError("panel", "a mesh scan is not a CAD solid: no panel STEP is made")
-    solids = [s for s in shape.Solids() if s.isValid()]
-    source = "closed solid"
-    if solids:
-        body: Any = solids[0] if len(solids) == 1 else cq.Compound.makeCompound(solids)
-    else:
-        body = _thicken(shape, np.asarray(outward, dtype=float), thickness_mm)
-        source = "surface thickened"
+    name = d.name
+    body, source = _panel_body(d, path, units)
     before = precise_volume(body)
     cutters = [cq.importers.importStep(str(Path(staging) / t)).val() for t in tools]
     if with_cutout:
@@ -144,6 +134,47 @@ def cut_panel_job(
     # the largest tool holds every other one's part in the skin (the cut-out's outline holds
     # the opening; without the insert, the cutter is the only tool)
     expected = precise_volume(_boolean("common", body, cutters[-1], 0.0))
+    cut, removed, slivers = _cut_panel(d, body, cutters, before, expected)
+    file = f"{name}-panel.step"
+    (Path(staging) / file).write_bytes(step_bytes(cut, f"{name}-panel"))
+    return {
+        "file": file,
+        "source": source,
+        "volume_mm3": before - removed,
+        "panel_volume_mm3": before,
+        "removed_mm3": removed,
+        "removed_expected_mm3": expected,
+        "slivers_dropped_mm3": slivers,
+    }
+
+
+def _panel_body(d: Design, path: str, units: str | None) -> tuple[Any, str]:
+    """The panel as a solid: the file's closed solid(s), or its surface thickened inward by
+    ``skin.thickness`` (mm); and which of the two it is."""
+    import cadquery as cq
+
+    kind, shape = load_panel(path, units)
+    if kind != "brep":
+        raise GeometryError("panel", "a mesh scan is not a CAD solid: no panel STEP is made")
+    solids = [s for s in shape.Solids() if s.isValid()]
+    if solids:
+        body: Any = solids[0] if len(solids) == 1 else cq.Compound.makeCompound(solids)
+        return body, "closed solid"
+    outward = _frame(d).axes[2]
+    thickness_mm = d.geometry.skin_thickness_mm
+    return _thicken(shape, np.asarray(outward, dtype=float), thickness_mm), "surface thickened"
+
+
+def _cut_panel(
+    d: Design, body: Any, cutters: list[Any], before: float, expected: float
+) -> tuple[Any, float, float]:
+    """The panel ``body`` minus every tool, tried at each fuzzy tolerance of
+    :data:`CUT_FUZZY_MM` until the cut is one valid solid that removes what the tools hold
+    (``expected``, mm³); the cut solid, the volume removed and the slivers dropped (mm³).
+
+    Raises:
+        GeometryError: no tolerance gives a cut that stands up to the checks.
+    """
     # the volume removed is measured inside a box round the tools (nothing outside it can
     # change): the kernel's volume of a whole panel whose closed face (a tube's) has its
     # seam running through the opening was measured 40 % short of the material removed
@@ -152,7 +183,7 @@ def cut_panel_job(
     box = _tool_box(cutters, BOX_MARGIN_MM)
     before_local = precise_volume(_boolean("common", body, box, 0.0))
     inside = _opening_probes(d)
-    failure, reasons = "", []
+    reasons = []
     for fuzzy in CUT_FUZZY_MM:
         result = body
         for c in cutters:
@@ -163,31 +194,18 @@ def cut_panel_job(
         out = sorted(result.Solids(), key=lambda so: -precise_volume(so))
         slivers = sum(precise_volume(so) for so in out[1:])
         if not out or not out[0].isValid() or slivers > SLIVER_FRACTION * before:
-            failure = "the cut panel is not one valid solid"
-            reasons.append(_attempt(fuzzy, failure))
+            reasons.append(_attempt(fuzzy, "the cut panel is not one valid solid"))
             continue
         removed = before_local - precise_volume(_boolean("common", out[0], box, 0.0))
         failure = _disproof(body, out[0], inside, removed, expected)
         if not failure:
-            break
+            return out[0], removed, slivers
         reasons.append(_attempt(fuzzy, failure))
-    if failure:
-        raise GeometryError(
-            "panel cut",
-            f"{'; '.join(reasons)}; no panel file is written: subtract {name}-cutter.step "
-            "from the panel in your CAD and check the opening",
-        )
-    file = f"{name}-panel.step"
-    (Path(staging) / file).write_bytes(step_bytes(out[0], f"{name}-panel"))
-    return {
-        "file": file,
-        "source": source,
-        "volume_mm3": before - removed,
-        "panel_volume_mm3": before,
-        "removed_mm3": removed,
-        "removed_expected_mm3": expected,
-        "slivers_dropped_mm3": slivers,
-    }
+    raise GeometryError(
+        "panel cut",
+        f"{'; '.join(reasons)}; no panel file is written: subtract {d.name}-cutter.step "
+        "from the panel in your CAD and check the opening",
+    )
 
 
 def _attempt(fuzzy: float, why: str) -> str:

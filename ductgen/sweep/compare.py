@@ -22,6 +22,8 @@ from concurrent.futures import Executor
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
+from ductgen.sweep.report_record import METRICS, metric_value
+
 if TYPE_CHECKING:
     from ductgen.sweep.results import VariantResult, VariantTask
     from ductgen.sweep.variants import Variant
@@ -37,26 +39,6 @@ __all__ = [
     "metric_value",
 ]
 
-#: Report metrics copied into the table, in column order (names as in report.json).
-METRICS: tuple[str, ...] = (
-    "ramp_length_mm",
-    "throat_area_mm2",
-    "ramp_cavity_volume_mm3",
-    "cutter_volume_mm3",
-    "insert_volume_mm3",
-    "plug_volume_mm3",
-    "wetted_area_mm2",
-    "max_wall_divergence_deg",
-    "steepest_wall_angle_deg",
-    "length_under_stall_line_mm",
-    "delta_over_depth",
-    "volume_flow_m3_s",
-    "ram_recovery",
-    "recovery_uncertainty",
-    "recovery_source",
-    "momentum_drag_n",
-)
-
 #: Columns after the metrics.
 EXTRA = ("warnings_count", "build_s", "sym_diff_volume_mm3", "hausdorff_mm", "status", "error")
 
@@ -65,19 +47,6 @@ SAMPLES = 4000
 
 #: File in each variant folder caching its comparison with the baseline.
 COMPARE_FILE = "sweep-compare.json"
-
-
-def metric_value(report: dict[str, Any] | None, name: str) -> Any:
-    """A metric from a report: under ``geometry``, ``flow``, ``geometry.transition`` or at
-    the top level; None if the report does not have it (nothing is invented)."""
-    if not report:
-        return None
-    geo = report.get("geometry")
-    transition = geo.get("transition") if isinstance(geo, dict) else None
-    for sec in (geo, report.get("flow"), transition):
-        if isinstance(sec, dict) and name in sec:
-            return sec[name]
-    return report.get(name)
 
 
 def _load(path: str) -> Any:
@@ -150,9 +119,7 @@ def _compare_task(item: tuple[str, str, str, str, str]) -> tuple[str, dict[str, 
 
 
 def _cutter_stl(r: VariantResult) -> str | None:
-    if r.report is None:
-        return None
-    name = (r.report.get("files") or {}).get("cutter_stl")
+    name = None if r.report is None else r.report.cutter_stl
     return str(Path(r.folder) / name) if name else None
 
 
@@ -190,18 +157,17 @@ def comparison_rows(
     mm, deg, SI), the report metrics, warnings count, build seconds, solid comparison,
     status and error."""
     rows = []
-    has_cfd = any(r.report and "cfd" in r.report for r in results)
+    has_cfd = any(r.report is not None and r.report.has_cfd for r in results)
     for v, r in zip(variants, results, strict=True):
+        rep = r.report
         row: dict[str, Any] = {"variant": v.id, **v.resolved}
         for m in METRICS:
-            row[m] = metric_value(r.report, m)
+            row[m] = None if rep is None else rep.metrics[m]
         if has_cfd:  # ductgen sweep --cfd: the CFD check beside the 1-D estimate
-            cfd = (r.report or {}).get("cfd") or {}
-            res, one_d = cfd.get("result") or {}, cfd.get("one_d") or {}
-            row["cfd_volume_flow_m3_s"] = res.get("volume_flow_m3_s")
-            row["cfd_ram_recovery"] = res.get("ram_recovery_flow_avg")
-            row["cfd_flow_difference"] = one_d.get("flow_difference")
-        row["warnings_count"] = len(r.report.get("warnings", [])) if r.report else None
+            row["cfd_volume_flow_m3_s"] = None if rep is None else rep.cfd_volume_flow_m3_s
+            row["cfd_ram_recovery"] = None if rep is None else rep.cfd_ram_recovery
+            row["cfd_flow_difference"] = None if rep is None else rep.cfd_flow_difference
+        row["warnings_count"] = None if rep is None else rep.warnings_count
         row["build_s"] = r.build_s
         cmp = comparison.get(v.id, {})
         row["sym_diff_volume_mm3"] = cmp.get("sym_diff_volume_mm3")

@@ -10,6 +10,7 @@ from typing import Any
 
 from ductgen.design import Design
 from ductgen.spec import Spec
+from ductgen.sweep.report_record import VariantReport
 from ductgen.sweep.variants import Variant
 
 __all__ = ["SweepResult", "VariantResult", "VariantTask"]
@@ -37,7 +38,8 @@ class VariantResult:
 
     Attributes:
         status: ``"built"``, ``"cached"`` (unchanged, skipped) or ``"failed"``.
-        report: the variant's report.json (None when failed).
+        report: what the comparison reads from the variant's report.json (None when
+            failed).
         build_s: wall-clock seconds of its build (s; the original build's for cached ones).
         error: one-line reason when failed.
     """
@@ -45,7 +47,7 @@ class VariantResult:
     id: str
     status: str
     folder: str
-    report: dict[str, Any] | None = None
+    report: VariantReport | None = None
     build_s: float | None = None
     error: str | None = None
 

@@ -28,6 +28,7 @@ from pathlib import Path
 from typing import Any
 
 from ductgen.errors import SpecError
+from ductgen.sweep.report_record import ReportFormatError, VariantReport
 from ductgen.sweep.results import SweepResult, VariantResult, VariantTask
 from ductgen.sweep.variants import (
     STAMP_FILE,
@@ -98,7 +99,8 @@ def build_variant(task: VariantTask) -> VariantResult:
             "files": sorted(p.name for p in result.files.values()),
         }
         write_atomic(folder / STAMP_FILE, (json.dumps(stamp, indent=2) + "\n").encode(), force=True)
-        return VariantResult(task.id, "built", str(folder), result.report, seconds)
+        report = VariantReport.of_report(result.report)
+        return VariantResult(task.id, "built", str(folder), report, seconds)
     except Exception as err:  # one failing variant must not stop the sweep
         msg = str(err).replace("\n", " ").strip() or type(err).__name__
         return VariantResult(task.id, "failed", str(folder), error=f"{type(err).__name__}: {msg}")
@@ -134,8 +136,8 @@ def _cached(task: VariantTask) -> VariantResult | None:
     if "report.json" not in names or not all((folder / n).is_file() for n in names):
         return None
     try:
-        report = json.loads((folder / "report.json").read_text(encoding="utf-8"))
-    except (OSError, ValueError):
+        report = VariantReport.read(folder / "report.json")
+    except (OSError, ReportFormatError):  # unreadable or not a report: build it again
         return None
     return VariantResult(task.id, "cached", str(folder), report, stamp.get("build_s"))
 
@@ -286,6 +288,56 @@ def _checked(
     return kinds, variants, base
 
 
+def _recorder(
+    results: dict[str, VariantResult],
+    total: int,
+    progress: Callable[[VariantResult | None, int, int, int], None] | None,
+) -> Callable[[VariantResult], None]:
+    """A callback that files each finished variant in ``results`` and reports progress as
+    ``progress(result, done, failed, total)``; it reports the start (the cached variants
+    done, result None) at once."""
+    counts = {"done": len(results), "failed": 0}
+    note = progress or (lambda *_a: None)
+    note(None, counts["done"], 0, total)
+
+    def done(r: VariantResult) -> None:
+        results[r.id] = r
+        counts["done"] += 1
+        counts["failed"] += r.status == "failed"
+        note(r, counts["done"], counts["failed"], total)
+
+    return done
+
+
+def _build_and_compare(
+    tasks: list[VariantTask],
+    out: Path,
+    jobs: int | None,
+    scheduler: str | None,
+    progress: Callable[[VariantResult | None, int, int, int], None] | None,
+    baseline: str | None,
+) -> tuple[list[VariantResult], dict[str, dict[str, Any]]]:
+    """Build every task not cached on one executor (created only when there is work),
+    then compare the cutters with ``baseline``'s on it (None: no cutters, no comparison).
+    The results in the tasks' order and the comparison by variant id."""
+    from ductgen.sweep.compare import compare_all
+
+    results: dict[str, VariantResult] = {}
+    for t in tasks:
+        hit = _cached(t)
+        if hit is not None:
+            results[t.id] = hit
+    todo = [t for t in tasks if t.id not in results]
+    done = _recorder(results, len(tasks), progress)
+    n_jobs = min(jobs or default_jobs(), max(1, len(todo)))
+    with _executor(n_jobs if todo else 1, scheduler if todo else None) as ex:
+        out.mkdir(parents=True, exist_ok=True)  # only once the executor is reachable
+        _run_all(build_variant, todo, ex, done)
+        ordered = [results[t.id] for t in tasks]
+        comparison = compare_all(tasks, ordered, baseline, ex) if baseline is not None else {}
+    return ordered, comparison
+
+
 def run_sweep(
     spec_path: str | Path,
     varies: list[Vary],
@@ -324,7 +376,7 @@ def run_sweep(
             unknown ``--only`` kind, ``--baseline`` or ``--quality``, or an unreachable
             scheduler.
     """
-    from ductgen.sweep.compare import compare_all, comparison_rows
+    from ductgen.sweep.compare import comparison_rows
     from ductgen.sweep.html import write_outputs
 
     t_start = time.perf_counter()
@@ -332,33 +384,11 @@ def run_sweep(
     kinds, variants, base = _checked(
         spec_path, varies, zip_values, jobs, only, quality, baseline, cfd
     )
-    ids = [v.id for v in variants]
     out = Path(out_dir).resolve()
     tasks = _tasks(variants, out, kinds, quality, cfd, cache)
-    results: dict[str, VariantResult] = {}
-    for t in tasks:
-        hit = _cached(t)
-        if hit is not None:
-            results[t.id] = hit
-    todo = [t for t in tasks if t.id not in results]
-    total = len(tasks)
-    counts = {"done": len(results), "failed": 0}
-    note = progress or (lambda *_a: None)
-    note(None, counts["done"], 0, total)
-
-    def done(r: VariantResult) -> None:
-        results[r.id] = r
-        counts["done"] += 1
-        counts["failed"] += r.status == "failed"
-        note(r, counts["done"], counts["failed"], total)
-
-    n_jobs = min(jobs or default_jobs(), max(1, len(todo)))
-    ordered: list[VariantResult]
-    with _executor(n_jobs if todo else 1, scheduler if todo else None) as ex:
-        out.mkdir(parents=True, exist_ok=True)  # only once the executor is reachable
-        _run_all(build_variant, todo, ex, done)
-        ordered = [results[i] for i in ids]
-        comparison = compare_all(tasks, ordered, base, ex) if "cutter" in kinds else {}
+    ordered, comparison = _build_and_compare(
+        tasks, out, jobs, scheduler, progress, base if "cutter" in kinds else None
+    )
     rows = comparison_rows(variants, ordered, comparison)
     sweep = SweepResult(variants, ordered, rows, base, seconds=time.perf_counter() - t_start)
     sweep.files = write_outputs(sweep, out, spec_path, [v.key for v in varies])
