@@ -172,6 +172,8 @@ def test_step_product_name_is_set_whatever_the_line_breaks(
         b"#7 = PRODUCT('a-very-long-name-cutter','a-very-long-name-cutter','',\n  (#8));\n",
         b"#7 = PRODUCT('abc-cutter','abc-cutter','',(#8\n  ));\n",
         b"#7 = PRODUCT('x','x','',(#8));\n",
+        # a break before a comma (seen on a jig's product name)
+        b"#7 = PRODUCT('kitcar-sidepod-cooler-jig 7','kitcar-sidepod-cooler-jig 7'\n  ,'',(#8));\n",
     ]
     want = (
         b"FILE_NAME('Open CASCADE Shape Model','2023-11-14T22:13:20',('Author'),(\n"

@@ -18,7 +18,9 @@ __all__ = ["stamp_step"]
 _FILE_NAME = re.compile(rb"FILE_NAME\('([^']*)','[^']*'")
 #: The product entity (id, name, description, contexts) with the line breaks the writer put
 #: in it (where it breaks depends on the name's length)
-_PRODUCT = re.compile(rb"PRODUCT\('[^']*',\s*'[^']*',\s*'([^']*)',\s*\(([^)]*)\)\s*\);")
+_PRODUCT = re.compile(
+    rb"PRODUCT\(\s*'[^']*'\s*,\s*'[^']*'\s*,\s*'([^']*)'\s*,\s*\(([^)]*)\)\s*\)\s*;"
+)
 
 
 def stamp_step(data: bytes, name: str) -> bytes:
