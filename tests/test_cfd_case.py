@@ -108,6 +108,24 @@ def test_case_written_for_every_sample(sample_builds: dict, name: str, tmp_path:
     x1 = float(re.search(r"\(\S+ \S+ \S+\) \((\S+) ", block).group(1))
     assert x1 > out[:, 0].max()
     assert "convertToMeters 1;" in block
+    # the throat plate stops inside the lip's solid, well clear of its top (where the
+    # flow over the lip passes) and its underside: the nose is half an ellipse, tip at the
+    # lip station (the ramp length), semi-axes a = nose length and b = t/2, top at the skin
+    # for a flush lip (closed form); a raised lip's underside is the skin
+    geo = result.report["geometry"]
+    plate = re.search(
+        r"name throat;.*?origin \((\S+) \S+ (\S+)\);\s*span \(0 \S+ (\S+)\)",
+        (case / "system/topoSetDict").read_text(),
+        re.S,
+    )
+    x_mm, z0, dz = float(plate.group(1)) * 1e3, float(plate.group(2)), float(plate.group(3))
+    top_mm = (z0 + dz) * 1e3
+    a, b = geo["lip_nose_length_mm"], geo["lip_thickness_mm"] / 2.0
+    half = b * np.sqrt(1.0 - ((x_mm - geo["ramp_length_mm"] - a) / a) ** 2)
+    if geo["lip_style"] == "flush":
+        assert -b - half + 0.5 * b < top_mm < -b + half - 0.5 * b
+    else:
+        assert -1.0 < top_mm < 0.0
     # the throat depth in mm from the report, in metres in the background cell size
     d_m = result.report["geometry"]["throat_depth_mm"] * 1e-3
     from ductgen.cfd.case import COARSE_CELLS_PER_DEPTH

@@ -172,7 +172,7 @@ def case_setup(
         extension_diameter_m=extension_diameter_m or surface.outlet_hydraulic_diameter_m,
         # nominal: the depth over the cavity cell (background cell / 2^level), layers aside
         cells_across_depth_core=d / (h / 2 ** LEVELS["cavity"]),
-        **_curved_zones(domain, tx, wy, surface, d),
+        **_curved_zones(domain, tx, wy, zones["throat_bounds"][5], surface, d),
     )
 
 
@@ -196,6 +196,11 @@ def _zones(
     opening = (-0.1 * length, -side, zb, throat_end + 0.2 * length, side, max(d, 0.5 * delta))
     tx = length + 0.75 * g.lip.semi_major_mm * mm
     wy = w / 2.0 + 2.0 * r + 0.005
+    # the plate's top edge in the middle of the lip's solid (a flush lip), so a snapped lip
+    # surface cannot bring the flow over the lip into it: at three quarters of the nose the
+    # lip's top lies only 0.032 b under the skin (0.1 mm on a 6 mm lip); under a raised
+    # lip the skin level is the throat's roof
+    top = min(g.lip.centre_z_mm, -0.1) * mm
     return {
         "opening": opening,
         "approach": (
@@ -208,7 +213,7 @@ def _zones(
         ),
         "location": (x0 + 1.37 * h, 0.613 * half, zt - 1.41 * h),
         "throat_x_m": tx,
-        "throat_bounds": (tx - h, -wy, zb, tx + h, wy, -1e-4),
+        "throat_bounds": (tx - h, -wy, zb, tx + h, wy, top),
     }
 
 
@@ -298,11 +303,16 @@ def _probe_z(domain: SkinDomain | None, x: float, above: float) -> float:
 
 
 def _curved_zones(
-    domain: SkinDomain | None, tx: float, wy: float, surface: WettedSurface, d: float
+    domain: SkinDomain | None,
+    tx: float,
+    wy: float,
+    plate_top: float,
+    surface: WettedSurface,
+    d: float,
 ) -> dict[str, Any]:
-    """On a curved skin: the throat section u = tx under the lip (design coordinates, a
-    plane on the analytic skins), the transition's exit plane (normal to the outlet axis)
-    and the line through the throat's depth, in metres."""
+    """On a curved skin: the throat section u = tx under the lip up to w = ``plate_top``
+    (design coordinates, a plane on the analytic skins), the transition's exit plane
+    (normal to the outlet axis) and the line through the throat's depth, in metres."""
     if domain is None:
         return {}
     mm = 1e3
@@ -310,7 +320,7 @@ def _curved_zones(
     bottom = domain.to_datum(domain.skin.to_model(np.array([[tx * mm, 0.0, -3.0 * d * mm]])))
     exit_tri = surface.triangles["outlet"] - surface.extension_m * np.asarray(surface.outlet_axis)
     return {
-        "throat_plate": domain.section_plate(tx * mm, wy * mm, 3.0 * d * mm),
+        "throat_plate": domain.section_plate(tx * mm, wy * mm, 3.0 * d * mm, plate_top * mm),
         "exit_plate": domain.exit_plate(exit_tri, np.asarray(surface.outlet_axis)),
         "depth_line": (*map(float, top), *map(float, bottom[0] / mm)),
     }

@@ -309,12 +309,15 @@ class SkinDomain:
         """The skin's height (m) over a plan point (m)."""
         return float(self.sheet.height(np.array([x_m * 1e3]), np.array([y_m * 1e3]))[0]) * 1e-3
 
-    def section_plate(self, u_mm: float, half_mm: float, deep_mm: float) -> np.ndarray:
+    def section_plate(
+        self, u_mm: float, half_mm: float, deep_mm: float, top_mm: float = -0.1
+    ) -> np.ndarray:
         """Triangles (n, 3, 3), metres, of the design-coordinate section u = ``u_mm``,
-        |v| ≤ ``half_mm``, w from −``deep_mm`` to 0.1 mm under the skin: a plane on the
-        analytic skins (the section under the lip), following the skin at its top edge."""
+        |v| ≤ ``half_mm``, w from −``deep_mm`` to ``top_mm`` (under the skin): a plane on
+        the analytic skins (the section under the lip), following the skin at its top
+        edge."""
         v = np.linspace(-half_mm, half_mm, max(3, math.ceil(2 * half_mm / 2.0) + 1))
-        w = np.array([-deep_mm, -0.1])
+        w = np.array([-deep_mm, top_mm])
         vv, ww = np.meshgrid(v, w, indexing="ij")
         uvw = np.column_stack([np.full(vv.size, u_mm), vv.ravel(), ww.ravel()])
         p = self.to_datum(self.skin.to_model(uvw)).reshape(len(v), 2, 3) * 1e-3
