@@ -1,6 +1,7 @@
-"""The shipped recovery map against what the NACA reports state, and the issue's checks on
-it. The map comes from ductgen's own CFD campaign (``bench/recovery_campaign.py``); these
-tests run once a map of at least MIN_POINTS points is shipped in
+"""The shipped recovery map against what the NACA reports state, and what a designer
+needs of it (it moves with ramp angle, W/D and the boundary layer; it reproduces its
+points). The map comes from ductgen's own CFD campaign (``bench/recovery_campaign.py``);
+these tests run once a map of at least MIN_POINTS points is shipped in
 ``ductgen/data/recovery_map.csv`` and are skipped, saying why, before that (no test here runs
 the campaign). Two of the three published trends are not met by the shipped map; they are
 strict expected failures that state the measured figures, so a better map turns them into
@@ -67,8 +68,9 @@ def test_recovery_falls_as_ivr_drops() -> None:
     assert _r(ivr=0.5) < _r(ivr=0.9)
 
 
-def test_issue_checks_on_the_map() -> None:
-    # ramp angle 5/7/9 deg differ by >= 0.01; W/D 3 vs 4 moves it; thicker layer lowers it
+def test_the_map_moves_with_the_design() -> None:
+    # a designer's sweep must see it: ramp angle 5/7/9 deg differ by >= 0.01, W/D 3 vs 4
+    # moves it, a thicker layer lowers it
     by_angle = [_r(angle=a) for a in (5.0, 7.0, 9.0)]
     assert max(by_angle) - min(by_angle) >= 0.01
     assert _r(wd=3.0) != pytest.approx(_r(wd=4.0), abs=1e-4)
