@@ -26,7 +26,6 @@ LONG_FUNCTIONS: dict[str, str] = {
     "ductgen/sheets/section.py::section_view": "61 lines; not cut yet",
     "ductgen/sheets/sheet.py::sheet_pdf": "62 lines; not cut yet",
     "ductgen/solids/heal.py::extrusions_to_bspline": "62 lines; not cut yet",
-    "ductgen/units.py::convert": "61 lines; not cut yet",
 }
 
 
