@@ -21,8 +21,6 @@ LONG_FUNCTIONS: dict[str, str] = {
     "ductgen/cli/size_cmd.py::_print": "63 lines; not cut yet",
     "ductgen/design/skin.py::skin_from_spec": "62 lines; not cut yet",
     "ductgen/printability.py::print_section": "65 lines; not cut yet",
-    "ductgen/sheets/section.py::section_view": "61 lines; not cut yet",
-    "ductgen/sheets/sheet.py::sheet_pdf": "62 lines; not cut yet",
     "ductgen/solids/heal.py::extrusions_to_bspline": "62 lines; not cut yet",
 }
 
