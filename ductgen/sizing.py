@@ -209,6 +209,14 @@ def size_throat(
         depth = _depth_for_ivr(q_of, ivr_of, grid, qs, depth, max_ivr, d_max)
     _check_not_below_smallest(q_of, depth, aspect, flow_m3_s)
     spec = _rounded_spec(spec0, depth, aspect, angle_deg)
+    return _result(spec, flow_m3_s, aspect, limited_by, max_ivr)
+
+
+def _result(
+    spec: Spec, flow_m3_s: float, aspect: float, limited_by: str, max_ivr: float
+) -> SizeResult:
+    """The sized ``spec`` with its geometry, flow section and warnings; ``flow_m3_s`` the
+    target (m³/s), ``limited_by`` ``"flow"`` or ``"ivr"``."""
     g = geometry_from_spec(spec)
     assert spec.flow is not None
     shape = duct_shape(g)

@@ -229,19 +229,7 @@ def convert(value: Any, dimension: str, unit: str, default_unit: str | None = No
     if isinstance(value, bool):
         raise ValueError(f"expected a {what} such as {example}, got a boolean")
     if isinstance(value, int | float):
-        if isinstance(value, int) and abs(value) > 10**30:
-            raise ValueError(
-                f"expected a {what} such as {example}, got a {len(str(value))}-digit number"
-            )
-        if not math.isfinite(value):
-            raise ValueError(f"expected a finite {what}, got {value}")
-        if default_unit is None:
-            if value == 0:
-                return 0.0
-            raise ValueError(
-                f"a bare number is ambiguous for a {what}: write the unit, e.g. {example}"
-            )
-        return _finite(rescale(float(value), default_unit, unit), what, repr(value))
+        return _from_number(value, what, example, unit, default_unit)
     if not isinstance(value, str):
         raise ValueError(f"expected a {what} such as {example}, got {type(value).__name__}")
     text = value.strip()
@@ -271,6 +259,24 @@ def convert(value: Any, dimension: str, unit: str, default_unit: str | None = No
     except Exception as err:  # offset units in products and the like
         raise ValueError(f"cannot convert {text!r} to {unit}: {err}") from None
     return _finite(out, what, repr(text))
+
+
+def _from_number(
+    value: float, what: str, example: str, unit: str, default_unit: str | None
+) -> float:
+    """A bare number (int or float, not bool) as a float in ``unit``: taken in
+    ``default_unit``; with none, only zero is accepted (ValueError otherwise)."""
+    if isinstance(value, int) and abs(value) > 10**30:
+        raise ValueError(
+            f"expected a {what} such as {example}, got a {len(str(value))}-digit number"
+        )
+    if not math.isfinite(value):
+        raise ValueError(f"expected a finite {what}, got {value}")
+    if default_unit is None:
+        if value == 0:
+            return 0.0
+        raise ValueError(f"a bare number is ambiguous for a {what}: write the unit, e.g. {example}")
+    return _finite(rescale(float(value), default_unit, unit), what, repr(value))
 
 
 def _finite(value: float, what: str, shown: str) -> float:

@@ -16,31 +16,38 @@ if TYPE_CHECKING:
 __all__ = ["build_command", "init_command", "profiles_command"]
 
 
+# The command's options (typer reads them from the annotations).
+_Spec = Annotated[Path, typer.Argument(help="spec file (.toml, .yaml, .json)")]
+_Out = Annotated[str | None, typer.Option("-o", "--out", help="output folder [default: ./NAME]")]
+_Only = Annotated[
+    str | None, typer.Option("--only", help="comma list of outputs, e.g. cutter,template")
+]
+_Force = Annotated[bool, typer.Option("--force", help="replace existing files")]
+_Quality = Annotated[str, typer.Option("--quality", help="STL tessellation: draft | normal | fine")]
+_Kerf = Annotated[
+    float | None,
+    typer.Option("--kerf", help="cutter kerf (mm): the template's opening shrinks by kerf/2"),
+]
+_Paper = Annotated[str | None, typer.Option("--paper", help="template paper: A4 | Letter")]
+_Quiet = Annotated[bool, typer.Option("--quiet", "-q", help="print nothing on success")]
+_AsJson = Annotated[bool, typer.Option("--json", help="print report.json to stdout")]
+_NoCache = Annotated[
+    bool,
+    typer.Option("--no-cache", help="build every solid, neither reading nor filling the cache"),
+]
+
+
 def build_command(
-    spec: Annotated[Path, typer.Argument(help="spec file (.toml, .yaml, .json)")],
-    out: Annotated[
-        str | None, typer.Option("-o", "--out", help="output folder [default: ./NAME]")
-    ] = None,
-    only: Annotated[
-        str | None, typer.Option("--only", help="comma list of outputs, e.g. cutter,template")
-    ] = None,
-    force: Annotated[bool, typer.Option("--force", help="replace existing files")] = False,
-    quality: Annotated[
-        str, typer.Option("--quality", help="STL tessellation: draft | normal | fine")
-    ] = "normal",
-    kerf: Annotated[
-        float | None,
-        typer.Option("--kerf", help="cutter kerf (mm): the template's opening shrinks by kerf/2"),
-    ] = None,
-    paper: Annotated[
-        str | None, typer.Option("--paper", help="template paper: A4 | Letter")
-    ] = None,
-    quiet: Annotated[bool, typer.Option("--quiet", "-q", help="print nothing on success")] = False,
-    as_json: Annotated[bool, typer.Option("--json", help="print report.json to stdout")] = False,
-    no_cache: Annotated[
-        bool,
-        typer.Option("--no-cache", help="build every solid, neither reading nor filling the cache"),
-    ] = False,
+    spec: _Spec,
+    out: _Out = None,
+    only: _Only = None,
+    force: _Force = False,
+    quality: _Quality = "normal",
+    kerf: _Kerf = None,
+    paper: _Paper = None,
+    quiet: _Quiet = False,
+    as_json: _AsJson = False,
+    no_cache: _NoCache = False,
 ) -> None:
     """Build solids, files and report.json from a spec."""
     from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn

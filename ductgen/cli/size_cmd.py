@@ -15,6 +15,7 @@ if TYPE_CHECKING:
     from rich.table import Table
 
     from ductgen.flow.record import FlowRecord
+    from ductgen.geometry.inlet import InletGeometry
     from ductgen.sizing import SizeResult
 
 __all__ = ["size_command"]
@@ -33,41 +34,48 @@ def _quantity(key: str, text: str, dimension: str, unit: str) -> float:
         ) from None
 
 
+# The command's options (typer reads them from the annotations).
+_Flow = Annotated[
+    str,
+    typer.Option("--flow", help="volume flow needed, with unit: '0.06 m^3/s', '60 L/s', '120 cfm'"),
+]
+_Speed = Annotated[
+    str, typer.Option("--speed", help="vehicle speed, with unit: '160 km/h', '45 m/s'")
+]
+_Aspect = Annotated[
+    float, typer.Option("--aspect", help="throat width/depth W/D (3-5 tested, NACA RM A7I30)")
+]
+_Angle = Annotated[float, typer.Option("--angle", help="ramp angle, deg (5-7 recommended)")]
+_MaxIvr = Annotated[
+    float | None,
+    typer.Option(
+        "--max-ivr", help="largest inlet velocity ratio accepted (default 1, common practice)"
+    ),
+]
+_SpecPath = Annotated[
+    Path | None, typer.Option("--spec", help="spec whose lip, outlet and flow losses to use")
+]
+_Name = Annotated[str | None, typer.Option("--name", help="spec name of the result")]
+_WriteSpec = Annotated[
+    Path | None, typer.Option("--write-spec", help="write a buildable spec (.toml or .json)")
+]
+_Force = Annotated[bool, typer.Option("--force", help="replace an existing --write-spec file")]
+_AsJson = Annotated[
+    bool, typer.Option("--json", help="print the result as JSON (report.json key names)")
+]
+
+
 def size_command(
-    flow: Annotated[
-        str,
-        typer.Option(
-            "--flow", help="volume flow needed, with unit: '0.06 m^3/s', '60 L/s', '120 cfm'"
-        ),
-    ],
-    speed: Annotated[
-        str, typer.Option("--speed", help="vehicle speed, with unit: '160 km/h', '45 m/s'")
-    ],
-    aspect: Annotated[
-        float, typer.Option("--aspect", help="throat width/depth W/D (3-5 tested, NACA RM A7I30)")
-    ] = 4.0,
-    angle: Annotated[
-        float, typer.Option("--angle", help="ramp angle, deg (5-7 recommended)")
-    ] = DEFAULT_RAMP_ANGLE_DEG,
-    max_ivr: Annotated[
-        float | None,
-        typer.Option(
-            "--max-ivr", help="largest inlet velocity ratio accepted (default 1, common practice)"
-        ),
-    ] = None,
-    spec: Annotated[
-        Path | None, typer.Option("--spec", help="spec whose lip, outlet and flow losses to use")
-    ] = None,
-    name: Annotated[str | None, typer.Option("--name", help="spec name of the result")] = None,
-    write_spec: Annotated[
-        Path | None, typer.Option("--write-spec", help="write a buildable spec (.toml or .json)")
-    ] = None,
-    force: Annotated[
-        bool, typer.Option("--force", help="replace an existing --write-spec file")
-    ] = False,
-    as_json: Annotated[
-        bool, typer.Option("--json", help="print the result as JSON (report.json key names)")
-    ] = False,
+    flow: _Flow,
+    speed: _Speed,
+    aspect: _Aspect = 4.0,
+    angle: _Angle = DEFAULT_RAMP_ANGLE_DEG,
+    max_ivr: _MaxIvr = None,
+    spec: _SpecPath = None,
+    name: _Name = None,
+    write_spec: _WriteSpec = None,
+    force: _Force = False,
+    as_json: _AsJson = False,
 ) -> None:
     """Throat W, D and ramp length L that deliver a flow at a speed, through the spec's losses."""
     from ductgen.sizing import SizeRequest, run_size, size_result_dict
@@ -105,9 +113,7 @@ def _print(r: SizeResult) -> None:
     from rich.console import Console
     from rich.table import Table
 
-    from ductgen.design.build import duct_shape
     from ductgen.flow.record import FlowRecord
-    from ductgen.flow.stall import steepest_wall
 
     con = Console()
     g, f = r.geometry, FlowRecord.of_section(r.flow)
@@ -138,23 +144,9 @@ def _print(r: SizeResult) -> None:
             ("inlet velocity ratio", f"{f.inlet_velocity_ratio:.3f}"),
             ("ram recovery", f"{f.ram_recovery:.3f} ({f.recovery_model})"),
         ]
-    wall = steepest_wall(duct_shape(g))
+    wall = _wall_row(g)
     if wall is not None:
-        under = wall.length_under_stall_line_mm
-        rows.append(
-            (
-                "transition steepest wall",
-                f"{wall.name} {wall.angle_deg:.1f}° "
-                f"(stall line {wall.stall_line_included_deg:.1f}°); "
-                + (
-                    "under the line"
-                    if not wall.stalls
-                    else f"lengthen the transition to ≥ {under:.0f} mm"
-                    if under is not None
-                    else "no length within 50× clears the line"
-                ),
-            )
-        )
+        rows.append(wall)
     if r.limited_by == "ivr":
         rows.append(("sized by", f"IVR limit {r.max_ivr:g}: delivers more than asked"))
     for a, b in rows:
@@ -164,6 +156,30 @@ def _print(r: SizeResult) -> None:
         con.print(_budget_table(f))
     for w in r.warnings:
         err_console.print(f"warning {w.code}: {w.message}", soft_wrap=True)
+
+
+def _wall_row(g: InletGeometry) -> tuple[str, str] | None:
+    """The transition's steepest wall (deg) against the stall line, and the length (mm)
+    that clears it; None without a transition."""
+    from ductgen.design.build import duct_shape
+    from ductgen.flow.stall import steepest_wall
+
+    wall = steepest_wall(duct_shape(g))
+    if wall is None:
+        return None
+    under = wall.length_under_stall_line_mm
+    return (
+        "transition steepest wall",
+        f"{wall.name} {wall.angle_deg:.1f}° "
+        f"(stall line {wall.stall_line_included_deg:.1f}°); "
+        + (
+            "under the line"
+            if not wall.stalls
+            else f"lengthen the transition to ≥ {under:.0f} mm"
+            if under is not None
+            else "no length within 50× clears the line"
+        ),
+    )
 
 
 def _budget_table(f: FlowRecord) -> Table:

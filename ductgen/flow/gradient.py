@@ -93,52 +93,64 @@ def layer_keys(
     head = gradient_layer(flow, air)
     if head is None:
         d = flat.thickness_m / depth_m
-        keys.update(
-            {
-                "boundary_layer_method": FLAT_PLATE_METHOD,
-                "boundary_layer_thickness_m": flat.thickness_m,
-                "displacement_thickness_m": flat.displacement_thickness_m,
-                "momentum_thickness_m": flat.momentum_thickness_m,
-                "delta_over_depth": d,
-                "delta_over_depth_max": max(d, d_white),
-            }
-        )
+        keys.update(_flat_keys(flat, d, max(d, d_white)))
         return keys, max(d, d_white), max(flat.thickness_m, flat.thickness_white_m), []
     d = head.thickness_m / depth_m
-    keys.update(
-        {
-            "boundary_layer_method": HEAD_SOURCE,
-            "boundary_layer_thickness_m": head.thickness_m,
-            "displacement_thickness_m": head.displacement_thickness_m,
-            "momentum_thickness_m": head.momentum_thickness_m,
-            "delta_over_depth": d,
-            "delta_over_depth_max": d,
-            "boundary_layer_gradient": {
-                "inlet_cp_gradient_per_m": flow.inlet_cp_gradient_per_m,
-                "cp_at_run_start": flow.inlet_cp
-                - (flow.inlet_cp_gradient_per_m or 0.0) * flow.run_length,
-                "cp_at_inlet": flow.inlet_cp,
-                "edge_speed_m_s": head.edge_speed_m_s,
-                "shape_factor": head.shape_factor,
-                "skin_friction": head.skin_friction,
-                "thickness_head_m": head.thickness_head_m,
-                "flat_plate_thickness_m": flat.thickness_m,
-                "separated": head.separated,
-                "note": "delta given to the recovery model is 8 * delta* (the 1/7-power layer "
-                "with Head's displacement thickness); delta_over_depth_max is Head's alone "
-                "(White's flat-plate value is kept for comparison)",
-            },
-        }
-    )
-    warnings = []
-    if head.separated:
-        warnings.append(
-            DesignWarning(
-                "boundary_layer_separates",
-                f"with dCp/dx = {flow.inlet_cp_gradient_per_m:g} /m the boundary layer's shape "
-                f"factor passes H = {SEPARATION_H:g} before the ramp (Head's method): it is "
-                "near separation and the inlet swallows stalled air; the values are those where "
-                "it did - place the inlet where the pressure does not rise so steeply",
-            )
+    keys.update(_head_keys(flow, flat, head, d))
+    return keys, d, head.thickness_m, _head_warnings(flow, head)
+
+
+def _flat_keys(flat: BoundaryLayer, d: float, d_max: float) -> dict[str, Any]:
+    """The flat plate's method, thicknesses (m) and δ/D keys (``d``; ``d_max`` the larger of
+    it and White's)."""
+    return {
+        "boundary_layer_method": FLAT_PLATE_METHOD,
+        "boundary_layer_thickness_m": flat.thickness_m,
+        "displacement_thickness_m": flat.displacement_thickness_m,
+        "momentum_thickness_m": flat.momentum_thickness_m,
+        "delta_over_depth": d,
+        "delta_over_depth_max": d_max,
+    }
+
+
+def _head_keys(flow: FlowSpec, flat: BoundaryLayer, head: HeadLayer, d: float) -> dict[str, Any]:
+    """Head's method, thicknesses (m), δ/D (``d``) and the ``boundary_layer_gradient`` block
+    (Cp, 1/m, m/s, m), the flat plate's δ (m) kept beside it."""
+    return {
+        "boundary_layer_method": HEAD_SOURCE,
+        "boundary_layer_thickness_m": head.thickness_m,
+        "displacement_thickness_m": head.displacement_thickness_m,
+        "momentum_thickness_m": head.momentum_thickness_m,
+        "delta_over_depth": d,
+        "delta_over_depth_max": d,
+        "boundary_layer_gradient": {
+            "inlet_cp_gradient_per_m": flow.inlet_cp_gradient_per_m,
+            "cp_at_run_start": flow.inlet_cp
+            - (flow.inlet_cp_gradient_per_m or 0.0) * flow.run_length,
+            "cp_at_inlet": flow.inlet_cp,
+            "edge_speed_m_s": head.edge_speed_m_s,
+            "shape_factor": head.shape_factor,
+            "skin_friction": head.skin_friction,
+            "thickness_head_m": head.thickness_head_m,
+            "flat_plate_thickness_m": flat.thickness_m,
+            "separated": head.separated,
+            "note": "delta given to the recovery model is 8 * delta* (the 1/7-power layer "
+            "with Head's displacement thickness); delta_over_depth_max is Head's alone "
+            "(White's flat-plate value is kept for comparison)",
+        },
+    }
+
+
+def _head_warnings(flow: FlowSpec, head: HeadLayer) -> list[DesignWarning]:
+    """``boundary_layer_separates`` when Head's shape factor passed the separation value."""
+    if not head.separated:
+        return []
+    return [
+        DesignWarning(
+            "boundary_layer_separates",
+            f"with dCp/dx = {flow.inlet_cp_gradient_per_m:g} /m the boundary layer's shape "
+            f"factor passes H = {SEPARATION_H:g} before the ramp (Head's method): it is "
+            "near separation and the inlet swallows stalled air; the values are those where "
+            "it did - place the inlet where the pressure does not rise so steeply",
         )
-    return keys, d, head.thickness_m, warnings
+    ]

@@ -35,6 +35,7 @@ report warns).
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
 
@@ -158,6 +159,13 @@ def head_layer(
         s = math.sqrt(1.0 - (inlet_cp - cp_gradient_per_m * (length - x)))
         return speed_m_s * s, -speed_m_s * cp_gradient_per_m / (2.0 * s)
 
+    return _integrate(edge, length, nu)
+
+
+def _integrate(edge: Callable[[float], tuple[float, float]], length: float, nu: float) -> HeadLayer:
+    """Head's two equations from the flat-plate start at :data:`START_FRACTION` of the run
+    to its end ``length`` (m), or to separation; ``edge(x)`` is U (m/s) and dU/dx (1/s) at
+    x (m), ``nu`` the kinematic viscosity (m²/s)."""
     x0 = START_FRACTION * length
     u0 = edge(x0)[0]
     flat = turbulent_flat_plate(u0, x0, nu)

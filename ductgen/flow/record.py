@@ -31,6 +31,27 @@ def _opt(section: Mapping[str, Any], key: str) -> float | None:
     return None if v is None else float(v)
 
 
+def _budget(section: Mapping[str, Any]) -> tuple[BudgetItem, ...]:
+    """The section's pressure budget (m/s, K, Pa), in order; empty when it has none."""
+    return tuple(
+        BudgetItem(b["element"], _opt(b, "velocity_m_s"), _opt(b, "k"), float(b["dp_pa"]))
+        for b in section.get("budget", [])
+    )
+
+
+def _gradient(section: Mapping[str, Any]) -> LayerGradient | None:
+    """Head's method (dCp/dx in 1/m, H, separated) from ``boundary_layer_gradient``, or
+    None when the section has no pressure gradient."""
+    grad = section.get("boundary_layer_gradient")
+    if grad is None:
+        return None
+    return LayerGradient(
+        float(grad["inlet_cp_gradient_per_m"]),
+        float(grad["shape_factor"]),
+        bool(grad.get("separated")),
+    )
+
+
 @dataclass(frozen=True)
 class FlowRecord:
     """The ``flow`` section (``section``, written to ``report.json`` unchanged) and its
@@ -120,12 +141,8 @@ class FlowRecord:
         writes it)."""
         s = section
         band = s.get("sensitivity") or {}
-        budget = tuple(
-            BudgetItem(b["element"], _opt(b, "velocity_m_s"), _opt(b, "k"), float(b["dp_pa"]))
-            for b in s.get("budget", [])
-        )
+        budget = _budget(s)
         mixing = next((b for b in budget if b.element == "hose mixing"), None)
-        grad = s.get("boundary_layer_gradient")
         t = s.get("transition_loss") or {}
         rmap = s.get("recovery_map")
         return cls(
@@ -158,13 +175,7 @@ class FlowRecord:
             meets_required_flow=bool(s.get("meets_required_flow")),
             exit_cp=float(s["exit_cp"]),
             exit_cp_given=s.get("exit_cp_source") != "default",
-            gradient=None
-            if grad is None
-            else LayerGradient(
-                float(grad["inlet_cp_gradient_per_m"]),
-                float(grad["shape_factor"]),
-                bool(grad.get("separated")),
-            ),
+            gradient=_gradient(s),
             delta_over_depth_max=float(s["delta_over_depth_max"]),
             transition_k=_opt(t, "k"),
             transition_k_by_method=t.get("k_by_method"),

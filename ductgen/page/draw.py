@@ -297,7 +297,7 @@ def _section_labels(
     outlet; ``zmin`` the lowest drawn point, ``yd`` the height of the L line, ``fs`` the
     font size."""
     g = d.geometry
-    fl, t = g.floor, g.transition
+    t = g.transition
     length, h = g.length_mm, g.drop_mm
     parts: list[str] = []
     if t is not None:
@@ -306,32 +306,9 @@ def _section_labels(
     parts.append(_line(length, 0.0, length, yd - 0.5 * fs, "thin"))
     parts.append(_dim((0.0, yd), (length, yd), f"L {length:.1f}", fs, "L"))
     xh = length - 0.18 * length
-
-    def at(u: float, depth: float) -> tuple[float, float]:
-        """SVG point of design (u, w = −depth): mapped onto the skin when it is curved."""
-        if maps is None:
-            return u, depth
-        x, z = maps[0](np.array([[u, -depth]]))[0]
-        return float(x), float(-z)
-
-    parts.append(_line(*at(xh - fs, h), *at(length, h), "thin"))
-    parts.append(_dim(at(xh, 0.0), at(xh, h), f"H {h:.1f}", fs, "H"))
-    xa, _ = fl.arc_end_mm
-    xm = 0.5 * (xa + length)
-    zm = float(fl.depth(xm))
-    if maps is not None:  # turn the label with the skin's slope there
-        (x_a, z_a), (x_b, z_b) = at(xm - 1.0, zm), at(xm + 1.0, zm)
-        slope = float(np.degrees(np.arctan2(z_b - z_a, x_b - x_a)))
-        xm, zm = at(xm, zm)
-        th_rot = fl.angle_deg + slope
-    else:
-        th_rot = fl.angle_deg
-    th = fl.angle_deg
-    label = f"{th:.2f}°" + (f", entry R {fl.entry_radius_mm:g}" if fl.entry_radius_mm else "")
-    parts.append(
-        f'<text x="{xm:.2f}" y="{zm + 1.6 * fs:.2f}" font-size="{fs:.2f}" text-anchor="middle" '
-        f'transform="rotate({th_rot:.3f} {xm:.2f} {zm:.2f})">ramp {escape(label)}</text>'
-    )
+    parts.append(_line(*_on_skin(maps, xh - fs, h), *_on_skin(maps, length, h), "thin"))
+    parts.append(_dim(_on_skin(maps, xh, 0.0), _on_skin(maps, xh, h), f"H {h:.1f}", fs, "H"))
+    parts.append(_ramp_label(d, maps, fs))
     parts.append(_text(xu, yd - 1.5 * fs, "flow →", fs, anchor="start"))
     if t is not None:
         kind = f"Ø{t.outlet_width_mm:.1f}" if t.kind == "round" else "rect"
@@ -344,3 +321,35 @@ def _section_labels(
             )
         )
     return parts
+
+
+def _on_skin(maps: tuple[XZ, XZ] | None, u: float, depth: float) -> tuple[float, float]:
+    """SVG point (mm) of design (u, w = −depth) (mm): mapped onto the skin when it is
+    curved."""
+    if maps is None:
+        return u, depth
+    x, z = maps[0](np.array([[u, -depth]]))[0]
+    return float(x), float(-z)
+
+
+def _ramp_label(d: Design, maps: tuple[XZ, XZ] | None, fs: float) -> str:
+    """The ramp angle (deg) and entry radius (mm) written under the ramp's straight part,
+    turned with the ramp and, on a curved skin, with the skin's slope there; ``fs`` the
+    font size (mm)."""
+    fl, length = d.geometry.floor, d.geometry.length_mm
+    xa, _ = fl.arc_end_mm
+    xm = 0.5 * (xa + length)
+    zm = float(fl.depth(xm))
+    if maps is not None:  # turn the label with the skin's slope there
+        (x_a, z_a), (x_b, z_b) = _on_skin(maps, xm - 1.0, zm), _on_skin(maps, xm + 1.0, zm)
+        slope = float(np.degrees(np.arctan2(z_b - z_a, x_b - x_a)))
+        xm, zm = _on_skin(maps, xm, zm)
+        th_rot = fl.angle_deg + slope
+    else:
+        th_rot = fl.angle_deg
+    th = fl.angle_deg
+    label = f"{th:.2f}°" + (f", entry R {fl.entry_radius_mm:g}" if fl.entry_radius_mm else "")
+    return (
+        f'<text x="{xm:.2f}" y="{zm + 1.6 * fs:.2f}" font-size="{fs:.2f}" text-anchor="middle" '
+        f'transform="rotate({th_rot:.3f} {xm:.2f} {zm:.2f})">ramp {escape(label)}</text>'
+    )

@@ -93,9 +93,16 @@ def panel_svg(d: Design) -> str | None:
         f"datum (dot) {escape(_vec(frame.origin, 1))} mm in the file</text>",
     ]
     w, h = x1 - x0 + 2 * pad, y1 - y0 + 2 * pad + 2 * fs
+    return _svg((x0 - pad, y0 - pad, w, h), "".join(parts))
+
+
+def _svg(box: tuple[float, float, float, float], body: str) -> str:
+    """The SVG document round ``body``: the view box (x, y, width, height, mm), the arrow
+    head, the styles and the patch's backdrop."""
+    x, y, w, h = box
     return (
         f'<svg xmlns="http://www.w3.org/2000/svg" id="panel-svg" class="drawing" role="img" '
-        f'viewBox="{x0 - pad:.2f} {y0 - pad:.2f} {w:.2f} {h:.2f}" '
+        f'viewBox="{x:.2f} {y:.2f} {w:.2f} {h:.2f}" '
         'preserveAspectRatio="xMidYMid meet">'
         f"<title>your panel round the datum, flow direction and outward normal</title>"
         '<defs><marker id="panel-head" viewBox="0 0 10 10" refX="8" refY="5" markerWidth="6" '
@@ -108,7 +115,7 @@ def panel_svg(d: Design) -> str | None:
         f".arrow{{stroke:{_ARROW};stroke-width:2;fill:none;vector-effect:non-scaling-stroke}}"
         f"text{{fill:{_INK};font-family:sans-serif}}"
         "</style>"
-        f'<rect x="{x0 - pad:.2f}" y="{y0 - pad:.2f}" width="{w:.2f}" height="{h:.2f}" '
+        f'<rect x="{x:.2f}" y="{y:.2f}" width="{w:.2f}" height="{h:.2f}" '
         f'fill="{_SURFACE}" opacity=".25"/>'
-        f"{''.join(parts)}</svg>"
+        f"{body}</svg>"
     )

@@ -105,18 +105,24 @@ def section_view(
     v.label(f"ramp {g.floor.angle_deg:.2f} deg", at(xa, -float(g.floor.depth(xa)) - gap), 6.5)
     t = g.transition
     if t is not None and design is not None and design.placement.outlet_point is not None:
-        c = model_to_drawn(design, np.asarray(design.placement.outlet_point))[0]
-        axis = np.asarray(design.placement.outlet_axis, dtype=float)
-        if design.panel_frame is not None:
-            axis = axis @ design.panel_frame.axes.T
-        centre, direction = c[[0, 2]], axis[[0, 2]] / np.linalg.norm(axis[[0, 2]])
-        tip = centre + direction * 14.0 / s
-        v.arrow(centre, tip, lw=0.6)
-        v.label("outlet axis", tip, 6.0, colour=_OUTLET)
+        _outlet_axis(v, design, s)
     if t is not None:
         v.label(f"outlet {t.kind} {t.outlet_width_mm:.1f}", parts["floor"][-1], 6.0)
     v.finish()
     return s
+
+
+def _outlet_axis(v: View, design: Design, s: float) -> None:
+    """The arrow from the outlet face's centre along the spigot's axis, 14 paper mm long at
+    the view's scale ``s`` (paper mm per mm), and its label."""
+    c = model_to_drawn(design, np.asarray(design.placement.outlet_point))[0]
+    axis = np.asarray(design.placement.outlet_axis, dtype=float)
+    if design.panel_frame is not None:
+        axis = axis @ design.panel_frame.axes.T
+    centre, direction = c[[0, 2]], axis[[0, 2]] / np.linalg.norm(axis[[0, 2]])
+    tip = centre + direction * 14.0 / s
+    v.arrow(centre, tip, lw=0.6)
+    v.label("outlet axis", tip, 6.0, colour=_OUTLET)
 
 
 def _drawn(

@@ -133,17 +133,7 @@ def sheet_pdf(
     pw, ph = page
     placed = placement_lines(design) if design is not None else ()
     buf = io.BytesIO()
-    with (
-        rc_context(_RC),
-        PdfPages(
-            buf,
-            metadata={
-                "Title": f"{spec.name} drawing sheet",
-                "Creator": "ductgen",
-                "CreationDate": build_datetime(),  # reproducible: the build date
-            },
-        ) as pdf,
-    ):
+    with rc_context(_RC), PdfPages(buf, metadata=_metadata(spec.name)) as pdf:
         fig = Figure(figsize=(pw / _INCH, ph / _INCH))
         bg, tx = _frame(fig, pw, ph)
         lip_w = _views(fig, bg, page, tx, g, design, split_x_mm, bool(placed))
@@ -157,6 +147,16 @@ def sheet_pdf(
         title_block(bg, tx, pw, g, spec, spec_hash, version)
         pdf.savefig(fig)
     return buf.getvalue()
+
+
+def _metadata(name: str) -> dict[str, Any]:
+    """The PDF's document information for the spec ``name``; its creation date is the build
+    date, so a rebuild writes the same file."""
+    return {
+        "Title": f"{name} drawing sheet",
+        "Creator": "ductgen",
+        "CreationDate": build_datetime(),
+    }
 
 
 def _frame(fig: Figure, pw: float, ph: float) -> tuple[Axes, float]:
