@@ -200,3 +200,14 @@ def test_panel_sheet_states_the_panel_frame_and_is_clear(tmp_path) -> None:  # t
     assert np.allclose([float(c) for c in m.groups()], outlet, atol=0.06)
     angle = np.degrees(ref.geometry.transition.x_end_mm / 900.0)
     assert f"{angle:.1f} deg down" in text
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("name", SAMPLES)
+def test_built_sheets_state_the_placement(sample_builds: dict, name: str) -> None:
+    """The sheet a build writes (not only :func:`sheet_pdf` called with the design) carries
+    the PLACEMENT block."""
+    _, folder = sample_builds[name]
+    page = pymupdf.open(folder / f"{name}-sheet.pdf")[0]
+    text = page.get_text()
+    assert "PLACEMENT" in text and "datum" in text

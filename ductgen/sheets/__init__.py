@@ -100,6 +100,7 @@ def sheet_files(ctx: Any) -> dict[str, bytes]:
         record.flow,
         () if record.split is None else record.split.stations_x_mm,
         skin_lines(record.skin, record.template),
+        design=ctx.design,
     )
     files = {"sheet.pdf": pdf}
     if png is not None:
