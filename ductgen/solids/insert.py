@@ -179,13 +179,11 @@ def build_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
             inner_extra += inner_parts
         else:
             inner_extra += _open_exit(g, ins, off)
-        if ins.mount == "surface":
-            x_open = g.length_mm if g.lip.style == "raised" else x_ne
-            inner_extra.append(
-                prism(footprint_face(g, x_open, r_edge), 0.0, ins.bezel_thickness + 1.0)
-            )
         outer = boolean("fuse", walls, pieces, "insert outer body")
         inner: cq.Shape = cutter if cutter is not None else build_cutter(d)
+        if ins.mount == "surface":
+            x_open = g.length_mm if g.lip.style == "raised" else x_ne
+            inner_extra += _bezel_opening(inner, g.overcut_mm, ins.bezel_thickness + 1.0, x_open)
         if inner_extra:
             inner = boolean("fuse", inner, inner_extra, "insert inner body")
         body = boolean("cut", outer, [inner], "insert")
@@ -205,6 +203,41 @@ def build_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
     if len(solids) != 1:
         raise GeometryError("insert", f"expected one solid, the kernel produced {len(solids)}")
     return solids[0]
+
+
+def _bezel_opening(cutter: cq.Shape, z_cut: float, z_top: float, x_open: float) -> list[cq.Shape]:
+    """The bezel's opening (inner body pieces, mm): the cutter's top face at the overcut
+    height ``z_cut`` extruded up to ``z_top``, cut off downstream of ``x_open``.
+
+    Its walls continue the cutter's overcut walls on the same curves (the edge round's
+    boundary on the skin). A footprint offset by the edge radius, interpolated apart from the
+    kernel's fillet boundary by ~1e-3 mm, left a sliver face between the two curves on the
+    skin plane that the mesher could not triangulate (an open mesh, then a void bounding
+    box in healing)."""
+    if z_top <= z_cut:
+        return []  # the overcut already clears the bezel
+    tops = [f for f in cutter.Faces() if _is_top_plane(f, z_cut)]
+    if not tops:
+        raise GeometryError("insert", f"the cutter has no top face at z = {z_cut:g} mm")
+    pieces: list[cq.Shape] = []
+    for f in tops:
+        body: cq.Shape = cq.Solid.extrudeLinear(f, V(0, 0, z_top - z_cut))
+        bb = body.BoundingBox()
+        if bb.xmax > x_open + 1e-6:
+            keep = _box(
+                bb.xmin - 1.0, x_open, bb.ymin - 1.0, bb.ymax + 1.0, z_cut - 1.0, z_top + 1.0
+            )
+            body = boolean("intersect", body, [keep], "insert bezel opening")
+        pieces.append(body)
+    return pieces
+
+
+def _is_top_plane(face: cq.Face, z: float) -> bool:
+    """Whether ``face`` is a plane at height ``z`` (mm) facing up."""
+    if face.geomType() != "PLANE":
+        return False
+    bb = face.BoundingBox()
+    return abs(bb.zmin - z) < 1e-6 and abs(bb.zmax - z) < 1e-6 and face.normalAt().z > 0.5
 
 
 def _walls(g: InletGeometry, w: float, flange_width: float, k: float) -> cq.Shape:
