@@ -26,6 +26,7 @@ from __future__ import annotations
 import dataclasses
 
 import cadquery as cq
+import numpy as np
 
 from ductgen.design import Design
 from ductgen.errors import GeometryError
@@ -39,6 +40,7 @@ from ductgen.geometry.fabrication import (
 )
 from ductgen.geometry.floor import floor_section
 from ductgen.geometry.inlet import InletGeometry
+from ductgen.geometry.panel import PanelSkin, convex_curvatures
 from ductgen.solids.cutter import build_cutter, make_transition
 from ductgen.solids.deform import place
 from ductgen.solids.footprint import footprint_face, offset_wire, prism
@@ -53,6 +55,7 @@ from ductgen.solids.primitives import (
 __all__ = [
     "FEATHER_LAND_MM",
     "build_insert",
+    "convex_curvature",
     "floor_profile_solid",
     "make_insert",
 ]
@@ -122,31 +125,46 @@ def _drilled(shape: cq.Shape, lay: FlangeLayout) -> cq.Shape:
     return boolean("cut", shape, holes, "insert holes")
 
 
-def _convex_curvature(d: Design) -> float:
-    """The largest convex skin curvature the insert's walls sit under (1/mm; 0 when flat or
-    concave). 0 on the user's panel: compensating there by its largest principal curvature
-    made a B-spline bonnet's insert that the bed split could not cut into valid pieces, so
-    panel inserts are not compensated yet (README says so)."""
-    from ductgen.geometry.panel import PanelSkin
+def convex_curvature(d: Design) -> float:
+    """The convex skin curvature κ (1/mm; 0 when flat or concave) the insert's walls are
+    widened for, by 1/(1 − κ·depth) (:func:`~ductgen.geometry.fabrication.wall_for_curvature`).
 
+    On the analytic skins the larger of the curvatures along and across the flow. On the
+    user's panel the largest principal curvature over the insert's footprint where convex:
+    on a grid of 21 × 21 points over −(edge round + wall) ≤ u ≤ the footprint's end and
+    |v| ≤ W/2 + edge round + wall (mm); the normal curvature across any wall is at most it,
+    so the wall errs thick where the panel is flatter."""
     sk = d.skin
-    if isinstance(sk, PanelSkin):
-        return 0.0
-    return max(float(getattr(sk, "k_stream", 0.0)), float(getattr(sk, "k_span", 0.0)), 0.0)
+    if not isinstance(sk, PanelSkin):
+        return max(float(getattr(sk, "k_stream", 0.0)), float(getattr(sk, "k_span", 0.0)), 0.0)
+    g = d.geometry
+    off = g.edge_radius_mm + d.fab.insert.wall
+    u = np.linspace(max(-off, float(sk.u[0])), min(footprint_end_mm(g), float(sk.u[-1])), 21)
+    v_max = min(g.width_mm / 2.0 + off, float(sk.v[-1]))
+    uu, vv = np.meshgrid(u, np.linspace(-v_max, v_max, 21), indexing="ij")
+    pts, _ = sk.surface_local(np.column_stack([uu.ravel(), vv.ravel()]))
+    k = convex_curvatures(sk.surface, pts[:, 0], pts[:, 1])
+    return max(float(np.max(k)), 0.0)
 
 
 def _wall_body(
-    g: InletGeometry, x_ne: float, r_edge: float, w: float, k: float, z0: float
+    g: InletGeometry, x_ne: float, r_edge: float, w: float, k: float, z0: float, ruled: bool
 ) -> cq.Solid:
     """The walls' outer body down to z0 < 0: the footprint offset by edge round + wall, a
-    prism; under a convex skin (k > 0, 1/mm) a ruled loft whose offset grows with depth to
-    edge round + wall/(1 − k·|z0|), so the wall measured on the skin is ``w`` at every depth
-    (1/(1 − k·d) is convex in d, so the straight ruling is never thinner)."""
+    prism; under a convex skin (k > 0, 1/mm) the offset at depth |z0| is edge round +
+    wall/(1 − k·|z0|), so the wall measured on the skin is at least ``w`` at every depth:
+    ``ruled``, a ruled loft from the plain offset at the skin to that one (1/(1 − k·d) is
+    convex in d, so the straight ruling is never thinner); otherwise a prism of that offset
+    all the way up (thicker near the skin; used on the user's panel, where the loft's faces
+    carried onto a B-spline panel left a crack at the apex that split pieces inherited)."""
     square = g.transition is None
     if k <= 0.0:
         return prism(footprint_face(g, x_ne, r_edge + w, square_end=square), z0, 0.0)
+    deep = r_edge + wall_for_curvature(w, k, -z0)
+    if not ruled:
+        return prism(footprint_face(g, x_ne, deep, square_end=square), z0, 0.0)
     top = offset_wire(g, x_ne, r_edge + w, 0.0, square_end=square)
-    bottom = offset_wire(g, x_ne, r_edge + wall_for_curvature(w, k, -z0), z0, square_end=square)
+    bottom = offset_wire(g, x_ne, deep, z0, square_end=square)
     return cq.Solid.makeLoft([bottom, top], True)
 
 
@@ -166,9 +184,9 @@ def build_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
     r_edge = g.edge_radius_mm
     off = ins.wall + r_edge
     x_ne = g.throat_end_mm
-    k = _convex_curvature(d)
+    k = convex_curvature(d)
     try:
-        walls = _walls(g, ins.wall, ins.flange_width, k)
+        walls = _walls(g, ins.wall, ins.flange_width, k, not isinstance(d.skin, PanelSkin))
         pieces = _skin_and_flange(g, ins, lay, off)
         if g.lip.style == "raised":
             pieces.append(_raised_lip(g, g.width_mm / 2.0 + off))
@@ -179,13 +197,11 @@ def build_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
             inner_extra += inner_parts
         else:
             inner_extra += _open_exit(g, ins, off)
-        if ins.mount == "surface":
-            x_open = g.length_mm if g.lip.style == "raised" else x_ne
-            inner_extra.append(
-                prism(footprint_face(g, x_open, r_edge), 0.0, ins.bezel_thickness + 1.0)
-            )
         outer = boolean("fuse", walls, pieces, "insert outer body")
         inner: cq.Shape = cutter if cutter is not None else build_cutter(d)
+        if ins.mount == "surface":
+            x_open = g.length_mm if g.lip.style == "raised" else x_ne
+            inner_extra += _bezel_opening(inner, g.overcut_mm, ins.bezel_thickness + 1.0, x_open)
         if inner_extra:
             inner = boolean("fuse", inner, inner_extra, "insert inner body")
         body = boolean("cut", outer, [inner], "insert")
@@ -207,17 +223,52 @@ def build_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
     return solids[0]
 
 
-def _walls(g: InletGeometry, w: float, flange_width: float, k: float) -> cq.Shape:
+def _bezel_opening(cutter: cq.Shape, z_cut: float, z_top: float, x_open: float) -> list[cq.Shape]:
+    """The bezel's opening (inner body pieces, mm): the cutter's top face at the overcut
+    height ``z_cut`` extruded up to ``z_top``, cut off downstream of ``x_open``.
+
+    Its walls continue the cutter's overcut walls on the same curves (the edge round's
+    boundary on the skin). A footprint offset by the edge radius, interpolated apart from the
+    kernel's fillet boundary by ~1e-3 mm, left a sliver face between the two curves on the
+    skin plane that the mesher could not triangulate (an open mesh, then a void bounding
+    box in healing)."""
+    if z_top <= z_cut:
+        return []  # the overcut already clears the bezel
+    tops = [f for f in cutter.Faces() if _is_top_plane(f, z_cut)]
+    if not tops:
+        raise GeometryError("insert", f"the cutter has no top face at z = {z_cut:g} mm")
+    pieces: list[cq.Shape] = []
+    for f in tops:
+        body: cq.Shape = cq.Solid.extrudeLinear(f, V(0, 0, z_top - z_cut))
+        bb = body.BoundingBox()
+        if bb.xmax > x_open + 1e-6:
+            keep = _box(
+                bb.xmin - 1.0, x_open, bb.ymin - 1.0, bb.ymax + 1.0, z_cut - 1.0, z_top + 1.0
+            )
+            body = boolean("intersect", body, [keep], "insert bezel opening")
+        pieces.append(body)
+    return pieces
+
+
+def _is_top_plane(face: cq.Face, z: float) -> bool:
+    """Whether ``face`` is a plane at height ``z`` (mm) facing up."""
+    if face.geomType() != "PLANE":
+        return False
+    bb = face.BoundingBox()
+    return abs(bb.zmin - z) < 1e-6 and abs(bb.zmax - z) < 1e-6 and face.normalAt().z > 0.5
+
+
+def _walls(g: InletGeometry, w: float, flange_width: float, k: float, ruled: bool) -> cq.Shape:
     """The walls and floor: the wall body (:func:`_wall_body`) cut to the floor profile
     moved down by the wall ``w`` (mm), across the flange's width (mm) and 10 mm more;
-    ``k`` the convex curvature (1/mm)."""
+    ``k`` the convex curvature (1/mm), ``ruled`` as in :func:`_wall_body`."""
     r_edge = g.edge_radius_mm
     off = w + r_edge
     x_ne = g.throat_end_mm
     span = g.width_mm / 2.0 + off + flange_width + 10.0
     return boolean(
         "intersect",
-        _wall_body(g, x_ne, r_edge, w, k, -g.drop_mm - w - 2.0),
+        _wall_body(g, x_ne, r_edge, w, k, -g.drop_mm - w - 2.0, ruled),
         [floor_profile_solid(g, w, -off - 2.0, x_ne + off + 1.0, span)],
         "insert walls",
     )
