@@ -227,6 +227,17 @@ def print_section(
         "sources": "walls, overhang: FDM common practice, no source; "
         "material values recalled from typical data sheets",
     }
+    return sec, _print_warnings(sec, wall, mat, near_heat, service_temperature_c)
+
+
+def _print_warnings(
+    sec: dict[str, Any],
+    wall: dict[str, Any],
+    mat: Any,
+    near_heat: bool,
+    service_temperature_c: float | None,
+) -> list[DesignWarning]:
+    """The warnings of one printed part's ``print`` section (°C, mm)."""
     warns: list[DesignWarning] = []
     mw = wall["min_wall_mm"]
     if not sec["manifold"]:
@@ -260,7 +271,7 @@ def print_section(
                 f"{mat.name} ({mat.hdt_c:.0f} °C)",
             )
         )
-    return sec, warns
+    return warns
 
 
 def plug_section(plug: Any, edge_radius_mm: float) -> tuple[dict[str, Any], list[DesignWarning]]:

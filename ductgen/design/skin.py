@@ -109,35 +109,51 @@ def skin_from_spec(
         k_stream, k_span = sign / skin.radius_streamwise, sign / skin.radius_spanwise
     v_max, u_max = _extent(g, layout, trim_xy)
     deep = _deepest(g, spigot, wall)
-    wrap = math.radians(MAX_WRAP_DEG)
     for k, reach, key, along in (
         (k_stream, u_max, keys["stream"], True),
         (k_span, v_max, keys["span"], False),
     ):
         if k == 0.0:
             continue
-        limits = [
-            (
-                reach / wrap,
-                f"the parts reach {reach:.0f} mm along the skin in this direction and would "
-                f"wrap more than {MAX_WRAP_DEG:.0f}° of it",
-            )
-        ]
-        if k > 0:
-            limits.append(
-                (
-                    deep / MAX_DEPTH_FRACTION,
-                    f"the floor and duct reach {deep:.0f} mm deep: inside a convex skin the "
-                    f"walls converge toward its centre, and deeper than "
-                    f"{MAX_DEPTH_FRACTION:.0%} of the radius the flat design no longer holds",
-                )
-            )
-        if k > 0 and along and g.transition is not None:
-            limits.append(_straight_outlet_limit(g, spigot, wall))
-        need, why = max(limits, key=lambda item: item[0])
+        need, why = _smallest_radius(g, spigot, wall, k > 0, along, reach, deep)
         if 1.0 / abs(k) < need:
             raise SpecError(key, 1.0 / abs(k), f">= {math.ceil(need)} mm for this inlet", why)
     return CurvedSkin(k_stream, k_span, skin.shape), summary, []
+
+
+def _smallest_radius(
+    g: InletGeometry,
+    spigot: Spigot | None,
+    wall: float,
+    convex: bool,
+    along: bool,
+    reach: float,
+    deep: float,
+) -> tuple[float, str]:
+    """The smallest radius (mm) the skin may have in one direction, and why: the parts
+    reach ``reach`` mm along the skin that way (``along``: along the flow) and the floor and
+    duct ``deep`` mm under it; inside a ``convex`` skin the depth and the straight outlet
+    limit it too."""
+    wrap = math.radians(MAX_WRAP_DEG)
+    limits = [
+        (
+            reach / wrap,
+            f"the parts reach {reach:.0f} mm along the skin in this direction and would "
+            f"wrap more than {MAX_WRAP_DEG:.0f}° of it",
+        )
+    ]
+    if convex:
+        limits.append(
+            (
+                deep / MAX_DEPTH_FRACTION,
+                f"the floor and duct reach {deep:.0f} mm deep: inside a convex skin the "
+                f"walls converge toward its centre, and deeper than "
+                f"{MAX_DEPTH_FRACTION:.0%} of the radius the flat design no longer holds",
+            )
+        )
+    if convex and along and g.transition is not None:
+        limits.append(_straight_outlet_limit(g, spigot, wall))
+    return max(limits, key=lambda item: item[0])
 
 
 def _summary(skin: SkinSpec) -> dict[str, Any]:
