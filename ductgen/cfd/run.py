@@ -127,11 +127,20 @@ def _one_mesh(
         setup.outlet_area_m2,
         setup.transition_ref_area_m2,
     )
-    volume = total_volume_m3(case_dir)
-    layers = layer_report(case_dir, LAYERS)
     return {
         **info,
         "status": "solved",
+        **_mesh_facts(case_dir, setup, stats),
+        **_run_facts(run),
+        **nums,
+    }
+
+
+def _mesh_facts(case_dir: Path, setup: Any, stats: Any) -> dict[str, Any]:
+    """What a level's ``cfd.json`` entry says of its mesh (m, m³, deg)."""
+    volume = total_volume_m3(case_dir)
+    layers = layer_report(case_dir, LAYERS)
+    return {
         "cells": stats.cells,
         "mesh_volume_m3": volume,
         "representative_cell_m": representative_size(volume, stats.cells),
@@ -145,11 +154,16 @@ def _one_mesh(
         "layer_coverage": layers.get("duct_cavity", {}).get("coverage"),
         "layer_coverage_all_layers": layers.get("duct_cavity", {}).get("coverage_all_layers"),
         "layers_by_patch": layers,
+    }
+
+
+def _run_facts(run: Any) -> dict[str, Any]:
+    """What a level's ``cfd.json`` entry says of its solve (iterations, s)."""
+    return {
         "iterations": run.iterations,
         "plateau": run.plateau,
         "flow_iterative_spread": run.flow_spread,
         "solve_s": run.seconds,
-        **nums,
     }
 
 

@@ -40,7 +40,8 @@ from ductgen.geometry.fabrication import (
 )
 from ductgen.geometry.floor import floor_section
 from ductgen.geometry.inlet import InletGeometry
-from ductgen.geometry.panel import PanelSkin, convex_curvatures
+from ductgen.geometry.panel import PanelSkin
+from ductgen.geometry.panel_surface import convex_curvatures
 from ductgen.solids.cutter import build_cutter, make_transition
 from ductgen.solids.deform import place
 from ductgen.solids.footprint import footprint_face, offset_wire, prism
