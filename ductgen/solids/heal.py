@@ -26,7 +26,7 @@ The healed shape replaces the original only if it is valid and of the same type.
 from __future__ import annotations
 
 import math
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Any
 
 if TYPE_CHECKING:  # the kernel's bindings carry no type information: these are Any to mypy
     from OCP.BRep import BRep_Builder
@@ -211,11 +211,7 @@ def extrusions_to_bspline(w: TopoDS_Shape) -> int:
     from OCP.BRep import BRep_Builder, BRep_Tool
     from OCP.BRepAdaptor import BRepAdaptor_Surface
     from OCP.BRepTools import BRepTools
-    from OCP.Geom import Geom_BSplineSurface
     from OCP.GeomAbs import GeomAbs_BSplineCurve, GeomAbs_SurfaceOfExtrusion
-    from OCP.gp import gp_Pnt
-    from OCP.TColgp import TColgp_Array2OfPnt
-    from OCP.TColStd import TColStd_Array1OfInteger, TColStd_Array1OfReal
     from OCP.TopAbs import TopAbs_FACE
     from OCP.TopExp import TopExp_Explorer
     from OCP.TopoDS import TopoDS
@@ -235,33 +231,41 @@ def extrusions_to_bspline(w: TopoDS_Shape) -> int:
         c = basis.BSpline()
         if c.IsRational() or c.IsPeriodic():
             continue
-        d = a.Direction()
         _, _, v0, v1 = BRepTools.UVBounds_s(f)
         pad = 0.01 * (v1 - v0) + 1.0
-        v0, v1 = v0 - pad, v1 + pad
-        n = c.NbPoles()
-        poles = TColgp_Array2OfPnt(1, n, 1, 2)
-        for i in range(1, n + 1):
-            p = c.Pole(i)
-            for j, v in ((1, v0), (2, v1)):
-                poles.SetValue(
-                    i, j, gp_Pnt(p.X() + v * d.X(), p.Y() + v * d.Y(), p.Z() + v * d.Z())
-                )
-        uk = TColStd_Array1OfReal(1, c.NbKnots())
-        um = TColStd_Array1OfInteger(1, c.NbKnots())
-        for i in range(1, c.NbKnots() + 1):
-            uk.SetValue(i, c.Knot(i))
-            um.SetValue(i, c.Multiplicity(i))
-        vk = TColStd_Array1OfReal(1, 2)
-        vm = TColStd_Array1OfInteger(1, 2)
-        vk.SetValue(1, v0)
-        vk.SetValue(2, v1)
-        vm.SetValue(1, 2)
-        vm.SetValue(2, 2)
-        surf = Geom_BSplineSurface(poles, uk, vk, um, vm, c.Degree(), 1)
+        surf = _extruded_bspline(c, a.Direction(), v0 - pad, v1 + pad)
         builder.UpdateFace(f, surf, f.Location(), BRep_Tool.Tolerance_s(f))
         done += 1
     return done
+
+
+def _extruded_bspline(c: Any, d: Any, v0: float, v1: float) -> Any:
+    """The B-spline surface C(u) + v·D, v0 ≤ v ≤ v1 (``c`` a non-rational B-spline curve,
+    ``d`` a ``gp_Dir``; mm): C's poles shifted by v0·D and v1·D, its knots in u, degree 1
+    in v."""
+    from OCP.Geom import Geom_BSplineSurface
+    from OCP.gp import gp_Pnt
+    from OCP.TColgp import TColgp_Array2OfPnt
+    from OCP.TColStd import TColStd_Array1OfInteger, TColStd_Array1OfReal
+
+    n = c.NbPoles()
+    poles = TColgp_Array2OfPnt(1, n, 1, 2)
+    for i in range(1, n + 1):
+        p = c.Pole(i)
+        for j, v in ((1, v0), (2, v1)):
+            poles.SetValue(i, j, gp_Pnt(p.X() + v * d.X(), p.Y() + v * d.Y(), p.Z() + v * d.Z()))
+    uk = TColStd_Array1OfReal(1, c.NbKnots())
+    um = TColStd_Array1OfInteger(1, c.NbKnots())
+    for i in range(1, c.NbKnots() + 1):
+        uk.SetValue(i, c.Knot(i))
+        um.SetValue(i, c.Multiplicity(i))
+    vk = TColStd_Array1OfReal(1, 2)
+    vm = TColStd_Array1OfInteger(1, 2)
+    vk.SetValue(1, v0)
+    vk.SetValue(2, v1)
+    vm.SetValue(1, 2)
+    vm.SetValue(2, 2)
+    return Geom_BSplineSurface(poles, uk, vk, um, vm, c.Degree(), 1)
 
 
 def off_surface_edges(shape: TopoDS_Shape) -> list[tuple[TopoDS_Shape, float]]:
