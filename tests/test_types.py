@@ -74,7 +74,7 @@ def test_strict_modules() -> None:
     strict = next(o for o in _mypy_config()["overrides"] if "ductgen.geometry.*" in o["module"])
     for flag in ("disallow_untyped_defs", "disallow_any_generics", "warn_return_any"):
         assert strict.get(flag) is True, f"geometry/ is checked strictly: {flag}"
-    assert {"ductgen.flow.*", "ductgen.design", "ductgen.design.build"} <= set(strict["module"]), (
+    assert {"ductgen.flow.*", "ductgen.design", "ductgen.design.*"} <= set(strict["module"]), (
         "flow/ and design/ are checked as strictly as geometry/"
     )
     for m in strict["module"]:

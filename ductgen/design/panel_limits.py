@@ -103,7 +103,8 @@ def crease_limit(step: float) -> float:
 def _turn(ps: PanelSkin, uv_a: np.ndarray, uv_b: np.ndarray) -> np.ndarray:
     """Angles (rad) between the panel normals at paired design points."""
     na, nb = ps.normal(uv_a), ps.normal(uv_b)
-    return np.arccos(np.clip(np.sum(na * nb, axis=1), -1.0, 1.0))
+    out: np.ndarray = np.arccos(np.clip(np.sum(na * nb, axis=1), -1.0, 1.0))
+    return out
 
 
 def check_limits(
