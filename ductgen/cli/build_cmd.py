@@ -8,7 +8,7 @@ from typing import TYPE_CHECKING, Annotated
 
 import typer
 
-from ductgen.cli.common import err_console
+from ductgen.cli.common import NoCacheOption, QualityOption, QuietOption, err_console
 
 if TYPE_CHECKING:
     from ductgen.pipeline import BuildResult
@@ -23,18 +23,12 @@ _Only = Annotated[
     str | None, typer.Option("--only", help="comma list of outputs, e.g. cutter,template")
 ]
 _Force = Annotated[bool, typer.Option("--force", help="replace existing files")]
-_Quality = Annotated[str, typer.Option("--quality", help="STL tessellation: draft | normal | fine")]
 _Kerf = Annotated[
     float | None,
     typer.Option("--kerf", help="cutter kerf (mm): the template's opening shrinks by kerf/2"),
 ]
 _Paper = Annotated[str | None, typer.Option("--paper", help="template paper: A4 | Letter")]
-_Quiet = Annotated[bool, typer.Option("--quiet", "-q", help="print nothing on success")]
 _AsJson = Annotated[bool, typer.Option("--json", help="print report.json to stdout")]
-_NoCache = Annotated[
-    bool,
-    typer.Option("--no-cache", help="build every solid, neither reading nor filling the cache"),
-]
 
 
 def build_command(
@@ -42,12 +36,12 @@ def build_command(
     out: _Out = None,
     only: _Only = None,
     force: _Force = False,
-    quality: _Quality = "normal",
+    quality: QualityOption = "normal",
     kerf: _Kerf = None,
     paper: _Paper = None,
-    quiet: _Quiet = False,
+    quiet: QuietOption = False,
     as_json: _AsJson = False,
-    no_cache: _NoCache = False,
+    no_cache: NoCacheOption = False,
 ) -> None:
     """Build solids, files and report.json from a spec."""
     from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn

@@ -3,10 +3,22 @@
 from __future__ import annotations
 
 from pathlib import Path
+from typing import Annotated
 
+import typer
 from rich.console import Console
 
-__all__ = ["err_console", "out_folder"]
+__all__ = ["NoCacheOption", "QualityOption", "QuietOption", "err_console", "out_folder"]
+
+# Options more than one command takes, with one wording (typer reads them from annotations).
+QuietOption = Annotated[bool, typer.Option("--quiet", "-q", help="print nothing on success")]
+QualityOption = Annotated[
+    str, typer.Option("--quality", help="STL tessellation: draft | normal | fine")
+]
+NoCacheOption = Annotated[
+    bool,
+    typer.Option("--no-cache", help="build every solid, neither reading nor filling the cache"),
+]
 
 #: stderr console; user text is never read as markup or emoji codes (``120:100:10`` stays).
 err_console = Console(stderr=True, highlight=False, emoji=False, markup=False)

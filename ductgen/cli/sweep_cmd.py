@@ -8,7 +8,7 @@ from typing import TYPE_CHECKING, Annotated
 
 import typer
 
-from ductgen.cli.common import err_console
+from ductgen.cli.common import NoCacheOption, QualityOption, QuietOption, err_console
 
 if TYPE_CHECKING:
     from ductgen.sweep.results import SweepResult, VariantResult
@@ -91,7 +91,6 @@ _Jobs = Annotated[
     int | None, typer.Option("-j", "--jobs", help="worker processes [default: all cores]")
 ]
 _Only = Annotated[str | None, typer.Option("--only", help="comma list of outputs [default: all]")]
-_Quality = Annotated[str, typer.Option("--quality", help="STL tessellation: draft | normal | fine")]
 _Baseline = Annotated[
     str | None,
     typer.Option("--baseline", help="variant id the solids are compared with [default: first]"),
@@ -113,12 +112,7 @@ _MaxVariants = Annotated[
 _Cfd = Annotated[
     bool, typer.Option("--cfd", help="run the OpenFOAM check (coarse mesh) per variant")
 ]
-_Quiet = Annotated[bool, typer.Option("--quiet", "-q", help="print nothing on success")]
 _AsJson = Annotated[bool, typer.Option("--json", help="print comparison.json to stdout")]
-_NoCache = Annotated[
-    bool,
-    typer.Option("--no-cache", help="build every solid, neither reading nor filling the cache"),
-]
 
 
 def sweep_command(
@@ -128,15 +122,15 @@ def sweep_command(
     out: _Out = None,
     jobs: _Jobs = None,
     only: _Only = None,
-    quality: _Quality = "normal",
+    quality: QualityOption = "normal",
     baseline: _Baseline = None,
     scheduler: _Scheduler = None,
     yes: _Yes = False,
     max_variants: _MaxVariants = None,
     cfd: _Cfd = False,
-    quiet: _Quiet = False,
+    quiet: QuietOption = False,
     as_json: _AsJson = False,
-    no_cache: _NoCache = False,
+    no_cache: NoCacheOption = False,
 ) -> None:
     """Build variants of a spec in parallel and compare them side by side."""
     from ductgen.cli.common import out_folder
