@@ -111,7 +111,11 @@ MIN_RAY_FACE_HEIGHT_MM = 0.05
 
 
 def min_wall_mm(
-    vertices: np.ndarray, faces: np.ndarray, max_rays: int = 8000, seed: int = 0
+    vertices: np.ndarray,
+    faces: np.ndarray,
+    max_rays: int = 8000,
+    seed: int = 0,
+    starts_within: np.ndarray | None = None,
 ) -> dict[str, Any]:
     """Thinnest wall found by inward ray casting (mm) and where it is.
 
@@ -125,7 +129,10 @@ def min_wall_mm(
     :data:`MIN_RAY_FACE_HEIGHT_MM` high over its longest edge): on a mesh carried onto a
     curved skin, slivers along an edge have their three corners on a bent curve and a normal
     pointing anywhere across it, and their rays found walls of 0.001 mm that are not there;
-    the faces beside them sample the same wall.
+    the faces beside them sample the same wall. With ``starts_within`` (a closed plan
+    polygon, (N, 2) mm in the mesh's x, y), rays start only on faces whose centroid lies
+    inside it: where a part is thin by design outside it (a feathered edge), that taper is
+    not a wall to judge.
     """
     intersector: Any  # one of two classes of the same interface
     try:  # Intel Embree through embreex: ~70x faster than trimesh's numpy intersector
@@ -139,7 +146,12 @@ def min_wall_mm(
     longest = np.linalg.norm(corners[:, [1, 2, 0]] - corners, axis=2).max(axis=1)
     height = 2.0 * area / np.maximum(longest, 1e-12)
     # rays start only on faces whose normal means something at this scale (see the text)
-    idx = np.flatnonzero(height >= MIN_RAY_FACE_HEIGHT_MM)
+    usable = height >= MIN_RAY_FACE_HEIGHT_MM
+    if starts_within is not None:
+        from matplotlib.path import Path as PlanPath
+
+        usable &= PlanPath(np.asarray(starts_within)).contains_points(cen[:, :2])
+    idx = np.flatnonzero(usable)
     if len(idx) == 0:
         return {"min_wall_mm": None, "at_mm": None, "rays": 0}
     if len(idx) > max_rays:
@@ -156,7 +168,9 @@ def min_wall_mm(
     fa, fb = m.faces[idx[ray_idx]], m.faces[tri]
     touching = (fa[:, :, None] == fb[:, None, :]).any(axis=(1, 2))
     exits = np.einsum("ij,ij->i", m.face_normals[tri], dirs[ray_idx]) > 0.25  # not grazing
-    ok = (dist > 1e-3) & ~touching & exits
+    # nor do hits on slivers: the same meaningless normals, and a sliver strip along a
+    # curved seam lies within hundredths of a millimetre of its neighbours
+    ok = (dist > 1e-3) & ~touching & exits & (height[tri] >= MIN_RAY_FACE_HEIGHT_MM)
     dist, ray_idx, locs = dist[ok], ray_idx[ok], locs[ok]
     best = np.full(len(idx), np.inf)
     np.minimum.at(best, ray_idx, dist)
@@ -202,10 +216,14 @@ def print_section(
     material: str = "PETG",
     near_heat: bool = False,
     service_temperature_c: float | None = None,
+    by_design_thin: tuple[np.ndarray, str] | None = None,
 ) -> tuple[dict[str, Any], list[DesignWarning]]:
-    """The ``print`` report section and its warnings for one printed part."""
+    """The ``print`` report section and its warnings for one printed part.
+    ``by_design_thin``: (plan polygon, words) — the wall is judged only inside the polygon
+    (:func:`min_wall_mm`'s ``starts_within``), and the words say what lies outside it."""
     health = mesh_health(vertices, faces)
-    wall = min_wall_mm(vertices, faces)
+    inside = None if by_design_thin is None else by_design_thin[0]
+    wall = min_wall_mm(vertices, faces, starts_within=inside)
     over = overhang_by_orientation(vertices, faces)
     up = min(over, key=over.__getitem__)
     mat = load_materials()[material]
@@ -224,6 +242,7 @@ def print_section(
         "overhang_area_mm2": over[up],
         "overhang_area_by_up_mm2": over,
         "bbox_size_mm": health["bbox_size_mm"],
+        **({} if by_design_thin is None else {"min_wall_excludes": by_design_thin[1]}),
         "sources": "walls, overhang: FDM common practice, no source; "
         "material values recalled from typical data sheets",
     }

@@ -13,6 +13,8 @@ import json
 from dataclasses import dataclass, field
 from typing import Any
 
+import numpy as np
+
 from ductgen.design import Design
 from ductgen.design.record import SkinRecord, TemplateRecord
 from ductgen.errors import DesignWarning
@@ -170,6 +172,33 @@ def _print_mesh(d: Design, mesh: Mesh) -> tuple[Any, Any]:
     return (verts if frame is None else frame.to_local(verts)), faces
 
 
+#: How far inside a surface bezel's feathered band the wall check stops (mm): covers the
+#: bezel's own height across a sloping skin; the bezel there is still full thickness.
+FEATHER_CHECK_MARGIN_MM = 0.5
+
+
+def _feathered_band(d: Design) -> tuple[np.ndarray, str] | None:
+    """For a surface bezel with a feathered edge: the plan polygon inside which the insert's
+    walls are judged, and the report's words on what lies outside it; else None."""
+    from ductgen.geometry.fabrication import FEATHER_LAND_MM, feather_inner_edge
+
+    ins = d.fab.insert
+    inner = feather_inner_edge(d.geometry, ins, FEATHER_CHECK_MARGIN_MM)
+    if inner is None:
+        return None
+    # into the print mesh's frame (_print_mesh): the plan line carried onto the skin, whose
+    # x, y move from the plan's by millimetres on a curved skin
+    on_skin = d.skin.to_model(np.column_stack([inner, np.zeros(len(inner))]))
+    frame = d.panel_frame
+    inner = (on_skin if frame is None else frame.to_local(on_skin))[:, :2]
+    words = (
+        f"the surface bezel's outer {ins.feather_width + FEATHER_CHECK_MARGIN_MM:g} mm, "
+        f"feathered by design from {ins.bezel_thickness:g} mm to a "
+        f"{min(FEATHER_LAND_MM, ins.bezel_thickness / 2.0):g} mm land at its edge"
+    )
+    return inner, words
+
+
 def _print_section(
     spec: Spec, d: Design, solids: dict[str, SolidResult]
 ) -> tuple[dict[str, Any] | None, list[DesignWarning]]:
@@ -182,7 +211,12 @@ def _print_section(
     if "insert" in solids:
         verts, faces = _print_mesh(d, solids["insert"].mesh)
         section, warns = print_section(
-            verts, faces, ins.material, ins.near_heat, ins.service_temperature
+            verts,
+            faces,
+            ins.material,
+            ins.near_heat,
+            ins.service_temperature,
+            _feathered_band(d),
         )
         warnings += warns
     if "plug" in solids:

@@ -146,12 +146,10 @@ def test_min_wall_on_every_sample(path: Path) -> None:
         deep = d.geometry.drop_mm + spec.insert.wall
         need = spec.insert.wall * (1.0 - k * deep) - 0.05
     wall = min_wall_mm(v, f)
-    # measured by ray casting on the check mesh (0.05 mm chord): ≥ insert.wall − 0.05 mm;
-    # on the mapped meshes of curved skins a few rays (< 1 %) report spurious hits of
-    # ~0.001 mm near the duct (an open defect of the mapped meshes), so there the
-    # 1st percentile is held to the bound
-    measured = wall["min_wall_mm"] if d.placement.curvature == 0.0 else wall["p01_wall_mm"]
-    assert measured >= need, wall
+    # measured by ray casting on the check mesh (0.05 mm chord): ≥ insert.wall − 0.05 mm
+    # (rays neither start on nor stop at slivers, whose normals mean nothing on a mesh
+    # carried onto a curved skin)
+    assert wall["min_wall_mm"] >= need, wall
     assert mesh_stats(v, f)[0]
 
 

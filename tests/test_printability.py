@@ -30,6 +30,42 @@ def test_min_wall_of_a_hollow_box_is_its_wall() -> None:
     assert min_wall_mm(plate.vertices, plate.faces)["min_wall_mm"] == pytest.approx(1.0, abs=1e-6)
 
 
+def _feathered_plate() -> trimesh.Trimesh:
+    """A plate 2 mm thick over 0 ≤ x ≤ 20 mm whose edge tapers to a 0.4 mm land at x = 26,
+    30 mm wide in y (a bezel's feathered edge in section): convex, so its hull is the part."""
+    section = [(0.0, 0.0), (26.0, 0.0), (26.0, 0.4), (20.0, 2.0), (0.0, 2.0)]
+    pts = [(x, y, z) for x, z in section for y in (0.0, 30.0)]
+    return trimesh.convex.convex_hull(np.array(pts))
+
+
+def test_min_wall_skips_a_feather_outside_the_given_plan_outline() -> None:
+    m = _feathered_plate()
+    anywhere = min_wall_mm(m.vertices, m.faces)["min_wall_mm"]
+    assert anywhere < 1.2  # the taper reads as a thin wall when it is judged
+    plan = np.array([[-1.0, -1.0], [19.5, -1.0], [19.5, 31.0], [-1.0, 31.0]])
+    inside = min_wall_mm(m.vertices, m.faces, starts_within=plan)
+    assert inside["min_wall_mm"] == pytest.approx(2.0, abs=1e-6)  # the plate's thickness
+    sec, warns = print_section(
+        m.vertices, m.faces, "PETG", by_design_thin=(plan, "a feathered edge, by design")
+    )
+    assert sec["min_wall_excludes"] == "a feathered edge, by design"
+    assert "print_thin_wall" not in {w.code for w in warns}
+    assert "print_thin_wall" in {w.code for w in print_section(m.vertices, m.faces)[1]}
+
+
+def test_min_wall_ignores_hits_on_slivers() -> None:
+    # a 2 mm plate with a sliver triangle (0.01 mm high over a 30 mm edge) just under its
+    # top: rays from the top would read a 0.01 mm wall on it; a sliver's normal means
+    # nothing (on meshes carried onto a curved skin such strips lie along bent edges)
+    plate = trimesh.creation.box(extents=(40.0, 30.0, 2.0))
+    z = 1.0 - 0.01
+    sliver = np.array([[-15.0, -5.005, z], [15.0, -5.005, z], [0.0, -4.995, z]])
+    v = np.vstack([plate.vertices, sliver])
+    n = len(plate.vertices)
+    f = np.vstack([plate.faces, [[n, n + 1, n + 2], [n, n + 2, n + 1]]])
+    assert min_wall_mm(v, f)["min_wall_mm"] == pytest.approx(2.0, abs=1e-6)
+
+
 def test_overhang_of_a_hollow_box() -> None:
     m = _hollow_box(20.0, 2.0)
     over = overhang_by_orientation(m.vertices, m.faces)

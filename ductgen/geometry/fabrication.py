@@ -37,6 +37,7 @@ if TYPE_CHECKING:
 
 __all__ = [
     "BEAD_WIDTH_PER_HEIGHT",
+    "FEATHER_LAND_MM",
     "LEAD_IN_MM",
     "Fabrication",
     "FlangeLayout",
@@ -44,6 +45,7 @@ __all__ = [
     "InsertParams",
     "PlugParams",
     "Spigot",
+    "feather_inner_edge",
     "flange_layout",
     "footprint_end_mm",
     "plug_trim_outline",
@@ -55,6 +57,8 @@ __all__ = [
 #: Spigot: straight lead-in beyond the bead at the free end (mm); bead width = 2.5 × height.
 LEAD_IN_MM = 3.0
 BEAD_WIDTH_PER_HEIGHT = 2.5
+#: Thickness left at a surface bezel's feathered edge (mm): about one 0.4 mm nozzle width.
+FEATHER_LAND_MM = 0.4
 
 
 @dataclass(frozen=True)
@@ -108,6 +112,20 @@ def footprint_end_mm(g: InletGeometry) -> float:
     if g.lip.style == "raised":
         end += g.lip.fairing_length_mm
     return end
+
+
+def feather_inner_edge(
+    g: InletGeometry, ins: InsertParams, margin_mm: float = 0.0, n: int = 400
+) -> np.ndarray | None:
+    """Where a surface bezel's feathered band begins, in plan (CCW (N, 2), mm): outside this
+    outline the bezel tapers from ``bezel_thickness`` to :data:`FEATHER_LAND_MM` at its edge
+    by design. The bezel's outer edge is the footprint offset by wall + edge round + flange
+    width, the band ``feather_width`` wide inside it; ``margin_mm`` moves the line that much
+    further in. None for a flange behind the skin or an unfeathered bezel."""
+    if ins.mount != "surface" or ins.feather_width <= 0.0:
+        return None
+    d = ins.wall + g.edge_radius_mm + ins.flange_width - ins.feather_width - margin_mm
+    return offset_outline(footprint_pieces(g.planform, footprint_end_mm(g), n), max(d, 0.0))
 
 
 def plug_trim_outline(g: InletGeometry, plug: PlugParams, n: int = 400) -> np.ndarray:

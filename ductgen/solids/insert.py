@@ -31,6 +31,7 @@ import numpy as np
 from ductgen.design import Design
 from ductgen.errors import GeometryError
 from ductgen.geometry.fabrication import (
+    FEATHER_LAND_MM,
     FlangeLayout,
     InsertParams,
     Spigot,
@@ -54,7 +55,6 @@ from ductgen.solids.primitives import (
 )
 
 __all__ = [
-    "FEATHER_LAND_MM",
     "build_insert",
     "convex_curvature",
     "floor_profile_solid",
@@ -62,8 +62,6 @@ __all__ = [
 ]
 
 V = cq.Vector
-#: Thickness left at the feathered bezel edge (mm): about one 0.4 mm nozzle width.
-FEATHER_LAND_MM = 0.4
 
 
 def floor_profile_solid(
