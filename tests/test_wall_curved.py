@@ -74,9 +74,8 @@ def test_round_cowling_walls_are_the_design_wall_at_every_depth(tmp_path) -> Non
 def test_kitcar_min_wall_is_the_design_wall(tmp_path) -> None:  # type: ignore[no-untyped-def]
     # spurious 0.001 mm walls were found on the mapped mesh (slivers along bent edges)
     from ductgen.pipeline import build
-    from ductgen.spec.load import load_spec
-
     from ductgen.printability import min_wall_mm
+    from ductgen.spec.load import load_spec
 
     spec = load_spec(ROOT / "samples" / "kitcar-bonnet-intake.toml")
     res = build(spec, tmp_path, only=["insert"], cache=False)
