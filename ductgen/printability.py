@@ -128,62 +128,85 @@ def min_wall_mm(
     do not read as thin walls. No ray starts on a sliver (a triangle less than
     :data:`MIN_RAY_FACE_HEIGHT_MM` high over its longest edge): on a mesh carried onto a
     curved skin, slivers along an edge have their three corners on a bent curve and a normal
-    pointing anywhere across it, and their rays found walls of 0.001 mm that are not there;
-    the faces beside them sample the same wall. With ``starts_within`` (a closed plan
+    pointing anywhere across it, and their rays found walls of 0.001 mm that are not there
+    (the faces beside them sample the same wall); nor does a hit on a sliver count. With ``starts_within`` (a closed plan
     polygon, (N, 2) mm in the mesh's x, y), rays start only on faces whose centroid lies
     inside it: where a part is thin by design outside it (a feathered edge), that taper is
     not a wall to judge.
     """
-    intersector: Any  # one of two classes of the same interface
-    try:  # Intel Embree through embreex: ~70x faster than trimesh's numpy intersector
-        from trimesh.ray.ray_pyembree import RayMeshIntersector as intersector
-    except ImportError:  # pragma: no cover - platforms without an embreex wheel
-        from trimesh.ray.ray_triangle import RayMeshIntersector as intersector
-
     m = _trimesh(vertices, faces)
-    cen, nrm, area = m.triangles_center, m.face_normals, m.area_faces
-    corners = m.vertices[m.faces]
-    longest = np.linalg.norm(corners[:, [1, 2, 0]] - corners, axis=2).max(axis=1)
-    height = 2.0 * area / np.maximum(longest, 1e-12)
-    # rays start only on faces whose normal means something at this scale (see the text)
-    usable = height >= MIN_RAY_FACE_HEIGHT_MM
-    if starts_within is not None:
-        from matplotlib.path import Path as PlanPath
-
-        usable &= PlanPath(np.asarray(starts_within)).contains_points(cen[:, :2])
-    idx = np.flatnonzero(usable)
+    height = _face_heights(m)
+    idx = _ray_starts(m, height, max_rays, seed, starts_within)
     if len(idx) == 0:
         return {"min_wall_mm": None, "at_mm": None, "rays": 0}
-    if len(idx) > max_rays:
-        rng = np.random.default_rng(seed)
-        pick = rng.choice(idx, size=max_rays, replace=False, p=area[idx] / area[idx].sum())
-        idx = np.union1d(pick, rng.choice(idx, size=max_rays // 4, replace=False))
-    origins = cen[idx] - 1e-4 * nrm[idx]
-    dirs = -nrm[idx]
-    ray = intersector(m)
-    locs, ray_idx, tri = ray.intersects_location(origins, dirs, multiple_hits=True)
-    if len(ray_idx) == 0:
-        return {"min_wall_mm": None, "at_mm": None, "rays": len(idx)}
-    dist = np.linalg.norm(locs - origins[ray_idx], axis=1) + 1e-4  # from the surface itself
-    fa, fb = m.faces[idx[ray_idx]], m.faces[tri]
-    touching = (fa[:, :, None] == fb[:, None, :]).any(axis=(1, 2))
-    exits = np.einsum("ij,ij->i", m.face_normals[tri], dirs[ray_idx]) > 0.25  # not grazing
-    # nor do hits on slivers: the same meaningless normals, and a sliver strip along a
-    # curved seam lies within hundredths of a millimetre of its neighbours
-    ok = (dist > 1e-3) & ~touching & exits & (height[tri] >= MIN_RAY_FACE_HEIGHT_MM)
-    dist, ray_idx, locs = dist[ok], ray_idx[ok], locs[ok]
-    best = np.full(len(idx), np.inf)
-    np.minimum.at(best, ray_idx, dist)
+    best = _wall_along_rays(m, height, idx)
     finite = np.isfinite(best)
     if not finite.any():
         return {"min_wall_mm": None, "at_mm": None, "rays": len(idx)}
     k = int(np.argmin(np.where(finite, best, np.inf)))
     return {
         "min_wall_mm": float(best[k]),
-        "at_mm": cen[idx[k]].round(3).tolist(),
+        "at_mm": m.triangles_center[idx[k]].round(3).tolist(),
         "p01_wall_mm": float(np.percentile(best[finite], 1)),
         "rays": len(idx),
     }
+
+
+def _face_heights(m: trimesh.Trimesh) -> np.ndarray:
+    """Each triangle's height over its longest edge (mm)."""
+    corners = m.vertices[m.faces]
+    longest = np.linalg.norm(corners[:, [1, 2, 0]] - corners, axis=2).max(axis=1)
+    return np.asarray(2.0 * m.area_faces / np.maximum(longest, 1e-12))
+
+
+def _ray_starts(
+    m: trimesh.Trimesh,
+    height: np.ndarray,
+    max_rays: int,
+    seed: int,
+    starts_within: np.ndarray | None,
+) -> np.ndarray:
+    """Indices of the faces rays start on (:func:`min_wall_mm`'s rules)."""
+    # rays start only on faces whose normal means something at this scale
+    usable = height >= MIN_RAY_FACE_HEIGHT_MM
+    if starts_within is not None:
+        from matplotlib.path import Path as PlanPath
+
+        usable &= PlanPath(np.asarray(starts_within)).contains_points(m.triangles_center[:, :2])
+    idx = np.flatnonzero(usable)
+    if len(idx) > max_rays:
+        area = m.area_faces
+        rng = np.random.default_rng(seed)
+        pick = rng.choice(idx, size=max_rays, replace=False, p=area[idx] / area[idx].sum())
+        idx = np.union1d(pick, rng.choice(idx, size=max_rays // 4, replace=False))
+    return idx
+
+
+def _wall_along_rays(m: trimesh.Trimesh, height: np.ndarray, idx: np.ndarray) -> np.ndarray:
+    """The wall (mm) each ray from the faces ``idx`` crosses before it leaves the material
+    (inf where no hit counts; :func:`min_wall_mm`'s rules)."""
+    intersector: Any  # one of two classes of the same interface
+    try:  # Intel Embree through embreex: ~70x faster than trimesh's numpy intersector
+        from trimesh.ray.ray_pyembree import RayMeshIntersector as intersector
+    except ImportError:  # pragma: no cover - platforms without an embreex wheel
+        from trimesh.ray.ray_triangle import RayMeshIntersector as intersector
+
+    nrm = m.face_normals
+    origins = m.triangles_center[idx] - 1e-4 * nrm[idx]
+    dirs = -nrm[idx]
+    best = np.full(len(idx), np.inf)
+    locs, ray_idx, tri = intersector(m).intersects_location(origins, dirs, multiple_hits=True)
+    if len(ray_idx) == 0:
+        return best
+    dist = np.linalg.norm(locs - origins[ray_idx], axis=1) + 1e-4  # from the surface itself
+    fa, fb = m.faces[idx[ray_idx]], m.faces[tri]
+    touching = (fa[:, :, None] == fb[:, None, :]).any(axis=(1, 2))
+    exits = np.einsum("ij,ij->i", nrm[tri], dirs[ray_idx]) > 0.25  # not grazing
+    # nor do hits on slivers: the same meaningless normals, and a sliver strip along a
+    # curved seam lies within hundredths of a millimetre of its neighbours
+    ok = (dist > 1e-3) & ~touching & exits & (height[tri] >= MIN_RAY_FACE_HEIGHT_MM)
+    np.minimum.at(best, ray_idx[ok], dist[ok])
+    return best
 
 
 def overhang_by_orientation(vertices: np.ndarray, faces: np.ndarray) -> dict[str, float]:
