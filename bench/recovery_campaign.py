@@ -557,12 +557,16 @@ def _collect(args: argparse.Namespace) -> None:
         "point; not a measurement",
     ]
     studies = sorted((RESULTS / fp).glob("study-p[0-9][0-9][0-9].json"))
+    if args.mesh_study:  # a study made under other settings, named as such in the header
+        studies = [Path(args.mesh_study)]
     for st in studies:  # the campaign's mesh uncertainty: the GCI study of one point
         g = json.loads(st.read_text())["cfd"]["study"]["ram_recovery_flow_avg"]
+        other = st.parent.name != fp
         head += [
             f"mesh_uncertainty_rel: {g['uncertainty_rel']:.4g}",
             f"mesh uncertainty basis: {g['uncertainty_basis']} of the flow-averaged recovery, "
-            f"coarse/medium/fine study of point {st.stem[6:]} (Celik et al. 2008)",
+            f"coarse/medium/fine study of point {st.stem[6:]} (Celik et al. 2008)"
+            + (f", made under settings {st.parent.name}: {args.mesh_study_why}" if other else ""),
         ]
         break
     else:
@@ -707,6 +711,16 @@ def main(argv: list[str] | None = None) -> None:
     col.add_argument("--fingerprint", default=None)
     col.add_argument("--out", default=None)
     col.add_argument("--to-data", action="store_true", help=f"write {DATA_CSV.name}")
+    col.add_argument(
+        "--mesh-study",
+        default=None,
+        help="a study-pNNN.json of other settings to state the mesh uncertainty from",
+    )
+    col.add_argument(
+        "--mesh-study-why",
+        default="the same meshes and solver settings",
+        help="why that study applies (written into the table's header)",
+    )
     fig = sub.add_parser("figure", help="recovery vs IVR: CFD, capture model, recalled band")
     fig.add_argument("--fingerprint", default=None)
     fig.add_argument("--out", default=None)
