@@ -129,10 +129,10 @@ def min_wall_mm(
     :data:`MIN_RAY_FACE_HEIGHT_MM` high over its longest edge): on a mesh carried onto a
     curved skin, slivers along an edge have their three corners on a bent curve and a normal
     pointing anywhere across it, and their rays found walls of 0.001 mm that are not there
-    (the faces beside them sample the same wall); nor does a hit on a sliver count. With ``starts_within`` (a closed plan
-    polygon, (N, 2) mm in the mesh's x, y), rays start only on faces whose centroid lies
-    inside it: where a part is thin by design outside it (a feathered edge), that taper is
-    not a wall to judge.
+    (the faces beside them sample the same wall); nor does a hit on a sliver count. With
+    ``starts_within`` (a closed plan polygon, (N, 2) mm in the mesh's x, y), rays start only
+    on faces whose centroid lies inside it: where a part is thin by design outside it (a
+    feathered edge), that taper is not a wall to judge.
     """
     m = _trimesh(vertices, faces)
     height = _face_heights(m)
