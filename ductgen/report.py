@@ -180,7 +180,7 @@ FEATHER_CHECK_MARGIN_MM = 0.5
 def _feathered_band(d: Design) -> tuple[np.ndarray, str] | None:
     """For a surface bezel with a feathered edge: the plan polygon inside which the insert's
     walls are judged, and the report's words on what lies outside it; else None."""
-    from ductgen.geometry.fabrication import FEATHER_LAND_MM, feather_inner_edge
+    from ductgen.geometry.fabrication import bezel_land_mm, feather_inner_edge
 
     ins = d.fab.insert
     inner = feather_inner_edge(d.geometry, ins, FEATHER_CHECK_MARGIN_MM)
@@ -194,7 +194,7 @@ def _feathered_band(d: Design) -> tuple[np.ndarray, str] | None:
     words = (
         f"the surface bezel's outer {ins.feather_width + FEATHER_CHECK_MARGIN_MM:g} mm, "
         f"feathered by design from {ins.bezel_thickness:g} mm to a "
-        f"{min(FEATHER_LAND_MM, ins.bezel_thickness / 2.0):g} mm land at its edge"
+        f"{bezel_land_mm(ins):g} mm land at its edge"
     )
     return inner, words
 

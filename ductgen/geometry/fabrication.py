@@ -45,6 +45,8 @@ __all__ = [
     "InsertParams",
     "PlugParams",
     "Spigot",
+    "bezel_land_mm",
+    "bezel_offsets_mm",
     "feather_inner_edge",
     "flange_layout",
     "footprint_end_mm",
@@ -114,17 +116,30 @@ def footprint_end_mm(g: InletGeometry) -> float:
     return end
 
 
+def bezel_offsets_mm(g: InletGeometry, ins: InsertParams) -> tuple[float, float]:
+    """A surface bezel's two plan edges as outward offsets of the footprint (mm): where its
+    feathered band begins (``feather_width`` inside the edge) and its outer edge (wall +
+    edge round + flange width)."""
+    outer = ins.wall + g.edge_radius_mm + ins.flange_width
+    return outer - ins.feather_width, outer
+
+
+def bezel_land_mm(ins: InsertParams) -> float:
+    """Thickness of a surface bezel at its feathered edge (mm): :data:`FEATHER_LAND_MM`, at
+    most half the bezel."""
+    return min(FEATHER_LAND_MM, ins.bezel_thickness / 2.0)
+
+
 def feather_inner_edge(
     g: InletGeometry, ins: InsertParams, margin_mm: float = 0.0, n: int = 400
 ) -> np.ndarray | None:
     """Where a surface bezel's feathered band begins, in plan (CCW (N, 2), mm): outside this
     outline the bezel tapers from ``bezel_thickness`` to :data:`FEATHER_LAND_MM` at its edge
-    by design. The bezel's outer edge is the footprint offset by wall + edge round + flange
-    width, the band ``feather_width`` wide inside it; ``margin_mm`` moves the line that much
-    further in. None for a flange behind the skin or an unfeathered bezel."""
+    by design (:func:`bezel_offsets_mm`); ``margin_mm`` moves the line that much further
+    in. None for a flange behind the skin or an unfeathered bezel."""
     if ins.mount != "surface" or ins.feather_width <= 0.0:
         return None
-    d = ins.wall + g.edge_radius_mm + ins.flange_width - ins.feather_width - margin_mm
+    d = bezel_offsets_mm(g, ins)[0] - margin_mm
     return offset_outline(footprint_pieces(g.planform, footprint_end_mm(g), n), max(d, 0.0))
 
 

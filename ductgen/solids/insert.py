@@ -31,10 +31,11 @@ import numpy as np
 from ductgen.design import Design
 from ductgen.errors import GeometryError
 from ductgen.geometry.fabrication import (
-    FEATHER_LAND_MM,
     FlangeLayout,
     InsertParams,
     Spigot,
+    bezel_land_mm,
+    bezel_offsets_mm,
     footprint_end_mm,
     transition_wall_mm,
     wall_for_curvature,
@@ -277,8 +278,9 @@ def _skin_and_flange(
     g: InletGeometry, ins: InsertParams, lay: FlangeLayout, off: float
 ) -> list[cq.Shape]:
     """The skin fill (the cut-out through the skin's thickness) and the flange behind the
-    skin, or the surface bezel (feathered to :data:`FEATHER_LAND_MM`), holes drilled; ``off``
-    the walls' reach beyond the cavity (mm)."""
+    skin, or the surface bezel (feathered to
+    :func:`~ductgen.geometry.fabrication.bezel_land_mm`), holes drilled; ``off`` the walls'
+    reach beyond the cavity (mm)."""
     x_top = footprint_end_mm(g)
     square = g.transition is None and x_top == g.throat_end_mm
     pieces: list[cq.Shape] = [
@@ -289,11 +291,12 @@ def _skin_and_flange(
         pieces.append(_drilled(prism(outline, lay.z_bottom_mm, lay.z_top_mm), lay))
         return pieces
     tb = ins.bezel_thickness
-    land = min(FEATHER_LAND_MM, tb / 2.0)
+    land = bezel_land_mm(ins)
     pieces.append(_drilled(prism(outline, 0.0, land), lay))
     if ins.feather_width > 0:
-        inset = offset_wire(g, x_top, off + ins.flange_width - ins.feather_width)
-        edge = offset_wire(g, x_top, off + ins.flange_width)
+        d_inset, d_edge = bezel_offsets_mm(g, ins)
+        inset = offset_wire(g, x_top, d_inset)
+        edge = offset_wire(g, x_top, d_edge)
         pieces.append(
             cq.Solid.makeLoft([edge.translate(V(0, 0, land)), inset.translate(V(0, 0, tb))], True)
         )
