@@ -31,13 +31,17 @@ __all__ = ["read_step", "step_bytes", "step_bytes_healed", "stl_bytes"]
 _NOISE = re.compile(rb"(?<![\w.#])-?\d\.\d*E-(?:1[3-9]|[2-9]\d|\d{3})(?![\w.])")
 
 
-def step_bytes(shape: Any, name: str = "ductgen", unit: str = "mm") -> bytes:
+def step_bytes(
+    shape: Any, name: str = "ductgen", unit: str = "mm", exact_edges: bool = True
+) -> bytes:
     """Encode a cadquery shape as a STEP AP214 file in ``unit`` (lengths stay in mm inside),
-    healed (:func:`heal`), time-stamped with the build date."""
-    return step_bytes_healed(shape, name, unit)[0]
+    healed (:func:`heal`, ``exact_edges`` passed on), time-stamped with the build date."""
+    return step_bytes_healed(shape, name, unit, exact_edges)[0]
 
 
-def step_bytes_healed(shape: Any, name: str = "ductgen", unit: str = "mm") -> tuple[bytes, Any]:
+def step_bytes_healed(
+    shape: Any, name: str = "ductgen", unit: str = "mm", exact_edges: bool = True
+) -> tuple[bytes, Any]:
     """:func:`step_bytes` and the healed shape it wrote (a ``TopoDS_Shape``, mm): what a
     reader of the file gets, for later work on the same solid without reading it back."""
     from OCP.IFSelect import IFSelect_RetDone
@@ -53,7 +57,7 @@ def step_bytes_healed(shape: Any, name: str = "ductgen", unit: str = "mm") -> tu
     Interface_Static.SetCVal_s("write.step.product.name", name)
     from OCP.ShapeAnalysis import ShapeAnalysis_ShapeTolerance
 
-    healed = heal(shape.wrapped)
+    healed = heal(shape.wrapped, exact_edges)
     # the file's uncertainty: the greatest edge tolerance, so a reader's edges cover their
     # measured deviation (session value: mode 2)
     Interface_Static.SetIVal_s("write.precision.mode", 2)

@@ -11,7 +11,6 @@ face is exact: the walls are the table's Hermite cubic, not a loft approximation
 from __future__ import annotations
 
 import math
-from typing import cast
 
 import cadquery as cq
 
@@ -21,6 +20,7 @@ from ductgen.geometry.floor import floor_section
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.geometry.transition import Transition
 from ductgen.solids.deform import place
+from ductgen.solids.edge_round import rounded_prism
 from ductgen.solids.primitives import (
     arc3,
     boolean,
@@ -92,42 +92,17 @@ def make_cavity(g: InletGeometry) -> cq.Solid:
     half_span = g.width_mm / 2.0 + 2.0 * r + 5.0
     x_prism = x_end + 2.0 * r + 2.0  # past the wedge's end, so the round there is cut away
     z_bot = -g.drop_mm - 1.0
-    prism: cq.Shape = _planform_prism(g, x_prism, z_bot, 0.0 if r > 0 else h)
+    prism: cq.Shape
     if r > 0:
-        margin = 2.0 * r + 5.0  # the slab must reach well past every flare
-        slab = cq.Solid.makeBox(
-            x_prism + 2.0 * margin, 2.0 * half_span, r + 2.0, V(-margin, -half_span, 0.0)
-        )
-        body = cast(cq.Solid, prism.fuse(slab).clean())
-        hw1 = g.width_mm / 2.0 + 1e-3
-
-        def on_rim(e: cq.Edge) -> bool:
-            # the edges at z = 0 are the planform's (inside the limits) and the slab's
-            # outline (outside them at its ends), so both ends and the middle decide; an
-            # optimal bounding box of every edge cost more than the fillet's selection needs
-            pts = [e.startPoint(), e.positionAt(0.5), e.endPoint()]
-            return all(
-                abs(p.z) < 1e-6 and -1e-3 < p.x < x_prism + 1e-3 and -hw1 <= p.y <= hw1 for p in pts
-            )
-
-        rim = [e for e in body.Edges() if on_rim(e)]
-        try:
-            rounded = body.fillet(r, rim)
-        except Exception as err:  # kernel exceptions share no base class
-            raise GeometryError("edge round", f"the {r:g} mm round failed: {err}") from err
-        # keep what lies below the skin, then raise the flared opening by the overcut
-        below = cq.Solid.makeBox(
-            x_prism + 2.0 * margin,
-            2.0 * half_span,
-            -z_bot + 1.0,
-            V(-margin, -half_span, z_bot - 1.0),
-        )
-        clipped = boolean("intersect", rounded, below, "edge round")
-        top = [f for f in clipped.Faces() if _is_plane_at_z(f, 0.0)]
+        rounded = rounded_prism(g, x_prism, z_bot)
+        # raise the flared opening by the overcut
+        top = [f for f in rounded.Faces() if _is_plane_at_z(f, 0.0)]
         if len(top) != 1:
             raise GeometryError("edge round", f"expected one opening face, found {len(top)}")
         up = cq.Solid.extrudeLinear(top[0], V(0, 0, h))
-        prism = boolean("fuse", clipped, up, "edge round overcut", glue=True)
+        prism = boolean("fuse", rounded, up, "edge round overcut", glue=True)
+    else:
+        prism = _planform_prism(g, x_prism, z_bot, h)
     wedge = _floor_wedge(g, x_end, half_span, h)
     cavity = boolean("intersect", prism, wedge, "cavity floor")
     cavity = boolean("cut", cavity, _lip_body(g, half_span), "lip cut")

@@ -300,7 +300,7 @@ def _write_piece(
     tight, winding, volume, _ = mesh_stats(v, f)
     if not (mapped.isValid() and tight and winding):
         raise GeometryError("jig", f"{base} is not one valid closed solid")
-    write_atomic(Path(staging) / f"{base}.step", step_bytes(mapped, base))
+    write_atomic(Path(staging) / f"{base}.step", step_bytes(mapped, base, exact_edges=False))
     write_atomic(Path(staging) / f"{base}.stl", stl_bytes(v, f, base))
     fit = bed_fit(_stand(d, v, _mid_u(solid)), bed, "+z")
     return {

@@ -290,7 +290,7 @@ def _write_step(d: Design, kind: str, solid: Any, base: str, staging: str) -> st
     from ductgen.solids.cad_io import step_bytes_healed
 
     step_name = f"{base}.step"
-    data, healed = step_bytes_healed(solid, base)
+    data, healed = step_bytes_healed(solid, base, exact_edges=d.skin.is_flat)
     write_atomic(Path(staging) / step_name, data)
     if kind == "insert" and d.skin.is_flat:
         import cadquery as cq

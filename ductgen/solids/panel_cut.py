@@ -136,7 +136,7 @@ def cut_panel_job(
     expected = precise_volume(_boolean("common", body, cutters[-1], 0.0))
     cut, removed, slivers = _cut_panel(d, body, cutters, before, expected)
     file = f"{name}-panel.step"
-    (Path(staging) / file).write_bytes(step_bytes(cut, f"{name}-panel"))
+    (Path(staging) / file).write_bytes(step_bytes(cut, f"{name}-panel", exact_edges=False))
     return {
         "file": file,
         "source": source,

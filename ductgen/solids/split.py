@@ -241,7 +241,8 @@ def _stage_piece(
     if to_model is not None:
         piece = to_model(piece)
     # the STEP in model coordinates (for CAD), the STL standing on the bed as it prints
-    write_atomic(Path(staging) / f"{base}.step", step_bytes(piece, base))
+    step = step_bytes(piece, base, exact_edges=to_model is None)
+    write_atomic(Path(staging) / f"{base}.step", step)
     write_atomic(Path(staging) / f"{base}.stl", stl_bytes(stand_on_bed(v, up, turn), f, base))
     return InsertPiece(
         step=f"{base}.step",

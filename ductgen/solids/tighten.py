@@ -1,0 +1,219 @@
+"""Edges laid exactly on both their faces (CAD kernel: runs in the kernel worker; mm).
+
+A boolean leaves the edge where two faces cross as an *approximated* intersection: its 3D
+curve and its two surface curves agree only to the tolerance the kernel gives the edge
+(1e-7 to 1e-4 mm on this project's solids). That tolerance is not part of a STEP file: a
+reader re-derives it by sampling the edge at a couple of dozen points, finds a little less
+than the true largest deviation, and its own geometry check then reports the edge as off
+its face ("invalid curve on surface").
+
+:func:`tighten_edges` rebuilds every such edge from the true intersection of its two
+surfaces (:class:`~ductgen.solids.intersection.EdgeIntersection`: exact points, and a 3D
+curve and both surface curves fitted to them on one parameter), with more spans until the
+edge lies on both faces within :data:`GOAL_MM` (or the limit); the edge keeps whichever
+curves, old or new, lie closer. Surfaces that touch
+instead of crossing (an edge round's boundary on its wall) have no isolated intersection
+for Newton to find; their edges are left as they were (build such faces so the boundary is
+exact instead, as :mod:`ductgen.solids.edge_round` does).
+"""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING, Any
+
+import numpy as np
+
+if TYPE_CHECKING:  # the kernel's bindings carry no type information
+    from OCP.TopoDS import TopoDS_Edge, TopoDS_Face, TopoDS_Shape
+
+__all__ = ["GOAL_MM", "curve_on_face_deviation", "tighten_edges"]
+
+#: Deviation (mm) an edge is rebuilt to reach on both faces: below the 1e-7 mm a reader
+#: gives an exact edge, so its check finds nothing.
+GOAL_MM = 2e-8
+
+#: Uniform spans of the refitted curves, tried in turn until the goal is met.
+SPANS = (8, 32, 128)
+
+
+def curve_on_face_deviation(e: TopoDS_Edge, f: TopoDS_Face) -> float:
+    """Largest distance (mm) between the edge's 3D curve and its surface curve on ``f``
+    mapped through the surface (the kernel's optimiser, as its checks measure it); inf
+    when the edge has no surface curve there."""
+    from OCP.Adaptor3d import Adaptor3d_CurveOnSurface
+    from OCP.BRepAdaptor import BRepAdaptor_Curve, BRepAdaptor_Curve2d, BRepAdaptor_Surface
+    from OCP.GeomLib import GeomLib_CheckCurveOnSurface
+
+    try:
+        c2 = BRepAdaptor_Curve2d(e, f)
+    except Exception:  # no surface curve (kernel exceptions share no base class)
+        return float("inf")
+    check = GeomLib_CheckCurveOnSurface(BRepAdaptor_Curve(e), 1e-9)
+    check.Perform(Adaptor3d_CurveOnSurface(c2, BRepAdaptor_Surface(f)))
+    return float(check.MaxDistance()) if check.IsDone() else float("inf")
+
+
+def tighten_edges(
+    shape: TopoDS_Shape, above_mm: float = 1e-7, only: list[Any] | None = None
+) -> int:
+    """Rebuild, in place, every edge of ``shape`` whose tolerance exceeds ``above_mm`` (or
+    every edge in ``only``, whatever its tolerance) that lies farther than :data:`GOAL_MM`
+    from either of its two faces (see the module docstring); returns how many edges were
+    improved."""
+    from OCP.BRep import BRep_Tool
+    from OCP.TopAbs import TopAbs_EDGE, TopAbs_FACE
+    from OCP.TopExp import TopExp
+    from OCP.TopoDS import TopoDS
+    from OCP.TopTools import TopTools_IndexedDataMapOfShapeListOfShape
+
+    m = TopTools_IndexedDataMapOfShapeListOfShape()
+    TopExp.MapShapesAndAncestors_s(shape, TopAbs_EDGE, TopAbs_FACE, m)
+    done = 0
+    for i in range(1, m.Extent() + 1):
+        e = TopoDS.Edge_s(m.FindKey(i))
+        if only is not None and not any(e.IsSame(o) for o in only):
+            continue
+        faces = [TopoDS.Face_s(f) for f in m.FindFromIndex(i)]
+        if (
+            len(faces) != 2
+            or faces[0].IsSame(faces[1])
+            or (only is None and BRep_Tool.Tolerance_s(e) <= above_mm)
+            or BRep_Tool.Degenerated_s(e)
+            or not e.Location().IsIdentity()
+            or any(BRep_Tool.IsClosed_s(e, f) for f in faces)
+        ):
+            continue
+        old = max(curve_on_face_deviation(e, f) for f in faces)
+        if old <= GOAL_MM:
+            continue
+        try:
+            done += _tighten(e, faces, old) or _extrusion_iso(e, faces, old)
+        except Exception:  # kernel exceptions share no base class: a failure here leaves
+            continue  # the edge as it was, and the analyser then sizes its tolerance
+    return done
+
+
+def _tighten(e: TopoDS_Edge, faces: list[TopoDS_Face], old: float) -> int:
+    """Rebuild ``e`` on ``faces`` when that beats its deviation ``old`` (mm): 1 if it did."""
+    from ductgen.solids.intersection import EdgeIntersection, chord_parameter
+
+    x = EdgeIntersection(e, faces)
+    dense = np.linspace(x.t0, x.t1, 65)
+    got = x.solve(dense)
+    if got is None:
+        return 0
+    crossings = x.knot_crossings(dense, got[1])
+    extra = x.solve(crossings) if len(crossings) else (np.zeros((0, 3)), np.zeros((0, 4)))
+    if extra is None:
+        return 0
+    order = np.argsort(np.concatenate([dense, crossings]), kind="stable")
+    dense = np.concatenate([dense, crossings])[order]
+    along = chord_parameter(np.concatenate([got[0], extra[0]])[order], x.t0, x.t1)
+    if along is None:
+        return 0
+    best: float | None = None
+    for spans in SPANS:
+        curves = x.fit(spans, crossings, dense, along)
+        if curves is None:
+            break
+        new = _try_curves(e, faces, curves, old if best is None else best)
+        if new is not None:
+            best = new
+        if best is not None and best <= GOAL_MM:
+            break
+    return int(best is not None)
+
+
+def _try_curves(
+    e: TopoDS_Edge,
+    faces: list[TopoDS_Face],
+    curves: Any,
+    old: float,
+    rng: tuple[float, float] | None = None,
+) -> float | None:
+    """Give ``e`` the new curves (over ``rng``, default its present range); keep them when
+    they lie closer than ``old`` (mm) on both faces and the vertices stay within 1e-3 mm:
+    the new deviation. Otherwise restore the edge's previous curves and return None."""
+    from OCP.BRep import BRep_Builder, BRep_Tool
+    from OCP.BRepAdaptor import BRepAdaptor_Curve
+    from OCP.ShapeFix import ShapeFix_ShapeTolerance
+    from OCP.TopAbs import TopAbs_EDGE
+    from OCP.TopExp import TopExp
+    from OCP.TopoDS import TopoDS_Vertex
+
+    B = BRep_Builder()
+    c = BRepAdaptor_Curve(e)
+    t0, t1 = c.FirstParameter(), c.LastParameter()
+    tol_old = BRep_Tool.Tolerance_s(e)
+    saved = [(f, BRep_Tool.CurveOnSurface_s(e, f, 0.0, 0.0)) for f in faces]
+    c3_old = BRep_Tool.Curve_s(e, 0.0, 0.0)
+    c3, k1, k2 = curves
+    B.UpdateEdge(e, c3, 1e-7)
+    B.UpdateEdge(e, k1, faces[0], 1e-7)
+    B.UpdateEdge(e, k2, faces[1], 1e-7)
+    n0, n1 = rng if rng is not None else (t0, t1)
+    B.Range(e, n0, n1)
+    B.SameRange(e, True)
+    B.SameParameter(e, True)
+    new = max(curve_on_face_deviation(e, f) for f in faces)
+    v1, v2 = TopoDS_Vertex(), TopoDS_Vertex()
+    TopExp.Vertices_s(e, v1, v2)
+    gaps = [BRep_Tool.Pnt_s(v).Distance(c3.Value(t)) for v, t in ((v1, n0), (v2, n1))]
+    if new >= old or max(gaps) > 1e-3:
+        B.UpdateEdge(e, c3_old, tol_old)
+        for f, k in saved:
+            B.UpdateEdge(e, k, f, tol_old)
+        B.Range(e, t0, t1)
+        return None
+    for v, gap in ((v1, gaps[0]), (v2, gaps[1])):
+        if gap > BRep_Tool.Tolerance_s(v):
+            B.UpdateVertex(v, 1.5 * gap)
+    ShapeFix_ShapeTolerance().SetTolerance(e, max(1e-7, 1.5 * new), TopAbs_EDGE)
+    return new
+
+
+def _extrusion_iso(e: TopoDS_Edge, faces: list[TopoDS_Face], old: float) -> int:
+    """An edge between two faces extruded along one direction D (the same surface split in
+    two, which Newton's method cannot intersect), lying in a plane normal to D, is the
+    extrusion's iso-line there: the basis curve moved along D, a straight line in each
+    face's parameters. Rebuild it so when both faces' iso-lines coincide: 1 if done."""
+    from OCP.BRep import BRep_Tool
+    from OCP.BRepAdaptor import BRepAdaptor_Curve, BRepAdaptor_Curve2d, BRepAdaptor_Surface
+    from OCP.Geom2d import Geom2d_Line
+    from OCP.GeomAbs import GeomAbs_SurfaceOfExtrusion
+    from OCP.GeomAPI import GeomAPI_ProjectPointOnCurve
+    from OCP.gp import gp_Dir2d, gp_Pnt2d
+    from OCP.TopExp import TopExp
+    from OCP.TopoDS import TopoDS_Vertex
+
+    a = [BRepAdaptor_Surface(f) for f in faces]
+    if any(x.GetType() != GeomAbs_SurfaceOfExtrusion for x in a):
+        return 0
+    d = [np.array([x.Direction().X(), x.Direction().Y(), x.Direction().Z()]) for x in a]
+    c = BRepAdaptor_Curve(e)
+    ts = np.linspace(c.FirstParameter(), c.LastParameter(), 17)
+    heights = [d[0] @ np.array(c.Value(float(t)).Coord()) for t in ts]
+    if abs(abs(float(d[0] @ d[1])) - 1.0) > 1e-12 or np.ptp(heights) > 1e-6:
+        return 0
+    mid = float(ts[8])
+    vs = [BRepAdaptor_Curve2d(e, f).Value(mid).Y() for f in faces]
+    iso = BRep_Tool.Surface_s(faces[0]).VIso(vs[0])
+    v1, v2 = TopoDS_Vertex(), TopoDS_Vertex()
+    TopExp.Vertices_s(e, v1, v2)
+    us = [
+        GeomAPI_ProjectPointOnCurve(BRep_Tool.Pnt_s(v), iso).LowerDistanceParameter()
+        for v in (v1, v2)
+    ]
+    probe = np.linspace(us[0], us[1], 9)
+    if any(
+        a[1].Value(float(u), vs[1]).Distance(iso.Value(float(u))) > 1e-9 for u in probe
+    ):  # the second face's parameterisation differs: leave the edge
+        return 0
+    if us[0] <= us[1]:
+        lines = [Geom2d_Line(gp_Pnt2d(0.0, v), gp_Dir2d(1.0, 0.0)) for v in vs]
+    else:  # the edge runs against the basis curve: u' = K − u on the reversed curve
+        k = iso.ReversedParameter(0.0)
+        iso = iso.Reversed()
+        us = [iso.ReversedParameter(u) for u in us]
+        lines = [Geom2d_Line(gp_Pnt2d(k, v), gp_Dir2d(-1.0, 0.0)) for v in vs]
+    return int(_try_curves(e, faces, (iso, *lines), old, (us[0], us[1])) is not None)
