@@ -17,9 +17,9 @@ tensor-product NURBS whose rows of poles are the three curves on one knot vector
   offset), lying in the skin plane, so its surface curve on the skin is exact too.
 
 Whatever P's small fitting error, the surface is exactly tangent to the wall (C − W is
-vertical) and to the skin (P − C is horizontal). A kernel fillet's boundary instead is
-approximated and leaves its surface curve on the wall up to ~1e-5 mm off (4.6e-4 mm after a
-STEP round trip), which a second program's geometry check reports.
+vertical) and to the skin (P − C is horizontal). The kernel's fillet, used before, bulged
+up to 2.5e-3 mm off the rolling-ball surface and left its boundary's surface curve on the wall
+~1e-5 mm off its 3D curve, which a second program's geometry check reports in the STEP file.
 
 Past the planform's end the walls run straight (slope 0 there) and the round is a quarter
 cylinder. :func:`rounded_prism` sews these faces with the walls below z = −r, the floor,
