@@ -21,13 +21,13 @@ from ductgen.geometry.inlet import InletGeometry
 from ductgen.geometry.transition import Transition
 from ductgen.solids.deform import place
 from ductgen.solids.edge_round import rounded_prism
+from ductgen.solids.footprint import footprint_wire
 from ductgen.solids.primitives import (
     arc3,
     boolean,
     extrude_xz,
     floor_edges,
     polyline_edges,
-    wall_spline,
     xz_ellipse_arc,
 )
 
@@ -38,19 +38,7 @@ V = cq.Vector
 
 def _planform_prism(g: InletGeometry, x_end: float, z_bottom: float, z_top: float) -> cq.Solid:
     """Planform (walls straight at ±W/2 beyond the lip station to ``x_end``) as a prism."""
-    pf = g.planform
-    hw0, hw1 = float(pf.node_half_width_mm[0]), g.width_mm / 2.0
-    L = g.length_mm
-    z = z_bottom
-    right = wall_spline(pf, +1.0, z)
-    left = wall_spline(pf, -1.0, z)
-    edges = [
-        right,
-        *polyline_edges([(L, hw1, z), (x_end, hw1, z), (x_end, -hw1, z), (L, -hw1, z)]),
-        left,
-        cq.Edge.makeLine(V(0, -hw0, z), V(0, hw0, z)),
-    ]
-    face = cq.Face.makeFromWires(cq.Wire.assembleEdges(edges))
+    face = cq.Face.makeFromWires(footprint_wire(g, x_end, z_bottom))
     return cq.Solid.extrudeLinear(face, V(0, 0, z_top - z_bottom))
 
 

@@ -205,14 +205,16 @@ def _edge_uv(face: cq.Face, e: cq.Edge) -> tuple[tuple[float, float], tuple[floa
     return (p.X(), p.Y()), (q.X(), q.Y())
 
 
-def _side_faces(g: InletGeometry, sign: float, x_prism: float, z_bot: float) -> list[cq.Face]:
-    """One side's faces: the wall below the round, the round along the spline and along the
-    straight run, the straight wall, and the cap closing the round at x = 0 (plane)."""
+def _side_faces(
+    g: InletGeometry, sign: float, rnd: cq.Face, x_prism: float, z_bot: float
+) -> list[cq.Face]:
+    """One side's faces: the wall below the round, the round ``rnd`` along the spline and its
+    continuation along the straight run, the straight wall, and the cap closing the round at
+    x = 0 (plane)."""
     r, L = g.edge_radius_mm, g.length_mm
     hw1 = g.width_mm / 2.0
     rise = V(0.0, 0.0, -r - z_bot)
     wall = _prism_face(wall_spline(g.planform, sign, z_bot), rise)
-    rnd = _face(round_surface(g, sign), 0.0, L, 0.0, 1.0)
     iso = _iso_edges(rnd)
     straight_round = _prism_face(iso["u1"], V(x_prism - L, 0.0, 0.0))
     run = cq.Edge.makeLine(V(L, sign * hw1, z_bot), V(x_prism, sign * hw1, z_bot))
@@ -231,9 +233,11 @@ def _start_points(g: InletGeometry, sign: float) -> tuple[cq.Vector, cq.Vector]:
     return V(0.0, sign * hw0, 0.0), V(float(px), sign * float(py), 0.0)
 
 
-def _closing_faces(g: InletGeometry, x_prism: float, z_bot: float) -> list[cq.Face]:
+def _closing_faces(
+    g: InletGeometry, rounds: dict[float, cq.Face], x_prism: float, z_bot: float
+) -> list[cq.Face]:
     """The faces across both sides: floor (z = z_bot), entry (x = 0), end (x = x_prism) and
-    the opening in the skin plane, bounded by the round's skin lines."""
+    the opening in the skin plane, bounded by the skin lines of the ``rounds`` (by side)."""
     r, L = g.edge_radius_mm, g.length_mm
     hw0, hw1 = float(g.planform.half_width(0.0)), g.width_mm / 2.0
     floor = cq.Face.makeFromWires(footprint_wire(g, x_prism, z_bot))
@@ -256,8 +260,7 @@ def _closing_faces(g: InletGeometry, x_prism: float, z_bot: float) -> list[cq.Fa
     ends: list[cq.Edge] = []
     top: list[cq.Edge] = [cq.Edge.makeLine(V(0.0, -hw0, 0.0), V(0.0, hw0, 0.0))]
     for sign in (1.0, -1.0):
-        rnd = _face(round_surface(g, sign), 0.0, L, 0.0, 1.0)
-        iso = _iso_edges(rnd)
+        iso = _iso_edges(rounds[sign])
         c0, p0 = _start_points(g, sign)
         top += [cq.Edge.makeLine(c0, p0), iso["v1"]]
         top.append(cq.Edge.makeLine(V(L, sign * (hw1 + r), 0.0), V(x_prism, sign * (hw1 + r), 0.0)))
@@ -279,8 +282,9 @@ def rounded_prism(g: InletGeometry, x_prism: float, z_bot: float) -> cq.Solid:
     from OCP.TopExp import TopExp_Explorer
     from OCP.TopoDS import TopoDS
 
-    faces = _side_faces(g, 1.0, x_prism, z_bot) + _side_faces(g, -1.0, x_prism, z_bot)
-    faces += _closing_faces(g, x_prism, z_bot)
+    rounds = {s: _face(round_surface(g, s), 0.0, g.length_mm, 0.0, 1.0) for s in (1.0, -1.0)}
+    faces = [f for s, rnd in rounds.items() for f in _side_faces(g, s, rnd, x_prism, z_bot)]
+    faces += _closing_faces(g, rounds, x_prism, z_bot)
     sew = BRepBuilderAPI_Sewing(1e-6)
     for f in faces:
         sew.Add(f.wrapped)
