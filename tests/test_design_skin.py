@@ -104,7 +104,7 @@ def test_cylinder_opening_floor_and_volume(axis: str, side: str) -> None:
     # V = ∫(1 + s·w/R) dV_flat = V_flat + s·(∫w dV_flat)/R
     flat = make_cavity(g)
     vol, moment = _moments(flat)
-    mapped = map_solid(flat, d.skin.to_model, 1.0 / R, "cavity")
+    mapped = map_solid(flat, d.skin.to_model, "cavity")
     assert _volume(mapped) == pytest.approx(vol + s * moment / R, rel=5e-3)
 
 
@@ -270,3 +270,38 @@ def test_cutter_cuts_the_panel_where_the_template_says(sample_builds, name: str)
     assert len(pins) > 20
     assert not solid.contains(np.array(pins)).any(), "panel left inside the opening"
     assert solid.contains(np.array(pouts)).all(), "panel cut outside the opening"
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize(("axis", "side"), [("streamwise", "convex"), ("spanwise", "concave")])
+def test_a_mapped_box_lies_on_the_exact_cylinder_and_keeps_its_edges_on_its_faces(
+    axis: str, side: str
+) -> None:
+    # a box u 0..200, v ±60, w −40..0 mapped onto a cylinder: each face is the image of a
+    # coordinate plane, so its points unrolled by the closed form (above) hold that coordinate
+    # to MAP_TOL_MM; its edges lie on their faces (the argument analyser, curve-on-surface
+    # mode) and its boundary curves in parameter space are the flat box's, not re-projected
+    from OCP.BOPAlgo import BOPAlgo_ArgumentAnalyzer
+
+    from ductgen.solids.deform import MAP_TOL_MM
+
+    d = _cyl(axis, side)
+    box = cq.Solid.makeBox(200.0, 120.0, 40.0, cq.Vector(0.0, -60.0, -40.0))
+    mapped = map_solid(box, d.skin.to_model, "box")
+    planes = {0: (0.0, 200.0), 1: (-60.0, 60.0), 2: (-40.0, 0.0)}
+    for face in mapped.Faces():
+        uvw = _unroll(_face_points(face, 30), axis, side)
+        k = int(np.argmin(np.ptp(uvw, axis=0)))  # the coordinate the face holds
+        off = min(np.max(np.abs(uvw[:, k] - c)) for c in planes[k])
+        assert off <= MAP_TOL_MM, (k, off)
+    a = BOPAlgo_ArgumentAnalyzer()
+    a.SetShape1(mapped.wrapped)
+    a.CurveOnSurfaceMode = True
+    a.Perform()
+    assert not a.HasFaulty()
+    from OCP.BRep import BRep_Tool
+
+    for face in mapped.Faces():  # straight lines in (u, v), as on the box: 2 knots each
+        for edge in face.Edges():
+            pcurve = BRep_Tool.CurveOnSurface_s(edge.wrapped, face.wrapped, 0.0, 0.0)
+            assert pcurve.NbKnots() == 2

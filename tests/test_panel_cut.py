@@ -94,7 +94,9 @@ def test_an_s_shaped_panel_is_cut_with_its_opening_or_refused(tmp_path, reverse)
         assert not (out / "s-panel.step").exists()
         return
     assert not reverse or result.report["geometry"]["skin"]["outward"][2] < 0
-    body = face.thicken(-T if not reverse else T)  # into the body, by the file's faces
+    # into the body, by the file's faces: against their normals (the kernel's thickening
+    # follows the face's orientation), so below the surface, or above it when reversed
+    body = face.thicken(-T)
     cutter = cq.importers.importStep(str(out / "s-cutter.step")).val()
     cut = cq.importers.importStep(str(out / "s-panel.step")).val()
     assert len(cut.Solids()) == 1 and cut.isValid()
@@ -107,7 +109,7 @@ def test_an_s_shaped_panel_is_cut_with_its_opening_or_refused(tmp_path, reverse)
     g = result.design.geometry
     x = at[0] + 0.75 * g.length_mm
     for y in (at[1], at[1] + 0.25 * g.width_mm):
-        p = _below(s_height, x, y, 0.5 * T)
+        p = _below(s_height, x, y, -0.5 * T if reverse else 0.5 * T)
         assert _state(body, p) == "in" and _state(cut, p) == "out", p
 
 

@@ -239,7 +239,7 @@ class Placement:
         solid_map: for the cutter and the insert: the skin map, with the duct's across-flow
             curvature faded to 0 at the outlet face and a rigid continuation beyond it.
         plug_map: for the plug (built upside down: design w = −z), the skin map, turned over.
-        curvature: the largest skin curvature (1/mm; sets the mapped splines' spans).
+        curvature: the largest skin curvature (1/mm; sets how finely mapped meshes are cut).
         fade_start_mm: station where the duct starts to straighten (None without a duct).
         outlet_point, outlet_axis: where the outlet face's centreline point sits and where
             the spigot points (model coordinates), or None.

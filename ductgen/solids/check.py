@@ -38,11 +38,10 @@ CHECK_MESH = (0.05, 0.2)
 #: splines it agreed with a closed-form cylinder volume to 1e-5).
 CHECK_MESH_CURVED = (0.05, 0.2)
 #: Relative tolerance asked of the kernel's adaptive volume integral on a mapped solid. Its
-#: cost is mostly one Gauss pass per knot span of the mapped splines, whatever is asked; on
-#: the curved and panel samples' nine solids 1e-3 took 0.3-0.4x the CPU of 1e-7 and gave the
-#: same volume to 1.0e-7 relative, which is the integral's own scatter: asked for 1e-7, it
-#: reported an error of 8e-7 on the panel insert, and 1e-3 and 1e-4 agreed to 2e-10. Both are
-#: far inside the mapped B-rep's departure from the exactly mapped solid (~1e-5, see
+#: cost grows with the knot spans of the mapped splines; on the fitted splines of
+#: :mod:`ductgen.solids.deform` (the round cowling sample's insert) 1e-3 took 0.15 CPU s and
+#: came within 3.8e-6 of a 1e-9 integral, 1e-4 took 1.1 s for 2.5e-7: both inside the mapped
+#: B-rep's own departure from the exactly mapped solid (up to area × MAP_TOL_MM / volume, see
 #: :mod:`ductgen.solids.deform` and tests/test_solids_check.py).
 EXACT_VOLUME_EPS = 1e-3
 

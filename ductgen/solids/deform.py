@@ -2,167 +2,134 @@
 
 Every solid is built flat, in design coordinates (u along the flow, v across, w along the
 normal), where its booleans are exact and fast; :func:`map_solid` then carries the finished
-B-rep through the skin map. The shape is converted to B-splines, each surface and edge curve
-is refined (degree ≥ 3, knots inserted until a span is at most ``span_mm`` long in space) and
-its poles are moved through the map; vertices are mapped exactly; the faces keep their
-parameter-space boundaries (p-curves), so the topology is unchanged. A pole-mapped spline
-departs from the true mapped surface by about span²·κ/8 (κ the skin curvature), so the span
-is chosen from the curvature for a stated tolerance, and the result is checked by sampling.
+B-rep through the skin map. The shape is converted to B-splines; each surface and edge curve
+is replaced by a least-squares fit of its image under the map on its own parametrization
+(:mod:`ductgen.solids.spline_fit`: within ``MAP_TOL_MM`` of the exactly mapped surface at
+points between the fitted ones); vertices are mapped exactly; every face keeps its boundary
+curves in parameter space (p-curves), so the topology is unchanged and the p-curves stay
+exact on the fitted surfaces (the kernel need not project new ones).
 """
 
 from __future__ import annotations
 
-import itertools
-import math
 from collections.abc import Callable
+from typing import Any
 
 import cadquery as cq
 import numpy as np
 from OCP.BRep import BRep_Builder, BRep_Tool
 from OCP.BRepBuilderAPI import BRepBuilderAPI_Copy, BRepBuilderAPI_NurbsConvert
-from OCP.BRepLib import BRepLib
-from OCP.Geom import Geom_BSplineCurve, Geom_BSplineSurface
 from OCP.GeomConvert import GeomConvert
 from OCP.gp import gp_Pnt
 from OCP.ShapeFix import ShapeFix_Shape
-from OCP.TColStd import TColStd_Array1OfInteger, TColStd_Array1OfReal
-from OCP.TopAbs import TopAbs_EDGE, TopAbs_FACE, TopAbs_VERTEX
+from OCP.TopAbs import TopAbs_EDGE, TopAbs_FACE, TopAbs_FORWARD, TopAbs_REVERSED, TopAbs_VERTEX
 from OCP.TopExp import TopExp
 from OCP.TopLoc import TopLoc_Location
-from OCP.TopoDS import TopoDS, TopoDS_Edge, TopoDS_Face
+from OCP.TopoDS import TopoDS, TopoDS_Face, TopoDS_Shape
 from OCP.TopTools import TopTools_IndexedMapOfShape
 
 from ductgen.design import Design
 from ductgen.errors import GeometryError
+from ductgen.solids.spline_fit import FIT_TOL_MM, fit_curve, fit_surface
 
-__all__ = ["MAP_TOL_MM", "map_solid", "place", "span_for"]
+__all__ = ["MAP_TOL_MM", "map_solid", "place"]
 
-#: Largest departure (mm) of a mapped surface from the exactly mapped one that is allowed.
-MAP_TOL_MM = 2e-3
+#: Largest departure (mm) of a mapped surface or edge curve from the exactly mapped one, at
+#: the fit's test points (:data:`~ductgen.solids.spline_fit.FIT_TOL_MM`).
+MAP_TOL_MM = FIT_TOL_MM
+#: Precision (mm) given to the kernel's shape fixing after the map (what it may treat as one
+#: point); as before the fits, when the mapped poles departed up to 2e-3 mm.
+FIX_PRECISION_MM = 2e-3
 
 PointMap = Callable[[np.ndarray], np.ndarray]
 
 
-def span_for(curvature_per_mm: float, tol_mm: float = MAP_TOL_MM) -> float:
-    """Longest spline span (mm) whose pole-mapped image stays within ``tol_mm`` of the mapped
-    curve on a skin of curvature κ: span²·κ/8 ≤ tol, capped at 50 mm."""
-    k = abs(curvature_per_mm)
-    return 50.0 if k == 0 else min(50.0, math.sqrt(8.0 * tol_mm / k))
+def _items(shape: TopoDS_Shape, kind: Any) -> list[Any]:
+    """The distinct sub-shapes of ``kind`` in ``shape``."""
+    seen = TopTools_IndexedMapOfShape()
+    TopExp.MapShapes_s(shape, kind, seen)
+    return [seen.FindKey(i) for i in range(1, seen.Extent() + 1)]
 
 
-def _insert(values: np.ndarray) -> tuple[TColStd_Array1OfReal, TColStd_Array1OfInteger]:
-    arr = TColStd_Array1OfReal(1, len(values))
-    mul = TColStd_Array1OfInteger(1, len(values))
-    for i, k in enumerate(values, start=1):
-        arr.SetValue(i, float(k))
-        mul.SetValue(i, 1)
-    return arr, mul
+def _pcurves(face: TopoDS_Face) -> list[tuple[Any, Any, Any]]:
+    """Each edge of ``face`` with its p-curve(s) on it: (edge, curve, None), or for a seam
+    edge (edge, forward curve, reversed curve)."""
+    out = []
+    for e in _items(face, TopAbs_EDGE):
+        edge = TopoDS.Edge_s(e)
+        if BRep_Tool.IsClosed_s(edge, face):
+            fwd = TopoDS.Edge_s(edge.Oriented(TopAbs_FORWARD))
+            rev = TopoDS.Edge_s(edge.Oriented(TopAbs_REVERSED))
+            out.append(
+                (
+                    edge,
+                    BRep_Tool.CurveOnSurface_s(fwd, face, 0.0, 0.0),
+                    BRep_Tool.CurveOnSurface_s(rev, face, 0.0, 0.0),
+                )
+            )
+        else:
+            out.append((edge, BRep_Tool.CurveOnSurface_s(edge, face, 0.0, 0.0), None))
+    return out
 
 
-def _spans(length_mm: float, span_mm: float) -> int:
-    return max(1, math.ceil(length_mm / span_mm))
+def _map_faces(shape: TopoDS_Shape, fn: PointMap, tol_mm: float, b: BRep_Builder) -> None:
+    """Every face's surface replaced by its fitted image; its edges' p-curves, kept from
+    before, attached to the new surface (replacing a face's surface detaches them)."""
+    faces = [TopoDS.Face_s(f) for f in _items(shape, TopAbs_FACE)]
+    kept = [_pcurves(face) for face in faces]  # all first: faces may share a surface
+    for face, edges in zip(faces, kept, strict=True):
+        bs = GeomConvert.SurfaceToBSplineSurface_s(BRep_Tool.Surface_s(face))
+        surface, err = fit_surface(bs, fn, tol_mm)
+        err = max(err, tol_mm)  # what the tolerances claim (more where the fit fell short)
+        b.UpdateFace(face, surface, TopLoc_Location(), BRep_Tool.Tolerance_s(face) + err)
+        for edge, c1, c2 in edges:
+            tol = BRep_Tool.Tolerance_s(edge) + 2.0 * err
+            if c2 is None:
+                b.UpdateEdge(edge, c1, face, tol)
+            else:
+                b.UpdateEdge(edge, c1, c2, face, tol)
 
 
-def _polyline_length(pts: list[gp_Pnt]) -> float:
-    return float(sum(a.Distance(b) for a, b in itertools.pairwise(pts)))
+def _map_edges_and_vertices(
+    shape: TopoDS_Shape, fn: PointMap, tol_mm: float, b: BRep_Builder
+) -> None:
+    """Every edge's 3D curve replaced by its fitted image (ends mapped exactly), every vertex
+    mapped; tolerances raised by twice the fit's."""
+    for e in _items(shape, TopAbs_EDGE):
+        edge = TopoDS.Edge_s(e)
+        crv = None if BRep_Tool.Degenerated_s(edge) else BRep_Tool.Curve_s(edge, 0.0, 0.0)
+        if crv is None:
+            continue
+        curve, err = fit_curve(GeomConvert.CurveToBSplineCurve_s(crv), fn, tol_mm)
+        tol = BRep_Tool.Tolerance_s(edge) + 2.0 * max(err, tol_mm)
+        b.UpdateEdge(edge, curve, TopLoc_Location(), tol)
+    for v in _items(shape, TopAbs_VERTEX):
+        vertex = TopoDS.Vertex_s(v)
+        p = BRep_Tool.Pnt_s(vertex)
+        q = fn(np.array([[p.X(), p.Y(), p.Z()]]))[0]
+        b.UpdateVertex(vertex, gp_Pnt(*q), BRep_Tool.Tolerance_s(vertex) + 2.0 * tol_mm)
 
 
-def _map_surface(face: TopoDS_Face, fn: PointMap, span_mm: float) -> Geom_BSplineSurface:
-    """The face's surface as a B-spline of degree ≥ 3, knots inserted until a span is at most
-    ``span_mm`` long in space (mm), its poles moved through ``fn``."""
-    # a copy: the conversion hands back the very same spline when it already is one, and
-    # the caller's shape must stay untouched
-    bs = GeomConvert.SurfaceToBSplineSurface_s(BRep_Tool.Surface_s(face).Copy())
-    bs.IncreaseDegree(max(bs.UDegree(), 3), max(bs.VDegree(), 3))
-    u1, u2, v1, v2 = bs.Bounds()
-    um, vm = 0.5 * (u1 + u2), 0.5 * (v1 + v2)
-    lu = max(
-        _polyline_length([bs.Value(a, b) for a in np.linspace(u1, u2, 17)]) for b in (v1, vm, v2)
-    )
-    lv = max(
-        _polyline_length([bs.Value(a, b) for b in np.linspace(v1, v2, 17)]) for a in (u1, um, u2)
-    )
-    for n, (a, b, is_u) in (
-        (_spans(lu, span_mm), (u1, u2, True)),
-        (_spans(lv, span_mm), (v1, v2, False)),
-    ):
-        ks = np.linspace(a, b, n + 1)[1:-1]
-        if len(ks):
-            arr, mul = _insert(ks)
-            (bs.InsertUKnots if is_u else bs.InsertVKnots)(arr, mul, 1e-12, False)
-    nu, nv = bs.NbUPoles(), bs.NbVPoles()
-    poles = np.array([[bs.Pole(i, j).Coord() for j in range(1, nv + 1)] for i in range(1, nu + 1)])
-    moved = fn(poles.reshape(-1, 3)).reshape(nu, nv, 3)
-    for i in range(nu):
-        for j in range(nv):
-            bs.SetPole(i + 1, j + 1, gp_Pnt(*moved[i, j]))
-    return bs
-
-
-def _map_curve(edge: TopoDS_Edge, fn: PointMap, span_mm: float) -> Geom_BSplineCurve | None:
-    """The edge's 3D curve refined and mapped as :func:`_map_surface` does a surface (None
-    when the edge has no 3D curve)."""
-    crv = BRep_Tool.Curve_s(edge, 0.0, 0.0)
-    if crv is None:
-        return None
-    bc = GeomConvert.CurveToBSplineCurve_s(crv.Copy())
-    bc.IncreaseDegree(max(bc.Degree(), 3))
-    t1, t2 = bc.FirstParameter(), bc.LastParameter()
-    n = _spans(_polyline_length([bc.Value(t) for t in np.linspace(t1, t2, 33)]), span_mm)
-    ks = np.linspace(t1, t2, n + 1)[1:-1]
-    if len(ks):
-        arr, mul = _insert(ks)
-        bc.InsertKnots(arr, mul, 1e-12, False)
-    poles = np.array([bc.Pole(i).Coord() for i in range(1, bc.NbPoles() + 1)])
-    for i, p in enumerate(fn(poles), start=1):
-        bc.SetPole(i, gp_Pnt(*p))
-    return bc
-
-
-def map_solid(
-    shape: cq.Shape, fn: PointMap, curvature_per_mm: float, stage: str, tol_mm: float = MAP_TOL_MM
-) -> cq.Solid:
+def map_solid(shape: cq.Shape, fn: PointMap, stage: str, tol_mm: float = MAP_TOL_MM) -> cq.Solid:
     """``shape`` (design coordinates) carried through ``fn`` to model coordinates.
 
     Args:
         shape: a closed solid built in design coordinates (mm).
         fn: the point map, (N, 3) → (N, 3), mm.
-        curvature_per_mm: the largest skin curvature (1/mm), which sets the spline spans.
         stage: named in a :class:`GeometryError` when the mapped solid is not sound.
-        tol_mm: allowed departure from the exactly mapped surface (mm).
+        tol_mm: allowed departure from the exactly mapped surfaces and curves (mm).
     """
-    span = span_for(curvature_per_mm, tol_mm)
     try:
         # a deep copy first: the conversion shares untouched sub-shapes with its input,
         # and the caller's shape (often reused, e.g. the cutter for the insert) must not move
         own = BRepBuilderAPI_Copy(shape.wrapped, True, False).Shape()
         nc = BRepBuilderAPI_NurbsConvert(own, False).Shape()
         builder = BRep_Builder()
-        seen = TopTools_IndexedMapOfShape()
-        TopExp.MapShapes_s(nc, TopAbs_FACE, seen)
-        for i in range(1, seen.Extent() + 1):
-            face = TopoDS.Face_s(seen.FindKey(i))
-            builder.UpdateFace(face, _map_surface(face, fn, span), TopLoc_Location(), tol_mm)
-        seen = TopTools_IndexedMapOfShape()
-        TopExp.MapShapes_s(nc, TopAbs_EDGE, seen)
-        for i in range(1, seen.Extent() + 1):
-            edge = TopoDS.Edge_s(seen.FindKey(i))
-            if BRep_Tool.Degenerated_s(edge):
-                continue
-            curve = _map_curve(edge, fn, span)
-            if curve is not None:
-                builder.UpdateEdge(edge, curve, TopLoc_Location(), tol_mm)
-        seen = TopTools_IndexedMapOfShape()
-        TopExp.MapShapes_s(nc, TopAbs_VERTEX, seen)
-        for i in range(1, seen.Extent() + 1):
-            vertex = TopoDS.Vertex_s(seen.FindKey(i))
-            p = BRep_Tool.Pnt_s(vertex)
-            q = fn(np.array([[p.X(), p.Y(), p.Z()]]))[0]
-            builder.UpdateVertex(vertex, gp_Pnt(*q), tol_mm)
-        BRepLib.SameParameter_s(nc, tol_mm, True)
+        _map_faces(nc, fn, tol_mm, builder)
+        _map_edges_and_vertices(nc, fn, tol_mm, builder)
         fix = ShapeFix_Shape(nc)
-        fix.SetPrecision(tol_mm)
-        fix.SetMaxTolerance(10.0 * tol_mm)
+        fix.SetPrecision(FIX_PRECISION_MM)
+        fix.SetMaxTolerance(10.0 * FIX_PRECISION_MM)
         fix.Perform()
         out = cq.Shape.cast(fix.Shape())
     except GeometryError:
@@ -185,4 +152,4 @@ def place(shape: cq.Solid, d: Design, kind: str) -> cq.Solid:
     if pl.curvature == 0.0:
         return shape
     fn = pl.plug_map if kind == "plug" else pl.solid_map
-    return map_solid(shape, fn, pl.curvature, kind)
+    return map_solid(shape, fn, kind)

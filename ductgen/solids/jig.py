@@ -295,7 +295,7 @@ def _write_piece(
 
     fn, k = d.skin.to_model, d.placement.curvature
     lin, ang = mesh_quality
-    mapped = map_solid(solid, fn, k, "jig")
+    mapped = map_solid(solid, fn, "jig")
     v, f = mapped_mesh(solid, fn, lin, ang, k)
     tight, winding, volume, _ = mesh_stats(v, f)
     if not (mapped.isValid() and tight and winding):
