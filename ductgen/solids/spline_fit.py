@@ -50,11 +50,15 @@ class _Knots:
     mults: np.ndarray
     degree: int
 
-    def full(self) -> np.ndarray:
-        """The clamped knot vector (ends repeated degree + 1 times)."""
+    def clamped_mults(self) -> np.ndarray:
+        """Multiplicities of a clamped vector: ends degree + 1, inner ones at most degree."""
         m = np.minimum(self.mults, self.degree).copy()
         m[0] = m[-1] = self.degree + 1
-        return np.repeat(self.values, m)
+        return m
+
+    def full(self) -> np.ndarray:
+        """The clamped knot vector."""
+        return np.repeat(self.values, self.clamped_mults())
 
     def at(self, fractions: np.ndarray, end: bool = False) -> np.ndarray:
         """Parameters at ``fractions`` of every span (and the last knot when ``end``)."""
@@ -259,11 +263,10 @@ def _reals(values: np.ndarray) -> Any:
     return arr
 
 
-def _ints(values: np.ndarray, degree: int) -> Any:
+def _mults(k: _Knots) -> Any:
     from OCP.TColStd import TColStd_Array1OfInteger
 
-    m = np.minimum(values, degree).copy()
-    m[0] = m[-1] = degree + 1
+    m = k.clamped_mults()
     arr = TColStd_Array1OfInteger(1, len(m))
     for i, x in enumerate(m, start=1):
         arr.SetValue(i, int(x))
@@ -284,8 +287,8 @@ def _kernel_surface(s: _Spline, ku: _Knots, kv: _Knots) -> Any:
         poles,
         _reals(ku.values),
         _reals(kv.values),
-        _ints(ku.mults, ku.degree),
-        _ints(kv.mults, kv.degree),
+        _mults(ku),
+        _mults(kv),
         ku.degree,
         kv.degree,
     )
@@ -299,4 +302,4 @@ def _kernel_curve(s: _Spline, k: _Knots) -> Any:
     poles = TColgp_Array1OfPnt(1, len(s.poles))
     for i, pt in enumerate(s.poles, start=1):
         poles.SetValue(i, gp_Pnt(*pt))
-    return Geom_BSplineCurve(poles, _reals(k.values), _ints(k.mults, k.degree), k.degree)
+    return Geom_BSplineCurve(poles, _reals(k.values), _mults(k), k.degree)
