@@ -7,10 +7,11 @@ falls on both. It prints:
 
 1. full build of each sample with every output, after imports (interpreter, ductgen, the
    kernel worker warmed up): old s, new s, new/old, and the CPU seconds each used (the
-   build process, its kernel worker and the worker's children): on a machine others load,
+   build process, its workers and their children): on a machine others load,
    the wall ratio shows what concurrency could get, the CPU what the work costs; then a
-   table per sample of the CPU seconds per stage, parent (``build``'s progress stages) and
-   kernel worker (its jobs and their ``stage`` names), old and new side by side;
+   table per sample of the CPU seconds per stage, parent (``build``'s progress stages), kernel
+   worker and side worker (their jobs and ``stage`` names), old and new side by side (work on
+   the parent's threads counts in the stage that was running);
 2. cold ``ductgen build`` of one sample (the whole process) against a bare
    ``python -c "import cadquery"`` timed in the same rounds;
 3. a 12-variant sweep at ``-j 2``, old and new (whole ``ductgen sweep`` processes);
@@ -47,8 +48,10 @@ ROOT = Path(__file__).resolve().parents[1]
 BASE = "465f6b6"
 
 #: One full build, timed after the imports and the kernel warm-up (runs in a subprocess).
-#: CPU seconds per stage: the parent's stages are the ``progress`` notes of ``build``, the
-#: worker's the job names and the ``stage`` messages its jobs send (read off its pipe).
+#: CPU seconds per stage: the parent's stages are the ``progress`` notes of ``build``, each
+#: worker's (the kernel worker, and a side worker where the build starts one) the job names
+#: and the ``stage`` messages its jobs send (read off its pipe). The build's CPU seconds are
+#: the parent's (every thread) and every worker's, started cold in the build or not.
 _FULL = r"""
 import json, os, sys, time
 from pathlib import Path
@@ -59,39 +62,45 @@ from ductgen.spec import load_spec
 import ductgen.export.template, ductgen.sheets.sheet, ductgen.sheets.preview  # noqa
 TCK = os.sysconf("SC_CLK_TCK")
 worker = w.default_worker()
-def wcpu():  # the kernel worker with its reaped children (s); 0 when it is not running
-    if worker._proc is None or worker._proc.poll() is not None:
+workers = []  # every kernel worker the build starts: the default one, a side worker
+def proc_cpu(x):  # one worker's process with its reaped children (s); 0 when not running
+    if x._proc is None or x._proc.poll() is not None:
         return 0.0
-    f = open(f"/proc/{worker._proc.pid}/stat").read().rsplit(")", 1)[1].split()
-    return sum(int(x) for x in f[11:15]) / TCK
+    f = open(f"/proc/{x._proc.pid}/stat").read().rsplit(")", 1)[1].split()
+    return sum(int(v) for v in f[11:15]) / TCK
+def wcpu():
+    return sum(proc_cpu(x) for x in workers)
 def pcpu():
     t = os.times()
     return t.user + t.system
-prof, cur = {}, {"parent": ["start", 0.0], "worker": [None, 0.0]}
+prof, cur = {}, {"parent": ["start", 0.0]}
 def add(key, dt):
     prof[key] = prof.get(key, 0.0) + max(dt, 0.0)
 def switch(side, name, c):
-    old, c0 = cur[side]
+    old, c0 = cur.get(side, [None, 0.0])
     if old is not None:
         add(f"{side}: {old}", c - c0)
     cur[side] = [name, c]
-class Pipe:  # the parent's end of the worker pipe, noting stage changes
-    def __init__(self, real):
-        self.real = real
+class Pipe:  # the parent's end of a worker's pipe, noting its stage changes
+    def __init__(self, real, owner):
+        self.real, self.owner = real, owner
+        self.side = "worker" if owner is worker else "side worker"
     def __getattr__(self, k):
         return getattr(self.real, k)
     def send(self, msg):
         if msg:
-            switch("worker", msg[0].split(":")[-1], wcpu())
+            switch(self.side, msg[0].split(":")[-1], proc_cpu(self.owner))
         return self.real.send(msg)
     def recv(self):
         msg = self.real.recv()
-        switch("worker", msg[1] if msg[0] == "stage" else None, wcpu())
+        switch(self.side, msg[1] if msg[0] == "stage" else None, proc_cpu(self.owner))
         return msg
 start = w.KernelWorker._start
 def _start(self):
     start(self)
-    self._conn = Pipe(self._conn)
+    self._conn = Pipe(self._conn, self)
+    if self not in workers:
+        workers.append(self)
 w.KernelWorker._start = _start
 if "--cold-worker" not in sys.argv:  # an old tree's run takes "module:function"
     worker.run(warm_up if hasattr(w, "job_target") else "ductgen.solids.jobs:warm_up")

@@ -44,6 +44,8 @@ __all__ = [
     "die_with_parent",
     "env_limit",
     "job_target",
+    "side_worker",
+    "side_workers",
     "stage",
 ]
 
@@ -341,3 +343,23 @@ def default_worker() -> KernelWorker:
         _DEFAULT = KernelWorker()
         atexit.register(_DEFAULT.close)
     return _DEFAULT
+
+
+_SIDE: dict[WorkerLimits, KernelWorker] = {}
+
+
+def side_worker(limits: WorkerLimits) -> KernelWorker:
+    """A second process-wide worker with ``limits`` (started on first use, stopped at exit),
+    for work that runs beside the kernel worker's: a build draws its preview in it while the
+    kernel worker splits the insert. Its jobs import only what they need (the picture:
+    numpy and VTK, not the CAD kernel)."""
+    if limits not in _SIDE:
+        _SIDE[limits] = KernelWorker(limits)
+        atexit.register(_SIDE[limits].close)
+    return _SIDE[limits]
+
+
+def side_workers() -> list[KernelWorker]:
+    """The side workers this process has started (to stop a build's work in them, or close
+    them where ``atexit`` does not run)."""
+    return list(_SIDE.values())

@@ -42,7 +42,7 @@ def _check(png: bytes) -> None:
 def test_render_frames_a_box(size: tuple[float, float, float]) -> None:
     import trimesh
 
-    from ductgen.sheets.preview import render_png
+    from ductgen.render import render_png
 
     box = trimesh.creation.box(size)
     box.apply_translation((size[0] / 2, 0.0, -size[2] / 2))

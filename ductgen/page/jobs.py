@@ -91,9 +91,11 @@ def written_since(folder: Path, since: float) -> list[str]:
 
 
 def _stop_default_worker() -> None:
-    from ductgen.worker import default_worker
+    from ductgen.worker import default_worker, side_workers
 
     default_worker().stop()
+    for w in side_workers():  # a build's work started ahead (its jig, its picture)
+        w.stop()
 
 
 class JobRunner:

@@ -18,8 +18,9 @@ from typing import Any
 from ductgen.atomic import OutputSet, check_free
 from ductgen.cache import Cache, open_cache
 from ductgen.design import Design, build_design
+from ductgen.pipeline.ahead import Ahead, picture
 from ductgen.pipeline.options import BuildOptions, output_kinds
-from ductgen.pipeline.outputs import OUTPUTS, BuildContext
+from ductgen.pipeline.outputs import OUTPUTS, BuildContext, jig_bytes, template_bytes
 from ductgen.pipeline.solid_cache import SolidStage
 from ductgen.report import BuildRecord, report_bytes, start_record
 from ductgen.solids.kinds import SOLID_KINDS
@@ -129,6 +130,7 @@ class _Build:
     files: dict[str, str] = field(default_factory=dict)
     paths: dict[str, Path] = field(default_factory=dict)
     report: dict[str, Any] = field(default_factory=dict)
+    ahead: Ahead = field(init=False)
 
     @property
     def staging(self) -> Path:
@@ -156,6 +158,28 @@ def _open(b: _Build) -> None:
     assert b.design is not None
     b.kernel = SolidStage(b.store, b.design, b.options.quality, b.worker)
     b.out = b.exits.enter_context(OutputSet(b.out_dir, force=b.options.force))
+
+
+def _template_ahead(b: _Build) -> None:
+    assert b.design is not None
+    b.ahead.start("template", template_bytes, b.design, b.spec, spec_sha256(b.spec), b.store)
+
+
+def _beside(kind: str, b: _Build) -> bool:
+    return b.ahead.beside and _wants(kind, b)
+
+
+def _jig_ahead(b: _Build) -> None:
+    assert b.design is not None
+    b.ahead.start("jig", jig_bytes, b.design, b.spec, b.options.quality, b.ahead.side())
+
+
+def _preview_wanted(b: _Build) -> bool:
+    return _beside("sheet", b) and any(k in b.solids for k in SOLID_KINDS)
+
+
+def _preview_ahead(b: _Build) -> None:
+    b.ahead.start("preview", picture, _context(b), b.ahead.side())
 
 
 def _solids(b: _Build) -> None:
@@ -239,11 +263,17 @@ def _plate(b: _Build) -> None:
     b.files["insert_3mf"] = name
 
 
+def _context(b: _Build) -> BuildContext:
+    assert b.design is not None
+    return BuildContext(
+        b.spec, b.design, b.solids, b.rec, b.worker, b.store, b.options.quality, b.ahead.futures
+    )
+
+
 def _encode(kind: str, b: _Build) -> None:
     """One file output of :data:`~ductgen.pipeline.outputs.OUTPUTS`."""
-    assert b.out is not None and b.design is not None
-    ctx = BuildContext(b.spec, b.design, b.solids, b.rec, b.worker, b.store, b.options.quality)
-    for suffix, data in OUTPUTS[kind].encode(ctx).items():
+    assert b.out is not None
+    for suffix, data in OUTPUTS[kind].encode(_context(b)).items():
         name = f"{b.spec.name}-{suffix}"
         b.out.add(name, data)
         b.files[suffix.replace(".", "_")] = name
@@ -294,8 +324,11 @@ def stages() -> tuple[Stage, ...]:
     return (
         Stage("geometry", _always, _geometry, "geometry_s"),
         Stage(None, _always, _open),
+        Stage(None, partial(_wants, "template"), _template_ahead),
+        Stage(None, partial(_beside, "jig"), _jig_ahead),
         Stage("solids", lambda b: bool(b.options.solid_kinds), _solids, "solids_s"),
         Stage(None, _always, _record),
+        Stage(None, _preview_wanted, _preview_ahead),
         Stage("panel", lambda b: _cuts_panel(b.spec, b.options.kinds), _panel, "panel_s"),
         Stage("insert split", lambda b: b.rec.split is not None, _split, "insert_split_s"),
         Stage(None, lambda b: "insert" in b.solids, _plate),
@@ -317,6 +350,7 @@ def build(
     design: Design | None = None,
     cache: bool = True,
     options: BuildOptions | None = None,
+    beside: bool = True,
 ) -> BuildResult:
     """Build every requested output of ``spec`` into ``out_dir``, stage by stage
     (:func:`stages`).
@@ -327,7 +361,9 @@ def build(
     otherwise it is built here. ``cache``: take solids, the insert's pieces and the preview
     from the user's solid cache and store new ones there (:mod:`ductgen.cache`;
     ``DUCTGEN_CACHE_DIR``, ``DUCTGEN_CACHE_MB``); False bypasses it. ``worker``: the kernel
-    worker every kernel job of this build runs in (default: the process-wide one).
+    worker the build's kernel jobs run in (default: the process-wide one).
+    ``beside``: the jig and the preview's picture run in a second worker beside it
+    (:mod:`ductgen.pipeline.ahead`); False (a sweep, whose variants fill the cores): in it.
 
     Raises:
         SpecError: bad input (before anything is written), e.g. a bad ``DUCTGEN_CACHE_MB``.
@@ -341,6 +377,7 @@ def build(
         options = BuildOptions.check(only, quality, force, cache)
     with contextlib.ExitStack() as exits:
         b = _Build(spec, Path(out_dir), options, worker or default_worker(), design, exits)
+        b.ahead = Ahead(exits, b.worker.limits, beside)
         for st in stages():
             if not st.when(b):
                 continue

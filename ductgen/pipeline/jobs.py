@@ -15,7 +15,7 @@ from collections.abc import Callable
 from typing import Any
 
 from ductgen.panel_file import sample_panel
-from ductgen.sheets.preview import render_png
+from ductgen.render import render_png
 from ductgen.solids.jig_job import jig_job
 from ductgen.solids.jobs import build_solids, cutter_mesh_job, warm_up
 from ductgen.solids.panel_cut import cut_panel_job

@@ -8,7 +8,8 @@ suffixes it writes after ``NAME-``. To add an output, add a line here.
 from __future__ import annotations
 
 from collections.abc import Callable
-from dataclasses import dataclass
+from concurrent.futures import Future
+from dataclasses import dataclass, field
 from typing import Any
 
 from ductgen.cache import Cache
@@ -19,14 +20,15 @@ from ductgen.solids.results import SolidResult
 from ductgen.spec.model import Spec
 from ductgen.worker import KernelWorker
 
-__all__ = ["OUTPUTS", "BuildContext", "Output"]
+__all__ = ["OUTPUTS", "BuildContext", "Output", "jig_bytes", "template_bytes"]
 
 
 @dataclass
 class BuildContext:
     """What an encoder may read (the spec, the design, the measured solids, the build's
-    record so far, the solid cache or None, the caller's kernel worker) and
-    the warnings it may add (the record's list)."""
+    record so far, the solid cache or None, the caller's kernel worker, the work the build
+    started ahead on other threads by name: ``"template"``, ``"jig"``, ``"preview"``) and the
+    warnings it may add (the record's list)."""
 
     spec: Spec
     design: Design
@@ -35,6 +37,7 @@ class BuildContext:
     worker: KernelWorker
     cache: Cache | None = None
     quality: str = "normal"
+    ahead: dict[str, Future[Any]] = field(default_factory=dict)
 
     @property
     def warnings(self) -> list[DesignWarning]:
@@ -42,35 +45,47 @@ class BuildContext:
         return self.record.warnings
 
 
-def _template(ctx: BuildContext) -> dict[str, bytes]:
+def template_bytes(
+    design: Design, spec: Spec, spec_sha256: str, cache: Cache | None
+) -> dict[str, bytes]:
     """``template.dxf`` (1:1, lines + arcs) and ``template.pdf`` (tiled 1:1); from the solid
-    cache when the same spec (every key, its hash), design, date and code drew it before."""
+    cache when the same spec (every key, its hash ``spec_sha256``), design, date and code drew
+    it before. Reads nothing a build's later stages write, so a build starts it on a thread of
+    its own while the kernel works."""
     from ductgen.export.template import template_files
 
     key = None
-    if ctx.cache is not None:
+    if cache is not None:
         from ductgen.cache import fingerprint, kernel_versions, source_fingerprint
         from ductgen.pipeline.solid_cache import design_key
         from ductgen.stamp import build_datetime
 
-        dkey = design_key(ctx.design)
+        dkey = design_key(design)
         if dkey is not None:
             key = fingerprint(
                 "template",
                 dkey,
-                ctx.spec,
-                ctx.record.spec_sha256,
+                spec,
+                spec_sha256,
                 build_datetime().isoformat(),
                 kernel_versions(("ezdxf", "matplotlib", "numpy")),
                 source_fingerprint(("export", "stamp.py", "units.py")),
             )
-            entry = ctx.cache.get(key)
+            entry = cache.get(key)
             if entry is not None:
                 return {name: bytes(data) for name, data in entry.blobs.items()}
-    files = template_files(ctx.design, ctx.spec, ctx.record.spec_sha256)
-    if key is not None and ctx.cache is not None:
-        ctx.cache.put(key, {}, files)
+    files = template_files(design, spec, spec_sha256)
+    if key is not None and cache is not None:
+        cache.put(key, {}, files)
     return files
+
+
+def _template(ctx: BuildContext) -> dict[str, bytes]:
+    """:func:`template_bytes`, or what the build started ahead (its error raised here)."""
+    ahead = ctx.ahead.pop("template", None)
+    if ahead is not None:
+        return ahead.result()
+    return template_bytes(ctx.design, ctx.spec, ctx.record.spec_sha256, ctx.cache)
 
 
 def _sheet(ctx: BuildContext) -> dict[str, bytes]:
@@ -80,34 +95,40 @@ def _sheet(ctx: BuildContext) -> dict[str, bytes]:
     return sheet_files(ctx)
 
 
-def _jig(ctx: BuildContext) -> dict[str, bytes]:
-    """``jig.step``/``.stl`` (and ``jig-partK``): the conformal marking jig, built in the
-    caller's kernel worker (:func:`ductgen.solids.jig.jig_job`); its facts go to the record's
-    ``jig`` (``report["jig"]``)."""
+def jig_bytes(
+    design: Design, spec: Spec, quality: str, worker: KernelWorker
+) -> tuple[dict[str, bytes], dict[str, Any]]:
+    """``jig.step``/``.stl``/``.3mf`` (and ``jig-partK``) by suffix, and the jig's facts:
+    the conformal marking jig, built by ``worker`` (:func:`ductgen.solids.jig.jig_job`).
+    Reads only the spec and the design, so a build starts it ahead, in its second worker."""
     import shutil
     import tempfile
     from pathlib import Path
 
     from ductgen.solids.jig_job import jig_job
 
-    spec = ctx.spec
     tmp = Path(tempfile.mkdtemp(prefix="ductgen-jig-"))
     try:
-        facts = ctx.worker.run(
-            jig_job,
-            ctx.design,
-            spec.template.kerf,
-            spec.print.bed,
-            ctx.quality,
-            spec.name,
-            str(tmp),
+        facts = worker.run(
+            jig_job, design, spec.template.kerf, spec.print.bed, quality, spec.name, str(tmp)
         )
         files = {p.name.removeprefix(f"{spec.name}-"): p.read_bytes() for p in tmp.iterdir()}
     finally:
         shutil.rmtree(tmp, ignore_errors=True)
     files["jig.3mf"] = _jig_plate(facts, files, spec.name)  # takes the print frames out
+    return dict(sorted(files.items())), facts
+
+
+def _jig(ctx: BuildContext) -> dict[str, bytes]:
+    """:func:`jig_bytes` in the caller's kernel worker, or what the build started ahead (its
+    error raised here); the facts go to the record's ``jig`` (``report["jig"]``)."""
+    ahead = ctx.ahead.pop("jig", None)
+    if ahead is not None:
+        files, facts = ahead.result()
+    else:
+        files, facts = jig_bytes(ctx.design, ctx.spec, ctx.quality, ctx.worker)
     ctx.record.jig = facts
-    return dict(sorted(files.items()))
+    return files
 
 
 def _jig_plate(facts: dict[str, Any], files: dict[str, bytes], name: str) -> bytes:

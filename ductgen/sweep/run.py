@@ -83,6 +83,7 @@ def build_variant(task: VariantTask) -> VariantResult:
         _close_worker_at_exit()
         t0 = time.perf_counter()
         kw: dict[str, Any] = {"quality": task.quality, "design": task.design, "cache": task.cache}
+        kw["beside"] = False  # no side worker: the variants already run side by side
         if task.cfd:  # ductgen sweep --cfd
             result = _build_with_cfd(task, folder, kw)
         else:

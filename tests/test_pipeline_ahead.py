@@ -1,0 +1,46 @@
+"""Work a build starts ahead (the template on a thread, the jig and the preview's picture in
+the side worker): the files are the same bytes as when every stage does its own work, and
+an ahead job's failure is the build's failure at that output's stage, with nothing
+published."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+
+from ductgen.errors import ExportError
+from ductgen.pipeline import build
+from ductgen.spec import load_spec, parse_spec
+from tests.conftest import ROOT
+
+
+def test_a_failed_template_thread_fails_the_build_and_publishes_nothing(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    import ductgen.pipeline.builder as builder
+
+    def broken(*_args: object) -> dict[str, bytes]:
+        raise ExportError("template: the disk is full (test)")
+
+    monkeypatch.setattr(builder, "template_bytes", broken)
+    spec = parse_spec({"name": "tt", "throat": {"width": 80, "depth": 20}})
+    stages: list[str] = []
+    with pytest.raises(ExportError, match="disk is full"):
+        build(spec, tmp_path / "out", only=["template"], cache=False, progress=stages.append)
+    assert stages[-1] == "template"  # raised at its own stage, as when drawn there
+    assert not (tmp_path / "out").exists() or not any((tmp_path / "out").iterdir())
+
+
+@pytest.mark.slow
+def test_work_ahead_and_beside_gives_the_same_bytes(tmp_path: Path) -> None:
+    """The kitcar sample (curved: template, jig and picture all started ahead) built with
+    the side worker and without it: every file byte for byte the same."""
+    spec = load_spec(ROOT / "samples" / "kitcar-bonnet-intake.toml")
+    only = ["cutter", "template", "sheet", "jig"]
+    build(spec, tmp_path / "a", only=only, cache=False)
+    build(spec, tmp_path / "b", only=only, cache=False, beside=False)
+    a = {p.name: p.read_bytes() for p in sorted((tmp_path / "a").iterdir())}
+    b = {p.name: p.read_bytes() for p in sorted((tmp_path / "b").iterdir())}
+    assert sorted(a) == sorted(b) and "kitcar-bonnet-intake-jig.step" in a
+    assert [n for n in a if a[n] != b[n]] == []
