@@ -10,7 +10,7 @@ from __future__ import annotations
 from collections.abc import Callable
 from concurrent.futures import Future
 from dataclasses import dataclass, field
-from typing import Any
+from typing import Any, TypeVar
 
 from ductgen.cache import Cache
 from ductgen.design import Design
@@ -21,6 +21,8 @@ from ductgen.spec.model import Spec
 from ductgen.worker import KernelWorker
 
 __all__ = ["OUTPUTS", "BuildContext", "Output", "jig_bytes", "template_bytes"]
+
+T = TypeVar("T")
 
 
 @dataclass
@@ -38,6 +40,12 @@ class BuildContext:
     cache: Cache | None = None
     quality: str = "normal"
     ahead: dict[str, Future[Any]] = field(default_factory=dict)
+
+    def take(self, name: str, make: Callable[[], T]) -> T:
+        """The result of the work the build started ahead under ``name`` (its error raised
+        here), or ``make()`` when none was started."""
+        ahead = self.ahead.pop(name, None)
+        return make() if ahead is None else ahead.result()
 
     @property
     def warnings(self) -> list[DesignWarning]:
@@ -82,10 +90,9 @@ def template_bytes(
 
 def _template(ctx: BuildContext) -> dict[str, bytes]:
     """:func:`template_bytes`, or what the build started ahead (its error raised here)."""
-    ahead = ctx.ahead.pop("template", None)
-    if ahead is not None:
-        return ahead.result()
-    return template_bytes(ctx.design, ctx.spec, ctx.record.spec_sha256, ctx.cache)
+    return ctx.take(
+        "template", lambda: template_bytes(ctx.design, ctx.spec, ctx.record.spec_sha256, ctx.cache)
+    )
 
 
 def _sheet(ctx: BuildContext) -> dict[str, bytes]:
@@ -122,11 +129,7 @@ def jig_bytes(
 def _jig(ctx: BuildContext) -> dict[str, bytes]:
     """:func:`jig_bytes` in the caller's kernel worker, or what the build started ahead (its
     error raised here); the facts go to the record's ``jig`` (``report["jig"]``)."""
-    ahead = ctx.ahead.pop("jig", None)
-    if ahead is not None:
-        files, facts = ahead.result()
-    else:
-        files, facts = jig_bytes(ctx.design, ctx.spec, ctx.quality, ctx.worker)
+    files, facts = ctx.take("jig", lambda: jig_bytes(ctx.design, ctx.spec, ctx.quality, ctx.worker))
     ctx.record.jig = facts
     return files
 

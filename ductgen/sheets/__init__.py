@@ -85,11 +85,8 @@ def sheet_files(ctx: Any) -> dict[str, bytes]:
     from ductgen.sheets.preview import preview_png
     from ductgen.sheets.sheet import sheet_pdf
 
-    # the picture, when the build started it ahead (drawn by a second worker while the
-    # kernel worker went on): its result, or its error, here
-    ahead = getattr(ctx, "ahead", {}).pop("preview", None)
-    try:
-        png: bytes | None = preview_png(ctx, ctx.worker) if ahead is None else ahead.result()
+    try:  # drawn here, or taken from the build's second worker, which drew it ahead
+        png: bytes | None = ctx.take("preview", lambda: preview_png(ctx, ctx.worker))
     except ExportError as err:
         ctx.warnings.append(DesignWarning("preview_unavailable", str(err)))
         png = None

@@ -18,7 +18,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from ductgen.errors import ExportError, GeometryError
-from ductgen.render import GL_PACKAGES, MARGIN, gl_message, render_png
+from ductgen.render import gl_message, render_png
 from ductgen.sheets.skin_patch import curved_panel, patch_marks
 from ductgen.solids.jobs import cutter_mesh_job
 
@@ -26,12 +26,7 @@ if TYPE_CHECKING:
     from ductgen.design import Design
     from ductgen.geometry.panel_surface import PanelFrame
 
-__all__ = [
-    "GL_PACKAGES",
-    "MARGIN",
-    "preview_png",
-    "render_png",
-]
+__all__ = ["preview_png"]
 
 #: The part the picture shows: the first of these the build made.
 _KINDS = ("insert", "cutter", "plug")
