@@ -90,3 +90,31 @@ def test_stl_bytes_do_not_keep_rounding_noise_at_zero() -> None:
     assert len(files) == 1
     moved = np.array([[1e-3, 0.0, 0.0], [10.0, 0.0, 0.0], [0.0, 10.0, 0.0], [0.0, 0.0, 10.0]])
     assert stl_bytes(moved, faces) not in files  # a real micrometre still shows
+
+
+def test_step_text_does_not_depend_on_where_the_writer_broke_a_line() -> None:
+    """The same statements wrapped at other places, with a noise coordinate printed at two
+    lengths or as an exact zero, give the same bytes (ISO 10303-21: line breaks between
+    tokens carry no meaning; the kernel's writer wraps near 72 characters, so a longer
+    number moves its breaks)."""
+    from ductgen.solids.step_text import reproducible_step
+
+    head = (
+        b"ISO-10303-21;\nHEADER;\nFILE_NAME('a','2020-01-01T00:00:00',('x'),(\n"
+        b"    'y'),'z','w'\n  ,'v');\nENDSEC;\nDATA;\n"
+    )
+    tail = b"ENDSEC;\nEND-ISO-10303-21;\n"
+    variants = [
+        b"#1 = CARTESIAN_POINT('',(-1.776356839400E-15,-4.15,\n    0.));\n",
+        b"#1 = CARTESIAN_POINT('',(2.1E-14,-4.15,0.));\n",
+        b"#1 = CARTESIAN_POINT('',(0.,-4.15,0.));\n",
+        b"#1 = CARTESIAN_POINT('',\n  (0.,\n    -4.15,0.)\n  );\r\n",
+    ]
+    files = {reproducible_step(head + v + tail, "p") for v in variants}
+    assert len(files) == 1
+    (text,) = files
+    assert b"#1 = CARTESIAN_POINT('',(0.,-4.15,0.));\n" in text
+    assert text.count(b"\n") == text.count(b";\n") == 8  # one statement per line
+    # a number at or above 1e-12 is not noise by the rule
+    kept = reproducible_step(head + b"#1 = CARTESIAN_POINT('',(1.5E-11,-4.15,0.));\n" + tail, "p")
+    assert b"(1.5E-11,-4.15,0.)" in kept

@@ -8,13 +8,14 @@ Healing before STEP export: :func:`ductgen.solids.heal.heal`; the file's uncerta
 the greatest edge tolerance of the healed shape (``write.precision.mode`` 2 with that value).
 
 Reproducible: the STEP header's ``FILE_NAME`` time stamp is the build date
-(:func:`ductgen.stamp.build_datetime`), and STL normals are computed from the
-float32 vertices the file stores, so one build's bytes equal the next one's.
+(:func:`ductgen.stamp.build_datetime`), rounding noise is written as zero and every
+statement is on one line (:func:`ductgen.solids.step_text.reproducible_step`), and STL
+normals are computed from the float32 vertices the file stores, so one build's bytes equal
+the next one's.
 """
 
 from __future__ import annotations
 
-import re
 import tempfile
 from pathlib import Path
 from typing import Any
@@ -22,13 +23,10 @@ from typing import Any
 import numpy as np
 
 from ductgen.solids.heal import heal
-from ductgen.solids.step_text import stamp_step
+from ductgen.solids.step_text import reproducible_step
 from ductgen.units import FILE_UNITS
 
 __all__ = ["read_step", "step_bytes", "step_bytes_healed", "stl_bytes"]
-
-
-_NOISE = re.compile(rb"(?<![\w.#])-?\d\.\d*E-(?:1[3-9]|[2-9]\d|\d{3})(?![\w.])")
 
 
 def step_bytes(
@@ -73,10 +71,7 @@ def step_bytes_healed(
 
             raise ExportError("the STEP writer failed")
         data = path.read_bytes()
-    data = stamp_step(data, name)
-    # coordinates below 1e-12 (mm, or of a unit vector) are rounding noise that differs
-    # between runs of the shape fixing: write them as zero
-    return _NOISE.sub(b"0.", data), healed
+    return reproducible_step(data, name), healed
 
 
 def read_step(path: str | Path) -> Any:

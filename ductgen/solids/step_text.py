@@ -1,10 +1,20 @@
-"""The STEP header's time stamp and product name, set on the file's text (no CAD kernel).
+"""The STEP file's text made reproducible (no CAD kernel): time stamp, product name, lines.
 
 The STEP writer puts its own time and a per-process numbered product name into the file;
 :func:`stamp_step` replaces both with the build date (:func:`ductgen.stamp.build_datetime`)
 and the given name. It is the last step of encoding a solid and is also applied to a solid's
 STEP bytes taken from the solid cache, so a cached solid written under another name or on
 another day is byte for byte the file a fresh build would write.
+
+:func:`reproducible_step` also writes rounding noise (numbers below 1e-12: mm, or
+components of a unit vector) as zero, since it differs between runs of the shape fixing,
+and :func:`one_statement_per_line` undoes the writer's line wrapping. Where the writer breaks a
+line depends on how long it printed each number, and a coordinate that is rounding noise
+(below 1e-12, written as zero afterwards) is printed at a different length from one run of
+the shape fixing to the next; one statement per line makes the bytes independent of it.
+ISO 10303-21 reads the file as one stream of tokens (line breaks between them carry no
+meaning; how to print a file is left to its informative print guidelines), so a reader sees
+the same entities.
 """
 
 from __future__ import annotations
@@ -13,7 +23,7 @@ import re
 
 from ductgen.stamp import build_datetime
 
-__all__ = ["stamp_step"]
+__all__ = ["one_statement_per_line", "reproducible_step", "stamp_step"]
 
 _FILE_NAME = re.compile(rb"FILE_NAME\('([^']*)','[^']*'")
 #: The product entity (id, name, description, contexts) with the line breaks the writer put
@@ -21,6 +31,28 @@ _FILE_NAME = re.compile(rb"FILE_NAME\('([^']*)','[^']*'")
 _PRODUCT = re.compile(
     rb"PRODUCT\(\s*'[^']*'\s*,\s*'[^']*'\s*,\s*'([^']*)'\s*,\s*\(([^)]*)\)\s*\)\s*;"
 )
+
+
+#: A line break (and the next line's indentation) that does not end a statement: the writer
+#: ends every statement with ``;`` and a line; it breaks long ones between tokens
+_WRAP = re.compile(rb"(?<!;)\r?\n[ ]*")
+
+
+def one_statement_per_line(data: bytes) -> bytes:
+    """``data`` (STEP text as the kernel's writer wraps it) with every statement on one line:
+    the writer's continuation breaks and their indentation removed, ``\\n`` after each ``;``.
+    """
+    return _WRAP.sub(b"", data.replace(b"\r\n", b"\n"))
+
+
+#: A number below 1e-12 in the writer's format (``-1.776356839400E-15``)
+_NOISE = re.compile(rb"(?<![\w.#])-?\d\.\d*E-(?:1[3-9]|[2-9]\d|\d{3})(?![\w.])")
+
+
+def reproducible_step(data: bytes, name: str) -> bytes:
+    """``data`` (the STEP writer's text) as ductgen writes it: one statement per line,
+    stamped (:func:`stamp_step`), rounding noise written as ``0.``."""
+    return _NOISE.sub(b"0.", stamp_step(one_statement_per_line(data), name))
 
 
 def stamp_step(data: bytes, name: str) -> bytes:
