@@ -106,3 +106,18 @@ def test_a_worker_started_from_a_thread_still_dies_with_its_parent() -> None:
     while _alive(child) and time.monotonic() < deadline:
         time.sleep(0.1)
     assert not _alive(child), "the kernel worker outlived its killed parent"
+
+
+def test_a_worker_runs_its_numerical_libraries_on_one_thread(monkeypatch) -> None:  # type: ignore[no-untyped-def]
+    """A worker's BLAS gets one thread unless the environment says otherwise (numpy's
+    BLAS reads ``OPENBLAS_NUM_THREADS`` / ``OMP_NUM_THREADS`` when it loads)."""
+    monkeypatch.delenv("OPENBLAS_NUM_THREADS", raising=False)
+    monkeypatch.delenv("MKL_NUM_THREADS", raising=False)
+    monkeypatch.setenv("OMP_NUM_THREADS", "3")  # the user's own choice stays
+    worker = KernelWorker()
+    try:
+        assert worker.run(os.getenv, "OPENBLAS_NUM_THREADS") == "1"
+        assert worker.run(os.getenv, "MKL_NUM_THREADS") == "1"
+        assert worker.run(os.getenv, "OMP_NUM_THREADS") == "3"
+    finally:
+        worker.close()
