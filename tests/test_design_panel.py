@@ -151,13 +151,10 @@ def test_a_moved_cylinder_panel_builds_the_sample_moved(sample_builds, tmp_path)
     data["name"] = "moved"
     got = build(parse_spec(data), tmp_path / "out")
     geo, want = got.report["geometry"], ref.report["geometry"]
-    for key in ("cutter_volume_mm3", "plug_volume_mm3"):
+    # the insert's walls are widened the same way on both (mounted behind: a prism of the
+    # widened offset up to the skin's inner face), so the insert too
+    for key in ("cutter_volume_mm3", "plug_volume_mm3", "insert_volume_mm3"):
         assert geo[key] == pytest.approx(want[key], rel=1e-3), key
-    # the insert's walls are widened for the same convex radius, by 1/(1 - depth/radius) at
-    # the deepest point: on the cylinder from nothing at the skin (a ruled loft), on the
-    # panel all the way up (a prism), so the panel's is the thicker-walled one, by about
-    # half the widening (~0.035 mm) over the walls' area (~800 x 40 mm²): under 1 %
-    assert want["insert_volume_mm3"] < geo["insert_volume_mm3"] < 1.01 * want["insert_volume_mm3"]
     # the placed cutter: every vertex of the sample's mesh, moved, lies on the panel build's
     # mesh to 0.05 mm (trimesh's closest point on the triangles)
     for kind in ("cutter",):

@@ -8,7 +8,8 @@ through the spigot and the top) is subtracted once.
 Outer pieces (mm, x downstream, z up, skin outer surface z = 0):
 
 * walls/floor — the top footprint offset in plan by wall + edge round
-  (:func:`~ductgen.solids.footprint.offset_wire`, round joins), as a prism, intersected
+  (:func:`~ductgen.solids.footprint.offset_wire`, round joins), as a prism (under a convex
+  skin widened for its curvature below the skin: :func:`_wall_body`), intersected
   with the floor profile offset downward by the wall (arc radius R − wall, ramp line moved
   along its normal);
 * skin fill and flange — mount ``behind``: the cut-out prism through the skin thickness
@@ -148,24 +149,33 @@ def convex_curvature(d: Design) -> float:
 
 
 def _wall_body(
-    g: InletGeometry, x_ne: float, r_edge: float, w: float, k: float, z0: float, ruled: bool
+    g: InletGeometry, x_ne: float, r_edge: float, w: float, k: float, z0: float, shape: str
 ) -> cq.Solid:
     """The walls' outer body down to z0 < 0: the footprint offset by edge round + wall, a
     prism; under a convex skin (k > 0, 1/mm) the offset at depth |z0| is edge round +
-    wall/(1 − k·|z0|), so the wall measured on the skin is at least ``w`` at every depth:
-    ``ruled``, a ruled loft from the plain offset at the skin to that one (1/(1 − k·d) is
-    convex in d, so the straight ruling is never thinner); otherwise a prism of that offset
-    all the way up (thicker near the skin; used on the user's panel, where the loft's faces
-    carried onto a B-spline panel left a crack at the apex that split pieces inherited)."""
+    wall/(1 − k·|z0|), so the wall measured on the skin is at least ``w`` at every depth.
+    ``shape`` says how the body reaches the skin:
+
+    * ``"under_skin"``: a prism of that offset up to the skin's inner face, z = −skin
+      thickness; the skin fill above it (the cut-out's own offset) goes through the skin.
+      For inserts mounted behind, whose flange covers the step at that face. Plain
+      extrusions: the insert's Booleans 2.5–4× faster than on a loft's ruled faces.
+    * ``"ruled"``: a ruled loft from the plain offset at the skin to that one (1/(1 − k·d)
+      is convex in d, so the straight ruling is never thinner): surface-mounted inserts,
+      whose walls pass through the cut-out, on the analytic skins.
+    * ``"prism"``: a prism of that offset all the way up (thicker near the skin): surface
+      mounted on the user's panel, where the loft's faces carried onto a B-spline panel
+      left a crack at the apex that split pieces inherited."""
     square = g.transition is None
     if k <= 0.0:
         return prism(footprint_face(g, x_ne, r_edge + w, square_end=square), z0, 0.0)
     deep = r_edge + wall_for_curvature(w, k, -z0)
-    if not ruled:
-        return prism(footprint_face(g, x_ne, deep, square_end=square), z0, 0.0)
-    top = offset_wire(g, x_ne, r_edge + w, 0.0, square_end=square)
+    if shape != "ruled":
+        top = -g.skin_thickness_mm if shape == "under_skin" else 0.0
+        return prism(footprint_face(g, x_ne, deep, square_end=square), z0, top)
+    top_wire = offset_wire(g, x_ne, r_edge + w, 0.0, square_end=square)
     bottom = offset_wire(g, x_ne, deep, z0, square_end=square)
-    return cq.Solid.makeLoft([bottom, top], True)
+    return cq.Solid.makeLoft([bottom, top_wire], True)
 
 
 def make_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
@@ -186,7 +196,10 @@ def build_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
     x_ne = g.throat_end_mm
     k = convex_curvature(d)
     try:
-        walls = _walls(g, ins.wall, ins.flange_width, k, not isinstance(d.skin, PanelSkin))
+        shape = "prism" if isinstance(d.skin, PanelSkin) else "ruled"
+        walls = _walls(
+            g, ins.wall, ins.flange_width, k, "under_skin" if ins.mount == "behind" else shape
+        )
         pieces = _skin_and_flange(g, ins, lay, off)
         if g.lip.style == "raised":
             pieces.append(_raised_lip(g, g.width_mm / 2.0 + off))
@@ -258,17 +271,17 @@ def _is_top_plane(face: cq.Face, z: float) -> bool:
     return abs(bb.zmin - z) < 1e-6 and abs(bb.zmax - z) < 1e-6 and face.normalAt().z > 0.5
 
 
-def _walls(g: InletGeometry, w: float, flange_width: float, k: float, ruled: bool) -> cq.Shape:
+def _walls(g: InletGeometry, w: float, flange_width: float, k: float, shape: str) -> cq.Shape:
     """The walls and floor: the wall body (:func:`_wall_body`) cut to the floor profile
     moved down by the wall ``w`` (mm), across the flange's width (mm) and 10 mm more;
-    ``k`` the convex curvature (1/mm), ``ruled`` as in :func:`_wall_body`."""
+    ``k`` the convex curvature (1/mm), ``shape`` as in :func:`_wall_body`."""
     r_edge = g.edge_radius_mm
     off = w + r_edge
     x_ne = g.throat_end_mm
     span = g.width_mm / 2.0 + off + flange_width + 10.0
     return boolean(
         "intersect",
-        _wall_body(g, x_ne, r_edge, w, k, -g.drop_mm - w - 2.0, ruled),
+        _wall_body(g, x_ne, r_edge, w, k, -g.drop_mm - w - 2.0, shape),
         [floor_profile_solid(g, w, -off - 2.0, x_ne + off + 1.0, span)],
         "insert walls",
     )
