@@ -25,6 +25,7 @@ Outer pieces (mm, x downstream, z up, skin outer surface z = 0):
 from __future__ import annotations
 
 import dataclasses
+from typing import Literal
 
 import cadquery as cq
 import numpy as np
@@ -148,8 +149,20 @@ def convex_curvature(d: Design) -> float:
     return max(float(np.max(k)), 0.0)
 
 
+#: How the walls widened under a convex skin reach the skin (:func:`_wall_body`).
+WallShape = Literal["under_skin", "ruled", "prism"]
+
+
+def _wall_shape(d: Design) -> WallShape:
+    """Mounted behind: ``"under_skin"``; surface-mounted: ``"prism"`` on the user's panel,
+    ``"ruled"`` on the analytic skins (:func:`_wall_body`)."""
+    if d.fab.insert.mount == "behind":
+        return "under_skin"
+    return "prism" if isinstance(d.skin, PanelSkin) else "ruled"
+
+
 def _wall_body(
-    g: InletGeometry, x_ne: float, r_edge: float, w: float, k: float, z0: float, shape: str
+    g: InletGeometry, x_ne: float, r_edge: float, w: float, k: float, z0: float, shape: WallShape
 ) -> cq.Solid:
     """The walls' outer body down to z0 < 0: the footprint offset by edge round + wall, a
     prism; under a convex skin (k > 0, 1/mm) the offset at depth |z0| is edge round +
@@ -196,10 +209,7 @@ def build_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
     x_ne = g.throat_end_mm
     k = convex_curvature(d)
     try:
-        shape = "prism" if isinstance(d.skin, PanelSkin) else "ruled"
-        walls = _walls(
-            g, ins.wall, ins.flange_width, k, "under_skin" if ins.mount == "behind" else shape
-        )
+        walls = _walls(g, ins.wall, ins.flange_width, k, _wall_shape(d))
         pieces = _skin_and_flange(g, ins, lay, off)
         if g.lip.style == "raised":
             pieces.append(_raised_lip(g, g.width_mm / 2.0 + off))
@@ -271,7 +281,7 @@ def _is_top_plane(face: cq.Face, z: float) -> bool:
     return abs(bb.zmin - z) < 1e-6 and abs(bb.zmax - z) < 1e-6 and face.normalAt().z > 0.5
 
 
-def _walls(g: InletGeometry, w: float, flange_width: float, k: float, shape: str) -> cq.Shape:
+def _walls(g: InletGeometry, w: float, flange_width: float, k: float, shape: WallShape) -> cq.Shape:
     """The walls and floor: the wall body (:func:`_wall_body`) cut to the floor profile
     moved down by the wall ``w`` (mm), across the flange's width (mm) and 10 mm more;
     ``k`` the convex curvature (1/mm), ``shape`` as in :func:`_wall_body`."""
