@@ -47,6 +47,20 @@ def keep_for_split(step_path: str, solid: cq.Shape) -> None:
     _IN_MEMORY[str(Path(step_path).resolve())] = solid
 
 
+def close_box(solid: cq.Shape) -> cq.BoundBox:
+    """``solid``'s bounding box (mm) from its geometry, not enlarged by tolerances
+    (``BRepBndLib::AddClose``): on the samples' inserts its x and y extents equal the optimal
+    box's to 1e-4 mm (z, where only padding uses it, to 0.05 mm), in milliseconds where the
+    optimal box of a mapped insert takes ~1 CPU s."""
+    import cadquery as cq
+    from OCP.Bnd import Bnd_Box
+    from OCP.BRepBndLib import BRepBndLib
+
+    box = Bnd_Box()
+    BRepBndLib.AddClose_s(solid.wrapped, box)
+    return cq.BoundBox(box)
+
+
 def split_across_flow(
     solid: cq.Shape,
     stations_x: list[float],
@@ -74,7 +88,7 @@ def split_across_flow(
     from ductgen.errors import GeometryError
     from ductgen.solids.split_cut import split_by_booleans, split_by_planes
 
-    bb = solid.BoundingBox()
+    bb = close_box(solid)
     xs = sorted(stations_x)
     if not xs or xs[0] <= bb.xmin or xs[-1] + key_length >= bb.xmax:
         raise GeometryError("split", f"stations {xs} must lie inside x {bb.xmin:.1f}-{bb.xmax:.1f}")
@@ -141,7 +155,7 @@ def split_for_bed(
         xs, pieces = split_shifted(solid, xs, key_length, by_planes)
         if all(bed_fit(triangulate(p, 0.1, 0.3)[0], bed, up).fits for p in pieces):
             return xs, pieces
-        bb = solid.BoundingBox()  # the estimate was short: one piece more
+        bb = close_box(solid)  # the estimate was short: one piece more
         n = len(xs) + 2
         xs = [bb.xmin + (bb.xmax - bb.xmin) * k / n for k in range(1, n)]
     raise GeometryError("split", f"{max_pieces} pieces across the flow do not fit the bed {bed}")

@@ -96,7 +96,7 @@ def split_by_booleans(
     """The pieces by Booleans (each piece: what is left ∩ the region upstream of its glue
     surface, the rest: what is left minus it), retried with fuzzy tolerances
     (:func:`~ductgen.solids.primitives.boolean`). ``bb``: ``solid``'s bounding box when
-    already taken (its optimal box costs ~1 CPU s on a mapped insert)."""
+    already taken (:func:`~ductgen.solids.split.close_box`)."""
     from ductgen.solids.primitives import boolean
 
     bb = solid.BoundingBox() if bb is None else bb
