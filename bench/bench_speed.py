@@ -167,6 +167,10 @@ def _timed(cmd: list[str], tree: Path | None, cwd: Path) -> tuple[float, int, fl
     return time.perf_counter() - t0, run.returncode, cpu() - c0
 
 
+class BuildFailed(SystemExit):
+    """A build that failed (exits the benchmark unless the caller skips the sample)."""
+
+
 def full_build(
     tree: Path, sample: Path, tmp: Path, *extra: str, env: dict[str, str] | None = None
 ) -> tuple[float, float, dict[str, float]]:
@@ -184,7 +188,7 @@ def full_build(
     )
     shutil.rmtree(out.parent, ignore_errors=True)
     if run.returncode:
-        raise SystemExit(f"build of {sample.stem} failed with {tree}:\n{run.stderr[-3000:]}")
+        raise BuildFailed(f"build of {sample.stem} failed with {tree}:\n{run.stderr[-3000:]}")
     got = json.loads(run.stdout.strip().splitlines()[-1])
     return float(got["s"]), float(got["cpu"]), got["prof"]
 
@@ -322,13 +326,21 @@ def main() -> None:
                 t: dict[str, list[float]] = {"old": [], "new": []}
                 c: dict[str, list[float]] = {"old": [], "new": []}
                 pr: dict[str, list[dict[str, float]]] = {"old": [], "new": []}
-                for r in range(args.repeat):
-                    for which in ("old", "new") if r % 2 == 0 else ("new", "old"):
-                        cache = {"DUCTGEN_CACHE_DIR": str(Path(tempfile.mkdtemp(dir=tmp)))}
-                        wall, used, stages = full_build(trees[which], p, tmp, env=cache)
-                        t[which].append(wall)
-                        c[which].append(used)
-                        pr[which].append(stages)
+                try:
+                    for r in range(args.repeat):
+                        for which in ("old", "new") if r % 2 == 0 else ("new", "old"):
+                            cache = {"DUCTGEN_CACHE_DIR": str(Path(tempfile.mkdtemp(dir=tmp)))}
+                            wall, used, stages = full_build(trees[which], p, tmp, env=cache)
+                            t[which].append(wall)
+                            c[which].append(used)
+                            pr[which].append(stages)
+                except BuildFailed as err:
+                    if which == "new":
+                        raise
+                    # a sample made (or changed) after the old commit, which refuses it
+                    last = str(err.code).strip().splitlines()[-1]
+                    print(f"{p.stem:24s} skipped: the old commit cannot build it ({last})")
+                    continue
                 profiles[p.stem] = pr
                 m = {k: statistics.median(v) for k, v in t.items()}
                 mc = {k: statistics.median(v) for k, v in c.items()}
