@@ -90,16 +90,13 @@ def _region(stations_x: float, bb: Any, key: tuple[float, float]) -> Any:
     return boolean("fuse", up, tongue, "split region", glue=True)
 
 
-def split_by_booleans(
-    solid: Any, xs: list[float], key: tuple[float, float], bb: Any = None
-) -> list[Any]:
+def split_by_booleans(solid: Any, xs: list[float], key: tuple[float, float], bb: Any) -> list[Any]:
     """The pieces by Booleans (each piece: what is left ∩ the region upstream of its glue
     surface, the rest: what is left minus it), retried with fuzzy tolerances
-    (:func:`~ductgen.solids.primitives.boolean`). ``bb``: ``solid``'s bounding box when
-    already taken (:func:`~ductgen.solids.split.close_box`)."""
+    (:func:`~ductgen.solids.primitives.boolean`). ``bb``: ``solid``'s bounding box
+    (:func:`~ductgen.solids.split.close_box`)."""
     from ductgen.solids.primitives import boolean
 
-    bb = solid.BoundingBox() if bb is None else bb
     pieces = []
     rest = solid
     for i, reg in enumerate([_region(s, bb, key) for s in xs]):
@@ -156,19 +153,18 @@ def _common_and_cut(a: Any, b: Any) -> tuple[Any, Any] | None:
 
 
 def split_by_planes(
-    solid: Any, xs: list[float], key: tuple[float, float], bb: Any = None
+    solid: Any, xs: list[float], key: tuple[float, float], bb: Any
 ) -> list[Any] | None:
     """The pieces by one splitter operation; None when one comes out invalid. Raises
     :class:`GeometryError` when a piece is not one solid (a station through a place where
     the part falls apart; Booleans would give the same). ``bb``: ``solid``'s bounding box
-    when already taken."""
+    (:func:`~ductgen.solids.split.close_box`)."""
     import cadquery as cq
     from OCP.BRepAlgoAPI import BRepAlgoAPI_Splitter
     from OCP.TopTools import TopTools_ListOfShape
 
     from ductgen.errors import GeometryError
 
-    bb = solid.BoundingBox() if bb is None else bb
     yc = 0.5 * (bb.ymin + bb.ymax)
     args, tools = TopTools_ListOfShape(), TopTools_ListOfShape()
     args.Append(solid.wrapped)
