@@ -9,7 +9,7 @@ from pathlib import Path
 
 import pytest
 
-from ductgen.errors import ExportError
+from ductgen.errors import ExportError, GeometryError
 from ductgen.pipeline import build
 from ductgen.spec import load_spec, parse_spec
 from tests.conftest import ROOT
@@ -46,3 +46,51 @@ def test_work_ahead_and_beside_gives_the_same_bytes(tmp_path: Path) -> None:
     b = {p.name: p.read_bytes() for p in sorted((tmp_path / "b").iterdir())}
     assert sorted(a) == sorted(b) and "kitcar-bonnet-intake-jig.step" in a
     assert [n for n in a if a[n] != b[n]] == []
+
+
+@pytest.mark.slow
+def test_solids_built_beside_give_the_same_bytes(tmp_path: Path) -> None:
+    """The cutter and the plug built in the side worker while the kernel worker builds the
+    insert (and splits it): every file the same bytes as when one worker builds all three."""
+    spec = load_spec(ROOT / "samples" / "club-racer-brake.toml")
+    only = ["cutter", "insert", "plug"]
+    build(spec, tmp_path / "a", only=only, cache=False)
+    build(spec, tmp_path / "b", only=only, cache=False, beside=False)
+    a = {p.name: p.read_bytes() for p in sorted((tmp_path / "a").iterdir())}
+    b = {p.name: p.read_bytes() for p in sorted((tmp_path / "b").iterdir())}
+    assert sorted(a) == sorted(b) and "club-racer-brake-insert-part2.step" in a
+    assert [n for n in a if a[n] != b[n]] == []
+
+
+class _Failing:
+    """A stand-in kernel worker whose job fails at ``stage``."""
+
+    def __init__(self, stage: str) -> None:
+        self.stage = stage
+
+    def run(self, *_args: object) -> object:
+        raise GeometryError(self.stage, "failed (test)")
+
+
+@pytest.mark.parametrize(
+    ("main", "side", "raised"),
+    [
+        ("insert", "cutter check", "cutter check"),  # the cutter comes before the insert
+        ("insert STEP", "plug", "insert STEP"),  # the insert before the plug
+    ],
+)
+def test_solids_beside_raise_the_first_kinds_error(main: str, side: str, raised: str) -> None:
+    """When the kernel worker's insert and the side worker's job both fail, the error is the
+    one a single worker building the kinds in order would have raised first."""
+    from concurrent.futures import Future
+
+    from ductgen.design import build_design
+    from ductgen.pipeline.solid_cache import SolidStage
+
+    design = build_design(parse_spec({"name": "tt", "throat": {"width": 80, "depth": 20}}))
+    failed: Future[object] = Future()
+    failed.set_exception(GeometryError(side, "failed (test)"))
+    stage = SolidStage(None, design, "normal", _Failing(main))  # type: ignore[arg-type]
+    with pytest.raises(GeometryError) as err:
+        stage.solids(["cutter", "insert", "plug"], "tt", Path("."), lambda *_a: failed)
+    assert err.value.stage == raised

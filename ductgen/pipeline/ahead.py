@@ -1,6 +1,9 @@
 """Work a build starts before the stage that writes it, so it runs while the kernel worker
 builds the solids and splits the insert (two cores: the kernel worker's, and this).
 
+The cutter and the plug are built in the side worker while the kernel worker builds the
+insert (which it splits next); see :meth:`~ductgen.pipeline.solid_cache.SolidStage.solids`.
+
 The template (parent-process work that reads only the spec and the design) is drawn on a
 thread of this process; the marking jig (a kernel job that needs no solid) and the preview's
 picture run in a second worker process, :func:`~ductgen.worker.side_worker` (the kernel
@@ -36,14 +39,15 @@ class Ahead:
         """The side worker (the process-wide one with the kernel worker's limits)."""
         return side_worker(self._limits)
 
-    def start(self, name: str, fn: Any, *args: Any) -> None:
-        """Run ``fn(*args)`` on a thread; its result is ``futures[name]``. The build waits
-        for its threads before its staging folder is published or removed."""
+    def start(self, name: str, fn: Any, *args: Any) -> Future[Any]:
+        """Run ``fn(*args)`` on a thread; its result is ``futures[name]`` (returned too). The
+        build waits for its threads before its staging folder is published or removed."""
         if self._pool is None:
-            self._pool = ThreadPoolExecutor(max_workers=3, thread_name_prefix="ductgen-ahead")
+            self._pool = ThreadPoolExecutor(max_workers=4, thread_name_prefix="ductgen-ahead")
             self._exits.callback(self._pool.shutdown, wait=True, cancel_futures=True)
             self._exits.push(self._stop_on_error)  # runs first: a failed build waits for nothing
         self.futures[name] = self._pool.submit(fn, *args)
+        return self.futures[name]
 
     def _stop_on_error(self, exc_type: type[BaseException] | None, *_exc: Any) -> bool:
         """When the build fails or is interrupted, stop the side worker's unfinished job

@@ -10,6 +10,7 @@ from __future__ import annotations
 import contextlib
 import time
 from collections.abc import Callable, Sequence
+from concurrent.futures import Future
 from dataclasses import dataclass, field
 from functools import partial
 from pathlib import Path
@@ -182,11 +183,17 @@ def _preview_ahead(b: _Build) -> None:
     b.ahead.start("preview", picture, _context(b), b.ahead.side())
 
 
+def _side_job(b: _Build, job: Any, *args: Any) -> Future[Any]:
+    """``job(*args)`` started in the side worker (for the solids' stage)."""
+    return b.ahead.start("side solids", b.ahead.side().run, job, *args)
+
+
 def _solids(b: _Build) -> None:
     """The solids: from the cache or built in the kernel worker; their files staged."""
     assert b.kernel is not None and b.out is not None
     kinds = list(b.options.solid_kinds)
-    b.solids = b.kernel.solids(kinds, b.spec.name, b.staging)
+    beside = partial(_side_job, b) if b.ahead.beside else None
+    b.solids = b.kernel.solids(kinds, b.spec.name, b.staging, beside)
     for k in kinds:
         for fmt, name in b.solids[k].files.items():
             b.out.staged_path(name)

@@ -16,6 +16,8 @@ from __future__ import annotations
 import dataclasses
 import functools
 import time
+from collections.abc import Callable
+from concurrent.futures import Future, wait
 from pathlib import Path
 from typing import Any
 
@@ -24,6 +26,7 @@ import numpy as np
 from ductgen.atomic import write_atomic
 from ductgen.cache import Cache, Entry, fingerprint, kernel_versions, source_fingerprint
 from ductgen.design import Design
+from ductgen.errors import DuctgenError
 from ductgen.solids.jobs import build_solids
 from ductgen.solids.results import InsertPiece, Mesh, SolidResult
 from ductgen.solids.split import split_insert_job
@@ -31,7 +34,10 @@ from ductgen.solids.step_text import stamp_step
 from ductgen.tolerances import STL_QUALITY
 from ductgen.worker import KernelWorker
 
-__all__ = ["SolidStage", "design_key"]
+__all__ = ["Beside", "SolidStage", "design_key"]
+
+#: Starts ``job(*args)`` in the side worker and returns its future.
+Beside = Callable[..., Future[Any]]
 
 #: What makes a solid: the packages and modules whose source enters the key.
 _SOLID_SOURCES = (
@@ -95,8 +101,11 @@ class SolidStage:
             return None
         return fingerprint(self.dkey, STL_QUALITY[self.quality], *parts)
 
-    def solids(self, kinds: list[str], prefix: str, staging: Path) -> dict[str, SolidResult]:
-        """Per kind what :func:`ductgen.solids.jobs.build_solids` returns, its files staged."""
+    def solids(
+        self, kinds: list[str], prefix: str, staging: Path, beside: Beside | None = None
+    ) -> dict[str, SolidResult]:
+        """Per kind what :func:`ductgen.solids.jobs.build_solids` returns, its files staged.
+        ``beside``: starts a job in the side worker (see :meth:`_build`)."""
         got: dict[str, SolidResult] = {}
         missing = []
         for kind in kinds:
@@ -111,15 +120,37 @@ class SolidStage:
             got[kind] = _solid_from_entry(entry, kind, prefix, staging, t0)
             self.hits.append(kind)
         if missing:
-            built = self.worker.run(
-                build_solids, self.design, missing, self.quality, prefix, str(staging)
-            )
+            built = self._build(missing, prefix, staging, beside)
             for kind in missing:
                 got[kind] = built[kind]
                 self.misses.append(kind)
                 if kind in self.keys and self.cache is not None:
                     self.cache.put(self.keys[kind], *_solid_to_entry(built[kind], staging))
         return {k: got[k] for k in kinds}
+
+    def _build(
+        self, kinds: list[str], prefix: str, staging: Path, beside: Beside | None
+    ) -> dict[str, SolidResult]:
+        """Build ``kinds`` in the kernel worker; with ``beside`` and the insert among other
+        kinds, the others are built in the side worker meanwhile (the insert stays in the
+        kernel worker, which splits it next from the shape it keeps; it builds its own cutter
+        to cut with: the same function, the same solid). Each kind's files are the same bytes
+        either way. When both fail, the error of the kind that comes first in ``kinds`` is
+        raised, as when one worker builds them one after another."""
+        args = (self.quality, prefix, str(staging))
+        others = [k for k in kinds if k != "insert"]
+        if beside is None or "insert" not in kinds or not others:
+            return self.worker.run(build_solids, self.design, kinds, *args)
+        side = beside(build_solids, self.design, others, *args)
+        try:
+            main = self.worker.run(build_solids, self.design, ["insert"], *args)
+        except DuctgenError as err:
+            wait([side])
+            first = side.exception()
+            if isinstance(first, DuctgenError) and _rank(first, kinds) < _rank(err, kinds):
+                raise first from None
+            raise
+        return {**side.result(), **main}
 
     def split_insert(
         self,
@@ -161,6 +192,12 @@ class SolidStage:
             ]
             self.cache.put(key, {"pieces": meta}, blobs)
         return pieces
+
+
+def _rank(err: DuctgenError, kinds: list[str]) -> int:
+    """Where the kind ``err`` names (its stage's first word) comes in ``kinds``."""
+    kind = getattr(err, "stage", "").split(" ")[0]
+    return kinds.index(kind) if kind in kinds else len(kinds)
 
 
 def _solid_to_entry(r: SolidResult, staging: Path) -> tuple[dict[str, Any], dict[str, Any]]:
