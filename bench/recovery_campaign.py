@@ -31,6 +31,9 @@ Run (from the checkout)::
     nice -n 19 python bench/recovery_campaign.py run [-j 1] [--np 2] [--limit N]
     python bench/recovery_campaign.py run --scheduler tcp://host:8786   # a Dask cluster
     python bench/recovery_campaign.py status
+    nice -n 19 python bench/recovery_campaign.py line --var ramp_angle_deg --values 5,7,9,11 \
+        --mesh medium      # one variable through the ranges' centre, the others held
+    python bench/recovery_campaign.py lines   # every line point beside the map (lines.csv)
     python bench/recovery_campaign.py collect [--fingerprint FP] [--to-data]
 
 On a Dask cluster every worker must see this checkout and the ``--work`` folder at the same
@@ -242,15 +245,16 @@ def snapshot(work: Path, commit: str) -> Path:
     return code
 
 
-def settings(code: Path) -> dict[str, Any]:
+def settings(code: Path, mesh: str = MESH) -> dict[str, Any]:
     """What a point's numbers depend on besides its own four variables; its hash is the
-    fingerprint that keeps points of different settings apart (``code``: the snapshot)."""
+    fingerprint that keeps points of different settings apart (``code``: the snapshot;
+    ``mesh``: the mesh level of the points, the campaign's own by default)."""
     src = hashlib.sha256()
     for path in sorted((code / "ductgen" / "cfd").glob("*.py")):
         src.update(path.name.encode() + b"\0" + path.read_bytes() + b"\0")
     return {
         "campaign_version": CAMPAIGN_VERSION,
-        "mesh": MESH,
+        "mesh": mesh,
         "openfoam": openfoam_version(),
         "ductgen_cfd_source_sha256": src.hexdigest(),
         "depth_mm": DEPTH_MM,
@@ -416,19 +420,54 @@ def _executor(jobs: int, scheduler: str | None) -> tuple[Executor, Callable[[], 
     return pool, lambda: pool.shutdown(wait=True)
 
 
+#: The centre of the map's ranges the lines run through (targets; ``line --at`` moves it).
+LINE_CENTRE = {"ramp_angle_deg": 7.0, "width_over_depth": 4.0, "delta_over_depth": 0.5, "ivr": 0.8}
+
+
+def line_plan(var: str, values: list[float], at: dict[str, float]) -> list[dict[str, Any]]:
+    """Points along one variable through ``at`` (the others held): a trend read straight
+    from the solver, beside the map's fit, at any mesh level. Named ``line-VAR-VALUE``."""
+    if var not in RANGES:
+        sys.exit(f"--var must be one of {', '.join(RANGES)}, not {var!r}")
+    return [
+        {
+            "point": f"line-{var}-{v:06.2f}".replace(".", "_"),
+            **{**LINE_CENTRE, **at, var: round(float(v), 4)},
+        }
+        for v in values
+    ]
+
+
+def _line_args(args: argparse.Namespace) -> list[dict[str, Any]]:
+    at: dict[str, float] = {}
+    for item in filter(None, (args.at or "").split(",")):
+        key, _, val = item.partition("=")
+        if key not in RANGES:
+            sys.exit(f"--at: {key!r} is not one of {', '.join(RANGES)}")
+        at[key] = float(val)
+    return line_plan(args.var, [float(v) for v in args.values.split(",")], at)
+
+
 def _run(args: argparse.Namespace) -> None:
-    plan = read_plan()
-    write_specs(plan)
+    plan = _line_args(args) if args.cmd == "line" else read_plan()
+    if args.cmd == "line":
+        SPECS.mkdir(parents=True, exist_ok=True)
+        for p in plan:
+            (SPECS / f"{p['point']}.toml").write_text(point_spec(p))
+    else:
+        write_specs(plan)
     commit = git_commit()
     work = Path(args.work).resolve()
     code = snapshot(work, commit)
-    s = settings(code)
+    mesh = args.mesh if args.cmd == "line" else MESH
+    s = settings(code, mesh)
     fp = fingerprint(s)
     folder = RESULTS / fp
     write_json_atomic(folder / "settings.json", {"fingerprint": fp, **s})
     if not (folder / "solver_settings.json").is_file():
         write_json_atomic(folder / "solver_settings.json", solver_settings(code))
     done = {p.stem for p in folder.glob("p[0-9][0-9][0-9].json")}
+    done |= {p.stem for p in folder.glob("line-*.json") if ".failed" not in p.name}
     failed = {p.name.split(".")[0] for p in folder.glob("p*.failed.json")}
     todo = [p for p in plan if p["point"] not in done]
     if not args.retry_failed:
@@ -448,14 +487,15 @@ def _run(args: argparse.Namespace) -> None:
         return
     tasks = [
         {
-            "point": p["point"] if args.cmd == "run" else f"study-{p['point']}",
+            "point": p["point"] if args.cmd != "study" else f"study-{p['point']}",
             "spec_text": (SPECS / f"{p['point']}.toml").read_text(),
             "work": str(work / fp),
             "code": str(code),
             "result": str(
-                folder / (f"{p['point']}.json" if args.cmd == "run" else f"study-{p['point']}.json")
+                folder
+                / (f"{p['point']}.json" if args.cmd != "study" else f"study-{p['point']}.json")
             ),
-            "mesh": MESH if args.cmd == "run" else "study",
+            "mesh": {"run": MESH, "line": mesh}.get(args.cmd, "study"),
             "np": args.np,
             "nice": not args.no_nice,
             "record": {
@@ -600,6 +640,56 @@ def _status(args: argparse.Namespace) -> None:
         print(f"{folder.name}{mark}: {n} of {len(plan)} done, {nf} failed")
 
 
+def _lines(args: argparse.Namespace) -> None:
+    """Every line point of every settings folder beside the shipped map's value at the inputs
+    the run reached: a table on the terminal and ``lines.csv`` (the trend straight from the
+    solver, per mesh level, against the fit)."""
+    from ductgen.flow.recovery_map import fit_map, read_map_table
+
+    m = fit_map(read_map_table(DATA_CSV.read_text()))
+    rows = []
+    for path in sorted(RESULTS.glob("*/line-*.json")):
+        rec = json.loads(path.read_text())
+        x = rec["map_inputs"]
+        r = rec["cfd"]["result"]
+        var = rec["plan_target"]["point"].split("-")[1]
+        rows.append(
+            {
+                "line": var,
+                "mesh": rec["settings"]["mesh"],
+                "fingerprint": rec["fingerprint"],
+                "point": rec["point"],
+                **{k: round(x[k], 4) for k in INPUT_KEYS},
+                "ram_recovery_flow_avg": round(r["ram_recovery_flow_avg"], 4),
+                "ram_recovery_area_avg": round(r["ram_recovery_area_avg"], 4),
+                "map": round(m(tuple(x[k] for k in INPUT_KEYS)), 4),
+                "cells": r["cells"],
+                "iterations": r["iterations"],
+                "plateau": int(bool(r["plateau"])),
+            }
+        )
+    if not rows:
+        sys.exit(f"no line points in {RESULTS}")
+    rows.sort(key=lambda r: (r["line"], r["mesh"], r[r["line"]]))
+    out = RESULTS / "lines.csv"
+    with out.open("w", newline="") as fh:
+        fh.write(
+            "# line points (bench/recovery_campaign.py line): CFD straight from the solver at "
+            "the inputs it reached, and the shipped map (ductgen/data/recovery_map.csv) there\n"
+        )
+        w = csv.DictWriter(fh, fieldnames=list(rows[0]))
+        w.writeheader()
+        w.writerows(rows)
+    cols = ["line", "mesh", *INPUT_KEYS, "ram_recovery_flow_avg", "ram_recovery_area_avg", "map"]
+    print("  ".join(f"{c[:14]:>14}" for c in cols))
+    for r in rows:
+        print("  ".join(f"{r[c]:>14}" for c in cols))
+    print(f"-> {out.relative_to(ROOT)}")
+
+
+INPUT_KEYS = ("ramp_angle_deg", "width_over_depth", "delta_over_depth", "ivr")
+
+
 #: The recalled published band (NACA ACR 5I20 / RM A7I30, recalled, not re-read): recovery
 #: about 0.8-0.9 at IVR 0.8-1 with a thin boundary layer, 0.1-0.15 lower at delta/D ~ 1.
 RECALLED_BAND = {"thin": (0.8, 1.0, 0.8, 0.9), "delta/D ~ 1": (0.8, 1.0, 0.65, 0.8)}
@@ -725,16 +815,28 @@ def main(argv: list[str] | None = None) -> None:
     fig.add_argument("--fingerprint", default=None)
     fig.add_argument("--out", default=None)
     fig.add_argument("--work", default="/tmp/recovery-campaign", help="scratch folder")
+    line = sub.add_parser("line", help="points along one variable, others held (any mesh)")
+    line.add_argument("--var", default="ramp_angle_deg", help=f"one of {', '.join(RANGES)}")
+    line.add_argument("--values", default="5,7,9,11", help="comma list of the variable's values")
+    line.add_argument("--at", default=None, help="the held values, e.g. ivr=0.6,width_over_depth=3")
+    line.add_argument("--mesh", default=MESH, choices=["coarse", "medium", "fine"])
+    line.add_argument("--np", type=int, default=2, help="MPI ranks per point")
+    line.add_argument("--no-nice", action="store_true", help="do not run under nice -n 19")
+    line.add_argument("--work", default="/tmp/recovery-campaign", help="scratch folder")
+    line.set_defaults(jobs=1, retry_failed=True, points=None, limit=None, scheduler=None)
+    sub.add_parser("lines", help="the line points beside the map (lines.csv)")
     st = sub.add_parser("status", help="points done per settings fingerprint")
     st.add_argument("--work", default="/tmp/recovery-campaign", help="scratch folder")
     sub.add_parser("plan", help="write the plan and the specs")
     args = ap.parse_args(argv)
-    if args.cmd in ("run", "study"):
+    if args.cmd in ("run", "study", "line"):
         _run(args)
     elif args.cmd == "collect":
         _collect(args)
     elif args.cmd == "figure":
         _figure(args)
+    elif args.cmd == "lines":
+        _lines(args)
     elif args.cmd == "status":
         _status(args)
     else:
