@@ -6,9 +6,11 @@ a subprocess of its own with ``PYTHONPATH`` set to that tree, so drift in the ma
 falls on both. It prints:
 
 1. full build of each sample with every output, after imports (interpreter, ductgen, the
-   kernel worker warmed up): old s, new s, new/old, and the CPU seconds each used (the
-   build process, its workers and their children): on a machine others load,
-   the wall ratio shows what concurrency could get, the CPU what the work costs; then a
+   kernel worker and, in a tree that has one, the side worker warmed up: both import the
+   CAD kernel before the clock starts, as in the design page after its first build; a cold
+   command-line build pays the imports, section 2): old s, new s, new/old, and the CPU
+   seconds each used (the build process, its workers and their children): on a machine
+   others load, the wall ratio shows what concurrency could get, the CPU what the work costs; then a
    table per sample of the CPU seconds per stage, parent (``build``'s progress stages), kernel
    worker and side worker (their jobs and ``stage`` names), old and new side by side (work on
    the parent's threads counts in the stage that was running);
@@ -104,6 +106,8 @@ def _start(self):
 w.KernelWorker._start = _start
 if "--cold-worker" not in sys.argv:  # an old tree's run takes "module:function"
     worker.run(warm_up if hasattr(w, "job_target") else "ductgen.solids.jobs:warm_up")
+    if hasattr(w, "side_worker"):  # a tree with a side worker: its imports are done too
+        w.side_worker(worker.limits).run(warm_up)
 def cpu():
     return pcpu() + wcpu()
 spec = load_spec(sys.argv[1])

@@ -251,6 +251,11 @@ class Cache:
             os.utime(path)  # recently used: evicted last
         return entry
 
+    def has(self, key: str) -> bool:
+        """Whether an entry is stored under ``key`` (not read: :meth:`get` may still find
+        it corrupt)."""
+        return self._path(key).is_file()
+
     def put(self, key: str, meta: dict[str, Any], blobs: dict[str, Any]) -> None:
         """Store an entry atomically, then evict the oldest entries beyond the bound. A
         failure to write (disk full, read-only folder) leaves the cache as it was."""

@@ -95,7 +95,9 @@ def test_fingerprint_reads_floats_exactly_and_sets_in_any_order() -> None:
 def test_entry_round_trip_and_corrupt_entries_are_misses(tmp_path: Path) -> None:
     c = Cache(tmp_path, 10**7)
     mesh = np.linspace(0.0, 1.0, 12, dtype=np.float32).reshape(4, 3)
+    assert not c.has("ab" + "0" * 62)
     c.put("ab" + "0" * 62, {"volume_mm3": 0.1 + 0.2}, {"step": b"ISO-10303-21;", "v": mesh})
+    assert c.has("ab" + "0" * 62) and not c.has("ab" + "1" * 62)
     got = c.get("ab" + "0" * 62)
     assert got is not None
     assert got.meta == {"volume_mm3": 0.1 + 0.2}  # JSON keeps a float's every bit

@@ -50,8 +50,9 @@ def test_work_ahead_and_beside_gives_the_same_bytes(tmp_path: Path) -> None:
 
 @pytest.mark.slow
 def test_solids_built_beside_give_the_same_bytes(tmp_path: Path) -> None:
-    """The cutter and the plug built in the side worker while the kernel worker builds the
-    insert (and splits it): every file the same bytes as when one worker builds all three."""
+    """The cutter handed from the kernel worker to the side worker as a binary B-rep, checked
+    and written there with the plug while the kernel worker cuts the insert with it (and
+    splits it): every file the same bytes as when one worker builds all three."""
     spec = load_spec(ROOT / "samples" / "club-racer-brake.toml")
     only = ["cutter", "insert", "plug"]
     build(spec, tmp_path / "a", only=only, cache=False)
@@ -63,12 +64,16 @@ def test_solids_built_beside_give_the_same_bytes(tmp_path: Path) -> None:
 
 
 class _Failing:
-    """A stand-in kernel worker whose job fails at ``stage``."""
+    """A stand-in kernel worker that hands over a cutter and fails building at ``stage``."""
 
     def __init__(self, stage: str) -> None:
         self.stage = stage
 
-    def run(self, *_args: object) -> object:
+    def run(self, job: object, *_args: object) -> object:
+        from ductgen.solids.handoff import flat_solid_job
+
+        if job is flat_solid_job:
+            return b"cutter (test)"
         raise GeometryError(self.stage, "failed (test)")
 
 

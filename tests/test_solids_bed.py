@@ -36,3 +36,25 @@ def test_station_estimate_is_monotone_in_bed_size() -> None:
     assert estimate_stations(v, BED, "+z") == pytest.approx([200.0, 400.0])  # 3 pieces
     assert estimate_stations(v, (320, 320, 250), "+z") == pytest.approx([300.0])
     assert estimate_stations(v, (650, 320, 250), "+z") == []
+
+
+def test_footprint_of_a_dense_mesh_is_its_outline_s() -> None:
+    """A turned rectangle: its corners, 400 points along one edge and 5000 inside (the fit
+    looks at the outline only): the closed form above at the fit's turn, and the same fit as
+    the four corners alone."""
+    rng = np.random.default_rng(7)
+    a, b, theta = 230.0, 40.0, np.radians(20.0)
+    edge = np.c_[rng.uniform(0, 1, 400), np.zeros(400)]
+    u = np.vstack([rng.uniform(0, 1, (5000, 2)), edge, [[0, 0], [1, 0], [1, 1], [0, 1]]])
+    rot = np.array([[np.cos(theta), -np.sin(theta)], [np.sin(theta), np.cos(theta)]])
+    xy = (u * [a, b]) @ rot.T
+    v = np.c_[xy, rng.uniform(0, 10, len(xy))]
+    corners = np.array([[0, 0], [a, 0], [a, b], [0, b]]) @ rot.T
+    fit, alone = bed_fit(v, BED), bed_fit(np.c_[corners, [0, 0, 10, 10]], BED)
+    t = np.radians(fit.turn_deg) + theta  # the rectangle's turn on the bed
+    span = sorted(
+        [a * abs(np.cos(t)) + b * abs(np.sin(t)), a * abs(np.sin(t)) + b * abs(np.cos(t))]
+    )
+    assert fit.fits and sorted(fit.size_mm[:2]) == pytest.approx(span, abs=0.05)
+    assert fit.turn_deg == alone.turn_deg
+    assert fit.size_mm[:2] == pytest.approx(alone.size_mm[:2], abs=0.05)

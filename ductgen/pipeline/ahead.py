@@ -49,6 +49,18 @@ class Ahead:
         self.futures[name] = self._pool.submit(fn, *args)
         return self.futures[name]
 
+    def side_job(self, job: Any, *args: Any) -> Future[Any]:
+        """``job(*args)`` started in the side worker (the solids' stage)."""
+        return self.start("side solids", self.side().run, job, *args)
+
+    def warm_side(self) -> None:
+        """Start the side worker's kernel imports now, while the kernel worker builds the
+        cutter it hands over (otherwise they would hold up the cutter's checks and the
+        plug)."""
+        from ductgen.solids.jobs import warm_up
+
+        self.start("side warm-up", self.side().run, warm_up)
+
     def _stop_on_error(self, exc_type: type[BaseException] | None, *_exc: Any) -> bool:
         """When the build fails or is interrupted, stop the side worker's unfinished job
         (the worker restarts on its next job)."""

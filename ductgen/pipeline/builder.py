@@ -10,7 +10,6 @@ from __future__ import annotations
 import contextlib
 import time
 from collections.abc import Callable, Sequence
-from concurrent.futures import Future
 from dataclasses import dataclass, field
 from functools import partial
 from pathlib import Path
@@ -153,16 +152,17 @@ def _geometry(b: _Build) -> None:
 
 
 def _open(b: _Build) -> None:
-    """Check no file would be replaced without ``force``; open the staging folder."""
+    """Check no file would be replaced; open the staging folder; warm a side worker to use."""
     check_free([b.out_dir / n for n in planned_files(b.spec, b.options.kinds)], b.options.force)
     b.store = open_cache(b.options.cache)
     assert b.design is not None
     b.kernel = SolidStage(b.store, b.design, b.options.quality, b.worker)
     b.out = b.exits.enter_context(OutputSet(b.out_dir, force=b.options.force))
+    if b.ahead.beside and b.kernel.builds_beside(list(b.options.solid_kinds)):
+        b.ahead.warm_side()
 
 
 def _template_ahead(b: _Build) -> None:
-    assert b.design is not None
     b.ahead.start("template", template_bytes, b.design, b.spec, spec_sha256(b.spec), b.store)
 
 
@@ -183,16 +183,11 @@ def _preview_ahead(b: _Build) -> None:
     b.ahead.start("preview", picture, _context(b), b.ahead.side())
 
 
-def _side_job(b: _Build, job: Any, *args: Any) -> Future[Any]:
-    """``job(*args)`` started in the side worker (for the solids' stage)."""
-    return b.ahead.start("side solids", b.ahead.side().run, job, *args)
-
-
 def _solids(b: _Build) -> None:
     """The solids: from the cache or built in the kernel worker; their files staged."""
     assert b.kernel is not None and b.out is not None
     kinds = list(b.options.solid_kinds)
-    beside = partial(_side_job, b) if b.ahead.beside else None
+    beside = b.ahead.side_job if b.ahead.beside else None
     b.solids = b.kernel.solids(kinds, b.spec.name, b.staging, beside)
     for k in kinds:
         for fmt, name in b.solids[k].files.items():
@@ -359,8 +354,7 @@ def build(
     options: BuildOptions | None = None,
     beside: bool = True,
 ) -> BuildResult:
-    """Build every requested output of ``spec`` into ``out_dir``, stage by stage
-    (:func:`stages`).
+    """Build every requested output of ``spec`` into ``out_dir``, stage by stage (:func:`stages`).
 
     ``options``: the checked options (:meth:`BuildOptions.check`); without them ``only``,
     ``quality``, ``force`` and ``cache`` are checked here. ``design``: the design of
@@ -369,8 +363,8 @@ def build(
     from the user's solid cache and store new ones there (:mod:`ductgen.cache`;
     ``DUCTGEN_CACHE_DIR``, ``DUCTGEN_CACHE_MB``); False bypasses it. ``worker``: the kernel
     worker the build's kernel jobs run in (default: the process-wide one).
-    ``beside``: the jig and the preview's picture run in a second worker beside it
-    (:mod:`ductgen.pipeline.ahead`); False (a sweep, whose variants fill the cores): in it.
+    ``beside``: the jig, the cutter and plug and the preview's picture run in a second
+    worker beside it (:mod:`ductgen.pipeline.ahead`); False (a sweep): all in it.
 
     Raises:
         SpecError: bad input (before anything is written), e.g. a bad ``DUCTGEN_CACHE_MB``.

@@ -27,6 +27,7 @@ from ductgen.atomic import write_atomic
 from ductgen.cache import Cache, Entry, fingerprint, kernel_versions, source_fingerprint
 from ductgen.design import Design
 from ductgen.errors import DuctgenError
+from ductgen.solids.handoff import flat_solid_job
 from ductgen.solids.jobs import build_solids
 from ductgen.solids.results import InsertPiece, Mesh, SolidResult
 from ductgen.solids.split import split_insert_job
@@ -101,6 +102,19 @@ class SolidStage:
             return None
         return fingerprint(self.dkey, STL_QUALITY[self.quality], *parts)
 
+    def builds_beside(self, kinds: list[str]) -> bool:
+        """Whether :meth:`solids` would use the side worker for ``kinds``: the insert and
+        another kind not in the cache (so the build can start the side worker's imports
+        early, :func:`~ductgen.solids.jobs.warm_up`)."""
+        missing = [
+            k
+            for k in kinds
+            if (key := self._key("solid", k, self.quality)) is None
+            or self.cache is None
+            or not self.cache.has(key)
+        ]
+        return "insert" in missing and len(missing) > 1
+
     def solids(
         self, kinds: list[str], prefix: str, staging: Path, beside: Beside | None = None
     ) -> dict[str, SolidResult]:
@@ -132,18 +146,23 @@ class SolidStage:
         self, kinds: list[str], prefix: str, staging: Path, beside: Beside | None
     ) -> dict[str, SolidResult]:
         """Build ``kinds`` in the kernel worker; with ``beside`` and the insert among other
-        kinds, the others are built in the side worker meanwhile (the insert stays in the
-        kernel worker, which splits it next from the shape it keeps; it builds its own cutter
-        to cut with: the same function, the same solid). Each kind's files are the same bytes
-        either way. When both fail, the error of the kind that comes first in ``kinds`` is
-        raised, as when one worker builds them one after another."""
+        kinds, the others are finished in the side worker meanwhile: the kernel worker
+        builds the cutter in design coordinates first (the insert is cut with it), hands it
+        over as a binary B-rep (:func:`~ductgen.solids.handoff.flat_solid_job`) and builds the
+        insert, which it splits next from the shape it keeps; the side worker checks and
+        writes the cutter and builds the plug. Each kind's files are the same bytes either
+        way. When both fail, the error of the kind that comes first in ``kinds`` is raised,
+        as when one worker builds them one after another."""
         args = (self.quality, prefix, str(staging))
         others = [k for k in kinds if k != "insert"]
         if beside is None or "insert" not in kinds or not others:
             return self.worker.run(build_solids, self.design, kinds, *args)
-        side = beside(build_solids, self.design, others, *args)
+        flats = {}
+        if "cutter" in others:
+            flats["cutter"] = self.worker.run(flat_solid_job, self.design, "cutter")
+        side = beside(build_solids, self.design, others, *args, flats)
         try:
-            main = self.worker.run(build_solids, self.design, ["insert"], *args)
+            main = self.worker.run(build_solids, self.design, ["insert"], *args, flats)
         except DuctgenError as err:
             wait([side])
             first = side.exception()

@@ -98,11 +98,26 @@ def stand_on_bed(vertices: np.ndarray, up: str, turn_deg: float) -> np.ndarray:
     return out
 
 
+def _outline(xy: np.ndarray) -> np.ndarray:
+    """The points of ``xy`` (N, 2) that can be outermost in some direction: the vertices of
+    their convex hull (a footprint's extents at every turn are taken there, so the turn
+    search costs the hull's few points, not the mesh's thousands); every point when the
+    hull cannot be made (fewer than three, or all on a line)."""
+    if len(xy) < 16:
+        return xy
+    from scipy.spatial import ConvexHull, QhullError
+
+    try:
+        return xy[ConvexHull(xy).vertices]
+    except (QhullError, ValueError):
+        return xy
+
+
 def bed_fit(vertices: np.ndarray, bed: tuple[float, float, float], up: str = "+z") -> BedFit:
     """Fit of a mesh (vertices (N, 3) mm) on a bed (x, y, z mm), standing ``up``."""
     v = _standing(vertices, up)
     height = float(np.ptp(v[:, 2]))
-    xy = v[:, :2] - v[:, :2].mean(axis=0)
+    xy = _outline(v[:, :2] - v[:, :2].mean(axis=0))
     best = None
     for deg in np.arange(0.0, 90.0, 0.5):
         t = math.radians(float(deg))

@@ -177,17 +177,29 @@ def _clipped_below_skin(vertices: Any, faces: Any, g: InletGeometry) -> tuple[An
 
 
 def build_solids(
-    d: Design, kinds: list[str], quality: str, prefix: str, staging: str
+    d: Design,
+    kinds: list[str],
+    quality: str,
+    prefix: str,
+    staging: str,
+    flats: dict[str, bytes] | None = None,
 ) -> dict[str, SolidResult]:
     """Build, check and encode each kind; write ``PREFIX-KIND.step/.stl`` into ``staging``.
 
     Returns per kind its :class:`~ductgen.solids.results.SolidResult`: measured volume and
     area (mm³, mm²), face count, expected volume, the written file names, wall-clock seconds
     per stage, and the STL mesh (vertices mm, faces) for previews and mesh checks in the
-    parent.
+    parent. ``flats``: solids already built in design coordinates (kind → binary B-rep,
+    :func:`~ductgen.solids.handoff.flat_solid_job`), taken instead of building them again
+    (the same solid to the last bit, so the same files), by the kinds that need them too
+    (the insert its cutter).
     """
     out: dict[str, SolidResult] = {}
-    built: dict[str, Any] = {}
+    from io import BytesIO
+
+    import cadquery as cq
+
+    built: dict[str, Any] = {k: cq.Shape.importBin(BytesIO(b)) for k, b in (flats or {}).items()}
     book = recipes()
     for kind in kinds:
         out[kind] = _one_solid(d, kind, book[kind], built, quality, f"{prefix}-{kind}", staging)
@@ -215,7 +227,7 @@ def _one_solid(
     times: dict[str, float] = {}
     t0 = time.perf_counter()
     stage(kind)
-    flat = recipe.build(d, built)
+    flat = built[kind] if kind in built else recipe.build(d, built)
     built[kind] = flat
     solid = place(flat, d, kind)
     times["build_s"] = time.perf_counter() - t0
