@@ -1,8 +1,10 @@
 """Work a build starts before the stage that writes it, so it runs while the kernel worker
 builds the solids and splits the insert (two cores: the kernel worker's, and this).
 
-The cutter and the plug are built in the side worker while the kernel worker builds the
-insert (which it splits next); see :meth:`~ductgen.pipeline.solid_cache.SolidStage.solids`.
+The side worker also checks and writes the cutter the kernel worker hands it, and builds the
+plug, while the kernel worker cuts the insert (which it splits next); its kernel imports
+start when the build opens (:meth:`Ahead.warm_side`;
+:meth:`~ductgen.pipeline.solid_cache.SolidStage.solids`).
 
 The template (parent-process work that reads only the spec and the design) is drawn on a
 thread of this process; the marking jig (a kernel job that needs no solid) and the preview's

@@ -194,11 +194,11 @@ def build_solids(
     (the same solid to the last bit, so the same files), by the kinds that need them too
     (the insert its cutter).
     """
-    out: dict[str, SolidResult] = {}
     from io import BytesIO
 
     import cadquery as cq
 
+    out: dict[str, SolidResult] = {}
     built: dict[str, Any] = {k: cq.Shape.importBin(BytesIO(b)) for k, b in (flats or {}).items()}
     book = recipes()
     for kind in kinds:
