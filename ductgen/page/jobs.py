@@ -94,7 +94,7 @@ def _stop_default_worker() -> None:
     from ductgen.worker import default_worker, side_workers
 
     default_worker().stop()
-    for w in side_workers():  # a build's work started ahead (its jig, its picture)
+    for w in side_workers():  # a build's work beside (jig, cutter, plug, picture)
         w.stop()
 
 
