@@ -126,6 +126,13 @@ def die_with_parent(parent_pid: int, sig: int = signal.SIGKILL, prctl: bool = Tr
 BLAS_THREADS = {"OPENBLAS_NUM_THREADS": "1", "OMP_NUM_THREADS": "1", "MKL_NUM_THREADS": "1"}
 
 
+#: Environment variables a job reads that decide its files (the STEP and DXF date stamp,
+#: :mod:`ductgen.stamp`): sent with every job and set in the worker before it runs, so a
+#: worker started earlier (a side worker kept between builds) writes what the caller's
+#: environment says now.
+JOB_ENVIRONMENT = ("SOURCE_DATE_EPOCH",)
+
+
 def worker_environment() -> dict[str, str]:
     """The environment a worker process starts with: this one's, with
     :data:`BLAS_THREADS` where it does not say otherwise."""
@@ -178,7 +185,12 @@ def _child(conn: Any, memory_mb: int) -> None:  # pragma: no cover - runs in the
             msg = pickle.loads(raw)
             if msg is None:
                 return
-            target, args, kwargs = msg
+            target, args, kwargs, env = msg
+            for key, value in env.items():  # the caller's, now (JOB_ENVIRONMENT)
+                if value is None:
+                    os.environ.pop(key, None)
+                else:
+                    os.environ[key] = value
             mod, fn = target.split(":")
             result = getattr(import_module(mod), fn)(*args, **kwargs)
             _send(conn, ("ok", result))
@@ -270,7 +282,7 @@ class KernelWorker:
             self._start()
         timeout = self.limits.timeout_s if timeout_s is None else timeout_s
         current = target.split(":")[-1]
-        self._conn.send((target, args, kwargs))
+        self._conn.send((target, args, kwargs, {k: os.environ.get(k) for k in JOB_ENVIRONMENT}))
         import time
 
         deadline = time.monotonic() + timeout

@@ -121,3 +121,20 @@ def test_a_worker_runs_its_numerical_libraries_on_one_thread(monkeypatch) -> Non
         assert worker.run(os.getenv, "OMP_NUM_THREADS") == "3"
     finally:
         worker.close()
+
+
+def test_a_worker_started_earlier_dates_its_files_as_the_caller_says_now(monkeypatch) -> None:  # type: ignore[no-untyped-def]
+    """``SOURCE_DATE_EPOCH`` is the caller's at each job, not the worker's at its start (a
+    side worker kept between builds writes some of a build's STEP files)."""
+    from ductgen.stamp import build_date
+
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "0")
+    worker = KernelWorker()
+    try:
+        assert worker.run(build_date) == "1970-01-01"
+        monkeypatch.setenv("SOURCE_DATE_EPOCH", "1700000000")  # 2023-11-14T22:13:20Z
+        assert worker.run(build_date) == "2023-11-14"
+        monkeypatch.delenv("SOURCE_DATE_EPOCH")
+        assert worker.run(os.getenv, "SOURCE_DATE_EPOCH") is None
+    finally:
+        worker.close()
