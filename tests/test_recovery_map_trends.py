@@ -20,12 +20,13 @@ Trends checked (sources in docs/sources.md):
 Evidence behind the two expected failures, straight from the solver rather than the fit
 (``bench/recovery_campaign.py line``, ``bench/results/recovery_campaign/lines.csv``; W/D 4,
 delta/D 0.5): along ramp angle 5/7/9/11 deg the coarse mesh gives 0.793/0.774/0.739/0.700 and
-the medium mesh 0.795/0.783/0.760/0.725 (the map 0.794/0.772/0.738/0.699 at the same inputs):
-the fall is the solver's, not the fit's, and it flattens as the mesh is refined (5 to 7 deg:
--0.019 coarse, -0.011 medium) without turning into an optimum. Along IVR 0.43/0.59/0.74/0.89
-at 7 deg (coarse) the flow-averaged recovery is 0.851/0.805/0.774/0.744 and the area-averaged
-0.720/0.723/0.719/0.687: neither average rises with the flow the way the transonic abstract
-states; the area average is nearly flat up to IVR ~0.7 and falls above it.
+the medium mesh 0.795/0.783/0.760/0.725, the fine mesh 0.808/0.793 at 5/7 deg (the map
+0.794/0.772/0.738/0.699 at the coarse runs' inputs): the fall is the solver's, not the fit's,
+and every mesh keeps it (5 to 7 deg: -0.019 coarse, -0.011 medium, -0.015 fine). Along IVR
+0.43/0.59/0.74/0.89 at 7 deg (coarse) the flow-averaged recovery is 0.851/0.805/0.774/0.744
+and the area-averaged 0.720/0.723/0.719/0.687: neither average rises with the flow the way
+the transonic abstract states; the area average is nearly flat up to IVR ~0.7 and falls
+above it.
 """
 
 from __future__ import annotations
@@ -70,8 +71,8 @@ def test_best_ramp_angle_within_the_recommended_five_to_seven_degrees() -> None:
     strict=True,
     reason="known disagreement: the CFD map's recovery falls steadily with ramp angle over "
     "5-11 deg (0.789 at 5 deg, 0.761 at 7, 0.721 at 9, 0.673 at 11; W/D 4, delta/D 0.5, IVR 0.8), "
-    "no optimum near 7 deg; a medium-mesh line flattens the fall (5 to 7 deg: -0.011 against "
-    "-0.019 coarse) but keeps it (module docstring)",
+    "no optimum near 7 deg; the medium and fine meshes keep the fall (5 to 7 deg: -0.019 "
+    "coarse, -0.011 medium, -0.015 fine; module docstring)",
 )
 def test_best_ramp_angle_near_seven_degrees() -> None:
     # NACA ACR 5I20 / RM A7I30 [recalled, not re-read]: a best ramp angle near 7 deg
