@@ -7,7 +7,8 @@ falls on both. It prints:
 
 1. full build of each sample with every output, after imports (interpreter, ductgen, the
    kernel worker and, in a tree that has one, the side worker warmed up: both import the
-   CAD kernel before the clock starts, as in the design page after its first build; a cold
+   CAD kernel and the picture's drawing stack, and the build process the print checks'
+   mesh tools, before the clock starts, as in the design page after its first build; a cold
    command-line build pays the imports, section 2): old s, new s, new/old, and the CPU
    seconds each used (the build process, its workers and their children): on a machine
    others load, the wall ratio shows what concurrency could get, the CPU what the work costs; then a
@@ -108,6 +109,11 @@ if "--cold-worker" not in sys.argv:  # an old tree's run takes "module:function"
     worker.run(warm_up if hasattr(w, "job_target") else "ductgen.solids.jobs:warm_up")
     if hasattr(w, "side_worker"):  # a tree with a side worker: its imports are done too
         w.side_worker(worker.limits).run(warm_up)
+    # and what a design page has imported after its first build: the print checks' mesh
+    # tools in this process, the picture's drawing stack in every worker (either may draw)
+    import trimesh  # noqa: F401
+    for x in workers:
+        x.run(exec if hasattr(w, "job_target") else "builtins:exec", "import pyvista.plotting")
 def cpu():
     return pcpu() + wcpu()
 spec = load_spec(sys.argv[1])

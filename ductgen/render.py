@@ -15,7 +15,7 @@ import numpy as np
 
 from ductgen.errors import ExportError
 
-__all__ = ["GL_PACKAGES", "MARGIN", "gl_message", "render_png"]
+__all__ = ["GL_PACKAGES", "MARGIN", "gl_message", "render_png", "warm_up_drawing"]
 
 
 #: Debian/Ubuntu packages that offscreen VTK rendering needs on a bare machine.
@@ -92,6 +92,14 @@ def _skin_plate(opening: np.ndarray, margin: float) -> Any:
     pts = np.column_stack([np.vstack([rect, opening[::-1]]), np.zeros(4 + len(opening))])
     loops = np.hstack([[4, 0, 1, 2, 3], [len(opening), *range(4, 4 + len(opening))]])
     return pv.PolyData(pts).delaunay_2d(edge_source=pv.PolyData(pts, faces=loops))
+
+
+def warm_up_drawing() -> None:
+    """Worker job: import the drawing stack (pyvista and its plotting, VTK) now, so a
+    picture drawn next does not wait for it (about a second here; a build queues this in its
+    second worker when that worker has finished its solids, :mod:`ductgen.pipeline.ahead`)."""
+    import pyvista.plotting  # noqa: F401
+    from vtkmodules.vtkCommonCore import vtkLogger  # noqa: F401
 
 
 def render_png(

@@ -30,6 +30,7 @@ __all__ = [
     "flow_report",
     "geometry_section",
     "report_bytes",
+    "split_plan",
     "start_record",
 ]
 
@@ -279,6 +280,13 @@ def _bed_section(
             )
         section[kind] = entry
     return (section if len(section) > 1 else None), warnings, insert_up, split
+
+
+def split_plan(spec: Spec, d: Design, solids: dict[str, SolidResult]) -> InsertSplit | None:
+    """Where the insert will be split to fit the bed: the record's ``split``
+    (:func:`start_record`), from the insert's mesh alone, so a build can start the split
+    before the rest of the record is made."""
+    return _bed_section(spec, d, {k: v for k, v in solids.items() if k == "insert"})[3]
 
 
 def _skin_section(d: Design) -> dict[str, Any]:

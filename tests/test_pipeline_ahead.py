@@ -51,16 +51,55 @@ def test_work_ahead_and_beside_gives_the_same_bytes(tmp_path: Path) -> None:
 @pytest.mark.slow
 def test_solids_built_beside_give_the_same_bytes(tmp_path: Path) -> None:
     """The cutter handed from the kernel worker to the side worker as a binary B-rep, checked
-    and written there with the plug while the kernel worker cuts the insert with it (and
-    splits it): every file the same bytes as when one worker builds all three."""
+    and written there with the plug while the kernel worker cuts the insert with it; the
+    insert's split started before the record, and the sheet drawn on a thread while the
+    split runs: every file (report and sheet too) the same bytes as when one worker builds
+    all three and every stage does its own work."""
     spec = load_spec(ROOT / "samples" / "club-racer-brake.toml")
-    only = ["cutter", "insert", "plug"]
+    only = ["cutter", "insert", "plug", "template", "sheet"]
     build(spec, tmp_path / "a", only=only, cache=False)
     build(spec, tmp_path / "b", only=only, cache=False, beside=False)
     a = {p.name: p.read_bytes() for p in sorted((tmp_path / "a").iterdir())}
     b = {p.name: p.read_bytes() for p in sorted((tmp_path / "b").iterdir())}
     assert sorted(a) == sorted(b) and "club-racer-brake-insert-part2.step" in a
+    assert "club-racer-brake-sheet.pdf" in a and "report.json" in a
     assert [n for n in a if a[n] != b[n]] == []
+
+
+class _Blocking:
+    """A stand-in kernel worker whose job waits until it is stopped (or, ``block`` False,
+    returns at once)."""
+
+    def __init__(self, block: bool = True) -> None:
+        import threading
+
+        self.block = block
+        self.stopped = threading.Event()
+
+    def run(self, *_args: object) -> None:
+        if self.block and not self.stopped.wait(30):
+            raise AssertionError("the build waited for a job it should have stopped")
+
+    def stop(self) -> None:
+        self.stopped.set()
+
+
+def test_a_failed_build_stops_the_workers_of_its_unfinished_jobs_only() -> None:
+    """A build that fails while a job it started ahead still runs in a worker (the insert's
+    split in the kernel worker) stops that worker instead of waiting for the job; a worker
+    whose job has finished is left running."""
+    import contextlib
+
+    from ductgen.pipeline.ahead import Ahead
+    from ductgen.worker import WorkerLimits
+
+    busy, done = _Blocking(), _Blocking(block=False)
+    with pytest.raises(RuntimeError, match="record failed"), contextlib.ExitStack() as exits:
+        ahead = Ahead(exits, WorkerLimits(), beside=True)
+        ahead.run_in("finished", done, print).result()  # type: ignore[arg-type]
+        ahead.start("split", busy.run, stops=busy)  # type: ignore[arg-type]
+        raise RuntimeError("record failed (test)")
+    assert busy.stopped.is_set() and not done.stopped.is_set()
 
 
 class _Failing:

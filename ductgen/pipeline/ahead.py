@@ -9,9 +9,11 @@ start when the build opens (:meth:`Ahead.warm_side`;
 The template (parent-process work that reads only the spec and the design) is drawn on a
 thread of this process; the marking jig (a kernel job that needs no solid) and the preview's
 picture run in a second worker process, :func:`~ductgen.worker.side_worker` (the kernel
-worker's limits; the picture's job imports VTK only, the jig's the CAD kernel). A stage that
-writes such an output takes its result (or its error) from :attr:`Ahead.futures`; the files
-are the same bytes either way.
+worker's limits; the picture's job imports VTK only, the jig's the CAD kernel). Once the
+solids are made, the kernel worker's split of the insert is started from a thread too, so the
+record is made meanwhile, and the sheet is drawn on a thread as soon as its picture is there,
+while the kernel worker still splits. A stage that writes such an output takes its result
+(or its error) from :attr:`Ahead.futures`; the files are the same bytes either way.
 """
 
 from __future__ import annotations
@@ -36,14 +38,23 @@ class Ahead:
         self._exits = exits
         self._limits = limits
         self._pool: ThreadPoolExecutor | None = None
+        self._runs_in: dict[str, KernelWorker] = {}  # future name → the worker its job is in
+        #: whether the build draws the preview's picture in the side worker
+        self.picture_wanted = False
 
     def side(self) -> KernelWorker:
         """The side worker (the process-wide one with the kernel worker's limits)."""
         return side_worker(self._limits)
 
-    def start(self, name: str, fn: Any, *args: Any) -> Future[Any]:
+    def start(
+        self, name: str, fn: Any, *args: Any, stops: KernelWorker | None = None
+    ) -> Future[Any]:
         """Run ``fn(*args)`` on a thread; its result is ``futures[name]`` (returned too). The
-        build waits for its threads before its staging folder is published or removed."""
+        build waits for its threads before its staging folder is published or removed;
+        ``stops``: the worker ``fn`` runs its job in, which a failed or interrupted build
+        stops while the job is unfinished."""
+        if stops is not None:
+            self._runs_in[name] = stops
         if self._pool is None:
             self._pool = ThreadPoolExecutor(max_workers=4, thread_name_prefix="ductgen-ahead")
             self._exits.callback(self._pool.shutdown, wait=True, cancel_futures=True)
@@ -51,9 +62,24 @@ class Ahead:
         self.futures[name] = self._pool.submit(fn, *args)
         return self.futures[name]
 
+    def run_in(self, name: str, worker: KernelWorker, job: Any, *args: Any) -> Future[Any]:
+        """:meth:`start` of ``worker.run(job, *args)`` (``stops=worker``)."""
+        return self.start(name, worker.run, job, *args, stops=worker)
+
     def side_job(self, job: Any, *args: Any) -> Future[Any]:
-        """``job(*args)`` started in the side worker (the solids' stage)."""
-        return self.start("side solids", self.side().run, job, *args)
+        """``job(*args)`` started in the side worker (the solids' stage); when the build
+        draws a picture (:attr:`picture_wanted`), the side worker imports the drawing stack
+        as soon as this job is done (while the kernel worker still works on the insert)."""
+        fut = self.run_in("side solids", self.side(), job, *args)
+        if self.picture_wanted:
+            fut.add_done_callback(self._warm_picture)
+        return fut
+
+    def _warm_picture(self, _done: Future[Any]) -> None:
+        from ductgen.render import warm_up_drawing
+
+        with contextlib.suppress(RuntimeError):  # the build already stopped its threads
+            self.run_in("picture warm-up", self.side(), warm_up_drawing)
 
     def warm_side(self) -> None:
         """Start the side worker's kernel imports now, while the kernel worker builds the
@@ -61,17 +87,17 @@ class Ahead:
         plug)."""
         from ductgen.solids.jobs import warm_up
 
-        self.start("side warm-up", self.side().run, warm_up)
+        self.run_in("side warm-up", self.side(), warm_up)
 
     def _stop_on_error(self, exc_type: type[BaseException] | None, *_exc: Any) -> bool:
-        """When the build fails or is interrupted, stop the side worker's unfinished job
-        (the worker restarts on its next job)."""
-        if (
-            exc_type is not None
-            and self.beside
-            and any(not f.done() for f in self.futures.values())
-        ):
-            self.side().stop()
+        """When the build fails or is interrupted, stop each worker with an unfinished job
+        of this build (it restarts on its next job), so the build does not wait for it."""
+        if exc_type is None:
+            return False
+        for name, fut in list(self.futures.items()):
+            worker = self._runs_in.get(name)
+            if worker is not None and not fut.done():
+                worker.stop()
         return False
 
 

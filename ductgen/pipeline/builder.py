@@ -8,8 +8,10 @@ existing file is replaced without ``force``.
 from __future__ import annotations
 
 import contextlib
+import importlib
 import time
-from collections.abc import Callable, Sequence
+from collections.abc import Callable
+from concurrent.futures import wait
 from dataclasses import dataclass, field
 from functools import partial
 from pathlib import Path
@@ -19,13 +21,27 @@ from ductgen.atomic import OutputSet, check_free
 from ductgen.cache import Cache, open_cache
 from ductgen.design import Design, build_design
 from ductgen.pipeline.ahead import Ahead, picture
-from ductgen.pipeline.options import BuildOptions, output_kinds
-from ductgen.pipeline.outputs import OUTPUTS, BuildContext, jig_bytes, template_bytes
+from ductgen.pipeline.options import (
+    BuildOptions,
+    cuts_panel,
+    output_kinds,
+    planned_files,
+    planned_stages,
+    select_kinds,
+)
+from ductgen.pipeline.outputs import (
+    OUTPUTS,
+    BuildContext,
+    jig_bytes,
+    sheet_ahead,
+    template_bytes,
+)
+from ductgen.pipeline.result import BuildResult
 from ductgen.pipeline.solid_cache import SolidStage
-from ductgen.report import BuildRecord, report_bytes, start_record
+from ductgen.report import BuildRecord, InsertSplit, report_bytes, split_plan, start_record
 from ductgen.solids.kinds import SOLID_KINDS
 from ductgen.solids.panel_cut import cut_panel_job
-from ductgen.solids.results import SolidResult
+from ductgen.solids.results import InsertPiece, SolidResult
 from ductgen.spec.load import spec_sha256
 from ductgen.spec.model import PanelSkinSpec, Spec
 from ductgen.worker import KernelWorker, WorkerLimits, default_worker
@@ -54,63 +70,6 @@ def package_version() -> str:
     return __version__
 
 
-def _cuts_panel(spec: Spec, kinds: Sequence[str]) -> bool:
-    """Whether the build writes ``NAME-panel.step``: the user's panel is a CAD file and the
-    cutter is built."""
-    skin = spec.skin
-    return (
-        isinstance(skin, PanelSkinSpec)
-        and "cutter" in kinds
-        and Path(skin.file).suffix.lower() in (".step", ".stp")
-    )
-
-
-def planned_files(spec: Spec, kinds: Sequence[str]) -> list[str]:
-    """File names a build of ``kinds`` will write (``report.json`` always)."""
-    names = [f"{spec.name}-panel.step"] if _cuts_panel(spec, kinds) else []
-    for k in kinds:
-        if k in SOLID_KINDS:
-            names += [f"{spec.name}-{k}.step", f"{spec.name}-{k}.stl"]
-            if k == "insert":
-                names.append(f"{spec.name}-insert.3mf")
-        elif OUTPUTS[k].made_for(spec):
-            names += [f"{spec.name}-{suffix}" for suffix in OUTPUTS[k].suffixes]
-    return [*names, "report.json"]
-
-
-def planned_stages(spec: Spec, kinds: Sequence[str]) -> list[str]:
-    """The stages :func:`build` reports through ``progress``, in order (an ``"insert
-    split"`` stage is added when the insert turns out larger than the bed)."""
-    stages = ["geometry"]
-    if any(k in SOLID_KINDS for k in kinds):
-        stages.append("solids")
-    if _cuts_panel(spec, kinds):
-        stages.append("panel")
-    made = [k for k in kinds if k in OUTPUTS and OUTPUTS[k].made_for(spec)]
-    return [*stages, *made, "publish"]
-
-
-def select_kinds(only: list[str] | None) -> list[str]:
-    """The output kinds to build, in build order; every kind when ``only`` is empty."""
-    return list(BuildOptions.check(only).kinds)
-
-
-@dataclass
-class BuildResult:
-    """What a build made: the report (as written), its record, the files by path, the
-    seconds per stage, the solids, the design, and which kernel results came from the solid
-    cache (``cache["hits"]``) or were built (``cache["misses"]``): solid kinds and
-    ``"insert split"``."""
-
-    report: dict[str, Any]
-    files: dict[str, Path]
-    seconds: dict[str, float]
-    solids: dict[str, SolidResult]
-    record: BuildRecord
-    design: Design | None = None
-    cache: dict[str, list[str]] = field(default_factory=dict)
-
-
 @dataclass
 class _Build:
     """One build in progress: its inputs, and what each stage leaves for the next."""
@@ -131,6 +90,7 @@ class _Build:
     paths: dict[str, Path] = field(default_factory=dict)
     report: dict[str, Any] = field(default_factory=dict)
     ahead: Ahead = field(init=False)
+    split_started: InsertSplit | None = None
 
     @property
     def staging(self) -> Path:
@@ -160,6 +120,9 @@ def _open(b: _Build) -> None:
     b.out = b.exits.enter_context(OutputSet(b.out_dir, force=b.options.force))
     if b.ahead.beside and b.kernel.builds_beside(list(b.options.solid_kinds)):
         b.ahead.warm_side()
+    b.ahead.picture_wanted = _beside("sheet", b) and bool(b.options.solid_kinds)
+    if "insert" in b.options.solid_kinds:  # the print checks' mesh tools, while solids build
+        b.ahead.start("parent imports", importlib.import_module, "trimesh")
 
 
 def _template_ahead(b: _Build) -> None:
@@ -172,7 +135,8 @@ def _beside(kind: str, b: _Build) -> bool:
 
 def _jig_ahead(b: _Build) -> None:
     assert b.design is not None
-    b.ahead.start("jig", jig_bytes, b.design, b.spec, b.options.quality, b.ahead.side())
+    side = b.ahead.side()
+    b.ahead.start("jig", jig_bytes, b.design, b.spec, b.options.quality, side, stops=side)
 
 
 def _preview_wanted(b: _Build) -> bool:
@@ -180,7 +144,14 @@ def _preview_wanted(b: _Build) -> bool:
 
 
 def _preview_ahead(b: _Build) -> None:
-    b.ahead.start("preview", picture, _context(b), b.ahead.side())
+    side = b.ahead.side()
+    b.ahead.start("preview", picture, _context(b), side, stops=side)
+
+
+def _sheet_ahead(b: _Build) -> None:
+    """Draw the sheet on a thread once its picture is there (while the kernel worker may
+    still split the insert); :func:`~ductgen.pipeline.outputs.sheet_ahead`."""
+    b.ahead.start("sheet", sheet_ahead, _context(b), b.ahead.futures.get("template"))
 
 
 def _solids(b: _Build) -> None:
@@ -226,11 +197,10 @@ def _frame(b: _Build) -> tuple[list[float], list[list[float]]] | None:
     return None if frame is None else (frame.origin.tolist(), frame.axes.tolist())
 
 
-def _split(b: _Build) -> None:
-    """The insert is larger than the bed: keyed pieces that fit."""
-    split = b.rec.split
-    assert split is not None and b.kernel is not None and b.out is not None
-    pieces = b.kernel.split_insert(
+def _pieces(b: _Build, split: InsertSplit) -> list[InsertPiece]:
+    """The insert's keyed pieces split at ``split`` (kernel worker or solid cache)."""
+    assert b.kernel is not None
+    return b.kernel.split_insert(
         b.staging,
         b.solids["insert"].step_file,
         b.spec.name,
@@ -238,6 +208,28 @@ def _split(b: _Build) -> None:
         b.spec.print.bed,
         _frame(b),
     )
+
+
+def _split_ahead(b: _Build) -> None:
+    """When the insert will be split: start its split in the kernel worker now, on a
+    thread, so the record (and the preview's start) is made meanwhile."""
+    assert b.design is not None
+    plan = split_plan(b.spec, b.design, b.solids)
+    if plan is not None:
+        b.split_started = plan
+        b.ahead.start("split", _pieces, b, plan, stops=b.worker)
+
+
+def _split(b: _Build) -> None:
+    """The insert is larger than the bed: keyed pieces that fit (split here, or taken from
+    :func:`_split_ahead`)."""
+    split = b.rec.split
+    assert split is not None and b.out is not None
+    ahead = b.ahead.futures.pop("split", None)
+    if ahead is not None and b.split_started != split:  # never: one mesh, one function
+        wait([ahead])
+        ahead = None
+    pieces = ahead.result() if ahead is not None else _pieces(b, split)
     for k, piece in enumerate(pieces, start=1):
         for fmt in ("step", "stl"):
             name = getattr(piece, fmt)
@@ -329,9 +321,11 @@ def stages() -> tuple[Stage, ...]:
         Stage(None, partial(_wants, "template"), _template_ahead),
         Stage(None, partial(_beside, "jig"), _jig_ahead),
         Stage("solids", lambda b: bool(b.options.solid_kinds), _solids, "solids_s"),
+        Stage(None, lambda b: b.ahead.beside and "insert" in b.solids, _split_ahead),
         Stage(None, _always, _record),
         Stage(None, _preview_wanted, _preview_ahead),
-        Stage("panel", lambda b: _cuts_panel(b.spec, b.options.kinds), _panel, "panel_s"),
+        Stage(None, partial(_beside, "sheet"), _sheet_ahead),
+        Stage("panel", lambda b: cuts_panel(b.spec, b.options.kinds), _panel, "panel_s"),
         Stage("insert split", lambda b: b.rec.split is not None, _split, "insert_split_s"),
         Stage(None, lambda b: "insert" in b.solids, _plate),
         Stage(None, lambda b: bool(_not_wanted(b)), _not_made),

@@ -15,7 +15,7 @@ from collections.abc import Callable
 from typing import Any
 
 from ductgen.panel_file import sample_panel
-from ductgen.render import render_png
+from ductgen.render import render_png, warm_up_drawing
 from ductgen.solids.handoff import flat_solid_job
 from ductgen.solids.jig_job import jig_job
 from ductgen.solids.jobs import build_solids, cutter_mesh_job, warm_up
@@ -38,6 +38,7 @@ KERNEL_JOBS: dict[str, Callable[..., Any]] = {
         step_mesh,
         sample_panel,
         render_png,
+        warm_up_drawing,
         jig_job,
     )
 }

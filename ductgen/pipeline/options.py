@@ -6,13 +6,22 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
+from pathlib import Path
 
 from ductgen.errors import SpecError
 from ductgen.pipeline.outputs import OUTPUTS
 from ductgen.solids.kinds import SOLID_KINDS
+from ductgen.spec.model import PanelSkinSpec, Spec
 from ductgen.tolerances import STL_QUALITY
 
-__all__ = ["BuildOptions", "output_kinds"]
+__all__ = [
+    "BuildOptions",
+    "cuts_panel",
+    "output_kinds",
+    "planned_files",
+    "planned_stages",
+    "select_kinds",
+]
 
 
 def output_kinds() -> list[str]:
@@ -72,3 +81,44 @@ class BuildOptions:
     def solid_kinds(self) -> tuple[str, ...]:
         """The solid kinds among :attr:`kinds`."""
         return tuple(k for k in self.kinds if k in SOLID_KINDS)
+
+
+def cuts_panel(spec: Spec, kinds: Sequence[str]) -> bool:
+    """Whether the build writes ``NAME-panel.step``: the user's panel is a CAD file and the
+    cutter is built."""
+    skin = spec.skin
+    return (
+        isinstance(skin, PanelSkinSpec)
+        and "cutter" in kinds
+        and Path(skin.file).suffix.lower() in (".step", ".stp")
+    )
+
+
+def planned_files(spec: Spec, kinds: Sequence[str]) -> list[str]:
+    """File names a build of ``kinds`` will write (``report.json`` always)."""
+    names = [f"{spec.name}-panel.step"] if cuts_panel(spec, kinds) else []
+    for k in kinds:
+        if k in SOLID_KINDS:
+            names += [f"{spec.name}-{k}.step", f"{spec.name}-{k}.stl"]
+            if k == "insert":
+                names.append(f"{spec.name}-insert.3mf")
+        elif OUTPUTS[k].made_for(spec):
+            names += [f"{spec.name}-{suffix}" for suffix in OUTPUTS[k].suffixes]
+    return [*names, "report.json"]
+
+
+def planned_stages(spec: Spec, kinds: Sequence[str]) -> list[str]:
+    """The stages :func:`~ductgen.pipeline.build` reports through ``progress``, in order
+    (an ``"insert split"`` stage is added when the insert turns out larger than the bed)."""
+    stages = ["geometry"]
+    if any(k in SOLID_KINDS for k in kinds):
+        stages.append("solids")
+    if cuts_panel(spec, kinds):
+        stages.append("panel")
+    made = [k for k in kinds if k in OUTPUTS and OUTPUTS[k].made_for(spec)]
+    return [*stages, *made, "publish"]
+
+
+def select_kinds(only: list[str] | None) -> list[str]:
+    """The output kinds to build, in build order; every kind when ``only`` is empty."""
+    return list(BuildOptions.check(only).kinds)

@@ -8,7 +8,7 @@ suffixes it writes after ``NAME-``. To add an output, add a line here.
 from __future__ import annotations
 
 from collections.abc import Callable
-from concurrent.futures import Future
+from concurrent.futures import Future, wait
 from dataclasses import dataclass, field
 from typing import Any, TypeVar
 
@@ -20,7 +20,7 @@ from ductgen.solids.results import SolidResult
 from ductgen.spec.model import Spec
 from ductgen.worker import KernelWorker
 
-__all__ = ["OUTPUTS", "BuildContext", "Output", "jig_bytes", "template_bytes"]
+__all__ = ["OUTPUTS", "BuildContext", "Output", "jig_bytes", "sheet_ahead", "template_bytes"]
 
 T = TypeVar("T")
 
@@ -95,11 +95,27 @@ def _template(ctx: BuildContext) -> dict[str, bytes]:
     )
 
 
-def _sheet(ctx: BuildContext) -> dict[str, bytes]:
-    """``sheet.pdf`` (dimensioned drawing sheet) and ``preview.png`` (3D view)."""
-    from ductgen.sheets import sheet_files
+def sheet_ahead(ctx: BuildContext, template: Future[Any] | None) -> tuple[dict[str, bytes], Any]:
+    """:func:`ductgen.sheets.sheet_parts`, after ``template`` (the template drawn ahead, on
+    another thread) has finished: both draw with matplotlib, which is not made to draw on two
+    threads at once. A build starts it once its record is made
+    (:mod:`ductgen.pipeline.ahead`)."""
+    from ductgen.sheets import sheet_parts
 
-    return sheet_files(ctx)
+    if template is not None:
+        wait([template])
+    return sheet_parts(ctx)
+
+
+def _sheet(ctx: BuildContext) -> dict[str, bytes]:
+    """``sheet.pdf`` (dimensioned drawing sheet) and ``preview.png`` (3D view): drawn here,
+    or what the build started ahead (:func:`sheet_ahead`; its error raised here); its
+    warnings join the record's in stage order either way."""
+    from ductgen.sheets import sheet_parts
+
+    files, warnings = ctx.take("sheet", lambda: sheet_parts(ctx))
+    ctx.warnings.extend(warnings)
+    return files
 
 
 def jig_bytes(

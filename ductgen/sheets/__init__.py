@@ -7,7 +7,7 @@ from typing import Any
 
 from ductgen.design.record import SkinRecord, TemplateRecord
 
-__all__ = ["SKIN_LINES", "sheet_files", "skin_lines"]
+__all__ = ["SKIN_LINES", "sheet_parts", "skin_lines"]
 
 
 def skin_lines(skin: SkinRecord, template: TemplateRecord) -> tuple[tuple[str, str], ...]:
@@ -75,20 +75,25 @@ SKIN_LINES: dict[str, Lines] = {
 }
 
 
-def sheet_files(ctx: Any) -> dict[str, bytes]:
-    """Encode ``sheet.pdf`` and ``preview.png`` (suffix → bytes) for a build context.
+def sheet_parts(ctx: Any) -> tuple[dict[str, bytes], list[Any]]:
+    """Encode ``sheet.pdf`` and ``preview.png`` (suffix → bytes) for a build context, and
+    the warnings to add to the build's.
 
     Without an offscreen OpenGL context the sheet is still made, without its picture, and a
-    ``preview_unavailable`` warning says how to get one.
+    ``preview_unavailable`` warning says how to get one. The context's own warnings are not
+    touched (a build may draw the sheet on a thread while other stages add theirs: it adds
+    these in stage order); of the record it reads only what the record's first stage makes
+    (flow, split stations, skin, template).
     """
     from ductgen.errors import DesignWarning, ExportError
     from ductgen.sheets.preview import preview_png
     from ductgen.sheets.sheet import sheet_pdf
 
+    warnings = []
     try:  # drawn here, or taken from the build's second worker, which drew it ahead
         png: bytes | None = ctx.take("preview", lambda: preview_png(ctx, ctx.worker))
     except ExportError as err:
-        ctx.warnings.append(DesignWarning("preview_unavailable", str(err)))
+        warnings.append(DesignWarning("preview_unavailable", str(err)))
         png = None
     record = ctx.record
     pdf = sheet_pdf(
@@ -105,4 +110,4 @@ def sheet_files(ctx: Any) -> dict[str, bytes]:
     files = {"sheet.pdf": pdf}
     if png is not None:
         files["preview.png"] = png
-    return files
+    return files, warnings
