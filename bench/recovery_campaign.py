@@ -33,6 +33,7 @@ Run (from the checkout)::
     python bench/recovery_campaign.py status
     nice -n 19 python bench/recovery_campaign.py line --var ramp_angle_deg --values 5,7,9,11 \
         --mesh medium      # one variable through the ranges' centre, the others held
+    nice -n 19 python bench/recovery_campaign.py line --turbulence kOmega   # Wilcox's k-ω
     python bench/recovery_campaign.py lines   # every line point beside the map (lines.csv)
     python bench/recovery_campaign.py collect [--fingerprint FP] [--to-data]
 
@@ -245,16 +246,18 @@ def snapshot(work: Path, commit: str) -> Path:
     return code
 
 
-def settings(code: Path, mesh: str = MESH) -> dict[str, Any]:
+def settings(code: Path, mesh: str = MESH, turbulence: str = "kOmegaSST") -> dict[str, Any]:
     """What a point's numbers depend on besides its own four variables; its hash is the
     fingerprint that keeps points of different settings apart (``code``: the snapshot;
-    ``mesh``: the mesh level of the points, the campaign's own by default)."""
+    ``mesh``: the mesh level of the points, the campaign's own by default; ``turbulence``:
+    the RAS model, ``ductgen cfd --turbulence``)."""
     src = hashlib.sha256()
     for path in sorted((code / "ductgen" / "cfd").glob("*.py")):
         src.update(path.name.encode() + b"\0" + path.read_bytes() + b"\0")
     return {
         "campaign_version": CAMPAIGN_VERSION,
         "mesh": mesh,
+        "turbulence": turbulence,
         "openfoam": openfoam_version(),
         "ductgen_cfd_source_sha256": src.hexdigest(),
         "depth_mm": DEPTH_MM,
@@ -351,6 +354,8 @@ def _run_claimed(task: dict[str, Any], work: Path) -> dict[str, Any]:
     cmd = ["nice", "-n", "19"] if task["nice"] else []
     cmd += [sys.executable, "-m", "ductgen", "cfd", str(spec_path), "-o", str(out)]
     cmd += ["--mesh", task["mesh"], "--np", str(task["np"]), "--force", "--quiet"]
+    if task.get("turbulence", "kOmegaSST") != "kOmegaSST":  # the older snapshots lack it
+        cmd += ["--turbulence", task["turbulence"]]
     env = {**os.environ, "PYTHONPATH": task["code"]}
     started = dt.datetime.now(dt.timezone.utc).isoformat(timespec="seconds")
     t0 = time.perf_counter()
@@ -460,7 +465,8 @@ def _run(args: argparse.Namespace) -> None:
     work = Path(args.work).resolve()
     code = snapshot(work, commit)
     mesh = args.mesh if args.cmd == "line" else MESH
-    s = settings(code, mesh)
+    turbulence = args.turbulence if args.cmd == "line" else "kOmegaSST"
+    s = settings(code, mesh, turbulence)
     fp = fingerprint(s)
     folder = RESULTS / fp
     write_json_atomic(folder / "settings.json", {"fingerprint": fp, **s})
@@ -497,6 +503,7 @@ def _run(args: argparse.Namespace) -> None:
             ),
             "mesh": {"run": MESH, "line": mesh}.get(args.cmd, "study"),
             "np": args.np,
+            "turbulence": turbulence,
             "nice": not args.no_nice,
             "record": {
                 "plan_target": p,
@@ -657,6 +664,7 @@ def _lines(args: argparse.Namespace) -> None:
             {
                 "line": var,
                 "mesh": rec["settings"]["mesh"],
+                "turbulence": rec["settings"].get("turbulence", "kOmegaSST"),
                 "fingerprint": rec["fingerprint"],
                 "point": rec["point"],
                 **{k: round(x[k], 4) for k in INPUT_KEYS},
@@ -670,7 +678,7 @@ def _lines(args: argparse.Namespace) -> None:
         )
     if not rows:
         sys.exit(f"no line points in {RESULTS}")
-    rows.sort(key=lambda r: (r["line"], r["mesh"], r[r["line"]]))
+    rows.sort(key=lambda r: (r["line"], r["turbulence"], r["mesh"], r[r["line"]]))
     out = RESULTS / "lines.csv"
     with out.open("w", newline="") as fh:
         fh.write(
@@ -680,7 +688,8 @@ def _lines(args: argparse.Namespace) -> None:
         w = csv.DictWriter(fh, fieldnames=list(rows[0]))
         w.writeheader()
         w.writerows(rows)
-    cols = ["line", "mesh", *INPUT_KEYS, "ram_recovery_flow_avg", "ram_recovery_area_avg", "map"]
+    cols = ["line", "turbulence", "mesh", *INPUT_KEYS]
+    cols += ["ram_recovery_flow_avg", "ram_recovery_area_avg", "map"]
     print("  ".join(f"{c[:14]:>14}" for c in cols))
     for r in rows:
         print("  ".join(f"{r[c]:>14}" for c in cols))
@@ -820,6 +829,12 @@ def main(argv: list[str] | None = None) -> None:
     line.add_argument("--values", default="5,7,9,11", help="comma list of the variable's values")
     line.add_argument("--at", default=None, help="the held values, e.g. ivr=0.6,width_over_depth=3")
     line.add_argument("--mesh", default=MESH, choices=["coarse", "medium", "fine"])
+    line.add_argument(
+        "--turbulence",
+        default="kOmegaSST",
+        choices=["kOmegaSST", "kOmega"],
+        help="RAS model (ductgen cfd --turbulence): kOmega is the model-sensitivity check",
+    )
     line.add_argument("--np", type=int, default=2, help="MPI ranks per point")
     line.add_argument("--no-nice", action="store_true", help="do not run under nice -n 19")
     line.add_argument("--work", default="/tmp/recovery-campaign", help="scratch folder")

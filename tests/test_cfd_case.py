@@ -189,6 +189,10 @@ def test_bad_input_exits_2(tmp_path: Path, capsys: pytest.CaptureFixture[str], m
     assert "--np" in capsys.readouterr().err
     assert main(["cfd", str(club), "-o", str(tmp_path / "c"), "--mesh", "huge"]) == 2
     capsys.readouterr()
+    assert main(["cfd", str(club), "-o", str(tmp_path / "e"), "--turbulence", "kEps"]) == 2
+    err = capsys.readouterr().err
+    assert "--turbulence" in err and "kOmegaSST | kOmega" in err
+    assert not (tmp_path / "e").exists()
     # OpenFOAM missing: the message says how to install it; nothing is written
     empty = tmp_path / "bin"
     empty.mkdir()
@@ -235,3 +239,40 @@ def test_sweep_cfd_refuses_bad_input(tmp_path: Path, capsys, monkeypatch) -> Non
     assert main([*args, "--cfd", "--only", "cutter"]) == 2
     assert "apt-get install openfoam" in capsys.readouterr().err
     assert not (tmp_path / "s").exists()
+
+
+@pytest.mark.slow
+def test_turbulence_model_reaches_the_case(sample_builds: dict, tmp_path: Path) -> None:
+    """``--turbulence kOmega`` (the model-sensitivity check) writes Wilcox's k-ω into the
+    case and names it in the report; the default stays Menter's SST. Both models read the
+    same fields (k, omega, nut), so the rest of the case is the same file for file."""
+    from ductgen.cfd import cfd_for_build
+    from ductgen.spec import load_spec
+
+    result, folder = sample_builds["drone-avionics-vent"]
+    spec = load_spec(next(p for p in SAMPLES if p.stem == "drone-avionics-vent"))
+    stl = folder / f"{spec.name}-cutter.stl"
+    cases = {}
+    for model in ("kOmegaSST", "kOmega"):
+        out = tmp_path / model
+        section = cfd_for_build(
+            spec,
+            result.design,
+            copy.deepcopy(result.record),
+            stl,
+            out,
+            write_only=True,
+            turbulence=model,
+        )
+        assert section["turbulence_model"] == model
+        case = out / "cfd-coarse"
+        text = (case / "constant/turbulenceProperties").read_text()
+        assert re.search(rf"RASModel\s+{model};", text)
+        cases[model] = {
+            p.relative_to(case).as_posix(): p.read_bytes()
+            for p in sorted(case.rglob("*"))
+            if p.is_file()
+        }
+    assert "k-omega SST" in json.loads((tmp_path / "kOmegaSST" / "cfd.json").read_text())["solver"]
+    differ = [n for n in cases["kOmega"] if cases["kOmega"][n] != cases["kOmegaSST"].get(n)]
+    assert differ == ["constant/turbulenceProperties"]

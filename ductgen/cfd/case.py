@@ -109,6 +109,8 @@ class CaseSetup:
     exit_plate: Any = None
     #: Start and end (m) of the line through the throat's depth (cells counted on it).
     depth_line: tuple[float, float, float, float, float, float] | None = None
+    #: The RAS model (a key of ``templates.TURBULENCE_MODELS``).
+    turbulence: str = "kOmegaSST"
 
     @property
     def fluid_box_volume_m3(self) -> float:

@@ -123,7 +123,7 @@ def write_case(case_dir: Path, s: CaseSetup, surface: WettedSurface, n_procs: in
         "schemes": {},
         "solution": {},
         "transport": dict(nu=_fmt(s.nu_m2_s)),
-        "turbulence": {},
+        "turbulence": dict(model=s.turbulence),
         "topoSet": dict(zones=_zones(s)),
         "decompose": dict(n=n_procs),
     }  # fmt: skip

@@ -42,7 +42,7 @@ from ductgen.cfd.runner import (
 from ductgen.cfd.skin_wall import SkinDomain, SkinWallError
 from ductgen.cfd.study import compare_one_d, gci_study
 from ductgen.cfd.surface import WettedSurface, extend_outlet, wetted_surface
-from ductgen.cfd.templates import FLAVOUR
+from ductgen.cfd.templates import FLAVOUR, TURBULENCE_MODELS
 from ductgen.errors import SpecError
 from ductgen.flow.record import FlowRecord
 from ductgen.report import BuildRecord
@@ -56,7 +56,9 @@ MESH_CHOICES = (*MESH_LEVELS, "study")
 Progress = Callable[[str, int, int], None]
 
 
-def check_inputs(spec: Spec, mesh: str, n_procs: int, write_only: bool) -> None:
+def check_inputs(
+    spec: Spec, mesh: str, n_procs: int, write_only: bool, turbulence: str = "kOmegaSST"
+) -> None:
     """Refuse bad input before anything is built (SpecError → exit 2; OpenFOAM missing →
     exit 2 unless only the case is written)."""
     if spec.flow is None:
@@ -70,6 +72,10 @@ def check_inputs(spec: Spec, mesh: str, n_procs: int, write_only: bool) -> None:
         raise SpecError("--mesh", mesh, " | ".join(MESH_CHOICES), "mesh refinement")
     if n_procs < 1:
         raise SpecError("--np", n_procs, ">= 1", "number of MPI ranks for the solver")
+    if turbulence not in TURBULENCE_MODELS:
+        raise SpecError(
+            "--turbulence", turbulence, " | ".join(TURBULENCE_MODELS), "the RAS turbulence model"
+        )
     if not write_only:
         require_openfoam()
 
@@ -180,15 +186,19 @@ def cfd_for_build(
     keep_case: bool = False,
     pictures: bool = True,
     progress: Progress | None = None,
+    turbulence: str = "kOmegaSST",
 ) -> dict[str, Any]:
     """Run the CFD check of a finished build (its record and cutter STL); writes
     ``cfd.json``, sets the record's ``cfd`` section and rewrites ``out_dir/report.json``
-    from the record; returns the section."""
+    from the record; returns the section. ``turbulence``: the RAS model (a key of
+    :data:`~ductgen.cfd.templates.TURBULENCE_MODELS`)."""
+    import dataclasses
+
     from ductgen.atomic import write_atomic
     from ductgen.report import report_bytes
 
     note = progress or (lambda *_a: None)
-    check_inputs(spec, mesh, n_procs, write_only)
+    check_inputs(spec, mesh, n_procs, write_only, turbulence)
     flow = record.flow
     if flow is None:  # check_inputs refused a spec without [flow]; its build has a record
         raise CfdError("the build's record has no flow section")
@@ -200,8 +210,9 @@ def cfd_for_build(
         setup = case_setup(
             spec.name, name, design.geometry, surface, flow, need, plan.diameter_m, domain
         )
+        setup = dataclasses.replace(setup, turbulence=turbulence)
         levels.append(_one_mesh(out_dir / f"cfd-{name}", setup, surface, n_procs, write_only, note))
-    section = _section(mesh, plan, levels, notes, domain)
+    section = _section(mesh, plan, levels, notes, domain, turbulence)
     if not write_only:
         final = levels[-1]
         section["result"] = {k: v for k, v in final.items() if k not in ("y_plus",)}
@@ -262,6 +273,7 @@ def _section(
     levels: list[dict[str, Any]],
     notes: list[str],
     domain: SkinDomain | None,
+    turbulence: str = "kOmegaSST",
 ) -> dict[str, Any]:
     """The ``cfd`` section before the results: the solver, the rules, the meshes."""
     warnings = notes + [
@@ -270,7 +282,8 @@ def _section(
         for f in lv.get("check_mesh_failures", [])
     ]
     section: dict[str, Any] = {
-        "solver": f"{FLAVOUR}: simpleFoam, k-omega SST, snappyHexMesh",
+        "solver": f"{FLAVOUR}: simpleFoam, {TURBULENCE_MODELS[turbulence]}, snappyHexMesh",
+        "turbulence_model": turbulence,
         "mesh": mesh,
         "refinement_ratio": REFINEMENT_RATIO,
         "plateau_rule": f"mean duct-outlet flow of the last {PLATEAU_WINDOW} iterations "
@@ -335,6 +348,7 @@ def run_cfd(
     force: bool = False,
     pictures: bool = True,
     progress: Progress | None = None,
+    turbulence: str = "kOmegaSST",
 ) -> dict[str, Any]:
     """Build the cutter of ``spec`` and run the CFD check (module doc), all in a staging
     folder inside ``out_dir``: the cutter files, the case folders, ``cfd.json``, the
@@ -344,7 +358,7 @@ def run_cfd(
     from ductgen.atomic import OutputSet, check_free
     from ductgen.pipeline.builder import build
 
-    check_inputs(spec, mesh, n_procs, write_only)
+    check_inputs(spec, mesh, n_procs, write_only, turbulence)
     note = progress or (lambda *_a: None)
     out = Path(out_dir)
     keep = keep_case or write_only
@@ -365,6 +379,7 @@ def run_cfd(
             keep_case=keep,
             pictures=pictures,
             progress=note,
+            turbulence=turbulence,
         )
         for entry in sorted(staged.staging.iterdir()):
             staged.staged_path(entry.name)

@@ -311,8 +311,16 @@ nu {nu};
 """
 
 TURBULENCE = """simulationType RAS;
-RAS {{ RASModel kOmegaSST; turbulence on; printCoeffs off; }}
+RAS {{ RASModel {model}; turbulence on; printCoeffs off; }}
 """
+
+#: RAS models a case may use (OpenFOAM's name → words for the report). Both solve for k and
+#: ω with the same inflow profiles and wall functions, so the second is a model-sensitivity
+#: check on the same mesh: Menter's SST (Menter, AIAA Journal 32(8), 1994; the default) and
+#: Wilcox's k-ω as OpenFOAM implements it (Wilcox, Turbulence Modeling for CFD, 1998: no
+#: shear-stress limiter, so it tends to predict separation later under an adverse pressure
+#: gradient).
+TURBULENCE_MODELS = {"kOmegaSST": "k-omega SST", "kOmega": "k-omega (Wilcox)"}
 
 DECOMPOSE = """numberOfSubdomains {n};
 method hierarchical;

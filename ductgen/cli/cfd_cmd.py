@@ -28,6 +28,13 @@ def cfd_command(
         typer.Option("--mesh", help="coarse | medium | fine | study (all three, with the GCI)"),
     ] = "coarse",
     n_procs: Annotated[int, typer.Option("--np", help="MPI ranks for the solver")] = 1,
+    turbulence: Annotated[
+        str,
+        typer.Option(
+            "--turbulence",
+            help="RAS model: kOmegaSST | kOmega (Wilcox; a model-sensitivity check)",
+        ),
+    ] = "kOmegaSST",
     write_only: Annotated[
         bool, typer.Option("--write-only", help="write the OpenFOAM case(s) without running")
     ] = False,
@@ -45,7 +52,7 @@ def cfd_command(
     from ductgen.spec import load_spec
 
     s = load_spec(spec)
-    check_inputs(s, mesh, n_procs, write_only)
+    check_inputs(s, mesh, n_procs, write_only, turbulence)
     if out is not None and not out.strip():
         raise SpecError("-o/--out", out, "a folder path", "the path is empty")
     out_dir = Path(out) if out is not None else Path.cwd() / f"{s.name}-cfd"
@@ -72,6 +79,7 @@ def cfd_command(
             keep_case=keep_case,
             force=force,
             progress=progress,
+            turbulence=turbulence,
         )
     if not quiet:
         _summary(section, out_dir)
