@@ -70,3 +70,29 @@ def test_interrupted_cfd_stops_the_tools_and_publishes_nothing(
     assert _tools_left(run.marker) == []
     # nothing published, no staging folder left: the folder is as it was
     assert sorted(x.name for x in out.iterdir()) == ["notes.txt"]
+
+
+def test_a_tool_session_keeps_the_tools_niceness(tmp_path: Path) -> None:
+    """Each OpenFOAM tool runs in a session of its own; under the kernel's autogroup
+    scheduling that session's group must carry the tool's niceness (ductgen's plus the tool
+    increment), or a niced solve takes half of a two-core machine from the user's other work
+    (seen: a niced campaign's ranks at full share beside a test run)."""
+    import os
+    import subprocess
+
+    from ductgen.cfd import runner
+
+    if not Path("/proc/self/autogroup").exists():
+        pytest.skip("the kernel has no autogroup scheduling here")
+    want = min(os.getpriority(os.PRIO_PROCESS, 0) + runner.TOOL_NICE, 19)
+    own = Path("/proc/self/autogroup").read_text()
+    out = subprocess.run(
+        ["cat", "/proc/self/autogroup"],
+        preexec_fn=runner._child_setup,
+        start_new_session=True,
+        capture_output=True,
+        text=True,
+        check=True,
+    ).stdout
+    assert out.strip().endswith(f"nice {want}"), out
+    assert Path("/proc/self/autogroup").read_text() == own  # this session's group as it was

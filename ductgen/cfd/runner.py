@@ -2,11 +2,11 @@
 
 Debian's ``openfoam`` package puts the tools on PATH but its bashrc is broken: setting
 ``WM_PROJECT_DIR=/usr/share/openfoam`` is all the tools need, so that is what this module
-sets when it is missing. Every tool runs under ``nice`` with its output in ``log.<tool>``
-inside the case. The solve stops when the mean duct-outlet flow of the last :data:`PLATEAU_WINDOW`
-iterations differs from the window before by less than :data:`PLATEAU_TOL` (relative), by
-switching the case's ``stopAt`` to ``writeNow`` (OpenFOAM re-reads controlDict), or at the
-iteration cap.
+sets when it is missing. Every tool runs under ``nice`` (its session's scheduling group too,
+:func:`autogroup_nice`) with its output in ``log.<tool>`` inside the case. The solve stops
+when the mean duct-outlet flow of the last :data:`PLATEAU_WINDOW` iterations differs from the
+window before by less than :data:`PLATEAU_TOL` (relative), by switching the case's ``stopAt``
+to ``writeNow`` (OpenFOAM re-reads controlDict), or at the iteration cap.
 """
 
 from __future__ import annotations
@@ -107,8 +107,13 @@ def _tail(path: Path, n: int = 12) -> str:
     return "\n".join(lines[-n:])
 
 
+#: How much nicer than ductgen the OpenFOAM tools run (the ``nice`` increment), so a long
+#: solve leaves the machine usable.
+TOOL_NICE = 10
+
+
 def _cmd(case: Path, args: list[str], n_procs: int) -> list[str]:
-    base = ["nice", "-n", "10"]
+    base = ["nice", "-n", str(TOOL_NICE)]
     if n_procs > 1 and args[0] not in ("decomposePar", "reconstructPar", "blockMesh"):
         mpirun = ["mpirun", "-np", str(n_procs)]
         if os.geteuid() == 0:
@@ -117,14 +122,35 @@ def _cmd(case: Path, args: list[str], n_procs: int) -> list[str]:
     return [*base, *args, "-case", str(case)]
 
 
-def _die_with_parent() -> None:  # pragma: no cover - runs in the child before exec
-    """Linux: the tool gets SIGTERM when ductgen dies, however it dies (no orphan solver)."""
+def _child_setup() -> None:  # pragma: no cover - runs in the child before exec
+    """Linux: the tool gets SIGTERM when ductgen dies, however it dies (no orphan solver),
+    and its session keeps the tool's niceness (:func:`autogroup_nice`)."""
     import contextlib
     import ctypes
     import signal
 
     with contextlib.suppress(OSError, AttributeError):
         ctypes.CDLL(None).prctl(1, int(signal.SIGTERM), 0, 0, 0)  # PR_SET_PDEATHSIG = 1
+    autogroup_nice()
+
+
+def autogroup_nice(path: str = "/proc/self/autogroup") -> int | None:
+    """Give this process's autogroup the niceness its tool will have (this process's nice
+    value plus :data:`TOOL_NICE`, at most 19); returns the value written, None where there is
+    no autogroup (not Linux, or the kernel's autogroup scheduling off).
+
+    With autogroup scheduling (the default of many Linux desktops) every session is a group
+    that gets an equal share of the CPU whatever its processes' nice values, and each tool
+    starts a session of its own (:func:`run_tool`): without this a ``nice -n 19 ductgen
+    cfd`` would still take half of a two-core machine from the user's other work. Raising
+    a group's niceness needs no privilege."""
+    want = min(os.getpriority(os.PRIO_PROCESS, 0) + TOOL_NICE, 19)
+    try:
+        with open(path, "w") as f:
+            f.write(str(want))
+    except OSError:
+        return None
+    return want
 
 
 def run_tool(
@@ -144,7 +170,7 @@ def run_tool(
             stdout=out,
             stderr=subprocess.STDOUT,
             env=openfoam_env(),
-            preexec_fn=_die_with_parent if sys.platform.startswith("linux") else None,
+            preexec_fn=_child_setup if sys.platform.startswith("linux") else None,
             start_new_session=True,  # its own process group (and session): killpg(pid)
         )
 
