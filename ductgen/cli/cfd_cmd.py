@@ -18,6 +18,14 @@ __all__ = ["cfd_command"]
 _err = Console(stderr=True, highlight=False, emoji=False, markup=False)
 
 
+_Turbulence = Annotated[
+    str,
+    typer.Option(
+        "--turbulence", help="RAS model: kOmegaSST | kOmega (Wilcox; a model-sensitivity check)"
+    ),
+]
+
+
 def cfd_command(
     spec: Annotated[Path, typer.Argument(help="spec file with a [flow] section")],
     out: Annotated[
@@ -28,13 +36,7 @@ def cfd_command(
         typer.Option("--mesh", help="coarse | medium | fine | study (all three, with the GCI)"),
     ] = "coarse",
     n_procs: Annotated[int, typer.Option("--np", help="MPI ranks for the solver")] = 1,
-    turbulence: Annotated[
-        str,
-        typer.Option(
-            "--turbulence",
-            help="RAS model: kOmegaSST | kOmega (Wilcox; a model-sensitivity check)",
-        ),
-    ] = "kOmegaSST",
+    turbulence: _Turbulence = "kOmegaSST",
     write_only: Annotated[
         bool, typer.Option("--write-only", help="write the OpenFOAM case(s) without running")
     ] = False,
