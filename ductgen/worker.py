@@ -21,7 +21,6 @@ from __future__ import annotations
 import atexit
 import contextlib
 import os
-import signal
 import socket
 import subprocess
 import sys
@@ -33,6 +32,7 @@ from multiprocessing.connection import Connection
 from typing import Any, ParamSpec, TypeVar
 
 from ductgen.errors import DuctgenError, GeometryError
+from ductgen.lifeline import die_with_parent
 from ductgen.worker_limits import MEMORY_MB_RANGE, TIMEOUT_S_RANGE, WorkerLimits, env_limit
 
 __all__ = [
@@ -41,7 +41,6 @@ __all__ = [
     "KernelWorker",
     "WorkerLimits",
     "default_worker",
-    "die_with_parent",
     "env_limit",
     "job_target",
     "side_worker",
@@ -77,46 +76,6 @@ def stage(name: str) -> None:
         _send(_stage_conn, ("stage", name))
 
 
-def die_with_parent(parent_pid: int, sig: int = signal.SIGKILL, prctl: bool = True) -> None:
-    """Make the calling process die with its parent, on every exit path of the parent
-    (crash, ``SIGKILL``, ``SIGTERM``, normal exit).
-
-    On Linux the kernel delivers ``sig`` when the parent dies (``PR_SET_PDEATHSIG`` via
-    ``prctl``); where that is not available a daemon thread checks once a second that
-    ``parent_pid`` is still the parent. Between jobs the child also leaves when its pipe
-    to the parent closes (end of file on the socket). Interrupts (``SIGINT`` from the terminal
-    reaches the whole process group) are ignored here: the parent decides.
-
-    ``prctl=False`` when the parent started the child from a thread other than its main
-    one: Linux sends the signal when that *thread* ends (a web server's request thread, a
-    page's job thread), not the process, so the checking thread is used instead.
-    """
-    signal.signal(signal.SIGINT, signal.SIG_IGN)
-    armed = False
-    if prctl and sys.platform.startswith("linux"):
-        try:
-            import ctypes
-
-            libc = ctypes.CDLL(None, use_errno=True)
-            armed = libc.prctl(_PR_SET_PDEATHSIG, int(sig), 0, 0, 0) == 0
-        except (OSError, AttributeError):  # pragma: no cover - no libc prctl
-            armed = False
-    if os.getppid() != parent_pid:  # the parent died before prctl took effect
-        os._exit(0)
-    if armed:
-        return  # no extra thread: its stack and malloc arena count against RLIMIT_AS
-
-    def _watch() -> None:  # pragma: no cover - runs in the child
-        import time
-
-        while True:
-            time.sleep(1.0)
-            if os.getppid() != parent_pid:
-                os._exit(0)
-
-    threading.Thread(target=_watch, name="ductgen-parent-watch", daemon=True).start()
-
-
 #: Thread counts of the numerical libraries in a worker (unless the environment sets them):
 #: one. A worker's numpy work is many small matrices (spline fits, meshes), where a BLAS
 #: thread per core only spins: mapping the kitcar sample's insert used 2.43–2.53 CPU s with a
@@ -139,7 +98,6 @@ def worker_environment() -> dict[str, str]:
     return {**BLAS_THREADS, **os.environ}
 
 
-_PR_SET_PDEATHSIG = 1
 #: The wall-clock backstop of a job, as a multiple of its CPU-time limit.
 WALL_FACTOR = 20.0
 #: How often the parent looks at a running job's CPU time (s).
@@ -148,13 +106,13 @@ _CLOCK_TICKS = os.sysconf("SC_CLK_TCK") if hasattr(os, "sysconf") else 100
 
 
 def _main(  # pragma: no cover - child
-    fd: int, memory_mb: int, parent_pid: int = 0, prctl: bool = True
+    fd: int, memory_mb: int, parent_pid: int = 0, prctl: bool = True, preload: str = ""
 ) -> None:
     if parent_pid:
         die_with_parent(parent_pid, prctl=prctl)
     # the parent went away or gave up: leave quietly, without a traceback
     with contextlib.suppress(BrokenPipeError, ConnectionError, EOFError, KeyboardInterrupt):
-        _child(Connection(fd), memory_mb)
+        _child(Connection(fd), memory_mb, preload)
     sys.stdout.flush()
     os._exit(0)
 
@@ -167,13 +125,17 @@ def _send(conn: Any, msg: Any) -> None:  # pragma: no cover - runs in the child
         os._exit(0)
 
 
-def _child(conn: Any, memory_mb: int) -> None:  # pragma: no cover - runs in the child
+def _child(conn: Any, memory_mb: int, preload: str = "") -> None:  # pragma: no cover - child
     global _stage_conn
     import resource
 
     limit = memory_mb * 1024 * 1024
     resource.setrlimit(resource.RLIMIT_AS, (limit, limit))
     _stage_conn = conn
+    if preload:  # a failure here shows again, and is reported, in the first job
+        with contextlib.suppress(Exception):
+            mod, fn = preload.split(":")
+            getattr(import_module(mod), fn)()
     while True:
         try:
             raw = conn.recv_bytes()
@@ -212,19 +174,32 @@ class KernelWorker:
         # one job at a time: two threads sharing the pipe would interleave their messages
         # (the design page previews and saves from different request threads)
         self._lock = threading.RLock()
+        self._ran = False  # whether the child has been sent a job
 
-    def _start(self) -> None:
+    def preload(self, job: Callable[[], Any]) -> None:
+        """Start the child now and have it run ``job`` (a warm-up: imports) before it
+        waits for its first job, while this process goes on (a command line that will build
+        solids calls it first thing, so the kernel's import runs while it imports and reads
+        the spec). A worker closed before any job ran is killed at once: a build served
+        from the solid cache does not wait for the warm-up."""
+        with self._lock:
+            if self._proc is None or self._proc.poll() is not None:
+                self._start(job_target(job))
+
+    def _start(self, preload: str = "") -> None:
         # A fresh interpreter (not fork: the parent may hold BLAS or GUI threads; not
         # multiprocessing's spawn: it re-runs the caller's __main__).
         ours, theirs = socket.socketpair()
         fd = theirs.fileno()
         main_thread = threading.current_thread() is threading.main_thread()
+        self._ran = False
         self._proc = subprocess.Popen(
             [
                 sys.executable,
                 "-c",
                 "from ductgen.worker import _main; "
-                f"_main({fd}, {self.limits.memory_mb}, {os.getpid()}, {main_thread})",
+                f"_main({fd}, {self.limits.memory_mb}, {os.getpid()}, {main_thread}, "
+                f"{preload!r})",
             ],
             pass_fds=(fd,),
             stdin=subprocess.DEVNULL,
@@ -234,8 +209,8 @@ class KernelWorker:
         self._conn = Connection(ours.detach())
 
     def close(self) -> None:
-        """Stop the child process."""
-        if self._proc is not None:
+        """Stop the child process (at once when it has run no job: nothing to finish)."""
+        if self._proc is not None and self._ran:
             try:
                 self._conn.send(None)
                 self._proc.wait(timeout=2)
@@ -282,6 +257,7 @@ class KernelWorker:
             self._start()
         timeout = self.limits.timeout_s if timeout_s is None else timeout_s
         current = target.split(":")[-1]
+        self._ran = True
         self._conn.send((target, args, kwargs, {k: os.environ.get(k) for k in JOB_ENVIRONMENT}))
         import time
 

@@ -138,3 +138,37 @@ def test_a_worker_started_earlier_dates_its_files_as_the_caller_says_now(monkeyp
         assert worker.run(os.getenv, "SOURCE_DATE_EPOCH") is None
     finally:
         worker.close()
+
+
+def _mark_preloaded() -> None:
+    os.environ["DUCTGEN_TEST_PRELOADED"] = "yes"
+
+
+def test_a_preloaded_worker_runs_its_warm_up_first_and_then_jobs() -> None:
+    """``preload`` starts the child and runs the warm-up there before the first job (the
+    command line's kernel import, while it reads the spec)."""
+    worker = KernelWorker()
+    try:
+        worker.preload(_mark_preloaded)
+        assert worker.run(os.getenv, "DUCTGEN_TEST_PRELOADED") == "yes"
+    finally:
+        worker.close()
+
+
+def test_a_worker_closed_before_any_job_is_killed_not_waited_for() -> None:
+    """A build served from the solid cache never sends the preloaded worker a job: closing
+    it kills the child (SIGKILL) instead of waiting for its warm-up to finish; a worker that
+    has run a job is asked to leave and exits on its own."""
+    import signal
+
+    from ductgen.solids.warm import warm_up
+
+    worker = KernelWorker()
+    worker.preload(warm_up)
+    proc = worker._proc
+    worker.close()
+    assert proc.returncode == -signal.SIGKILL
+    worker.run(os.getenv, "HOME")
+    proc = worker._proc
+    worker.close()
+    assert proc.returncode == 0

@@ -8,7 +8,13 @@ from typing import TYPE_CHECKING, Annotated
 
 import typer
 
-from ductgen.cli.common import NoCacheOption, QualityOption, QuietOption, err_console
+from ductgen.cli.common import (
+    NoCacheOption,
+    QualityOption,
+    QuietOption,
+    err_console,
+    preload_kernel,
+)
 
 if TYPE_CHECKING:
     from ductgen.pipeline import BuildResult
@@ -44,6 +50,7 @@ def build_command(
     no_cache: NoCacheOption = False,
 ) -> None:
     """Build solids, files and report.json from a spec."""
+    preload_kernel(only)
     from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
 
     from ductgen.cli.common import out_folder

@@ -1,7 +1,8 @@
 """`ductgen cfd`: an OpenFOAM cross-check of the airflow estimate.
 
-A plain function (registered by the CLI's command table); it imports nothing from the
-other CLI modules, so it adds no import cycle whichever way the commands are registered.
+A plain function (registered by the CLI's command table); of the other CLI modules it
+imports only the shared helpers, so it adds no import cycle whichever way the commands are
+registered.
 """
 
 from __future__ import annotations
@@ -11,6 +12,8 @@ from typing import Annotated, Any
 
 import typer
 from rich.console import Console
+
+from ductgen.cli.common import preload_kernel
 
 __all__ = ["cfd_command"]
 
@@ -47,6 +50,7 @@ def cfd_command(
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="print nothing on success")] = False,
 ) -> None:
     """Cross-check the airflow with OpenFOAM (simpleFoam) and compare with the 1-D estimate."""
+    preload_kernel("cutter")
     from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
 
     from ductgen.cfd.run import check_inputs, run_cfd

@@ -18,6 +18,7 @@ from ductgen.design import Design
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.solids.kinds import SOLID_KINDS
 from ductgen.solids.results import Mesh, SolidResult
+from ductgen.solids.warm import warm_up
 from ductgen.tolerances import DEFAULT_TOLERANCES, STL_QUALITY
 from ductgen.worker import stage
 
@@ -377,11 +378,3 @@ def cutter_mesh_job(d: Design) -> Mesh:
     stage("preview cutter")
     verts, faces = triangulate(make_cutter(d), *STL_QUALITY["draft"])
     return Mesh(verts.astype("float32"), faces.astype("int32"))
-
-
-def warm_up() -> str:
-    """Import the kernel in the worker ahead of the first build; returns its version."""
-    import cadquery as cq
-
-    recipes()
-    return str(cq.__version__)

@@ -187,7 +187,7 @@ def _executor(jobs: int, scheduler: str | None) -> Iterator[Executor | None]:
 def _pool_worker_init(parent_pid: int) -> None:  # pragma: no cover - runs in the pool
     """Pool workers die with the sweep process on every exit path (its kernel workers die
     with them in turn) and leave interrupts to it: no ``KeyboardInterrupt`` tracebacks."""
-    from ductgen.worker import die_with_parent
+    from ductgen.lifeline import die_with_parent
 
     die_with_parent(parent_pid, signal.SIGTERM)
 
