@@ -85,7 +85,7 @@ class Ahead:
         """Start the side worker's kernel imports now, while the kernel worker builds the
         cutter it hands over (otherwise they would hold up the cutter's checks and the
         plug)."""
-        from ductgen.solids.jobs import warm_up
+        from ductgen.solids.warm import warm_up
 
         self.run_in("side warm-up", self.side(), warm_up)
 

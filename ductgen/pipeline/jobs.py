@@ -18,10 +18,11 @@ from ductgen.panel_file import sample_panel
 from ductgen.render import render_png, warm_up_drawing
 from ductgen.solids.handoff import flat_solid_job
 from ductgen.solids.jig_job import jig_job
-from ductgen.solids.jobs import build_solids, cutter_mesh_job, warm_up
+from ductgen.solids.jobs import build_solids, cutter_mesh_job
 from ductgen.solids.panel_cut import cut_panel_job
 from ductgen.solids.read import step_mesh
 from ductgen.solids.split import split_insert_job
+from ductgen.solids.warm import warm_up
 
 __all__ = ["KERNEL_JOBS"]
 

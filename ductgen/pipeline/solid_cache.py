@@ -105,7 +105,7 @@ class SolidStage:
     def builds_beside(self, kinds: list[str]) -> bool:
         """Whether :meth:`solids` would use the side worker for ``kinds``: the insert and
         another kind not in the cache (so the build can start the side worker's imports
-        early, :func:`~ductgen.solids.jobs.warm_up`)."""
+        early, :func:`~ductgen.solids.warm.warm_up`)."""
         missing = [
             k
             for k in kinds
