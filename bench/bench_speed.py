@@ -109,11 +109,11 @@ if "--cold-worker" not in sys.argv:  # an old tree's run takes "module:function"
     worker.run(warm_up if hasattr(w, "job_target") else "ductgen.solids.jobs:warm_up")
     if hasattr(w, "side_worker"):  # a tree with a side worker: its imports are done too
         w.side_worker(worker.limits).run(warm_up)
-    # and what a design page has imported after its first build: the print checks' mesh
-    # tools in this process, the picture's drawing stack in every worker (either may draw)
-    import trimesh  # noqa: F401
+    # and what a design page has imported after its first build: the picture's drawing
+    # stack in every worker (either may draw)
     for x in workers:
         x.run(exec if hasattr(w, "job_target") else "builtins:exec", "import pyvista.plotting")
+import trimesh  # noqa: F401  # the print checks' mesh tools, in every run alike (an import)
 def cpu():
     return pcpu() + wcpu()
 spec = load_spec(sys.argv[1])
