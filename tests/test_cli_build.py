@@ -220,3 +220,38 @@ def test_a_raised_lip_20_by_5_plug_builds(tmp_path: Path) -> None:
     solid = result.solids["plug"]
     assert solid.expected_volume_mm3 is not None
     assert solid.volume_mm3 == pytest.approx(solid.expected_volume_mm3, rel=1e-3)
+
+
+def test_commands_preload_the_kernel_only_when_they_may_build_a_solid(
+    monkeypatch: pytest.MonkeyPatch,
+) -> None:
+    """``build`` and ``cfd`` start the kernel worker's imports first thing when a solid may
+    be built (the design page the side worker's too); a bad ``DUCTGEN_*`` value is left for
+    the build to report (exit 2), not raised here."""
+    import ductgen.worker as w
+    from ductgen.cli.common import preload_kernel
+
+    calls: list[tuple[str, str]] = []
+
+    class Fake:
+        limits = w.WorkerLimits()
+
+        def __init__(self, name: str) -> None:
+            self.name = name
+
+        def preload(self, job: object) -> None:
+            calls.append((self.name, getattr(job, "__name__", "")))
+
+    monkeypatch.setattr(w, "default_worker", lambda: Fake("kernel"))
+    monkeypatch.setattr(w, "side_worker", lambda _limits: Fake("side"))
+    preload_kernel("template,sheet")
+    assert calls == []
+    preload_kernel("template, cutter")
+    assert calls == [("kernel", "warm_up")]
+    calls.clear()
+    preload_kernel(None, beside=True)
+    assert calls == [("kernel", "warm_up"), ("side", "warm_up")]
+    calls.clear()
+    monkeypatch.setenv("DUCTGEN_MEMORY_MB", "lots")
+    preload_kernel(None)
+    assert calls == []

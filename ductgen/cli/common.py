@@ -44,17 +44,20 @@ def out_folder(out: str | None, default: Path) -> Path:
     return Path(out)
 
 
-def preload_kernel(only: str | None) -> None:
+def preload_kernel(only: str | None, beside: bool = False) -> None:
     """When the build may make a solid, start the kernel worker's imports now, while this
     process imports the rest and reads the spec (:meth:`~ductgen.worker.KernelWorker.preload`;
-    a build served from the solid cache kills it at the end without waiting)."""
+    a build served from the solid cache kills it at the end without waiting); ``beside``: the
+    side worker's too (the design page, whose builds use both)."""
     from ductgen.errors import SpecError
     from ductgen.solids.kinds import SOLID_KINDS
     from ductgen.solids.warm import warm_up
-    from ductgen.worker import WorkerLimits, default_worker
+    from ductgen.worker import WorkerLimits, default_worker, side_worker
 
     if only is not None and not any(k.strip() in SOLID_KINDS for k in only.split(",")):
         return
     with contextlib.suppress(SpecError):  # a bad DUCTGEN_* value: the build says so
         WorkerLimits.from_env()
         default_worker().preload(warm_up)
+        if beside:
+            side_worker(default_worker().limits).preload(warm_up)

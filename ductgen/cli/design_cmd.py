@@ -7,7 +7,7 @@ from typing import TYPE_CHECKING, Annotated
 
 import typer
 
-from ductgen.cli.common import err_console
+from ductgen.cli.common import err_console, preload_kernel
 
 if TYPE_CHECKING:
     from ductgen.page.server import DesignApp
@@ -55,6 +55,7 @@ def design_command(
 ) -> None:
     """Edit a spec in a local web page: drawings, numbers, airflow and warnings as you type."""
     page = _design_app(spec, root, out)
+    preload_kernel(None, beside=True)  # the first preview and build need not wait for imports
     _serve(page, host, port, no_browser)
 
 
