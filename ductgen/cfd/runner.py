@@ -134,10 +134,10 @@ def _child_setup() -> None:  # pragma: no cover - runs in the child before exec
     autogroup_nice()
 
 
-def autogroup_nice(path: str = "/proc/self/autogroup") -> int | None:
+def autogroup_nice() -> None:
     """Give this process's autogroup the niceness its tool will have (this process's nice
-    value plus :data:`TOOL_NICE`, at most 19); returns the value written, None where there is
-    no autogroup (not Linux, or the kernel's autogroup scheduling off).
+    value plus :data:`TOOL_NICE`, at most 19); nothing where there is no autogroup (not
+    Linux, or the kernel's autogroup scheduling off).
 
     With autogroup scheduling (the default of many Linux desktops) every session is a group
     that gets an equal share of the CPU whatever its processes' nice values, and each tool
@@ -145,12 +145,8 @@ def autogroup_nice(path: str = "/proc/self/autogroup") -> int | None:
     cfd`` would still take half of a two-core machine from the user's other work. Raising
     a group's niceness needs no privilege."""
     want = min(os.getpriority(os.PRIO_PROCESS, 0) + TOOL_NICE, 19)
-    try:
-        with open(path, "w") as f:
-            f.write(str(want))
-    except OSError:
-        return None
-    return want
+    with contextlib.suppress(OSError), open("/proc/self/autogroup", "w") as f:
+        f.write(str(want))
 
 
 def run_tool(

@@ -95,7 +95,9 @@ def _template(ctx: BuildContext) -> dict[str, bytes]:
     )
 
 
-def sheet_ahead(ctx: BuildContext, template: Future[Any] | None) -> tuple[dict[str, bytes], Any]:
+def sheet_ahead(
+    ctx: BuildContext, template: Future[Any] | None
+) -> tuple[dict[str, bytes], list[DesignWarning]]:
     """:func:`ductgen.sheets.sheet_parts`, after ``template`` (the template drawn ahead, on
     another thread) has finished: both draw with matplotlib, which is not made to draw on two
     threads at once. A build starts it once its record is made

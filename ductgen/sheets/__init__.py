@@ -6,6 +6,7 @@ from collections.abc import Callable
 from typing import Any
 
 from ductgen.design.record import SkinRecord, TemplateRecord
+from ductgen.errors import DesignWarning
 
 __all__ = ["SKIN_LINES", "sheet_parts", "skin_lines"]
 
@@ -75,7 +76,7 @@ SKIN_LINES: dict[str, Lines] = {
 }
 
 
-def sheet_parts(ctx: Any) -> tuple[dict[str, bytes], list[Any]]:
+def sheet_parts(ctx: Any) -> tuple[dict[str, bytes], list[DesignWarning]]:
     """Encode ``sheet.pdf`` and ``preview.png`` (suffix → bytes) for a build context, and
     the warnings to add to the build's.
 
@@ -85,11 +86,11 @@ def sheet_parts(ctx: Any) -> tuple[dict[str, bytes], list[Any]]:
     these in stage order); of the record it reads only what the record's first stage makes
     (flow, split stations, skin, template).
     """
-    from ductgen.errors import DesignWarning, ExportError
+    from ductgen.errors import ExportError
     from ductgen.sheets.preview import preview_png
     from ductgen.sheets.sheet import sheet_pdf
 
-    warnings = []
+    warnings: list[DesignWarning] = []
     try:  # drawn here, or taken from the build's second worker, which drew it ahead
         png: bytes | None = ctx.take("preview", lambda: preview_png(ctx, ctx.worker))
     except ExportError as err:
