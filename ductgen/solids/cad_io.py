@@ -17,6 +17,7 @@ the next one's.
 from __future__ import annotations
 
 import tempfile
+from collections.abc import Callable
 from pathlib import Path
 from typing import Any
 
@@ -30,15 +31,24 @@ __all__ = ["read_step", "step_bytes", "step_bytes_healed", "stl_bytes"]
 
 
 def step_bytes(
-    shape: Any, name: str = "ductgen", unit: str = "mm", exact_edges: bool = True
+    shape: Any,
+    name: str = "ductgen",
+    unit: str = "mm",
+    exact_edges: bool = True,
+    fresh: Callable[[Any], bool] | None = None,
 ) -> bytes:
     """Encode a cadquery shape as a STEP AP214 file in ``unit`` (lengths stay in mm inside),
-    healed (:func:`heal`, ``exact_edges`` passed on), time-stamped with the build date."""
-    return step_bytes_healed(shape, name, unit, exact_edges)[0]
+    healed (:func:`heal`, ``exact_edges`` and ``fresh`` passed on), time-stamped with the
+    build date."""
+    return step_bytes_healed(shape, name, unit, exact_edges, fresh)[0]
 
 
 def step_bytes_healed(
-    shape: Any, name: str = "ductgen", unit: str = "mm", exact_edges: bool = True
+    shape: Any,
+    name: str = "ductgen",
+    unit: str = "mm",
+    exact_edges: bool = True,
+    fresh: Callable[[Any], bool] | None = None,
 ) -> tuple[bytes, Any]:
     """:func:`step_bytes` and the healed shape it wrote (a ``TopoDS_Shape``, mm): what a
     reader of the file gets, for later work on the same solid without reading it back."""
@@ -55,7 +65,7 @@ def step_bytes_healed(
     Interface_Static.SetCVal_s("write.step.product.name", name)
     from OCP.ShapeAnalysis import ShapeAnalysis_ShapeTolerance
 
-    healed = heal(shape.wrapped, exact_edges)
+    healed = heal(shape.wrapped, exact_edges, fresh)
     # the file's uncertainty: the greatest edge tolerance, so a reader's edges cover their
     # measured deviation (session value: mode 2)
     Interface_Static.SetIVal_s("write.precision.mode", 2)

@@ -15,7 +15,7 @@ from __future__ import annotations
 from collections.abc import Callable
 from itertools import pairwise
 from pathlib import Path
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
@@ -94,9 +94,23 @@ def split_across_flow(
         raise GeometryError("split", f"stations {xs} must lie inside x {bb.xmin:.1f}-{bb.xmax:.1f}")
     if any(b - a <= key_length for a, b in pairwise(xs)):
         raise GeometryError("split", "stations closer than the key length")
-    key = (key_length, 0.5 * key_fraction * (bb.ymax - bb.ymin))
+    key = _key(bb, key_length, key_fraction)
     pieces = split_by_planes(solid, xs, key, bb) if by_planes else None
     return pieces if pieces is not None else split_by_booleans(solid, xs, key, bb)
+
+
+def _key(bb: cq.BoundBox, key_length: float, key_fraction: float = 0.4) -> tuple[float, float]:
+    """The tongue's (length, half width) in mm for a part with the box ``bb``."""
+    return key_length, 0.5 * key_fraction * (bb.ymax - bb.ymin)
+
+
+def glue_faces(solid: cq.Shape, stations_x: list[float], key_length: float = 6.0) -> Any:
+    """The test of the faces :func:`split_across_flow` makes when it cuts ``solid`` at
+    ``stations_x`` (mm): see :func:`~ductgen.solids.split_cut.glue_face_test`."""
+    from ductgen.solids.split_cut import glue_face_test
+
+    bb = close_box(solid)
+    return glue_face_test(sorted(stations_x), bb, _key(bb, key_length))
 
 
 #: Shifts (mm) tried, in this order, for all the stations together when a cut leaves a piece
@@ -196,12 +210,14 @@ def split_insert_job(
     to_model = None
     if frame is not None:
         whole, to_model = _into_frame(whole, frame)
-    pieces, meshes = _pieces_that_fit(whole, stations_x, bed, up, quality, by_planes)
+    xs, pieces, meshes = _pieces_that_fit(whole, stations_x, bed, up, quality, by_planes)
     # only a flat insert's edges are laid exactly on their faces (on mapped splines that
-    # cleared nothing the analyser flags, at a third of the split's CPU)
+    # cleared nothing the analyser flags, at a third of the split's CPU); its pieces are
+    # healed only where the cut made new faces (the whole was healed in memory before)
+    heal_as = (by_planes, glue_faces(whole, xs) if by_planes and to_model is None else None)
     return [
         _stage_piece(
-            piece, mesh, f"{prefix}-insert-part{k}", k, staging, (bed, up), to_model, by_planes
+            piece, mesh, f"{prefix}-insert-part{k}", k, staging, (bed, up), to_model, heal_as
         )
         for k, (piece, mesh) in enumerate(zip(pieces, meshes, strict=True), start=1)
     ]
@@ -214,21 +230,21 @@ def _pieces_that_fit(
     up: str,
     quality: str,
     by_planes: bool,
-) -> tuple[list[cq.Shape], list[tuple[np.ndarray, np.ndarray]]]:
-    """The pieces of ``whole`` split at ``stations_x`` (mm) and their meshes at the STL
-    ``quality``; when a piece does not fit ``bed`` standing ``up``, the fewest equal pieces
-    that do (:func:`split_for_bed`)."""
+) -> tuple[list[float], list[cq.Shape], list[tuple[np.ndarray, np.ndarray]]]:
+    """The stations used (mm), the pieces of ``whole`` split there and their meshes at the
+    STL ``quality``: at ``stations_x`` (or shifted), or when a piece does not fit ``bed``
+    standing ``up``, the fewest equal pieces that do (:func:`split_for_bed`)."""
     from ductgen.solids.mesh import triangulate
     from ductgen.tolerances import STL_QUALITY
 
-    _, pieces = split_shifted(whole, list(stations_x), by_planes=by_planes)
+    xs, pieces = split_shifted(whole, list(stations_x), by_planes=by_planes)
     lin, ang = STL_QUALITY[quality]
     meshes = [triangulate(p, lin, ang) for p in pieces]
     if not all(bed_fit(v, bed, up).fits for v, _ in meshes):
         v = triangulate(whole, 0.1, 0.3)[0]
-        _, pieces = split_for_bed(whole, v, bed, up, by_planes=by_planes)
+        xs, pieces = split_for_bed(whole, v, bed, up, by_planes=by_planes)
         meshes = [triangulate(p, lin, ang) for p in pieces]
-    return pieces, meshes
+    return xs, pieces, meshes
 
 
 def _stage_piece(
@@ -239,12 +255,13 @@ def _stage_piece(
     staging: str,
     bed_up: tuple[tuple[float, float, float], str],
     to_model: Callable[[cq.Shape], cq.Shape] | None,
-    exact_edges: bool,
+    heal_as: tuple[bool, Callable[[Any], bool] | None],
 ) -> InsertPiece:
     """Check piece ``k`` is one valid closed solid and stage ``BASE.step`` (model
-    coordinates, through ``to_model`` when given; ``exact_edges``: edges laid on their faces,
-    see :func:`~ductgen.solids.heal.heal`) and ``BASE.stl`` (standing on the bed ``bed_up``
-    = (bed size mm, up) as it prints); its record."""
+    coordinates, through ``to_model`` when given; ``heal_as`` = (exact edges: laid on
+    their faces, the test of the glue faces when only they are new), see
+    :func:`~ductgen.solids.heal.heal`) and ``BASE.stl`` (standing on the bed ``bed_up`` =
+    (bed size mm, up) as it prints); its record."""
     from ductgen.atomic import write_atomic
     from ductgen.meshstats import mesh_stats
     from ductgen.solids.cad_io import step_bytes, stl_bytes
@@ -261,7 +278,7 @@ def _stage_piece(
     if to_model is not None:
         piece = to_model(piece)
     # the STEP in model coordinates (for CAD), the STL standing on the bed as it prints
-    step = step_bytes(piece, base, exact_edges=exact_edges)
+    step = step_bytes(piece, base, exact_edges=heal_as[0], fresh=heal_as[1])
     write_atomic(Path(staging) / f"{base}.step", step)
     write_atomic(Path(staging) / f"{base}.stl", stl_bytes(stand_on_bed(v, up, turn), f, base))
     return InsertPiece(

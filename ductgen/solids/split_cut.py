@@ -10,11 +10,12 @@ regions upstream of each glue surface (the fallback, with fuzzy retries).
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from typing import Any
 
 import numpy as np
 
-__all__ = ["split_by_booleans", "split_by_planes"]
+__all__ = ["glue_face_test", "split_by_booleans", "split_by_planes"]
 
 
 def _plane_face(
@@ -50,6 +51,32 @@ def _cut_faces(s: float, bb: Any, key: tuple[float, float]) -> list[Any]:
         _plane_face((0, yc - half, 0), (0, 1, 0), (0, 0, 1), z, (s, s + length)),
         _plane_face((0, yc + half, 0), (0, 1, 0), (0, 0, 1), z, (s, s + length)),
     ]
+
+
+def glue_face_test(xs: list[float], bb: Any, key: tuple[float, float]) -> Callable[[Any], bool]:
+    """Whether a face (``TopoDS_Face``) lies on a glue surface of the stations ``xs`` (mm):
+    a plane x = s or x = s + length, or a tongue's side y = yc ± half (``key`` = (length,
+    half), ``bb`` the part's box as for :func:`split_by_planes`), within 1e-6 mm."""
+    from OCP.BRepAdaptor import BRepAdaptor_Surface
+    from OCP.GeomAbs import GeomAbs_Plane
+
+    length, half = key
+    yc = 0.5 * (bb.ymin + bb.ymax)
+    along = {0: [c for s in xs for c in (s, s + length)], 1: [yc - half, yc + half]}
+
+    def test(face: Any) -> bool:
+        a = BRepAdaptor_Surface(face)
+        if a.GetType() != GeomAbs_Plane:
+            return False
+        pln = a.Plane()
+        n = np.array(pln.Axis().Direction().Coord())
+        o = np.array(pln.Location().Coord())
+        for axis, values in along.items():
+            if abs(abs(n[axis]) - 1.0) < 1e-9 and any(abs(o[axis] - v) < 1e-6 for v in values):
+                return True
+        return False
+
+    return test
 
 
 def _upstream(p: np.ndarray, s: float, yc: float, key: tuple[float, float]) -> np.ndarray:

@@ -19,6 +19,7 @@ exact instead, as :mod:`ductgen.solids.edge_round` does).
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from typing import TYPE_CHECKING, Any
 
 import numpy as np
@@ -26,7 +27,7 @@ import numpy as np
 if TYPE_CHECKING:  # the kernel's bindings carry no type information
     from OCP.TopoDS import TopoDS_Edge, TopoDS_Face, TopoDS_Shape
 
-__all__ = ["GOAL_MM", "curve_on_face_deviation", "tighten_edges"]
+__all__ = ["GOAL_MM", "curve_on_face_deviation", "faces_where", "tighten_edges"]
 
 #: Deviation (mm) an edge is rebuilt to reach on both faces: below the 1e-7 mm a reader
 #: gives an exact edge, so its check finds nothing.
@@ -54,12 +55,16 @@ def curve_on_face_deviation(e: TopoDS_Edge, f: TopoDS_Face) -> float:
 
 
 def tighten_edges(
-    shape: TopoDS_Shape, above_mm: float = 1e-7, only: list[Any] | None = None
+    shape: TopoDS_Shape,
+    above_mm: float = 1e-7,
+    only: list[Any] | None = None,
+    among: list[Any] | None = None,
 ) -> int:
     """Rebuild, in place, every edge of ``shape`` whose tolerance exceeds ``above_mm`` (or
     every edge in ``only``, whatever its tolerance) that lies farther than :data:`GOAL_MM`
     from either of its two faces (see the module docstring); returns how many edges were
-    improved."""
+    improved. ``among``: look only at these edges (the others are known to lie on their
+    faces already), with the same rules."""
     from OCP.BRep import BRep_Tool
     from OCP.TopAbs import TopAbs_EDGE, TopAbs_FACE
     from OCP.TopExp import TopExp
@@ -72,6 +77,8 @@ def tighten_edges(
     for i in range(1, m.Extent() + 1):
         e = TopoDS.Edge_s(m.FindKey(i))
         if only is not None and not any(e.IsSame(o) for o in only):
+            continue
+        if among is not None and not any(e.IsSame(o) for o in among):
             continue
         faces = [TopoDS.Face_s(f) for f in m.FindFromIndex(i)]
         if (
@@ -91,6 +98,33 @@ def tighten_edges(
         except Exception:  # kernel exceptions share no base class: a failure here leaves
             continue  # the edge as it was, and the analyser then sizes its tolerance
     return done
+
+
+def faces_where(
+    s: TopoDS_Shape, fresh: Callable[[TopoDS_Face], bool]
+) -> tuple[TopoDS_Shape, list[TopoDS_Shape]]:
+    """The faces of ``s`` that pass ``fresh``, as one compound (sharing ``s``'s edges, so a
+    tolerance set through it is set on ``s``), and their edges (for ``among``)."""
+    from OCP.BRep import BRep_Builder
+    from OCP.TopAbs import TopAbs_EDGE, TopAbs_FACE
+    from OCP.TopExp import TopExp_Explorer
+    from OCP.TopoDS import TopoDS, TopoDS_Compound
+
+    B = BRep_Builder()
+    faces = TopoDS_Compound()
+    B.MakeCompound(faces)
+    edges: list[TopoDS_Shape] = []
+    found = TopExp_Explorer(s, TopAbs_FACE)
+    while found.More():
+        f = TopoDS.Face_s(found.Current())
+        if fresh(f):
+            B.Add(faces, f)
+            on = TopExp_Explorer(f, TopAbs_EDGE)
+            while on.More():
+                edges.append(on.Current())
+                on.Next()
+        found.Next()
+    return faces, edges
 
 
 def _tighten(e: TopoDS_Edge, faces: list[TopoDS_Face], old: float) -> int:
