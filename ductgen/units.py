@@ -13,7 +13,11 @@ A quantity is read by a small, bounded grammar and never evaluated as an express
     name     := letters, digits, "_" (a pint unit name: mm, in, km, h, inH2O, delta_degC)
 
 so ``"10**10**10 mm"`` or ``"__import__('os')"`` is refused in microseconds with a sentence.
-pint is used only to look up single unit names and to convert.
+pint is used only to look up single unit names and to convert. The units of
+:data:`EXACT_UNITS` (defined by exact factors: SI prefixes, the 1959 international inch and
+foot, the knot, the mile) are converted without it, so a spec written in them (every bundled
+sample) loads without importing pint (~0.6 s of a command's start); the result is pint's,
+which the tests check unit by unit.
 
 Rule for bare numbers: a *geometry* length written without a unit is in mm. Quantities whose
 bare number could be misread (speeds, flows, pressures, flow-path lengths) need a unit,
@@ -32,6 +36,7 @@ from pydantic import BeforeValidator
 
 __all__ = [
     "DIMENSIONS",
+    "EXACT_UNITS",
     "FILE_UNITS",
     "MAX_QUANTITY_CHARS",
     "MAX_UNIT_FACTORS",
@@ -74,6 +79,64 @@ _OTHER_NAMES: dict[str, str] = {
     "1 / [time]": "frequency",
     "[length] / [time] ** 2": "acceleration",
 }
+
+#: Unit text (as :func:`split_quantity` normalises it) → (dimension, SI value of one unit):
+#: units defined by exact factors (SI; 1 in = 0.0254 m and 1 ft = 0.3048 m, international
+#: yard and pound 1959; 1 mile = 1609.344 m; 1 knot = 1852 m/h; standard gravity 9.80665 m/s²
+#: in the pound-force, BIPM SI Brochure 9th ed.). Everything else is read by pint.
+EXACT_UNITS: dict[str, tuple[str, float]] = {
+    "mm": ("length", 1e-3),
+    "cm": ("length", 1e-2),
+    "m": ("length", 1.0),
+    "km": ("length", 1e3),
+    "in": ("length", 0.0254),
+    "inch": ("length", 0.0254),
+    "ft": ("length", 0.3048),
+    "foot": ("length", 0.3048),
+    "deg": ("angle", math.pi / 180.0),
+    "degree": ("angle", math.pi / 180.0),
+    "rad": ("angle", 1.0),
+    "m/s": ("speed", 1.0),
+    "km/h": ("speed", 1e3 / 3600.0),
+    "mph": ("speed", 1609.344 / 3600.0),
+    "knot": ("speed", 1852.0 / 3600.0),
+    "ft/s": ("speed", 0.3048),
+    "m**3/s": ("volume_flow", 1.0),
+    "m**3/h": ("volume_flow", 1.0 / 3600.0),
+    "L/s": ("volume_flow", 1e-3),
+    "l/s": ("volume_flow", 1e-3),
+    "cfm": ("volume_flow", 0.3048**3 / 60.0),
+    "kg/s": ("mass_flow", 1.0),
+    "g/s": ("mass_flow", 1e-3),
+    "Pa": ("pressure", 1.0),
+    "hPa": ("pressure", 1e2),
+    "kPa": ("pressure", 1e3),
+    "mbar": ("pressure", 1e2),
+    "bar": ("pressure", 1e5),
+    "psi": ("pressure", 0.45359237 * 9.80665 / 0.0254**2),
+    "kg/m**3": ("density", 1.0),
+    "K": ("temperature", 1.0),
+    "delta_degC": ("temperature", 1.0),
+    "m**2": ("area", 1.0),
+    "cm**2": ("area", 1e-4),
+    "mm**2": ("area", 1e-6),
+    "in**2": ("area", 0.0254**2),
+}
+
+
+def _plain(unit_text: str) -> str:
+    """``unit_text`` without spaces, powers written ``**`` (``"m^3/s"`` → ``"m**3/s"``)."""
+    return re.sub(r"\s+", "", unit_text).replace("^", "**")
+
+
+def _exact(magnitude: float, unit_text: str, to_unit: str) -> float | None:
+    """``magnitude`` in ``unit_text`` expressed in ``to_unit`` when both are
+    :data:`EXACT_UNITS` of one dimension (else None: pint decides)."""
+    a, b = EXACT_UNITS.get(_plain(unit_text)), EXACT_UNITS.get(_plain(to_unit))
+    if a is None or b is None or a[0] != b[0]:
+        return None
+    return magnitude * a[1] / b[1]
+
 
 _NUMBER = r"[-+]?(?:\d{1,30}(?:\.\d{0,30})?|\.\d{1,30})(?:[eE][-+]?\d{1,3})?"
 _QUANTITY_RE = re.compile(rf"^\s*({_NUMBER})\s*(.*?)\s*$")
@@ -126,6 +189,9 @@ def split_quantity(text: str) -> tuple[float, str]:
             f"cannot read {_excerpt(t)!r}: a quantity is one number followed by a unit; "
             "arithmetic is not evaluated"
         )
+    plain = _plain(rest)
+    if plain in EXACT_UNITS:  # what the grammar gives it too: no need to ask pint
+        return magnitude, plain
     unit = _parse_unit_text(rest, t) if rest else ""
     return magnitude, unit
 
@@ -200,6 +266,9 @@ def rescale(magnitude: float, unit_text: str, to_unit: str) -> float:
     Raises:
         ValueError: the units measure different things.
     """
+    exact = _exact(magnitude, unit_text, to_unit)
+    if exact is not None:
+        return exact
     q = _quantity_of(magnitude, unit_text)
     target = _unit(to_unit)
     if not q.check(target.dimensionality):
@@ -237,6 +306,11 @@ def convert(value: Any, dimension: str, unit: str, default_unit: str | None = No
         magnitude, unit_text = split_quantity(text)
     except ValueError as err:
         raise ValueError(f"{err}; write a {what} such as {example}") from None
+    unit_of = EXACT_UNITS.get(_plain(unit_text or default_unit or ""))
+    if unit_of is not None and unit_of[0] == dimension:
+        exact = _exact(magnitude, unit_text or str(default_unit), unit)
+        if exact is not None:
+            return _finite(exact, what, repr(text))
     reg = ureg()
     if not unit_text or (not _unit(unit_text).dimensionality and dimension != "angle"):
         if default_unit is None:
