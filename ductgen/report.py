@@ -16,6 +16,7 @@ from typing import Any
 import numpy as np
 
 from ductgen.design import Design
+from ductgen.design.identity import design_sha256
 from ductgen.design.record import SkinRecord, TemplateRecord
 from ductgen.errors import DesignWarning
 from ductgen.flow.record import FlowRecord
@@ -50,7 +51,8 @@ class BuildRecord:
     :meth:`to_report` of this, serialised once at the end of the build.
 
     Attributes:
-        name, spec_sha256, ductgen_version: the header.
+        name, spec_sha256, design_sha256, ductgen_version: the header (the design's hash:
+            :func:`~ductgen.design.identity.design_sha256`, what the template prints).
         geometry: the ``geometry`` section without its ``skin`` (mm, deg, mm², mm³).
         skin: ``geometry.skin``: the skin, the datum, the outlet's point and axis (mm).
         template: ``template``: how the template is developed.
@@ -73,6 +75,7 @@ class BuildRecord:
 
     name: str
     spec_sha256: str
+    design_sha256: str | None
     ductgen_version: str
     geometry: dict[str, Any]
     skin: SkinRecord
@@ -98,6 +101,7 @@ class BuildRecord:
         report: dict[str, Any] = {
             "name": self.name,
             "spec_sha256": self.spec_sha256,
+            "design_sha256": self.design_sha256,
             "ductgen_version": self.ductgen_version,
             "geometry": {**self.geometry, "skin": skin},
             "template": self.template.section(),
@@ -341,6 +345,7 @@ def start_record(
     return BuildRecord(
         name=spec.name,
         spec_sha256=spec_sha256,
+        design_sha256=design_sha256(d),
         ductgen_version=version,
         geometry=geometry,
         skin=SkinRecord.of_section(_skin_section(d)),

@@ -22,7 +22,9 @@ import tomllib
 
 from ductgen.cache import Cache, cache_root, fingerprint, open_cache
 from ductgen.design import build_design
+from ductgen.design.identity import design_sha256
 from ductgen.errors import SpecError
+from ductgen.export.template import template_files
 from ductgen.pipeline import build
 from ductgen.pipeline.solid_cache import design_key
 from ductgen.solids.step_text import stamp_step
@@ -64,6 +66,22 @@ def test_key_ignores_name_and_flow_and_follows_geometry() -> None:
     assert design_key(build_design(renamed)) == key
     assert design_key(build_design(faster)) == key
     assert design_key(build_design(steeper)) != key
+    ids = {design_sha256(build_design(s)) for s in (spec, renamed, faster)}
+    assert len(ids) == 1 and None not in ids
+    assert design_sha256(build_design(steeper)) not in ids
+
+
+def test_the_template_is_drawn_from_the_design_not_the_flow() -> None:
+    """Two specs that differ in ``[flow]`` get byte-identical templates, stamped with the
+    design's hash (the one ``report.json`` carries); a changed ramp angle changes it."""
+    spec = _spec(FLOWED)
+    faster = spec.model_copy(update={"flow": spec.flow.model_copy(update={"speed": 50.0})})
+    a, b = (template_files(build_design(s), s) for s in (spec, faster))
+    assert a == b
+    h = design_sha256(build_design(spec))
+    assert h is not None and f"design sha256 {h[:16]}".encode() in a["template.dxf"]
+    steeper = spec.model_copy(update={"ramp": spec.ramp.model_copy(update={"angle_deg": 7.5})})
+    assert h[:16].encode() not in template_files(build_design(steeper), steeper)["template.dxf"]
 
 
 def test_key_is_the_same_in_another_process() -> None:
@@ -191,7 +209,8 @@ def test_step_product_name_is_set_whatever_the_line_breaks(
 @pytest.mark.slow
 def test_hit_gives_the_files_of_an_uncached_build(tmp_path: Path) -> None:
     """A renamed spec built from the cache equals the same spec built without it, byte for
-    byte, every output; a flow-only change then builds no solid and starts no kernel."""
+    byte, every output; the same spec again draws nothing; a flow-only change then builds no
+    solid, starts no kernel and draws no template."""
     spec = _spec(FLOWED)
     first = build(spec, tmp_path / "first")
     assert first.cache == {"hits": [], "misses": ALL}
@@ -204,16 +223,24 @@ def test_hit_gives_the_files_of_an_uncached_build(tmp_path: Path) -> None:
     assert sorted(a) == sorted(b)
     assert {n.rsplit(".", 1)[-1] for n in a} >= {"step", "stl", "dxf", "pdf", "png", "json"}
     assert [n for n in a if a[n] != b[n]] == []
-    again = build(spec, tmp_path / "again")  # the same spec elsewhere: the template too
+    with pytest.MonkeyPatch.context() as mp:  # the same spec elsewhere: nothing drawn again
+        mp.setattr("ductgen.export.template.template_files", _no_kernel)
+        mp.setattr("ductgen.sheets.sheet.sheet_pdf", _no_kernel)
+        again = build(spec, tmp_path / "again")
     assert again.cache == {"hits": ALL, "misses": []}
     assert _files(tmp_path / "again") == _files(tmp_path / "first")
     faster = spec.model_copy(update={"flow": spec.flow.model_copy(update={"speed": 40.0})})
     with pytest.MonkeyPatch.context() as mp:  # solids, pieces and preview: no kernel job at all
-        mp.setattr(KernelWorker, "run", _no_kernel)
+        mp.setattr(KernelWorker, "run", _no_kernel)  # and the template is not drawn again
+        mp.setattr("ductgen.export.template.template_files", _no_kernel)
         flow = build(faster, tmp_path / "flow")
     assert flow.cache == {"hits": ALL, "misses": []}
     assert flow.report["flow"] != first.report["flow"]
     assert flow.report["geometry"] == first.report["geometry"]
+    assert flow.report["spec_sha256"] != first.report["spec_sha256"]
+    assert flow.report["design_sha256"] == first.report["design_sha256"]
+    for name in ("t-template.dxf", "t-template.pdf"):
+        assert (tmp_path / "flow" / name).read_bytes() == (tmp_path / "first" / name).read_bytes()
 
 
 @pytest.mark.slow

@@ -18,9 +18,9 @@ from ezdxf.math import bulge_to_arc
 
 from ductgen.design import build_design
 from ductgen.export.dxf import dxf_bytes
-from ductgen.export.template import flange_contours
+from ductgen.export.template import flange_contours, template_stamp
 from ductgen.export.template_layout import template_drawing
-from ductgen.spec import parse_spec, spec_sha256
+from ductgen.spec import parse_spec
 from tests.conftest import naca_ordinates
 
 # NACA ACR 5I20 divergent-wall ordinates (tests/data/naca_ordinates.json, recalled)
@@ -35,7 +35,7 @@ def _spec(**template):  # type: ignore[no-untyped-def]
 def _read(spec):  # type: ignore[no-untyped-def]
     d = build_design(spec)
     g = d.geometry
-    data = dxf_bytes(template_drawing(g, spec, spec_sha256(spec), *flange_contours(d, spec)))
+    data = dxf_bytes(template_drawing(g, spec, template_stamp(d, spec), *flange_contours(d, spec)))
     return g, ezdxf.read(io.StringIO(data.decode("utf-8")))
 
 

@@ -14,13 +14,13 @@ import pytest
 
 from ductgen.design import build_design
 from ductgen.export.template import template_files
-from ductgen.spec import load_spec, parse_spec, spec_sha256
+from ductgen.spec import load_spec, parse_spec
 from tests.conftest import SAMPLES, sample_ids
 from tests.pdf_overlap import PT, audit_page
 
 
 def _doc(spec) -> pymupdf.Document:  # type: ignore[no-untyped-def]
-    data = template_files(build_design(spec), spec, spec_sha256(spec))["template.pdf"]
+    data = template_files(build_design(spec), spec)["template.pdf"]
     return pymupdf.open(stream=data, filetype="pdf")
 
 

@@ -17,7 +17,7 @@ import pytest
 
 from ductgen.design import build_design
 from ductgen.export.template import template_files
-from ductgen.spec import parse_spec, spec_sha256
+from ductgen.spec import parse_spec
 
 PT = 72.0 / 25.4
 PAPER_PT = {"A4": (210 * PT, 297 * PT), "Letter": (612.0, 792.0)}
@@ -32,7 +32,7 @@ def _pdf(width: float, depth: float, **template):  # type: ignore[no-untyped-def
     )
     d = build_design(spec)
     g = d.geometry
-    data = template_files(d, spec, spec_sha256(spec))["template.pdf"]
+    data = template_files(d, spec)["template.pdf"]
     return g, spec, pymupdf.open(stream=data, filetype="pdf")
 
 

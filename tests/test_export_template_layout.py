@@ -20,12 +20,12 @@ from ezdxf import path as dxf_path
 
 from ductgen.design import build_design
 from ductgen.export.template import template_files
-from ductgen.spec import load_spec, parse_spec, spec_sha256
+from ductgen.spec import load_spec, parse_spec
 from tests.conftest import SAMPLES, sample_ids
 
 
 def _doc(spec) -> ezdxf.document.Drawing:  # type: ignore[no-untyped-def]
-    data = template_files(build_design(spec), spec, spec_sha256(spec))["template.dxf"]
+    data = template_files(build_design(spec), spec)["template.dxf"]
     return ezdxf.read(io.StringIO(data.decode("utf-8")))
 
 

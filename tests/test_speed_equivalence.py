@@ -113,12 +113,13 @@ def _differences(a: Any, b: Any, path: str, out: list[str]) -> None:
         out.append(f"{path}: {a!r} != {b!r}")
 
 
-_STAMP = re.compile(r"(spec sha256 )[0-9a-f]+|(date )\d{4}-\d{2}-\d{2}")
+_STAMP = re.compile(r"(?:spec|design) (sha256 )[0-9a-f]+|(date )\d{4}-\d{2}-\d{2}")
 
 
 def _stamp_free(text: str) -> str:
-    """A drawing's text without its build stamp: the spec's hash (it covers every spec key,
-    so it changes when the spec model gains one) and the build date."""
+    """A drawing's text without its build stamp: the hash it was drawn from (the spec's,
+    which covers every spec key and so changed when the spec model gained one; the
+    template's is now the design's) and the build date."""
     return _STAMP.sub(lambda m: (m.group(1) or m.group(2)) + "…", text)
 
 
@@ -149,6 +150,7 @@ def test_the_comparison_catches_a_changed_volume() -> None:
     diffs = []
     a = "spec sha256 4df40931bb9cc841  date 2026-12-02  UNITS: mm (1:1)"
     _differences(a, a.replace("4df4", "0000").replace("12-02", "12-03"), "s", diffs)
+    _differences(a, a.replace("spec", "design"), "d", diffs)
     _differences(a, a.replace("mm (1:1)", "in (1:1)"), "t", diffs)
     assert [d.split(":")[0] for d in diffs] == ["t"]
 

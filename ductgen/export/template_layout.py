@@ -154,7 +154,7 @@ def _kerf_note(kerf: float, has_outer: bool) -> str:
 def template_drawing(
     g: InletGeometry,
     spec: Spec,
-    spec_hash: str,
+    stamp: str,
     outer: list[tuple[str, Contour]] | None = None,
     holes: list[tuple[float, float]] | None = None,
     hole_diameter_mm: float = 0.0,
@@ -164,7 +164,8 @@ def template_drawing(
     Args:
         g: the inlet geometry.
         spec: the spec (``template`` options: units, tolerance, kerf).
-        spec_hash: ``spec_sha256`` for the text block.
+        stamp: what it was drawn from, for the text block
+            (:func:`~ductgen.export.template.template_stamp`).
         outer: further closed CUT contours (flange outline / trim line), already
             offset for kerf, each with a role name.
         holes: fastener hole centres (mm) and their diameter ``hole_diameter_mm``.
@@ -184,7 +185,7 @@ def template_drawing(
         d.lines.append(Line((cx - arm, cy), (cx + arm, cy)))
         d.lines.append(Line((cx, cy - arm), (cx, cy + arm)))
     _add_marks(d, g)
-    _add_text_block(d, g, spec, spec_hash)
+    _add_text_block(d, g, spec, stamp)
     return d
 
 
@@ -214,9 +215,10 @@ def _add_marks(d: TemplateDrawing, g: InletGeometry) -> None:
     )
 
 
-def _add_text_block(d: TemplateDrawing, g: InletGeometry, spec: Spec, spec_hash: str) -> None:
+def _add_text_block(d: TemplateDrawing, g: InletGeometry, spec: Spec, stamp: str) -> None:
     """The scale bars (100 mm, 4 in) and the text block below the cuts: the inlet, the
-    spec's hash, the build date, the units, the kerf, the cut order, the cautions."""
+    ``stamp`` (the design's hash), the build date, the units, the kerf, the cut order, the
+    cautions."""
     t = spec.template
     ymin = min(float(c.points[:, 1].min()) for _, c in d.cuts) - 25.0
     d.bars.append(ScaleBar((0.0, ymin), 100.0, "100 mm - VERIFY SCALE"))
@@ -226,7 +228,7 @@ def _add_text_block(d: TemplateDrawing, g: InletGeometry, spec: Spec, spec_hash:
         f"{spec.name}  -  NACA-type flush inlet, skin opening template",
         f"W {g.width_mm:.2f} x D {g.depth_mm:.2f} mm, L {g.planform.length_mm:.2f} mm, "
         f"ramp {g.floor.angle_deg:.2f} deg",
-        f"spec sha256 {spec_hash[:16]}  date {build_date()}  {unit_note}",
+        f"{stamp}  date {build_date()}  {unit_note}",
         _kerf_note(t.kerf, len(d.cuts) > 1),
         "CUT, inside out: " + ", ".join(role for role, _ in d.cuts),
         "VERIFY SCALE: the 100 mm bar must measure 100 mm before cutting",

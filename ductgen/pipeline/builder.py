@@ -126,7 +126,7 @@ def _open(b: _Build) -> None:
 
 
 def _template_ahead(b: _Build) -> None:
-    b.ahead.start("template", template_bytes, b.design, b.spec, spec_sha256(b.spec), b.store)
+    b.ahead.start("template", template_bytes, b.design, b.spec, b.store)
 
 
 def _beside(kind: str, b: _Build) -> bool:

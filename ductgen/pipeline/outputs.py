@@ -53,15 +53,15 @@ class BuildContext:
         return self.record.warnings
 
 
-def template_bytes(
-    design: Design, spec: Spec, spec_sha256: str, cache: Cache | None
-) -> dict[str, bytes]:
+def template_bytes(design: Design, spec: Spec, cache: Cache | None) -> dict[str, bytes]:
     """``template.dxf`` (1:1, lines + arcs) and ``template.pdf`` (tiled 1:1); from the solid
-    cache when the same spec (every key, its hash ``spec_sha256``), design, date and code drew
-    it before. Reads nothing a build's later stages write, so a build starts it on a thread of
-    its own while the kernel works."""
-    from ductgen.export.template import template_files
+    cache when the same design, name, ``[template]`` keys, date and code drew it before (it
+    reads nothing else of the spec: a change of ``[flow]`` draws no new template). Reads
+    nothing a build's later stages write, so a build starts it on a thread of its own while
+    the kernel works."""
+    from ductgen.export.template import template_files, template_stamp
 
+    stamp = template_stamp(design, spec)
     key = None
     if cache is not None:
         from ductgen.cache import fingerprint, kernel_versions, source_fingerprint
@@ -73,8 +73,9 @@ def template_bytes(
             key = fingerprint(
                 "template",
                 dkey,
-                spec,
-                spec_sha256,
+                spec.name,
+                spec.template,
+                stamp,
                 build_datetime().isoformat(),
                 kernel_versions(("ezdxf", "matplotlib", "numpy")),
                 source_fingerprint(("export", "stamp.py", "units.py")),
@@ -82,7 +83,7 @@ def template_bytes(
             entry = cache.get(key)
             if entry is not None:
                 return {name: bytes(data) for name, data in entry.blobs.items()}
-    files = template_files(design, spec, spec_sha256)
+    files = template_files(design, spec, stamp)
     if key is not None and cache is not None:
         cache.put(key, {}, files)
     return files
@@ -90,9 +91,7 @@ def template_bytes(
 
 def _template(ctx: BuildContext) -> dict[str, bytes]:
     """:func:`template_bytes`, or what the build started ahead (its error raised here)."""
-    return ctx.take(
-        "template", lambda: template_bytes(ctx.design, ctx.spec, ctx.record.spec_sha256, ctx.cache)
-    )
+    return ctx.take("template", lambda: template_bytes(ctx.design, ctx.spec, ctx.cache))
 
 
 def sheet_ahead(

@@ -13,7 +13,6 @@ whose every solid hits starts no kernel work for them.
 
 from __future__ import annotations
 
-import dataclasses
 import functools
 import time
 from collections.abc import Callable
@@ -26,6 +25,7 @@ import numpy as np
 from ductgen.atomic import write_atomic
 from ductgen.cache import Cache, Entry, fingerprint, kernel_versions, source_fingerprint
 from ductgen.design import Design
+from ductgen.design.identity import design_fields
 from ductgen.errors import DuctgenError
 from ductgen.solids.handoff import flat_solid_job
 from ductgen.solids.jobs import build_solids
@@ -61,13 +61,8 @@ def _code_key() -> str:
 def design_key(d: Design) -> str | None:
     """The key of ``d``'s solids (None when the design holds something the hash cannot
     read: then nothing is cached)."""
-    skip = ("name", "warnings", "fabrication_checked")  # not what solids are made from
-    fields = {f.name: getattr(d, f.name) for f in dataclasses.fields(d) if f.name not in skip}
-    g = d.geometry
-    fields["geometry"] = {f.name: getattr(g, f.name) for f in dataclasses.fields(g)}
-    del fields["geometry"]["name"]
     try:
-        return fingerprint("design", fields, _code_key())
+        return fingerprint("design", design_fields(d), _code_key())
     except TypeError:
         return None
 

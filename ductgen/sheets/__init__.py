@@ -97,7 +97,7 @@ def sheet_parts(ctx: Any) -> tuple[dict[str, bytes], list[DesignWarning]]:
         warnings.append(DesignWarning("preview_unavailable", str(err)))
         png = None
     record = ctx.record
-    pdf = sheet_pdf(
+    args = (
         ctx.design.geometry,
         ctx.spec,
         record.spec_sha256,
@@ -106,9 +106,43 @@ def sheet_parts(ctx: Any) -> tuple[dict[str, bytes], list[DesignWarning]]:
         record.flow,
         () if record.split is None else record.split.stations_x_mm,
         skin_lines(record.skin, record.template),
-        design=ctx.design,
+    )
+    pdf = _cached(
+        getattr(ctx, "cache", None), args, ctx.design, lambda: sheet_pdf(*args, design=ctx.design)
     )
     files = {"sheet.pdf": pdf}
     if png is not None:
         files["preview.png"] = png
     return files, warnings
+
+
+def _cached(store: Any, args: tuple[Any, ...], design: Any, draw: Callable[[], bytes]) -> bytes:
+    """``draw()``, or the sheet drawn before from the same ``args`` (what
+    :func:`~ductgen.sheets.sheet.sheet_pdf` draws from: the geometry, the spec and its hash,
+    the version, the picture, the flow record, the split stations, the skin lines) and
+    ``design``, on the same date with the same code, from the solid cache ``store``."""
+    key = None
+    if store is not None:
+        from ductgen.cache import fingerprint, kernel_versions, source_fingerprint
+        from ductgen.design.identity import design_fields
+        from ductgen.stamp import build_datetime
+
+        code = ("sheets", "flow", "export", "design", "geometry", "display.py", "stamp.py")
+        try:
+            key = fingerprint(
+                "sheet",
+                args,
+                design_fields(design),
+                build_datetime().isoformat(),
+                kernel_versions(("ductgen", "matplotlib", "numpy")),
+                source_fingerprint((*code, "units.py")),
+            )
+        except TypeError:  # something the hash cannot read: draw it
+            key = None
+        entry = store.get(key) if key is not None else None
+        if entry is not None:
+            return bytes(entry.blobs["pdf"])
+    pdf = draw()
+    if key is not None and store is not None:
+        store.put(key, {}, {"pdf": pdf})
+    return pdf

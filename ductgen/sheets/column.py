@@ -151,8 +151,10 @@ def _key_dims(
 
 
 def title_block(
-    bg: Axes, tx: float, pw: float, g: InletGeometry, spec: Any, spec_hash: str, version: str
+    bg: Axes, tx: float, pw: float, g: InletGeometry, spec: Any, ident: str, version: str
 ) -> None:
+    """The cautions and the title rows; ``ident``: the hashes row (what the sheet and its
+    template were made from)."""
     from matplotlib.patches import Rectangle
 
     bg.add_patch(Rectangle((tx, 10), pw - 10 - tx, 95, fill=False, lw=0.6))
@@ -167,7 +169,7 @@ def title_block(
         (spec.name, 11, "bold"),
         ("NACA-type flush inlet - drawing sheet", 7.5, "normal"),
         (f"date {build_date()}    units {units}", 7, "normal"),
-        (f"spec sha256 {spec_hash}", 5.6, "normal"),
+        (ident, 5.6, "normal"),
         (f"ductgen {version}    profile {g.planform.profile.name}", 7, "normal"),
         ("Dimensions in mm. Do not scale from this sheet: use the 1:1 template.", 6.5, "normal"),
     ]

@@ -19,6 +19,7 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from ductgen.design.identity import design_sha256
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.sheets.column import offset_rows, right_column, title_block
 from ductgen.sheets.placement import datum_label, placement_lines
@@ -113,7 +114,8 @@ def sheet_pdf(
 
     Args:
         g: inlet geometry; spec: the spec (name, template units and paper).
-        spec_hash: ``spec_sha256``; version: ductgen version for the title block.
+        spec_hash: ``spec_sha256``; version: ductgen version for the title block (with
+            ``design``, the design's hash beside the spec's, as the template prints it).
         preview: optional PNG drawn in the picture box.
         flow: the build's flow record, drawn as the AIRFLOW block when given.
         skin_lines: (name, value) lines on the skin, added to the key dimensions (a
@@ -144,7 +146,11 @@ def sheet_pdf(
         if preview:
             _picture(fig, page, preview, bx, tx)
         right_column(bg, tx, ph, g, flow, skin_lines)
-        title_block(bg, tx, pw, g, spec, spec_hash, version)
+        ident = f"spec sha256 {spec_hash}"
+        design_hash = design_sha256(design) if design is not None else None
+        if design_hash is not None:  # the template prints the design's
+            ident = f"spec sha256 {spec_hash[:16]}    design sha256 {design_hash[:16]}"
+        title_block(bg, tx, pw, g, spec, ident, version)
         pdf.savefig(fig)
     return buf.getvalue()
 
