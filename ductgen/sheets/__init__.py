@@ -127,7 +127,7 @@ def _cached(store: Any, args: tuple[Any, ...], design: Any, draw: Callable[[], b
         from ductgen.design.identity import design_fields
         from ductgen.stamp import build_datetime
 
-        code = ("sheets", "flow", "export", "design", "geometry", "display.py", "stamp.py")
+        code = ("sheets", "flow", "export", "design", "geometry")
         try:
             key = fingerprint(
                 "sheet",
@@ -135,7 +135,7 @@ def _cached(store: Any, args: tuple[Any, ...], design: Any, draw: Callable[[], b
                 design_fields(design),
                 build_datetime().isoformat(),
                 kernel_versions(("ductgen", "matplotlib", "numpy")),
-                source_fingerprint((*code, "units.py")),
+                source_fingerprint((*code, "display.py", "stamp.py", "units.py")),
             )
         except TypeError:  # something the hash cannot read: draw it
             key = None
