@@ -226,6 +226,7 @@ def test_hit_gives_the_files_of_an_uncached_build(tmp_path: Path) -> None:
     with pytest.MonkeyPatch.context() as mp:  # the same spec elsewhere: nothing drawn again
         mp.setattr("ductgen.export.template.template_files", _no_kernel)
         mp.setattr("ductgen.sheets.sheet.sheet_pdf", _no_kernel)
+        mp.setattr("ductgen.export.threemf.plate_3mf", _no_kernel)
         again = build(spec, tmp_path / "again")
     assert again.cache == {"hits": ALL, "misses": []}
     assert _files(tmp_path / "again") == _files(tmp_path / "first")

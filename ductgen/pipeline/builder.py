@@ -242,6 +242,7 @@ def _plate(b: _Build) -> None:
     """``NAME-insert.3mf``: the insert (or its pieces) on one plate, standing as the bed fit
     says (in the datum's frame on a panel); split pieces' STLs already stand as they print."""
     from ductgen.export.threemf import plate_3mf, stl_part
+    from ductgen.pipeline.outputs import cached_plate
 
     assert b.out is not None and b.design is not None
     pieces = b.rec.pieces
@@ -251,9 +252,13 @@ def _plate(b: _Build) -> None:
     up = b.rec.insert_up or "+z"
     if pieces:  # the pieces' STLs already stand as they print
         up, where = "+z", None
-    parts = [stl_part(n.removesuffix(".stl"), (b.staging / n).read_bytes(), where) for n in stls]
+    meshes = [(n.removesuffix(".stl"), (b.staging / n).read_bytes()) for n in stls]
+
+    def plate() -> bytes:
+        return plate_3mf([stl_part(n, data, where) for n, data in meshes], up, b.spec.name)
+
     name = f"{b.spec.name}-insert.3mf"
-    b.out.add(name, plate_3mf(parts, up, b.spec.name))
+    b.out.add(name, cached_plate(b.store, (meshes, where, up, b.spec.name), plate))
     b.files["insert_3mf"] = name
 
 

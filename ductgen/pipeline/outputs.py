@@ -20,7 +20,15 @@ from ductgen.solids.results import SolidResult
 from ductgen.spec.model import Spec
 from ductgen.worker import KernelWorker
 
-__all__ = ["OUTPUTS", "BuildContext", "Output", "jig_bytes", "sheet_ahead", "template_bytes"]
+__all__ = [
+    "OUTPUTS",
+    "BuildContext",
+    "Output",
+    "cached_plate",
+    "jig_bytes",
+    "sheet_ahead",
+    "template_bytes",
+]
 
 T = TypeVar("T")
 
@@ -87,6 +95,32 @@ def template_bytes(design: Design, spec: Spec, cache: Cache | None) -> dict[str,
     if key is not None and cache is not None:
         cache.put(key, {}, files)
     return files
+
+
+def cached_plate(cache: Cache | None, inputs: tuple[Any, ...], make: Callable[[], bytes]) -> bytes:
+    """``make()`` (the insert's 3MF plate), or the plate made before from the same
+    ``inputs`` (the parts' names and STL bytes, the frame, the up axis, the title) with the
+    same code, from the solid cache."""
+    key = None
+    if cache is not None:
+        from ductgen.cache import fingerprint, kernel_versions, source_fingerprint
+
+        try:
+            key = fingerprint(
+                "plate",
+                inputs,
+                kernel_versions(("trimesh", "numpy")),
+                source_fingerprint(("export/threemf.py", "solids/bed.py")),
+            )
+        except TypeError:  # something the hash cannot read: make it
+            key = None
+        entry = cache.get(key) if key is not None else None
+        if entry is not None:
+            return bytes(entry.blobs["3mf"])
+    data = make()
+    if key is not None and cache is not None:
+        cache.put(key, {}, {"3mf": data})
+    return data
 
 
 def _template(ctx: BuildContext) -> dict[str, bytes]:
