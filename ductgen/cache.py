@@ -30,7 +30,7 @@ import os
 import struct
 import tempfile
 import types
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from pathlib import Path
 from typing import Any
 
@@ -43,6 +43,7 @@ __all__ = [
     "Cache",
     "Entry",
     "cache_root",
+    "cached_bytes",
     "fingerprint",
     "kernel_versions",
     "open_cache",
@@ -302,6 +303,25 @@ class Cache:
             except OSError:
                 continue
             total -= size
+
+
+def cached_bytes(cache: Cache | None, parts: tuple[Any, ...], make: Callable[[], bytes]) -> bytes:
+    """``make()``, or the bytes it made before from the same ``parts`` (everything the
+    result is made from, the code included: :func:`fingerprint`), from ``cache``; stored
+    there once made. Without a cache, or with a part the hash cannot read, just ``make()``."""
+    key = None
+    if cache is not None:
+        try:
+            key = fingerprint(*parts)
+        except TypeError:
+            key = None
+        entry = cache.get(key) if key is not None else None
+        if entry is not None and "bytes" in entry.blobs:
+            return bytes(entry.blobs["bytes"])
+    data = make()
+    if key is not None and cache is not None:
+        cache.put(key, {}, {"bytes": data})
+    return data
 
 
 def open_cache(enabled: bool = True) -> Cache | None:

@@ -20,7 +20,7 @@ import numpy as np
 import pytest
 import tomllib
 
-from ductgen.cache import Cache, cache_root, fingerprint, open_cache
+from ductgen.cache import Cache, cache_root, cached_bytes, fingerprint, open_cache
 from ductgen.design import build_design
 from ductgen.design.identity import design_sha256
 from ductgen.errors import SpecError
@@ -144,6 +144,25 @@ def test_eviction_keeps_the_bound_and_the_recently_used(tmp_path: Path) -> None:
         assert sum(p.stat().st_size for p in _entries(tmp_path)) <= 3300
     assert c.get(keys[-1]) is not None
     assert c.get(keys[1]) is None and c.get(keys[2]) is None
+
+
+def test_cached_bytes_makes_once_per_key(tmp_path: Path) -> None:
+    """What the sheet, the picture and the plate go through: made once per key, then read;
+    another part is another key; an unreadable part, or an entry without the bytes, is made."""
+    store = Cache(tmp_path, 10**7)
+    made: list[int] = []
+
+    def make() -> bytes:
+        made.append(1)
+        return b"x" * len(made)
+
+    assert cached_bytes(store, ("a", 1.0), make) == b"x"
+    assert cached_bytes(store, ("a", 1.0), make) == b"x" and len(made) == 1
+    assert cached_bytes(store, ("a", 1.5), make) == b"xx" and len(made) == 2
+    assert cached_bytes(store, ("a", object()), make) == b"xxx"  # no readable state
+    store.put(fingerprint("b"), {}, {"other": b"?"})
+    assert cached_bytes(store, ("b",), make) == b"xxxx"
+    assert cached_bytes(None, ("a", 1.0), make) == b"xxxxx"
 
 
 def test_leftovers_of_an_interrupted_store_are_removed_later(tmp_path: Path) -> None:

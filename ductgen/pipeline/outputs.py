@@ -101,26 +101,12 @@ def cached_plate(cache: Cache | None, inputs: tuple[Any, ...], make: Callable[[]
     """``make()`` (the insert's 3MF plate), or the plate made before from the same
     ``inputs`` (the parts' names and STL bytes, the frame, the up axis, the title) with the
     same code, from the solid cache."""
-    key = None
-    if cache is not None:
-        from ductgen.cache import fingerprint, kernel_versions, source_fingerprint
+    from ductgen.cache import cached_bytes, kernel_versions, source_fingerprint
 
-        try:
-            key = fingerprint(
-                "plate",
-                inputs,
-                kernel_versions(("trimesh", "numpy")),
-                source_fingerprint(("export/threemf.py", "solids/bed.py")),
-            )
-        except TypeError:  # something the hash cannot read: make it
-            key = None
-        entry = cache.get(key) if key is not None else None
-        if entry is not None:
-            return bytes(entry.blobs["3mf"])
-    data = make()
-    if key is not None and cache is not None:
-        cache.put(key, {}, {"3mf": data})
-    return data
+    if cache is None:
+        return make()
+    code = source_fingerprint(("export/threemf.py", "solids/bed.py"))
+    return cached_bytes(cache, ("plate", inputs, kernel_versions(("trimesh", "numpy")), code), make)
 
 
 def _template(ctx: BuildContext) -> dict[str, bytes]:

@@ -121,28 +121,19 @@ def _cached(store: Any, args: tuple[Any, ...], design: Any, draw: Callable[[], b
     :func:`~ductgen.sheets.sheet.sheet_pdf` draws from: the geometry, the spec and its hash,
     the version, the picture, the flow record, the split stations, the skin lines) and
     ``design``, on the same date with the same code, from the solid cache ``store``."""
-    key = None
-    if store is not None:
-        from ductgen.cache import fingerprint, kernel_versions, source_fingerprint
-        from ductgen.design.identity import design_fields
-        from ductgen.stamp import build_datetime
+    from ductgen.cache import cached_bytes, kernel_versions, source_fingerprint
+    from ductgen.design.identity import design_fields
+    from ductgen.stamp import build_datetime
 
-        code = ("sheets", "flow", "export", "design", "geometry")
-        try:
-            key = fingerprint(
-                "sheet",
-                args,
-                design_fields(design),
-                build_datetime().isoformat(),
-                kernel_versions(("ductgen", "matplotlib", "numpy")),
-                source_fingerprint((*code, "display.py", "stamp.py", "units.py")),
-            )
-        except TypeError:  # something the hash cannot read: draw it
-            key = None
-        entry = store.get(key) if key is not None else None
-        if entry is not None:
-            return bytes(entry.blobs["pdf"])
-    pdf = draw()
-    if key is not None and store is not None:
-        store.put(key, {}, {"pdf": pdf})
-    return pdf
+    if store is None:
+        return draw()
+    code = ("sheets", "flow", "export", "design", "geometry")
+    parts = (
+        "sheet",
+        args,
+        design_fields(design),
+        build_datetime().isoformat(),
+        kernel_versions(("ductgen", "matplotlib", "numpy")),
+        source_fingerprint((*code, "display.py", "stamp.py", "units.py")),
+    )
+    return cached_bytes(store, parts, draw)

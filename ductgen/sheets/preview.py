@@ -100,31 +100,27 @@ def preview_png(ctx: Any, worker: Any = None, renderer: Any = None) -> bytes:
     if frame is not None and panel is not None:  # the user's panel: view it in the datum's
         # frame, as the analytic skins are viewed
         mesh, panel, clip_by, marks = _in_frame(frame, mesh, panel, clip_by, marks)
-    store = getattr(ctx, "cache", None)
-    key = None
-    if store is not None:  # the same picture of the same meshes: from the solid cache
-        from ductgen.cache import fingerprint, kernel_versions, source_fingerprint
+    from ductgen.cache import cached_bytes, kernel_versions, source_fingerprint
 
-        code = source_fingerprint(("sheets/preview.py", "render.py"))
-        key = fingerprint(
-            "preview", kernel_versions(("vtk",)), code, mesh, opening, panel, marks, clip_by
-        )
-        entry = store.get(key)
-        if entry is not None:
-            return bytes(entry.blobs["png"])
-    try:
-        png = draw.run_within(
-            120.0,
-            render_png,
-            mesh[0],
-            mesh[1],
-            opening,
-            panel=panel,
-            marks=marks,
-            clip_by=clip_by,
-        )
-    except GeometryError as err:  # the renderer crashed the worker (no GL driver at all)
-        raise ExportError(gl_message(err.detail)) from err
-    if key is not None and store is not None:
-        store.put(key, {}, {"png": png})
-    return png
+    def picture() -> bytes:
+        try:
+            return draw.run_within(
+                120.0,
+                render_png,
+                mesh[0],
+                mesh[1],
+                opening,
+                panel=panel,
+                marks=marks,
+                clip_by=clip_by,
+            )
+        except GeometryError as err:  # the renderer crashed the worker (no GL driver at all)
+            raise ExportError(gl_message(err.detail)) from err
+
+    store = getattr(ctx, "cache", None)
+    if store is None:
+        return picture()
+    # the same picture of the same meshes: from the solid cache
+    code = source_fingerprint(("sheets/preview.py", "render.py"))
+    parts = ("preview", kernel_versions(("vtk",)), code, mesh, opening, panel, marks, clip_by)
+    return cached_bytes(store, parts, picture)
