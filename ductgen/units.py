@@ -306,11 +306,10 @@ def convert(value: Any, dimension: str, unit: str, default_unit: str | None = No
         magnitude, unit_text = split_quantity(text)
     except ValueError as err:
         raise ValueError(f"{err}; write a {what} such as {example}") from None
-    unit_of = EXACT_UNITS.get(_plain(unit_text or default_unit or ""))
-    if unit_of is not None and unit_of[0] == dimension:
-        exact = _exact(magnitude, unit_text or str(default_unit), unit)
-        if exact is not None:
-            return _finite(exact, what, repr(text))
+    source = unit_text or default_unit or ""
+    exact = _exact(magnitude, source, unit)  # a unit of EXACT_UNITS, of this dimension
+    if exact is not None and EXACT_UNITS[_plain(source)][0] == dimension:
+        return _finite(exact, what, repr(text))
     reg = ureg()
     if not unit_text or (not _unit(unit_text).dimensionality and dimension != "angle"):
         if default_unit is None:

@@ -34,6 +34,12 @@ __all__ = [
     "split_shifted",
 ]
 
+#: The tongue's length along x (mm) and its width as a fraction of the part's width: the
+#: defaults of every split here, and of the test of the faces a split makes
+#: (:func:`glue_faces`), which must match the split's.
+KEY_LENGTH_MM = 6.0
+KEY_FRACTION = 0.4
+
 #: The last insert each kernel worker built, by the path of its staged STEP file: the split
 #: cuts the solid still in memory (no STEP re-read, and before healing, so the new glue
 #: edges are healed once, with the piece).
@@ -64,8 +70,8 @@ def close_box(solid: cq.Shape) -> cq.BoundBox:
 def split_across_flow(
     solid: cq.Shape,
     stations_x: list[float],
-    key_length: float = 6.0,
-    key_fraction: float = 0.4,
+    key_length: float = KEY_LENGTH_MM,
+    key_fraction: float = KEY_FRACTION,
     by_planes: bool = True,
 ) -> list[cq.Shape]:
     """Cut ``solid`` (a cadquery Solid, mm) at x = each station into keyed pieces.
@@ -99,12 +105,16 @@ def split_across_flow(
     return pieces if pieces is not None else split_by_booleans(solid, xs, key, bb)
 
 
-def _key(bb: cq.BoundBox, key_length: float, key_fraction: float = 0.4) -> tuple[float, float]:
+def _key(
+    bb: cq.BoundBox, key_length: float, key_fraction: float = KEY_FRACTION
+) -> tuple[float, float]:
     """The tongue's (length, half width) in mm for a part with the box ``bb``."""
     return key_length, 0.5 * key_fraction * (bb.ymax - bb.ymin)
 
 
-def glue_faces(solid: cq.Shape, stations_x: list[float], key_length: float = 6.0) -> Any:
+def glue_faces(
+    solid: cq.Shape, stations_x: list[float], key_length: float = KEY_LENGTH_MM
+) -> Callable[[Any], bool]:
     """The test of the faces :func:`split_across_flow` makes when it cuts ``solid`` at
     ``stations_x`` (mm): see :func:`~ductgen.solids.split_cut.glue_face_test`."""
     from ductgen.solids.split_cut import glue_face_test
@@ -120,7 +130,10 @@ STATION_SHIFTS_MM = (4.0, -4.0, 8.0, -8.0, 12.0, -12.0)
 
 
 def split_shifted(
-    solid: cq.Shape, stations_x: list[float], key_length: float = 6.0, by_planes: bool = True
+    solid: cq.Shape,
+    stations_x: list[float],
+    key_length: float = KEY_LENGTH_MM,
+    by_planes: bool = True,
 ) -> tuple[list[float], list[cq.Shape]]:
     """:func:`split_across_flow`, and where a piece comes out as more than one solid, the
     same split with every station moved by :data:`STATION_SHIFTS_MM` in turn; the stations
@@ -146,7 +159,7 @@ def split_for_bed(
     bed: tuple[float, float, float],
     up: str,
     max_pieces: int = 8,
-    key_length: float = 6.0,
+    key_length: float = KEY_LENGTH_MM,
     by_planes: bool = True,
 ) -> tuple[list[float], list[cq.Shape]]:
     """Fewest equal pieces across the flow that each fit ``bed`` standing ``up``.
