@@ -209,6 +209,7 @@ def fit_surface(
         poles = poles.reshape(bv.shape[1], -1, 3).transpose(1, 0, 2)
         ut, vt = np.sort(np.r_[us, ku.at(_TEST)]), np.sort(np.r_[vs, kv.at(_TEST)])
         fitted = _Spline((ku.full(), kv.full()), (p, q), poles, np.ones(poles.shape[:2]))
+        used = (ku, kv)  # the knots of this fit (the loop may halve ku, kv once more)
         err = np.linalg.norm(
             fitted.grid(ut, vt) - fn(src.grid(ut, vt).reshape(-1, 3)).reshape(len(ut), len(vt), 3),
             axis=2,
@@ -220,7 +221,7 @@ def fit_surface(
         bad_u[ku.span_of(ut[np.any(err > tol_mm, axis=1)])] = True
         bad_v[kv.span_of(vt[np.any(err > tol_mm, axis=0)])] = True
         ku, kv = ku.halved(bad_u), kv.halved(bad_v)
-    return _kernel_surface(fitted, ku, kv), float(err.max())
+    return _kernel_surface(fitted, *used), float(err.max())
 
 
 def fit_curve(
@@ -244,6 +245,7 @@ def fit_curve(
         fitted = _Spline(
             (k.full(),), (p,), np.vstack([target[0], inner, target[-1]]), np.ones(len(inner) + 2)
         )
+        used = k  # the knots of this fit (the loop may halve k once more)
         tt = np.sort(np.r_[ts, k.at(_TEST)])
         err = np.linalg.norm(fitted.curve(tt) - fn(src.curve(tt)), axis=1)
         if err.max() <= tol_mm:
@@ -251,7 +253,7 @@ def fit_curve(
         bad = np.zeros(len(k.values) - 1, dtype=bool)
         bad[k.span_of(tt[err > tol_mm])] = True
         k = k.halved(bad)
-    return _kernel_curve(fitted, k), float(err.max())
+    return _kernel_curve(fitted, used), float(err.max())
 
 
 def _reals(values: np.ndarray) -> Any:
