@@ -40,7 +40,7 @@ def _tools_left(marker: str) -> list[str]:
     ("sig", "tool", "n_procs"),
     [
         (signal.SIGTERM, "simpleFoam", "2"),  # the solve on two MPI ranks
-        (signal.SIGINT, "simpleFoam", "1"),  # Ctrl-C in a serial solve
+        (signal.SIGINT, "snappyHexMesh", "1"),  # Ctrl-C in a serial tool
         (signal.SIGTERM, "snappyHexMesh", "1"),  # meshing
     ],
 )
