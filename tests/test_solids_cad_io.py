@@ -141,3 +141,31 @@ def test_step_files_read_back_pass_every_analyser_mode(sample_builds: dict) -> N
         if findings:
             found[path.name] = findings
     assert found == {}
+
+
+@pytest.mark.slow
+def test_curved_step_files_have_no_c0_faces(sample_builds: dict) -> None:
+    """Every STEP file of every curved and panel sample, read back, passes the argument
+    analyser's continuity check: no face or edge is a C0 spline where the shape is smooth
+    (the round duct walls came from a circle's B-spline form with a C0 knot; the curved
+    cutters and inserts had 1 and 35-41 such faces). The other modes are not all met there
+    yet (README, "not yet that clean")."""
+    from OCP.BOPAlgo import BOPAlgo_ArgumentAnalyzer
+
+    files = [
+        path
+        for name, (result, folder) in sorted(sample_builds.items())
+        if result.report["geometry"]["skin"]["shape"] != "flat"
+        for path in sorted(folder.glob("*.step"))
+    ]
+    assert len(files) >= 9
+    found = {}
+    for path in files:
+        a = BOPAlgo_ArgumentAnalyzer()
+        a.SetShape1(cq.importers.importStep(str(path)).val().wrapped)
+        a.ArgumentTypeMode = False
+        a.ContinuityMode = True
+        a.Perform()
+        if n := len(list(a.GetCheckResult())):
+            found[path.name] = n
+    assert found == {}

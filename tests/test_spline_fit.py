@@ -97,3 +97,57 @@ def test_a_fit_out_of_rounds_returns_its_best_spline(monkeypatch: pytest.MonkeyP
         dev = np.abs(radii - R_MM).max()
         assert dev > 1e-9  # a coarse fit: the circle is not met exactly
         assert dev < 3.0 * err + 1e-9
+
+
+def _half_circle():  # type: ignore[no-untyped-def]
+    """Half a circle of radius R: the kernel's B-spline form has a double knot at the
+    quarter turn (C0 by its knots, smooth in fact)."""
+    from OCP.GC import GC_MakeArcOfCircle
+    from OCP.GeomConvert import GeomConvert
+    from OCP.gp import gp_Pnt
+
+    arc = GC_MakeArcOfCircle(gp_Pnt(R_MM, 0, 0), gp_Pnt(0, R_MM, 0), gp_Pnt(-R_MM, 0, 0)).Value()
+    return GeomConvert.CurveToBSplineCurve_s(arc)
+
+
+def test_a_smooth_arc_with_a_double_knot_is_fitted_smooth() -> None:
+    """A half circle and a half cylinder (each with a C0 knot in the kernel's form) give a
+    C1 fit: a geometry check reports a C0 surface, and the arc has no corner. Still the
+    circle and the cylinder of radius R (closed forms)."""
+    from OCP.GeomAbs import GeomAbs_C0
+
+    from ductgen.solids.spline_fit import fit_curve, fit_surface
+
+    src_c, src_s = _half_circle(), _cylinder_patch()
+    assert min(list(src_c.Multiplicities())[1:-1]) == src_c.Degree()  # the double knot is there
+    assert min(list(src_s.UMultiplicities())[1:-1]) == src_s.UDegree()
+    c, err_c = fit_curve(src_c, _motion, 1e-4)
+    s, err_s = fit_surface(src_s, _motion, 1e-4)
+    assert c.Continuity() != GeomAbs_C0 and s.Continuity() != GeomAbs_C0
+    assert err_c <= 1e-4 and err_s <= 1e-4
+    assert np.abs(_curve_radii(c) - R_MM).max() < 3e-4
+    assert np.abs(_surface_radii(s) - R_MM).max() < 3e-4
+
+
+def test_a_real_corner_stays_a_corner() -> None:
+    """An L-shaped polyline (degree 1, a right-angle corner at its inner knot): the fit
+    keeps the knot's full multiplicity, so the corner point and both legs are exact."""
+    from OCP.Geom import Geom_BSplineCurve
+    from OCP.GeomAbs import GeomAbs_C0
+    from OCP.gp import gp_Pnt
+    from OCP.TColgp import TColgp_Array1OfPnt
+    from OCP.TColStd import TColStd_Array1OfInteger, TColStd_Array1OfReal
+
+    from ductgen.solids.spline_fit import fit_curve
+
+    poles = TColgp_Array1OfPnt(1, 3)
+    for i, pt in enumerate(((0, 0, 0), (50, 0, 0), (50, 30, 0)), start=1):
+        poles.SetValue(i, gp_Pnt(*pt))
+    knots, mults = TColStd_Array1OfReal(1, 3), TColStd_Array1OfInteger(1, 3)
+    for i, (k, m) in enumerate(((0.0, 2), (1.0, 1), (2.0, 2)), start=1):
+        knots.SetValue(i, k)
+        mults.SetValue(i, m)
+    c, err = fit_curve(Geom_BSplineCurve(poles, knots, mults, 1), _motion, 1e-6)
+    assert c.Continuity() == GeomAbs_C0
+    assert err <= 1e-6
+    assert c.Value(1.0).Coord() == pytest.approx(tuple(_motion(np.array([50.0, 0, 0]))), abs=1e-6)
