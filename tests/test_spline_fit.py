@@ -23,16 +23,17 @@ def _motion(p: np.ndarray) -> np.ndarray:
     return p @ ROT.T + SHIFT
 
 
-def _arc():  # type: ignore[no-untyped-def]
-    """A quarter circle of radius R about the origin in z = 0, as a rational B-spline."""
+def _arc(turn_deg: float = 90.0):  # type: ignore[no-untyped-def]
+    """A circle of radius R about the origin in z = 0 from 0 to ``turn_deg``, as the
+    kernel's rational B-spline (over more than a quarter turn it has a double knot: C0 by
+    its knots, smooth in fact)."""
     from OCP.GC import GC_MakeArcOfCircle
     from OCP.GeomConvert import GeomConvert
     from OCP.gp import gp_Pnt
 
-    arc = GC_MakeArcOfCircle(
-        gp_Pnt(R_MM, 0, 0), gp_Pnt(R_MM * np.sqrt(0.5), R_MM * np.sqrt(0.5), 0), gp_Pnt(0, R_MM, 0)
-    ).Value()
-    return GeomConvert.CurveToBSplineCurve_s(arc)
+    a = np.radians([0.0, 0.5 * turn_deg, turn_deg])
+    ends = [gp_Pnt(R_MM * np.cos(x), R_MM * np.sin(x), 0.0) for x in a]
+    return GeomConvert.CurveToBSplineCurve_s(GC_MakeArcOfCircle(*ends).Value())
 
 
 def _cylinder_patch():  # type: ignore[no-untyped-def]
@@ -99,17 +100,6 @@ def test_a_fit_out_of_rounds_returns_its_best_spline(monkeypatch: pytest.MonkeyP
         assert dev < 3.0 * err + 1e-9
 
 
-def _half_circle():  # type: ignore[no-untyped-def]
-    """Half a circle of radius R: the kernel's B-spline form has a double knot at the
-    quarter turn (C0 by its knots, smooth in fact)."""
-    from OCP.GC import GC_MakeArcOfCircle
-    from OCP.GeomConvert import GeomConvert
-    from OCP.gp import gp_Pnt
-
-    arc = GC_MakeArcOfCircle(gp_Pnt(R_MM, 0, 0), gp_Pnt(0, R_MM, 0), gp_Pnt(-R_MM, 0, 0)).Value()
-    return GeomConvert.CurveToBSplineCurve_s(arc)
-
-
 def test_a_smooth_arc_with_a_double_knot_is_fitted_smooth() -> None:
     """A half circle and a half cylinder (each with a C0 knot in the kernel's form) give a
     C1 fit: a geometry check reports a C0 surface, and the arc has no corner. Still the
@@ -118,7 +108,7 @@ def test_a_smooth_arc_with_a_double_knot_is_fitted_smooth() -> None:
 
     from ductgen.solids.spline_fit import fit_curve, fit_surface
 
-    src_c, src_s = _half_circle(), _cylinder_patch()
+    src_c, src_s = _arc(180.0), _cylinder_patch()
     assert min(list(src_c.Multiplicities())[1:-1]) == src_c.Degree()  # the double knot is there
     assert min(list(src_s.UMultiplicities())[1:-1]) == src_s.UDegree()
     c, err_c = fit_curve(src_c, _motion, 1e-4)
