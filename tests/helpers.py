@@ -70,6 +70,17 @@ def depth_along(solid, p0: np.ndarray, n: np.ndarray) -> float:  # type: ignore[
     return min(t for t in ts if t > 1e-6)
 
 
+def adaptive_volume(shape) -> float:  # type: ignore[no-untyped-def]
+    """A solid's volume (mm³) by the kernel's adaptive integration (relative error 1e-7):
+    its plain ``Volume()`` was measured up to 0.1 % of a panel off on offset surfaces."""
+    from OCP.BRepGProp import BRepGProp
+    from OCP.GProp import GProp_GProps
+
+    props = GProp_GProps()
+    BRepGProp.VolumeProperties_s(shape.wrapped, props, 1e-7, False)
+    return float(props.Mass())
+
+
 def panel_spec(skin: dict, base: dict | None = None):  # type: ignore[no-untyped-def]
     """A spec of ``base`` (the panel inlet) on ``skin``, 2 mm thick unless it says."""
     return parse_spec({**(base or PANEL_BASE), "skin": {"thickness": 2.0, **skin}})

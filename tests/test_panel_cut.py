@@ -21,6 +21,7 @@ cq = pytest.importorskip("cadquery")
 from ductgen.errors import DuctgenError, SpecError  # noqa: E402
 from ductgen.spec import parse_spec  # noqa: E402
 from tests.helpers import CURVED_BASE as BASE  # noqa: E402
+from tests.helpers import adaptive_volume  # noqa: E402
 from tests.panels import bonnet_face, bonnet_height, s_height, s_panel_face  # noqa: E402
 
 T = 2.5  # skin thickness, mm
@@ -47,15 +48,6 @@ def _spec(name: str, path: Path, at: list[float], **skin: object):  # type: igno
             },
         }
     )
-
-
-def _volume(shape) -> float:  # type: ignore[no-untyped-def]
-    from OCP.BRepGProp import BRepGProp
-    from OCP.GProp import GProp_GProps
-
-    props = GProp_GProps()
-    BRepGProp.VolumeProperties_s(shape.wrapped, props, 1e-7, False)
-    return float(props.Mass())
 
 
 def _state(shape, p: np.ndarray) -> str:  # type: ignore[no-untyped-def]
@@ -100,8 +92,8 @@ def test_an_s_shaped_panel_is_cut_with_its_opening_or_refused(tmp_path, reverse)
     cutter = cq.importers.importStep(str(out / "s-cutter.step")).val()
     cut = cq.importers.importStep(str(out / "s-panel.step")).val()
     assert len(cut.Solids()) == 1 and cut.isValid()
-    removed = _volume(body) - _volume(cut)
-    common = _volume(body.intersect(cutter))
+    removed = adaptive_volume(body) - adaptive_volume(cut)
+    common = adaptive_volume(body.intersect(cutter))
     assert removed > 0
     assert removed == pytest.approx(common, rel=5e-3)
     # half-way through the skin inside the opening (centreline, 3/4 along the ramp; the
@@ -111,6 +103,38 @@ def test_an_s_shaped_panel_is_cut_with_its_opening_or_refused(tmp_path, reverse)
     for y in (at[1], at[1] + 0.25 * g.width_mm):
         p = _below(s_height, x, y, -0.5 * T if reverse else 0.5 * T)
         assert _state(body, p) == "in" and _state(cut, p) == "out", p
+
+
+def test_the_cut_out_tool_is_a_few_faces_on_the_outline(tmp_path) -> None:  # type: ignore[no-untyped-def]
+    """The insert's cut-out tool: one valid solid of three faces per smooth run of the
+    outline and two caps; half-way through the skin its walls pass within 0.005 mm (the
+    fit's tolerance, + 1e-4 for the distance computation) of the cut-out outline carried onto
+    the panel, with the outline's inside in the tool and its outside not."""
+    from OCP.BRepBuilderAPI import BRepBuilderAPI_MakeVertex
+    from OCP.BRepExtrema import BRepExtrema_DistShapeShape
+    from OCP.gp import gp_Pnt
+
+    from ductgen.design import build_design
+    from ductgen.geometry.fabrication import cutout_runs
+    from ductgen.solids.panel_cut import CUTOUT_TOL_MM, cutout_tool
+
+    path = tmp_path / "s.step"
+    cq.exporters.export(s_panel_face(False), str(path))
+    d = build_design(_spec("s", path, [40.0, 10.0, float(s_height(40.0, 10.0))]))
+    tool = cutout_tool(d)
+    assert tool.isValid()
+    assert len(tool.Faces()) == 3 * len(cutout_runs(d.geometry, d.fab.insert)) + 2
+    xy = np.asarray(d.layout.cutout_xy, dtype=float)
+    xy = xy[:: max(1, len(xy) // 150)]
+    shell = tool.Shells()[0].wrapped
+    for p in d.skin.to_model(np.column_stack([xy, np.full(len(xy), -0.5 * T)])):
+        vertex = BRepBuilderAPI_MakeVertex(gp_Pnt(*map(float, p))).Vertex()
+        assert BRepExtrema_DistShapeShape(vertex, shell).Value() < CUTOUT_TOL_MM + 1e-4, p
+    centre = xy.mean(axis=0)
+    for scale, state in ((0.98, "in"), (1.02, "out")):
+        ring = centre + scale * (xy - centre)
+        pts = d.skin.to_model(np.column_stack([ring, np.full(len(ring), -0.5 * T)]))
+        assert all(_state(tool, p) == state for p in pts[::10])
 
 
 @pytest.mark.slow
@@ -172,7 +196,7 @@ def test_a_tube_whose_seam_runs_through_the_opening_is_cut_and_measured(  # type
     panel = cq.importers.importStep(str(tmp_path / "out" / "tube-panel.step")).val()
     assert len(panel.Solids()) == 1 and panel.isValid()
     # the basis: the kernel's Boolean common of the cutter and the tube, made here
-    common = _volume(tube.intersect(cut))
+    common = adaptive_volume(tube.intersect(cut))
     got = result.report["geometry"]["skin"]["panel"]
     assert got["removed_mm3"] == pytest.approx(common, rel=1e-3)
     # the file itself, measured without the kernel's volume integral: the tube's closed form

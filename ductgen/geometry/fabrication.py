@@ -28,6 +28,7 @@ import numpy as np
 from ductgen.geometry.outline import (
     footprint_pieces,
     offset_outline,
+    offset_runs,
     opening_outline,
     polyline_lengths,
 )
@@ -47,6 +48,8 @@ __all__ = [
     "Spigot",
     "bezel_land_mm",
     "bezel_offsets_mm",
+    "cutout_offset_mm",
+    "cutout_runs",
     "feather_inner_edge",
     "flange_layout",
     "footprint_end_mm",
@@ -304,6 +307,20 @@ def _place_holes(
     return np.column_stack([cx, cy]), float(pitch) if n > 1 else math.inf
 
 
+def cutout_offset_mm(g: InletGeometry, insert: InsertParams) -> float:
+    """How far the skin cut-out lies outside the insert's top footprint (mm): its wall and
+    edge round."""
+    return insert.wall + g.edge_radius_mm
+
+
+def cutout_runs(g: InletGeometry, insert: InsertParams, n: int = 400) -> list[np.ndarray]:
+    """The skin cut-out of :func:`flange_layout` (``cutout_xy``, same sampling ``n``) as its
+    smooth runs (:func:`~ductgen.geometry.outline.offset_runs`, mm): the offset walls, end
+    and apex lines and the round joins between them, each (k, 2)."""
+    pieces = footprint_pieces(g.planform, footprint_end_mm(g), n)
+    return offset_runs(pieces, cutout_offset_mm(g, insert))
+
+
 def flange_layout(g: InletGeometry, insert: InsertParams, n: int = 400) -> FlangeLayout:
     """The flange outline, skin cut-out and fastener holes of the insert (mm).
 
@@ -313,7 +330,7 @@ def flange_layout(g: InletGeometry, insert: InsertParams, n: int = 400) -> Flang
         n: samples along the wall curve.
     """
     t_skin = g.skin_thickness_mm
-    off = insert.wall + g.edge_radius_mm
+    off = cutout_offset_mm(g, insert)
     fw = insert.flange_width
     pieces = footprint_pieces(g.planform, footprint_end_mm(g), n)
     ed = insert.holes.edge_distance if insert.holes.edge_distance is not None else fw / 2.0

@@ -19,6 +19,7 @@ __all__ = [
     "Piece",
     "footprint_pieces",
     "offset_outline",
+    "offset_runs",
     "opening_outline",
     "polygon_area",
     "polyline_lengths",
@@ -44,6 +45,21 @@ def footprint_pieces(pf: Planform, x_end: float, n: int = 400) -> list[Piece]:
     return [lower, end, upper, apex]
 
 
+def _join_arc(
+    corner: np.ndarray, n0: np.ndarray, n1: np.ndarray, d: float, step_deg: float
+) -> np.ndarray | None:
+    """The round join (mm) of radius ``d`` about ``corner`` from the outward normal ``n0``
+    to ``n1`` at ``step_deg`` steps, both ends included, or None where the outline turns
+    concave or not at all (no join)."""
+    a0 = math.atan2(n0[1], n0[0])
+    turn = (math.atan2(n1[1], n1[0]) - a0) % (2 * math.pi)
+    if not 1e-9 < turn < math.pi:
+        return None
+    m = max(math.ceil(math.degrees(turn) / step_deg), 1)
+    ang = a0 + turn * np.arange(m + 1) / m
+    return np.column_stack([corner[0] + d * np.cos(ang), corner[1] + d * np.sin(ang)])
+
+
 def offset_outline(pieces: list[Piece], d: float, arc_step_deg: float = 3.0) -> np.ndarray:
     """Offset a closed CCW outline made of smooth pieces outward by ``d`` ≥ 0 (mm), with
     round joins at the convex corners between pieces. Returns (N, 2), first point not
@@ -53,20 +69,29 @@ def offset_outline(pieces: list[Piece], d: float, arc_step_deg: float = 3.0) -> 
     for i, (pts, nrm) in enumerate(pieces):
         seg = pts + d * nrm
         out.append(seg[:-1] if d == 0 else seg)
-        _, nxt_n = pieces[(i + 1) % k]
         if d > 0:
-            a0 = math.atan2(nrm[-1, 1], nrm[-1, 0])
-            a1 = math.atan2(nxt_n[0, 1], nxt_n[0, 0])
-            turn = (a1 - a0) % (2 * math.pi)
-            if 1e-9 < turn < math.pi:
-                m = max(math.ceil(math.degrees(turn) / arc_step_deg), 1)
-                ang = a0 + turn * np.arange(1, m) / m
-                c = pts[-1]
-                out.append(np.column_stack([c[0] + d * np.cos(ang), c[1] + d * np.sin(ang)]))
+            arc = _join_arc(pts[-1], nrm[-1], pieces[(i + 1) % k][1][0], d, arc_step_deg)
+            if arc is not None:
+                out.append(arc[1:-1])
     poly = np.vstack(out)
     keep = np.ones(len(poly), dtype=bool)
     keep[1:] = np.linalg.norm(np.diff(poly, axis=0), axis=1) > 1e-9
     return poly[keep]
+
+
+def offset_runs(pieces: list[Piece], d: float, arc_step_deg: float = 3.0) -> list[np.ndarray]:
+    """The smooth runs of :func:`offset_outline` (mm), in its order: each piece offset by
+    ``d`` > 0 and each round join, every run (k, 2) from its first point to its last, which
+    is the next run's first. A curve through a run's points has no corner: the outline's
+    only changes of curvature fall where one run meets the next."""
+    runs: list[np.ndarray] = []
+    k = len(pieces)
+    for i, (pts, nrm) in enumerate(pieces):
+        runs.append(pts + d * nrm)
+        arc = _join_arc(pts[-1], nrm[-1], pieces[(i + 1) % k][1][0], d, arc_step_deg)
+        if arc is not None:
+            runs.append(arc)
+    return runs
 
 
 def opening_outline(pf: Planform, x_end: float, n: int = 400) -> np.ndarray:

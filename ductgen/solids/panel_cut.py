@@ -21,6 +21,7 @@ build stops naming the stage: never a panel without its opening.
 
 from __future__ import annotations
 
+from itertools import pairwise
 from pathlib import Path
 from typing import Any
 
@@ -28,11 +29,14 @@ import numpy as np
 
 from ductgen.design import Design
 from ductgen.errors import GeometryError
+from ductgen.geometry.fabrication import cutout_runs
 from ductgen.geometry.panel_surface import PanelFrame
 from ductgen.panel_file import load_panel
 
 __all__ = [
     "BOX_MARGIN_MM",
+    "CUTOUT_STEP_MM",
+    "CUTOUT_TOL_MM",
     "CUT_FUZZY_MM",
     "REMOVED_REL",
     "SLIVER_FRACTION",
@@ -50,34 +54,41 @@ REMOVED_REL = 5e-3
 CUT_FUZZY_MM = (0.0, 1e-4, 1e-3)
 #: Margin (mm) of the box round the tools inside which the removed volume is measured.
 BOX_MARGIN_MM = 2.0
+#: Largest distance (mm) of the cut-out tool's edges from the mapped cut-out outline.
+CUTOUT_TOL_MM = 0.005
+#: Spacing (mm) of the outline's points along its straight runs before mapping (a mapped
+#: straight line bends with the panel).
+CUTOUT_STEP_MM = 1.0
 
 
-def _simplify(p: np.ndarray, tol: float) -> np.ndarray:
-    """Douglas–Peucker: the points of the open polyline ``p`` (N, 2) needed to stay within
-    ``tol`` mm of it."""
-    keep = np.zeros(len(p), dtype=bool)
-    keep[0] = keep[-1] = True
-    stack = [(0, len(p) - 1)]
-    while stack:
-        i, j = stack.pop()
-        if j <= i + 1:
-            continue
-        ab = p[j] - p[i]
-        q = p[i + 1 : j] - p[i]
-        dist = np.abs(ab[0] * q[:, 1] - ab[1] * q[:, 0]) / max(float(np.hypot(*ab)), 1e-12)
-        k = int(np.argmax(dist))
-        if dist[k] > tol:
-            keep[i + 1 + k] = True
-            stack += [(i, i + 1 + k), (i + 1 + k, j)]
-    return p[keep]
+def _dense(run: np.ndarray, step: float) -> np.ndarray:
+    """The polyline ``run`` (k, 2) with a point at least every ``step`` mm (its long
+    segments divided evenly), near-duplicate points (< 1e-6 mm apart) dropped."""
+    keep = np.r_[True, np.hypot(*np.diff(run, axis=0).T) > 1e-6]
+    run = run[keep]
+    out = [run[:1]]
+    for a, b in pairwise(run):
+        m = max(int(np.ceil(float(np.hypot(*(b - a))) / step)), 1)
+        out.append(a + np.outer(np.arange(1, m + 1) / m, b - a))
+    return np.vstack(out)
 
 
-def _ring(xy: np.ndarray, tol: float = 0.01) -> np.ndarray:
-    """A closed outline (N, 2) simplified to ``tol`` mm (split at its farthest point)."""
-    k = int(np.argmax(np.hypot(*(xy - xy[0]).T)))
-    return np.vstack(
-        [_simplify(xy[: k + 1], tol)[:-1], _simplify(np.vstack([xy[k:], xy[:1]]), tol)[:-1]]
-    )
+def _edge(points: np.ndarray) -> Any:
+    """A B-spline edge (C2, degree 3 to 8) within :data:`CUTOUT_TOL_MM` of the points
+    (k, 3) in mm, through the first and the last."""
+    from OCP.BRepBuilderAPI import BRepBuilderAPI_MakeEdge
+    from OCP.GeomAbs import GeomAbs_C2
+    from OCP.GeomAPI import GeomAPI_PointsToBSpline
+    from OCP.gp import gp_Pnt
+    from OCP.TColgp import TColgp_Array1OfPnt
+
+    arr = TColgp_Array1OfPnt(1, len(points))
+    for i, p in enumerate(points, 1):
+        arr.SetValue(i, gp_Pnt(*map(float, p)))
+    fit = GeomAPI_PointsToBSpline(arr, 3, 8, GeomAbs_C2, CUTOUT_TOL_MM)
+    if not fit.IsDone():
+        raise GeometryError("panel", "the insert's cut-out outline could not be fitted")
+    return BRepBuilderAPI_MakeEdge(fit.Curve()).Edge()
 
 
 def _frame(d: Design) -> PanelFrame:
@@ -90,24 +101,33 @@ def _frame(d: Design) -> PanelFrame:
 
 def cutout_tool(d: Design) -> Any:
     """The insert's skin cut-out as a cutting tool in model coordinates: a ruled solid whose
-    walls run along the skin normals through the cut-out outline (simplified to 0.01 mm)
-    from 1 mm under the skin's inner surface to 1 mm above its outer one, closed beyond by
-    planar caps square to the datum normal. Nothing of it lies on a panel face (the insert
-    itself does: its rim and flange follow the panel's surfaces to the mapping tolerance,
-    which defeats a Boolean)."""
+    walls run along the skin normals through the cut-out outline from 1 mm under the skin's
+    inner surface to 1 mm above its outer one, closed beyond by planar caps square to the
+    datum normal. Each smooth run of the outline (an offset wall, line or round join) is one
+    spline edge within :data:`CUTOUT_TOL_MM` of it, so the tool has a few dozen faces: a
+    polygon of the outline (one face per point) made each Boolean with the panel ~15×
+    slower. Nothing of it lies on a panel face (the insert itself does: its rim and flange
+    follow the panel's surfaces to the mapping tolerance, which defeats a Boolean)."""
     import cadquery as cq
+    from OCP.BRepBuilderAPI import BRepBuilderAPI_MakeWire
 
     t = d.geometry.skin_thickness_mm
-    ring = _ring(np.asarray(d.layout.cutout_xy, dtype=float))
+    runs = [_dense(r, CUTOUT_STEP_MM) for r in cutout_runs(d.geometry, d.fab.insert)]
     n = _frame(d).axes[2]
-    low = d.placement.solid_map(np.column_stack([ring, np.full(len(ring), -(t + 1.0))]))
-    high = d.placement.solid_map(np.column_stack([ring, np.full(len(ring), 1.0)]))
-    below = low + ((float(np.min(low @ n)) - 1.0) - low @ n)[:, None] * n
-    above = high + ((float(np.max(high @ n)) + 1.0) - high @ n)[:, None] * n
-    wires = [
-        cq.Wire.makePolygon([cq.Vector(*p) for p in pts], close=True)
-        for pts in (below, low, high, above)
-    ]
+    lows = [d.placement.solid_map(np.column_stack([r, np.full(len(r), -(t + 1.0))])) for r in runs]
+    highs = [d.placement.solid_map(np.column_stack([r, np.full(len(r), 1.0)])) for r in runs]
+    floor = min(float(np.min(p @ n)) for p in lows) - 1.0
+    roof = max(float(np.max(p @ n)) for p in highs) + 1.0
+    below = [p + (floor - p @ n)[:, None] * n for p in lows]
+    above = [p + (roof - p @ n)[:, None] * n for p in highs]
+    wires = []
+    for level in (below, lows, highs, above):
+        wire = BRepBuilderAPI_MakeWire()
+        for pts in level:
+            wire.Add(_edge(pts))
+        if not wire.IsDone():
+            raise GeometryError("panel", "the insert's cut-out outline is not one closed wire")
+        wires.append(cq.Wire(wire.Wire()))
     tool = cq.Solid.makeLoft(wires, ruled=True)
     if not tool.isValid():
         raise GeometryError("panel", "the insert's cut-out tool is not a valid solid")
@@ -130,10 +150,11 @@ def cut_panel_job(
     before = precise_volume(body)
     cutters = [cq.importers.importStep(str(Path(staging) / t)).val() for t in tools]
     if with_cutout:
-        cutters.append(cutout_tool(d))
-    # the largest tool holds every other one's part in the skin (the cut-out's outline holds
-    # the opening; without the insert, the cutter is the only tool)
-    expected = precise_volume(_boolean("common", body, cutters[-1], 0.0))
+        cutters.insert(0, cutout_tool(d))
+    # the largest tool, cut first, holds every other one's part in the skin (the cut-out's
+    # outline holds the opening; without the insert, the cutter is the only tool); cut
+    # first, it leaves the cutter little panel to meet (measured 6.6 → 5.4 s on a bonnet)
+    expected = precise_volume(_boolean("common", body, cutters[0], 0.0))
     cut, removed, slivers = _cut_panel(d, body, cutters, before, expected)
     file = f"{name}-panel.step"
     (Path(staging) / file).write_bytes(step_bytes(cut, f"{name}-panel", exact_edges=False))
