@@ -2,9 +2,11 @@
 same bonnet as a ~200k-triangle scan (STL with 0.02 mm noise).
 
 Measures, for each: the panel design (the worker reads and samples the file, the height field
-and the geodesic table are made; the kernel worker already running), and the design plus a
+and the geodesic table are made; the kernel worker already running), the design plus a
 cutter-only build (placing the cutter solid on the panel and, for the STEP file, writing
-``NAME-panel.step``). Prints a table; asserts nothing.
+``NAME-panel.step``), and the design plus a cutter-and-insert build (the panel is then cut by
+the insert's cut-out tool as well). Builds bypass the solid cache. Prints a table; asserts
+nothing.
 
     python bench/bench_panel.py [--repeat 3]
 """
@@ -60,14 +62,17 @@ def main() -> None:
     default_worker().run(warm_up)
     print(f"scan: {len(mesh.faces):,} triangles, {scan.stat().st_size / 1e6:.1f} MB")
     print("first run reads the file; later runs reuse the worker's parsed copy")
-    print(f"{'panel':<12} {'design s (first / best)':>24} {'+ cutter build s (best)':>24}")
+    print(
+        f"{'panel':<12} {'design s (first / best)':>24} {'+ cutter build s (best)':>24}"
+        f" {'+ cutter, insert s (best)':>26}"
+    )
     for label, path, extra in (
         ("STEP", step, {}),
         ("scan (STL)", scan, {"units": "mm"}),
     ):
         skin = {"shape": "panel", "file": str(path), "at": at, "flow_direction": [1, 0.15, 0]}
         spec = parse_spec({**base, "skin": {**skin, **extra}})
-        t_design, t_build = [], []
+        t_design, t_build, t_insert = [], [], []
         for k in range(args.repeat):
             panel_design._CACHE.clear()  # measure the sampling each time
             t0 = time.perf_counter()
@@ -75,10 +80,14 @@ def main() -> None:
             t_design.append(time.perf_counter() - t0)
             panel_design._CACHE.clear()
             t0 = time.perf_counter()
-            build(spec, tmp / f"out-{label[:4]}-{k}", only=["cutter"])
+            build(spec, tmp / f"out-{label[:4]}-{k}", only=["cutter"], cache=False)
             t_build.append(time.perf_counter() - t0)
+            panel_design._CACHE.clear()
+            t0 = time.perf_counter()
+            build(spec, tmp / f"ins-{label[:4]}-{k}", only=["cutter", "insert"], cache=False)
+            t_insert.append(time.perf_counter() - t0)
         first = f"{t_design[0]:.2f} / {min(t_design):.2f}"
-        print(f"{label:<12} {first:>24} {min(t_build):>24.2f}")
+        print(f"{label:<12} {first:>24} {min(t_build):>24.2f} {min(t_insert):>26.2f}")
 
 
 if __name__ == "__main__":

@@ -174,11 +174,13 @@ def test_curved_step_files_have_no_c0_faces(sample_builds: dict) -> None:
 @pytest.mark.slow
 def test_curved_cutters_and_plugs_have_their_edges_on_their_faces(sample_builds: dict) -> None:
     """The cutters and plugs of the curved and panel samples, read back: their edges were
-    rebuilt on the true intersection of their two fitted faces, so the argument analyser
-    (every mode) finds nothing on the kitcar sample's plug, and nothing but a few edges off
-    their faces on the others (where two faces meet at a near-tangent end, or a short edge's
-    new surface curve would cross a neighbour's). The bound is a ratchet on the count
-    measured when the rebuild came in (32 findings; 109 before it), not an outside value."""
+    rebuilt on the true intersection of their two fitted faces (not the panel sample's
+    cutter: its cut of the panel took twice as long), so the argument analyser (every mode)
+    finds nothing on the kitcar sample's plug, and nothing but a few edges off their faces on
+    the others (where two faces meet at a near-tangent end, or a short edge's new surface
+    curve would cross a neighbour's). The bound is a ratchet on the count measured when the
+    rebuild came in (41 findings, 19 of them the panel cutter's; 109 before), not an outside
+    value."""
     found = {}
     for name, (result, folder) in sorted(sample_builds.items()):
         if result.report["geometry"]["skin"]["shape"] == "flat":
@@ -189,4 +191,4 @@ def test_curved_cutters_and_plugs_have_their_edges_on_their_faces(sample_builds:
     assert len(found) == 6
     assert found["kitcar-bonnet-intake-plug.step"] == {}
     assert {kind for f in found.values() for kind in f} <= {"BOPAlgo_InvalidCurveOnSurface"}
-    assert sum(n for f in found.values() for n in f.values()) <= 32, found
+    assert sum(n for f in found.values() for n in f.values()) <= 41, found
