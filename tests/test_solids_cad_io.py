@@ -69,27 +69,31 @@ def test_step_checks_clean_and_volume_exact(sample_builds: dict, name: str, kind
     assert worst <= 2e-4, worst
 
 
-def _analyser_findings(shape) -> dict[str, int]:  # type: ignore[no-untyped-def]
-    """The argument analyser (OCCT's ``BOPAlgo_ArgumentAnalyzer``) with every check mode on:
-    finding kind → count."""
+#: Every check mode of the argument analyser.
+EVERY_MODE = (
+    "ArgumentTypeMode",
+    "SelfInterMode",
+    "SmallEdgeMode",
+    "RebuildFaceMode",
+    "TangentMode",
+    "MergeVertexMode",
+    "MergeEdgeMode",
+    "ContinuityMode",
+    "CurveOnSurfaceMode",
+)
+
+
+def _analyser_findings(shape, modes: tuple[str, ...] = EVERY_MODE) -> dict[str, int]:  # type: ignore[no-untyped-def]
+    """The argument analyser (OCCT's ``BOPAlgo_ArgumentAnalyzer``) with the check ``modes``
+    on and the others off: finding kind → count."""
     from collections import Counter
 
     from OCP.BOPAlgo import BOPAlgo_ArgumentAnalyzer
 
     a = BOPAlgo_ArgumentAnalyzer()
     a.SetShape1(shape)
-    for mode in (
-        "ArgumentTypeMode",
-        "SelfInterMode",
-        "SmallEdgeMode",
-        "RebuildFaceMode",
-        "TangentMode",
-        "MergeVertexMode",
-        "MergeEdgeMode",
-        "ContinuityMode",
-        "CurveOnSurfaceMode",
-    ):
-        setattr(a, mode, True)
+    for mode in EVERY_MODE:
+        setattr(a, mode, mode in modes)
     a.Perform()
     return dict(Counter(str(r.GetCheckStatus()).split(".")[-1] for r in a.GetCheckResult()))
 
@@ -115,12 +119,13 @@ def test_the_healed_solids_pass_every_analyser_mode() -> None:
         assert _analyser_findings(heal(place(built[kind], d, kind).wrapped)) == {}, kind
 
 
-def _flat_step_files(sample_builds: dict) -> list:  # type: ignore[type-arg]
+def _step_files(sample_builds: dict, flat: bool, pattern: str = "*.step") -> list:  # type: ignore[type-arg]
+    """The STEP files (matching ``pattern``) of the flat-skin samples, or of the others."""
     return [
         path
         for name, (result, folder) in sorted(sample_builds.items())
-        if result.report["geometry"]["skin"]["shape"] == "flat"
-        for path in sorted(folder.glob("*.step"))
+        if (result.report["geometry"]["skin"]["shape"] == "flat") == flat
+        for path in sorted(folder.glob(pattern))
     ]
 
 
@@ -132,7 +137,7 @@ def test_step_files_read_back_pass_every_analyser_mode(sample_builds: dict) -> N
     finds at a couple of dozen samples, so an edge passes only if it lies on its faces
     everywhere (the edge round built exactly, boolean edges rebuilt from the true
     intersection: ``solids/edge_round.py``, ``solids/tighten.py``)."""
-    files = _flat_step_files(sample_builds)
+    files = _step_files(sample_builds, flat=True)
     assert len(files) >= 12
     found = {}
     for path in files:
@@ -150,24 +155,13 @@ def test_curved_step_files_have_no_c0_faces(sample_builds: dict) -> None:
     (the round duct walls came from a circle's B-spline form with a C0 knot; the curved
     cutters and inserts had 1 and 35-41 such faces). The other modes are not all met there
     yet (README, "not yet that clean")."""
-    from OCP.BOPAlgo import BOPAlgo_ArgumentAnalyzer
-
-    files = [
-        path
-        for name, (result, folder) in sorted(sample_builds.items())
-        if result.report["geometry"]["skin"]["shape"] != "flat"
-        for path in sorted(folder.glob("*.step"))
-    ]
+    files = _step_files(sample_builds, flat=False)
     assert len(files) >= 9
     found = {}
     for path in files:
-        a = BOPAlgo_ArgumentAnalyzer()
-        a.SetShape1(cq.importers.importStep(str(path)).val().wrapped)
-        a.ArgumentTypeMode = False
-        a.ContinuityMode = True
-        a.Perform()
-        if n := len(list(a.GetCheckResult())):
-            found[path.name] = n
+        shape = cq.importers.importStep(str(path)).val().wrapped
+        if findings := _analyser_findings(shape, ("ContinuityMode",)):
+            found[path.name] = findings
     assert found == {}
 
 
@@ -181,13 +175,11 @@ def test_curved_cutters_and_plugs_have_their_edges_on_their_faces(sample_builds:
     curve would cross a neighbour's). The bound is a ratchet on the count measured when the
     rebuild came in (41 findings, 19 of them the panel cutter's; 109 before), not an outside
     value."""
-    found = {}
-    for name, (result, folder) in sorted(sample_builds.items()):
-        if result.report["geometry"]["skin"]["shape"] == "flat":
-            continue
-        for kind in ("cutter", "plug"):
-            path = folder / f"{name}-{kind}.step"
-            found[path.name] = _analyser_findings(cq.importers.importStep(str(path)).val().wrapped)
+    found = {
+        path.name: _analyser_findings(cq.importers.importStep(str(path)).val().wrapped)
+        for kind in ("cutter", "plug")
+        for path in _step_files(sample_builds, flat=False, pattern=f"*-{kind}.step")
+    }
     assert len(found) == 6
     assert found["kitcar-bonnet-intake-plug.step"] == {}
     assert {kind for f in found.values() for kind in f} <= {"BOPAlgo_InvalidCurveOnSurface"}
