@@ -1,16 +1,19 @@
-"""Every exported STEP solid, re-read, passes the kernel's boolean argument check and its
-exact (B-rep) volume equals a fine mesh of the same file.
+"""Every exported STEP solid, re-read, is one valid solid whose exact (B-rep) volume equals a
+fine mesh of the same file; on a flat skin it passes the kernel's argument analyser too.
 
-Checks: OCCT's ``BRepAlgoAPI_Check`` (argument type, small edges, self-intersection) finds
-no fault; the file holds one solid; ``GProp`` volume at relative tolerance 1e-9 agrees with
-the volume of a 0.005 mm triangulation of the same B-rep to 0.05 % (the acceptance threshold;
-measured here: a fine triangulation agrees with the true volume to ~1e-6). The curve-on-surface
-deviations left are measured and bounded at 2e-4 mm (the largest found before healing was
-1.1e-4 mm; common practice, no source: 1e-4-1e-3 mm is a usual modelling tolerance). On a
-flat skin every STEP file, read back, passes the argument analyser with every check mode on.
+Checks: the file holds one valid solid; ``GProp`` volume at relative tolerance 1e-9 agrees
+with the volume of a 0.005 mm triangulation of the same B-rep to 0.05 % (the acceptance
+threshold; measured here: a fine triangulation agrees with the true volume to ~1e-6). The
+curve-on-surface deviations left are measured and bounded at 2e-4 mm (the largest found
+before healing was 1.1e-4 mm; common practice, no source: 1e-4-1e-3 mm is a usual modelling
+tolerance). On a flat skin every STEP file, read back, passes OCCT's argument analyser with
+every check mode on (argument type, small edges and self-intersection, the modes of
+``BRepAlgoAPI_Check``, among them).
 """
 
 from __future__ import annotations
+
+from collections import Counter
 
 import pytest
 
@@ -19,27 +22,31 @@ from tests.conftest import sample_ids
 cq = pytest.importorskip("cadquery")
 
 
-def _volumes(shape) -> tuple[float, float]:  # type: ignore[no-untyped-def]
-    import numpy as np
+def _brep_volume(shape) -> float:  # type: ignore[no-untyped-def]
+    """The kernel's mass-property volume (mm³) at relative tolerance 1e-9."""
     from OCP.BRepGProp import BRepGProp
     from OCP.GProp import GProp_GProps
 
-    from ductgen.solids.mesh import triangulate
-
     props = GProp_GProps()
     BRepGProp.VolumeProperties_s(shape.wrapped, props, 1e-9, True)
+    return float(props.Mass())
+
+
+def _mesh_volume(shape) -> float:  # type: ignore[no-untyped-def]
+    """The volume (mm³) of a 0.005 mm triangulation (divergence theorem)."""
+    import numpy as np
+
+    from ductgen.solids.mesh import triangulate
+
     v, f = triangulate(shape, 0.005, 0.05)
     t = v[f]
-    mesh = float(np.sum(np.einsum("ij,ij->i", t[:, 0], np.cross(t[:, 1], t[:, 2])))) / 6.0
-    return props.Mass(), mesh
+    return float(np.sum(np.einsum("ij,ij->i", t[:, 0], np.cross(t[:, 1], t[:, 2])))) / 6.0
 
 
 @pytest.mark.slow
 @pytest.mark.parametrize("kind", ["cutter", "insert", "plug"])
 @pytest.mark.parametrize("name", sample_ids())
 def test_step_checks_clean_and_volume_exact(sample_builds: dict, name: str, kind: str) -> None:
-    from OCP.BRepAlgoAPI import BRepAlgoAPI_Check
-
     from ductgen.solids.heal import off_surface_edges
 
     result, folder = sample_builds[name]
@@ -52,19 +59,18 @@ def test_step_checks_clean_and_volume_exact(sample_builds: dict, name: str, kind
         # exactly mapped surfaces by up to 2e-3 mm (solids/deform.py), so edges sit that far
         # off their faces and the kernel's mesher sags (jobs.CHECK_MESH_CURVED): the checks
         # here are validity and the exact volume against the build's own STL (the design
-        # mesh, mapped) to 1e-3. The stricter argument check is not met there yet (see
-        # the known defect: small-edge and self-intersection reports on the insert).
+        # mesh, mapped) to 1e-3. The argument analyser's checks are in the tests below
+        # (curve on surface not met there yet).
         import trimesh
 
         assert solid.isValid()
         stl = trimesh.load(folder / f"{name}-{kind}.stl")
-        assert _volumes(solid)[0] == pytest.approx(stl.volume, rel=1e-3)
+        assert _brep_volume(solid) == pytest.approx(stl.volume, rel=1e-3)
         return
-    check = BRepAlgoAPI_Check(solid.wrapped, True, True)
-    assert check.IsValid()
-    assert len(check.Result()) == 0
-    brep, mesh = _volumes(solid)
-    assert brep == pytest.approx(mesh, rel=5e-4)
+    # the argument analyser's modes are checked on every flat STEP file below (its
+    # self-intersection mode is the costly one: ~4 s an insert)
+    assert solid.isValid()
+    assert _brep_volume(solid) == pytest.approx(_mesh_volume(solid), rel=5e-4)
     worst = max((dev for _, dev in off_surface_edges(solid.wrapped)), default=0.0)
     assert worst <= 2e-4, worst
 
@@ -86,8 +92,6 @@ EVERY_MODE = (
 def _analyser_findings(shape, modes: tuple[str, ...] = EVERY_MODE) -> dict[str, int]:  # type: ignore[no-untyped-def]
     """The argument analyser (OCCT's ``BOPAlgo_ArgumentAnalyzer``) with the check ``modes``
     on and the others off: finding kind → count."""
-    from collections import Counter
-
     from OCP.BOPAlgo import BOPAlgo_ArgumentAnalyzer
 
     a = BOPAlgo_ArgumentAnalyzer()
@@ -148,20 +152,43 @@ def test_step_files_read_back_pass_every_analyser_mode(sample_builds: dict) -> N
     assert found == {}
 
 
+def _closed_faces(shape):  # type: ignore[no-untyped-def]
+    """The faces of ``shape`` closed on themselves (a seam edge: a hole's or a tube's wall)."""
+    from OCP.BRep import BRep_Tool
+
+    return [
+        f
+        for f in shape.Faces()
+        if any(BRep_Tool.IsClosed_s(e.wrapped, f.wrapped) for e in f.Edges())
+    ]
+
+
 @pytest.mark.slow
-def test_curved_step_files_have_no_c0_faces(sample_builds: dict) -> None:
+def test_curved_step_files_have_no_c0_faces_nor_faces_crossing_themselves(
+    sample_builds: dict,
+) -> None:
     """Every STEP file of every curved and panel sample, read back, passes the argument
     analyser's continuity check: no face or edge is a C0 spline where the shape is smooth
     (the round duct walls came from a circle's B-spline form with a C0 knot; the curved
-    cutters and inserts had 1 and 35-41 such faces). The other modes are not all met there
-    yet (README, "not yet that clean")."""
+    cutters and inserts had 1 and 35-41 such faces). And each face closed on itself (the
+    flange's bolt holes, the spigot's walls) passes its self-intersection check: fitted with
+    its two seam edges a few micrometres apart, every hole's wall crossed itself (8 on the
+    kitcar insert, 40 over the curved inserts and their pieces). The whole solids' check
+    takes minutes on an insert; the curve-on-surface mode is not met there yet (README,
+    "not yet that clean")."""
     files = _step_files(sample_builds, flat=False)
     assert len(files) >= 9
-    found = {}
+    found: dict[str, dict[str, int]] = {}
+    closed = 0
     for path in files:
-        shape = cq.importers.importStep(str(path)).val().wrapped
-        if findings := _analyser_findings(shape, ("ContinuityMode",)):
-            found[path.name] = findings
+        shape = cq.importers.importStep(str(path)).val()
+        findings = Counter(_analyser_findings(shape.wrapped, ("ContinuityMode",)))
+        for face in _closed_faces(shape):
+            closed += 1
+            findings.update(_analyser_findings(face.wrapped, ("SelfInterMode",)))
+        if findings:
+            found[path.name] = dict(findings)
+    assert closed >= 3 * 8  # the bolt holes of three curved inserts, at least
     assert found == {}
 
 

@@ -8,7 +8,8 @@ the fit at the points between the fitted ones by more than ``tol_mm`` are halved
 does (at most :data:`MAX_ROUNDS` times; the departure reached is returned either way).
 Because the parametrization is S's own, a face's boundary curves in (u, v) (its p-curves)
 stay exact on the fitted surface, and a fitted edge curve lies on it within the two fits'
-errors.
+errors. A surface closed on itself (a hole's wall) is fitted among closed splines, smooth
+across the seam where S is: fitted freely, its two seam edges lay micrometres apart.
 
 The error of a cubic fit falls as the fourth power of the span (de Boor, *A Practical Guide
 to Splines*, chapter XII [recalled]), where mapping the poles of S (the first-order
@@ -31,6 +32,8 @@ __all__ = ["FIT_TOL_MM", "fit_curve", "fit_surface"]
 
 #: Largest departure (mm) of a fitted spline from the mapped one, at the test points.
 FIT_TOL_MM = 1e-4
+#: Distance (mm) within which a surface's two end iso-lines one way are one (a seam).
+SEAM_MM = 1e-9
 #: Longest span (mm, in space) before any refinement.
 START_SPAN_MM = 25.0
 #: Rounds of halving the spans that miss the tolerance.
@@ -180,6 +183,59 @@ class _Spline:
         return h[..., :3] / h[..., 3:]
 
 
+def _seams(src: _Spline) -> tuple[str, str]:
+    """How the surface ``src`` closes on itself in u and in v (a cylinder's seam), at 9
+    iso-lines across: "" (open), "C0" (its two end iso-lines that way coincide to
+    :data:`SEAM_MM`) or "C1" (their first derivatives too, to 1e-4 relative)."""
+    out = []
+    for axis in (0, 1):
+        k, deg = src.knots[axis], src.degrees[axis]
+        lo, hi = k[deg], k[-deg - 1]
+        h = 1e-3 * (hi - lo)
+        ends = np.array([lo, lo + h, lo + 2 * h, hi - 2 * h, hi - h, hi])
+        kk, dd = src.knots[1 - axis], src.degrees[1 - axis]
+        across = np.linspace(kk[dd], kk[-dd - 1], 9)
+        g = src.grid(ends, across) if axis == 0 else src.grid(across, ends).transpose(1, 0, 2)
+        if np.linalg.norm(g[0] - g[5], axis=-1).max() > SEAM_MM:
+            out.append("")
+            continue
+        d0 = (-3.0 * g[0] + 4.0 * g[1] - g[2]) / (2.0 * h)
+        d1 = (3.0 * g[5] - 4.0 * g[4] + g[3]) / (2.0 * h)
+        size = max(float(np.linalg.norm(d0, axis=-1).max()), 1e-300)
+        out.append("C1" if np.linalg.norm(d0 - d1, axis=-1).max() <= 1e-4 * size else "C0")
+    return out[0], out[1]
+
+
+def _seam_map(knots: np.ndarray, degree: int, n: int, seam: str) -> np.ndarray | None:
+    """For a fit closed at a seam (``seam`` "C0" or "C1", see :func:`_seams`; None when
+    "" or too few poles): the matrix T (n, m) with poles = T @ X of the m free unknowns X,
+    tying the first and last poles (one point Q), and for "C1" the second and last-but-one
+    to Q + α·D and Q − β·D (one end derivative D: a clamped spline's end derivatives are
+    p·(P1 − P0)/(t_p+1 − t_p) and p·(Pn-1 − Pn-2)/(t_n − t_n-1))."""
+    if not seam or n < 6:
+        return None
+    c1 = int(seam == "C1")
+    t = np.zeros((n, n - 1 - c1))
+    t[[0, -1], 0] = 1.0
+    if c1:
+        t[[1, -2], 0] = 1.0
+        t[1, 1] = (knots[degree + 1] - knots[degree]) / degree
+        t[-2, 1] = -(knots[n] - knots[n - 1]) / degree
+    t[1 + c1 : n - 1 - c1, 1 + c1 :] = np.eye(n - 2 - 2 * c1)
+    return t
+
+
+def _tied_lsq(b: Any, rhs: np.ndarray, tie: np.ndarray | None) -> np.ndarray:
+    """:func:`_lsq` with the unknowns tied by ``tie`` (:func:`_seam_map`) when given: the
+    least-squares fit among closed splines, not a fit closed afterwards (which leaves a
+    kink the kernel finds the face crossing itself at)."""
+    if tie is None:
+        return _lsq(b, rhs)
+    from scipy.sparse import csr_matrix
+
+    return tie @ _lsq(csr_matrix(b @ tie), rhs)
+
+
 def _surface_arrays(bs: Any) -> _Spline:
     """A kernel B-spline surface (made non-periodic on a copy) as arrays."""
     if bs.IsUPeriodic() or bs.IsVPeriodic():
@@ -227,6 +283,7 @@ def fit_surface(
     across_v = np.linspace(ku.values[0], ku.values[-1], 7)
     ku = _smooth_joints(ku, lambda t: src.grid(t, across_u))
     kv = _smooth_joints(kv, lambda t: src.grid(across_v, t).transpose(1, 0, 2))
+    seams = _seams(src)
     quarter = np.linspace(0.0, 1.0, 5)[:-1]
     lu = _lengths(src.grid(ku.at(quarter, end=True), kv.values)).max(axis=1)
     lv = _lengths(src.grid(ku.values, kv.at(quarter, end=True)).transpose(1, 0, 2)).max(axis=1)
@@ -235,8 +292,12 @@ def fit_surface(
         us, vs = ku.at(_FIT, end=True), kv.at(_FIT, end=True)
         target = fn(src.grid(us, vs).reshape(-1, 3)).reshape(len(us), len(vs), 3)
         bu, bv = _basis(us, ku.full(), p), _basis(vs, kv.full(), q)
-        a = _lsq(bu, target.reshape(len(us), -1)).reshape(-1, len(vs), 3)
-        poles = _lsq(bv, a.transpose(1, 0, 2).reshape(len(vs), -1))
+        tu, tv = (
+            _seam_map(k.full(), d, b.shape[1], seam)
+            for k, d, b, seam in ((ku, p, bu, seams[0]), (kv, q, bv, seams[1]))
+        )
+        a = _tied_lsq(bu, target.reshape(len(us), -1), tu).reshape(-1, len(vs), 3)
+        poles = _tied_lsq(bv, a.transpose(1, 0, 2).reshape(len(vs), -1), tv)
         poles = poles.reshape(bv.shape[1], -1, 3).transpose(1, 0, 2)
         ut, vt = np.sort(np.r_[us, ku.at(_TEST)]), np.sort(np.r_[vs, kv.at(_TEST)])
         fitted = _Spline((ku.full(), kv.full()), (p, q), poles, np.ones(poles.shape[:2]))
