@@ -137,7 +137,12 @@ def test_the_insert_rim_is_flush_with_the_panel() -> None:
     insert = make_insert(d)
     tops = []
     for face in insert.Faces():
-        uvw = _unroll(_face_points(face, 80), "streamwise", "convex")
+        # a 9 x 9 grid first (its points are on the 81 x 81 one): a face with a point
+        # deeper than the rim is not a top face, and needs no fine grid
+        coarse = _face_points(face, 9)
+        if len(coarse) and np.any(_unroll(coarse, "streamwise", "convex")[:, 2] <= -0.2):
+            continue
+        uvw = _unroll(_face_points(face, 81), "streamwise", "convex")
         if len(uvw) and np.all(uvw[:, 2] > -0.2):
             tops.append(uvw)
     assert tops, "no face of the insert lies at the outer skin"
