@@ -96,6 +96,7 @@ def _analyser_findings(shape, modes: tuple[str, ...] = EVERY_MODE) -> dict[str, 
 
     a = BOPAlgo_ArgumentAnalyzer()
     a.SetShape1(shape)
+    a.SetRunParallel(True)  # findings are counted, not ordered: ~0.55x the time on 2 cores
     for mode in EVERY_MODE:
         setattr(a, mode, mode in modes)
     a.Perform()
