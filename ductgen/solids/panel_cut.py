@@ -1,9 +1,10 @@
 """``NAME-panel.step``: the user's panel with the inlet cut, in the kernel worker.
 
 A closed solid panel is used as it is; an open surface (a face or shell) is first thickened
-by ``skin.thickness`` into the body. The cutter (and the insert, whose walls pass through
-the skin, through its cut-out) are subtracted; the panel's volume before and after is
-reported.
+by ``skin.thickness`` into the body, its offset face then put in B-spline form
+(:mod:`ductgen.solids.thicken`: the Booleans ~3x faster, the volumes steady). The cutter
+(and the insert, whose walls pass through the skin, through its cut-out) are subtracted;
+the panel's volume before and after is reported.
 
 Nothing is trusted unproven: a Boolean between an offset-surface panel and a mapped B-spline
 cutter can fail silently (the result looks valid but keeps the skin). So the cut is proven
@@ -32,6 +33,7 @@ from ductgen.errors import GeometryError
 from ductgen.geometry.fabrication import cutout_runs
 from ductgen.geometry.panel_surface import PanelFrame
 from ductgen.panel_file import load_panel
+from ductgen.solids.thicken import thicken
 
 __all__ = [
     "BOX_MARGIN_MM",
@@ -183,7 +185,7 @@ def _panel_body(d: Design, path: str, units: str | None) -> tuple[Any, str]:
         return body, "closed solid"
     outward = _frame(d).axes[2]
     thickness_mm = d.geometry.skin_thickness_mm
-    return _thicken(shape, np.asarray(outward, dtype=float), thickness_mm), "surface thickened"
+    return thicken(shape, np.asarray(outward, dtype=float), thickness_mm), "surface thickened"
 
 
 def _cut_panel(
@@ -326,28 +328,3 @@ def _disproof(body: Any, cut: Any, probes: np.ndarray, removed: float, expected:
             "side of its surface from the inlet"
         )
     return ""
-
-
-def _thicken(shape: Any, outward: np.ndarray, t: float) -> Any:
-    """The panel's surface thickened by ``t`` mm away from ``outward`` (into the body)."""
-    import cadquery as cq
-    from OCP.BRepOffset import BRepOffset_MakeOffset, BRepOffset_Skin
-    from OCP.GeomAbs import GeomAbs_Intersection
-
-    faces = shape.Faces()
-    n0 = faces[0].normalAt()
-    sign = -1.0 if float(np.dot([n0.x, n0.y, n0.z], outward)) > 0 else 1.0
-    src = faces[0].wrapped if len(faces) == 1 else cq.Shell.makeShell(faces).wrapped
-    try:
-        builder = BRepOffset_MakeOffset()
-        builder.Initialize(
-            src, sign * t, 1.0e-6, BRepOffset_Skin, False, False, GeomAbs_Intersection, True
-        )
-        builder.MakeOffsetShape()
-        solid = cq.Shape.cast(builder.Shape())
-    except Exception as err:  # kernel exceptions share no base class
-        raise GeometryError("panel", f"thickening the panel surface failed: {err}") from err
-    sols = solid.Solids()
-    if len(sols) != 1 or not sols[0].isValid():
-        raise GeometryError("panel", "the thickened panel is not one valid solid")
-    return sols[0]
