@@ -76,15 +76,22 @@ def adaptive_volume(shape) -> float:  # type: ignore[no-untyped-def]
     plain ``Volume()`` was measured up to 0.1 % of a panel off, and the adaptive one 0.16 %
     low and unsteady with its tolerance (an S-shaped panel thickened 2.5 mm, against
     t·(A_outer + A_inner)/2, which the B-spline form's meets to 2e-7)."""
-    import cadquery as cq
-    from OCP.BRepBuilderAPI import BRepBuilderAPI_NurbsConvert
     from OCP.BRepGProp import BRepGProp
     from OCP.GProp import GProp_GProps
 
     props = GProp_GProps()
-    nurbs = BRepBuilderAPI_NurbsConvert(shape.wrapped, True).Shape()
-    BRepGProp.VolumeProperties_s(cq.Shape.cast(nurbs).wrapped, props, 1e-7, False)
+    BRepGProp.VolumeProperties_s(spline_form(shape).wrapped, props, 1e-7, False)
     return float(props.Mass())
+
+
+def spline_form(shape):  # type: ignore[no-untyped-def]
+    """A copy of ``shape`` with every surface and curve in B-spline form (the kernel's
+    ``BRepBuilderAPI_NurbsConvert``): Booleans against an offset surface in that form were
+    ~3x faster than against the offset itself."""
+    import cadquery as cq
+    from OCP.BRepBuilderAPI import BRepBuilderAPI_NurbsConvert
+
+    return cq.Shape.cast(BRepBuilderAPI_NurbsConvert(shape.wrapped, True).Shape())
 
 
 def panel_spec(skin: dict, base: dict | None = None):  # type: ignore[no-untyped-def]

@@ -21,7 +21,7 @@ cq = pytest.importorskip("cadquery")
 from ductgen.errors import DuctgenError, SpecError  # noqa: E402
 from ductgen.spec import parse_spec  # noqa: E402
 from tests.helpers import CURVED_BASE as BASE  # noqa: E402
-from tests.helpers import adaptive_volume  # noqa: E402
+from tests.helpers import adaptive_volume, spline_form  # noqa: E402
 from tests.panels import bonnet_face, bonnet_height, s_height, s_panel_face  # noqa: E402
 
 T = 2.5  # skin thickness, mm
@@ -88,7 +88,7 @@ def test_an_s_shaped_panel_is_cut_with_its_opening_or_refused(tmp_path, reverse)
     assert not reverse or result.report["geometry"]["skin"]["outward"][2] < 0
     # into the body, by the file's faces: against their normals (the kernel's thickening
     # follows the face's orientation), so below the surface, or above it when reversed
-    body = face.thicken(-T)
+    body = spline_form(face.thicken(-T))
     cutter = cq.importers.importStep(str(out / "s-cutter.step")).val()
     cut = cq.importers.importStep(str(out / "s-panel.step")).val()
     assert len(cut.Solids()) == 1 and cut.isValid()
