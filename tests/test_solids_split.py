@@ -100,6 +100,42 @@ def test_a_station_through_separate_bodies_is_moved_until_each_piece_is_one() ->
     assert sum(p.Volume() for p in pieces) == pytest.approx(u.Volume(), rel=1e-9)
 
 
+def test_a_boolean_cut_into_separate_bodies_is_refused_without_fuzzy_retries(
+    monkeypatch: pytest.MonkeyPatch,
+) -> None:
+    """The same U cut by Booleans (as a mapped insert is): the one intersection gives valid
+    pieces, one of them several solids, so the cut is refused at once, naming that, and the
+    shift then finds the station; the Booleans' fuzzy retries (which cannot join two
+    bodies apart) are not run."""
+    import cadquery as cq
+
+    from ductgen.errors import GeometryError
+    from ductgen.solids import primitives
+    from ductgen.solids.split import split_across_flow, split_shifted
+
+    u = (
+        cq.Solid.makeBox(50, 10, 10, cq.Vector(0, -25, 0))
+        .fuse(cq.Solid.makeBox(50, 10, 10, cq.Vector(0, 15, 0)))
+        .fuse(cq.Solid.makeBox(50, 50, 10, cq.Vector(50, -25, 0)))
+        .clean()
+    )
+    calls: list[tuple[str, object]] = []
+    real = primitives._run_boolean
+
+    def counted(op, a, tools, tol, glue):  # type: ignore[no-untyped-def]
+        calls.append((op, tol))
+        return real(op, a, tools, tol, glue)
+
+    monkeypatch.setattr(primitives, "_run_boolean", counted)
+    with pytest.raises(GeometryError, match="separate solids"):
+        split_across_flow(u, [45.0], by_planes=False)
+    assert [op for op, _ in calls] == ["fuse"]  # the region's glued fuse, nothing more
+    xs, pieces = split_shifted(u, [45.0], by_planes=False)
+    assert xs == [53.0]
+    assert all(len(p.Solids()) == 1 and p.isValid() for p in pieces)
+    assert sum(p.Volume() for p in pieces) == pytest.approx(u.Volume(), rel=1e-9)
+
+
 @pytest.mark.slow
 def test_piece_stls_stand_as_the_report_says(tmp_path) -> None:  # type: ignore[no-untyped-def]
     """Each ``NAME-insert-partK.stl`` stands on the bed as it prints (lowest point at z = 0),

@@ -122,12 +122,18 @@ def split_by_booleans(solid: Any, xs: list[float], key: tuple[float, float], bb:
     surface, the rest: what is left minus it), retried with fuzzy tolerances
     (:func:`~ductgen.solids.primitives.boolean`). ``bb``: ``solid``'s bounding box
     (:func:`~ductgen.solids.split.close_box`)."""
+    from ductgen.errors import GeometryError
     from ductgen.solids.primitives import boolean
 
     pieces = []
     rest = solid
     for i, reg in enumerate([_region(s, bb, key) for s in xs]):
         both = _common_and_cut(rest, reg)
+        if both is not None and max(len(b.Solids()) for b in both) > 1:
+            # valid, but the station cuts a separate bit off (a flange corner): no fuzzy
+            # tolerance joins that (measured: 3 retries, ~2 s, for nothing), a shift may
+            n = max(len(b.Solids()) for b in both)
+            raise GeometryError(f"split piece {i + 1}", f"the cut leaves {n} separate solids")
         if both is None:
             both = (
                 boolean("intersect", rest, reg, f"split piece {i + 1}"),
@@ -142,11 +148,11 @@ def split_by_booleans(solid: Any, xs: list[float], key: tuple[float, float], bb:
 def _common_and_cut(a: Any, b: Any) -> tuple[Any, Any] | None:
     """``a`` ∩ ``b`` and ``a`` − ``b`` from one intersection of the two (the kernel's pave
     filler, serial, oriented boxes, as :func:`~ductgen.solids.primitives.boolean`'s first
-    try), or None when either is not one valid solid (the caller then runs the Booleans
-    with their fuzzy retries). The common part is copied before the cut is built, so the
-    two share no edges (a shared section edge's tolerance was raised by the later cuts);
-    the pieces' STEP files came out byte for byte those of two separate Booleans, at 0.6x
-    their CPU on the curved samples' inserts."""
+    try), each valid (one solid or several), or None when either is not valid (the caller
+    then runs the Booleans with their fuzzy retries). The common part is copied before the
+    cut is built, so the two share no edges (a shared section edge's tolerance was raised by
+    the later cuts); the pieces' STEP files came out byte for byte those of two separate
+    Booleans, at 0.6x their CPU on the curved samples' inserts."""
     import cadquery as cq
     from OCP.BOPAlgo import BOPAlgo_PaveFiller
     from OCP.BRepAlgoAPI import BRepAlgoAPI_Common, BRepAlgoAPI_Cut
@@ -174,7 +180,7 @@ def _common_and_cut(a: Any, b: Any) -> tuple[Any, Any] | None:
         outside = cq.Shape.cast(cut.Shape()).clean()
     except Exception:  # kernel exceptions share no base class; the Booleans retry
         return None
-    if all(s.isValid() and len(s.Solids()) == 1 for s in (inside, outside)):
+    if all(s.isValid() and len(s.Solids()) >= 1 for s in (inside, outside)):
         return inside, outside
     return None
 
