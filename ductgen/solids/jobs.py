@@ -349,9 +349,9 @@ def _stl_mesh(
     skin the design mesh refined for the curvature and mapped (see :func:`mapped_mesh`;
     ``design_mesh``, ``flat``'s triangulation at ``CHECK_MESH``, is reused at that
     deflection); else the check's own mesh when it was made at the same deflection, or a
-    new one."""
+    new closed one (:func:`~ductgen.solids.mesh.closed_mesh`)."""
     from ductgen.solids.check import CHECK_MESH
-    from ductgen.solids.mesh import triangulate
+    from ductgen.solids.mesh import closed_mesh
 
     lin, ang = deflection
     if d.placement.curvature != 0.0:
@@ -359,7 +359,7 @@ def _stl_mesh(
         return mapped_mesh(flat, fn, lin, ang, d.placement.curvature, same)
     if (lin, ang) == check_mesh and check is not None:
         return check
-    return triangulate(solid, lin, ang)
+    return closed_mesh(solid, lin, ang)
 
 
 def _cutter_wetted_area(d: Design, mesh: tuple[Any, Any] | None) -> float:

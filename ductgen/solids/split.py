@@ -247,7 +247,7 @@ def _pieces_that_fit(
     """The stations used (mm), the pieces of ``whole`` split there and their meshes at the
     STL ``quality``: at ``stations_x`` (or shifted), or when a piece does not fit ``bed``
     standing ``up``, the fewest equal pieces that do (:func:`split_for_bed`)."""
-    from ductgen.solids.mesh import triangulate
+    from ductgen.solids.mesh import closed_mesh, triangulate
     from ductgen.tolerances import STL_QUALITY
 
     xs, pieces = split_shifted(whole, list(stations_x), by_planes=by_planes)
@@ -258,26 +258,6 @@ def _pieces_that_fit(
         xs, pieces = split_for_bed(whole, v, bed, up, by_planes=by_planes)
         meshes = [closed_mesh(p, lin, ang) for p in pieces]
     return xs, pieces, meshes
-
-
-def closed_mesh(
-    piece: cq.Shape, linear_mm: float, angular_rad: float, finer: int = 3
-) -> tuple[np.ndarray, np.ndarray]:
-    """The piece's triangulation at the asked deflections (mm, rad), or, when that mesh is
-    not closed and consistently wound, at half of them, up to ``finer`` times (the last
-    one tried either way: the caller's check then names the piece). Seen at the draft
-    quality (0.2 mm, 0.5 rad): a split face whose boundary runs from the edge round into
-    the wall tangentially was meshed folded over itself there (edges of four triangles)."""
-    from ductgen.meshstats import mesh_stats
-    from ductgen.solids.mesh import triangulate
-
-    for _ in range(finer):
-        v, f = triangulate(piece, linear_mm, angular_rad)
-        tight, winding, _, _ = mesh_stats(v, f)
-        if tight and winding:
-            return v, f
-        linear_mm, angular_rad = 0.5 * linear_mm, 0.5 * angular_rad
-    return triangulate(piece, linear_mm, angular_rad)
 
 
 def _stage_piece(

@@ -129,10 +129,9 @@ def split_by_booleans(solid: Any, xs: list[float], key: tuple[float, float], bb:
     rest = solid
     for i, reg in enumerate([_region(s, bb, key) for s in xs]):
         both = _common_and_cut(rest, reg)
-        if both is not None and max(len(b.Solids()) for b in both) > 1:
+        if both is not None and (n := max(len(b.Solids()) for b in both)) > 1:
             # valid, but the station cuts a separate bit off (a flange corner): no fuzzy
             # tolerance joins that (measured: 3 retries, ~2 s, for nothing), a shift may
-            n = max(len(b.Solids()) for b in both)
             raise GeometryError(f"split piece {i + 1}", f"the cut leaves {n} separate solids")
         if both is None:
             both = (
