@@ -1,11 +1,13 @@
 """The cutter: the air volume below the skin (ramp cavity + throat + internal duct).
 
-Construction (measured on this stack): the planform is extruded as a prism,
-optionally unioned with a slab above the skin and filleted where the two meet (the edge
-round, done before the floor and lip exist, where the kernel handles it); that is
-intersected with the floor "wedge" (the centreline section with the entry arc, extruded
-across the span), the lip nose is cut, and the ruled transition duct is fused on. Every
-face is exact: the walls are the table's Hermite cubic, not a loft approximation.
+Construction (measured on this stack): the planform is extruded as a prism up to the
+overcut above the skin, its edges along the walls rounded (the edge round, sewn face by face
+with the raised opening, :func:`~ductgen.solids.edge_round.rounded_prism`); that is
+intersected with the floor "wedge" (the centreline section with the entry arc, the lip's
+nose notched into its end, extruded across the span), and the ruled transition duct is
+fused on. Every face is exact: the walls are the table's Hermite cubic, not a loft
+approximation. On the club racer sample the cavity took three Booleans (the
+overcut fused on, the wedge, the lip cut; 0.96 s) and takes 0.60 s as one.
 """
 
 from __future__ import annotations
@@ -56,6 +58,40 @@ def _floor_wedge(g: InletGeometry, x_end: float, half_span: float, top: float) -
     return extrude_xz(edges, y, half_span)
 
 
+#: How far (mm) the section of :func:`_wedge_less_lip` reaches above the overcut's top: the
+#: prism's top face makes the cavity's, and two coplanar tops cost the kernel time.
+WEDGE_ABOVE_MM = 1.0
+
+
+def _wedge_less_lip(g: InletGeometry, half_span: float, top: float) -> cq.Solid | None:
+    """The floor wedge (:func:`_floor_wedge`, to the throat's end) less the lip's nose, as
+    one section extruded across ±half_span (mm): the nose ends where the throat does, so it
+    is a notch in the section's end, and the intersection with the prism is the cavity
+    (one Boolean instead of an intersection and a cut). None where the nose does not lie
+    inside the section clear of the floor and the top (a raised lip above the overcut)."""
+    lip = g.lip
+    sec = floor_section(g.floor)
+    x_end = g.throat_end_mm
+    xc, zc = lip.nose_end_mm, lip.centre_z_mm
+    a, b = lip.semi_major_mm, lip.semi_minor_mm
+    xr, zr = sec.ramp_end
+    # the floor falls downstream: below the nose's tip, it is below the whole nose
+    clear = -float(g.floor.depth(xc - a)) < zc - b - 1e-6 and zc + b < top - 1e-6
+    if xc != x_end or xr > x_end or not clear:
+        return None
+    y = -half_span
+    nose = xz_ellipse_arc(xc, zc, a, b, 90.0, 270.0, y)  # from its top, round its tip
+    edges = [cq.Edge.makeLine(V(0.0, y, top), V(0.0, y, 0.0)), *floor_edges(sec, y)]
+    edges += [
+        *polyline_edges([(xr, y, zr), (x_end, y, zr)]),
+        cq.Edge.makeLine(V(x_end, y, zr), nose.endPoint()),
+        nose,
+        cq.Edge.makeLine(nose.startPoint(), V(x_end, y, top)),
+        cq.Edge.makeLine(V(x_end, y, top), V(0.0, y, top)),
+    ]
+    return extrude_xz(edges, y, half_span)
+
+
 def _lip_body(g: InletGeometry, half_span: float) -> cq.Solid:
     """The lip's nose (half-ellipse) plus a short block behind it, across the span."""
     lip = g.lip
@@ -82,26 +118,16 @@ def make_cavity(g: InletGeometry) -> cq.Solid:
     z_bot = -g.drop_mm - 1.0
     prism: cq.Shape
     if r > 0:
-        rounded = rounded_prism(g, x_prism, z_bot)
-        # raise the flared opening by the overcut
-        top = [f for f in rounded.Faces() if _is_plane_at_z(f, 0.0)]
-        if len(top) != 1:
-            raise GeometryError("edge round", f"expected one opening face, found {len(top)}")
-        up = cq.Solid.extrudeLinear(top[0], V(0, 0, h))
-        prism = boolean("fuse", rounded, up, "edge round overcut", glue=True)
+        prism = rounded_prism(g, x_prism, z_bot, rise=h)  # the flared opening raised by h
     else:
         prism = _planform_prism(g, x_prism, z_bot, h)
+    less_lip = _wedge_less_lip(g, half_span, h + WEDGE_ABOVE_MM)
+    if less_lip is not None:
+        return _one_solid(boolean("intersect", prism, less_lip, "cavity floor"), "cavity")
     wedge = _floor_wedge(g, x_end, half_span, h)
     cavity = boolean("intersect", prism, wedge, "cavity floor")
     cavity = boolean("cut", cavity, _lip_body(g, half_span), "lip cut")
     return _one_solid(cavity, "cavity")
-
-
-def _is_plane_at_z(face: cq.Face, z: float) -> bool:
-    if face.geomType() != "PLANE":  # the cheap test first: a box only for planes
-        return False
-    bb = face.BoundingBox()
-    return abs(bb.zmin - z) < 1e-6 and abs(bb.zmax - z) < 1e-6
 
 
 def _section_wire(points: list[tuple[float, float, float]], arcs: list | None) -> cq.Wire:

@@ -234,10 +234,12 @@ def _start_points(g: InletGeometry, sign: float) -> tuple[cq.Vector, cq.Vector]:
 
 
 def _closing_faces(
-    g: InletGeometry, rounds: dict[float, cq.Face], x_prism: float, z_bot: float
+    g: InletGeometry, rounds: dict[float, cq.Face], x_prism: float, z_bot: float, rise: float
 ) -> list[cq.Face]:
     """The faces across both sides: floor (z = z_bot), entry (x = 0), end (x = x_prism) and
-    the opening in the skin plane, bounded by the skin lines of the ``rounds`` (by side)."""
+    the opening in the skin plane, bounded by the skin lines of the ``rounds`` (by side);
+    with ``rise`` > 0 (mm) the opening is raised that far above the skin instead: its outline
+    drawn up as vertical faces and closed by the opening at z = ``rise``."""
     r, L = g.edge_radius_mm, g.length_mm
     hw0, hw1 = float(g.planform.half_width(0.0)), g.width_mm / 2.0
     floor = cq.Face.makeFromWires(footprint_wire(g, x_prism, z_bot))
@@ -269,14 +271,25 @@ def _closing_faces(
     top.append(cq.Edge.makeLine(V(x_prism, hw1 + r, 0.0), V(x_prism, -hw1 - r, 0.0)))
     ends.append(top[-1])
     ends.append(cq.Edge.makeLine(V(x_prism, -hw1, z_bot), V(x_prism, hw1, z_bot)))
-    return [floor, entry, _plane_face(ends), _plane_face(top)]
+    closing = [floor, entry, _plane_face(ends)]
+    if rise <= 0.0:
+        return [*closing, _plane_face(top)]
+    up = V(0.0, 0.0, rise)
+    return [
+        *closing,
+        *(_prism_face(e, up) for e in top),
+        _plane_face([e.translate(up) for e in top]),
+    ]
 
 
-def rounded_prism(g: InletGeometry, x_prism: float, z_bot: float) -> cq.Solid:
+def rounded_prism(g: InletGeometry, x_prism: float, z_bot: float, rise: float = 0.0) -> cq.Solid:
     """The planform (walls straight past the planform's end to ``x_prism``) as a prism from
     z_bot up to the skin plane, its top edges along both walls rounded by the edge radius
-    (mm): the cavity's body before the floor and lip are cut. Raises :class:`GeometryError`
-    when the faces do not close into one valid solid."""
+    (mm): the cavity's body before the floor and lip are cut. ``rise`` > 0: the flared
+    opening is carried straight up that far above the skin (mm; the overcut), in the same
+    sewn solid, its coplanar faces merged (what fusing a slab onto the opening gave, without
+    the Boolean). Raises :class:`GeometryError` when the faces do not close into one valid
+    solid."""
     from OCP.BRepBuilderAPI import BRepBuilderAPI_MakeSolid, BRepBuilderAPI_Sewing
     from OCP.TopAbs import TopAbs_SHELL
     from OCP.TopExp import TopExp_Explorer
@@ -284,7 +297,7 @@ def rounded_prism(g: InletGeometry, x_prism: float, z_bot: float) -> cq.Solid:
 
     rounds = {s: _face(round_surface(g, s), 0.0, g.length_mm, 0.0, 1.0) for s in (1.0, -1.0)}
     faces = [f for s, rnd in rounds.items() for f in _side_faces(g, s, rnd, x_prism, z_bot)]
-    faces += _closing_faces(g, rounds, x_prism, z_bot)
+    faces += _closing_faces(g, rounds, x_prism, z_bot, rise)
     sew = BRepBuilderAPI_Sewing(1e-6)
     for f in faces:
         sew.Add(f.wrapped)
@@ -295,6 +308,8 @@ def rounded_prism(g: InletGeometry, x_prism: float, z_bot: float) -> cq.Solid:
     solid = cq.Solid(BRepBuilderAPI_MakeSolid(TopoDS.Shell_s(ex.Current())).Solid())
     if solid.Volume() < 0:
         solid = cq.Solid(solid.wrapped.Reversed())
+    if rise > 0.0:  # the raised opening's sides continue the entry, the caps and the end
+        solid = solid.clean()
     if not solid.isValid() or sew.NbFreeEdges() or sew.NbMultipleEdges():
         raise GeometryError("edge round", "the round's faces do not close into a valid solid")
     return solid
