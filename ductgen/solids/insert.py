@@ -42,7 +42,6 @@ from ductgen.geometry.fabrication import (
     transition_wall_mm,
     wall_for_curvature,
 )
-from ductgen.geometry.floor import floor_section
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.geometry.panel import PanelSkin
 from ductgen.geometry.panel_surface import convex_curvatures
@@ -52,7 +51,7 @@ from ductgen.solids.footprint import footprint_face, offset_wire, prism
 from ductgen.solids.primitives import (
     boolean,
     extrude_xz,
-    floor_edges,
+    floor_profile_solid,
     polyline_edges,
     xz_ellipse_arc,
 )
@@ -60,25 +59,10 @@ from ductgen.solids.primitives import (
 __all__ = [
     "build_insert",
     "convex_curvature",
-    "floor_profile_solid",
     "make_insert",
 ]
 
 V = cq.Vector
-
-
-def floor_profile_solid(
-    g: InletGeometry, offset: float, x_lo: float, x_end: float, half_span: float
-) -> cq.Solid:
-    """Region between the skin plane and the floor moved down by ``offset`` (mm, normal to
-    the floor), x_lo ≤ x ≤ x_end, across ±half_span. Offset 0 is the cavity's own floor."""
-    sec = floor_section(g.floor, offset)
-    y = -half_span
-    (xe, ze), (xr, zr) = sec.entry, sec.ramp_end
-    lead = [(x_lo, y, 0.0), (x_lo, y, ze), (xe, y, ze)] if ze < 0 else [(x_lo, y, 0.0), (xe, y, ze)]
-    edges = polyline_edges(lead) + floor_edges(sec, y)
-    edges += polyline_edges([(xr, y, zr), (x_end, y, zr), (x_end, y, 0.0), (x_lo, y, 0.0)])
-    return extrude_xz(edges, y, half_span)
 
 
 def _raised_lip(g: InletGeometry, half_span: float) -> cq.Solid:
@@ -209,8 +193,9 @@ def build_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
     x_ne = g.throat_end_mm
     k = convex_curvature(d)
     try:
-        walls = _walls(g, ins.wall, ins.flange_width, k, _wall_shape(d))
-        pieces = _skin_and_flange(g, ins, lay, off)
+        fill = _fills_skin(g, k)
+        walls = _walls(g, ins.wall, ins.flange_width, k, _wall_shape(d), fill)
+        pieces = _skin_and_flange(g, ins, lay, off, with_fill=fill == 0.0)
         if g.lip.style == "raised":
             pieces.append(_raised_lip(g, g.width_mm / 2.0 + off))
         inner_extra: list[cq.Shape] = []
@@ -281,10 +266,14 @@ def _is_top_plane(face: cq.Face, z: float) -> bool:
     return abs(bb.zmin - z) < 1e-6 and abs(bb.zmax - z) < 1e-6 and face.normalAt().z > 0.5
 
 
-def _walls(g: InletGeometry, w: float, flange_width: float, k: float, shape: WallShape) -> cq.Shape:
+def _walls(
+    g: InletGeometry, w: float, flange_width: float, k: float, shape: WallShape, fill: float = 0.0
+) -> cq.Shape:
     """The walls and floor: the wall body (:func:`_wall_body`) cut to the floor profile
     moved down by the wall ``w`` (mm), across the flange's width (mm) and 10 mm more;
-    ``k`` the convex curvature (1/mm), ``shape`` as in :func:`_wall_body`."""
+    ``k`` the convex curvature (1/mm), ``shape`` as in :func:`_wall_body`; ``fill`` > 0:
+    the profile reaches at least that far below the skin (mm), so the walls hold the skin
+    fill too (:func:`_fills_skin`)."""
     r_edge = g.edge_radius_mm
     off = w + r_edge
     x_ne = g.throat_end_mm
@@ -292,23 +281,36 @@ def _walls(g: InletGeometry, w: float, flange_width: float, k: float, shape: Wal
     return boolean(
         "intersect",
         _wall_body(g, x_ne, r_edge, w, k, -g.drop_mm - w - 2.0, shape),
-        [floor_profile_solid(g, w, -off - 2.0, x_ne + off + 1.0, span)],
+        [floor_profile_solid(g, w, -off - 2.0, x_ne + off + 1.0, span, down_to=-fill)],
         "insert walls",
     )
 
 
+def _fills_skin(g: InletGeometry, k: float) -> float:
+    """How far below the skin (mm) the walls themselves reach everywhere, so that they hold
+    the skin fill (the cut-out through the skin's thickness): the skin's thickness where the
+    wall body is a prism up to the skin (k ≤ 0, 1/mm) on the fill's own outline (a flush lip:
+    the footprint ends where the walls do); else 0 and the fill is a piece of its own. The
+    fill and the walls' body share their top and sides: fused, the kernel spent ~0.2 s on
+    those coplanar faces (club racer sample), joined in the section it spends nothing."""
+    if k > 0.0 or footprint_end_mm(g) != g.throat_end_mm:
+        return 0.0
+    return g.skin_thickness_mm
+
+
 def _skin_and_flange(
-    g: InletGeometry, ins: InsertParams, lay: FlangeLayout, off: float
+    g: InletGeometry, ins: InsertParams, lay: FlangeLayout, off: float, with_fill: bool = True
 ) -> list[cq.Shape]:
-    """The skin fill (the cut-out through the skin's thickness) and the flange behind the
-    skin, or the surface bezel (feathered to
-    :func:`~ductgen.geometry.fabrication.bezel_land_mm`), holes drilled; ``off`` the walls'
-    reach beyond the cavity (mm)."""
+    """The skin fill (the cut-out through the skin's thickness, unless ``with_fill`` is
+    False: the walls hold it) and the flange behind the skin, or the surface bezel
+    (feathered to :func:`~ductgen.geometry.fabrication.bezel_land_mm`), holes drilled;
+    ``off`` the walls' reach beyond the cavity (mm)."""
     x_top = footprint_end_mm(g)
     square = g.transition is None and x_top == g.throat_end_mm
-    pieces: list[cq.Shape] = [
-        prism(footprint_face(g, x_top, off, square_end=square), -g.skin_thickness_mm, 0.0)
-    ]
+    pieces: list[cq.Shape] = []
+    if with_fill:
+        fill = footprint_face(g, x_top, off, square_end=square)
+        pieces.append(prism(fill, -g.skin_thickness_mm, 0.0))
     outline = footprint_face(g, x_top, off + ins.flange_width)
     if ins.mount == "behind":
         pieces.append(_drilled(prism(outline, lay.z_bottom_mm, lay.z_top_mm), lay))

@@ -23,8 +23,7 @@ from ductgen.geometry.floor import x_at_depth
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.solids.deform import place
 from ductgen.solids.footprint import footprint_face, footprint_wire, prism
-from ductgen.solids.insert import floor_profile_solid
-from ductgen.solids.primitives import boolean, polyline_edges
+from ductgen.solids.primitives import boolean, floor_profile_solid, polyline_edges
 
 __all__ = ["build_plug", "make_plug", "plug_volume_mm3"]
 

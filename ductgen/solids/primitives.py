@@ -9,13 +9,15 @@ import cadquery as cq
 import numpy as np
 
 from ductgen.errors import GeometryError
-from ductgen.geometry.floor import FloorSection
+from ductgen.geometry.floor import FloorSection, floor_section
+from ductgen.geometry.inlet import InletGeometry
 from ductgen.geometry.planform import Planform
 
 __all__ = [
     "boolean",
     "extrude_xz",
     "floor_edges",
+    "floor_profile_solid",
     "polyline_edges",
     "wall_spline",
     "xz_ellipse_arc",
@@ -81,6 +83,36 @@ def floor_edges(sec: FloorSection, y: float) -> list[cq.Edge]:
         edges.append(arc3((xe, y, ze), (xm, y, zm), (xs, y, zs)))
     edges += polyline_edges([(xs, y, zs), (xr, y, zr)])
     return edges
+
+
+def floor_profile_solid(
+    g: InletGeometry,
+    offset: float,
+    x_lo: float,
+    x_end: float,
+    half_span: float,
+    down_to: float = 0.0,
+) -> cq.Solid:
+    """Region between the skin plane and the floor moved down by ``offset`` (mm, normal to
+    the floor), x_lo ≤ x ≤ x_end, across ±half_span. Offset 0 is the cavity's own floor.
+    ``down_to`` < 0: the region reaches at least that far below the skin everywhere (mm;
+    the section joined with that band, in the plane, before it is extruded)."""
+    sec = floor_section(g.floor, offset)
+    y = -half_span
+    (xe, ze), (xr, zr) = sec.entry, sec.ramp_end
+    lead = [(x_lo, y, 0.0), (x_lo, y, ze), (xe, y, ze)] if ze < 0 else [(x_lo, y, 0.0), (xe, y, ze)]
+    edges = polyline_edges(lead) + floor_edges(sec, y)
+    edges += polyline_edges([(xr, y, zr), (x_end, y, zr), (x_end, y, 0.0), (x_lo, y, 0.0)])
+    if down_to >= 0.0 or down_to <= zr:
+        return extrude_xz(edges, y, half_span)
+    section = cq.Face.makeFromWires(cq.Wire.assembleEdges(edges))
+    band = [(x_lo, y, 0.0), (x_lo, y, down_to), (x_end, y, down_to), (x_end, y, 0.0)]
+    band_face = cq.Face.makeFromWires(cq.Wire.assembleEdges(polyline_edges([*band, band[0]])))
+    joined = section.fuse(band_face).clean()
+    if len(joined.Faces()) != 1:
+        raise GeometryError("insert walls", "the floor section and the skin band did not join")
+    solid = cq.Solid.extrudeLinear(joined.Faces()[0], V(0, 2.0 * half_span, 0))
+    return solid if solid.Volume() > 0 else cq.Solid(solid.wrapped.Reversed())
 
 
 def np3(a: np.ndarray) -> list[tuple[float, float, float]]:
