@@ -141,12 +141,13 @@ def wetted_area_mm2(vertices: Any, faces: Any, g: InletGeometry, fn: Any = None)
     above is left out) except the outlet (or throat exit) face. ``fn``: the point map onto a
     curved skin (the clipped mesh is subdivided to 2 mm and mapped before its area is taken)."""
     import numpy as np
-    import trimesh
 
     from ductgen.solids.mesh import subdivide_to_size
 
     soup, tris = _clipped_below_skin(np.asarray(vertices, dtype=float), np.asarray(faces), g)
     if fn is not None:
+        import trimesh
+
         fine_v, fine_f = subdivide_to_size(soup, tris, 2.0)
         return float(trimesh.Trimesh(fn(fine_v), fine_f, process=False).area)
     t = soup[tris]

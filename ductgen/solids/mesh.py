@@ -1,5 +1,4 @@
-"""Triangulating B-rep shapes into numpy arrays, and refining such meshes (kernel side;
-trimesh only to tell whether a mesh is closed, imported when asked)."""
+"""Triangulating B-rep shapes into numpy arrays, and refining such meshes (kernel side)."""
 
 from __future__ import annotations
 
