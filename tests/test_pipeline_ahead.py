@@ -52,9 +52,10 @@ def test_work_ahead_and_beside_gives_the_same_bytes(tmp_path: Path) -> None:
 def test_solids_built_beside_give_the_same_bytes(tmp_path: Path) -> None:
     """The cutter handed from the kernel worker to the side worker as a binary B-rep, checked
     and written there with the plug while the kernel worker cuts the insert with it; the
-    insert's split started before the record, and the sheet drawn on a thread while the
-    split runs: every file (report and sheet too) the same bytes as when one worker builds
-    all three and every stage does its own work."""
+    insert handed over the same way, checked and its STL written there while the kernel
+    worker writes its STEP; the insert's split started before the record, and the sheet
+    drawn on a thread while the split runs: every file (report and sheet too) the same
+    bytes as when one worker builds all three and every stage does its own work."""
     spec = load_spec(ROOT / "samples" / "club-racer-brake.toml")
     only = ["cutter", "insert", "plug", "template", "sheet"]
     build(spec, tmp_path / "a", only=only, cache=False)
@@ -103,38 +104,51 @@ def test_a_failed_build_stops_the_workers_of_its_unfinished_jobs_only() -> None:
 
 
 class _Failing:
-    """A stand-in kernel worker that hands over a cutter and fails building at ``stage``."""
+    """A stand-in kernel worker that hands over a cutter (and, unless the insert's build
+    fails, the insert) and fails its other job at ``stage``."""
 
     def __init__(self, stage: str) -> None:
         self.stage = stage
 
-    def run(self, job: object, *_args: object) -> object:
+    def run(self, job: object, *args: object) -> object:
         from ductgen.solids.handoff import flat_solid_job
 
-        if job is flat_solid_job:
-            return b"cutter (test)"
+        if job is flat_solid_job and (args[1] == "cutter" or self.stage != "insert"):
+            return f"{args[1]} (test)".encode()
         raise GeometryError(self.stage, "failed (test)")
 
 
 @pytest.mark.parametrize(
-    ("main", "side", "raised"),
+    ("main", "side", "check", "raised"),
     [
-        ("insert", "cutter check", "cutter check"),  # the cutter comes before the insert
-        ("insert STEP", "plug", "insert STEP"),  # the insert before the plug
+        ("insert", "cutter check", None, "cutter check"),  # the cutter comes before the insert
+        ("insert STEP", "plug", None, "insert STEP"),  # the insert before the plug
+        ("insert STEP", "plug", "insert check", "insert check"),  # its check before its STEP
     ],
 )
-def test_solids_beside_raise_the_first_kinds_error(main: str, side: str, raised: str) -> None:
-    """When the kernel worker's insert and the side worker's job both fail, the error is the
-    one a single worker building the kinds in order would have raised first."""
+def test_solids_beside_raise_the_first_kinds_error(
+    main: str, side: str, check: str | None, raised: str
+) -> None:
+    """When the kernel worker's insert and the side worker's jobs (the other kinds, the
+    insert's check) fail, the error is the one a single worker building the kinds in order,
+    each checked before it is written, would have raised first."""
     from concurrent.futures import Future
 
     from ductgen.design import build_design
     from ductgen.pipeline.solid_cache import SolidStage
 
     design = build_design(parse_spec({"name": "tt", "throat": {"width": 80, "depth": 20}}))
-    failed: Future[object] = Future()
-    failed.set_exception(GeometryError(side, "failed (test)"))
+
+    def beside(_job: object, *args: object) -> Future[object]:
+        done: Future[object] = Future()
+        stage = check if args[1] == ["insert"] else side
+        if stage is None:
+            done.set_result({})
+        else:
+            done.set_exception(GeometryError(stage, "failed (test)"))
+        return done
+
     stage = SolidStage(None, design, "normal", _Failing(main))  # type: ignore[arg-type]
     with pytest.raises(GeometryError) as err:
-        stage.solids(["cutter", "insert", "plug"], "tt", Path("."), lambda *_a: failed)
+        stage.solids(["cutter", "insert", "plug"], "tt", Path("."), beside)
     assert err.value.stage == raised

@@ -94,9 +94,9 @@ def test_stl_bytes_do_not_keep_rounding_noise_at_zero() -> None:
 
 def test_step_text_does_not_depend_on_where_the_writer_broke_a_line() -> None:
     """The same statements wrapped at other places, with a noise coordinate printed at two
-    lengths or as an exact zero, give the same bytes (ISO 10303-21: line breaks between
-    tokens carry no meaning; the kernel's writer wraps near 72 characters, so a longer
-    number moves its breaks)."""
+    lengths or as an exact zero, positive or negative, give the same bytes (ISO 10303-21:
+    line breaks between tokens carry no meaning; the kernel's writer wraps near 72
+    characters, so a longer number moves its breaks)."""
     from ductgen.solids.step_text import reproducible_step
 
     head = (
@@ -109,6 +109,7 @@ def test_step_text_does_not_depend_on_where_the_writer_broke_a_line() -> None:
         b"#1 = CARTESIAN_POINT('',(2.1E-14,-4.15,0.));\n",
         b"#1 = CARTESIAN_POINT('',(0.,-4.15,0.));\n",
         b"#1 = CARTESIAN_POINT('',\n  (0.,\n    -4.15,0.)\n  );\r\n",
+        b"#1 = CARTESIAN_POINT('',(-0.,-4.15,-0.));\n",  # negative zeros
     ]
     files = {reproducible_step(head + v + tail, "p") for v in variants}
     assert len(files) == 1
@@ -118,6 +119,8 @@ def test_step_text_does_not_depend_on_where_the_writer_broke_a_line() -> None:
     # a number at or above 1e-12 is not noise by the rule
     kept = reproducible_step(head + b"#1 = CARTESIAN_POINT('',(1.5E-11,-4.15,0.));\n" + tail, "p")
     assert b"(1.5E-11,-4.15,0.)" in kept
+    kept = reproducible_step(head + b"#1 = CARTESIAN_POINT('',(-0.5,-0.05,-0.));\n" + tail, "p")
+    assert b"(-0.5,-0.05,0.)" in kept  # only a zero loses its sign
 
 
 def test_stl_bytes_are_trimeshs_export_byte_for_byte() -> None:

@@ -1,31 +1,37 @@
 """Work a build starts before the stage that writes it, so it runs while the kernel worker
 builds the solids and splits the insert (two cores: the kernel worker's, and this).
 
-The side worker also checks and writes the cutter the kernel worker hands it, and builds the
-plug, while the kernel worker cuts the insert (which it splits next); its kernel imports
-start when the build opens (:meth:`Ahead.warm_side`;
-:meth:`~ductgen.pipeline.solid_cache.SolidStage.solids`).
+The side worker also checks and writes the cutter the kernel worker hands it, builds the
+plug, and checks the insert and writes its STL while the kernel worker writes the insert's
+STEP (which it splits next); its kernel imports start when the build opens
+(:meth:`Ahead.warm_side`; :meth:`~ductgen.pipeline.solid_cache.SolidStage.solids`).
 
 The template (parent-process work that reads only the spec and the design) is drawn on a
 thread of this process; the marking jig (a kernel job that needs no solid) and the preview's
-picture run in a second worker process, :func:`~ductgen.worker.side_worker` (the kernel
-worker's limits; the picture's job imports VTK only, the jig's the CAD kernel). Once the
-solids are made, the kernel worker's split of the insert is started from a thread too, so the
-record is made meanwhile, and the sheet is drawn on a thread as soon as its picture is there,
-while the kernel worker still splits. A stage that writes such an output takes its result
-(or its error) from :attr:`Ahead.futures`; the files are the same bytes either way.
+picture (started as soon as the solids are built) run in a second worker process,
+:func:`~ductgen.worker.side_worker` (the kernel worker's limits; the picture's job imports
+VTK only, the jig's the CAD kernel). Once the solids are made, the kernel worker's split of
+the insert is started from a thread too, so the record is made meanwhile, and the sheet is
+drawn on a thread as soon as its picture and the record are there, while the kernel worker
+still splits. A stage that writes such an output takes its result (or its error) from
+:attr:`Ahead.futures`; the files are the same bytes either way.
 """
 
 from __future__ import annotations
 
 import contextlib
 from concurrent.futures import Future, ThreadPoolExecutor
-from typing import Any
+from dataclasses import dataclass
+from typing import TYPE_CHECKING, Any
 
-from ductgen.pipeline.outputs import BuildContext
 from ductgen.worker import KernelWorker, WorkerLimits, side_worker
 
-__all__ = ["Ahead", "picture"]
+if TYPE_CHECKING:
+    from ductgen.cache import Cache
+    from ductgen.design import Design
+    from ductgen.solids.results import SolidResult
+
+__all__ = ["Ahead", "PictureScene", "picture"]
 
 
 class Ahead:
@@ -69,9 +75,13 @@ class Ahead:
     def side_job(self, job: Any, *args: Any) -> Future[Any]:
         """``job(*args)`` started in the side worker (the solids' stage); when the build
         draws a picture (:attr:`picture_wanted`), the side worker imports the drawing stack
-        as soon as this job is done (while the kernel worker still works on the insert)."""
-        fut = self.run_in("side solids", self.side(), job, *args)
-        if self.picture_wanted:
+        as soon as the first such job is done (while the kernel worker still works on the
+        insert)."""
+        first = "side solids" not in self.futures
+        fut = self.run_in(
+            "side solids" if first else f"side solids {len(self.futures)}", self.side(), job, *args
+        )
+        if self.picture_wanted and first:
             fut.add_done_callback(self._warm_picture)
         return fut
 
@@ -101,9 +111,22 @@ class Ahead:
         return False
 
 
-def picture(ctx: BuildContext, renderer: KernelWorker) -> bytes:
+@dataclass(frozen=True)
+class PictureScene:
+    """What the preview's picture is drawn from (all that
+    :func:`ductgen.sheets.preview.preview_png` reads of a build): the design, the solids
+    built so far (mm meshes) and the solid cache or None. A build starts the picture as
+    soon as its solids are there, while its record (the print checks) is made."""
+
+    design: Design
+    solids: dict[str, SolidResult]
+    cache: Cache | None
+
+
+def picture(scene: PictureScene, worker: KernelWorker, renderer: KernelWorker) -> bytes:
     """The preview's picture (:func:`ductgen.sheets.preview.preview_png`) drawn by
-    ``renderer``."""
+    ``renderer`` (``worker``: the kernel worker, for a draft cutter mesh when no solid was
+    built)."""
     from ductgen.sheets import preview
 
-    return preview.preview_png(ctx, ctx.worker, renderer=renderer)
+    return preview.preview_png(scene, worker, renderer=renderer)

@@ -20,7 +20,7 @@ from typing import Any
 from ductgen.atomic import OutputSet, check_free
 from ductgen.cache import Cache, open_cache
 from ductgen.design import Design, build_design
-from ductgen.pipeline.ahead import Ahead, picture
+from ductgen.pipeline.ahead import Ahead, PictureScene, picture
 from ductgen.pipeline.options import (
     BuildOptions,
     cuts_panel,
@@ -144,8 +144,9 @@ def _preview_wanted(b: _Build) -> bool:
 
 
 def _preview_ahead(b: _Build) -> None:
-    side = b.ahead.side()
-    b.ahead.start("preview", picture, _context(b), side, stops=side)
+    assert b.design is not None
+    side, scene = b.ahead.side(), PictureScene(b.design, b.solids, b.store)
+    b.ahead.start("preview", picture, scene, b.worker, side, stops=side)
 
 
 def _sheet_ahead(b: _Build) -> None:
@@ -212,7 +213,7 @@ def _pieces(b: _Build, split: InsertSplit) -> list[InsertPiece]:
 
 def _split_ahead(b: _Build) -> None:
     """When the insert will be split: start its split in the kernel worker now, on a
-    thread, so the record (and the preview's start) is made meanwhile."""
+    thread, so the record is made meanwhile."""
     assert b.design is not None
     plan = split_plan(b.spec, b.design, b.solids)
     if plan is not None:
@@ -327,8 +328,8 @@ def stages() -> tuple[Stage, ...]:
         Stage(None, partial(_beside, "jig"), _jig_ahead),
         Stage("solids", lambda b: bool(b.options.solid_kinds), _solids, "solids_s"),
         Stage(None, lambda b: b.ahead.beside and "insert" in b.solids, _split_ahead),
-        Stage(None, _always, _record),
         Stage(None, _preview_wanted, _preview_ahead),
+        Stage(None, _always, _record),
         Stage(None, partial(_beside, "sheet"), _sheet_ahead),
         Stage("panel", lambda b: cuts_panel(b.spec, b.options.kinds), _panel, "panel_s"),
         Stage("insert split", lambda b: b.rec.split is not None, _split, "insert_split_s"),

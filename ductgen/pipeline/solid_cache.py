@@ -17,6 +17,7 @@ import functools
 import time
 from collections.abc import Callable
 from concurrent.futures import Future, wait
+from dataclasses import replace
 from pathlib import Path
 from typing import Any
 
@@ -27,7 +28,7 @@ from ductgen.cache import Cache, Entry, fingerprint, kernel_versions, source_fin
 from ductgen.design import Design
 from ductgen.design.identity import design_fields
 from ductgen.errors import DuctgenError
-from ductgen.solids.handoff import flat_solid_job
+from ductgen.solids.handoff import flat_solid_job, step_solid_job
 from ductgen.solids.jobs import build_solids
 from ductgen.solids.results import InsertPiece, Mesh, SolidResult
 from ductgen.solids.split import split_insert_job
@@ -144,10 +145,11 @@ class SolidStage:
         kinds, the others are finished in the side worker meanwhile: the kernel worker
         builds the cutter in design coordinates first (the insert is cut with it), hands it
         over as a binary B-rep (:func:`~ductgen.solids.handoff.flat_solid_job`) and builds the
-        insert, which it splits next from the shape it keeps; the side worker checks and
-        writes the cutter and builds the plug. Each kind's files are the same bytes either
-        way. When both fail, the error of the kind that comes first in ``kinds`` is raised,
-        as when one worker builds them one after another."""
+        insert, which it hands over too (:meth:`_insert_beside`), writes as STEP and splits
+        next from the shape it keeps; the side worker checks and writes the cutter, builds
+        the plug, and checks the insert and writes its STL. Each kind's files are the same
+        bytes either way. When both fail, the error of the kind that comes first in
+        ``kinds`` is raised, as when one worker builds them one after another."""
         args = (self.quality, prefix, str(staging))
         others = [k for k in kinds if k != "insert"]
         if beside is None or "insert" not in kinds or not others:
@@ -157,7 +159,7 @@ class SolidStage:
             flats["cutter"] = self.worker.run(flat_solid_job, self.design, "cutter")
         side = beside(build_solids, self.design, others, *args, flats)
         try:
-            main = self.worker.run(build_solids, self.design, ["insert"], *args, flats)
+            main = self._insert_beside(flats, prefix, staging, beside)
         except DuctgenError as err:
             wait([side])
             first = side.exception()
@@ -165,6 +167,28 @@ class SolidStage:
                 raise first from None
             raise
         return {**side.result(), **main}
+
+    def _insert_beside(
+        self, flats: dict[str, bytes], prefix: str, staging: Path, beside: Beside
+    ) -> dict[str, SolidResult]:
+        """The insert built here (cut with the cutter in ``flats``) and handed over: checked
+        and its STL written ``beside`` while its STEP is written here (the same files as
+        :func:`~ductgen.solids.jobs.build_solids` makes alone; a failed check is raised
+        first, as there)."""
+        t0 = time.perf_counter()
+        flat = self.worker.run(flat_solid_job, self.design, "insert", flats)
+        seconds = {"build_s": time.perf_counter() - t0}
+        args = (self.quality, prefix, str(staging))
+        check = beside(build_solids, self.design, ["insert"], *args, {"insert": flat}, False)
+        try:
+            seconds |= self.worker.run(step_solid_job, self.design, "insert", flat, *args[1:])
+        except DuctgenError:
+            wait([check])
+            if isinstance(check.exception(), DuctgenError):
+                check.result()  # raises the check's error
+            raise
+        made = check.result()["insert"]
+        return {"insert": replace(made, seconds={**made.seconds, **seconds})}
 
     def split_insert(
         self,

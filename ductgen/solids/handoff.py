@@ -2,24 +2,54 @@
 as the kernel's binary B-rep (every number to the bit, so the other worker's files are the
 same bytes), opaque bytes to the parent, which never loads the kernel. A build's kernel
 worker builds the cutter, hands it to the side worker to check and write, and cuts the
-insert with it (:meth:`ductgen.pipeline.solid_cache.SolidStage.solids`).
+insert with it; then hands the insert over to be checked and its STL written while it
+writes the insert's STEP (:meth:`ductgen.pipeline.solid_cache.SolidStage.solids`).
 """
 
 from __future__ import annotations
 
+from typing import Any
+
 from ductgen.design import Design
 from ductgen.worker import stage
 
-__all__ = ["flat_solid_job"]
+__all__ = ["flat_solid_job", "step_solid_job"]
 
 
-def flat_solid_job(d: Design, kind: str) -> bytes:
-    """Kernel-worker job: one kind built in design coordinates, as a binary B-rep."""
+def flat_solid_job(d: Design, kind: str, flats: dict[str, bytes] | None = None) -> bytes:
+    """Kernel-worker job: one kind built in design coordinates, as a binary B-rep;
+    ``flats``: the kinds it needs built already (the insert its cutter), as binary B-reps."""
     from io import BytesIO
+
+    import cadquery as cq
 
     from ductgen.solids.jobs import recipes
 
     stage(kind)
+    built = {k: cq.Shape.importBin(BytesIO(b)) for k, b in (flats or {}).items()}
     buf = BytesIO()
-    recipes()[kind].build(d, {}).exportBin(buf)
+    recipes()[kind].build(d, built).exportBin(buf)
     return buf.getvalue()
+
+
+def step_solid_job(
+    d: Design, kind: str, flat: bytes, prefix: str, staging: str
+) -> dict[str, float]:
+    """Kernel-worker job: ``PREFIX-KIND.step`` of a kind built already (``flat``, a binary
+    B-rep from :func:`flat_solid_job`), written into ``staging`` as
+    :func:`~ductgen.solids.jobs.build_solids` writes it (a flat insert kept for its split),
+    while another worker checks the same solid and writes its STL (``build_solids`` with
+    ``step=False``); returns its seconds (``step_s``)."""
+    import time
+    from io import BytesIO
+
+    import cadquery as cq
+
+    from ductgen.solids.deform import place
+    from ductgen.solids.jobs import write_step
+
+    t0 = time.perf_counter()
+    stage(f"{kind} STEP")
+    solid: Any = cq.Shape.importBin(BytesIO(flat))  # a solid's, to the last bit
+    write_step(d, kind, place(solid, d, kind), f"{prefix}-{kind}", staging)
+    return {"step_s": time.perf_counter() - t0}

@@ -34,6 +34,7 @@ __all__ = [
     "cutter_mesh_job",
     "recipes",
     "warm_up",
+    "write_step",
 ]
 
 
@@ -185,6 +186,7 @@ def build_solids(
     prefix: str,
     staging: str,
     flats: dict[str, bytes] | None = None,
+    step: bool = True,
 ) -> dict[str, SolidResult]:
     """Build, check and encode each kind; write ``PREFIX-KIND.step/.stl`` into ``staging``.
 
@@ -194,7 +196,8 @@ def build_solids(
     parent. ``flats``: solids already built in design coordinates (kind → binary B-rep,
     :func:`~ductgen.solids.handoff.flat_solid_job`), taken instead of building them again
     (the same solid to the last bit, so the same files), by the kinds that need them too
-    (the insert its cutter).
+    (the insert its cutter). ``step`` False: no STEP file is written (another worker writes
+    it, :func:`~ductgen.solids.handoff.step_solid_job`); its name is returned all the same.
     """
     from io import BytesIO
 
@@ -204,7 +207,8 @@ def build_solids(
     built: dict[str, Any] = {k: cq.Shape.importBin(BytesIO(b)) for k, b in (flats or {}).items()}
     book = recipes()
     for kind in kinds:
-        out[kind] = _one_solid(d, kind, book[kind], built, quality, f"{prefix}-{kind}", staging)
+        base = f"{prefix}-{kind}"
+        out[kind] = _one_solid(d, kind, book[kind], built, quality, base, staging, step)
     return out
 
 
@@ -216,9 +220,11 @@ def _one_solid(
     quality: str,
     base: str,
     staging: str,
+    step: bool = True,
 ) -> SolidResult:
     """One kind built flat (kept in ``built``), placed, checked, and written as
-    ``BASE.step`` and ``BASE.stl`` into ``staging`` (see :func:`build_solids`)."""
+    ``BASE.step`` (unless ``step`` is False) and ``BASE.stl`` into ``staging`` (see
+    :func:`build_solids`)."""
     import time
 
     from ductgen.solids.check import CHECK_MESH, CHECK_MESH_CURVED
@@ -238,10 +244,12 @@ def _one_solid(
     fn = d.placement.plug_map if kind == "plug" else d.placement.solid_map
     res, design_mesh = _checked(d, kind, recipe, flat, solid, fn)
     times["check_s"] = time.perf_counter() - t0
-    t0 = time.perf_counter()
-    stage(f"{kind} STEP")
-    step_name = _write_step(d, kind, solid, base, staging)
-    times["step_s"] = time.perf_counter() - t0
+    step_name = f"{base}.step"
+    if step:
+        t0 = time.perf_counter()
+        stage(f"{kind} STEP")
+        write_step(d, kind, solid, base, staging)
+        times["step_s"] = time.perf_counter() - t0
     t0 = time.perf_counter()
     stage(f"{kind} STL")
     verts, faces = _stl_mesh(
@@ -296,7 +304,7 @@ def _checked(
     return res, design_mesh
 
 
-def _write_step(d: Design, kind: str, solid: Any, base: str, staging: str) -> str:
+def write_step(d: Design, kind: str, solid: Any, base: str, staging: str) -> str:
     """Write ``BASE.step`` (healed; edges laid exactly on their faces, see
     :func:`~ductgen.solids.heal.heal`, except a mapped insert's) into ``staging``; returns its
     name. A flat insert is kept in memory for its split (a mapped one, on a curved skin or

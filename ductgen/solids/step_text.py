@@ -8,6 +8,9 @@ another day is byte for byte the file a fresh build would write.
 
 :func:`reproducible_step` also writes rounding noise (numbers below 1e-12: mm, or
 components of a unit vector) as zero, since it differs between runs of the shape fixing,
+and a negative zero as ``0.`` (a unit vector's zero component read back from the kernel's
+binary B-rep, as a solid handed between two workers is, came back ``0.`` where the solid
+built in place wrote ``-0.``),
 and :func:`one_statement_per_line` undoes the writer's line wrapping. Where the writer breaks a
 line depends on how long it printed each number, and a coordinate that is rounding noise
 (below 1e-12, written as zero afterwards) is printed at a different length from one run of
@@ -49,10 +52,15 @@ def one_statement_per_line(data: bytes) -> bytes:
 _NOISE = re.compile(rb"(?<![\w.#])-?\d\.\d*E-(?:1[3-9]|[2-9]\d|\d{3})(?![\w.])")
 
 
+#: A negative zero in the writer's format (``-0.``), a whole number in a list
+_NEGATIVE_ZERO = re.compile(rb"(?<![\w.#])-0\.(?=[,)])")
+
+
 def reproducible_step(data: bytes, name: str) -> bytes:
     """``data`` (the STEP writer's text) as ductgen writes it: one statement per line,
-    stamped (:func:`stamp_step`), rounding noise written as ``0.``."""
-    return _NOISE.sub(b"0.", stamp_step(one_statement_per_line(data), name))
+    stamped (:func:`stamp_step`), rounding noise and negative zeros written as ``0.``."""
+    text = _NOISE.sub(b"0.", stamp_step(one_statement_per_line(data), name))
+    return _NEGATIVE_ZERO.sub(b"0.", text)
 
 
 def stamp_step(data: bytes, name: str) -> bytes:
