@@ -152,3 +152,30 @@ def test_solids_beside_raise_the_first_kinds_error(
     with pytest.raises(GeometryError) as err:
         stage.solids(["cutter", "insert", "plug"], "tt", Path("."), beside)
     assert err.value.stage == raised
+
+
+def test_work_started_once_runs_once_from_any_thread() -> None:
+    """The preview's picture is started as soon as the insert is checked (on the side
+    worker's thread) or when the solids are built, whichever comes first: the second start
+    gets the first one's future and runs nothing."""
+    import contextlib
+    import threading
+
+    from ductgen.pipeline.ahead import Ahead
+    from ductgen.worker import WorkerLimits
+
+    runs: list[int] = []
+    with contextlib.ExitStack() as exits:
+        ahead = Ahead(exits, WorkerLimits(), beside=True)
+        threads = [
+            threading.Thread(target=ahead.start_once, args=("picture", runs.append, k))
+            for k in range(8)
+        ]
+        for t in threads:
+            t.start()
+        for t in threads:
+            t.join()
+        first = ahead.futures["picture"]
+        assert ahead.start_once("picture", runs.append, 99) is first
+        first.result()
+    assert len(runs) == 1

@@ -20,6 +20,7 @@ still splits. A stage that writes such an output takes its result (or its error)
 from __future__ import annotations
 
 import contextlib
+import threading
 from concurrent.futures import Future, ThreadPoolExecutor
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
@@ -47,6 +48,7 @@ class Ahead:
         self._runs_in: dict[str, KernelWorker] = {}  # future name → the worker its job is in
         #: whether the build draws the preview's picture in the side worker
         self.picture_wanted = False
+        self._once = threading.Lock()
 
     def side(self) -> KernelWorker:
         """The side worker (the process-wide one with the kernel worker's limits)."""
@@ -67,6 +69,16 @@ class Ahead:
             self._exits.push(self._stop_on_error)  # runs first: a failed build waits for nothing
         self.futures[name] = self._pool.submit(fn, *args)
         return self.futures[name]
+
+    def start_once(
+        self, name: str, fn: Any, *args: Any, stops: KernelWorker | None = None
+    ) -> Future[Any]:
+        """:meth:`start`, unless work under ``name`` was started already (from any thread):
+        then that work's future."""
+        with self._once:
+            if name not in self.futures:
+                self.start(name, fn, *args, stops=stops)
+            return self.futures[name]
 
     def run_in(self, name: str, worker: KernelWorker, job: Any, *args: Any) -> Future[Any]:
         """:meth:`start` of ``worker.run(job, *args)`` (``stops=worker``)."""

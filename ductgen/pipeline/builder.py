@@ -134,7 +134,6 @@ def _beside(kind: str, b: _Build) -> bool:
 
 
 def _jig_ahead(b: _Build) -> None:
-    assert b.design is not None
     side = b.ahead.side()
     b.ahead.start("jig", jig_bytes, b.design, b.spec, b.options.quality, side, stops=side)
 
@@ -143,15 +142,15 @@ def _preview_wanted(b: _Build) -> bool:
     return _beside("sheet", b) and any(k in b.solids for k in SOLID_KINDS)
 
 
-def _preview_ahead(b: _Build) -> None:
+def _preview_ahead(b: _Build, solids: dict[str, SolidResult] | None = None) -> None:
+    """The preview's picture in the side worker, once: when the insert is checked, or now."""
     assert b.design is not None
-    side, scene = b.ahead.side(), PictureScene(b.design, b.solids, b.store)
-    b.ahead.start("preview", picture, scene, b.worker, side, stops=side)
+    side, scene = b.ahead.side(), PictureScene(b.design, solids or b.solids, b.store)
+    b.ahead.start_once("preview", picture, scene, b.worker, side, stops=side)
 
 
 def _sheet_ahead(b: _Build) -> None:
-    """Draw the sheet on a thread once its picture is there (while the kernel worker may
-    still split the insert); :func:`~ductgen.pipeline.outputs.sheet_ahead`."""
+    """The sheet drawn on a thread (:func:`~ductgen.pipeline.outputs.sheet_ahead`)."""
     b.ahead.start("sheet", sheet_ahead, _context(b), b.ahead.futures.get("template"))
 
 
@@ -160,7 +159,8 @@ def _solids(b: _Build) -> None:
     assert b.kernel is not None and b.out is not None
     kinds = list(b.options.solid_kinds)
     beside = b.ahead.side_job if b.ahead.beside else None
-    b.solids = b.kernel.solids(kinds, b.spec.name, b.staging, beside)
+    early = (lambda r: _preview_ahead(b, {"insert": r})) if _beside("sheet", b) else None
+    b.solids = b.kernel.solids(kinds, b.spec.name, b.staging, beside, early)
     for k in kinds:
         for fmt, name in b.solids[k].files.items():
             b.out.staged_path(name)

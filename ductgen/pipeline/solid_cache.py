@@ -112,10 +112,17 @@ class SolidStage:
         return "insert" in missing and len(missing) > 1
 
     def solids(
-        self, kinds: list[str], prefix: str, staging: Path, beside: Beside | None = None
+        self,
+        kinds: list[str],
+        prefix: str,
+        staging: Path,
+        beside: Beside | None = None,
+        checked: Callable[[SolidResult], None] | None = None,
     ) -> dict[str, SolidResult]:
         """Per kind what :func:`ductgen.solids.jobs.build_solids` returns, its files staged.
-        ``beside``: starts a job in the side worker (see :meth:`_build`)."""
+        ``beside``: starts a job in the side worker (see :meth:`_build`); ``checked``:
+        called with the insert's result as soon as the side worker has checked it (its
+        STEP may still be being written), on that job's thread."""
         got: dict[str, SolidResult] = {}
         missing = []
         for kind in kinds:
@@ -130,7 +137,7 @@ class SolidStage:
             got[kind] = _solid_from_entry(entry, kind, prefix, staging, t0)
             self.hits.append(kind)
         if missing:
-            built = self._build(missing, prefix, staging, beside)
+            built = self._build(missing, prefix, staging, beside, checked)
             for kind in missing:
                 got[kind] = built[kind]
                 self.misses.append(kind)
@@ -139,7 +146,12 @@ class SolidStage:
         return {k: got[k] for k in kinds}
 
     def _build(
-        self, kinds: list[str], prefix: str, staging: Path, beside: Beside | None
+        self,
+        kinds: list[str],
+        prefix: str,
+        staging: Path,
+        beside: Beside | None,
+        checked: Callable[[SolidResult], None] | None = None,
     ) -> dict[str, SolidResult]:
         """Build ``kinds`` in the kernel worker; with ``beside`` and the insert among other
         kinds, the others are finished in the side worker meanwhile: the kernel worker
@@ -159,7 +171,7 @@ class SolidStage:
             flats["cutter"] = self.worker.run(flat_solid_job, self.design, "cutter")
         side = beside(build_solids, self.design, others, *args, flats)
         try:
-            main = self._insert_beside(flats, prefix, staging, beside)
+            main = self._insert_beside(flats, prefix, staging, beside, checked)
         except DuctgenError as err:
             wait([side])
             first = side.exception()
@@ -169,7 +181,12 @@ class SolidStage:
         return {**side.result(), **main}
 
     def _insert_beside(
-        self, flats: dict[str, bytes], prefix: str, staging: Path, beside: Beside
+        self,
+        flats: dict[str, bytes],
+        prefix: str,
+        staging: Path,
+        beside: Beside,
+        checked: Callable[[SolidResult], None] | None,
     ) -> dict[str, SolidResult]:
         """The insert built here (cut with the cutter in ``flats``) and handed over: checked
         and its STL written ``beside`` while its STEP is written here (the same files as
@@ -180,6 +197,8 @@ class SolidStage:
         seconds = {"build_s": time.perf_counter() - t0}
         args = (self.quality, prefix, str(staging))
         check = beside(build_solids, self.design, ["insert"], *args, {"insert": flat}, False)
+        if checked is not None:
+            check.add_done_callback(lambda f: f.exception() or checked(f.result()["insert"]))
         try:
             seconds |= self.worker.run(step_solid_job, self.design, "insert", flat, *args[1:])
         except DuctgenError:
