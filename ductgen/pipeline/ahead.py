@@ -8,7 +8,7 @@ STEP (which it splits next); its kernel imports start when the build opens
 
 The template (parent-process work that reads only the spec and the design) is drawn on a
 thread of this process; the marking jig (a kernel job that needs no solid) and the preview's
-picture (started as soon as the solids are built) run in a second worker process,
+picture (started once the insert is checked, or the solids built) run in a second worker process,
 :func:`~ductgen.worker.side_worker` (the kernel worker's limits; the picture's job imports
 VTK only, the jig's the CAD kernel). Once the solids are made, the kernel worker's split of
 the insert is started from a thread too, so the record is made meanwhile, and the sheet is
@@ -128,7 +128,8 @@ class PictureScene:
     """What the preview's picture is drawn from (all that
     :func:`ductgen.sheets.preview.preview_png` reads of a build): the design, the solids
     built so far (mm meshes) and the solid cache or None. A build starts the picture as
-    soon as its solids are there, while its record (the print checks) is made."""
+    soon as its insert is checked (on a flat skin) or its solids are built, while its
+    record (the print checks) is made."""
 
     design: Design
     solids: dict[str, SolidResult]
