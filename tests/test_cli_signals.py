@@ -230,6 +230,47 @@ runpy.run_module("ductgen", run_name="__main__", alter_sys=True)
 """
 
 
+#: Runs ``python -m ductgen ARGS`` sending the process SIG just before the command line's
+#: own handling begins (its exit-code table is looked up): by then a build has started its
+#: kernel worker.
+_SIGNAL_BEFORE_COMMAND = """
+import os, runpy, sys
+import ductgen.cli.app as app
+sig = int(sys.argv[1])
+real = app._click_exceptions
+def signalled():
+    os.kill(os.getpid(), sig)
+    return real()
+app._click_exceptions = signalled
+sys.argv = ["ductgen", *sys.argv[2:]]
+runpy.run_module("ductgen", run_name="__main__", alter_sys=True)
+"""
+
+
+@pytest.mark.parametrize("sig", [signal.SIGINT, signal.SIGTERM])
+def test_signal_before_the_command_runs_exits_cleanly(tmp_path: Path, sig: int) -> None:
+    """Ctrl-C or SIGTERM after the imports, before the command's own handling (a build's
+    kernel worker already started): 128 + signal and one sentence, nothing written, the
+    worker gone."""
+    out = tmp_path / "out"
+    args = ["build", str(_spec(tmp_path)), "-o", str(out)]
+    marker = uuid.uuid4().hex
+    r = subprocess.run(
+        [sys.executable, "-c", _SIGNAL_BEFORE_COMMAND, str(int(sig)), *args],
+        cwd=tmp_path,
+        env={**os.environ, "PYTHONPATH": _pythonpath(), "DUCTGEN_TEST_MARK": marker},
+        capture_output=True,
+        text=True,
+        timeout=WAIT_S,
+        preexec_fn=sigint_as_at_a_terminal,
+    )
+    assert r.returncode == 128 + sig, r.stderr[-2000:]
+    assert "interrupted" in r.stderr
+    assert "Traceback" not in r.stderr and "KeyboardInterrupt" not in r.stderr
+    assert not out.exists()
+    until(lambda: gone(marker), "the kernel worker to end")
+
+
 @pytest.mark.parametrize("sig", [signal.SIGINT, signal.SIGTERM])
 @pytest.mark.parametrize(
     ("command", "trigger"),

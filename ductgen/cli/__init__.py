@@ -25,13 +25,15 @@ def main(argv: list[str] | None = None) -> int:
         if argv is None:
             _start_kernel_early(sys.argv[1:])
         from ductgen.cli.app import main as app_main
-    except KeyboardInterrupt:  # Ctrl-C or SIGTERM while the command line was importing
+
+        return app_main(argv)
+    except KeyboardInterrupt:  # Ctrl-C or SIGTERM while the command line was importing, or
+        # before the command's own handling began (a build's worker may be running by then)
         sys.stderr.write(f"{signals.interrupted_message}\n")
         code = signals.interrupt_code(signals.take_signal())
         if argv is None:
             sys.exit(code)
         return code
-    return app_main(argv)
 
 
 def _start_kernel_early(args: list[str]) -> None:
