@@ -255,28 +255,3 @@ def test_commands_preload_the_kernel_only_when_they_may_build_a_solid(
     monkeypatch.setenv("DUCTGEN_MEMORY_MB", "lots")
     preload_kernel(None)
     assert calls == []
-
-
-@pytest.mark.parametrize(
-    ("args", "started"),
-    [
-        (["build", "a.toml"], [None]),
-        (["build", "a.toml", "--only", "cutter,template"], ["cutter,template"]),
-        (["build", "--only=template", "a.toml"], ["template"]),  # the command decides: none
-        (["build", "a.toml", "--help"], []),
-        (["check", "a.stl"], []),
-        ([], []),
-    ],
-)
-def test_a_build_starts_its_kernel_worker_before_the_command_table(
-    args: list[str], started: list[str | None], monkeypatch: pytest.MonkeyPatch
-) -> None:
-    """``ductgen build`` asks for its kernel worker before typer parses the command line,
-    with the ``--only`` the command will read; other commands and ``--help`` do not."""
-    import ductgen.cli as cli
-    import ductgen.cli.common as common
-
-    asked: list[str | None] = []
-    monkeypatch.setattr(common, "preload_kernel", asked.append)
-    cli._start_kernel_early(args)
-    assert asked == started

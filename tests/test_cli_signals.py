@@ -231,8 +231,7 @@ runpy.run_module("ductgen", run_name="__main__", alter_sys=True)
 
 
 #: Runs ``python -m ductgen ARGS`` sending the process SIG just before the command line's
-#: own handling begins (its exit-code table is looked up): by then a build has started its
-#: kernel worker.
+#: own handling begins (its exit-code table is looked up), after every import.
 _SIGNAL_BEFORE_COMMAND = """
 import os, runpy, sys
 import ductgen.cli.app as app
@@ -249,9 +248,8 @@ runpy.run_module("ductgen", run_name="__main__", alter_sys=True)
 
 @pytest.mark.parametrize("sig", [signal.SIGINT, signal.SIGTERM])
 def test_signal_before_the_command_runs_exits_cleanly(tmp_path: Path, sig: int) -> None:
-    """Ctrl-C or SIGTERM after the imports, before the command's own handling (a build's
-    kernel worker already started): 128 + signal and one sentence, nothing written, the
-    worker gone."""
+    """Ctrl-C or SIGTERM after the imports, before the command's own handling: 128 + signal
+    and one sentence, nothing written, no process left."""
     out = tmp_path / "out"
     args = ["build", str(_spec(tmp_path)), "-o", str(out)]
     marker = uuid.uuid4().hex
@@ -268,7 +266,7 @@ def test_signal_before_the_command_runs_exits_cleanly(tmp_path: Path, sig: int) 
     assert "interrupted" in r.stderr
     assert "Traceback" not in r.stderr and "KeyboardInterrupt" not in r.stderr
     assert not out.exists()
-    until(lambda: gone(marker), "the kernel worker to end")
+    until(lambda: gone(marker), "every started process to end")
 
 
 @pytest.mark.parametrize("sig", [signal.SIGINT, signal.SIGTERM])
