@@ -230,6 +230,29 @@ runpy.run_module("ductgen", run_name="__main__", alter_sys=True)
 """
 
 
+def _assert_interrupted(
+    tmp_path: Path, script: list[str], sig: int, out: Path, marker: str = ""
+) -> None:
+    """Run ``python -c SCRIPT...`` (which signals itself) in ``tmp_path``: it must end with
+    128 + ``sig`` and one sentence, no traceback, and write nothing to ``out``."""
+    env = {**os.environ, "PYTHONPATH": _pythonpath()}
+    if marker:
+        env["DUCTGEN_TEST_MARK"] = marker
+    r = subprocess.run(
+        [sys.executable, "-c", *script],
+        cwd=tmp_path,
+        env=env,
+        capture_output=True,
+        text=True,
+        timeout=WAIT_S,
+        preexec_fn=sigint_as_at_a_terminal,
+    )
+    assert r.returncode == 128 + sig, r.stderr[-2000:]
+    assert "interrupted" in r.stderr
+    assert "Traceback" not in r.stderr and "KeyboardInterrupt" not in r.stderr
+    assert not out.exists()
+
+
 #: Runs ``python -m ductgen ARGS`` sending the process SIG just before the command line's
 #: own handling begins (its exit-code table is looked up), after every import.
 _SIGNAL_BEFORE_COMMAND = """
@@ -253,19 +276,9 @@ def test_signal_before_the_command_runs_exits_cleanly(tmp_path: Path, sig: int) 
     out = tmp_path / "out"
     args = ["build", str(_spec(tmp_path)), "-o", str(out)]
     marker = uuid.uuid4().hex
-    r = subprocess.run(
-        [sys.executable, "-c", _SIGNAL_BEFORE_COMMAND, str(int(sig)), *args],
-        cwd=tmp_path,
-        env={**os.environ, "PYTHONPATH": _pythonpath(), "DUCTGEN_TEST_MARK": marker},
-        capture_output=True,
-        text=True,
-        timeout=WAIT_S,
-        preexec_fn=sigint_as_at_a_terminal,
+    _assert_interrupted(
+        tmp_path, [_SIGNAL_BEFORE_COMMAND, str(int(sig)), *args], sig, out, marker=marker
     )
-    assert r.returncode == 128 + sig, r.stderr[-2000:]
-    assert "interrupted" in r.stderr
-    assert "Traceback" not in r.stderr and "KeyboardInterrupt" not in r.stderr
-    assert not out.exists()
     until(lambda: gone(marker), "every started process to end")
 
 
@@ -289,16 +302,4 @@ def test_signal_while_importing_exits_cleanly(
     args = ["build", str(spec), "-o", str(out)]
     if command == "sweep":
         args = ["sweep", str(spec), "-o", str(out), "--vary", "throat.width=70,90"]
-    r = subprocess.run(
-        [sys.executable, "-c", _SIGNAL_AT_IMPORT, trigger, str(int(sig)), *args],
-        cwd=tmp_path,
-        env={**os.environ, "PYTHONPATH": _pythonpath()},
-        capture_output=True,
-        text=True,
-        timeout=WAIT_S,
-        preexec_fn=sigint_as_at_a_terminal,
-    )
-    assert r.returncode == 128 + sig, r.stderr[-2000:]
-    assert "interrupted" in r.stderr
-    assert "Traceback" not in r.stderr and "KeyboardInterrupt" not in r.stderr
-    assert not out.exists()
+    _assert_interrupted(tmp_path, [_SIGNAL_AT_IMPORT, trigger, str(int(sig)), *args], sig, out)
