@@ -179,3 +179,45 @@ def test_work_started_once_runs_once_from_any_thread() -> None:
         assert ahead.start_once("picture", runs.append, 99) is first
         first.result()
     assert len(runs) == 1
+
+
+def test_a_mapped_insert_is_told_written_before_the_side_worker_finishes() -> None:
+    """On a curved skin the kernel worker builds and writes the insert while the side
+    worker checks the cutter and makes the plug: the build is told the insert is written
+    (and starts its split) as soon as the kernel worker's job returns, not when the side
+    worker's kinds are done."""
+    import threading
+    from concurrent.futures import Future
+
+    from ductgen.design import build_design
+    from ductgen.pipeline.solid_cache import SolidStage
+    from ductgen.solids.handoff import flat_solid_job
+
+    skin = {"shape": "cylinder", "radius": 1400, "axis": "spanwise", "thickness": 3}
+    spec = parse_spec({"name": "tt", "throat": {"width": 80, "depth": 20}, "skin": skin})
+    design = build_design(spec)
+    assert not design.skin.is_flat
+
+    class _Worker:
+        def run(self, job: object, *args: object) -> object:
+            return b"cutter (test)" if job is flat_solid_job else {"insert": "insert (test)"}
+
+    side: Future[object] = Future()
+    others = {"cutter": "cutter (test)", "plug": "plug (test)"}
+    lock, told = threading.Lock(), []
+    stage = SolidStage(None, design, "normal", _Worker())  # type: ignore[arg-type]
+
+    def finish(by: str) -> None:
+        with lock:
+            if not side.done():
+                told.append(by)
+                side.set_result(others)
+
+    late = threading.Timer(5.0, finish, ("the side worker",))  # so a wrong order fails
+    late.start()
+    got = stage.solids(
+        ["cutter", "insert", "plug"], "tt", Path("."), lambda *_a: side, None, finish
+    )
+    late.cancel()
+    assert told == ["insert (test)"]
+    assert got == {"cutter": "cutter (test)", "insert": "insert (test)", "plug": "plug (test)"}

@@ -91,6 +91,7 @@ class _Build:
     report: dict[str, Any] = field(default_factory=dict)
     ahead: Ahead = field(init=False)
     split_started: InsertSplit | None = None
+    split_asked: bool = False
 
     @property
     def staging(self) -> Path:
@@ -160,7 +161,8 @@ def _solids(b: _Build) -> None:
     kinds = list(b.options.solid_kinds)
     beside = b.ahead.side_job if b.ahead.beside else None
     early = (lambda r: _preview_ahead(b, {"insert": r})) if _beside("sheet", b) else None
-    b.solids = b.kernel.solids(kinds, b.spec.name, b.staging, beside, early)
+    split = partial(_split_ahead, b) if beside is not None else None
+    b.solids = b.kernel.solids(kinds, b.spec.name, b.staging, beside, early, split)
     for k in kinds:
         for fmt, name in b.solids[k].files.items():
             b.out.staged_path(name)
@@ -198,27 +200,25 @@ def _frame(b: _Build) -> tuple[list[float], list[list[float]]] | None:
     return None if frame is None else (frame.origin.tolist(), frame.axes.tolist())
 
 
-def _pieces(b: _Build, split: InsertSplit) -> list[InsertPiece]:
+def _pieces(b: _Build, split: InsertSplit, insert: SolidResult | None = None) -> list[InsertPiece]:
     """The insert's keyed pieces split at ``split`` (kernel worker or solid cache)."""
     assert b.kernel is not None
-    return b.kernel.split_insert(
-        b.staging,
-        b.solids["insert"].step_file,
-        b.spec.name,
-        (list(split.stations_x_mm), split.up),
-        b.spec.print.bed,
-        _frame(b),
-    )
+    step, plan = (insert or b.solids["insert"]).step_file, (list(split.stations_x_mm), split.up)
+    return b.kernel.split_insert(b.staging, step, b.spec.name, plan, b.spec.print.bed, _frame(b))
 
 
-def _split_ahead(b: _Build) -> None:
-    """When the insert will be split: start its split in the kernel worker now, on a
-    thread, so the record is made meanwhile."""
+def _split_ahead(b: _Build, insert: SolidResult | None = None) -> None:
+    """When the insert will be split: start its split in the kernel worker on a thread,
+    once, so the rest is made meanwhile: as soon as the worker has written the ``insert``
+    (while the side worker may still make the plug), or after the solids (a cached one)."""
     assert b.design is not None
-    plan = split_plan(b.spec, b.design, b.solids)
+    if b.split_asked:
+        return
+    b.split_asked, insert = True, insert or b.solids["insert"]
+    plan = split_plan(b.spec, b.design, {"insert": insert})
     if plan is not None:
         b.split_started = plan
-        b.ahead.start("split", _pieces, b, plan, stops=b.worker)
+        b.ahead.start("split", _pieces, b, plan, insert, stops=b.worker)
 
 
 def _split(b: _Build) -> None:

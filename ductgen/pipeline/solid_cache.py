@@ -40,6 +40,8 @@ __all__ = ["Beside", "SolidStage", "design_key"]
 
 #: Starts ``job(*args)`` in the side worker and returns its future.
 Beside = Callable[..., Future[Any]]
+#: Told the insert's result (:meth:`SolidStage.solids`'s ``checked`` and ``written``).
+Told = Callable[[SolidResult], None] | None
 
 #: What makes a solid: the packages and modules whose source enters the key.
 _SOLID_SOURCES = (
@@ -118,11 +120,14 @@ class SolidStage:
         staging: Path,
         beside: Beside | None = None,
         checked: Callable[[SolidResult], None] | None = None,
+        written: Callable[[SolidResult], None] | None = None,
     ) -> dict[str, SolidResult]:
         """Per kind what :func:`ductgen.solids.jobs.build_solids` returns, its files staged.
         ``beside``: starts a job in the side worker (see :meth:`_build`); ``checked``:
         called with the insert's result as soon as the side worker has checked it (its
-        STEP may still be being written), on that job's thread."""
+        STEP may still be being written), on that job's thread; ``written``: called with
+        it, on this thread, once the kernel worker has written its STEP and is free for its
+        next job (the split) while the side worker may still finish the others."""
         got: dict[str, SolidResult] = {}
         missing = []
         for kind in kinds:
@@ -137,7 +142,7 @@ class SolidStage:
             got[kind] = _solid_from_entry(entry, kind, prefix, staging, t0)
             self.hits.append(kind)
         if missing:
-            built = self._build(missing, prefix, staging, beside, checked)
+            built = self._build(missing, prefix, staging, beside, (checked, written))
             for kind in missing:
                 got[kind] = built[kind]
                 self.misses.append(kind)
@@ -151,7 +156,7 @@ class SolidStage:
         prefix: str,
         staging: Path,
         beside: Beside | None,
-        checked: Callable[[SolidResult], None] | None = None,
+        told: tuple[Told, Told] = (None, None),
     ) -> dict[str, SolidResult]:
         """Build ``kinds`` in the kernel worker; with ``beside`` and the insert among other
         kinds, the others are finished in the side worker meanwhile: the kernel worker
@@ -163,8 +168,9 @@ class SolidStage:
         (mapping a curved or panel insert onto its skin, 1.6–3.2 CPU s on the samples,
         would be done twice: measured 1.18x slower there). Each kind's files are the same
         bytes either way. When both fail, the error of the kind that comes first in
-        ``kinds`` is raised, as when one worker builds them one after another."""
-        args = (self.quality, prefix, str(staging))
+        ``kinds`` is raised, as when one worker builds them one after another. ``told``: the
+        insert's ``checked`` and ``written`` callbacks (:meth:`solids`)."""
+        args, (checked, written) = (self.quality, prefix, str(staging)), told
         others = [k for k in kinds if k != "insert"]
         if beside is None or "insert" not in kinds or not others:
             return self.worker.run(build_solids, self.design, kinds, *args)
@@ -177,6 +183,8 @@ class SolidStage:
                 main = self._insert_beside(flats, prefix, staging, beside, checked)
             else:  # placing a mapped insert takes seconds: once, here
                 main = self.worker.run(build_solids, self.design, ["insert"], *args, flats)
+            if written is not None:
+                written(main["insert"])
         except DuctgenError as err:
             wait([side])
             first = side.exception()
