@@ -55,11 +55,13 @@ def map_prism(shape: cq.Solid, fn: PointMap, tol_mm: float = FIT_TOL_MM) -> cq.S
         return None
     bb = top.BoundingBox()
     box = (bb.xmin - 1.0, bb.xmax + 1.0, bb.ymin - 1.0, bb.ymax + 1.0)
-    caps = [fit_surface(_plane_patch(box, w), fn, tol_mm)[0] for w in (w0, w1)]
     try:
+        caps = [fit_surface(_plane_patch(box, w), fn, tol_mm)[0] for w in (w0, w1)]
         solid = _assemble(loops, caps)
     except NotLifted:
         return None
+    except Exception:  # kernel exceptions share no base class: the caller maps the
+        return None  # solid face by face instead, as before this path existed
     return solid if solid.isValid() and solid.Volume() > 0.0 else None
 
 

@@ -37,7 +37,6 @@ class PrismBuilder:
             self.b.MakeFace(face, surface, TOL_MM)
         self.cap_wires: list[list[Any]] = [[], []]
         self.walls: list[Any] = []
-        self.on: list[tuple[Any, Any]] = []  # every (edge, face) pair, to measure
 
     def loop(self, runs: list[tuple[Any, Any, Any]]) -> None:
         """One boundary loop: per boundary curve (planar B-spline in design coordinates,
@@ -75,15 +74,11 @@ class PrismBuilder:
             self.cap_wires[cap].append(wire)
 
     def solid(self) -> cq.Solid:
-        """The closed solid (bottom cap reversed: its surface's normal points up, into it),
-        each edge's tolerance set to 1.5x its measured deviation from each face (at least
-        :data:`TOL_MM`)."""
-        from OCP.BRep import BRep_Tool
-        from OCP.ShapeFix import ShapeFix_ShapeTolerance
-        from OCP.TopAbs import TopAbs_EDGE, TopAbs_FORWARD, TopAbs_REVERSED
+        """The closed solid (bottom cap reversed: its surface's normal points up, into it).
+        Its edges keep :data:`TOL_MM`: they lie on their faces within the lift's tolerance
+        (the STEP writer's healing measures each edge against its faces anyway)."""
+        from OCP.TopAbs import TopAbs_FORWARD, TopAbs_REVERSED
         from OCP.TopoDS import TopoDS_Shell, TopoDS_Solid
-
-        from ductgen.solids.tighten import curve_on_face_deviation
 
         for face, wires in zip(self.caps, self.cap_wires, strict=True):
             for w in wires:
@@ -97,11 +92,6 @@ class PrismBuilder:
         solid = TopoDS_Solid()
         self.b.MakeSolid(solid)
         self.b.Add(solid, shell)
-        fix = ShapeFix_ShapeTolerance()
-        for e, f in self.on:
-            dev = curve_on_face_deviation(e, f)
-            if 1.5 * dev > BRep_Tool.Tolerance_s(e):
-                fix.SetTolerance(e, 1.5 * dev, TopAbs_EDGE)
         return cq.Solid(solid)
 
     def _wire(self) -> Any:
@@ -120,7 +110,6 @@ class PrismBuilder:
 
     def _pcurve(self, edge: Any, curve2d: Any, face: Any) -> None:
         self.b.UpdateEdge(edge, curve2d, face, TOL_MM)
-        self.on.append((edge, face))
 
 
 def _vertex(p: Any) -> Any:
