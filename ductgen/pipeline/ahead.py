@@ -10,11 +10,13 @@ The template (parent-process work that reads only the spec and the design) is dr
 thread of this process; the marking jig (a kernel job that needs no solid) and the preview's
 picture (started once the insert is checked, or the solids built) run in a second worker process,
 :func:`~ductgen.worker.side_worker` (the kernel worker's limits; the picture's job imports
-VTK only, the jig's the CAD kernel). Once the solids are made, the kernel worker's split of
+VTK only, the jig's the CAD kernel). As soon as the kernel worker has written the insert
+(while the side worker may still make the plug), or once cached solids are there, its split of
 the insert is started from a thread too, so the record is made meanwhile, and the sheet is
 drawn on a thread as soon as its picture and the record are there, while the kernel worker
-still splits. A stage that writes such an output takes its result (or its error) from
-:attr:`Ahead.futures`; the files are the same bytes either way.
+still splits; a panel is then cut in the side worker. A stage that writes such an output
+takes its result (or its error) from :attr:`Ahead.futures`; the files are the same bytes
+either way.
 """
 
 from __future__ import annotations
