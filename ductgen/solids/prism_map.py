@@ -77,17 +77,18 @@ def _top_cap(shape: cq.Solid) -> tuple[cq.Face, float, float] | None:
     for f in shape.Faces():
         a = BRepAdaptor_Surface(f.wrapped)
         kind = a.GetType()
-        if kind == GeomAbs_Plane:
-            nz = a.Plane().Axis().Direction().Z()
-        elif kind == GeomAbs_Cylinder:
-            nz = 1.0 - abs(a.Cylinder().Axis().Direction().Z())
-        elif kind == GeomAbs_SurfaceOfExtrusion:
-            nz = 1.0 - abs(a.Direction().Z())
+        if kind == GeomAbs_Plane and abs(abs(a.Plane().Axis().Direction().Z()) - 1.0) < 1e-12:
+            caps.append((float(a.Plane().Location().Z()), f.normalAt().z > 0, f))
+            continue
+        if kind == GeomAbs_Plane:  # its normal across w
+            across = abs(a.Plane().Axis().Direction().Z())
+        elif kind == GeomAbs_Cylinder:  # its axis along w
+            across = 1.0 - abs(a.Cylinder().Axis().Direction().Z())
+        elif kind == GeomAbs_SurfaceOfExtrusion:  # extruded along w
+            across = 1.0 - abs(a.Direction().Z())
         else:
             return None
-        if abs(abs(nz) - 1.0) < 1e-12 and kind == GeomAbs_Plane:
-            caps.append((float(a.Plane().Location().Z()), f.normalAt().z > 0, f))
-        elif abs(nz) > 1e-12:
+        if across > 1e-12:
             return None
     if len(caps) != 2 or caps[0][1] == caps[1][1]:
         return None
@@ -127,11 +128,8 @@ def _loops(top: cq.Face) -> list[list[Any]] | None:
         for k, bs in enumerate(curves):
             bs.SetPole(1, starts[k])
             bs.SetPole(bs.NbPoles(), starts[(k + 1) % len(curves)])
-        pts = np.vstack([_points(bs, 24)[:-1] for bs in curves])
-        areas.append(
-            0.5
-            * float(np.sum(pts[:, 0] * np.roll(pts[:, 1], -1) - np.roll(pts[:, 0], -1) * pts[:, 1]))
-        )
+        x, y = np.vstack([_points(bs, 24)[:-1] for bs in curves])[:, :2].T
+        areas.append(0.5 * float(np.sum(x * np.roll(y, -1) - np.roll(x, -1) * y)))  # shoelace
         loops.append(curves)
     outer = int(np.argmax(np.abs(areas)))
     if areas[outer] < 0:
@@ -192,7 +190,8 @@ def _lift(flat: Any, caps: list[Any]) -> tuple[Any, Any]:
     for x, y in ((a, b), (b, a)):
         for i in range(1, y.NbKnots() + 1):
             x.InsertKnot(y.Knot(i), y.Multiplicity(i), 1e-12, False)
-    if a.NbPoles() != b.NbPoles():
+    knots = [[(x.Knot(i), x.Multiplicity(i)) for i in range(1, x.NbKnots() + 1)] for x in (a, b)]
+    if a.NbPoles() != b.NbPoles() or not np.allclose(knots[0], knots[1], rtol=0.0, atol=1e-12):
         raise NotLifted
     return a, b
 

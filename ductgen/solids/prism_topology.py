@@ -14,7 +14,8 @@ import cadquery as cq
 
 __all__ = ["NotLifted", "PrismBuilder", "ruled"]
 
-#: Tolerance (mm) of the new faces, edges and vertices before each edge is measured.
+#: Tolerance (mm) of the new faces, edges and vertices: every edge lies on its faces within
+#: the lift's tolerance (:data:`~ductgen.solids.prism_map.LIFT_TOL_MM`, 2e-8), below it.
 TOL_MM = 1e-7
 
 
