@@ -78,15 +78,11 @@ def _underside(m: trimesh.Trimesh, axis: str, radius: float) -> trimesh.Trimesh:
     ("sample", "axis", "radius"),
     [("round-cowling-vent", "streamwise", 320.0), ("kitcar-bonnet-intake", "spanwise", 1400.0)],
 )
-def test_jig_sits_on_the_skin_and_traces_the_opening(tmp_path, sample, axis, radius) -> None:  # type: ignore[no-untyped-def]
-    from ductgen.pipeline import build
-    from ductgen.spec.load import load_spec
-
-    spec = load_spec(ROOT / "samples" / f"{sample}.toml")
-    res = build(spec, tmp_path, only=["cutter", "jig"], cache=False)
+def test_jig_sits_on_the_skin_and_traces_the_opening(sample_builds, sample, axis, radius) -> None:  # type: ignore[no-untyped-def]
+    res, folder = sample_builds[sample]  # the sample built with every output
     facts = res.report["jig"]
     c = facts["clearance_mm"]
-    jig_m = trimesh.load(tmp_path / f"{sample}-jig.stl")
+    jig_m = trimesh.load(folder / f"{sample}-jig.stl")
     assert jig_m.is_watertight and jig_m.volume > 0
     # underside on the skin (offset by the clearance) within 0.1 mm: the cylinder's closed form
     underside = _underside(jig_m, axis, radius)
@@ -104,7 +100,7 @@ def test_jig_sits_on_the_skin_and_traces_the_opening(tmp_path, sample, axis, rad
     loops = trimesh.graph.connected_components(edges)
     assert len(loops) == 2
     rim = underside.vertices[min(loops, key=lambda ix: np.ptp(underside.vertices[ix][:, 1]))]
-    cutter = trimesh.load(tmp_path / f"{sample}-cutter.stl")
+    cutter = trimesh.load(folder / f"{sample}-cutter.stl")
     r = _cylinder_r(rim, axis, radius)
     centre = rim.copy()  # the foot of each point on the cylinder's axis
     centre[:, 1 if axis == "streamwise" else 0] = 0.0
@@ -130,24 +126,23 @@ def test_jig_sits_on_the_skin_and_traces_the_opening(tmp_path, sample, axis, rad
 
 
 @pytest.mark.slow
-def test_jig_pieces_partition_it_and_read_back(tmp_path) -> None:  # type: ignore[no-untyped-def]
+def test_jig_pieces_partition_it_and_read_back(sample_builds) -> None:  # type: ignore[no-untyped-def]
     from OCP.BRepCheck import BRepCheck_Analyzer
 
-    from ductgen.pipeline import build
     from ductgen.solids.cad_io import read_step
     from ductgen.spec.load import load_spec
 
     spec = load_spec(ROOT / "samples" / "kitcar-bonnet-intake.toml")
-    res = build(spec, tmp_path, only=["jig"], cache=False)
+    res, folder = sample_builds["kitcar-bonnet-intake"]  # built with every output
     facts = res.report["jig"]
     assert not facts["fits"] and len(facts["pieces"]) >= 2  # 300 mm long on a 220 mm bed
-    whole = trimesh.load(tmp_path / "kitcar-bonnet-intake-jig.stl")
-    parts = [trimesh.load(tmp_path / p["stl"]) for p in facts["pieces"]]
+    whole = trimesh.load(folder / "kitcar-bonnet-intake-jig.stl")
+    parts = [trimesh.load(folder / p["stl"]) for p in facts["pieces"]]
     assert all(p.is_watertight for p in parts)
     assert sum(p.volume for p in parts) == pytest.approx(whole.volume, rel=2e-3)
     assert all(p["fits"] for p in facts["pieces"])
     # the plate: every piece, its volume, lying on the bed (units stated: mm)
-    scene = trimesh.load(tmp_path / "kitcar-bonnet-intake-jig.3mf", file_type="3mf")
+    scene = trimesh.load(folder / "kitcar-bonnet-intake-jig.3mf", file_type="3mf")
     assert scene.units in ("millimeters", "mm", "millimeter")
     meshes = list(scene.dump())
     assert sorted(m.volume for m in meshes) == pytest.approx(
@@ -157,7 +152,7 @@ def test_jig_pieces_partition_it_and_read_back(tmp_path) -> None:  # type: ignor
         assert m.bounds[0][2] == pytest.approx(0.0, abs=1e-6)
         assert m.extents[2] < 4.0 + 0.2 + 10.0  # lying as on the skin, not standing up
     for name in ["kitcar-bonnet-intake-jig.step", *(p["step"] for p in facts["pieces"])]:
-        shape = read_step(tmp_path / name)
+        shape = read_step(folder / name)
         assert BRepCheck_Analyzer(shape.wrapped).IsValid()
         # every edge on its faces, read back (mapped face by face, 12-16 edges a piece lay
         # 1e-6 to 2e-4 mm off a face; the analyser with every mode on finds nothing either,
@@ -169,7 +164,7 @@ def test_jig_pieces_partition_it_and_read_back(tmp_path) -> None:  # type: ignor
     w0, w1 = facts["clearance_mm"], facts["clearance_mm"] + facts["thickness_mm"]
     area = _flat_jig_area(spec)
     closed = area * ((w1 - w0) + (w1**2 - w0**2) / (2.0 * 1400.0))
-    got = precise_volume(read_step(tmp_path / "kitcar-bonnet-intake-jig.step"))
+    got = precise_volume(read_step(folder / "kitcar-bonnet-intake-jig.step"))
     assert got == pytest.approx(closed, rel=2e-8)
 
 

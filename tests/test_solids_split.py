@@ -158,7 +158,7 @@ def test_a_draft_quality_split_writes_closed_pieces(tmp_path) -> None:  # type: 
 
 
 @pytest.mark.slow
-def test_piece_stls_stand_as_the_report_says(tmp_path) -> None:  # type: ignore[no-untyped-def]
+def test_piece_stls_stand_as_the_report_says(sample_builds) -> None:  # type: ignore[no-untyped-def]
     """Each ``NAME-insert-partK.stl`` stands on the bed as it prints (lowest point at z = 0),
     its ``up`` axis vertical: its height and its centroid's height equal the STEP piece's
     extent and centre of mass along that axis (the STEP, in model coordinates: the kernel's
@@ -166,19 +166,15 @@ def test_piece_stls_stand_as_the_report_says(tmp_path) -> None:  # type: ignore[
     import cadquery as cq
     import trimesh
 
-    from ductgen.pipeline import build
-    from ductgen.spec.load import load_spec
-
-    spec = load_spec(ROOT / "samples" / "round-cowling-vent.toml")
-    res = build(spec, tmp_path, only=["insert"], cache=False)
+    res, folder = sample_builds["round-cowling-vent"]  # built with every output
     entry = res.report["print"]["bed"]["insert"]
     assert entry["pieces"]
     for piece in entry["pieces"]:
-        stl = trimesh.load(tmp_path / piece["stl"])
+        stl = trimesh.load(folder / piece["stl"])
         assert stl.bounds[0][2] == pytest.approx(0.0, abs=1e-4)
         assert min(stl.bounds[0][:2]) == pytest.approx(0.0, abs=1e-4)
         axis, sign = "xyz".index(piece["up"][-1]), (-1.0 if piece["up"][0] == "-" else 1.0)
-        step = cq.importers.importStep(str(tmp_path / piece["step"])).val()
+        step = cq.importers.importStep(str(folder / piece["step"])).val()
         bb = step.BoundingBox()
         lo, hi = (bb.xmin, bb.ymin, bb.zmin)[axis], (bb.xmax, bb.ymax, bb.zmax)[axis]
         height = hi - lo

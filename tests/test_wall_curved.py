@@ -46,21 +46,20 @@ def _arc_widths(section: trimesh.path.Path3D, radius: float, depth: float) -> np
 
 
 @pytest.mark.slow
-def test_round_cowling_walls_are_never_thinner_than_the_design_wall(tmp_path) -> None:  # type: ignore[no-untyped-def]
+def test_round_cowling_walls_are_never_thinner_than_the_design_wall(sample_builds) -> None:  # type: ignore[no-untyped-def]
     # the round cowling: a 320 mm cylinder with its axis along the flow, insert wall 2.0 mm,
     # no edge round; across the straight throat (between the lip station and the throat
     # end) the side wall is a ring sector. Uncompensated it closes in to 2.0·(1 − d/R): 1.88
     # mm at 20 mm deep. Mounted behind, the wall is one design offset 2.0/(1 − D/R) for the
     # whole depth (D = drop + wall + 2 mm, where the wall body ends), so its arc at depth d
     # is 2.0·(1 − d/R)/(1 − D/R): 2.0 at D, thicker towards the skin, never thinner
-    from ductgen.pipeline import build
     from ductgen.spec.load import load_spec
 
     spec = load_spec(ROOT / "samples" / "round-cowling-vent.toml")
     assert spec.insert.wall == 2.0 and spec.planform.edge_radius == 0.0
-    res = build(spec, tmp_path, only=["insert"], cache=False)
+    res, folder = sample_builds["round-cowling-vent"]  # built with every output
     g = res.design.geometry
-    m = trimesh.load(tmp_path / "round-cowling-vent-insert.stl")
+    m = trimesh.load(folder / "round-cowling-vent-insert.stl")
     u0 = 0.5 * (g.length_mm + g.throat_end_mm)  # model x = u on this skin
     sec = m.section(plane_origin=[u0, 0, 0], plane_normal=[1, 0, 0])
     reach = g.drop_mm + 2.0 + 2.0
@@ -77,19 +76,18 @@ def test_round_cowling_walls_are_never_thinner_than_the_design_wall(tmp_path) ->
 
 
 @pytest.mark.slow
-def test_kitcar_min_wall_is_the_design_wall(tmp_path) -> None:  # type: ignore[no-untyped-def]
+def test_kitcar_min_wall_is_the_design_wall(sample_builds) -> None:  # type: ignore[no-untyped-def]
     # spurious 0.001 mm walls were found on the mapped mesh (slivers along bent edges)
-    from ductgen.pipeline import build
     from ductgen.printability import min_wall_mm
     from ductgen.spec.load import load_spec
 
     spec = load_spec(ROOT / "samples" / "kitcar-bonnet-intake.toml")
-    res = build(spec, tmp_path, only=["insert"], cache=False)
+    res, folder = sample_builds["kitcar-bonnet-intake"]  # built with every output
     assert res.report["print"]["min_wall_mm"] == pytest.approx(spec.insert.wall, abs=0.1)
     assert not any("thin" in w["code"] for w in res.report["warnings"])
     # a ray from every face of the written file, not the report's sample of 10 000: a
     # sliver strip along the spigot's bent seam once read a 0.012 mm wall there
-    m = trimesh.load(tmp_path / "kitcar-bonnet-intake-insert.stl")
+    m = trimesh.load(folder / "kitcar-bonnet-intake-insert.stl")
     every = min_wall_mm(m.vertices, m.faces, max_rays=len(m.faces))
     assert every["rays"] > 0.9 * len(m.faces)
     assert every["min_wall_mm"] == pytest.approx(spec.insert.wall, abs=0.1), every
