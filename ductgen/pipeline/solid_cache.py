@@ -119,8 +119,8 @@ class SolidStage:
         prefix: str,
         staging: Path,
         beside: Beside | None = None,
-        checked: Callable[[SolidResult], None] | None = None,
-        written: Callable[[SolidResult], None] | None = None,
+        checked: Told = None,
+        written: Told = None,
     ) -> dict[str, SolidResult]:
         """Per kind what :func:`ductgen.solids.jobs.build_solids` returns, its files staged.
         ``beside``: starts a job in the side worker (see :meth:`_build`); ``checked``:
@@ -199,7 +199,7 @@ class SolidStage:
         prefix: str,
         staging: Path,
         beside: Beside,
-        checked: Callable[[SolidResult], None] | None,
+        checked: Told,
     ) -> dict[str, SolidResult]:
         """The insert built here (cut with the cutter in ``flats``) and handed over: checked
         and its STL written ``beside`` while its STEP is written here (the same files as

@@ -83,7 +83,7 @@ def _run_curves(run: np.ndarray, levels: list[np.ndarray]) -> list[Any]:
     between two levels join images of the same outline point). Spans where a level departs
     too far are halved until none does: a few dozen poles on the samples' longest runs,
     fitted in milliseconds (the kernel's approximation took ~0.2 s a run and level)."""
-    from scipy.interpolate import make_lsq_spline
+    from scipy.interpolate import BSpline, make_lsq_spline
 
     s = np.r_[0.0, np.cumsum(np.hypot(*np.diff(run, axis=0).T))]
     s /= s[-1]
@@ -97,7 +97,7 @@ def _run_curves(run: np.ndarray, levels: list[np.ndarray]) -> list[Any]:
         except (ValueError, np.linalg.LinAlgError):
             break  # a span without points: no finer fit on these points
         poles[[0, -1]] = ys[[0, -1]]
-        fitted = _evaluate(knots, poles, s)
+        fitted = BSpline(knots, poles, 3)(s)
         off = np.max(np.linalg.norm((fitted - ys).reshape(len(s), -1, 3), axis=2), axis=1)
         if off.max() <= CUTOUT_TOL_MM:
             return [_edge(knots, poles[:, i : i + 3]) for i in range(0, ys.shape[1], 3)]
@@ -106,13 +106,6 @@ def _run_curves(run: np.ndarray, levels: list[np.ndarray]) -> list[Any]:
         bad = np.unique(np.clip(at, 0, len(edges) - 2))
         inner = np.sort(np.r_[inner, 0.5 * (edges[bad] + edges[bad + 1])])
     raise GeometryError("panel", "the insert's cut-out outline could not be fitted")
-
-
-def _evaluate(knots: np.ndarray, poles: np.ndarray, s: np.ndarray) -> np.ndarray:
-    """The cubic B-spline (``knots``, ``poles`` (n, m)) at the parameters ``s``."""
-    from scipy.interpolate import BSpline
-
-    return np.asarray(BSpline(knots, poles, 3)(s))
 
 
 def _edge(knots: np.ndarray, poles: np.ndarray) -> Any:
