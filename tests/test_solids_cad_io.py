@@ -196,16 +196,14 @@ def test_curved_step_files_have_no_c0_faces_nor_faces_crossing_themselves(
 @pytest.mark.slow
 def test_curved_cutters_and_plugs_have_their_edges_on_their_faces(sample_builds: dict) -> None:
     """The cutters and plugs of the curved and panel samples and the cut panel, read back:
-    their edges were rebuilt on the true intersection of their two fitted faces (not the
-    panel sample's cutter: its cut of the panel took twice as long), so the argument
-    analyser (every mode) finds nothing on the kitcar sample's plug, and nothing but a few
-    edges off their faces on the others: where two faces meet near-tangent at an edge's end
-    and a third face there makes the corner, or a short edge's new surface curve would cross
-    its neighbour's (that edge is kept as it was). An edge whose faces become tangent only at
-    its end is rebuilt (``solids/intersection.py``: four 180-230 mm edges of the kitcar and
-    round cowling cutters). The bounds are ratchets on the counts measured, not outside
-    values: the other cutters and plugs 14 findings (22 before the tangent ends, 90 before
-    any rebuild), the panel cutter 19, the cut panel 6 (17 before)."""
+    their edges were rebuilt on the true intersection of their two fitted faces, so the
+    argument analyser (every mode) finds nothing on the kitcar sample's plug, and nothing but
+    a few edges off their faces on the others: short edges at a corner where two of its
+    faces are tangent, whose new surface curve would cross its neighbour's (that edge is kept
+    as it was). An edge whose faces become tangent only at its end is rebuilt too
+    (``solids/intersection.py``). The bounds are ratchets on the counts measured, not
+    outside values: the six cutters and plugs 24 findings (41 before the tangent ends and
+    the panel cutter's rebuild, 109 before any rebuild), the cut panel 6 (17 before)."""
     found = {
         path.name: _analyser_findings(cq.importers.importStep(str(path)).val().wrapped)
         for kind in ("cutter", "plug", "panel")
@@ -216,9 +214,7 @@ def test_curved_cutters_and_plugs_have_their_edges_on_their_faces(sample_builds:
     assert {kind for f in found.values() for kind in f} <= {"BOPAlgo_InvalidCurveOnSurface"}
     panel = found.pop("kitcar-sidepod-cooler-panel.step")
     assert sum(panel.values()) <= 6, panel
-    panel_cutter = found.pop("kitcar-sidepod-cooler-cutter.step")
-    assert sum(panel_cutter.values()) <= 19, panel_cutter
-    assert sum(n for f in found.values() for n in f.values()) <= 14, found
+    assert sum(n for f in found.values() for n in f.values()) <= 24, found
 
 
 @pytest.mark.slow

@@ -349,10 +349,9 @@ def heal(
     (:func:`~ductgen.solids.tighten.tighten_edges`); on a mapped solid (curved skins, the
     user's panel) the same clears the edges where two independently fitted spline faces
     cross (read back, the kitcar sample's plug went from 14 findings to none, its cutter
-    from 14 to 8, for ~1.3-1.8 CPU s each). Off for a mapped insert (its ~100 rebuilt edges
-    took ~11 CPU s for 75 -> 18 findings), the marking jig (built with exact edges instead,
-    :mod:`ductgen.solids.prism_map`) and a panel's cutter (the panel's cut by it took twice
-    as long).
+    from 14 to 4, for ~1.3-1.8 CPU s each). Off for a mapped insert (its ~100 rebuilt edges
+    took ~11 CPU s for 75 -> 18 findings) and the marking jig (built with exact edges instead,
+    :mod:`ductgen.solids.prism_map`).
 
     ``fresh``: for a piece cut from a solid healed before, the test of the faces the cut
     made (the glue faces): steps 4 and 5 then look only at their edges. Every other edge is

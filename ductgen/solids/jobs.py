@@ -314,9 +314,10 @@ def write_step(d: Design, kind: str, solid: Any, base: str, staging: str) -> str
 
     step_name = f"{base}.step"
     # a mapped insert's ~100 rebuilt edges took ~11 CPU s (the kitcar sample), 10x its
-    # healing otherwise, for 75 -> 18 findings: not yet; nor a panel's cutter, whose rebuilt
-    # edges made the panel's cut by it twice as slow (a bonnet: 6.8 -> 13.2 s)
-    exact = d.skin.is_flat or kind == "plug" or (kind == "cutter" and d.panel_frame is None)
+    # healing otherwise, for 75 -> 18 findings: not yet. A panel's cutter is rebuilt since
+    # the panel is cut by the skin cut-out first (the side-pod sample: 19 -> 10 findings,
+    # ~0.6 CPU s; its panel's cut by the rebuilt cutter no slower, the same file)
+    exact = d.skin.is_flat or kind in ("plug", "cutter")
     data, healed = step_bytes_healed(solid, base, exact_edges=exact)
     write_atomic(Path(staging) / step_name, data)
     if kind == "insert" and d.skin.is_flat:
