@@ -62,3 +62,61 @@ def test_newton_reaches_an_intersection_where_its_surfaces_become_tangent() -> N
     assert np.allclose(y[1:], -lift / x[1:], rtol=1e-6, atol=1e-12)
     assert np.linalg.norm(pts[0] - x0[0]) <= 1e-6
     assert np.allclose(x, xs, atol=1e-9)
+
+
+def test_a_bspline_surface_evaluated_at_once_agrees_with_the_kernel() -> None:
+    """Points and first derivatives of a B-spline surface evaluated by SciPy's
+    tensor-product B-spline (many parameters at once) equal the CAD kernel's own evaluation
+    (``D1``, point by point) to 1e-9 mm, inside the surface and just beyond its ends (the
+    kernel extends its end spans there); a rational surface (a cylinder's B-spline form)
+    and a small batch are left to the kernel."""
+    import cadquery as cq
+    from OCP.BRepAdaptor import BRepAdaptor_Surface
+    from OCP.BRepBuilderAPI import BRepBuilderAPI_NurbsConvert
+    from OCP.gp import gp_Pnt, gp_Vec
+
+    from ductgen.solids.intersection import Surface
+
+    grid = [(x, y) for x in np.linspace(0.0, 60.0, 7) for y in np.linspace(-20.0, 20.0, 7)]
+    pts = [cq.Vector(x, y, 3.0 * np.sin(0.3 * x) * np.cos(0.2 * y)) for x, y in grid]
+    face = cq.Face.makeSplineApprox([pts[i : i + 7] for i in range(0, 49, 7)], tol=1e-3)
+    a = BRepAdaptor_Surface(face.wrapped)
+    s = Surface(a)
+    assert s._spline is not None  # evaluated by SciPy, not the kernel
+    u0, u1 = a.FirstUParameter(), a.LastUParameter()
+    v0, v1 = a.FirstVParameter(), a.LastVParameter()
+    rng = np.random.default_rng(7)
+    uv = np.column_stack(
+        [
+            rng.uniform(u0 - 0.02 * (u1 - u0), u1 + 0.02 * (u1 - u0), 200),
+            rng.uniform(v0 - 0.02 * (v1 - v0), v1 + 0.02 * (v1 - v0), 200),
+        ]
+    )
+    got = s.at(uv)
+    p, du, dv = gp_Pnt(), gp_Vec(), gp_Vec()
+    want = np.empty_like(got)
+    for i, (u, v) in enumerate(uv):
+        a.D1(float(u), float(v), p, du, dv)
+        want[i] = p.Coord(), du.Coord(), dv.Coord()
+    assert np.max(np.abs(got - want)) < 1e-9
+    assert np.max(np.abs(s.at(uv[:3]) - want[:3])) < 1e-9  # the kernel's own, for 3 points
+    cylinder = BRepBuilderAPI_NurbsConvert(cq.Solid.makeCylinder(5, 10).wrapped, True).Shape()
+    side = max(cq.Shape.cast(cylinder).Faces(), key=lambda f: f.Area())
+    assert Surface(BRepAdaptor_Surface(side.wrapped))._spline is None  # rational
+
+
+def test_knots_met_from_both_sides_of_a_sample_are_one() -> None:
+    """A surface knot met exactly at one of the samples along an edge is found from the
+    intervals on both sides of it: kept once, and put on the sample itself, so no two fitted
+    points coincide (two did, and the edge was left unbuilt: a 230 mm edge of the round
+    cowling's cutter)."""
+    from ductgen.solids.intersection import _apart
+    from ductgen.solids.tighten import _snapped
+
+    dense = np.linspace(0.0, 230.0, 65)
+    found = np.array([10.0, dense[32] - 1e-12, dense[32] + 2e-12, 200.0])
+    once = _apart(np.unique(found), 1e-9 * 230.0)
+    assert len(once) == 3
+    snapped = _snapped(once, dense, 1e-9 * 230.0)
+    assert snapped[1] == dense[32]
+    assert snapped[0] == 10.0 and snapped[2] == 200.0

@@ -203,7 +203,9 @@ def test_curved_cutters_and_plugs_have_their_edges_on_their_faces(sample_builds:
     as it was). An edge whose faces become tangent only at its end is rebuilt too
     (``solids/intersection.py``). The bounds are ratchets on the counts measured, not
     outside values: the six cutters and plugs 24 findings (41 before the tangent ends and
-    the panel cutter's rebuild, 109 before any rebuild), the cut panel 6 (17 before)."""
+    the panel cutter's rebuild, 109 before any rebuild). The cut panel is clean (17
+    findings before its rebuild, 2 while a surface knot met exactly at a sample of an edge
+    went unseen)."""
     found = {
         path.name: _analyser_findings(cq.importers.importStep(str(path)).val().wrapped)
         for kind in ("cutter", "plug", "panel")
@@ -212,8 +214,7 @@ def test_curved_cutters_and_plugs_have_their_edges_on_their_faces(sample_builds:
     assert len(found) == 7
     assert found["kitcar-bonnet-intake-plug.step"] == {}
     assert {kind for f in found.values() for kind in f} <= {"BOPAlgo_InvalidCurveOnSurface"}
-    panel = found.pop("kitcar-sidepod-cooler-panel.step")
-    assert sum(panel.values()) <= 6, panel
+    assert found.pop("kitcar-sidepod-cooler-panel.step") == {}
     assert sum(n for f in found.values() for n in f.values()) <= 24, found
 
 

@@ -48,9 +48,10 @@ class EdgeIntersection:
 
         self.c = BRepAdaptor_Curve(e)
         self.t0, self.t1 = self.c.FirstParameter(), self.c.LastParameter()
-        self.s = [BRepAdaptor_Surface(f) for f in faces]
+        adaptors = [BRepAdaptor_Surface(f) for f in faces]
+        self.s = [Surface(a) for a in adaptors]
         self.p = [BRepAdaptor_Curve2d(e, f) for f in faces]
-        self.knots = [_surface_knots(a) for a in self.s]
+        self.knots = [_surface_knots(a) for a in adaptors]
 
     def solve(self, ts: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
         """Points (N, 3) and parameters (N, 4) at the old-curve parameters ``ts``; None
@@ -79,7 +80,8 @@ class EdgeIntersection:
         for j in range(4):
             a, b = w[:-1, j], w[1:, j]
             for knot in self.knots[j // 2][j % 2]:
-                for i in np.nonzero((np.minimum(a, b) < knot) & (knot < np.maximum(a, b)))[0]:
+                # a knot met exactly at a sample counts too (once a side: merged later)
+                for i in np.nonzero((np.minimum(a, b) <= knot) & (knot <= np.maximum(a, b)))[0]:
                     col.append(j)
                     k.append(float(knot))
                     lo.append(float(ts[i]))
@@ -95,7 +97,8 @@ class EdgeIntersection:
             return np.zeros(0)
         fa, fb = ga[1][rows, col] - k, gb[1][rows, col] - k
         for _ in range(60):
-            c = (a * fb - b * fa) / (fb - fa)
+            same = fb == fa  # a row on its knot at both ends (both zero): it stays there
+            c = np.where(same, b, (a * fb - b * fa) / np.where(same, 1.0, fb - fa))
             got = self.solve(c)
             if got is None:
                 return np.zeros(0)
@@ -105,7 +108,7 @@ class EdgeIntersection:
             b, fb = c, fc
             if np.all((np.abs(fc) < 1e-12 * (1.0 + np.abs(k))) | (np.abs(b - a) < 1e-13)):
                 break
-        return np.unique(b)
+        return _apart(np.unique(b), 1e-9 * (self.t1 - self.t0))
 
     def fit(self, spans: int, crossings: np.ndarray, dense: np.ndarray, along: np.ndarray) -> Any:
         """(Geom_BSplineCurve, Geom2d_BSplineCurve, Geom2d_BSplineCurve) of degree
@@ -126,6 +129,65 @@ class EdgeIntersection:
         if s is None:
             return None
         return _bspline_curves(_knot_vector(t0, t1, spans, s[np.isin(ts, crossings)]), s, *got)
+
+
+class Surface:
+    """A face's surface evaluated at many parameters at once: a non-rational, non-periodic
+    B-spline surface by SciPy's tensor-product B-spline (its poles and knots; agrees with
+    the kernel to ~3e-12 mm on this project's mapped faces, ~4x faster at 65 points), any
+    other surface and small batches by the kernel (:func:`_evaluate`)."""
+
+    #: Fewer parameters than this go to the kernel (SciPy's ~70 µs a call is ~15 points').
+    BATCH = 16
+
+    def __init__(self, adaptor: Any) -> None:
+        self.adaptor = adaptor
+        self._spline = _scipy_spline(adaptor)
+
+    def at(self, uv: np.ndarray) -> np.ndarray:
+        """Points and first derivatives at (N, 2) parameters: (N, 3, 3) rows X, ∂X/∂u,
+        ∂X/∂v."""
+        if self._spline is None or len(uv) < self.BATCH:
+            return _evaluate(self.adaptor, uv)
+        return np.stack([self._spline(uv, nu=nu) for nu in ((0, 0), (1, 0), (0, 1))], axis=1)
+
+
+def _scipy_spline(a: Any) -> Any:
+    """SciPy's NdBSpline of the adaptor's surface when it is a non-rational, non-periodic
+    B-spline (as transformed by the face's location), else None."""
+    from OCP.GeomAbs import GeomAbs_BSplineSurface
+    from scipy.interpolate import NdBSpline
+
+    if a.GetType() != GeomAbs_BSplineSurface:
+        return None
+    b = a.BSpline()
+    if b.IsURational() or b.IsVRational() or b.IsUPeriodic() or b.IsVPeriodic():
+        return None
+    ku, kv = b.UKnotSequence(), b.VKnotSequence()
+    tu = np.array([ku.Value(i) for i in range(1, ku.Length() + 1)])
+    tv = np.array([kv.Value(i) for i in range(1, kv.Length() + 1)])
+    poles = np.array(
+        [
+            [b.Pole(i, j).Coord() for j in range(1, b.NbVPoles() + 1)]
+            for i in range(1, b.NbUPoles() + 1)
+        ]
+    )
+    return NdBSpline((tu, tv), poles, (b.UDegree(), b.VDegree()), extrapolate=True)
+
+
+def _at(s: Any, uv: np.ndarray) -> np.ndarray:
+    """:meth:`Surface.at`, or :func:`_evaluate` for a bare surface adaptor."""
+    return s.at(uv) if isinstance(s, Surface) else _evaluate(s, uv)
+
+
+def _apart(t: np.ndarray, gap: float) -> np.ndarray:
+    """The sorted values ``t`` with any closer than ``gap`` to the one kept before it
+    dropped (a knot met at a sample is found from both sides of it)."""
+    keep = [float(x) for x in t[:1]]
+    for x in t[1:]:
+        if x - keep[-1] > gap:
+            keep.append(float(x))
+    return np.array(keep)
 
 
 def _evaluate(s: Any, uv: np.ndarray) -> np.ndarray:
@@ -177,7 +239,7 @@ def _newton_pass(
     todo = np.arange(len(w))
     singular = np.zeros(len(w), dtype=bool)
     for _ in range(12):
-        a, b = _evaluate(s[0], w[todo, :2]), _evaluate(s[1], w[todo, 2:])
+        a, b = _at(s[0], w[todo, :2]), _at(s[1], w[todo, 2:])
         r = np.concatenate(
             [a[:, 0] - b[:, 0], np.einsum("ij,ij->i", tan[todo], a[:, 0] - x0[todo])[:, None]],
             axis=1,
@@ -242,7 +304,10 @@ def _steps(
 
 
 def _surface_knots(a: Any) -> tuple[np.ndarray, np.ndarray]:
-    """A face surface's knots in u and in v (none for analytic surfaces)."""
+    """A face surface's interior knots in u and in v (none for analytic surfaces). Not its
+    end knots: a surface curve along the surface's edge (an iso-line at its first or last
+    knot) wanders across that knot by the Newton solve's rounding (±4e-9 on a mapped
+    plug's 300 mm edge), and each such "crossing" would put a knot in the fit at random."""
     from OCP.GeomAbs import GeomAbs_BSplineCurve, GeomAbs_BSplineSurface
     from OCP.GeomAbs import GeomAbs_SurfaceOfExtrusion as Extrusion
 
@@ -250,12 +315,12 @@ def _surface_knots(a: Any) -> tuple[np.ndarray, np.ndarray]:
     if a.GetType() == GeomAbs_BSplineSurface:
         b = a.BSpline()
         return (
-            np.array([b.UKnot(i) for i in range(1, b.NbUKnots() + 1)]),
-            np.array([b.VKnot(i) for i in range(1, b.NbVKnots() + 1)]),
+            np.array([b.UKnot(i) for i in range(2, b.NbUKnots())]),
+            np.array([b.VKnot(i) for i in range(2, b.NbVKnots())]),
         )
     if a.GetType() == Extrusion and a.BasisCurve().GetType() == GeomAbs_BSplineCurve:
         b = a.BasisCurve().BSpline()
-        return np.array([b.Knot(i) for i in range(1, b.NbKnots() + 1)]), none
+        return np.array([b.Knot(i) for i in range(2, b.NbKnots())]), none
     return none, none
 
 
