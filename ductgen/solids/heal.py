@@ -350,7 +350,7 @@ def heal(
     user's panel) the same clears the edges where two independently fitted spline faces
     cross (read back, the kitcar sample's plug went from 14 findings to none, its cutter
     from 14 to 4, for ~1.3-1.8 CPU s each). Off for a mapped insert (its ~100 rebuilt edges
-    took ~11 CPU s for 75 -> 18 findings) and the marking jig (built with exact edges instead,
+    take ~8.5 CPU s more for 77 -> 4 findings) and the marking jig (built with exact edges instead,
     :mod:`ductgen.solids.prism_map`).
 
     ``fresh``: for a piece cut from a solid healed before, the test of the faces the cut

@@ -313,10 +313,11 @@ def write_step(d: Design, kind: str, solid: Any, base: str, staging: str) -> str
     from ductgen.solids.cad_io import step_bytes_healed
 
     step_name = f"{base}.step"
-    # a mapped insert's ~100 rebuilt edges took ~11 CPU s (the kitcar sample), 10x its
-    # healing otherwise, for 75 -> 18 findings: not yet. A panel's cutter is rebuilt since
+    # a mapped insert's ~100 rebuilt edges take ~8.5 CPU s more (the kitcar sample), 10x
+    # its healing otherwise, for 77 -> 4 findings: not yet. A panel's cutter is rebuilt since
     # the panel is cut by the skin cut-out first (the side-pod sample: 19 -> 10 findings,
-    # ~0.6 CPU s; its panel's cut by the rebuilt cutter no slower, the same file)
+    # ~0.6 CPU s; its panel's cut by the rebuilt cutter no slower, its removed volume the
+    # same to 1e-8)
     exact = d.skin.is_flat or kind in ("plug", "cutter")
     data, healed = step_bytes_healed(solid, base, exact_edges=exact)
     write_atomic(Path(staging) / step_name, data)
