@@ -42,12 +42,12 @@ def test_newton_reaches_an_intersection_where_its_surfaces_become_tangent() -> N
     from OCP.BRepBuilderAPI import BRepBuilderAPI_MakeFace
     from OCP.gp import gp_Dir, gp_Pln, gp_Pnt
 
-    from ductgen.solids.intersection import TOUCH_MM, _newton
+    from ductgen.solids.intersection import TOUCH_MM, Surface, _newton
 
     lift = 3e-9
     plane = BRepBuilderAPI_MakeFace(gp_Pln(gp_Pnt(0, 0, 0), gp_Dir(0, 0, 1)), -10, 10, -10, 10)
     saddle = BRepBuilderAPI_MakeFace(_saddle(lift), 1e-7)
-    s = [BRepAdaptor_Surface(cq.Face(f.Face()).wrapped) for f in (plane, saddle)]
+    s = [Surface(BRepAdaptor_Surface(cq.Face(f.Face()).wrapped)) for f in (plane, saddle)]
     xs = np.linspace(0.0, 5.0, 9)
     off = 1e-7  # the old edge, a little off the curve
     x0 = np.stack([xs, np.full(9, off), np.zeros(9)], axis=1)
@@ -110,8 +110,7 @@ def test_knots_met_from_both_sides_of_a_sample_are_one() -> None:
     intervals on both sides of it: kept once, and put on the sample itself, so no two fitted
     points coincide (two did, and the edge was left unbuilt: a 230 mm edge of the round
     cowling's cutter)."""
-    from ductgen.solids.intersection import _apart
-    from ductgen.solids.tighten import _snapped
+    from ductgen.solids.intersection import _apart, _snapped
 
     dense = np.linspace(0.0, 230.0, 65)
     found = np.array([10.0, dense[32] - 1e-12, dense[32] + 2e-12, 200.0])

@@ -75,7 +75,8 @@ class EdgeIntersection:
 
     def knot_crossings(self, ts: np.ndarray, w: np.ndarray) -> np.ndarray:
         """The old-curve parameters where the parameters ``w`` (N, 4) at ``ts`` cross a knot
-        of that face's surface, refined by the Illinois method to 1e-12 of the range."""
+        of that face's surface, refined by the Illinois method to 1e-12 of the range; a knot
+        met at a sample (found from both sides of it) is given once, as that sample."""
         col, k, lo, hi = [], [], [], []
         for j in range(4):
             a, b = w[:-1, j], w[1:, j]
@@ -88,7 +89,9 @@ class EdgeIntersection:
                     hi.append(float(ts[i + 1]))
         if not col:
             return np.zeros(0)
-        return self._illinois(np.array(col), np.array(k), np.array(lo), np.array(hi))
+        gap = 1e-9 * (self.t1 - self.t0)
+        found = self._illinois(np.array(col), np.array(k), np.array(lo), np.array(hi))
+        return _snapped(_apart(found, gap), ts, gap)
 
     def _illinois(self, col: np.ndarray, k: np.ndarray, a: np.ndarray, b: np.ndarray) -> np.ndarray:
         rows = np.arange(len(col))
@@ -108,7 +111,7 @@ class EdgeIntersection:
             b, fb = c, fc
             if np.all((np.abs(fc) < 1e-12 * (1.0 + np.abs(k))) | (np.abs(b - a) < 1e-13)):
                 break
-        return _apart(np.unique(b), 1e-9 * (self.t1 - self.t0))
+        return np.unique(b)
 
     def fit(self, spans: int, crossings: np.ndarray, dense: np.ndarray, along: np.ndarray) -> Any:
         """(Geom_BSplineCurve, Geom2d_BSplineCurve, Geom2d_BSplineCurve) of degree
@@ -175,11 +178,6 @@ def _scipy_spline(a: Any) -> Any:
     return NdBSpline((tu, tv), poles, (b.UDegree(), b.VDegree()), extrapolate=True)
 
 
-def _at(s: Any, uv: np.ndarray) -> np.ndarray:
-    """:meth:`Surface.at`, or :func:`_evaluate` for a bare surface adaptor."""
-    return s.at(uv) if isinstance(s, Surface) else _evaluate(s, uv)
-
-
 def _apart(t: np.ndarray, gap: float) -> np.ndarray:
     """The sorted values ``t`` with any closer than ``gap`` to the one kept before it
     dropped (a knot met at a sample is found from both sides of it)."""
@@ -188,6 +186,14 @@ def _apart(t: np.ndarray, gap: float) -> np.ndarray:
         if x - keep[-1] > gap:
             keep.append(float(x))
     return np.array(keep)
+
+
+def _snapped(t: np.ndarray, to: np.ndarray, within: float) -> np.ndarray:
+    """``t`` with each value within ``within`` of one of ``to`` replaced by it."""
+    if not len(t):
+        return t
+    nearest = to[np.argmin(np.abs(t[:, None] - to[None, :]), axis=1)]
+    return np.where(np.abs(nearest - t) <= within, nearest, t)
 
 
 def _evaluate(s: Any, uv: np.ndarray) -> np.ndarray:
@@ -214,7 +220,7 @@ def _evaluate(s: Any, uv: np.ndarray) -> np.ndarray:
     return out
 
 
-def _newton(s: list[Any], x0: np.ndarray, tan: np.ndarray, w: np.ndarray) -> Any:
+def _newton(s: list[Surface], x0: np.ndarray, tan: np.ndarray, w: np.ndarray) -> Any:
     """Newton's method for every row at once (see the module docstring): (points, w), or
     None when a row does not converge to 1e-11 mm within 12 steps or strays 1e-3 mm.
 
@@ -232,14 +238,14 @@ def _newton(s: list[Any], x0: np.ndarray, tan: np.ndarray, w: np.ndarray) -> Any
 
 
 def _newton_pass(
-    s: list[Any], x0: np.ndarray, tan: np.ndarray, w: np.ndarray, least_norm: bool
+    s: list[Surface], x0: np.ndarray, tan: np.ndarray, w: np.ndarray, least_norm: bool
 ) -> Any:
     w = w.copy()
     pts = np.empty_like(x0)
     todo = np.arange(len(w))
     singular = np.zeros(len(w), dtype=bool)
     for _ in range(12):
-        a, b = _at(s[0], w[todo, :2]), _at(s[1], w[todo, 2:])
+        a, b = s[0].at(w[todo, :2]), s[1].at(w[todo, 2:])
         r = np.concatenate(
             [a[:, 0] - b[:, 0], np.einsum("ij,ij->i", tan[todo], a[:, 0] - x0[todo])[:, None]],
             axis=1,

@@ -188,7 +188,6 @@ def _tighten(e: TopoDS_Edge, faces: list[TopoDS_Face], old: float) -> int:
     if got is None:
         return 0
     crossings = x.knot_crossings(dense, got[1])
-    crossings = _snapped(crossings, dense, 1e-9 * (x.t1 - x.t0))
     fresh = crossings[~np.isin(crossings, dense)]  # a knot met at a sample is there already
     extra = x.solve(fresh) if len(fresh) else (np.zeros((0, 3)), np.zeros((0, 4)))
     if extra is None:
@@ -209,14 +208,6 @@ def _tighten(e: TopoDS_Edge, faces: list[TopoDS_Face], old: float) -> int:
         if best is not None and best <= GOAL_MM:
             break
     return int(best is not None)
-
-
-def _snapped(t: np.ndarray, to: np.ndarray, within: float) -> np.ndarray:
-    """``t`` with each value within ``within`` of one of ``to`` replaced by it."""
-    if not len(t):
-        return t
-    nearest = to[np.argmin(np.abs(t[:, None] - to[None, :]), axis=1)]
-    return np.where(np.abs(nearest - t) <= within, nearest, t)
 
 
 def _try_curves(
