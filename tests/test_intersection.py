@@ -42,7 +42,8 @@ def test_newton_reaches_an_intersection_where_its_surfaces_become_tangent() -> N
     from OCP.BRepBuilderAPI import BRepBuilderAPI_MakeFace
     from OCP.gp import gp_Dir, gp_Pln, gp_Pnt
 
-    from ductgen.solids.intersection import TOUCH_MM, Surface, _newton
+    from ductgen.solids.batch_eval import Surface
+    from ductgen.solids.intersection import TOUCH_MM, _newton
 
     lift = 3e-9
     plane = BRepBuilderAPI_MakeFace(gp_Pln(gp_Pnt(0, 0, 0), gp_Dir(0, 0, 1)), -10, 10, -10, 10)
@@ -75,7 +76,7 @@ def test_a_bspline_surface_evaluated_at_once_agrees_with_the_kernel() -> None:
     from OCP.BRepBuilderAPI import BRepBuilderAPI_NurbsConvert
     from OCP.gp import gp_Pnt, gp_Vec
 
-    from ductgen.solids.intersection import Surface
+    from ductgen.solids.batch_eval import Surface
 
     grid = [(x, y) for x in np.linspace(0.0, 60.0, 7) for y in np.linspace(-20.0, 20.0, 7)]
     pts = [cq.Vector(x, y, 3.0 * np.sin(0.3 * x) * np.cos(0.2 * y)) for x, y in grid]
@@ -113,9 +114,10 @@ def test_knots_met_from_both_sides_of_a_sample_are_one() -> None:
     from ductgen.solids.intersection import _apart, _snapped
 
     dense = np.linspace(0.0, 230.0, 65)
-    found = np.array([10.0, dense[32] - 1e-12, dense[32] + 2e-12, 200.0])
-    once = _apart(np.unique(found), 1e-9 * 230.0)
+    found = np.array([200.0, dense[32] + 2e-12, 10.0, dense[32] - 1e-12])
+    once, mults = _apart(found, np.array([4, 3, 4, 4]), 1e-9 * 230.0)
     assert len(once) == 3
+    assert list(mults) == [4, 4, 4]  # the larger multiplicity of the two found
     snapped = _snapped(once, dense, 1e-9 * 230.0)
     assert snapped[1] == dense[32]
     assert snapped[0] == 10.0 and snapped[2] == 200.0

@@ -70,14 +70,16 @@ def exact_sections(w: TopoDS_Shape) -> int:
     from OCP.TopoDS import TopoDS
     from OCP.TopTools import TopTools_IndexedDataMapOfShapeListOfShape
 
+    from ductgen.solids.tighten import two_faces
+
     m = TopTools_IndexedDataMapOfShapeListOfShape()
     TopExp.MapShapesAndAncestors_s(w, TopAbs_EDGE, TopAbs_FACE, m)
     B = BRep_Builder()
     n_done = 0
     for i in range(1, m.Extent() + 1):
         e = TopoDS.Edge_s(m.FindKey(i))
-        faces = [TopoDS.Face_s(f) for f in m.FindFromIndex(i)]
-        if len(faces) != 2 or not e.Location().IsIdentity():
+        faces = two_faces(m.FindFromIndex(i))
+        if faces is None or not e.Location().IsIdentity():
             continue
         pair = _extrusion_and_plane(e, faces)
         if pair is None:

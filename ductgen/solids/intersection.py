@@ -8,7 +8,9 @@ edge's surface curves, all points at once (one linear solve per point and iterat
 :meth:`~EdgeIntersection.fit` gives a 3D curve and both surface curves on one knot vector
 and one parameter, the chord length along the exact points: so the three agree between the
 samples to the fit's accuracy, not merely at them. Where a surface curve crosses a knot of
-its surface, its second derivative may jump; the fit puts a C¹ knot there.
+its surface, a derivative may jump (the surface's continuity there); the fit puts a knot
+there that lets it. Surfaces and the old curves are evaluated a batch at a time
+(:mod:`ductgen.solids.batch_eval`).
 """
 
 from __future__ import annotations
@@ -17,6 +19,8 @@ import itertools
 from typing import TYPE_CHECKING, Any
 
 import numpy as np
+
+from ductgen.solids.batch_eval import Surface, batch_curve
 
 if TYPE_CHECKING:  # the kernel's bindings carry no type information
     from OCP.TopoDS import TopoDS_Edge, TopoDS_Face
@@ -52,10 +56,16 @@ class EdgeIntersection:
         self.s = [Surface(a) for a in adaptors]
         self.p = [BRepAdaptor_Curve2d(e, f) for f in faces]
         self.knots = [_surface_knots(a) for a in adaptors]
+        # the old curves a batch at a time when all three are plain B-splines (SciPy)
+        batch = [batch_curve(k) for k in (self.c, *self.p)]
+        self._batch = None if any(b is None for b in batch) else batch
 
-    def solve(self, ts: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
-        """Points (N, 3) and parameters (N, 4) at the old-curve parameters ``ts``; None
-        when Newton's method fails at one of them (surfaces that touch, not cross)."""
+    def _start(self, ts: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """The old curve's points and tangents (N, 3) and both surface curves' parameters
+        (N, 4) at ``ts``."""
+        if self._batch is not None:
+            c, p, q = self._batch
+            return c(ts), c(ts, nu=1), np.concatenate([p(ts), q(ts)], axis=1)
         from OCP.gp import gp_Pnt, gp_Vec
 
         n = len(ts)
@@ -67,125 +77,109 @@ class EdgeIntersection:
             tan[i] = V.X(), V.Y(), V.Z()
             a, b = self.p[0].Value(float(t)), self.p[1].Value(float(t))
             w[i] = a.X(), a.Y(), b.X(), b.Y()
+        return x0, tan, w
+
+    def solve(self, ts: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
+        """Points (N, 3) and parameters (N, 4) at the old-curve parameters ``ts``; None
+        when Newton's method fails at one of them (surfaces that touch, not cross)."""
+        x0, tan, w = self._start(np.asarray(ts, dtype=float))
         norm = np.linalg.norm(tan, axis=1)
         if np.any(norm < 1e-12):
             return None
         tan /= norm[:, None]
         return _newton(self.s, x0, tan, w)
 
-    def knot_crossings(self, ts: np.ndarray, w: np.ndarray) -> np.ndarray:
+    def knot_crossings(self, ts: np.ndarray, w: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """The old-curve parameters where the parameters ``w`` (N, 4) at ``ts`` cross a knot
-        of that face's surface, refined by the Illinois method to 1e-12 of the range; a knot
+        of that face's surface, refined by the Illinois method to 1e-12 of the range, and
+        the multiplicity each needs in the fitted curve (:func:`_surface_knots`); a knot
         met at a sample (found from both sides of it) is given once, as that sample."""
-        col, k, lo, hi = [], [], [], []
+        col, k, need, lo, hi = [], [], [], [], []
         for j in range(4):
             a, b = w[:-1, j], w[1:, j]
-            for knot in self.knots[j // 2][j % 2]:
+            for knot, mult in self.knots[j // 2][j % 2]:
                 # a knot met exactly at a sample counts too (once a side: merged later)
                 for i in np.nonzero((np.minimum(a, b) <= knot) & (knot <= np.maximum(a, b)))[0]:
                     col.append(j)
                     k.append(float(knot))
+                    need.append(int(mult))
                     lo.append(float(ts[i]))
                     hi.append(float(ts[i + 1]))
         if not col:
-            return np.zeros(0)
+            return np.zeros(0), np.zeros(0, dtype=int)
         gap = 1e-9 * (self.t1 - self.t0)
         found = self._illinois(np.array(col), np.array(k), np.array(lo), np.array(hi))
-        return _snapped(_apart(found, gap), ts, gap)
+        if found is None:
+            return np.zeros(0), np.zeros(0, dtype=int)
+        t, mults = _apart(found, np.array(need), gap)
+        return _snapped(t, ts, gap), mults
 
-    def _illinois(self, col: np.ndarray, k: np.ndarray, a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    def _illinois(
+        self, col: np.ndarray, k: np.ndarray, a: np.ndarray, b: np.ndarray
+    ) -> np.ndarray | None:
         rows = np.arange(len(col))
         ga, gb = self.solve(a), self.solve(b)
         if ga is None or gb is None:
-            return np.zeros(0)
+            return None
         fa, fb = ga[1][rows, col] - k, gb[1][rows, col] - k
         for _ in range(60):
             same = fb == fa  # a row on its knot at both ends (both zero): it stays there
             c = np.where(same, b, (a * fb - b * fa) / np.where(same, 1.0, fb - fa))
             got = self.solve(c)
             if got is None:
-                return np.zeros(0)
+                return None
             fc = got[1][rows, col] - k
             flip = fc * fb < 0
             a, fa = np.where(flip, b, a), np.where(flip, fb, 0.5 * fa)
             b, fb = c, fc
             if np.all((np.abs(fc) < 1e-12 * (1.0 + np.abs(k))) | (np.abs(b - a) < 1e-13)):
                 break
-        return np.unique(b)
+        return b
 
-    def fit(self, spans: int, crossings: np.ndarray, dense: np.ndarray, along: np.ndarray) -> Any:
+    def fit(
+        self,
+        spans: int,
+        crossings: tuple[np.ndarray, np.ndarray],
+        dense: np.ndarray,
+        along: np.ndarray,
+    ) -> Any:
         """(Geom_BSplineCurve, Geom2d_BSplineCurve, Geom2d_BSplineCurve) of degree
-        :data:`DEGREE` on ``spans`` uniform spans with a C¹ knot at each crossing, or None.
-        ``dense``/``along``: old parameters and their chord parameter, used to place
-        DEGREE + 5 samples in every knot span."""
+        :data:`DEGREE` on ``spans`` uniform spans with a knot at each crossing of the
+        multiplicity it needs (``crossings``: sorted parameters, multiplicities), or None.
+        ``dense``/``along``: old parameters (every crossing among them) and their chord
+        parameter, used to place DEGREE + 5 samples in every knot span."""
         t0, t1 = self.t0, self.t1
-        knots = _knot_vector(t0, t1, spans, along[np.isin(dense, crossings)])
+        at, mults = crossings
+        knots = _knot_vector(t0, t1, spans, along[np.isin(dense, at)], mults)
         inner = np.unique(knots)
         want = np.concatenate(
             [np.linspace(a, b, DEGREE + 6)[:-1] for a, b in itertools.pairwise(inner)]
         )
-        ts = np.union1d(np.interp(want, along, dense), np.append(crossings, [t0, t1]))
+        ts = np.union1d(np.interp(want, along, dense), np.append(at, [t0, t1]))
         got = self.solve(ts)
         if got is None:
             return None
         s = chord_parameter(got[0], t0, t1)
         if s is None:
             return None
-        return _bspline_curves(_knot_vector(t0, t1, spans, s[np.isin(ts, crossings)]), s, *got)
+        breaks = s[np.isin(ts, at)]
+        return _bspline_curves(_knot_vector(t0, t1, spans, breaks, mults), s, *got)
 
 
-class Surface:
-    """A face's surface evaluated at many parameters at once: a non-rational, non-periodic
-    B-spline surface by SciPy's tensor-product B-spline (its poles and knots; agrees with
-    the kernel to ~3e-12 mm on this project's mapped faces, ~4x faster at 65 points), any
-    other surface and small batches by the kernel (:func:`_evaluate`)."""
-
-    #: Fewer parameters than this go to the kernel (SciPy's ~70 µs a call is ~15 points').
-    BATCH = 16
-
-    def __init__(self, adaptor: Any) -> None:
-        self.adaptor = adaptor
-        self._spline = _scipy_spline(adaptor)
-
-    def at(self, uv: np.ndarray) -> np.ndarray:
-        """Points and first derivatives at (N, 2) parameters: (N, 3, 3) rows X, ∂X/∂u,
-        ∂X/∂v."""
-        if self._spline is None or len(uv) < self.BATCH:
-            return _evaluate(self.adaptor, uv)
-        return np.stack([self._spline(uv, nu=nu) for nu in ((0, 0), (1, 0), (0, 1))], axis=1)
-
-
-def _scipy_spline(a: Any) -> Any:
-    """SciPy's NdBSpline of the adaptor's surface when it is a non-rational, non-periodic
-    B-spline (as transformed by the face's location), else None."""
-    from OCP.GeomAbs import GeomAbs_BSplineSurface
-    from scipy.interpolate import NdBSpline
-
-    if a.GetType() != GeomAbs_BSplineSurface:
-        return None
-    b = a.BSpline()
-    if b.IsURational() or b.IsVRational() or b.IsUPeriodic() or b.IsVPeriodic():
-        return None
-    ku, kv = b.UKnotSequence(), b.VKnotSequence()
-    tu = np.array([ku.Value(i) for i in range(1, ku.Length() + 1)])
-    tv = np.array([kv.Value(i) for i in range(1, kv.Length() + 1)])
-    poles = np.array(
-        [
-            [b.Pole(i, j).Coord() for j in range(1, b.NbVPoles() + 1)]
-            for i in range(1, b.NbUPoles() + 1)
-        ]
-    )
-    return NdBSpline((tu, tv), poles, (b.UDegree(), b.VDegree()), extrapolate=True)
-
-
-def _apart(t: np.ndarray, gap: float) -> np.ndarray:
-    """The sorted values ``t`` with any closer than ``gap`` to the one kept before it
-    dropped (a knot met at a sample is found from both sides of it)."""
-    keep = [float(x) for x in t[:1]]
-    for x in t[1:]:
-        if x - keep[-1] > gap:
+def _apart(t: np.ndarray, mult: np.ndarray, gap: float) -> tuple[np.ndarray, np.ndarray]:
+    """The values ``t`` sorted, with any closer than ``gap`` to the one kept before it
+    dropped (a knot met at a sample is found from both sides of it), and each kept one's
+    largest multiplicity ``mult`` among those it stands for."""
+    order = np.argsort(t, kind="stable")
+    keep: list[float] = []
+    most: list[int] = []
+    for x, m in zip(t[order], mult[order], strict=True):
+        if keep and x - keep[-1] <= gap:
+            most[-1] = max(most[-1], int(m))
+        else:
             keep.append(float(x))
-    return np.array(keep)
+            most.append(int(m))
+    return np.array(keep), np.array(most, dtype=int)
 
 
 def _snapped(t: np.ndarray, to: np.ndarray, within: float) -> np.ndarray:
@@ -194,30 +188,6 @@ def _snapped(t: np.ndarray, to: np.ndarray, within: float) -> np.ndarray:
         return t
     nearest = to[np.argmin(np.abs(t[:, None] - to[None, :]), axis=1)]
     return np.where(np.abs(nearest - t) <= within, nearest, t)
-
-
-def _evaluate(s: Any, uv: np.ndarray) -> np.ndarray:
-    """Points and first derivatives of the surface adaptor ``s`` at (N, 2) parameters:
-    (N, 3, 3) rows X, ∂X/∂u, ∂X/∂v (a plane in closed form, other surfaces point by
-    point through the kernel)."""
-    from OCP.GeomAbs import GeomAbs_Plane
-    from OCP.gp import gp_Pnt, gp_Vec
-
-    out = np.empty((len(uv), 3, 3))
-    if s.GetType() == GeomAbs_Plane:
-        ax = s.Plane().Position()
-        o, xd, yd = (
-            np.array([v.X(), v.Y(), v.Z()])
-            for v in (ax.Location(), ax.XDirection(), ax.YDirection())
-        )
-        out[:, 0] = o + uv[:, :1] * xd + uv[:, 1:] * yd
-        out[:, 1], out[:, 2] = xd, yd
-        return out
-    p, du, dv = gp_Pnt(), gp_Vec(), gp_Vec()
-    for i, (u, v) in enumerate(uv):
-        s.D1(float(u), float(v), p, du, dv)
-        out[i] = (p.X(), p.Y(), p.Z()), (du.X(), du.Y(), du.Z()), (dv.X(), dv.Y(), dv.Z())
-    return out
 
 
 def _newton(s: list[Surface], x0: np.ndarray, tan: np.ndarray, w: np.ndarray) -> Any:
@@ -310,38 +280,52 @@ def _steps(
 
 
 def _surface_knots(a: Any) -> tuple[np.ndarray, np.ndarray]:
-    """A face surface's interior knots in u and in v (none for analytic surfaces). Not its
-    end knots: a surface curve along the surface's edge (an iso-line at its first or last
-    knot) wanders across that knot by the Newton solve's rounding (±4e-9 on a mapped
-    plug's 300 mm edge), and each such "crossing" would put a knot in the fit at random."""
+    """A face surface's interior knots in u and in v (none for analytic surfaces), each
+    (K, 2): the knot, and the multiplicity a curve fitted across it needs. Where the
+    surface is C^c (degree minus the knot's multiplicity) the intersection curve is C^c
+    too, so a knot of multiplicity DEGREE − c (at most DEGREE − 1: C¹) lets its fit follow;
+    a knot where the surface is C^DEGREE or smoother is left out. Not its end knots: a
+    surface curve along the surface's edge (an iso-line at its first or last knot) wanders
+    across that knot by the Newton solve's rounding (±4e-9 on a mapped plug's 300 mm
+    edge), and each such "crossing" would put a knot in the fit at random."""
     from OCP.GeomAbs import GeomAbs_BSplineCurve, GeomAbs_BSplineSurface
     from OCP.GeomAbs import GeomAbs_SurfaceOfExtrusion as Extrusion
 
-    none = np.zeros(0)
+    def needed(knots: list[float], mults: list[int], degree: int) -> np.ndarray:
+        need = [min(DEGREE - (degree - m), DEGREE - 1) for m in mults]
+        kept = [(k, n) for k, n in zip(knots, need, strict=True) if n > 0]
+        return np.array(kept, dtype=float).reshape(-1, 2)
+
+    none = np.zeros((0, 2))
     if a.GetType() == GeomAbs_BSplineSurface:
         b = a.BSpline()
+        iu, iv = range(2, b.NbUKnots()), range(2, b.NbVKnots())
         return (
-            np.array([b.UKnot(i) for i in range(2, b.NbUKnots())]),
-            np.array([b.VKnot(i) for i in range(2, b.NbVKnots())]),
+            needed([b.UKnot(i) for i in iu], [b.UMultiplicity(i) for i in iu], b.UDegree()),
+            needed([b.VKnot(i) for i in iv], [b.VMultiplicity(i) for i in iv], b.VDegree()),
         )
     if a.GetType() == Extrusion and a.BasisCurve().GetType() == GeomAbs_BSplineCurve:
         b = a.BasisCurve().BSpline()
-        return np.array([b.Knot(i) for i in range(2, b.NbKnots())]), none
+        ii = range(2, b.NbKnots())
+        return needed([b.Knot(i) for i in ii], [b.Multiplicity(i) for i in ii], b.Degree()), none
     return none, none
 
 
-def _knot_vector(t0: float, t1: float, spans: int, breaks: np.ndarray) -> np.ndarray:
+def _knot_vector(
+    t0: float, t1: float, spans: int, breaks: np.ndarray, mults: np.ndarray
+) -> np.ndarray:
     """Clamped knot vector of degree :data:`DEGREE` on [t0, t1]: ``spans`` uniform spans,
-    each break a knot of multiplicity DEGREE − 1 (C¹; uniform knots within a fifth of a
-    span of a break dropped)."""
+    each of the sorted ``breaks`` a knot of its multiplicity in ``mults`` (uniform knots
+    within a fifth of a span of a break dropped)."""
     h = (t1 - t0) / spans
     uni = np.linspace(t0, t1, spans + 1)[1:-1]
-    br = np.unique([b for b in breaks if t0 + 0.05 * h < b < t1 - 0.05 * h])
+    inside = (t0 + 0.05 * h < breaks) & (breaks < t1 - 0.05 * h)
+    br, m = _apart(breaks[inside], mults[inside], 0.0)
     if len(br) > 1:  # crossings a hair apart (two knots met at one point) are one break
-        br = br[np.concatenate([[True], np.diff(br) > 1e-6 * (t1 - t0)])]
+        br, m = _apart(br, m, 1e-6 * (t1 - t0))
     if len(br):
         uni = np.array([u for u in uni if np.min(np.abs(br - u)) > 0.2 * h])
-    inner = np.sort(np.concatenate([uni, *([br] * (DEGREE - 1))]))
+    inner = np.sort(np.concatenate([uni, np.repeat(br, m)]))
     return np.concatenate([[t0] * (DEGREE + 1), inner, [t1] * (DEGREE + 1)])
 
 

@@ -20,14 +20,16 @@ exact instead, as :mod:`ductgen.solids.edge_round` does).
 from __future__ import annotations
 
 from collections.abc import Callable
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING, Any, NamedTuple
 
 import numpy as np
+
+from ductgen.solids.deviation import Deviation, curve_on_face_deviation
 
 if TYPE_CHECKING:  # the kernel's bindings carry no type information
     from OCP.TopoDS import TopoDS_Edge, TopoDS_Face, TopoDS_Shape
 
-__all__ = ["GOAL_MM", "curve_on_face_deviation", "faces_where", "tighten_edges"]
+__all__ = ["GOAL_MM", "faces_where", "tighten_edges", "two_faces"]
 
 #: Deviation (mm) an edge is rebuilt to reach on both faces: below the 1e-7 mm a reader
 #: gives an exact edge, so its check finds nothing.
@@ -35,23 +37,6 @@ GOAL_MM = 2e-8
 
 #: Uniform spans of the refitted curves, tried in turn until the goal is met.
 SPANS = (8, 32, 128)
-
-
-def curve_on_face_deviation(e: TopoDS_Edge, f: TopoDS_Face) -> float:
-    """Largest distance (mm) between the edge's 3D curve and its surface curve on ``f``
-    mapped through the surface (the kernel's optimiser, as its checks measure it); inf
-    when the edge has no surface curve there."""
-    from OCP.Adaptor3d import Adaptor3d_CurveOnSurface
-    from OCP.BRepAdaptor import BRepAdaptor_Curve, BRepAdaptor_Curve2d, BRepAdaptor_Surface
-    from OCP.GeomLib import GeomLib_CheckCurveOnSurface
-
-    try:
-        c2 = BRepAdaptor_Curve2d(e, f)
-    except Exception:  # no surface curve (kernel exceptions share no base class)
-        return float("inf")
-    check = GeomLib_CheckCurveOnSurface(BRepAdaptor_Curve(e), 1e-9)
-    check.Perform(Adaptor3d_CurveOnSurface(c2, BRepAdaptor_Surface(f)))
-    return float(check.MaxDistance()) if check.IsDone() else float("inf")
 
 
 def tighten_edges(
@@ -73,16 +58,16 @@ def tighten_edges(
 
     m = TopTools_IndexedDataMapOfShapeListOfShape()
     TopExp.MapShapesAndAncestors_s(shape, TopAbs_EDGE, TopAbs_FACE, m)
-    done = 0
+    rebuilt: list[_Rebuilt] = []
     for i in range(1, m.Extent() + 1):
         e = TopoDS.Edge_s(m.FindKey(i))
         if only is not None and not any(e.IsSame(o) for o in only):
             continue
         if among is not None and not any(e.IsSame(o) for o in among):
             continue
-        faces = [TopoDS.Face_s(f) for f in m.FindFromIndex(i)]
+        faces = two_faces(m.FindFromIndex(i))
         if (
-            len(faces) != 2
+            faces is None
             or faces[0].IsSame(faces[1])
             or (only is None and BRep_Tool.Tolerance_s(e) <= above_mm)
             or BRep_Tool.Degenerated_s(e)
@@ -90,14 +75,27 @@ def tighten_edges(
             or any(BRep_Tool.IsClosed_s(e, f) for f in faces)
         ):
             continue
-        old = max(curve_on_face_deviation(e, f) for f in faces)
-        if old <= GOAL_MM:
+        old = Deviation(e, faces)
+        if not old.above(GOAL_MM):
             continue
+        put_back = _edge_state(e, faces, lower_vertices=False)
         try:
-            done += _kept_if_valid(e, faces, old)
+            if _tighten(e, faces, old) or _extrusion_iso(e, faces, old):
+                rebuilt.append(_Rebuilt(faces, put_back, _edge_state(e, faces, False)))
         except Exception:  # kernel exceptions share no base class: a failure here leaves
-            continue  # the edge as it was, and the analyser then sizes its tolerance
-    return done
+            put_back()  # the edge as it was, and the analyser then sizes its tolerance
+    return _kept_where_valid(rebuilt)
+
+
+def two_faces(ancestors: Any) -> list[TopoDS_Face] | None:
+    """An edge's two faces from its list of ancestor faces (``TopTools_ListOfShape``), in
+    the list's order; None when it holds another number. (Iterating the list from Python
+    costs ~0.2 ms, 60x its ends.)"""
+    from OCP.TopoDS import TopoDS
+
+    if ancestors.Extent() != 2:
+        return None
+    return [TopoDS.Face_s(ancestors.First()), TopoDS.Face_s(ancestors.Last())]
 
 
 def faces_where(
@@ -127,27 +125,52 @@ def faces_where(
     return faces, edges
 
 
-def _kept_if_valid(e: TopoDS_Edge, faces: list[TopoDS_Face], old: float) -> int:
-    """Rebuild ``e`` (:func:`_tighten`, else :func:`_extrusion_iso`): 1 if it was, and
-    both faces still pass the kernel's check. A new surface curve can cross a neighbour's
-    near their shared vertex, which leaves a self-intersecting wire (seen on a 6.6 mm edge
-    of a mapped spline cutter whose neighbours lay 4e-4 mm off): the edge is then put back
-    as it was, and the whole solid, which the caller's healing rejects when invalid, stays
-    valid."""
-    from OCP.BRepCheck import BRepCheck_Analyzer
+class _Rebuilt(NamedTuple):
+    """A rebuilt edge: its two faces, and functions that put its old and new curves
+    (:func:`_edge_state`) on it."""
 
-    put_back = _edge_state(e, faces)
-    if not (_tighten(e, faces, old) or _extrusion_iso(e, faces, old)):
-        return 0
-    if all(BRepCheck_Analyzer(f).IsValid() for f in faces):
-        return 1
-    put_back()
-    return 0
+    faces: list[TopoDS_Face]
+    old: Callable[[], None]
+    new: Callable[[], None]
 
 
-def _edge_state(e: TopoDS_Edge, faces: list[TopoDS_Face]) -> Callable[[], None]:
+def _kept_where_valid(rebuilt: list[_Rebuilt], valid: Callable[[Any], bool] | None = None) -> int:
+    """Keep the rebuilt edges whose faces pass the kernel's check; returns how many were
+    kept. A new surface curve can cross a neighbour's near their shared vertex, which
+    leaves a self-intersecting wire (seen on a 6.6 mm edge of a mapped spline cutter whose
+    neighbours lay 4e-4 mm off). Each face is checked once (a check costs ~3 ms); on a face
+    that fails, its rebuilt edges are put back and tried again one at a time, each kept
+    only if both its faces pass. The whole solid, which the caller's healing rejects when
+    invalid, stays valid. ``valid``: the check of a face (default the kernel's)."""
+    if valid is None:
+        from OCP.BRepCheck import BRepCheck_Analyzer
+
+        def valid(f: TopoDS_Face) -> bool:
+            return bool(BRepCheck_Analyzer(f).IsValid())
+
+    faces: list[TopoDS_Face] = []
+    for r in rebuilt:
+        faces.extend(f for f in r.faces if not any(f.IsSame(g) for g in faces))
+    bad = [f for f in faces if not valid(f)]
+    suspect = [r for r in rebuilt if any(f.IsSame(b) for f in r.faces for b in bad)]
+    for r in reversed(suspect):
+        r.old()
+    kept = len(rebuilt) - len(suspect)
+    for r in suspect:
+        r.new()
+        if all(valid(f) for f in r.faces):
+            kept += 1
+        else:
+            r.old()
+    return kept
+
+
+def _edge_state(
+    e: TopoDS_Edge, faces: list[TopoDS_Face], lower_vertices: bool = True
+) -> Callable[[], None]:
     """A function that puts the edge's 3D and surface curves, its range and the tolerances of
-    the edge and its vertices back as they are now."""
+    the edge and its vertices back as they are now. ``lower_vertices=False``: a vertex's
+    tolerance is only raised back (its other edges, rebuilt since, may need it)."""
     from OCP.BRep import BRep_Builder, BRep_Tool
     from OCP.BRepAdaptor import BRepAdaptor_Curve
     from OCP.ShapeFix import ShapeFix_ShapeTolerance
@@ -173,13 +196,15 @@ def _edge_state(e: TopoDS_Edge, faces: list[TopoDS_Face]) -> Callable[[], None]:
         fix = ShapeFix_ShapeTolerance()
         fix.SetTolerance(e, tol, TopAbs_EDGE)
         for v, tv in tol_v:
-            fix.SetTolerance(v, tv, TopAbs_VERTEX)
+            if lower_vertices or tv > BRep_Tool.Tolerance_s(v):
+                fix.SetTolerance(v, tv, TopAbs_VERTEX)
 
     return put_back
 
 
-def _tighten(e: TopoDS_Edge, faces: list[TopoDS_Face], old: float) -> int:
-    """Rebuild ``e`` on ``faces`` when that beats its deviation ``old`` (mm): 1 if it did."""
+def _tighten(e: TopoDS_Edge, faces: list[TopoDS_Face], old: Deviation) -> int:
+    """Rebuild ``e`` on ``faces`` when that beats its present deviation ``old``: 1 if it
+    did."""
     from ductgen.solids.intersection import EdgeIntersection, chord_parameter
 
     x = EdgeIntersection(e, faces)
@@ -188,7 +213,7 @@ def _tighten(e: TopoDS_Edge, faces: list[TopoDS_Face], old: float) -> int:
     if got is None:
         return 0
     crossings = x.knot_crossings(dense, got[1])
-    fresh = crossings[~np.isin(crossings, dense)]  # a knot met at a sample is there already
+    fresh = crossings[0][~np.isin(crossings[0], dense)]  # one met at a sample is there
     extra = x.solve(fresh) if len(fresh) else (np.zeros((0, 3)), np.zeros((0, 4)))
     if extra is None:
         return 0
@@ -202,7 +227,7 @@ def _tighten(e: TopoDS_Edge, faces: list[TopoDS_Face], old: float) -> int:
         curves = x.fit(spans, crossings, dense, along)
         if curves is None:
             break
-        new = _try_curves(e, faces, curves, old if best is None else best)
+        new = _try_curves(e, faces, curves, old if best is None else Deviation.known(best))
         if new is not None:
             best = new
         if best is not None and best <= GOAL_MM:
@@ -214,12 +239,12 @@ def _try_curves(
     e: TopoDS_Edge,
     faces: list[TopoDS_Face],
     curves: Any,
-    old: float,
+    old: Deviation,
     rng: tuple[float, float] | None = None,
 ) -> float | None:
     """Give ``e`` the new curves (over ``rng``, default its present range); keep them when
-    they lie closer than ``old`` (mm) on both faces and the vertices stay within 1e-3 mm:
-    the new deviation. Otherwise restore the edge's previous curves and return None."""
+    they lie closer than ``old`` on both faces and the vertices stay within 1e-3 mm: the
+    new deviation (mm). Otherwise restore the edge's previous curves and return None."""
     from OCP.BRep import BRep_Builder, BRep_Tool
     from OCP.BRepAdaptor import BRepAdaptor_Curve
     from OCP.ShapeFix import ShapeFix_ShapeTolerance
@@ -243,7 +268,7 @@ def _try_curves(
     v1, v2 = TopoDS_Vertex(), TopoDS_Vertex()
     TopExp.Vertices_s(e, v1, v2)
     gaps = [BRep_Tool.Pnt_s(v).Distance(c3.Value(t)) for v, t in ((v1, n0), (v2, n1))]
-    if new >= old or max(gaps) > 1e-3:
+    if not old.above(new) or max(gaps) > 1e-3:
         put_back()
         return None
     for v, gap in ((v1, gaps[0]), (v2, gaps[1])):
@@ -253,7 +278,7 @@ def _try_curves(
     return new
 
 
-def _extrusion_iso(e: TopoDS_Edge, faces: list[TopoDS_Face], old: float) -> int:
+def _extrusion_iso(e: TopoDS_Edge, faces: list[TopoDS_Face], old: Deviation) -> int:
     """An edge between two faces extruded along one direction D (the same surface split in
     two, which Newton's method cannot intersect), lying in a plane normal to D, is the
     extrusion's iso-line there: the basis curve moved along D, a straight line in each

@@ -1,0 +1,129 @@
+"""A face's surface and an edge's curves evaluated at many parameters at once (CAD kernel:
+runs in the kernel worker; mm): non-rational, non-periodic B-splines by SciPy's B-splines from
+their poles and knots (agreeing with the kernel to ~3e-12 mm on this project's mapped faces),
+anything else by the kernel point by point. Used by :mod:`ductgen.solids.intersection`.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+import numpy as np
+
+__all__ = ["Surface", "batch_curve"]
+
+
+class Surface:
+    """A face's surface evaluated at many parameters at once: a non-rational, non-periodic
+    B-spline surface by SciPy's tensor-product B-spline (its poles and knots; agrees with
+    the kernel to ~3e-12 mm on this project's mapped faces, ~4x faster at 65 points), any
+    other surface and small batches by the kernel (:func:`_evaluate`)."""
+
+    #: Fewer parameters than this go to the kernel (SciPy's ~70 µs a call is ~15 points').
+    BATCH = 16
+
+    def __init__(self, adaptor: Any) -> None:
+        self.adaptor = adaptor
+        self._spline = _spline_surface(adaptor)
+
+    def at(self, uv: np.ndarray) -> np.ndarray:
+        """Points and first derivatives at (N, 2) parameters: (N, 3, 3) rows X, ∂X/∂u,
+        ∂X/∂v."""
+        if self._spline is None or len(uv) < self.BATCH:
+            return _evaluate(self.adaptor, uv)
+        return np.stack([self._spline(uv, nu=nu) for nu in ((0, 0), (1, 0), (0, 1))], axis=1)
+
+
+def _spline_surface(a: Any) -> Any:
+    """SciPy's NdBSpline of the adaptor's surface when it is a non-rational, non-periodic
+    B-spline (as transformed by the face's location), the extrusion of such a curve
+    (:class:`_Extrusion`), else None."""
+    from OCP.GeomAbs import GeomAbs_BSplineSurface, GeomAbs_SurfaceOfExtrusion
+    from scipy.interpolate import NdBSpline
+
+    if a.GetType() == GeomAbs_SurfaceOfExtrusion:
+        return _Extrusion.of(a)
+    if a.GetType() != GeomAbs_BSplineSurface:
+        return None
+    b = a.BSpline()
+    if b.IsURational() or b.IsVRational() or b.IsUPeriodic() or b.IsVPeriodic():
+        return None
+    ku, kv = b.UKnotSequence(), b.VKnotSequence()
+    tu = np.array([ku.Value(i) for i in range(1, ku.Length() + 1)])
+    tv = np.array([kv.Value(i) for i in range(1, kv.Length() + 1)])
+    poles = np.array(
+        [
+            [b.Pole(i, j).Coord() for j in range(1, b.NbVPoles() + 1)]
+            for i in range(1, b.NbUPoles() + 1)
+        ]
+    )
+    return NdBSpline((tu, tv), poles, (b.UDegree(), b.VDegree()), extrapolate=True)
+
+
+class _Extrusion:
+    """A linear extrusion C(u) + v·D of a B-spline C, called like SciPy's NdBSpline."""
+
+    def __init__(self, c: Any, d: np.ndarray) -> None:
+        self.c, self.d = c, d
+
+    @classmethod
+    def of(cls, a: Any) -> _Extrusion | None:
+        """The extrusion of a surface adaptor whose basis curve is a non-rational,
+        non-periodic B-spline, on an unmoved face; else None."""
+        from OCP.gp import gp_TrsfForm
+
+        if a.Trsf().Form() != gp_TrsfForm.gp_Identity:
+            return None
+        c = batch_curve(a.BasisCurve())
+        if c is None:
+            return None
+        d = a.Direction()
+        return cls(c, np.array([d.X(), d.Y(), d.Z()]))
+
+    def __call__(self, uv: np.ndarray, nu: tuple[int, int] = (0, 0)) -> np.ndarray:
+        if nu == (0, 0):
+            return np.asarray(self.c(uv[:, 0])) + uv[:, 1:] * self.d
+        if nu == (1, 0):
+            return np.asarray(self.c(uv[:, 0], nu=1))
+        return np.broadcast_to(self.d, (len(uv), 3))
+
+
+def batch_curve(a: Any) -> Any:
+    """SciPy's BSpline of a curve adaptor (3D or on a surface) that is a non-rational,
+    non-periodic B-spline, else None."""
+    from OCP.GeomAbs import GeomAbs_BSplineCurve
+    from scipy.interpolate import BSpline
+
+    if a.GetType() != GeomAbs_BSplineCurve:
+        return None
+    b = a.BSpline()
+    if b.IsRational() or b.IsPeriodic():
+        return None
+    ks = b.KnotSequence()
+    t = np.array([ks.Value(i) for i in range(1, ks.Length() + 1)])
+    poles = np.array([b.Pole(i).Coord() for i in range(1, b.NbPoles() + 1)])
+    return BSpline(t, poles, b.Degree(), extrapolate=True)
+
+
+def _evaluate(s: Any, uv: np.ndarray) -> np.ndarray:
+    """Points and first derivatives of the surface adaptor ``s`` at (N, 2) parameters:
+    (N, 3, 3) rows X, ∂X/∂u, ∂X/∂v (a plane in closed form, other surfaces point by
+    point through the kernel)."""
+    from OCP.GeomAbs import GeomAbs_Plane
+    from OCP.gp import gp_Pnt, gp_Vec
+
+    out = np.empty((len(uv), 3, 3))
+    if s.GetType() == GeomAbs_Plane:
+        ax = s.Plane().Position()
+        o, xd, yd = (
+            np.array([v.X(), v.Y(), v.Z()])
+            for v in (ax.Location(), ax.XDirection(), ax.YDirection())
+        )
+        out[:, 0] = o + uv[:, :1] * xd + uv[:, 1:] * yd
+        out[:, 1], out[:, 2] = xd, yd
+        return out
+    p, du, dv = gp_Pnt(), gp_Vec(), gp_Vec()
+    for i, (u, v) in enumerate(uv):
+        s.D1(float(u), float(v), p, du, dv)
+        out[i] = (p.X(), p.Y(), p.Z()), (du.X(), du.Y(), du.Z()), (dv.X(), dv.Y(), dv.Z())
+    return out
