@@ -219,6 +219,28 @@ def test_curved_cutters_and_plugs_have_their_edges_on_their_faces(sample_builds:
 
 
 @pytest.mark.slow
+def test_a_fine_curved_build_lays_its_insert_edges_on_their_faces(tmp_path) -> None:  # type: ignore[no-untyped-def]
+    """``--quality fine`` rebuilds every edge of a mapped insert on the true intersection of
+    its two fitted faces, as every cutter and plug is: the kit-car insert and its pieces,
+    read back, then have 8 edges off a face (curve-on-surface mode; a normal build's have
+    77 on the insert and 101 on its three pieces). A ratchet on the count measured, not an
+    outside value."""
+    from ductgen.pipeline import build
+    from ductgen.spec import load_spec
+    from tests.conftest import ROOT
+
+    def findings(path) -> int:  # type: ignore[no-untyped-def]
+        shape = cq.importers.importStep(str(path)).val().wrapped
+        return sum(_analyser_findings(shape, ("CurveOnSurfaceMode",)).values())
+
+    spec = load_spec(ROOT / "samples" / "kitcar-bonnet-intake.toml")
+    build(spec, tmp_path, only=["insert"], quality="fine", cache=False)
+    fine = {p.name: findings(p) for p in sorted(tmp_path.glob("*insert*.step"))}
+    assert len(fine) == 4, fine  # the insert and its three pieces
+    assert sum(fine.values()) <= 8, fine
+
+
+@pytest.mark.slow
 def test_curved_jigs_have_their_edges_on_their_faces(sample_builds: dict) -> None:
     """Every marking jig file of the curved and panel samples (the whole jig and its
     bed-size pieces), read back, passes the analyser's curve-on-surface check: built on the

@@ -21,7 +21,14 @@ __all__ = [
 # Options more than one command takes, with one wording (typer reads them from annotations).
 QuietOption = Annotated[bool, typer.Option("--quiet", "-q", help="print nothing on success")]
 QualityOption = Annotated[
-    str, typer.Option("--quality", help="STL tessellation: draft | normal | fine")
+    str,
+    typer.Option(
+        "--quality",
+        help=(
+            "STL tessellation: draft | normal | fine"
+            " (fine also lays a curved insert's STEP edges on its faces)"
+        ),
+    ),
 ]
 NoCacheOption = Annotated[
     bool,

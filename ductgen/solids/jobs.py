@@ -32,6 +32,7 @@ __all__ = [
     "SolidRecipe",
     "build_solids",
     "cutter_mesh_job",
+    "exact_edges",
     "recipes",
     "warm_up",
     "write_step",
@@ -248,7 +249,7 @@ def _one_solid(
     if step:
         t0 = time.perf_counter()
         stage(f"{kind} STEP")
-        write_step(d, kind, solid, base, staging)
+        write_step(d, kind, solid, base, staging, exact_edges(d, kind, quality))
         times["step_s"] = time.perf_counter() - t0
     t0 = time.perf_counter()
     stage(f"{kind} STL")
@@ -304,21 +305,24 @@ def _checked(
     return res, design_mesh
 
 
-def write_step(d: Design, kind: str, solid: Any, base: str, staging: str) -> str:
-    """Write ``BASE.step`` (healed; edges laid exactly on their faces, see
-    :func:`~ductgen.solids.heal.heal`, except a mapped insert's) into ``staging``; returns its
+def exact_edges(d: Design, kind: str, quality: str) -> bool:
+    """Whether ``kind``'s STEP file gets every edge laid on its faces: always, except a
+    mapped insert (curved skin or the user's panel) below ``fine`` quality, whose cost is
+    measured in :func:`~ductgen.solids.heal.heal`'s ``exact_edges``."""
+    return d.skin.is_flat or kind != "insert" or quality == "fine"
+
+
+def write_step(
+    d: Design, kind: str, solid: Any, base: str, staging: str, exact: bool = True
+) -> str:
+    """Write ``BASE.step`` (healed; with ``exact``, edges laid exactly on their faces, see
+    :func:`~ductgen.solids.heal.heal` and :func:`exact_edges`) into ``staging``; returns its
     name. A flat insert is kept in memory for its split (a mapped one, on a curved skin or
     the user's panel, is read back from its file)."""
     from ductgen.atomic import write_atomic
     from ductgen.solids.cad_io import step_bytes_healed
 
     step_name = f"{base}.step"
-    # a mapped insert's ~100 rebuilt edges take ~8.5 CPU s more (the kitcar sample), 10x
-    # its healing otherwise, for 77 -> 4 findings: not yet. A panel's cutter is rebuilt since
-    # the panel is cut by the skin cut-out first (the side-pod sample: 19 -> 10 findings,
-    # ~0.6 CPU s; its panel's cut by the rebuilt cutter no slower, its removed volume the
-    # same to 1e-8)
-    exact = d.skin.is_flat or kind in ("plug", "cutter")
     data, healed = step_bytes_healed(solid, base, exact_edges=exact)
     write_atomic(Path(staging) / step_name, data)
     if kind == "insert" and d.skin.is_flat:

@@ -224,9 +224,10 @@ def split_insert_job(
     if frame is not None:
         whole, to_model = _into_frame(whole, frame)
     xs, pieces, meshes = _pieces_that_fit(whole, stations_x, bed, up, quality, by_planes)
-    # only a flat insert's edges are laid exactly on their faces (on mapped splines that
-    # cleared nothing the analyser flags, at a third of the split's CPU); its pieces are
-    # healed only where the cut made new faces (the whole was healed in memory before)
+    # only a flat insert's pieces get their edges laid exactly on their faces (on mapped
+    # splines that cleared nothing the analyser flags, at a third of the split's CPU; at
+    # fine quality the mapped insert's file has them, and its pieces keep them); a flat
+    # one's are healed only where the cut made new faces (the whole was healed in memory)
     heal_as = (by_planes, glue_faces(whole, xs) if by_planes and to_model is None else None)
     return [
         _stage_piece(
