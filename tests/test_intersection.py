@@ -121,3 +121,51 @@ def test_knots_met_from_both_sides_of_a_sample_are_one() -> None:
     snapped = _snapped(once, dense, 1e-9 * 230.0)
     assert snapped[1] == dense[32]
     assert snapped[0] == 10.0 and snapped[2] == 200.0
+
+
+def test_cylinders_and_moved_extrusions_evaluated_at_once_agree_with_the_kernel() -> None:
+    """A cylinder's closed form (O + r·(cos u·X + sin u·Y) + v·Z on its placed axes) and an
+    extruded spline wall moved by its face's location (rotated and shifted, as a placed
+    solid's faces are) give the kernel's points and first derivatives to 1e-9 mm."""
+    import cadquery as cq
+    from OCP.BRepAdaptor import BRepAdaptor_Surface
+    from OCP.GeomAbs import GeomAbs_Cylinder, GeomAbs_SurfaceOfExtrusion
+    from OCP.gp import gp_Pnt, gp_Vec
+
+    from ductgen.solids.batch_eval import Surface
+
+    wall = (
+        cq.Workplane("XY")
+        .spline([(0, 0), (20, 6), (40, 3), (60, 9)], includeCurrent=False)
+        .close()
+        .extrude(15.0)
+        .val()
+        .moved(cq.Location(cq.Vector(5.0, -7.0, 11.0), cq.Vector(1, 2, 3), 37.0))
+    )
+    assert not wall.Faces()[0].wrapped.Location().IsIdentity()  # moved, not rebuilt
+    tilted = cq.Solid.makeCylinder(4.0, 12.0, cq.Vector(1, 2, 3), cq.Vector(0.3, -0.5, 0.8))
+    faces = [
+        f
+        for f in [*wall.Faces(), *tilted.Faces()]
+        if BRepAdaptor_Surface(f.wrapped).GetType()
+        in (GeomAbs_Cylinder, GeomAbs_SurfaceOfExtrusion)
+    ]
+    kinds = {BRepAdaptor_Surface(f.wrapped).GetType() for f in faces}
+    assert kinds == {GeomAbs_Cylinder, GeomAbs_SurfaceOfExtrusion}
+    rng = np.random.default_rng(3)
+    for f in faces:
+        a = BRepAdaptor_Surface(f.wrapped)
+        s = Surface(a)
+        assert s._spline is not None  # evaluated at once, not point by point
+        uv = np.column_stack(
+            [
+                rng.uniform(a.FirstUParameter(), a.LastUParameter(), 50),
+                rng.uniform(a.FirstVParameter(), a.LastVParameter(), 50),
+            ]
+        )
+        p, du, dv = gp_Pnt(), gp_Vec(), gp_Vec()
+        want = np.empty((50, 3, 3))
+        for i, (u, v) in enumerate(uv):
+            a.D1(float(u), float(v), p, du, dv)
+            want[i] = p.Coord(), du.Coord(), dv.Coord()
+        assert np.max(np.abs(s.at(uv) - want)) < 1e-9

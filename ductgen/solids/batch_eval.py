@@ -1,6 +1,7 @@
 """A face's surface and an edge's curves evaluated at many parameters at once (CAD kernel:
 runs in the kernel worker; mm): non-rational, non-periodic B-splines by SciPy's B-splines from
 their poles and knots (agreeing with the kernel to ~3e-12 mm on this project's mapped faces),
+extrusions of such curves and cylinders in closed form (to ~3e-13 mm), planes in closed form,
 anything else by the kernel point by point. Used by :mod:`ductgen.solids.intersection`.
 """
 
@@ -37,10 +38,12 @@ class Surface:
 def _spline_surface(a: Any) -> Any:
     """SciPy's NdBSpline of the adaptor's surface when it is a non-rational, non-periodic
     B-spline (as transformed by the face's location), the extrusion of such a curve
-    (:class:`_Extrusion`), else None."""
-    from OCP.GeomAbs import GeomAbs_BSplineSurface, GeomAbs_SurfaceOfExtrusion
+    (:class:`_Extrusion`) or a cylinder (:class:`_Cylinder`), else None."""
+    from OCP.GeomAbs import GeomAbs_BSplineSurface, GeomAbs_Cylinder, GeomAbs_SurfaceOfExtrusion
     from scipy.interpolate import NdBSpline
 
+    if a.GetType() == GeomAbs_Cylinder:
+        return _Cylinder(a.Cylinder())
     if a.GetType() == GeomAbs_SurfaceOfExtrusion:
         return _Extrusion.of(a)
     if a.GetType() != GeomAbs_BSplineSurface:
@@ -61,31 +64,55 @@ def _spline_surface(a: Any) -> Any:
 
 
 class _Extrusion:
-    """A linear extrusion C(u) + v·D of a B-spline C, called like SciPy's NdBSpline."""
+    """A linear extrusion C(u) + v·D of a B-spline C, moved by the face's location (a
+    rotation R and a shift t: R·(C(u) + v·D) + t), called like SciPy's NdBSpline."""
 
-    def __init__(self, c: Any, d: np.ndarray) -> None:
-        self.c, self.d = c, d
+    def __init__(self, c: Any, d: np.ndarray, rot: np.ndarray, shift: np.ndarray) -> None:
+        self.c, self.d, self.rot, self.shift = c, d, rot, shift
 
     @classmethod
     def of(cls, a: Any) -> _Extrusion | None:
         """The extrusion of a surface adaptor whose basis curve is a non-rational,
-        non-periodic B-spline, on an unmoved face; else None."""
-        from OCP.gp import gp_TrsfForm
-
-        if a.Trsf().Form() != gp_TrsfForm.gp_Identity:
-            return None
-        c = batch_curve(a.BasisCurve())
+        non-periodic B-spline, else None."""
+        local = a.Surface()  # the surface in the face's own coordinates
+        c = batch_curve(local.BasisCurve())
         if c is None:
             return None
-        d = a.Direction()
-        return cls(c, np.array([d.X(), d.Y(), d.Z()]))
+        d = local.Direction()
+        t = a.Trsf()
+        if abs(t.ScaleFactor() - 1.0) > 1e-15:
+            return None
+        rot = np.array([[t.Value(i, j) for j in (1, 2, 3)] for i in (1, 2, 3)])
+        shift = np.array([t.Value(i, 4) for i in (1, 2, 3)])
+        return cls(c, np.array([d.X(), d.Y(), d.Z()]), rot, shift)
 
     def __call__(self, uv: np.ndarray, nu: tuple[int, int] = (0, 0)) -> np.ndarray:
         if nu == (0, 0):
-            return np.asarray(self.c(uv[:, 0])) + uv[:, 1:] * self.d
+            return (np.asarray(self.c(uv[:, 0])) + uv[:, 1:] * self.d) @ self.rot.T + self.shift
         if nu == (1, 0):
-            return np.asarray(self.c(uv[:, 0], nu=1))
-        return np.broadcast_to(self.d, (len(uv), 3))
+            return np.asarray(self.c(uv[:, 0], nu=1)) @ self.rot.T
+        return np.broadcast_to(self.rot @ self.d, (len(uv), 3))
+
+
+class _Cylinder:
+    """A cylinder O + r·(cos u·X + sin u·Y) + v·Z (its placed axes), called like SciPy's
+    NdBSpline."""
+
+    def __init__(self, cyl: Any) -> None:
+        ax = cyl.Position()
+        self.o, self.x, self.y, self.z = (
+            np.array([p.X(), p.Y(), p.Z()])
+            for p in (ax.Location(), ax.XDirection(), ax.YDirection(), ax.Direction())
+        )
+        self.r = cyl.Radius()
+
+    def __call__(self, uv: np.ndarray, nu: tuple[int, int] = (0, 0)) -> np.ndarray:
+        cu, su = np.cos(uv[:, :1]), np.sin(uv[:, :1])
+        if nu == (0, 0):
+            return self.o + self.r * (cu * self.x + su * self.y) + uv[:, 1:] * self.z
+        if nu == (1, 0):
+            return self.r * (cu * self.y - su * self.x)
+        return np.broadcast_to(self.z, (len(uv), 3))
 
 
 def batch_curve(a: Any) -> Any:
