@@ -65,6 +65,19 @@ def test_newton_reaches_an_intersection_where_its_surfaces_become_tangent() -> N
     assert np.allclose(x, xs, atol=1e-9)
 
 
+def _kernel_d1(a, uv: np.ndarray) -> np.ndarray:  # type: ignore[no-untyped-def]
+    """The kernel's points and first derivatives of the surface adaptor ``a`` at (N, 2)
+    parameters, point by point: (N, 3, 3) rows X, ∂X/∂u, ∂X/∂v."""
+    from OCP.gp import gp_Pnt, gp_Vec
+
+    p, du, dv = gp_Pnt(), gp_Vec(), gp_Vec()
+    out = np.empty((len(uv), 3, 3))
+    for i, (u, v) in enumerate(uv):
+        a.D1(float(u), float(v), p, du, dv)
+        out[i] = p.Coord(), du.Coord(), dv.Coord()
+    return out
+
+
 def test_a_bspline_surface_evaluated_at_once_agrees_with_the_kernel() -> None:
     """Points and first derivatives of a B-spline surface evaluated by SciPy's
     tensor-product B-spline (many parameters at once) equal the CAD kernel's own evaluation
@@ -74,7 +87,6 @@ def test_a_bspline_surface_evaluated_at_once_agrees_with_the_kernel() -> None:
     import cadquery as cq
     from OCP.BRepAdaptor import BRepAdaptor_Surface
     from OCP.BRepBuilderAPI import BRepBuilderAPI_NurbsConvert
-    from OCP.gp import gp_Pnt, gp_Vec
 
     from ductgen.solids.batch_eval import Surface
 
@@ -83,7 +95,7 @@ def test_a_bspline_surface_evaluated_at_once_agrees_with_the_kernel() -> None:
     face = cq.Face.makeSplineApprox([pts[i : i + 7] for i in range(0, 49, 7)], tol=1e-3)
     a = BRepAdaptor_Surface(face.wrapped)
     s = Surface(a)
-    assert s._spline is not None  # evaluated by SciPy, not the kernel
+    assert s._batch is not None  # evaluated by SciPy, not the kernel
     u0, u1 = a.FirstUParameter(), a.LastUParameter()
     v0, v1 = a.FirstVParameter(), a.LastVParameter()
     rng = np.random.default_rng(7)
@@ -94,16 +106,12 @@ def test_a_bspline_surface_evaluated_at_once_agrees_with_the_kernel() -> None:
         ]
     )
     got = s.at(uv)
-    p, du, dv = gp_Pnt(), gp_Vec(), gp_Vec()
-    want = np.empty_like(got)
-    for i, (u, v) in enumerate(uv):
-        a.D1(float(u), float(v), p, du, dv)
-        want[i] = p.Coord(), du.Coord(), dv.Coord()
+    want = _kernel_d1(a, uv)
     assert np.max(np.abs(got - want)) < 1e-9
     assert np.max(np.abs(s.at(uv[:3]) - want[:3])) < 1e-9  # the kernel's own, for 3 points
     cylinder = BRepBuilderAPI_NurbsConvert(cq.Solid.makeCylinder(5, 10).wrapped, True).Shape()
     side = max(cq.Shape.cast(cylinder).Faces(), key=lambda f: f.Area())
-    assert Surface(BRepAdaptor_Surface(side.wrapped))._spline is None  # rational
+    assert Surface(BRepAdaptor_Surface(side.wrapped))._batch is None  # rational
 
 
 def test_knots_met_from_both_sides_of_a_sample_are_one() -> None:
@@ -130,7 +138,6 @@ def test_cylinders_and_moved_extrusions_evaluated_at_once_agree_with_the_kernel(
     import cadquery as cq
     from OCP.BRepAdaptor import BRepAdaptor_Surface
     from OCP.GeomAbs import GeomAbs_Cylinder, GeomAbs_SurfaceOfExtrusion
-    from OCP.gp import gp_Pnt, gp_Vec
 
     from ductgen.solids.batch_eval import Surface
 
@@ -156,16 +163,11 @@ def test_cylinders_and_moved_extrusions_evaluated_at_once_agree_with_the_kernel(
     for f in faces:
         a = BRepAdaptor_Surface(f.wrapped)
         s = Surface(a)
-        assert s._spline is not None  # evaluated at once, not point by point
+        assert s._batch is not None  # evaluated at once, not point by point
         uv = np.column_stack(
             [
                 rng.uniform(a.FirstUParameter(), a.LastUParameter(), 50),
                 rng.uniform(a.FirstVParameter(), a.LastVParameter(), 50),
             ]
         )
-        p, du, dv = gp_Pnt(), gp_Vec(), gp_Vec()
-        want = np.empty((50, 3, 3))
-        for i, (u, v) in enumerate(uv):
-            a.D1(float(u), float(v), p, du, dv)
-            want[i] = p.Coord(), du.Coord(), dv.Coord()
-        assert np.max(np.abs(s.at(uv) - want)) < 1e-9
+        assert np.max(np.abs(s.at(uv) - _kernel_d1(a, uv))) < 1e-9

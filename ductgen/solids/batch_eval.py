@@ -17,7 +17,8 @@ __all__ = ["Surface", "batch_curve"]
 class Surface:
     """A face's surface evaluated at many parameters at once: a non-rational, non-periodic
     B-spline surface by SciPy's tensor-product B-spline (its poles and knots; agrees with
-    the kernel to ~3e-12 mm on this project's mapped faces, ~4x faster at 65 points), any
+    the kernel to ~3e-12 mm on this project's mapped faces, ~4x faster at 65 points), an
+    extrusion of such a curve and a cylinder in closed form (:func:`_batch_surface`), any
     other surface and small batches by the kernel (:func:`_evaluate`)."""
 
     #: Fewer parameters than this go to the kernel (SciPy's ~70 µs a call is ~15 points').
@@ -25,17 +26,17 @@ class Surface:
 
     def __init__(self, adaptor: Any) -> None:
         self.adaptor = adaptor
-        self._spline = _spline_surface(adaptor)
+        self._batch = _batch_surface(adaptor)
 
     def at(self, uv: np.ndarray) -> np.ndarray:
         """Points and first derivatives at (N, 2) parameters: (N, 3, 3) rows X, ∂X/∂u,
         ∂X/∂v."""
-        if self._spline is None or len(uv) < self.BATCH:
+        if self._batch is None or len(uv) < self.BATCH:
             return _evaluate(self.adaptor, uv)
-        return np.stack([self._spline(uv, nu=nu) for nu in ((0, 0), (1, 0), (0, 1))], axis=1)
+        return np.stack([self._batch(uv, nu=nu) for nu in ((0, 0), (1, 0), (0, 1))], axis=1)
 
 
-def _spline_surface(a: Any) -> Any:
+def _batch_surface(a: Any) -> Any:
     """SciPy's NdBSpline of the adaptor's surface when it is a non-rational, non-periodic
     B-spline (as transformed by the face's location), the extrusion of such a curve
     (:class:`_Extrusion`) or a cylinder (:class:`_Cylinder`), else None."""

@@ -4,7 +4,7 @@ cannot decide. Used by :mod:`ductgen.solids.tighten`."""
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
@@ -21,16 +21,23 @@ def curve_on_face_deviation(e: TopoDS_Edge, f: TopoDS_Face) -> float:
     """Largest distance (mm) between the edge's 3D curve and its surface curve on ``f``
     mapped through the surface (the kernel's optimiser, as its checks measure it); inf
     when the edge has no surface curve there."""
-    from OCP.Adaptor3d import Adaptor3d_CurveOnSurface
     from OCP.BRepAdaptor import BRepAdaptor_Curve, BRepAdaptor_Curve2d, BRepAdaptor_Surface
-    from OCP.GeomLib import GeomLib_CheckCurveOnSurface
 
     try:
         c2 = BRepAdaptor_Curve2d(e, f)
     except Exception:  # no surface curve (kernel exceptions share no base class)
         return float("inf")
-    check = GeomLib_CheckCurveOnSurface(BRepAdaptor_Curve(e), 1e-9)
-    check.Perform(Adaptor3d_CurveOnSurface(c2, BRepAdaptor_Surface(f)))
+    return _measured(BRepAdaptor_Curve(e), c2, BRepAdaptor_Surface(f))
+
+
+def _measured(curve: Any, on: Any, surface: Any) -> float:
+    """The kernel's optimiser's largest distance (mm) between a 3D curve adaptor and a
+    surface curve adaptor mapped through a surface adaptor; inf when it fails."""
+    from OCP.Adaptor3d import Adaptor3d_CurveOnSurface
+    from OCP.GeomLib import GeomLib_CheckCurveOnSurface
+
+    check = GeomLib_CheckCurveOnSurface(curve, 1e-9)
+    check.Perform(Adaptor3d_CurveOnSurface(on, surface))
     return float(check.MaxDistance()) if check.IsDone() else float("inf")
 
 
@@ -73,15 +80,7 @@ class Deviation:
         """The kernel's measure (mm), as :func:`curve_on_face_deviation` on the edge as it
         was."""
         if self._exact is None:
-            from OCP.Adaptor3d import Adaptor3d_CurveOnSurface
-            from OCP.GeomLib import GeomLib_CheckCurveOnSurface
-
-            worst = 0.0
-            for k, s in self._on:
-                check = GeomLib_CheckCurveOnSurface(self._curve, 1e-9)
-                check.Perform(Adaptor3d_CurveOnSurface(k, s))
-                worst = max(worst, float(check.MaxDistance()) if check.IsDone() else np.inf)
-            self._exact = worst
+            self._exact = max(_measured(self._curve, k, s) for k, s in self._on)
         return self._exact
 
     def above(self, x: float) -> bool:

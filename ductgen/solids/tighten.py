@@ -81,7 +81,9 @@ def tighten_edges(
         put_back = _edge_state(e, faces, lower_vertices=False)
         try:
             if _tighten(e, faces, old) or _extrusion_iso(e, faces, old):
-                rebuilt.append(_Rebuilt(faces, put_back, _edge_state(e, faces, False)))
+                rebuilt.append(
+                    _Rebuilt(faces, put_back, _edge_state(e, faces, lower_vertices=False))
+                )
         except Exception:  # kernel exceptions share no base class: a failure here leaves
             put_back()  # the edge as it was, and the analyser then sizes its tolerance
     return _kept_where_valid(rebuilt)
