@@ -5,6 +5,7 @@ published."""
 
 from __future__ import annotations
 
+import dataclasses
 from pathlib import Path
 
 import pytest
@@ -136,11 +137,15 @@ def test_solids_beside_raise_the_first_kinds_error(
 
     from ductgen.design import build_design
     from ductgen.pipeline.solid_cache import SolidStage
+    from ductgen.solids.handoff import insert_bodies_job
 
     design = build_design(parse_spec({"name": "tt", "throat": {"width": 80, "depth": 20}}))
 
-    def beside(_job: object, *args: object) -> Future[object]:
+    def beside(job: object, *args: object, picture: bool = True) -> Future[object]:
         done: Future[object] = Future()
+        if job is insert_bodies_job:  # the insert's outer body, made beside
+            done.set_result(b"bodies (test)")
+            return done
         stage = check if args[1] == ["insert"] else side
         if stage is None:
             done.set_result({})
@@ -152,6 +157,60 @@ def test_solids_beside_raise_the_first_kinds_error(
     with pytest.raises(GeometryError) as err:
         stage.solids(["cutter", "insert", "plug"], "tt", Path("."), beside)
     assert err.value.stage == raised
+
+
+@dataclasses.dataclass(frozen=True)
+class _Made:
+    """A stand-in for a kind's result (the build adds its own seconds to it)."""
+
+    seconds: dict[str, float]
+
+
+@pytest.mark.parametrize("bodies_fail", [False, True])
+def test_the_insert_takes_its_outer_body_made_beside(bodies_fail: bool) -> None:
+    """On a flat skin the side worker makes the insert's outer body while the kernel worker
+    builds the cutter, and the insert's job gets it with the cutter; when that job failed,
+    the insert's job gets the cutter alone (it makes the body itself, and raises the error
+    itself if it fails again). The side worker's other jobs never see the body."""
+    from concurrent.futures import Future
+
+    from ductgen.design import build_design
+    from ductgen.pipeline.solid_cache import SolidStage
+    from ductgen.solids.handoff import flat_solid_job, insert_bodies_job
+    from ductgen.solids.jobs import build_solids
+    from ductgen.solids.kinds import INSERT_BODIES
+
+    design = build_design(parse_spec({"name": "tt", "throat": {"width": 80, "depth": 20}}))
+    flats_seen: list[dict[str, bytes]] = []
+
+    class _Worker:  # the kernel worker: the cutter, the insert, then the insert's STEP
+        def run(self, job: object, *args: object) -> object:
+            if job is flat_solid_job:
+                if args[1] == "insert":
+                    flats_seen.append(dict(args[2]))  # type: ignore[call-overload]
+                return f"{args[1]} (test)".encode()
+            return {"step_s": 0.0}
+
+    def beside(job: object, *args: object, picture: bool = True) -> Future[object]:
+        done: Future[object] = Future()
+        if job is insert_bodies_job:
+            assert not picture  # not the job after which the drawing stack is imported
+            if bodies_fail:
+                done.set_exception(GeometryError("insert", "failed (test)"))
+            else:
+                done.set_result(b"bodies (test)")
+        else:
+            assert job is build_solids and INSERT_BODIES not in (args[5] or {})  # type: ignore[operator]
+            done.set_result({k: _Made({}) for k in args[1]})  # type: ignore[attr-defined]
+        return done
+
+    stage = SolidStage(None, design, "normal", _Worker())  # type: ignore[arg-type]
+    got = stage.solids(["cutter", "insert", "plug"], "tt", Path("."), beside)
+    assert list(got) == ["cutter", "insert", "plug"]
+    want = {"cutter": b"cutter (test)"}
+    if not bodies_fail:
+        want[INSERT_BODIES] = b"bodies (test)"
+    assert flats_seen == [want]
 
 
 def test_work_started_once_runs_once_from_any_thread() -> None:

@@ -86,12 +86,12 @@ class Ahead:
         """:meth:`start` of ``worker.run(job, *args)`` (``stops=worker``)."""
         return self.start(name, worker.run, job, *args, stops=worker)
 
-    def side_job(self, job: Any, *args: Any) -> Future[Any]:
+    def side_job(self, job: Any, *args: Any, picture: bool = True) -> Future[Any]:
         """``job(*args)`` started in the side worker (the solids' stage); when the build
         draws a picture (:attr:`picture_wanted`), the side worker imports the drawing stack
-        as soon as the first such job is done (while the kernel worker still works on the
-        insert)."""
-        first = "side solids" not in self.futures
+        as soon as the first such job with ``picture`` True is done (the cutter's and the
+        plug's, while the kernel worker still works on the insert)."""
+        first = picture and "side solids" not in self.futures
         fut = self.run_in(
             "side solids" if first else f"side solids {len(self.futures)}", self.side(), job, *args
         )

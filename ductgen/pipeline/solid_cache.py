@@ -28,8 +28,9 @@ from ductgen.cache import Cache, Entry, fingerprint, kernel_versions, source_fin
 from ductgen.design import Design
 from ductgen.design.identity import design_fields
 from ductgen.errors import DuctgenError
-from ductgen.solids.handoff import flat_solid_job, step_solid_job
+from ductgen.solids.handoff import flat_solid_job, insert_bodies_job, step_solid_job
 from ductgen.solids.jobs import build_solids
+from ductgen.solids.kinds import INSERT_BODIES
 from ductgen.solids.results import InsertPiece, Mesh, SolidResult
 from ductgen.solids.split import split_insert_job
 from ductgen.solids.step_text import stamp_step
@@ -160,8 +161,9 @@ class SolidStage:
     ) -> dict[str, SolidResult]:
         """Build ``kinds`` in the kernel worker; with ``beside`` and the insert among other
         kinds, the others are finished in the side worker meanwhile: the kernel worker
-        builds the cutter in design coordinates first (the insert is cut with it), hands it
-        over as a binary B-rep (:func:`~ductgen.solids.handoff.flat_solid_job`) and builds the
+        builds the cutter in design coordinates first (the insert is cut with it; on a flat
+        skin the side worker makes the insert's outer body meanwhile), hands it over as a
+        binary B-rep (:func:`~ductgen.solids.handoff.flat_solid_job`) and builds the
         insert, which on a flat skin it hands over too (:meth:`_insert_beside`), writes as
         STEP and splits next from the shape it keeps; the side worker checks and writes the
         cutter, builds the plug, and on a flat skin checks the insert and writes its STL
@@ -174,13 +176,16 @@ class SolidStage:
         others = [k for k in kinds if k != "insert"]
         if beside is None or "insert" not in kinds or not others:
             return self.worker.run(build_solids, self.design, kinds, *args)
+        flat_skin = self.design.skin.is_flat
+        # the insert's outer body, made beside while the cutter is built here
+        bodies = beside(insert_bodies_job, self.design, picture=False) if flat_skin else None
         flats = {}
         if "cutter" in others:
             flats["cutter"] = self.worker.run(flat_solid_job, self.design, "cutter")
         side = beside(build_solids, self.design, others, *args, flats)
         try:
-            if self.design.skin.is_flat:
-                main = self._insert_beside(flats, prefix, staging, beside, checked)
+            if bodies is not None:
+                main = self._insert_beside(flats, bodies, prefix, staging, beside, checked)
             else:  # placing a mapped insert takes seconds: once, here
                 main = self.worker.run(build_solids, self.design, ["insert"], *args, flats)
             if written is not None:
@@ -196,16 +201,21 @@ class SolidStage:
     def _insert_beside(
         self,
         flats: dict[str, bytes],
+        bodies: Future[bytes],
         prefix: str,
         staging: Path,
         beside: Beside,
         checked: Told,
     ) -> dict[str, SolidResult]:
-        """The insert built here (cut with the cutter in ``flats``) and handed over: checked
-        and its STL written ``beside`` while its STEP is written here (the same files as
-        :func:`~ductgen.solids.jobs.build_solids` makes alone; a failed check is raised
-        first, as there)."""
+        """The insert built here (cut with the cutter in ``flats`` from the outer body
+        made ``bodies`` beside, :func:`~ductgen.solids.handoff.insert_bodies_job`) and
+        handed over: checked and its STL written ``beside`` while its STEP is written here
+        (the same files as :func:`~ductgen.solids.jobs.build_solids` makes alone; a failed
+        check is raised first, as there). Should ``bodies`` have failed, the insert's job
+        makes them again and raises that error itself, naming its stage."""
         t0 = time.perf_counter()
+        if bodies.exception() is None:
+            flats = {**flats, INSERT_BODIES: bodies.result()}
         flat = self.worker.run(flat_solid_job, self.design, "insert", flats)
         seconds = {"build_s": time.perf_counter() - t0}
         args = (self.quality, prefix, str(staging))

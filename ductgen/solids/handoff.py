@@ -1,8 +1,9 @@
 """A solid handed from one kernel worker to another: built in design coordinates, written
 as the kernel's binary B-rep (every number to the bit, so the other worker's files are the
 same bytes), opaque bytes to the parent, which never loads the kernel. A build's kernel
-worker builds the cutter, hands it to the side worker to check and write, and cuts the
-insert with it; then hands the insert over to be checked and its STL written while it
+worker builds the cutter while the side worker makes the insert's outer body
+(:func:`insert_bodies_job`), hands the cutter to the side worker to check and write, and cuts
+the insert with it; then hands the insert over to be checked and its STL written while it
 writes the insert's STEP (:meth:`ductgen.pipeline.solid_cache.SolidStage.solids`).
 """
 
@@ -13,12 +14,14 @@ from typing import Any
 from ductgen.design import Design
 from ductgen.worker import stage
 
-__all__ = ["flat_solid_job", "step_solid_job"]
+__all__ = ["flat_solid_job", "insert_bodies_job", "step_solid_job"]
 
 
 def flat_solid_job(d: Design, kind: str, flats: dict[str, bytes] | None = None) -> bytes:
     """Kernel-worker job: one kind built in design coordinates, as a binary B-rep;
-    ``flats``: the kinds it needs built already (the insert its cutter), as binary B-reps."""
+    ``flats``: the kinds it needs built already (the insert its cutter), and for the insert
+    possibly its :func:`insert_bodies_job` (under
+    :data:`~ductgen.solids.kinds.INSERT_BODIES`), as binary B-reps."""
     from io import BytesIO
 
     import cadquery as cq
@@ -29,6 +32,24 @@ def flat_solid_job(d: Design, kind: str, flats: dict[str, bytes] | None = None) 
     built = {k: cq.Shape.importBin(BytesIO(b)) for k, b in (flats or {}).items()}
     buf = BytesIO()
     recipes()[kind].build(d, built).exportBin(buf)
+    return buf.getvalue()
+
+
+def insert_bodies_job(d: Design) -> bytes:
+    """Kernel-worker job: the insert's outer body and the inner-body pieces that are not
+    the cutter (:func:`~ductgen.solids.insert.insert_bodies`), in design coordinates, as
+    one binary B-rep compound (the outer body first); :func:`flat_solid_job` takes it among
+    its ``flats``."""
+    from io import BytesIO
+
+    import cadquery as cq
+
+    from ductgen.solids.insert import insert_bodies
+
+    stage("insert bodies")
+    outer, inner = insert_bodies(d)
+    buf = BytesIO()
+    cq.Compound.makeCompound([outer, *inner]).exportBin(buf)
     return buf.getvalue()
 
 

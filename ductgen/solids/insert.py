@@ -19,35 +19,38 @@ Outer pieces (mm, x downstream, z up, skin outer surface z = 0):
   steepest ruling, so the wall normal to the duct is never below ``insert.wall``;
 * spigot — shoulder, tube of OD = hose ID − ``outlet.fit_clearance``, retention bead
   (ramp towards the free end), with a bore of OD − 2·wall; a rectangular outlet gets a
-  plain collar; a raised lip is an exact nose plus its fairing wedge.
+  plain collar (:mod:`ductgen.solids.insert_outlet`); a raised lip is an exact nose plus
+  its fairing wedge.
+
+:func:`insert_bodies` makes the outer body and the inner pieces that are not the cutter, so a
+build can make them in one worker while another builds the cutter; :func:`build_insert`
+cuts.
 """
 
 from __future__ import annotations
 
-import dataclasses
 from typing import Literal
 
 import cadquery as cq
 import numpy as np
 
 from ductgen.design import Design
-from ductgen.errors import GeometryError
+from ductgen.errors import GeometryError, SpecError
 from ductgen.geometry.fabrication import (
     FlangeLayout,
     InsertParams,
-    Spigot,
     bezel_land_mm,
     bezel_offsets_mm,
     footprint_end_mm,
-    transition_wall_mm,
     wall_for_curvature,
 )
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.geometry.panel import PanelSkin
 from ductgen.geometry.panel_surface import convex_curvatures
-from ductgen.solids.cutter import build_cutter, make_transition
+from ductgen.solids.cutter import build_cutter
 from ductgen.solids.deform import place
 from ductgen.solids.footprint import footprint_face, offset_wire, prism
+from ductgen.solids.insert_outlet import box, open_exit, outlet_pieces
 from ductgen.solids.primitives import (
     boolean,
     extrude_xz,
@@ -57,8 +60,10 @@ from ductgen.solids.primitives import (
 )
 
 __all__ = [
+    "bodies_from",
     "build_insert",
     "convex_curvature",
+    "insert_bodies",
     "make_insert",
 ]
 
@@ -75,27 +80,6 @@ def _raised_lip(g: InletGeometry, half_span: float) -> cq.Solid:
         *polyline_edges([(xc, y, 0.0), (xc + lip.fairing_length_mm, y, 0.0), (xc, y, t)]),
     ]
     return extrude_xz(edges, y, half_span)
-
-
-def _cylinder_x(radius: float, x0: float, x1: float, zc: float) -> cq.Solid:
-    return cq.Solid.makeCylinder(radius, x1 - x0, V(x0, 0.0, zc), V(1, 0, 0))
-
-
-def _bead(sp: Spigot, radius: float) -> cq.Solid:
-    """Retention bead: a ring whose outer face ramps up towards the free end... reversed:
-    it rises gently from the free end (the hose slides on) and drops steeply behind."""
-    x0, x1, h, zc = sp.bead_x0_mm, sp.bead_x1_mm, sp.bead_height_mm, sp.centre_z_mm
-    r_in = radius - 0.5  # overlaps the tube
-    ramp = x1 - 0.2 * (x1 - x0)
-    pts = [(x0, r_in), (x1, r_in), (x1, radius), (ramp, radius + h), (x0, radius + h)]
-    # profile in the xz plane at y = 0, offset by the centre height, revolved about the axis
-    edges = polyline_edges([(x, 0.0, zc + r) for x, r in [*pts, pts[0]]])
-    wire = cq.Wire.assembleEdges(edges)
-    return cq.Solid.revolve(wire, [], 360.0, V(0, 0, zc), V(1, 0, zc))
-
-
-def _box(x0: float, x1: float, y0: float, y1: float, z0: float, z1: float) -> cq.Solid:
-    return cq.Solid.makeBox(x1 - x0, y1 - y0, z1 - z0, V(x0, y0, z0))
 
 
 def _drilled(shape: cq.Shape, lay: FlangeLayout) -> cq.Shape:
@@ -183,14 +167,47 @@ def make_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
     return place(build_insert(d, cutter), d, "insert")
 
 
-def build_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
+def build_insert(
+    d: Design,
+    cutter: cq.Solid | None = None,
+    bodies: tuple[cq.Shape, list[cq.Shape]] | None = None,
+) -> cq.Solid:
     """The insert in design coordinates (mm): an outer body minus the cutter. Raises
     :class:`GeometryError` when the kernel fails (the design was checked when it was built).
-    """
+
+    ``cutter``: the cutter, if built already; ``bodies``: :func:`insert_bodies` of ``d``,
+    if made already (a build makes them in its second worker while this one builds the
+    cutter)."""
     g, lay, ins = d.geometry, d.layout, d.fab.insert
-    r_edge = g.edge_radius_mm
-    off = ins.wall + r_edge
-    x_ne = g.throat_end_mm
+    try:
+        outer, inner_extra = bodies if bodies is not None else insert_bodies(d)
+        inner_extra = list(inner_extra)
+        inner: cq.Shape = cutter if cutter is not None else build_cutter(d)
+        if ins.mount == "surface":
+            x_open = g.length_mm if g.lip.style == "raised" else g.throat_end_mm
+            inner_extra += _bezel_opening(inner, g.overcut_mm, ins.bezel_thickness + 1.0, x_open)
+        if inner_extra:
+            inner = boolean("fuse", inner, inner_extra, "insert inner body")
+        body = boolean("cut", outer, [inner], "insert")
+        if ins.mount == "surface" and len(lay.hole_centres_xy):
+            body = _drilled(body, lay)
+    except (GeometryError, SpecError):
+        raise
+    except Exception as err:  # kernel exceptions share no base class (seen on this stack)
+        raise _kernel_failure(err) from err
+    solids = body.Solids()
+    if len(solids) != 1:
+        raise GeometryError("insert", f"expected one solid, the kernel produced {len(solids)}")
+    return solids[0]
+
+
+def insert_bodies(d: Design) -> tuple[cq.Shape, list[cq.Shape]]:
+    """The insert's outer body (walls, skin fill, flange or bezel, raised lip, transition
+    and spigot, fused) and the pieces of its inner body that do not come from the cutter
+    (the spigot's bore, an open exit), mm, design coordinates: what :func:`build_insert`
+    cuts, bar the cutter. Raises :class:`GeometryError` as it does."""
+    g, lay, ins = d.geometry, d.layout, d.fab.insert
+    off = ins.wall + g.edge_radius_mm
     k = convex_curvature(d)
     try:
         fill = _fills_skin(g, k)
@@ -200,35 +217,33 @@ def build_insert(d: Design, cutter: cq.Solid | None = None) -> cq.Solid:
             pieces.append(_raised_lip(g, g.width_mm / 2.0 + off))
         inner_extra: list[cq.Shape] = []
         if g.transition is not None:
-            outer_parts, inner_parts = _outlet(d, k)
+            outer_parts, inner_parts = outlet_pieces(d, k)
             pieces += outer_parts
             inner_extra += inner_parts
         else:
-            inner_extra += _open_exit(g, ins, off)
-        outer = boolean("fuse", walls, pieces, "insert outer body")
-        inner: cq.Shape = cutter if cutter is not None else build_cutter(d)
-        if ins.mount == "surface":
-            x_open = g.length_mm if g.lip.style == "raised" else x_ne
-            inner_extra += _bezel_opening(inner, g.overcut_mm, ins.bezel_thickness + 1.0, x_open)
-        if inner_extra:
-            inner = boolean("fuse", inner, inner_extra, "insert inner body")
-        body = boolean("cut", outer, [inner], "insert")
-        if ins.mount == "surface" and len(lay.hole_centres_xy):
-            body = _drilled(body, lay)
-    except (GeometryError, ValueError) as err:
-        if isinstance(err, GeometryError):
-            raise
-        raise GeometryError("insert", f"kernel failure: {err}") from err
+            inner_extra += open_exit(g, ins, off)
+        return boolean("fuse", walls, pieces, "insert outer body"), inner_extra
+    except (GeometryError, SpecError):
+        raise
     except Exception as err:  # kernel exceptions share no base class (seen on this stack)
-        from ductgen.errors import SpecError
+        raise _kernel_failure(err) from err
 
-        if isinstance(err, SpecError):
-            raise
-        raise GeometryError("insert", f"kernel failure: {type(err).__name__}: {err}") from err
-    solids = body.Solids()
-    if len(solids) != 1:
-        raise GeometryError("insert", f"expected one solid, the kernel produced {len(solids)}")
-    return solids[0]
+
+def bodies_from(compound: cq.Shape | None) -> tuple[cq.Shape, list[cq.Shape]] | None:
+    """:func:`insert_bodies` out of the compound that carries them between workers (the
+    outer body first, :func:`~ductgen.solids.handoff.insert_bodies_job`), read back; None:
+    not made ahead."""
+    if compound is None:
+        return None
+    outer, *inner = list(compound)
+    return outer, inner
+
+
+def _kernel_failure(err: Exception) -> GeometryError:
+    """A kernel failure ``err`` as the insert stage's error."""
+    if isinstance(err, ValueError):
+        return GeometryError("insert", f"kernel failure: {err}")
+    return GeometryError("insert", f"kernel failure: {type(err).__name__}: {err}")
 
 
 def _bezel_opening(cutter: cq.Shape, z_cut: float, z_top: float, x_open: float) -> list[cq.Shape]:
@@ -250,7 +265,7 @@ def _bezel_opening(cutter: cq.Shape, z_cut: float, z_top: float, x_open: float) 
         body: cq.Shape = cq.Solid.extrudeLinear(f, V(0, 0, z_top - z_cut))
         bb = body.BoundingBox()
         if bb.xmax > x_open + 1e-6:
-            keep = _box(
+            keep = box(
                 bb.xmin - 1.0, x_open, bb.ymin - 1.0, bb.ymax + 1.0, z_cut - 1.0, z_top + 1.0
             )
             body = boolean("intersect", body, [keep], "insert bezel opening")
@@ -329,56 +344,3 @@ def _skin_and_flange(
     else:
         pieces.append(prism(outline, 0.0, tb))
     return pieces
-
-
-def _outlet(d: Design, k: float) -> tuple[list[cq.Shape], list[cq.Shape]]:
-    """The transition's outer wall and the spigot (shoulder, tube, bead) or rectangular
-    collar: the pieces to add to the outer body and to the inner one (the bore), mm; ``k``
-    the convex curvature (1/mm)."""
-    g = d.geometry
-    t = g.transition
-    assert t is not None
-    # inside a convex skin the section's sides close in with depth (the fade only lessens
-    # it): the wall is sized for the deepest point of the outer section
-    wt = transition_wall_mm(g, d.fab.insert.wall)
-    bottom = min(t.floor_z_mm, t.outlet_top_z_mm - t.outlet_height_mm)
-    wt = wall_for_curvature(wt, k, wt - bottom)
-    t_out = dataclasses.replace(
-        t,
-        width_mm=t.width_mm + 2 * wt,
-        roof_z_mm=t.roof_z_mm + wt,
-        floor_z_mm=t.floor_z_mm - wt,
-        outlet_width_mm=t.outlet_width_mm + 2 * wt,
-        outlet_height_mm=t.outlet_height_mm + 2 * wt,
-        outlet_top_z_mm=t.outlet_top_z_mm + wt,
-    )
-    outer: list[cq.Shape] = [make_transition(t_out)]
-    sp = d.spigot
-    if sp is not None:
-        zc = sp.centre_z_mm
-        outer.append(_cylinder_x(sp.shoulder_radius_mm, sp.x0_mm, sp.x0_mm + sp.shoulder_mm, zc))
-        outer.append(_cylinder_x(sp.od_mm / 2.0, sp.x0_mm, sp.x_end_mm, zc))
-        if sp.bead_height_mm > 0:
-            outer.append(_bead(sp, sp.od_mm / 2.0))
-        return outer, [_cylinder_x(sp.bore_mm / 2.0, sp.x0_mm - 0.5, sp.x_end_mm + 1.0, zc)]
-    # rectangular collar
-    h, top = t.outlet_width_mm / 2.0, t.outlet_top_z_mm
-    bot = top - t.outlet_height_mm
-    x1 = t.x_end_mm + g.spigot_length_mm
-    outer.append(_box(t.x_end_mm, x1, -h - wt, h + wt, bot - wt, top + wt))
-    return outer, [_box(t.x_end_mm - 0.5, x1 + 1.0, -h, h, bot, top)]
-
-
-def _open_exit(g: InletGeometry, ins: InsertParams, off: float) -> list[cq.Shape]:
-    """Without a transition, the throat's exit open through the downstream wall, and
-    beyond it up to the skin (the flange is notched there, rather than left as a sliver
-    over the throat's roof): pieces of the inner body (mm); ``off`` the walls' reach."""
-    x_ne, h, hw = g.throat_end_mm, g.drop_mm, g.width_mm / 2.0
-    t_skin = g.skin_thickness_mm
-    top = min(g.lip.roof_z_mm, -t_skin)
-    inner: list[cq.Shape] = [_box(x_ne - 0.5, x_ne + off + 0.5, -hw, hw, -h, g.lip.roof_z_mm)]
-    if max(top, -t_skin) > -h + 1e-6:  # a floor at the skin's inner face: no notch
-        inner.append(
-            _box(x_ne + off, x_ne + off + ins.flange_width + 2.0, -hw, hw, -h, max(top, -t_skin))
-        )
-    return inner

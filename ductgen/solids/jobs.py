@@ -15,8 +15,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
 from ductgen.design import Design
-from ductgen.geometry.inlet import InletGeometry
-from ductgen.solids.kinds import SOLID_KINDS
+from ductgen.solids.kinds import INSERT_BODIES, SOLID_KINDS
 from ductgen.solids.results import Mesh, SolidResult
 from ductgen.solids.warm import warm_up
 from ductgen.tolerances import DEFAULT_TOLERANCES, STL_QUALITY
@@ -53,7 +52,7 @@ class SolidRecipe:
 def recipes() -> dict[str, SolidRecipe]:
     """Solid kind → recipe (imports the kernel, so only call inside the worker)."""
     from ductgen.solids.cutter import build_cutter
-    from ductgen.solids.insert import build_insert
+    from ductgen.solids.insert import bodies_from, build_insert
     from ductgen.solids.plug import build_plug, plug_volume_mm3
 
     return {
@@ -61,7 +60,10 @@ def recipes() -> dict[str, SolidRecipe]:
         # insert: a union of overlapping pieces minus the cutter has no independent
         # integral; the watertight/validity checks and the printability hook apply.
         "insert": SolidRecipe(
-            lambda d, built: build_insert(d, cutter=built.get("cutter")), lambda d: None
+            lambda d, built: build_insert(
+                d, built.get("cutter"), bodies_from(built.get(INSERT_BODIES))
+            ),
+            lambda d: None,
         ),
         "plug": SolidRecipe(lambda d, _: build_plug(d), plug_volume_mm3),
     }
@@ -135,49 +137,6 @@ def mapped_volume_mm3(
     fine_v, fine_f = subdivide_to_size(v, f, step_mm)
     t = np.asarray(fn(fine_v), dtype=float)[fine_f]
     return float(np.einsum("ij,ij->i", t[:, 0], np.cross(t[:, 1], t[:, 2])).sum() / 6.0)
-
-
-def wetted_area_mm2(vertices: Any, faces: Any, g: InletGeometry, fn: Any = None) -> float:
-    """Area of the cutter's air-washed surface (mm²) from its design-coordinate
-    triangulation: everything below the skin (triangles crossing it are clipped; the overcut
-    above is left out) except the outlet (or throat exit) face. ``fn``: the point map onto a
-    curved skin (the clipped mesh is subdivided to 2 mm and mapped before its area is taken)."""
-    import numpy as np
-
-    from ductgen.solids.mesh import subdivide_to_size
-
-    soup, tris = _clipped_below_skin(np.asarray(vertices, dtype=float), np.asarray(faces), g)
-    if fn is not None:
-        import trimesh
-
-        fine_v, fine_f = subdivide_to_size(soup, tris, 2.0)
-        return float(trimesh.Trimesh(fn(fine_v), fine_f, process=False).area)
-    t = soup[tris]
-    return float(0.5 * np.linalg.norm(np.cross(t[:, 1] - t[:, 0], t[:, 2] - t[:, 0]), axis=1).sum())
-
-
-def _clipped_below_skin(vertices: Any, faces: Any, g: InletGeometry) -> tuple[Any, Any]:
-    """The part of a design-coordinate triangulation below the skin (w ≤ 0), without the
-    outlet face, as a triangle soup (vertices, faces)."""
-    import numpy as np
-
-    tri = vertices[faces]
-    tri = tri[~np.all(np.abs(tri[:, :, 0] - g.outlet_x_mm) < 1e-6, axis=1)]
-    out = []
-    for t in tri[np.any(tri[:, :, 2] < 0.0, axis=1)]:
-        if np.all(t[:, 2] <= 0.0):
-            out.append(t)
-            continue
-        poly = []
-        for i in range(3):
-            p, q = t[i], t[(i + 1) % 3]
-            if p[2] <= 0.0:
-                poly.append(p)
-            if (p[2] < 0.0) != (q[2] < 0.0) and p[2] != q[2]:
-                poly.append(p + (q - p) * (p[2] / (p[2] - q[2])))
-        out += [np.array([poly[0], poly[k], poly[k + 1]]) for k in range(1, len(poly) - 1)]
-    soup = np.array(out).reshape(-1, 3)
-    return soup, np.arange(len(soup)).reshape(-1, 3)
 
 
 def build_solids(
@@ -386,6 +345,8 @@ def _cutter_wetted_area(d: Design, mesh: tuple[Any, Any] | None) -> float:
         from ductgen.errors import GeometryError
 
         raise GeometryError("cutter check", "the check gave no triangulation")
+    from ductgen.solids.mesh import wetted_area_mm2
+
     return wetted_area_mm2(mesh[0], mesh[1], d.geometry, d.placement.solid_map if curved else None)
 
 

@@ -1,6 +1,9 @@
-"""Triangulating B-rep shapes into numpy arrays, and refining such meshes (kernel side)."""
+"""Triangulating B-rep shapes into numpy arrays, and refining such meshes (kernel side); the
+cutter's wetted area from its triangulation."""
 
 from __future__ import annotations
+
+from typing import TYPE_CHECKING, Any
 
 import cadquery as cq
 import numpy as np
@@ -10,7 +13,10 @@ from OCP.BRepTools import BRepTools
 from OCP.TopAbs import TopAbs_REVERSED
 from OCP.TopLoc import TopLoc_Location
 
-__all__ = ["closed_mesh", "subdivide_to_size", "triangulate"]
+if TYPE_CHECKING:
+    from ductgen.geometry.inlet import InletGeometry
+
+__all__ = ["closed_mesh", "subdivide_to_size", "triangulate", "wetted_area_mm2"]
 
 
 def triangulate(
@@ -140,3 +146,40 @@ def _split_faces(v: np.ndarray, f: np.ndarray, face_mid: np.ndarray) -> np.ndarr
         (-1, 3)
     )
     return np.vstack((faces_one, corner, quad_a, quad_b, faces_three)).astype(np.int64)
+
+
+def wetted_area_mm2(vertices: Any, faces: Any, g: InletGeometry, fn: Any = None) -> float:
+    """Area of the cutter's air-washed surface (mm²) from its design-coordinate
+    triangulation: everything below the skin (triangles crossing it are clipped; the overcut
+    above is left out) except the outlet (or throat exit) face. ``fn``: the point map onto a
+    curved skin (the clipped mesh is subdivided to 2 mm and mapped before its area is taken)."""
+    soup, tris = _clipped_below_skin(np.asarray(vertices, dtype=float), np.asarray(faces), g)
+    if fn is not None:
+        import trimesh
+
+        fine_v, fine_f = subdivide_to_size(soup, tris, 2.0)
+        return float(trimesh.Trimesh(fn(fine_v), fine_f, process=False).area)
+    t = soup[tris]
+    return float(0.5 * np.linalg.norm(np.cross(t[:, 1] - t[:, 0], t[:, 2] - t[:, 0]), axis=1).sum())
+
+
+def _clipped_below_skin(vertices: Any, faces: Any, g: InletGeometry) -> tuple[Any, Any]:
+    """The part of a design-coordinate triangulation below the skin (w ≤ 0), without the
+    outlet face, as a triangle soup (vertices, faces)."""
+    tri = vertices[faces]
+    tri = tri[~np.all(np.abs(tri[:, :, 0] - g.outlet_x_mm) < 1e-6, axis=1)]
+    out = []
+    for t in tri[np.any(tri[:, :, 2] < 0.0, axis=1)]:
+        if np.all(t[:, 2] <= 0.0):
+            out.append(t)
+            continue
+        poly = []
+        for i in range(3):
+            p, q = t[i], t[(i + 1) % 3]
+            if p[2] <= 0.0:
+                poly.append(p)
+            if (p[2] < 0.0) != (q[2] < 0.0) and p[2] != q[2]:
+                poly.append(p + (q - p) * (p[2] / (p[2] - q[2])))
+        out += [np.array([poly[0], poly[k], poly[k + 1]]) for k in range(1, len(poly) - 1)]
+    soup = np.array(out).reshape(-1, 3)
+    return soup, np.arange(len(soup)).reshape(-1, 3)
