@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import json
 from dataclasses import dataclass, field
-from typing import Any
+from typing import Any, NamedTuple
 
 import numpy as np
 
@@ -28,8 +28,10 @@ from ductgen.spec.model import Spec
 __all__ = [
     "BuildRecord",
     "InsertSplit",
+    "MeshChecks",
     "flow_report",
     "geometry_section",
+    "mesh_checks",
     "report_bytes",
     "split_plan",
     "start_record",
@@ -286,6 +288,27 @@ def _bed_section(
     return (section if len(section) > 1 else None), warnings, insert_up, split
 
 
+class MeshChecks(NamedTuple):
+    """What the record takes from the solids' meshes (:func:`mesh_checks`): the ``print``
+    section, ``print.bed``, their warnings, the axis the insert stands on and its split."""
+
+    parts: dict[str, Any] | None
+    bed: dict[str, Any] | None
+    warnings: list[DesignWarning]
+    insert_up: str | None
+    split: InsertSplit | None
+
+
+def mesh_checks(spec: Spec, d: Design, solids: dict[str, SolidResult]) -> MeshChecks:
+    """The print checks (thinnest wall, overhangs, mesh health, material) and the bed fit
+    of the solids' meshes: they read only the meshes, the design and the spec's ``[insert]``
+    material keys and ``[print] bed``, so a build of the same solids may take them from the
+    solid cache (:meth:`~ductgen.pipeline.solid_cache.SolidStage.mesh_checks`)."""
+    parts, print_warnings = _print_section(spec, d, solids)
+    bed, bed_warnings, insert_up, split = _bed_section(spec, d, solids)
+    return MeshChecks(parts, bed, print_warnings + bed_warnings, insert_up, split)
+
+
 def split_plan(spec: Spec, d: Design, solids: dict[str, SolidResult]) -> InsertSplit | None:
     """Where the insert will be split to fit the bed: the record's ``split``
     (:func:`start_record`), from the insert's mesh alone, so a build can start the split
@@ -326,10 +349,12 @@ def start_record(
     solids: dict[str, SolidResult],
     spec_sha256: str,
     version: str,
+    checks: MeshChecks | None = None,
 ) -> BuildRecord:
     """Every computed section of the report and the warnings so far (the design's, the flow
     model's, the printability check's); the build adds the panel cut, the insert's pieces,
-    the encoders' warnings and the files."""
+    the encoders' warnings and the files. ``checks``: :func:`mesh_checks` of ``solids``, if
+    made already."""
     geometry = geometry_section(d.geometry, solids)
     if "transition" in geometry:
         geometry["transition"].update(steepest_wall_report(d.duct))
@@ -339,9 +364,8 @@ def start_record(
         section, flow_warnings = flow_report(spec, d)
         flow = FlowRecord.of_section(section)
         warnings += flow_warnings
-    parts, print_warnings = _print_section(spec, d, solids)
-    bed, bed_warnings, insert_up, split = _bed_section(spec, d, solids)
-    warnings += print_warnings + bed_warnings
+    parts, bed, mesh_warnings, insert_up, split = checks or mesh_checks(spec, d, solids)
+    warnings += mesh_warnings
     return BuildRecord(
         name=spec.name,
         spec_sha256=spec_sha256,

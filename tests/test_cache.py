@@ -246,6 +246,7 @@ def test_hit_gives_the_files_of_an_uncached_build(tmp_path: Path) -> None:
         mp.setattr("ductgen.export.template.template_files", _no_kernel)
         mp.setattr("ductgen.sheets.sheet.sheet_pdf", _no_kernel)
         mp.setattr("ductgen.export.threemf.plate_3mf", _no_kernel)
+        mp.setattr("ductgen.pipeline.solid_cache.mesh_checks", _no_kernel)  # nor checked
         again = build(spec, tmp_path / "again")
     assert again.cache == {"hits": ALL, "misses": []}
     assert _files(tmp_path / "again") == _files(tmp_path / "first")
@@ -253,6 +254,7 @@ def test_hit_gives_the_files_of_an_uncached_build(tmp_path: Path) -> None:
     with pytest.MonkeyPatch.context() as mp:  # solids, pieces and preview: no kernel job at all
         mp.setattr(KernelWorker, "run", _no_kernel)  # and the template is not drawn again
         mp.setattr("ductgen.export.template.template_files", _no_kernel)
+        mp.setattr("ductgen.pipeline.solid_cache.mesh_checks", _no_kernel)  # nor the meshes
         flow = build(faster, tmp_path / "flow")
     assert flow.cache == {"hits": ALL, "misses": []}
     assert flow.report["flow"] != first.report["flow"]
@@ -261,6 +263,25 @@ def test_hit_gives_the_files_of_an_uncached_build(tmp_path: Path) -> None:
     assert flow.report["design_sha256"] == first.report["design_sha256"]
     for name in ("t-template.dxf", "t-template.pdf"):
         assert (tmp_path / "flow" / name).read_bytes() == (tmp_path / "first" / name).read_bytes()
+
+
+def test_print_checks_follow_the_material_not_only_the_solids(tmp_path: Path) -> None:
+    """The record's checks on the solids' meshes (thinnest wall, overhangs, bed fit, the
+    material's mass and warnings) come from the cache only for the same solids and the same
+    ``[insert]`` material keys: another material, with every solid a hit, is checked again
+    and its report equals an uncached build's."""
+    spec = _spec(GOOD)
+    only = ["cutter", "insert", "plug"]
+    build(spec, tmp_path / "a", only=only)
+    ins = spec.insert.model_copy(update={"material": "PLA"})
+    pla = spec.model_copy(update={"insert": ins})
+    assert pla.insert.material != spec.insert.material
+    cached = build(pla, tmp_path / "b", only=only)
+    assert cached.cache["hits"] == [*only, "insert split"]
+    fresh = build(pla, tmp_path / "c", only=only, cache=False)
+    assert cached.report["print"] == fresh.report["print"]
+    assert cached.report["print"]["material"] == "PLA"
+    assert cached.report["warnings"] == fresh.report["warnings"]
 
 
 @pytest.mark.slow

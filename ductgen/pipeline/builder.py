@@ -173,8 +173,11 @@ def _solids(b: _Build) -> None:
 
 def _record(b: _Build) -> None:
     """The record's computed sections (geometry, flow, print checks, bed fit)."""
-    assert b.design is not None
-    b.record = start_record(b.spec, b.design, b.solids, spec_sha256(b.spec), package_version())
+    assert b.design is not None and b.kernel is not None
+    checks = b.kernel.mesh_checks(b.spec, b.solids)
+    b.record = start_record(
+        b.spec, b.design, b.solids, spec_sha256(b.spec), package_version(), checks
+    )
 
 
 def _panel(b: _Build) -> None:

@@ -27,13 +27,15 @@ from ductgen.atomic import write_atomic
 from ductgen.cache import Cache, Entry, fingerprint, kernel_versions, source_fingerprint
 from ductgen.design import Design
 from ductgen.design.identity import design_fields
-from ductgen.errors import DuctgenError
+from ductgen.errors import DesignWarning, DuctgenError
+from ductgen.report import InsertSplit, MeshChecks, mesh_checks
 from ductgen.solids.handoff import flat_solid_job, insert_bodies_job, step_solid_job
 from ductgen.solids.jobs import build_solids
 from ductgen.solids.kinds import INSERT_BODIES
 from ductgen.solids.results import InsertPiece, Mesh, SolidResult
 from ductgen.solids.split import split_insert_job
 from ductgen.solids.step_text import stamp_step
+from ductgen.spec.model import Spec
 from ductgen.tolerances import STL_QUALITY
 from ductgen.worker import KernelWorker
 
@@ -43,6 +45,9 @@ __all__ = ["Beside", "SolidStage", "design_key"]
 Beside = Callable[..., Future[Any]]
 #: Told the insert's result (:meth:`SolidStage.solids`'s ``checked`` and ``written``).
 Told = Callable[[SolidResult], None] | None
+
+#: What makes the record's checks on the solids' meshes (:meth:`SolidStage.mesh_checks`).
+_CHECK_SOURCES = ("report.py", "printability.py", "solids/bed.py", "meshstats.py")
 
 #: What makes a solid: the packages and modules whose source enters the key.
 _SOLID_SOURCES = (
@@ -232,6 +237,33 @@ class SolidStage:
         made = check.result()["insert"]
         return {"insert": replace(made, seconds={**made.seconds, **seconds})}
 
+    def mesh_checks(self, spec: Spec, solids: dict[str, SolidResult]) -> MeshChecks:
+        """:func:`~ductgen.report.mesh_checks` of ``solids``, or the same checks made before
+        on the same solids (their cache keys: the design, the kind, the quality, the code
+        that makes them) with the same ``[insert]`` material keys and ``[print] bed`` by the
+        same code, from the cache (a ``[flow]`` change or a rebuild elsewhere runs none).
+        Only with the insert among them: its thinnest-wall and bed checks are what costs
+        (about 0.1–0.2 s on the samples); the cutter's and the plug's alone are not cached."""
+        keys = [self.keys.get(k) for k in sorted(solids)]
+        ins = spec.insert
+        key = (
+            None
+            if "insert" not in solids or None in keys
+            else self._key(
+                "mesh checks",
+                keys,
+                (ins.material, ins.near_heat, ins.service_temperature, spec.print.bed),
+                source_fingerprint(_CHECK_SOURCES),
+            )
+        )
+        entry = None if key is None or self.cache is None else self.cache.get(key)
+        if entry is not None:
+            return _checks_from(entry.meta)
+        checks = mesh_checks(spec, self.design, solids)
+        if key is not None and self.cache is not None:
+            self.cache.put(key, _checks_to(checks), {})
+        return checks
+
     def split_insert(
         self,
         staging: Path,
@@ -272,6 +304,21 @@ class SolidStage:
             ]
             self.cache.put(key, {"pieces": meta}, blobs)
         return pieces
+
+
+def _checks_to(c: MeshChecks) -> dict[str, Any]:
+    """``c`` as a cache entry's JSON (its sections hold plain numbers, strings and lists)."""
+    split = None if c.split is None else [list(c.split.stations_x_mm), c.split.up]
+    warnings = [w.to_dict() for w in c.warnings]
+    return {"parts": c.parts, "bed": c.bed, "warnings": warnings, "up": c.insert_up, "split": split}
+
+
+def _checks_from(meta: dict[str, Any]) -> MeshChecks:
+    split = (
+        None if meta["split"] is None else InsertSplit(tuple(meta["split"][0]), meta["split"][1])
+    )
+    warnings = [DesignWarning(w["code"], w["message"]) for w in meta["warnings"]]
+    return MeshChecks(meta["parts"], meta["bed"], warnings, meta["up"], split)
 
 
 def _rank(err: DuctgenError, kinds: list[str]) -> int:
