@@ -46,8 +46,15 @@ Beside = Callable[..., Future[Any]]
 #: Told the insert's result (:meth:`SolidStage.solids`'s ``checked`` and ``written``).
 Told = Callable[[SolidResult], None] | None
 
-#: What makes the record's checks on the solids' meshes (:meth:`SolidStage.mesh_checks`).
-_CHECK_SOURCES = ("report.py", "printability.py", "solids/bed.py", "meshstats.py")
+#: What makes the record's checks on the solids' meshes (:meth:`SolidStage.mesh_checks`):
+#: the code and the print materials' table (density, heat-deflection temperature).
+_CHECK_SOURCES = (
+    "report.py",
+    "printability.py",
+    "solids/bed.py",
+    "meshstats.py",
+    "data/materials.csv",
+)
 
 #: What makes a solid: the packages and modules whose source enters the key.
 _SOLID_SOURCES = (
@@ -241,7 +248,8 @@ class SolidStage:
         """:func:`~ductgen.report.mesh_checks` of ``solids``, or the same checks made before
         on the same solids (their cache keys: the design, the kind, the quality, the code
         that makes them) with the same ``[insert]`` material keys and ``[print] bed`` by the
-        same code, from the cache (a ``[flow]`` change or a rebuild elsewhere runs none).
+        same code and mesh tools, from the cache (a ``[flow]`` change or a rebuild elsewhere
+        runs none).
         Only with the insert among them: its thinnest-wall and bed checks are what costs
         (about 0.1–0.2 s on the samples); the cutter's and the plug's alone are not cached."""
         keys = [self.keys.get(k) for k in sorted(solids)]
@@ -254,6 +262,7 @@ class SolidStage:
                 keys,
                 (ins.material, ins.near_heat, ins.service_temperature, spec.print.bed),
                 source_fingerprint(_CHECK_SOURCES),
+                kernel_versions(("trimesh", "embreex", "numpy", "scipy")),
             )
         )
         entry = None if key is None or self.cache is None else self.cache.get(key)
