@@ -163,3 +163,32 @@ def test_scale_x_correction_grows_x_extent() -> None:
     assert (b[3] - b[2]) / (a[3] - a[2]) == pytest.approx(1.0, rel=2e-4)
     # the calibration page is never corrected
     assert any(abs(r.width - 283.46) <= 0.05 for r in _squares(doc1[1]))
+
+
+def test_the_calibration_rulers_have_a_tick_every_millimetre(small) -> None:  # type: ignore[no-untyped-def]
+    """The calibration page's two 100 mm rulers, read back as drawn segments: 101 ticks
+    each, 1 mm = 72/25.4 pt apart (PDF reference: 1 pt = 1/72 in), 10 mm ticks the longest
+    and 5 mm ticks longer than the rest (common practice, no source), over a 100 mm base
+    line; the page is never corrected, so this holds for any scale."""
+    segments = []
+    for d in small[2][1].get_drawings():
+        if d.get("color") is None or any(abs(c) > 0.02 for c in d["color"]):
+            continue  # black lines only
+        for item in d["items"]:
+            if item[0] == "l":
+                segments.append((item[1].x, item[1].y, item[2].x, item[2].y))
+    seg = np.array(segments)
+    vertical = np.abs(seg[:, 0] - seg[:, 2]) < 1e-3
+    horizontal = np.abs(seg[:, 1] - seg[:, 3]) < 1e-3
+    for ticks, along, across in ((vertical, 0, (1, 3)), (horizontal, 1, (0, 2))):
+        lengths = np.abs(seg[ticks][:, across[0]] - seg[ticks][:, across[1]])
+        short = seg[ticks][lengths < 5.0 * PT]  # the ticks, not a square's side
+        at = np.sort(short[:, along])
+        assert len(at) == 101
+        assert np.diff(at) == pytest.approx(PT, abs=2e-3)
+        size = np.abs(short[:, across[0]] - short[:, across[1]])[np.argsort(short[:, along])]
+        assert size[::10] == pytest.approx(4.0 * PT, abs=2e-3)
+        assert size[5::10] == pytest.approx(2.5 * PT, abs=2e-3)
+        assert size[1::5] == pytest.approx(1.5 * PT, abs=2e-3)
+    base = np.abs(seg[:, 0] - seg[:, 2]) + np.abs(seg[:, 1] - seg[:, 3])
+    assert np.sum(np.abs(base - 100.0 * PT) < 2e-3) >= 2

@@ -239,6 +239,8 @@ def cover_page(
 
 
 def calibration_page(pdf: PdfPages, lay: TileLayout, title: str) -> None:
+    from matplotlib.collections import LineCollection
+
     fig, ax = figure(lay.page_mm)
     header(ax, lay, f"{title}   CALIBRATION   page 2 of {len(lay.tiles) + 2}")
     x0, y0 = _MARGIN + 8, _MARGIN + 30
@@ -248,10 +250,11 @@ def calibration_page(pdf: PdfPages, lay: TileLayout, title: str) -> None:
     ax.plot([x0, x0 + 100], [ry, ry], color="k", lw=0.5)
     rx = x0 + 4 * INCH + 10
     ax.plot([rx, rx], [y0, y0 + 100], color="k", lw=0.5)
+    ticks = []  # one collection: 202 separate lines took a third of the template's time
     for i in range(101):
         h = 4.0 if i % 10 == 0 else (2.5 if i % 5 == 0 else 1.5)
-        ax.plot([x0 + i, x0 + i], [ry, ry + h], color="k", lw=0.2)
-        ax.plot([rx, rx + h], [y0 + i, y0 + i], color="k", lw=0.2)
+        ticks += [[(x0 + i, ry), (x0 + i, ry + h)], [(rx, y0 + i), (rx + h, y0 + i)]]
+    ax.add_collection(LineCollection(ticks, colors="k", linewidths=0.2))
     ax.text(x0, ry + 6, "0 to 100 mm", fontsize=7)
     ax.text(rx + 6, y0 + 50, "0 to 100 mm", fontsize=7, rotation=90, va="center")
     text = [
