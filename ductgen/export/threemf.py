@@ -65,8 +65,9 @@ def turn_up(vertices: np.ndarray, up: str) -> np.ndarray:
 def _mesh_xml(part: PlatePart, oid: int) -> str:
     v = np.asarray(part.vertices, dtype=float)
     f = np.asarray(part.faces, dtype=np.int64)
-    verts = "".join(f'<vertex x="{x:.6f}" y="{y:.6f}" z="{z:.6f}"/>' for x, y, z in v)
-    tris = "".join(f'<triangle v1="{a}" v2="{b}" v3="{c}"/>' for a, b, c in f)
+    # one %-format over all numbers: the same text as a format per vertex, in a fifth the time
+    verts = ('<vertex x="%.6f" y="%.6f" z="%.6f"/>' * len(v)) % tuple(v.ravel().tolist())
+    tris = ('<triangle v1="%d" v2="%d" v3="%d"/>' * len(f)) % tuple(f.ravel().tolist())
     name = part.name.replace("&", "&amp;").replace('"', "&quot;").replace("<", "&lt;")
     return (
         f'<object id="{oid}" type="model" name="{name}"><mesh>'
