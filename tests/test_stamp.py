@@ -18,6 +18,8 @@ import ezdxf
 import pymupdf
 import pytest
 from ezdxf.tools.juliandate import calendardate
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from ductgen.pipeline import build
 from ductgen.spec import load_spec
@@ -121,6 +123,63 @@ def test_step_text_does_not_depend_on_where_the_writer_broke_a_line() -> None:
     assert b"(1.5E-11,-4.15,0.)" in kept
     kept = reproducible_step(head + b"#1 = CARTESIAN_POINT('',(-0.5,-0.05,-0.));\n" + tail, "p")
     assert b"(-0.5,-0.05,0.)" in kept  # only a zero loses its sign
+
+
+#: STEP-like text: numbers with exponents near the noise bound, signs, points, separators,
+#: statement ends, line breaks and indentation, names and entity references.
+_STEP_BITS = st.lists(
+    st.sampled_from(
+        [
+            b"-",
+            b"0",
+            b"1",
+            b"5",
+            b".",
+            b"E-",
+            b"E-1",
+            b"E-13",
+            b"E-12",
+            b"E-145",
+            b"E+02",
+            b"-0.",
+            b"0.",
+            b"1.5E-14",
+            b"-1.E-13",
+            b"2.E-12",
+            b",",
+            b"(",
+            b")",
+            b";",
+            b"\n",
+            b"\r\n",
+            b"  ",
+            b"#",
+            b"A",
+            b"_",
+            b"'",
+        ]
+    ),
+    max_size=40,
+).map(b"".join)
+
+
+@settings(max_examples=400, deadline=None)
+@given(_STEP_BITS)
+def test_step_text_rules_are_their_plain_patterns(text: bytes) -> None:
+    """The STEP text rules are written so the regular-expression engine can look for a
+    literal first; on any text they change exactly what their plain statements do: a line
+    break not after ``;`` (with the next line's indentation) removed, a number below 1e-12
+    written ``0.``, a negative zero in a list written ``0.`` (each plain pattern below is
+    the rule as stated, look-behind first)."""
+    from ductgen.solids.step_text import _NEGATIVE_ZERO, _without_noise, one_statement_per_line
+
+    wrap = re.compile(rb"(?<!;)\r?\n[ ]*")
+    noise = re.compile(rb"(?<![\w.#])-?\d\.\d*E-(?:1[3-9]|[2-9]\d|\d{3})(?![\w.])")
+    negative_zero = re.compile(rb"(?<![\w.#])-0\.(?=[,)])")
+    plain = text.replace(b"\r\n", b"\n")
+    assert one_statement_per_line(text) == wrap.sub(b"", plain)
+    assert _without_noise(text) == noise.sub(b"0.", text)
+    assert _NEGATIVE_ZERO.sub(b"0.", text) == negative_zero.sub(b"0.", text)
 
 
 def test_stl_bytes_are_trimeshs_export_byte_for_byte() -> None:

@@ -37,8 +37,11 @@ _PRODUCT = re.compile(
 
 
 #: A line break (and the next line's indentation) that does not end a statement: the writer
-#: ends every statement with ``;`` and a line; it breaks long ones between tokens
-_WRAP = re.compile(rb"(?<!;)\r?\n[ ]*")
+#: ends every statement with ``;`` and a line; it breaks long ones between tokens. (Each
+#: pattern here starts with a literal, which the regular-expression engine looks for
+#: first: written with the look-behind first, they took ~10x the time, ~40 ms on a 0.8 MB
+#: file for the three.)
+_WRAP = re.compile(rb"\n(?<!;\n)[ ]*")
 
 
 def one_statement_per_line(data: bytes) -> bytes:
@@ -50,16 +53,34 @@ def one_statement_per_line(data: bytes) -> bytes:
 
 #: A number below 1e-12 in the writer's format (``-1.776356839400E-15``)
 _NOISE = re.compile(rb"(?<![\w.#])-?\d\.\d*E-(?:1[3-9]|[2-9]\d|\d{3})(?![\w.])")
+#: Where such a number can end: from its point on (the mantissa is one digit, maybe signed)
+_NOISE_TAIL = re.compile(rb"\.\d*E-(?:1[3-9]|[2-9]\d|\d{3})(?![\w.])")
 
 
 #: A negative zero in the writer's format (``-0.``), a whole number in a list
-_NEGATIVE_ZERO = re.compile(rb"(?<![\w.#])-0\.(?=[,)])")
+_NEGATIVE_ZERO = re.compile(rb"-(?<![\w.#]-)0\.(?=[,)])")
+
+
+def _without_noise(data: bytes) -> bytes:
+    """``data`` with every :data:`_NOISE` number written ``0.``, as ``_NOISE.sub(b"0.",
+    data)`` would write it: each number's tail found first, then the whole pattern tried
+    where it can start (at the sign, else at the digit)."""
+    out, last = [], 0
+    for m in _NOISE_TAIL.finditer(data):
+        for start in (m.start() - 2, m.start() - 1):
+            n = _NOISE.match(data, start) if start >= last else None
+            if n is not None and n.end() == m.end():
+                out += [data[last:start], b"0."]
+                last = m.end()
+                break
+    out.append(data[last:])
+    return b"".join(out)
 
 
 def reproducible_step(data: bytes, name: str) -> bytes:
     """``data`` (the STEP writer's text) as ductgen writes it: one statement per line,
     stamped (:func:`stamp_step`), rounding noise and negative zeros written as ``0.``."""
-    text = _NOISE.sub(b"0.", stamp_step(one_statement_per_line(data), name))
+    text = _without_noise(stamp_step(one_statement_per_line(data), name))
     return _NEGATIVE_ZERO.sub(b"0.", text)
 
 
