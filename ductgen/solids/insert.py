@@ -29,6 +29,8 @@ cuts.
 
 from __future__ import annotations
 
+import contextlib
+from collections.abc import Iterator
 from typing import Literal
 
 import cadquery as cq
@@ -50,9 +52,10 @@ from ductgen.geometry.panel_surface import convex_curvatures
 from ductgen.solids.cutter import build_cutter
 from ductgen.solids.deform import place
 from ductgen.solids.footprint import footprint_face, offset_wire, prism
-from ductgen.solids.insert_outlet import box, open_exit, outlet_pieces
+from ductgen.solids.insert_outlet import open_exit, outlet_pieces
 from ductgen.solids.primitives import (
     boolean,
+    box,
     extrude_xz,
     floor_profile_solid,
     polyline_edges,
@@ -179,9 +182,9 @@ def build_insert(
     if made already (a build makes them in its second worker while this one builds the
     cutter)."""
     g, lay, ins = d.geometry, d.layout, d.fab.insert
-    try:
-        outer, inner_extra = bodies if bodies is not None else insert_bodies(d)
-        inner_extra = list(inner_extra)
+    outer, inner_extra = bodies if bodies is not None else insert_bodies(d)
+    inner_extra = list(inner_extra)
+    with _kernel_failures():
         inner: cq.Shape = cutter if cutter is not None else build_cutter(d)
         if ins.mount == "surface":
             x_open = g.length_mm if g.lip.style == "raised" else g.throat_end_mm
@@ -191,10 +194,6 @@ def build_insert(
         body = boolean("cut", outer, [inner], "insert")
         if ins.mount == "surface" and len(lay.hole_centres_xy):
             body = _drilled(body, lay)
-    except (GeometryError, SpecError):
-        raise
-    except Exception as err:  # kernel exceptions share no base class (seen on this stack)
-        raise _kernel_failure(err) from err
     solids = body.Solids()
     if len(solids) != 1:
         raise GeometryError("insert", f"expected one solid, the kernel produced {len(solids)}")
@@ -209,7 +208,7 @@ def insert_bodies(d: Design) -> tuple[cq.Shape, list[cq.Shape]]:
     g, lay, ins = d.geometry, d.layout, d.fab.insert
     off = ins.wall + g.edge_radius_mm
     k = convex_curvature(d)
-    try:
+    with _kernel_failures():
         fill = _fills_skin(g, k)
         walls = _walls(g, ins.wall, ins.flange_width, k, _wall_shape(d), fill)
         pieces = _skin_and_flange(g, ins, lay, off, with_fill=fill == 0.0)
@@ -223,10 +222,6 @@ def insert_bodies(d: Design) -> tuple[cq.Shape, list[cq.Shape]]:
         else:
             inner_extra += open_exit(g, ins, off)
         return boolean("fuse", walls, pieces, "insert outer body"), inner_extra
-    except (GeometryError, SpecError):
-        raise
-    except Exception as err:  # kernel exceptions share no base class (seen on this stack)
-        raise _kernel_failure(err) from err
 
 
 def bodies_from(compound: cq.Shape | None) -> tuple[cq.Shape, list[cq.Shape]] | None:
@@ -239,11 +234,18 @@ def bodies_from(compound: cq.Shape | None) -> tuple[cq.Shape, list[cq.Shape]] | 
     return outer, inner
 
 
-def _kernel_failure(err: Exception) -> GeometryError:
-    """A kernel failure ``err`` as the insert stage's error."""
-    if isinstance(err, ValueError):
-        return GeometryError("insert", f"kernel failure: {err}")
-    return GeometryError("insert", f"kernel failure: {type(err).__name__}: {err}")
+@contextlib.contextmanager
+def _kernel_failures() -> Iterator[None]:
+    """A kernel failure inside as the insert stage's :class:`GeometryError` (a geometry or
+    spec error passes as it is; kernel exceptions share no base class on this stack)."""
+    try:
+        yield
+    except (GeometryError, SpecError):
+        raise
+    except ValueError as err:
+        raise GeometryError("insert", f"kernel failure: {err}") from err
+    except Exception as err:
+        raise GeometryError("insert", f"kernel failure: {type(err).__name__}: {err}") from err
 
 
 def _bezel_opening(cutter: cq.Shape, z_cut: float, z_top: float, x_open: float) -> list[cq.Shape]:

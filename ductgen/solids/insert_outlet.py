@@ -18,9 +18,9 @@ from ductgen.geometry.fabrication import (
 )
 from ductgen.geometry.inlet import InletGeometry
 from ductgen.solids.cutter import make_transition
-from ductgen.solids.primitives import polyline_edges
+from ductgen.solids.primitives import box, polyline_edges
 
-__all__ = ["box", "open_exit", "outlet_pieces"]
+__all__ = ["open_exit", "outlet_pieces"]
 
 V = cq.Vector
 
@@ -40,10 +40,6 @@ def _bead(sp: Spigot, radius: float) -> cq.Solid:
     edges = polyline_edges([(x, 0.0, zc + r) for x, r in [*pts, pts[0]]])
     wire = cq.Wire.assembleEdges(edges)
     return cq.Solid.revolve(wire, [], 360.0, V(0, 0, zc), V(1, 0, zc))
-
-
-def box(x0: float, x1: float, y0: float, y1: float, z0: float, z1: float) -> cq.Solid:
-    return cq.Solid.makeBox(x1 - x0, y1 - y0, z1 - z0, V(x0, y0, z0))
 
 
 def outlet_pieces(d: Design, k: float) -> tuple[list[cq.Shape], list[cq.Shape]]:

@@ -37,7 +37,7 @@ from ductgen.geometry.jig import (
     jig_stations,
 )
 from ductgen.solids.footprint import offset_wire, prism
-from ductgen.solids.primitives import boolean, polyline_edges
+from ductgen.solids.primitives import boolean, box, polyline_edges
 
 __all__ = ["build_jig", "jig_job", "split_jig"]
 
@@ -87,10 +87,6 @@ def build_jig(d: Design, jig: JigLayout) -> cq.Solid:
     return frame.Solids()[0]
 
 
-def _box(u0: float, u1: float, v0: float, v1: float, w0: float, w1: float) -> cq.Solid:
-    return cq.Solid.makeBox(u1 - u0, v1 - v0, w1 - w0, V(u0, v0, w0))
-
-
 def split_jig(frame: cq.Solid, jig: JigLayout, stations: list[float]) -> list[cq.Solid]:
     """``frame`` (design coordinates) cut at u = each station into keyed pieces, upstream
     first; a piece between two joints is its two side bars (v < 0 first)."""
@@ -104,9 +100,7 @@ def split_jig(frame: cq.Solid, jig: JigLayout, stations: list[float]) -> list[cq
     def tongues(s: float) -> list[cq.Shape]:
         vi, vo = float(jig.inner_half_width(s)), float(jig.outer_half_width(s))
         vc, half = 0.5 * (vi + vo), 0.5 * KEY_FRACTION * (vo - vi)
-        return [
-            _box(s, s + KEY_LENGTH_MM, sg * vc - half, sg * vc + half, w0, w1) for sg in (-1, 1)
-        ]
+        return [box(s, s + KEY_LENGTH_MM, sg * vc - half, sg * vc + half, w0, w1) for sg in (-1, 1)]
 
     edges = [bb.xmin - pad, *stations, bb.xmax + pad]
     pieces: list[cq.Shape] = []
@@ -114,7 +108,7 @@ def split_jig(frame: cq.Solid, jig: JigLayout, stations: list[float]) -> list[cq
         a, b = edges[i], edges[i + 1]
         halves = [(-vmax, vmax)] if i in (0, len(edges) - 2) else [(-vmax, 0.0), (0.0, vmax)]
         for v0, v1 in halves:
-            region: cq.Shape = _box(a, b, v0, v1, w0, w1)
+            region: cq.Shape = box(a, b, v0, v1, w0, w1)
             if i < len(edges) - 2:
                 region = boolean("fuse", region, tongues(b), "jig split region")
             if i > 0:

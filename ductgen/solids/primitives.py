@@ -15,6 +15,7 @@ from ductgen.geometry.planform import Planform
 
 __all__ = [
     "boolean",
+    "box",
     "extrude_xz",
     "floor_edges",
     "floor_profile_solid",
@@ -113,6 +114,11 @@ def floor_profile_solid(
         raise GeometryError("insert walls", "the floor section and the skin band did not join")
     solid = cq.Solid.extrudeLinear(joined.Faces()[0], V(0, 2.0 * half_span, 0))
     return solid if solid.Volume() > 0 else cq.Solid(solid.wrapped.Reversed())
+
+
+def box(x0: float, x1: float, y0: float, y1: float, z0: float, z1: float) -> cq.Solid:
+    """The axis-aligned box between the given coordinates (mm)."""
+    return cq.Solid.makeBox(x1 - x0, y1 - y0, z1 - z0, V(x0, y0, z0))
 
 
 def np3(a: np.ndarray) -> list[tuple[float, float, float]]:

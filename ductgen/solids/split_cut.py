@@ -97,21 +97,15 @@ def _boundary_points(solid: Any) -> np.ndarray:
     return np.asarray(pts, dtype=float)
 
 
-def _box(x0: float, x1: float, y0: float, y1: float, z0: float, z1: float) -> Any:
-    import cadquery as cq
-
-    return cq.Solid.makeBox(x1 - x0, y1 - y0, z1 - z0, cq.Vector(x0, y0, z0))
-
-
 def _region(stations_x: float, bb: Any, key: tuple[float, float]) -> Any:
     """Everything upstream of x = s, plus the tongue: a solid (mm)."""
-    from ductgen.solids.primitives import boolean
+    from ductgen.solids.primitives import boolean, box
 
     length, half = key
     pad = 10.0
-    up = _box(bb.xmin - pad, stations_x, bb.ymin - pad, bb.ymax + pad, bb.zmin - pad, bb.zmax + pad)
+    up = box(bb.xmin - pad, stations_x, bb.ymin - pad, bb.ymax + pad, bb.zmin - pad, bb.zmax + pad)
     yc = 0.5 * (bb.ymin + bb.ymax)
-    tongue = _box(
+    tongue = box(
         stations_x, stations_x + length, yc - half, yc + half, bb.zmin - pad, bb.zmax + pad
     )
     return boolean("fuse", up, tongue, "split region", glue=True)
