@@ -10,7 +10,7 @@ import math
 
 import numpy as np
 
-__all__ = ["mesh_stats"]
+__all__ = ["mesh_stats", "without_collapsed"]
 
 
 def mesh_stats(
@@ -37,14 +37,8 @@ def mesh_stats(
     area = float(
         np.linalg.norm(np.cross(tri[:, 1] - tri[:, 0], tri[:, 2] - tri[:, 0]), axis=1).sum() / 2.0
     )
-    digits = max(round(-math.log10(merge_mm)), 0)
-    grid = np.round(vertices * 10.0**digits).astype(np.int64)
-    order = np.lexsort(grid.T)
-    step = np.any(grid[order[1:]] != grid[order[:-1]], axis=1)
-    merged = np.empty(len(grid), dtype=np.int64)
-    merged[order] = np.concatenate([[0], np.cumsum(step)])
-    f = merged[faces]
-    f = f[(f[:, 0] != f[:, 1]) & (f[:, 1] != f[:, 2]) & (f[:, 0] != f[:, 2])]
+    f = _merged(vertices, merge_mm)[faces]
+    f = f[_distinct(f)]
     if len(f) == 0:
         return False, False, volume, area
     edges = f[:, [0, 1, 1, 2, 2, 0]].reshape(-1, 2)
@@ -55,3 +49,33 @@ def mesh_stats(
     directed = np.sort(edges[:, 0] * n + edges[:, 1])
     winding = closed and bool((directed[1:] != directed[:-1]).all())
     return closed, winding, volume, area
+
+
+def without_collapsed(
+    vertices: np.ndarray, faces: np.ndarray, merge_mm: float = 1e-5
+) -> np.ndarray:
+    """``faces`` without those that :func:`mesh_stats` drops: two of their vertices merged
+    (closer than about ``merge_mm``). A reader merges them too, and such a face then runs
+    one edge twice (seen where a face closed on itself meets an end face: the kernel's
+    mesher put two nodes 5e-12 mm apart on the seam, and trimesh read the piece's STL as not
+    watertight)."""
+    faces = np.asarray(faces, dtype=np.int64).reshape(-1, 3)
+    keep = _distinct(_merged(np.asarray(vertices, dtype=float).reshape(-1, 3), merge_mm)[faces])
+    return faces if keep.all() else faces[keep]
+
+
+def _merged(vertices: np.ndarray, merge_mm: float) -> np.ndarray:
+    """Each vertex's index after merging those whose coordinates round to one point of the
+    grid 10^-d mm, d = round(−log10 merge_mm)."""
+    digits = max(round(-math.log10(merge_mm)), 0)
+    grid = np.round(vertices * 10.0**digits).astype(np.int64)
+    order = np.lexsort(grid.T)
+    step = np.any(grid[order[1:]] != grid[order[:-1]], axis=1)
+    merged = np.empty(len(grid), dtype=np.int64)
+    merged[order] = np.concatenate([[0], np.cumsum(step)])
+    return merged
+
+
+def _distinct(f: np.ndarray) -> np.ndarray:
+    """Whether each face (M, 3) has three distinct vertex indices."""
+    return (f[:, 0] != f[:, 1]) & (f[:, 1] != f[:, 2]) & (f[:, 0] != f[:, 2])

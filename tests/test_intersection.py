@@ -43,7 +43,7 @@ def test_newton_reaches_an_intersection_where_its_surfaces_become_tangent() -> N
     from OCP.gp import gp_Dir, gp_Pln, gp_Pnt
 
     from ductgen.solids.batch_eval import Surface
-    from ductgen.solids.intersection import TOUCH_MM, _newton
+    from ductgen.solids.meet import TOUCH_MM, meet
 
     lift = 3e-9
     plane = BRepBuilderAPI_MakeFace(gp_Pln(gp_Pnt(0, 0, 0), gp_Dir(0, 0, 1)), -10, 10, -10, 10)
@@ -54,7 +54,7 @@ def test_newton_reaches_an_intersection_where_its_surfaces_become_tangent() -> N
     x0 = np.stack([xs, np.full(9, off), np.zeros(9)], axis=1)
     tan = np.tile([1.0, 0.0, 0.0], (9, 1))
     w = np.stack([xs, np.full(9, off), xs, np.full(9, off)], axis=1)
-    got = _newton(s, x0, tan, w)
+    got = meet(s, x0, tan, w)
     assert got is not None
     pts = got[0]
     x, y, z = pts.T

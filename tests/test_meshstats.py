@@ -10,7 +10,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from ductgen.meshstats import mesh_stats
+from ductgen.meshstats import mesh_stats, without_collapsed
 
 #: A right tetrahedron (unit legs): volume 1/6 (derived: a third of base 1/2 times height 1).
 TET = np.array([[0.0, 0.0, 0.0], [1.0, 0.0, 0.0], [0.0, 1.0, 0.0], [0.0, 0.0, 1.0]])
@@ -51,6 +51,23 @@ def test_a_face_collapsed_by_merging_is_dropped() -> None:
     verts = np.vstack([TET, TET[3] + 1e-7])
     assert mesh_stats(verts, np.array([*FACES, (3, 4, 0)]))[0]
     assert not mesh_stats(verts, np.array([*FACES, (0, 1, 4)]))[0]
+
+
+def test_a_collapsed_face_left_out_reads_back_watertight() -> None:
+    """The same collapsed face (3, 4, 0) with vertex 4 5e-12 away, as the kernel's mesher
+    left one on a seam: trimesh (an outside reader, merging as an STL reader does) counts
+    edge 0-3 in three faces and calls the mesh not watertight; with the faces
+    :func:`without_collapsed` keeps it is watertight, and a mesh without such a face comes
+    back the same array."""
+    trimesh = pytest.importorskip("trimesh")
+    verts = np.vstack([TET, TET[3] + 5e-12])
+    faces = np.array([*FACES, (3, 4, 0)])
+    assert not trimesh.Trimesh(verts, faces).is_watertight
+    kept = without_collapsed(verts, faces)
+    assert kept.tolist() == [list(f) for f in FACES]
+    assert trimesh.Trimesh(verts, kept).is_watertight
+    plain = np.array(FACES)
+    assert np.array_equal(without_collapsed(TET, plain), plain)
 
 
 @settings(max_examples=40, deadline=None)

@@ -24,10 +24,7 @@ QualityOption = Annotated[
     str,
     typer.Option(
         "--quality",
-        help=(
-            "STL tessellation: draft | normal | fine"
-            " (fine also lays a curved insert's STEP edges on its faces)"
-        ),
+        help=("STL tessellation: draft | normal | fine"),
     ),
 ]
 NoCacheOption = Annotated[

@@ -35,6 +35,12 @@ class Surface:
             return _evaluate(self.adaptor, uv)
         return np.stack([self._batch(uv, nu=nu) for nu in ((0, 0), (1, 0), (0, 1))], axis=1)
 
+    def points(self, uv: np.ndarray) -> np.ndarray:
+        """Points (N, 3) at (N, 2) parameters."""
+        if self._batch is None or len(uv) < self.BATCH:
+            return _evaluate(self.adaptor, uv)[:, 0]
+        return np.asarray(self._batch(uv))
+
 
 def _batch_surface(a: Any) -> Any:
     """SciPy's NdBSpline of the adaptor's surface when it is a non-rational, non-periodic
@@ -117,20 +123,58 @@ class _Cylinder:
 
 
 def batch_curve(a: Any) -> Any:
-    """SciPy's BSpline of a curve adaptor (3D or on a surface) that is a non-rational,
-    non-periodic B-spline, else None."""
+    """A B-spline curve adaptor (3D or on a surface) evaluated a batch at a time, called
+    like SciPy's BSpline (``c(ts)``, ``c(ts, nu=1)``): a non-rational one as SciPy's
+    BSpline, a rational one (a circle's arc) by its weighted poles (:class:`_Rational`), a
+    periodic one (a circle) made plain over one period with the parameter taken modulo it
+    (:class:`_Periodic`); None for any other curve."""
     from OCP.GeomAbs import GeomAbs_BSplineCurve
     from scipy.interpolate import BSpline
 
     if a.GetType() != GeomAbs_BSplineCurve:
         return None
     b = a.BSpline()
-    if b.IsRational() or b.IsPeriodic():
-        return None
+    period = (b.FirstParameter(), b.Period()) if b.IsPeriodic() else None
+    if period is not None:
+        b = b.Copy()  # the edge's own curve stays periodic
+        b.SetNotPeriodic()
     ks = b.KnotSequence()
     t = np.array([ks.Value(i) for i in range(1, ks.Length() + 1)])
     poles = np.array([b.Pole(i).Coord() for i in range(1, b.NbPoles() + 1)])
-    return BSpline(t, poles, b.Degree(), extrapolate=True)
+    curve: Any = BSpline(t, poles, b.Degree(), extrapolate=True)
+    if b.IsRational():
+        w = np.array([b.Weight(i) for i in range(1, b.NbPoles() + 1)])
+        curve = _Rational(
+            BSpline(t, poles * w[:, None], b.Degree(), extrapolate=True),
+            BSpline(t, w, b.Degree(), extrapolate=True),
+        )
+    return curve if period is None else _Periodic(curve, *period)
+
+
+class _Rational:
+    """A rational B-spline A(t)/W(t) from its weighted poles A and weights W (SciPy
+    BSplines), called like SciPy's BSpline for values and first derivatives."""
+
+    def __init__(self, a: Any, w: Any) -> None:
+        self.a, self.w = a, w
+
+    def __call__(self, t: np.ndarray, nu: int = 0) -> np.ndarray:
+        w = np.asarray(self.w(t))[:, None]
+        x = np.asarray(self.a(t)) / w
+        if nu == 0:
+            return x
+        return (np.asarray(self.a(t, nu=1)) - x * np.asarray(self.w(t, nu=1))[:, None]) / w
+
+
+class _Periodic:
+    """A periodic curve made plain over the period from ``first``, called like SciPy's
+    BSpline at any parameter (taken modulo ``period``)."""
+
+    def __init__(self, curve: Any, first: float, period: float) -> None:
+        self.curve, self.first, self.period = curve, first, period
+
+    def __call__(self, t: np.ndarray, nu: int = 0) -> np.ndarray:
+        return self.curve(self.first + np.mod(np.asarray(t) - self.first, self.period), nu=nu)
 
 
 def _evaluate(s: Any, uv: np.ndarray) -> np.ndarray:

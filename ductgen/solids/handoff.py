@@ -58,7 +58,7 @@ def step_solid_job(
 ) -> dict[str, float]:
     """Kernel-worker job: ``PREFIX-KIND.step`` of a kind built already (``flat``, a binary
     B-rep from :func:`flat_solid_job`), written into ``staging`` as
-    :func:`~ductgen.solids.jobs.build_solids` writes it (a flat insert kept for its split),
+    :func:`~ductgen.solids.jobs.build_solids` writes it (the insert kept for its split),
     while another worker checks the same solid and writes its STL (``build_solids`` with
     ``step=False``); returns its seconds (``step_s``)."""
     import time
@@ -72,5 +72,5 @@ def step_solid_job(
     t0 = time.perf_counter()
     stage(f"{kind} STEP")
     solid: Any = cq.Shape.importBin(BytesIO(flat))  # a solid's, to the last bit
-    write_step(d, kind, place(solid, d, kind), f"{prefix}-{kind}", staging)
+    write_step(kind, place(solid, d, kind), f"{prefix}-{kind}", staging)
     return {"step_s": time.perf_counter() - t0}

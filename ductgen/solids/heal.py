@@ -351,13 +351,10 @@ def heal(
     (:func:`~ductgen.solids.tighten.tighten_edges`); on a mapped solid (curved skins, the
     user's panel) the same clears the edges where two independently fitted spline faces
     cross (read back, the kitcar sample's plug went from 14 findings to none, its cutter
-    from 14 to 4, for ~1.3-1.8 CPU s each). Off for the marking jig (built with exact edges
-    instead, :mod:`ductgen.solids.prism_map`) and, below ``fine`` quality, for a mapped insert
-    (:func:`ductgen.solids.jobs.exact_edges`): its faces are fitted splines with up to ~160
-    knots, and so are its rebuilt edges. On the kit-car sample its file and pieces then read
-    back with 8 edges off a face instead of 178, but healing takes ~6 CPU s more and the
-    split of the heavier edges ~2 s more, both on the build's critical path (1.7x the wall
-    time), and the insert's file is twice the size.
+    from 14 to 4, for ~1.3-1.8 CPU s each; the kit-car insert, whose faces are fitted
+    splines with up to ~160 knots and so are its rebuilt edges, from 178 findings with its
+    pieces to 8, for ~3 CPU s, and a file twice the size). Off for the marking jig (built
+    with exact edges instead, :mod:`ductgen.solids.prism_map`).
 
     ``fresh``: for a piece cut from a solid healed before, the test of the faces the cut
     made (the glue faces): steps 4 and 5 then look only at their edges. Every other edge is

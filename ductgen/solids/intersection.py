@@ -2,9 +2,9 @@
 it (CAD kernel: runs in the kernel worker; mm). Used by :mod:`ductgen.solids.tighten`.
 
 :class:`EdgeIntersection` finds, for parameters t of the edge's present curve, the point on
-both surfaces in the plane normal to that curve at t: Newton's method on
-(u₁, v₁, u₂, v₂) for S₁(u₁, v₁) = S₂(u₂, v₂) and tan·(X − C(t)) = 0, started from the
-edge's surface curves, all points at once (one linear solve per point and iteration). Its
+both surfaces in the plane normal to that curve at t (:func:`~ductgen.solids.meet.meet`:
+Newton's method on (u₁, v₁, u₂, v₂) for S₁(u₁, v₁) = S₂(u₂, v₂) and tan·(X − C(t)) = 0,
+started from the edge's surface curves, all points at once). Its
 :meth:`~EdgeIntersection.fit` gives a 3D curve and both surface curves on one knot vector
 and one parameter, the chord length along the exact points: so the three agree between the
 samples to the fit's accuracy, not merely at them. Where a surface curve crosses a knot of
@@ -15,21 +15,37 @@ there that lets it. Surfaces and the old curves are evaluated a batch at a time
 
 from __future__ import annotations
 
-import itertools
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING, Any, NamedTuple
 
 import numpy as np
 
 from ductgen.solids.batch_eval import Surface, batch_curve
+from ductgen.solids.meet import meet
 
 if TYPE_CHECKING:  # the kernel's bindings carry no type information
     from OCP.TopoDS import TopoDS_Edge, TopoDS_Face
 
-__all__ = ["DEGREE", "EdgeIntersection", "chord_parameter"]
+__all__ = ["DEGREE", "EdgeIntersection", "Fitted", "chord_parameter"]
 
 #: Degree of the fitted curves (a cubic needed spans under 1 mm on a drafted wall's
 #: 335 mm section; a quintic reaches 1e-8 mm with a few millimetres).
 DEGREE = 5
+
+#: Points a knot span at which a fit's deviation from the surfaces is sampled
+#: (:attr:`Fitted.deviation`).
+SAMPLES_PER_SPAN = 24
+
+
+class Fitted(NamedTuple):
+    """Curves fitted to an edge's true intersection: ``curves`` (Geom_BSplineCurve and
+    its two Geom2d_BSplineCurve surface curves, on one parameter) and ``deviation``, the
+    largest distance (mm) between the 3D curve and each surface curve mapped through its
+    surface at :data:`SAMPLES_PER_SPAN` points a knot span (a sample of the kernel's
+    measure: ~1000x cheaper than its optimiser, and the analyser run after healing has
+    the last word)."""
+
+    curves: Any
+    deviation: float
 
 
 def chord_parameter(pts: np.ndarray, t0: float, t1: float) -> np.ndarray | None:
@@ -87,7 +103,7 @@ class EdgeIntersection:
         if np.any(norm < 1e-12):
             return None
         tan /= norm[:, None]
-        return _newton(self.s, x0, tan, w)
+        return meet(self.s, x0, tan, w)
 
     def knot_crossings(self, ts: np.ndarray, w: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """The old-curve parameters where the parameters ``w`` (N, 4) at ``ts`` cross a knot
@@ -142,19 +158,17 @@ class EdgeIntersection:
         crossings: tuple[np.ndarray, np.ndarray],
         dense: np.ndarray,
         along: np.ndarray,
-    ) -> Any:
-        """(Geom_BSplineCurve, Geom2d_BSplineCurve, Geom2d_BSplineCurve) of degree
-        :data:`DEGREE` on ``spans`` uniform spans with a knot at each crossing of the
-        multiplicity it needs (``crossings``: sorted parameters, multiplicities), or None.
+    ) -> Fitted | None:
+        """Curves of degree :data:`DEGREE` (:class:`Fitted`) on ``spans`` uniform spans
+        with a knot at each crossing of the multiplicity it needs (``crossings``: sorted
+        parameters, multiplicities), or None.
         ``dense``/``along``: old parameters (every crossing among them) and their chord
         parameter, used to place DEGREE + 5 samples in every knot span."""
         t0, t1 = self.t0, self.t1
         at, mults = crossings
         knots = _knot_vector(t0, t1, spans, along[np.isin(dense, at)], mults)
         inner = np.unique(knots)
-        want = np.concatenate(
-            [np.linspace(a, b, DEGREE + 6)[:-1] for a, b in itertools.pairwise(inner)]
-        )
+        want = _spread(inner, DEGREE + 5)[:-1]
         ts = np.union1d(np.interp(want, along, dense), np.append(at, [t0, t1]))
         got = self.solve(ts)
         if got is None:
@@ -162,8 +176,31 @@ class EdgeIntersection:
         s = chord_parameter(got[0], t0, t1)
         if s is None:
             return None
-        breaks = s[np.isin(ts, at)]
-        return _bspline_curves(_knot_vector(t0, t1, spans, breaks, mults), s, *got)
+        knots = _knot_vector(t0, t1, spans, s[np.isin(ts, at)], mults)
+        fits = _lsq_fits(knots, s, *got)
+        if fits is None:
+            return None
+        curves = _bspline_curves(knots, fits)
+        return None if curves is None else Fitted(curves, self._sampled_deviation(knots, fits))
+
+    def _sampled_deviation(self, knots: np.ndarray, fits: list[np.ndarray]) -> float:
+        """Largest distance (mm) between the fitted 3D curve and each fitted surface
+        curve mapped through its surface, at :data:`SAMPLES_PER_SPAN` points a span."""
+        from scipy.interpolate import BSpline
+
+        ts = _spread(np.unique(knots), SAMPLES_PER_SPAN)
+        xyz = BSpline(knots, fits[0], DEGREE)(ts)
+        return max(
+            float(np.max(np.linalg.norm(s.points(BSpline(knots, c, DEGREE)(ts)) - xyz, axis=1)))
+            for s, c in zip(self.s, fits[1:], strict=True)
+        )
+
+
+def _spread(breaks: np.ndarray, n: int) -> np.ndarray:
+    """``n`` evenly spaced values in each interval between the sorted ``breaks`` (its start
+    included, its end not; as ``np.linspace(a, b, n + 1)[:-1]`` gives them), and the last
+    break."""
+    return np.append(np.linspace(breaks[:-1], breaks[1:], n + 1, axis=1)[:, :-1], breaks[-1])
 
 
 def _apart(t: np.ndarray, mult: np.ndarray, gap: float) -> tuple[np.ndarray, np.ndarray]:
@@ -188,95 +225,6 @@ def _snapped(t: np.ndarray, to: np.ndarray, within: float) -> np.ndarray:
         return t
     nearest = to[np.argmin(np.abs(t[:, None] - to[None, :]), axis=1)]
     return np.where(np.abs(nearest - t) <= within, nearest, t)
-
-
-def _newton(s: list[Surface], x0: np.ndarray, tan: np.ndarray, w: np.ndarray) -> Any:
-    """Newton's method for every row at once (see the module docstring): (points, w), or
-    None when a row does not converge to 1e-11 mm within 12 steps or strays 1e-3 mm.
-
-    Where the two surfaces are tangent (an edge ending where its faces touch) the Jacobian
-    is singular and a full step can throw the row away. When a row fails, all are solved
-    again taking there the least-norm step (the pseudo-inverse, singular values below
-    :data:`SINGULAR` of the largest dropped), which reaches the surfaces' nearest approach;
-    such a row is done once they are within :data:`TOUCH_MM` there, and kept only within
-    :data:`TOUCH_MOVE_MM` of the old curve: faces tangent all along an edge (an edge round's
-    boundary) touch in a band, and a point there slid up to 1.5e-4 mm along it. (Only on a
-    failure: the least-norm step moves a converging row's last digits, and with them a
-    mesh.)"""
-    got = _newton_pass(s, x0, tan, w, least_norm=False)
-    return got if got is not None else _newton_pass(s, x0, tan, w, least_norm=True)
-
-
-def _newton_pass(
-    s: list[Surface], x0: np.ndarray, tan: np.ndarray, w: np.ndarray, least_norm: bool
-) -> Any:
-    w = w.copy()
-    pts = np.empty_like(x0)
-    todo = np.arange(len(w))
-    singular = np.zeros(len(w), dtype=bool)
-    for _ in range(12):
-        a, b = s[0].at(w[todo, :2]), s[1].at(w[todo, 2:])
-        r = np.concatenate(
-            [a[:, 0] - b[:, 0], np.einsum("ij,ij->i", tan[todo], a[:, 0] - x0[todo])[:, None]],
-            axis=1,
-        )
-        res = np.max(np.abs(r), axis=1)
-        done = (res < 1e-11) | (singular[todo] & (res < TOUCH_MM))
-        pts[todo[done]] = a[done, 0]
-        keep = ~done
-        todo, a, b, r = todo[keep], a[keep], b[keep], r[keep]
-        if not len(todo):
-            break
-        jac = np.zeros((len(todo), 4, 4))
-        jac[:, :3, 0], jac[:, :3, 1], jac[:, :3, 2], jac[:, :3, 3] = (
-            a[:, 1],
-            a[:, 2],
-            -b[:, 1],
-            -b[:, 2],
-        )
-        jac[:, 3, 0] = np.einsum("ij,ij->i", tan[todo], a[:, 1])
-        jac[:, 3, 1] = np.einsum("ij,ij->i", tan[todo], a[:, 2])
-        step = _steps(jac, r, singular, todo, least_norm)
-        if step is None:
-            return None
-        w[todo] += step
-    moved = np.linalg.norm(pts - x0, axis=1)
-    if len(todo) or np.any(moved > 1e-3) or np.any(moved[singular] > TOUCH_MOVE_MM):
-        return None
-    return pts, w
-
-
-#: A Jacobian whose smallest singular value is below this fraction of its largest is
-#: treated as singular (the surfaces tangent there).
-SINGULAR = 1e-7
-#: Surfaces tangent at a point are taken to meet there when this close (mm): a quarter of
-#: the deviation :mod:`ductgen.solids.tighten` rebuilds edges to.
-TOUCH_MM = 5e-9
-#: ... and such a point is kept no farther than this (mm) from the old curve.
-TOUCH_MOVE_MM = 1e-6
-
-
-def _steps(
-    jac: np.ndarray, r: np.ndarray, singular: np.ndarray, todo: np.ndarray, least_norm: bool
-) -> Any:
-    """Newton steps (N, 4) for the rows ``todo``: solved, or with ``least_norm`` the
-    least-norm step where the Jacobian is singular (those rows marked in ``singular``);
-    None when one is not finite."""
-    if least_norm:
-        sv = np.linalg.svd(jac, compute_uv=False)
-        flat = sv[:, -1] < SINGULAR * sv[:, 0]
-    else:
-        flat = np.zeros(len(jac), dtype=bool)
-    singular[todo[flat]] = True
-    step = np.empty((len(jac), 4))
-    try:
-        if np.any(~flat):
-            step[~flat] = np.linalg.solve(jac[~flat], -r[~flat][:, :, None])[:, :, 0]
-    except np.linalg.LinAlgError:
-        return None
-    if np.any(flat):
-        step[flat] = np.einsum("nij,nj->ni", np.linalg.pinv(jac[flat], rcond=SINGULAR), -r[flat])
-    return step if np.all(np.isfinite(step)) else None
 
 
 def _surface_knots(a: Any) -> tuple[np.ndarray, np.ndarray]:
@@ -329,15 +277,12 @@ def _knot_vector(
     return np.concatenate([[t0] * (DEGREE + 1), inner, [t1] * (DEGREE + 1)])
 
 
-def _bspline_curves(knots: np.ndarray, ts: np.ndarray, pts: np.ndarray, w: np.ndarray) -> Any:
-    """(Geom_BSplineCurve, Geom2d_BSplineCurve, Geom2d_BSplineCurve) fitted by least
-    squares to the points and both parameter paths at ``ts``, ends held exact; None when
-    the fit fails."""
-    from OCP.Geom import Geom_BSplineCurve
-    from OCP.Geom2d import Geom2d_BSplineCurve
-    from OCP.gp import gp_Pnt, gp_Pnt2d
-    from OCP.TColgp import TColgp_Array1OfPnt, TColgp_Array1OfPnt2d
-    from OCP.TColStd import TColStd_Array1OfInteger, TColStd_Array1OfReal
+def _lsq_fits(
+    knots: np.ndarray, ts: np.ndarray, pts: np.ndarray, w: np.ndarray
+) -> list[np.ndarray] | None:
+    """Poles of the 3D curve (n, 3) and both surface curves (n, 2) fitted by least squares
+    to the points and both parameter paths at ``ts``, ends held exact; None when the fit
+    fails."""
     from scipy.interpolate import make_lsq_spline
 
     ys = (pts, w[:, :2], w[:, 2:])
@@ -347,6 +292,18 @@ def _bspline_curves(knots: np.ndarray, ts: np.ndarray, pts: np.ndarray, w: np.nd
         return None
     for c, y in zip(fits, ys, strict=True):
         c[0], c[-1] = y[0], y[-1]
+    return fits
+
+
+def _bspline_curves(knots: np.ndarray, fits: list[np.ndarray]) -> Any:
+    """(Geom_BSplineCurve, Geom2d_BSplineCurve, Geom2d_BSplineCurve) with the poles
+    ``fits`` (:func:`_lsq_fits`) on ``knots``; None when the kernel refuses them."""
+    from OCP.Geom import Geom_BSplineCurve
+    from OCP.Geom2d import Geom2d_BSplineCurve
+    from OCP.gp import gp_Pnt, gp_Pnt2d
+    from OCP.TColgp import TColgp_Array1OfPnt, TColgp_Array1OfPnt2d
+    from OCP.TColStd import TColStd_Array1OfInteger, TColStd_Array1OfReal
+
     uk, um = np.unique(knots, return_counts=True)
     ka, ma = TColStd_Array1OfReal(1, len(uk)), TColStd_Array1OfInteger(1, len(uk))
     for i, (k, m) in enumerate(zip(uk, um, strict=True), start=1):

@@ -31,7 +31,6 @@ __all__ = [
     "SolidRecipe",
     "build_solids",
     "cutter_mesh_job",
-    "exact_edges",
     "recipes",
     "warm_up",
     "write_step",
@@ -208,7 +207,7 @@ def _one_solid(
     if step:
         t0 = time.perf_counter()
         stage(f"{kind} STEP")
-        write_step(d, kind, solid, base, staging, exact_edges(d, kind, quality))
+        write_step(kind, solid, base, staging)
         times["step_s"] = time.perf_counter() - t0
     t0 = time.perf_counter()
     stage(f"{kind} STL")
@@ -264,27 +263,17 @@ def _checked(
     return res, design_mesh
 
 
-def exact_edges(d: Design, kind: str, quality: str) -> bool:
-    """Whether ``kind``'s STEP file gets every edge laid on its faces: always, except a
-    mapped insert (curved skin or the user's panel) below ``fine`` quality, whose cost is
-    measured in :func:`~ductgen.solids.heal.heal`'s ``exact_edges``."""
-    return d.skin.is_flat or kind != "insert" or quality == "fine"
-
-
-def write_step(
-    d: Design, kind: str, solid: Any, base: str, staging: str, exact: bool = True
-) -> str:
-    """Write ``BASE.step`` (healed; with ``exact``, edges laid exactly on their faces, see
-    :func:`~ductgen.solids.heal.heal` and :func:`exact_edges`) into ``staging``; returns its
-    name. A flat insert is kept in memory for its split (a mapped one, on a curved skin or
-    the user's panel, is read back from its file)."""
+def write_step(kind: str, solid: Any, base: str, staging: str) -> str:
+    """Write ``BASE.step`` (healed, every edge laid on its faces: see
+    :func:`~ductgen.solids.heal.heal`) into ``staging``; returns its name. The healed insert
+    is kept in memory for its split."""
     from ductgen.atomic import write_atomic
     from ductgen.solids.cad_io import step_bytes_healed
 
     step_name = f"{base}.step"
-    data, healed = step_bytes_healed(solid, base, exact_edges=exact)
+    data, healed = step_bytes_healed(solid, base)
     write_atomic(Path(staging) / step_name, data)
-    if kind == "insert" and d.skin.is_flat:
+    if kind == "insert":
         import cadquery as cq
 
         from ductgen.solids.split import keep_for_split

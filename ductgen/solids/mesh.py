@@ -62,14 +62,16 @@ def closed_mesh(
 ) -> tuple[np.ndarray, np.ndarray]:
     """:func:`triangulate` at the asked deflections (mm, rad), or, when that mesh is not
     closed and consistently wound, at half of them, ``finer`` tries in all (the last one
-    returned either way: the caller's check then names the part). Seen at the draft STL
-    quality (0.2 mm, 0.5 rad): an insert piece's split face whose boundary runs from the
-    edge round into the wall tangentially was meshed folded over itself there (edges of
-    four triangles)."""
-    from ductgen.meshstats import mesh_stats
+    returned either way: the caller's check then names the part); faces two of whose
+    vertices merge are left out (:func:`~ductgen.meshstats.without_collapsed`). Seen at the
+    draft STL quality (0.2 mm, 0.5 rad): an insert piece's split face whose boundary runs
+    from the edge round into the wall tangentially was meshed folded over itself there
+    (edges of four triangles)."""
+    from ductgen.meshstats import mesh_stats, without_collapsed
 
     for _ in range(finer):
         v, f = triangulate(shape, linear_mm, angular_rad)
+        f = without_collapsed(v, f)
         tight, winding, _, _ = mesh_stats(v, f)
         if tight and winding:
             break

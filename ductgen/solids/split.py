@@ -213,9 +213,8 @@ def split_insert_job(
 
     stage("insert split")
     path = Path(staging) / step_name
-    # a flat insert is cut in memory by planes; a mapped one (curved skin, not kept) is read
-    # back and cut by Booleans: in memory, with healing's tolerances, the splitter's pieces
-    # came out invalid and the Booleans took minutes
+    # the insert healed in memory (every edge on its faces) is cut by planes; one read back
+    # (its STEP came from the solid cache) by Booleans
     whole = _IN_MEMORY.pop(str(path.resolve()), None)
     by_planes = whole is not None
     if whole is None:
@@ -224,10 +223,10 @@ def split_insert_job(
     if frame is not None:
         whole, to_model = _into_frame(whole, frame)
     xs, pieces, meshes = _pieces_that_fit(whole, stations_x, bed, up, quality, by_planes)
-    # only a flat insert's pieces get their edges laid exactly on their faces (on mapped
-    # splines that cleared nothing the analyser flags, at a third of the split's CPU; at
-    # fine quality the mapped insert's file has them, and its pieces keep them); a flat
-    # one's are healed only where the cut made new faces (the whole was healed in memory)
+    # pieces cut by planes from the healed insert get their edges laid exactly on their
+    # faces only where the cut made new faces (the rest keep the insert's); pieces cut by
+    # Booleans are healed without (on a mapped insert read back that cleared nothing the
+    # analyser flags, at a third of the split's CPU)
     heal_as = (by_planes, glue_faces(whole, xs) if by_planes and to_model is None else None)
     return [
         _stage_piece(

@@ -226,10 +226,11 @@ def _tighten(e: TopoDS_Edge, faces: list[TopoDS_Face], old: Deviation) -> int:
         return 0
     best: float | None = None
     for spans in SPANS:
-        curves = x.fit(spans, crossings, dense, along)
-        if curves is None:
+        fitted = x.fit(spans, crossings, dense, along)
+        if fitted is None:
             break
-        new = _try_curves(e, faces, curves, old if best is None else Deviation.known(best))
+        bar = old if best is None else Deviation.known(best)
+        new = _try_curves(e, faces, fitted.curves, bar, measured=fitted.deviation)
         if new is not None:
             best = new
         if best is not None and best <= GOAL_MM:
@@ -243,10 +244,12 @@ def _try_curves(
     curves: Any,
     old: Deviation,
     rng: tuple[float, float] | None = None,
+    measured: float | None = None,
 ) -> float | None:
     """Give ``e`` the new curves (over ``rng``, default its present range); keep them when
     they lie closer than ``old`` on both faces and the vertices stay within 1e-3 mm: the
-    new deviation (mm). Otherwise restore the edge's previous curves and return None."""
+    new deviation (mm; ``measured`` when given, else the kernel's optimiser's). Otherwise
+    restore the edge's previous curves and return None."""
     from OCP.BRep import BRep_Builder, BRep_Tool
     from OCP.BRepAdaptor import BRepAdaptor_Curve
     from OCP.ShapeFix import ShapeFix_ShapeTolerance
@@ -266,7 +269,7 @@ def _try_curves(
     B.Range(e, n0, n1)
     B.SameRange(e, True)
     B.SameParameter(e, True)
-    new = max(curve_on_face_deviation(e, f) for f in faces)
+    new = measured if measured is not None else max(curve_on_face_deviation(e, f) for f in faces)
     v1, v2 = TopoDS_Vertex(), TopoDS_Vertex()
     TopExp.Vertices_s(e, v1, v2)
     gaps = [BRep_Tool.Pnt_s(v).Distance(c3.Value(t)) for v, t in ((v1, n0), (v2, n1))]
