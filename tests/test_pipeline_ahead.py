@@ -35,17 +35,19 @@ def test_a_failed_template_thread_fails_the_build_and_publishes_nothing(
 
 @pytest.mark.slow
 def test_work_ahead_and_beside_gives_the_same_bytes(tmp_path: Path) -> None:
-    """The kitcar sample (curved: template, jig and picture all started ahead) built with
-    the side worker and without it: every file the same, byte for byte (the STEP files too:
-    before each statement was written on one line, the kernel's writer broke a few lines
-    at other places in a worker that had written other files)."""
+    """The kitcar sample (curved: template, jig and picture all started ahead; the insert
+    placed on the skin in the kernel worker and handed to the side worker for its check and
+    STL) built with the side worker and without it: every file the same, byte for byte (the
+    STEP files too: before each statement was written on one line, the kernel's writer
+    broke a few lines at other places in a worker that had written other files)."""
     spec = load_spec(ROOT / "samples" / "kitcar-bonnet-intake.toml")
-    only = ["cutter", "template", "sheet", "jig"]
+    only = ["cutter", "insert", "template", "sheet", "jig"]
     build(spec, tmp_path / "a", only=only, cache=False)
     build(spec, tmp_path / "b", only=only, cache=False, beside=False)
     a = {p.name: p.read_bytes() for p in sorted((tmp_path / "a").iterdir())}
     b = {p.name: p.read_bytes() for p in sorted((tmp_path / "b").iterdir())}
     assert sorted(a) == sorted(b) and "kitcar-bonnet-intake-jig.step" in a
+    assert "kitcar-bonnet-intake-insert-part3.stl" in a
     assert [n for n in a if a[n] != b[n]] == []
 
 
@@ -240,43 +242,70 @@ def test_work_started_once_runs_once_from_any_thread() -> None:
     assert len(runs) == 1
 
 
-def test_a_mapped_insert_is_told_written_before_the_side_worker_finishes() -> None:
-    """On a curved skin the kernel worker builds and writes the insert while the side
-    worker checks the cutter and makes the plug: the build is told the insert is written
-    (and starts its split) as soon as the kernel worker's job returns, not when the side
-    worker's kinds are done."""
+def test_a_mapped_insert_is_placed_once_and_told_written_before_the_other_kinds() -> None:
+    """On a curved skin the kernel worker builds the insert and places it on the skin
+    (the map takes seconds: once), hands both solids over for the check and the STL, and
+    writes the STEP from the placed one; the build is told the insert is written (and
+    starts its split) as soon as that STEP and the check are done, not when the side
+    worker's other kinds (cutter, plug) are."""
     import threading
     from concurrent.futures import Future
 
+    import numpy as np
+
     from ductgen.design import build_design
     from ductgen.pipeline.solid_cache import SolidStage
-    from ductgen.solids.handoff import flat_solid_job
+    from ductgen.solids.handoff import flat_solid_job, placed_solid_job, step_solid_job
+    from ductgen.solids.jobs import build_solids
+    from ductgen.solids.results import Mesh, SolidResult
 
     skin = {"shape": "cylinder", "radius": 1400, "axis": "spanwise", "thickness": 3}
     spec = parse_spec({"name": "tt", "throat": {"width": 80, "depth": 20}, "skin": skin})
     design = build_design(spec)
     assert not design.skin.is_flat
+    mesh = Mesh(np.zeros((0, 3), dtype="float32"), np.zeros((0, 3), dtype="int32"))
+    insert = SolidResult(1.0, None, 1.0, 1.0, 1, (0.1, 0.1), "i.step", "i.stl", mesh)
+    kernel_jobs: list[object] = []
 
     class _Worker:
         def run(self, job: object, *args: object) -> object:
-            return b"cutter (test)" if job is flat_solid_job else {"insert": "insert (test)"}
+            kernel_jobs.append(job)
+            if job is flat_solid_job:
+                return b"cutter (test)"
+            if job is placed_solid_job:
+                return b"insert flat", b"insert placed"
+            assert job is step_solid_job and args[-1] == b"insert placed", (job, args)
+            return {"step_s": 0.5}
 
     side: Future[object] = Future()
     others = {"cutter": "cutter (test)", "plug": "plug (test)"}
     lock, told = threading.Lock(), []
-    stage = SolidStage(None, design, "normal", _Worker())  # type: ignore[arg-type]
+    checks: list[tuple[object, ...]] = []
 
-    def finish(by: str) -> None:
+    def beside(job: object, *args: object) -> Future[object]:
+        if args[1] != ["insert"]:
+            return side
+        assert job is build_solids
+        checks.append(args)
+        checked: Future[object] = Future()
+        checked.set_result({"insert": insert})
+        return checked
+
+    def finish(by: object) -> None:
         with lock:
             if not side.done():
                 told.append(by)
                 side.set_result(others)
 
+    stage = SolidStage(None, design, "normal", _Worker())  # type: ignore[arg-type]
     late = threading.Timer(5.0, finish, ("the side worker",))  # so a wrong order fails
     late.start()
-    got = stage.solids(
-        ["cutter", "insert", "plug"], "tt", Path("."), lambda *_a: side, None, finish
-    )
+    got = stage.solids(["cutter", "insert", "plug"], "tt", Path("."), beside, None, finish)
     late.cancel()
-    assert told == ["insert (test)"]
-    assert got == {"cutter": "cutter (test)", "insert": "insert (test)", "plug": "plug (test)"}
+    assert kernel_jobs == [flat_solid_job, placed_solid_job, step_solid_job]
+    # the check is handed both solids: the flat one and the placed one, not placed again
+    assert [(c[5], c[6], c[7]) for c in checks] == [
+        ({"insert": b"insert flat"}, False, {"insert": b"insert placed"})
+    ]
+    assert told == [got["insert"]]  # not "the side worker"
+    assert got["insert"].seconds["step_s"] == 0.5 and got["cutter"] == "cutter (test)"

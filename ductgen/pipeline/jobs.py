@@ -16,7 +16,12 @@ from typing import Any
 
 from ductgen.panel_file import sample_panel
 from ductgen.render import render_png, warm_up_drawing
-from ductgen.solids.handoff import flat_solid_job, insert_bodies_job, step_solid_job
+from ductgen.solids.handoff import (
+    flat_solid_job,
+    insert_bodies_job,
+    placed_solid_job,
+    step_solid_job,
+)
 from ductgen.solids.jig_job import jig_job
 from ductgen.solids.jobs import build_solids, cutter_mesh_job
 from ductgen.solids.panel_cut import cut_panel_job
@@ -34,6 +39,7 @@ KERNEL_JOBS: dict[str, Callable[..., Any]] = {
         cutter_mesh_job,
         flat_solid_job,
         insert_bodies_job,
+        placed_solid_job,
         step_solid_job,
         warm_up,
         split_insert_job,

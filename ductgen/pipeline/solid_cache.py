@@ -29,7 +29,12 @@ from ductgen.design import Design
 from ductgen.design.identity import design_fields
 from ductgen.errors import DesignWarning, DuctgenError
 from ductgen.report import InsertSplit, MeshChecks, mesh_checks
-from ductgen.solids.handoff import flat_solid_job, insert_bodies_job, step_solid_job
+from ductgen.solids.handoff import (
+    flat_solid_job,
+    insert_bodies_job,
+    placed_solid_job,
+    step_solid_job,
+)
 from ductgen.solids.jobs import build_solids
 from ductgen.solids.kinds import INSERT_BODIES
 from ductgen.solids.results import InsertPiece, Mesh, SolidResult
@@ -176,11 +181,10 @@ class SolidStage:
         builds the cutter in design coordinates first (the insert is cut with it; on a flat
         skin the side worker makes the insert's outer body meanwhile), hands it over as a
         binary B-rep (:func:`~ductgen.solids.handoff.flat_solid_job`) and builds the
-        insert, which on a flat skin it hands over too (:meth:`_insert_beside`), writes as
-        STEP and splits next from the shape it keeps; the side worker checks and writes the
-        cutter, builds the plug, and on a flat skin checks the insert and writes its STL
-        (mapping a curved or panel insert onto its skin, 1.6–3.2 CPU s on the samples,
-        would be done twice: measured 1.18x slower there). Each kind's files are the same
+        insert, which it hands over too (:meth:`_insert_beside`; a curved or panel insert
+        placed on its skin first, once), writes as STEP and splits next from the shape it
+        keeps; the side worker checks and writes the cutter, builds the plug, and checks
+        the insert and writes its STL. Each kind's files are the same
         bytes either way. When both fail, the error of the kind that comes first in
         ``kinds`` is raised, as when one worker builds them one after another. ``told``: the
         insert's ``checked`` and ``written`` callbacks (:meth:`solids`)."""
@@ -196,10 +200,7 @@ class SolidStage:
             flats["cutter"] = self.worker.run(flat_solid_job, self.design, "cutter")
         side = beside(build_solids, self.design, others, *args, flats)
         try:
-            if bodies is not None:
-                main = self._insert_beside(flats, bodies, prefix, staging, beside, checked)
-            else:  # placing a mapped insert takes seconds: once, here
-                main = self.worker.run(build_solids, self.design, ["insert"], *args, flats)
+            main = self._insert_beside(flats, bodies, prefix, staging, beside, checked)
             if written is not None:
                 written(main["insert"])
         except DuctgenError as err:
@@ -213,29 +214,38 @@ class SolidStage:
     def _insert_beside(
         self,
         flats: dict[str, bytes],
-        bodies: Future[bytes],
+        bodies: Future[bytes] | None,
         prefix: str,
         staging: Path,
         beside: Beside,
         checked: Told,
     ) -> dict[str, SolidResult]:
-        """The insert built here (cut with the cutter in ``flats`` from the outer body
-        made ``bodies`` beside, :func:`~ductgen.solids.handoff.insert_bodies_job`) and
-        handed over: checked and its STL written ``beside`` while its STEP is written here
-        (the same files as :func:`~ductgen.solids.jobs.build_solids` makes alone; a failed
-        check is raised first, as there). Should ``bodies`` have failed, the insert's job
-        makes them again and raises that error itself, naming its stage."""
+        """The insert built here (cut with the cutter in ``flats``; on a flat skin from the
+        outer body made ``bodies`` beside, :func:`~ductgen.solids.handoff.insert_bodies_job`;
+        on a curved one placed here too, once: the map takes seconds) and handed over:
+        checked and its STL written ``beside`` while its STEP is written here (the same
+        files as :func:`~ductgen.solids.jobs.build_solids` makes alone; a failed check is
+        raised first, as there). Should ``bodies`` have failed, the insert's job makes them
+        again and raises that error itself, naming its stage."""
         t0 = time.perf_counter()
-        if bodies.exception() is None:
+        if bodies is not None and bodies.exception() is None:
             flats = {**flats, INSERT_BODIES: bodies.result()}
-        flat = self.worker.run(flat_solid_job, self.design, "insert", flats)
+        placed: dict[str, bytes] = {}
+        if self.design.skin.is_flat:
+            flat = self.worker.run(flat_solid_job, self.design, "insert", flats)
+        else:
+            flat, placed["insert"] = self.worker.run(placed_solid_job, self.design, "insert", flats)
         seconds = {"build_s": time.perf_counter() - t0}
         args = (self.quality, prefix, str(staging))
-        check = beside(build_solids, self.design, ["insert"], *args, {"insert": flat}, False)
+        check = beside(
+            build_solids, self.design, ["insert"], *args, {"insert": flat}, False, placed
+        )
         if checked is not None:
             check.add_done_callback(lambda f: f.exception() or checked(f.result()["insert"]))
         try:
-            seconds |= self.worker.run(step_solid_job, self.design, "insert", flat, *args[1:])
+            seconds |= self.worker.run(
+                step_solid_job, self.design, "insert", flat, *args[1:], placed.get("insert")
+            )
         except DuctgenError:
             wait([check])
             if isinstance(check.exception(), DuctgenError):

@@ -3,8 +3,9 @@ as the kernel's binary B-rep (every number to the bit, so the other worker's fil
 same bytes), opaque bytes to the parent, which never loads the kernel. A build's kernel
 worker builds the cutter while the side worker makes the insert's outer body
 (:func:`insert_bodies_job`), hands the cutter to the side worker to check and write, and cuts
-the insert with it; then hands the insert over to be checked and its STL written while it
-writes the insert's STEP (:meth:`ductgen.pipeline.solid_cache.SolidStage.solids`).
+the insert with it; then hands the insert over (on a curved skin or a panel also placed on
+it, :func:`placed_solid_job`: the map is made once) to be checked and its STL written while
+it writes the insert's STEP (:meth:`ductgen.pipeline.solid_cache.SolidStage.solids`).
 """
 
 from __future__ import annotations
@@ -14,7 +15,7 @@ from typing import Any
 from ductgen.design import Design
 from ductgen.worker import stage
 
-__all__ = ["flat_solid_job", "insert_bodies_job", "step_solid_job"]
+__all__ = ["flat_solid_job", "insert_bodies_job", "placed_solid_job", "step_solid_job"]
 
 
 def flat_solid_job(d: Design, kind: str, flats: dict[str, bytes] | None = None) -> bytes:
@@ -33,6 +34,30 @@ def flat_solid_job(d: Design, kind: str, flats: dict[str, bytes] | None = None) 
     buf = BytesIO()
     recipes()[kind].build(d, built).exportBin(buf)
     return buf.getvalue()
+
+
+def placed_solid_job(
+    d: Design, kind: str, flats: dict[str, bytes] | None = None
+) -> tuple[bytes, bytes]:
+    """Kernel-worker job: one kind built in design coordinates (as :func:`flat_solid_job`)
+    and placed on the design's curved skin or panel (the map: seconds on an insert, done
+    once), both as binary B-reps: (flat, placed)."""
+    from io import BytesIO
+
+    import cadquery as cq
+
+    from ductgen.solids.deform import place
+    from ductgen.solids.jobs import recipes
+
+    stage(kind)
+    built = {k: cq.Shape.importBin(BytesIO(b)) for k, b in (flats or {}).items()}
+    flat = recipes()[kind].build(d, built)
+    out = []
+    for solid in (flat, place(flat, d, kind)):
+        buf = BytesIO()
+        solid.exportBin(buf)
+        out.append(buf.getvalue())
+    return out[0], out[1]
 
 
 def insert_bodies_job(d: Design) -> bytes:
@@ -54,10 +79,11 @@ def insert_bodies_job(d: Design) -> bytes:
 
 
 def step_solid_job(
-    d: Design, kind: str, flat: bytes, prefix: str, staging: str
+    d: Design, kind: str, flat: bytes, prefix: str, staging: str, placed: bytes | None = None
 ) -> dict[str, float]:
     """Kernel-worker job: ``PREFIX-KIND.step`` of a kind built already (``flat``, a binary
-    B-rep from :func:`flat_solid_job`), written into ``staging`` as
+    B-rep from :func:`flat_solid_job`; ``placed``: the same placed on a curved skin, from
+    :func:`placed_solid_job`), written into ``staging`` as
     :func:`~ductgen.solids.jobs.build_solids` writes it (the insert kept for its split),
     while another worker checks the same solid and writes its STL (``build_solids`` with
     ``step=False``); returns its seconds (``step_s``)."""
@@ -71,6 +97,9 @@ def step_solid_job(
 
     t0 = time.perf_counter()
     stage(f"{kind} STEP")
-    solid: Any = cq.Shape.importBin(BytesIO(flat))  # a solid's, to the last bit
-    write_step(kind, place(solid, d, kind), f"{prefix}-{kind}", staging)
+    # a solid's, to the last bit
+    solid: Any = cq.Shape.importBin(BytesIO(flat if placed is None else placed))
+    if placed is None:
+        solid = place(solid, d, kind)
+    write_step(kind, solid, f"{prefix}-{kind}", staging)
     return {"step_s": time.perf_counter() - t0}

@@ -146,6 +146,7 @@ def build_solids(
     staging: str,
     flats: dict[str, bytes] | None = None,
     step: bool = True,
+    placed: dict[str, bytes] | None = None,
 ) -> dict[str, SolidResult]:
     """Build, check and encode each kind; write ``PREFIX-KIND.step/.stl`` into ``staging``.
 
@@ -157,6 +158,8 @@ def build_solids(
     (the same solid to the last bit, so the same files), by the kinds that need them too
     (the insert its cutter). ``step`` False: no STEP file is written (another worker writes
     it, :func:`~ductgen.solids.handoff.step_solid_job`); its name is returned all the same.
+    ``placed``: kinds placed on a curved skin already (kind → binary B-rep, with their flat
+    solids in ``flats``: :func:`~ductgen.solids.handoff.placed_solid_job`), not mapped again.
     """
     from io import BytesIO
 
@@ -164,10 +167,13 @@ def build_solids(
 
     out: dict[str, SolidResult] = {}
     built: dict[str, Any] = {k: cq.Shape.importBin(BytesIO(b)) for k, b in (flats or {}).items()}
+    on_skin = {k: cq.Shape.importBin(BytesIO(b)) for k, b in (placed or {}).items()}
     book = recipes()
     for kind in kinds:
         base = f"{prefix}-{kind}"
-        out[kind] = _one_solid(d, kind, book[kind], built, quality, base, staging, step)
+        out[kind] = _one_solid(
+            d, kind, book[kind], built, quality, base, staging, step, on_skin.get(kind)
+        )
     return out
 
 
@@ -180,10 +186,11 @@ def _one_solid(
     base: str,
     staging: str,
     step: bool = True,
+    placed: Any = None,
 ) -> SolidResult:
-    """One kind built flat (kept in ``built``), placed, checked, and written as
-    ``BASE.step`` (unless ``step`` is False) and ``BASE.stl`` into ``staging`` (see
-    :func:`build_solids`)."""
+    """One kind built flat (kept in ``built``), placed (unless ``placed`` is given),
+    checked, and written as ``BASE.step`` (unless ``step`` is False) and ``BASE.stl`` into
+    ``staging`` (see :func:`build_solids`)."""
     import time
 
     from ductgen.solids.check import CHECK_MESH, CHECK_MESH_CURVED
@@ -196,7 +203,7 @@ def _one_solid(
     stage(kind)
     flat = built[kind] if kind in built else recipe.build(d, built)
     built[kind] = flat
-    solid = place(flat, d, kind)
+    solid = place(flat, d, kind) if placed is None else placed
     times["build_s"] = time.perf_counter() - t0
     t0 = time.perf_counter()
     stage(f"{kind} check")
