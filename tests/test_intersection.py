@@ -65,6 +65,56 @@ def test_newton_reaches_an_intersection_where_its_surfaces_become_tangent() -> N
     assert np.allclose(x, xs, atol=1e-9)
 
 
+def _plane_and_saddle(lift: float):  # type: ignore[no-untyped-def]
+    """The plane z = 0 and the saddle z = x·y + ``lift`` (batch-evaluated surfaces), and an
+    old edge along x from 0 to 5 mm 1e-7 mm off their intersection: (surfaces, x0, tan, w)
+    for :func:`~ductgen.solids.meet.meet`, nine rows, the first at x = 0."""
+    import cadquery as cq
+    from OCP.BRepAdaptor import BRepAdaptor_Surface
+    from OCP.BRepBuilderAPI import BRepBuilderAPI_MakeFace
+    from OCP.gp import gp_Dir, gp_Pln, gp_Pnt
+
+    from ductgen.solids.batch_eval import Surface
+
+    plane = BRepBuilderAPI_MakeFace(gp_Pln(gp_Pnt(0, 0, 0), gp_Dir(0, 0, 1)), -10, 10, -10, 10)
+    saddle = BRepBuilderAPI_MakeFace(_saddle(lift), 1e-7)
+    s = [Surface(BRepAdaptor_Surface(cq.Face(f.Face()).wrapped)) for f in (plane, saddle)]
+    xs = np.linspace(0.0, 5.0, 9)
+    off = 1e-7
+    x0 = np.stack([xs, np.full(9, off), np.zeros(9)], axis=1)
+    tan = np.tile([1.0, 0.0, 0.0], (9, 1))
+    w = np.stack([xs, np.full(9, off), xs, np.full(9, off)], axis=1)
+    return s, x0, tan, w
+
+
+def test_an_edge_whose_faces_become_tangent_apart_ends_between_them() -> None:
+    """The plane z = 0 and the saddle z = x·y + 3e-7 mm: tangent at x = 0, where they pass
+    3e-7 mm apart (closed form: both normals along z there; as two fitted faces at the end
+    of the side-pod insert's transition edges). No point lies on both there, so Newton's
+    method fails on that row, and the edge would keep its old curves, 2.8e-5 mm off. Given
+    as an edge's end, the row ends at the midpoint, z = 1.5e-7 (closed form), the others on
+    the hyperbola y = −3e-7/x on both surfaces; not so with a gap over ``END_GAP_MM``, nor
+    for a row that is not an end."""
+    from ductgen.solids.meet import END_GAP_MM, TOUCH_MM, meet
+
+    lift = 3e-7
+    s, x0, tan, w = _plane_and_saddle(lift)
+    first = np.arange(9) == 0
+    assert meet(s, x0, tan, w) is None
+    assert meet(s, x0, tan, w, ~first) is None  # every row an end but the one that is apart
+    got = meet(s, x0, tan, w, first)
+    assert got is not None
+    x, y, z = got[0].T
+    assert x[0] == pytest.approx(0.0, abs=1e-12)
+    assert z[0] == pytest.approx(lift / 2, abs=1e-12)
+    assert np.linalg.norm(got[0][0] - x0[0]) <= 1e-6
+    assert np.all(np.abs(z[1:]) <= TOUCH_MM)
+    assert np.all(np.abs(z[1:] - x[1:] * y[1:] - lift) <= TOUCH_MM)
+    assert np.allclose(y[1:], -lift / x[1:], rtol=1e-6, atol=1e-12)
+    wide = _plane_and_saddle(2 * END_GAP_MM)
+    assert meet(*wide, first) is None
+
+
 def _kernel_d1(a, uv: np.ndarray) -> np.ndarray:  # type: ignore[no-untyped-def]
     """The kernel's points and first derivatives of the surface adaptor ``a`` at (N, 2)
     parameters, point by point: (N, 3, 3) rows X, ∂X/∂u, ∂X/∂v."""

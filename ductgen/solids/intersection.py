@@ -103,7 +103,8 @@ class EdgeIntersection:
         if np.any(norm < 1e-12):
             return None
         tan /= norm[:, None]
-        return meet(self.s, x0, tan, w)
+        ts = np.asarray(ts, dtype=float)
+        return meet(self.s, x0, tan, w, (ts == self.t0) | (ts == self.t1))
 
     def knot_crossings(self, ts: np.ndarray, w: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """The old-curve parameters where the parameters ``w`` (N, 4) at ``ts`` cross a knot

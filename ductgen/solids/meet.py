@@ -15,10 +15,16 @@ import numpy as np
 
 from ductgen.solids.batch_eval import Surface
 
-__all__ = ["SINGULAR", "TOUCH_MM", "TOUCH_MOVE_MM", "meet"]
+__all__ = ["END_GAP_MM", "END_MOVE_MM", "SINGULAR", "TOUCH_MM", "TOUCH_MOVE_MM", "meet"]
 
 
-def meet(s: list[Surface], x0: np.ndarray, tan: np.ndarray, w: np.ndarray) -> Any:
+def meet(
+    s: list[Surface],
+    x0: np.ndarray,
+    tan: np.ndarray,
+    w: np.ndarray,
+    ends: np.ndarray | None = None,
+) -> Any:
     """Newton's method for every row at once (see the module docstring): (points, w), or
     None when a row does not converge to 1e-11 mm within 12 steps or strays 1e-3 mm.
 
@@ -30,13 +36,29 @@ def meet(s: list[Surface], x0: np.ndarray, tan: np.ndarray, w: np.ndarray) -> An
     :data:`TOUCH_MOVE_MM` of the old curve: faces tangent all along an edge (an edge round's
     boundary) touch in a band, and a point there slid up to 1.5e-4 mm along it. (Only on a
     failure: the least-norm step moves a converging row's last digits, and with them a
-    mesh.)"""
+    mesh.)
+
+    ``ends`` (bool per row): rows at an edge's end, its vertex. Where two fitted faces
+    become tangent at a vertex they need not touch there: their nearest approach was
+    3.5e-7 mm at the ends of the side-pod insert's transition edges, and every other row of
+    those edges converged. Such a row, singular and still apart after the steps, is done at
+    the midpoint of the two surfaces' points if they are within :data:`END_GAP_MM` and it
+    lies within :data:`END_MOVE_MM` of the old end (the vertex's tolerance then covers
+    it)."""
     got = _newton_pass(s, x0, tan, w, least_norm=False)
-    return got if got is not None else _newton_pass(s, x0, tan, w, least_norm=True)
+    if got is not None:
+        return got
+    no_ends = np.zeros(len(w), dtype=bool)
+    return _newton_pass(s, x0, tan, w, True, no_ends if ends is None else ends)
 
 
 def _newton_pass(
-    s: list[Surface], x0: np.ndarray, tan: np.ndarray, w: np.ndarray, least_norm: bool
+    s: list[Surface],
+    x0: np.ndarray,
+    tan: np.ndarray,
+    w: np.ndarray,
+    least_norm: bool,
+    ends: np.ndarray | None = None,
 ) -> Any:
     w = w.copy()
     pts = np.empty_like(x0)
@@ -68,8 +90,21 @@ def _newton_pass(
         if step is None:
             return None
         w[todo] += step
+    apart = np.zeros(len(w), dtype=bool)
+    if len(todo) and ends is not None and np.all(singular[todo] & ends[todo]):
+        a, b = s[0].at(w[todo, :2]), s[1].at(w[todo, 2:])
+        pts[todo] = 0.5 * (a[:, 0] + b[:, 0])
+        if np.all(np.linalg.norm(a[:, 0] - b[:, 0], axis=1) < END_GAP_MM):
+            apart[todo] = True
+            todo = todo[:0]
     moved = np.linalg.norm(pts - x0, axis=1)
-    if len(todo) or np.any(moved > 1e-3) or np.any(moved[singular] > TOUCH_MOVE_MM):
+    touch = singular & ~apart
+    if (
+        len(todo)
+        or np.any(moved > 1e-3)
+        or np.any(moved[touch] > TOUCH_MOVE_MM)
+        or np.any(moved[apart] > END_MOVE_MM)
+    ):
         return None
     return pts, w
 
@@ -82,6 +117,11 @@ SINGULAR = 1e-7
 TOUCH_MM = 5e-9
 #: ... and such a point is kept no farther than this (mm) from the old curve.
 TOUCH_MOVE_MM = 1e-6
+#: Surfaces tangent at an edge's end that pass this close (mm) there end the edge at the
+#: midpoint between them (:func:`meet`'s ``ends``) ...
+END_GAP_MM = 1e-6
+#: ... when that lies this close (mm) to the old end.
+END_MOVE_MM = 1e-4
 
 
 def _steps(
