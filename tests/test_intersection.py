@@ -132,8 +132,9 @@ def test_a_bspline_surface_evaluated_at_once_agrees_with_the_kernel() -> None:
     """Points and first derivatives of a B-spline surface evaluated by SciPy's
     tensor-product B-spline (many parameters at once) equal the CAD kernel's own evaluation
     (``D1``, point by point) to 1e-9 mm, inside the surface and just beyond its ends (the
-    kernel extends its end spans there); a rational surface (a cylinder's B-spline form)
-    and a small batch are left to the kernel."""
+    kernel extends its end spans there); so does a rational one (a quarter cylinder's
+    B-spline form: its weighted poles, the quotient rule for the derivatives); a periodic
+    one (a whole cylinder's) and a small batch are left to the kernel."""
     import cadquery as cq
     from OCP.BRepAdaptor import BRepAdaptor_Surface
     from OCP.BRepBuilderAPI import BRepBuilderAPI_NurbsConvert
@@ -159,9 +160,24 @@ def test_a_bspline_surface_evaluated_at_once_agrees_with_the_kernel() -> None:
     want = _kernel_d1(a, uv)
     assert np.max(np.abs(got - want)) < 1e-9
     assert np.max(np.abs(s.at(uv[:3]) - want[:3])) < 1e-9  # the kernel's own, for 3 points
+    quarter = BRepBuilderAPI_NurbsConvert(
+        cq.Solid.makeCylinder(5, 10, angleDegrees=90).wrapped, True
+    ).Shape()
+    side = max(cq.Shape.cast(quarter).Faces(), key=lambda f: f.Area())
+    a = BRepAdaptor_Surface(side.wrapped)
+    assert a.BSpline().IsURational() or a.BSpline().IsVRational()
+    s = Surface(a)
+    assert s._batch is not None
+    uv = np.column_stack(
+        [
+            rng.uniform(a.FirstUParameter(), a.LastUParameter(), 50),
+            rng.uniform(a.FirstVParameter(), a.LastVParameter(), 50),
+        ]
+    )
+    assert np.max(np.abs(s.at(uv) - _kernel_d1(a, uv))) < 1e-9
     cylinder = BRepBuilderAPI_NurbsConvert(cq.Solid.makeCylinder(5, 10).wrapped, True).Shape()
     side = max(cq.Shape.cast(cylinder).Faces(), key=lambda f: f.Area())
-    assert Surface(BRepAdaptor_Surface(side.wrapped))._batch is None  # rational
+    assert Surface(BRepAdaptor_Surface(side.wrapped))._batch is None  # periodic
 
 
 def test_knots_met_from_both_sides_of_a_sample_are_one() -> None:
@@ -221,3 +237,49 @@ def test_cylinders_and_moved_extrusions_evaluated_at_once_agree_with_the_kernel(
             ]
         )
         assert np.max(np.abs(s.at(uv) - _kernel_d1(a, uv))) < 1e-9
+
+
+def test_edge_curves_evaluated_at_once_agree_with_the_kernel() -> None:
+    """Every edge's 3D curve and its surface curve on each of its faces, evaluated a batch
+    at a time, gives the kernel's points and first derivatives (``D1``, point by point) to
+    1e-9 mm: lines, circles and ellipses in closed form, a circle's periodic rational
+    B-spline form by its weighted poles taken modulo its period, on a moved elliptic
+    prism, a tilted cylinder and a moved box, and on their B-spline forms."""
+    import cadquery as cq
+    from OCP.BRepAdaptor import BRepAdaptor_Curve, BRepAdaptor_Curve2d
+    from OCP.BRepBuilderAPI import BRepBuilderAPI_NurbsConvert
+    from OCP.GeomAbs import GeomAbs_BSplineCurve, GeomAbs_Circle, GeomAbs_Ellipse, GeomAbs_Line
+    from OCP.gp import gp_Pnt, gp_Pnt2d, gp_Vec, gp_Vec2d
+
+    from ductgen.solids.batch_eval import batch_curve
+
+    prism = (
+        cq.Workplane("XY")
+        .ellipse(7.0, 3.0)
+        .extrude(5.0)
+        .val()
+        .moved(cq.Location(cq.Vector(1.0, 2.0, 3.0), cq.Vector(1, 1, 0), 30.0))
+    )
+    tilted = cq.Solid.makeCylinder(4.0, 12.0, cq.Vector(1, 2, 3), cq.Vector(0.3, -0.5, 0.8))
+    box = cq.Solid.makeBox(3, 4, 5).moved(cq.Location(cq.Vector(1, 1, 1), cq.Vector(0, 0, 1), 10))
+    solids = [prism, tilted, box]
+    solids += [cq.Shape.cast(BRepBuilderAPI_NurbsConvert(s.wrapped, True).Shape()) for s in solids]
+    kinds, worst = set(), 0.0
+    for solid in solids:
+        for f in solid.Faces():
+            for e in f.Edges():
+                for a in (BRepAdaptor_Curve(e.wrapped), BRepAdaptor_Curve2d(e.wrapped, f.wrapped)):
+                    c = batch_curve(a)
+                    assert c is not None, a.GetType()
+                    kinds.add(a.GetType())
+                    ts = np.linspace(a.FirstParameter(), a.LastParameter(), 11)
+                    flat = isinstance(a, BRepAdaptor_Curve2d)
+                    p, v = (gp_Pnt2d(), gp_Vec2d()) if flat else (gp_Pnt(), gp_Vec())
+                    want = np.empty((2, len(ts), 2 if flat else 3))
+                    for i, t in enumerate(ts):
+                        a.D1(float(t), p, v)
+                        want[0, i], want[1, i] = p.Coord(), v.Coord()
+                    worst = max(worst, np.max(np.abs(c(ts) - want[0])))
+                    worst = max(worst, np.max(np.abs(c(ts, nu=1) - want[1])))
+    assert {GeomAbs_Line, GeomAbs_Circle, GeomAbs_Ellipse, GeomAbs_BSplineCurve} <= kinds
+    assert worst < 1e-9

@@ -1,8 +1,10 @@
 """A face's surface and an edge's curves evaluated at many parameters at once (CAD kernel:
-runs in the kernel worker; mm): non-rational, non-periodic B-splines by SciPy's B-splines from
-their poles and knots (agreeing with the kernel to ~3e-12 mm on this project's mapped faces),
-extrusions of such curves and cylinders in closed form (to ~3e-13 mm), planes in closed form,
-anything else by the kernel point by point. Used by :mod:`ductgen.solids.intersection`.
+runs in the kernel worker; mm): B-splines by SciPy's B-splines from their poles and knots
+(agreeing with the kernel to ~3e-12 mm on this project's mapped faces; rational ones by their
+weighted poles, periodic curves over one period), lines, circles, ellipses, extrusions of
+these curves and cylinders in closed form (to ~3e-13 mm), planes in closed form, anything else
+(a periodic surface) by the kernel point by point. Used by
+:mod:`ductgen.solids.intersection`.
 """
 
 from __future__ import annotations
@@ -43,8 +45,9 @@ class Surface:
 
 
 def _batch_surface(a: Any) -> Any:
-    """SciPy's NdBSpline of the adaptor's surface when it is a non-rational, non-periodic
-    B-spline (as transformed by the face's location), the extrusion of such a curve
+    """SciPy's NdBSpline of the adaptor's surface when it is a non-periodic B-spline (as
+    transformed by the face's location; a rational one by its weighted poles,
+    :class:`_RationalSurface`), the extrusion of a curve :func:`batch_curve` takes
     (:class:`_Extrusion`) or a cylinder (:class:`_Cylinder`), else None."""
     from OCP.GeomAbs import GeomAbs_BSplineSurface, GeomAbs_Cylinder, GeomAbs_SurfaceOfExtrusion
     from scipy.interpolate import NdBSpline
@@ -56,18 +59,38 @@ def _batch_surface(a: Any) -> Any:
     if a.GetType() != GeomAbs_BSplineSurface:
         return None
     b = a.BSpline()
-    if b.IsURational() or b.IsVRational() or b.IsUPeriodic() or b.IsVPeriodic():
+    if b.IsUPeriodic() or b.IsVPeriodic():
         return None
     ku, kv = b.UKnotSequence(), b.VKnotSequence()
-    tu = np.array([ku.Value(i) for i in range(1, ku.Length() + 1)])
-    tv = np.array([kv.Value(i) for i in range(1, kv.Length() + 1)])
-    poles = np.array(
-        [
-            [b.Pole(i, j).Coord() for j in range(1, b.NbVPoles() + 1)]
-            for i in range(1, b.NbUPoles() + 1)
-        ]
+    t = (
+        np.array([ku.Value(i) for i in range(1, ku.Length() + 1)]),
+        np.array([kv.Value(i) for i in range(1, kv.Length() + 1)]),
     )
-    return NdBSpline((tu, tv), poles, (b.UDegree(), b.VDegree()), extrapolate=True)
+    nu, nv = range(1, b.NbUPoles() + 1), range(1, b.NbVPoles() + 1)
+    poles = np.array([[b.Pole(i, j).Coord() for j in nv] for i in nu])
+    k = (b.UDegree(), b.VDegree())
+    if not (b.IsURational() or b.IsVRational()):
+        return NdBSpline(t, poles, k, extrapolate=True)
+    w = np.array([[b.Weight(i, j) for j in nv] for i in nu])[:, :, None]
+    return _RationalSurface(
+        NdBSpline(t, np.concatenate([poles * w, w], axis=2), k, extrapolate=True)
+    )
+
+
+class _RationalSurface:
+    """A rational B-spline surface A(u, v)/W(u, v) from one NdBSpline of its weighted poles
+    and weights (A, W), called like SciPy's NdBSpline for points and first derivatives."""
+
+    def __init__(self, aw: Any) -> None:
+        self.aw = aw
+
+    def __call__(self, uv: np.ndarray, nu: tuple[int, int] = (0, 0)) -> np.ndarray:
+        h = np.asarray(self.aw(uv))
+        x = h[:, :3] / h[:, 3:]
+        if nu == (0, 0):
+            return x
+        d = np.asarray(self.aw(uv, nu=nu))
+        return (d[:, :3] - x * d[:, 3:]) / h[:, 3:]
 
 
 class _Extrusion:
@@ -132,7 +155,7 @@ def batch_curve(a: Any) -> Any:
     from scipy.interpolate import BSpline
 
     if a.GetType() != GeomAbs_BSplineCurve:
-        return None
+        return _Conic.of(a)
     b = a.BSpline()
     period = (b.FirstParameter(), b.Period()) if b.IsPeriodic() else None
     if period is not None:
@@ -149,6 +172,47 @@ def batch_curve(a: Any) -> Any:
             BSpline(t, w, b.Degree(), extrapolate=True),
         )
     return curve if period is None else _Periodic(curve, *period)
+
+
+class _Conic:
+    """A line, circle or ellipse (3D, or 2D on a surface) in closed form, called like SciPy's
+    BSpline: C + t·D for a line; C + a·cos t·X + b·sin t·Y for an ellipse (a = b = r for a
+    circle) on its placed axes."""
+
+    def __init__(self, c: np.ndarray, x: np.ndarray, y: np.ndarray, ab: tuple[float, float]):
+        self.c, self.x, self.y, self.ab = c, x, y, ab
+
+    @classmethod
+    def of(cls, a: Any) -> _Conic | None:
+        """The adaptor's curve in closed form, or None for any other kind."""
+        from OCP.GeomAbs import GeomAbs_Circle, GeomAbs_Ellipse, GeomAbs_Line
+
+        kind = a.GetType()
+        if kind == GeomAbs_Line:
+            line = a.Line()
+            d = np.array(line.Direction().Coord())
+            return cls(np.array(line.Location().Coord()), d, 0.0 * d, (0.0, 0.0))
+        if kind not in (GeomAbs_Circle, GeomAbs_Ellipse):
+            return None
+        conic = a.Circle() if kind == GeomAbs_Circle else a.Ellipse()
+        ab = (
+            (conic.Radius(), conic.Radius())
+            if kind == GeomAbs_Circle
+            else (conic.MajorRadius(), conic.MinorRadius())
+        )
+        x, y = (np.array(axis.Direction().Coord()) for axis in (conic.XAxis(), conic.YAxis()))
+        return cls(np.array(conic.Location().Coord()), x, y, ab)
+
+    def __call__(self, t: np.ndarray, nu: int = 0) -> np.ndarray:
+        t = np.asarray(t, dtype=float)[:, None]
+        if self.ab == (0.0, 0.0):  # a line: x holds its direction
+            return (
+                self.c + t * self.x if nu == 0 else np.broadcast_to(self.x, (len(t), len(self.x)))
+            )
+        a, b = self.ab
+        if nu == 0:
+            return self.c + a * np.cos(t) * self.x + b * np.sin(t) * self.y
+        return -a * np.sin(t) * self.x + b * np.cos(t) * self.y
 
 
 class _Rational:
