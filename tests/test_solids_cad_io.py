@@ -32,13 +32,13 @@ def _brep_volume(shape) -> float:  # type: ignore[no-untyped-def]
     return float(props.Mass())
 
 
-def _mesh_volume(shape) -> float:  # type: ignore[no-untyped-def]
-    """The volume (mm³) of a 0.005 mm triangulation (divergence theorem)."""
+def _mesh_volume(shape, linear_mm: float = 0.005) -> float:  # type: ignore[no-untyped-def]
+    """The volume (mm³) of a ``linear_mm`` triangulation (divergence theorem)."""
     import numpy as np
 
     from ductgen.solids.mesh import triangulate
 
-    v, f = triangulate(shape, 0.005, 0.05)
+    v, f = triangulate(shape, linear_mm, 0.05)
     t = v[f]
     return float(np.sum(np.einsum("ij,ij->i", t[:, 0], np.cross(t[:, 1], t[:, 2])))) / 6.0
 
@@ -55,17 +55,18 @@ def test_step_checks_clean_and_volume_exact(sample_builds: dict, name: str, kind
     assert len(solids) == 1
     solid = solids[0]
     if result.report["geometry"]["skin"]["shape"] != "flat":
-        # on a curved skin the solid is a mapped spline B-rep whose faces depart from the
-        # exactly mapped surfaces by up to 2e-3 mm (solids/deform.py), so edges sit that far
-        # off their faces and the kernel's mesher sags (jobs.CHECK_MESH_CURVED): the checks
-        # here are validity and the exact volume against the build's own STL (the design
-        # mesh, mapped) to 1e-3. The argument analyser's checks are in the tests below
-        # (curve on surface not met there yet).
+        # on a curved skin the solid is a mapped spline B-rep whose faces are fitted to the
+        # mapped surfaces within 1e-4 mm (solids/spline_fit.py): the checks here are
+        # validity and the volume of a 0.05 mm triangulation of the file's solid against the
+        # build's own STL (the design mesh, mapped) to 1e-3 (each within ~2e-4 of the
+        # kernel's adaptive integral, which takes 20-40 s on an insert whose edges were all
+        # rebuilt on their faces: ~170-knot surface curves). The argument analyser's checks
+        # are in the tests below.
         import trimesh
 
         assert solid.isValid()
         stl = trimesh.load(folder / f"{name}-{kind}.stl")
-        assert _brep_volume(solid) == pytest.approx(stl.volume, rel=1e-3)
+        assert _mesh_volume(solid, 0.05) == pytest.approx(stl.volume, rel=1e-3)
         return
     # the argument analyser's modes are checked on every flat STEP file below (its
     # self-intersection mode is the costly one: ~4 s an insert)
