@@ -24,7 +24,7 @@ QualityOption = Annotated[
     str,
     typer.Option(
         "--quality",
-        help=("STL tessellation: draft | normal | fine"),
+        help="STL tessellation: draft | normal | fine",
     ),
 ]
 NoCacheOption = Annotated[
