@@ -17,8 +17,9 @@ from ezdxf import path as dxf_path
 from ezdxf.math import bulge_to_arc
 
 from ductgen.design import build_design
+from ductgen.design.identity import drawn_from
 from ductgen.export.dxf import dxf_bytes
-from ductgen.export.template import flange_contours, template_stamp
+from ductgen.export.template import flange_contours
 from ductgen.export.template_layout import template_drawing
 from ductgen.spec import parse_spec
 from tests.conftest import naca_ordinates
@@ -35,7 +36,7 @@ def _spec(**template):  # type: ignore[no-untyped-def]
 def _read(spec):  # type: ignore[no-untyped-def]
     d = build_design(spec)
     g = d.geometry
-    data = dxf_bytes(template_drawing(g, spec, template_stamp(d, spec), *flange_contours(d, spec)))
+    data = dxf_bytes(template_drawing(g, spec, drawn_from(d, spec), *flange_contours(d, spec)))
     return g, ezdxf.read(io.StringIO(data.decode("utf-8")))
 
 

@@ -9,12 +9,15 @@ spec's own hash.
 from __future__ import annotations
 
 import dataclasses
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from ductgen.cache import fingerprint
 from ductgen.design.build import Design
 
-__all__ = ["design_fields", "design_sha256"]
+if TYPE_CHECKING:
+    from ductgen.spec.model import Spec
+
+__all__ = ["design_fields", "design_sha256", "drawn_from"]
 
 
 def design_fields(d: Design) -> dict[str, Any]:
@@ -35,3 +38,15 @@ def design_sha256(d: Design) -> str | None:
         return fingerprint("design", design_fields(d))
     except TypeError:
         return None
+
+
+def drawn_from(d: Design, spec: Spec) -> str:
+    """What a drawing (the template) says it was drawn from: the design's hash
+    (:func:`design_sha256`, in ``report.json`` too), or the spec's where the design cannot be
+    hashed; 16 hex digits. Here, not beside the template's encoders, so a build whose
+    template comes from the cache keys it without loading them (the DXF library's import
+    ~0.4 s)."""
+    from ductgen.spec.load import spec_sha256
+
+    h = design_sha256(d)
+    return f"design sha256 {h[:16]}" if h is not None else f"spec sha256 {spec_sha256(spec)[:16]}"

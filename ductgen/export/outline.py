@@ -22,7 +22,6 @@ from dataclasses import dataclass
 from itertools import pairwise
 
 import numpy as np
-from ezdxf.math import Vec2, bulge_3_points, bulge_center, bulge_radius
 from scipy.optimize import brentq
 
 from ductgen.errors import SpecError
@@ -46,13 +45,19 @@ _MAX_DEPTH = 24
 
 def _bulge3(a: np.ndarray, m: np.ndarray, b: np.ndarray) -> float:
     """Bulge of the arc from ``a`` to ``b`` through ``m`` (0 for collinear points; positive
-    for a counter-clockwise arc), by ``ezdxf.math.bulge_3_points``."""
+    for a counter-clockwise arc), by ``ezdxf.math.bulge_3_points``. (The DXF library is
+    imported here, not with the module: the drawing sheet reads the template's layout
+    module, which reads this one, and loading the library costs ~0.4 s.)"""
+    from ezdxf.math import Vec2, bulge_3_points
+
     return float(bulge_3_points(Vec2(a), Vec2(b), Vec2(m)))
 
 
 def arc_centre(a: np.ndarray, b: np.ndarray, bulge: float) -> tuple[np.ndarray, float]:
     """Centre (mm, shape (2,)) and radius (mm) of the bulged segment a→b (``bulge`` ≠ 0),
     by ``ezdxf.math``."""
+    from ezdxf.math import Vec2, bulge_center, bulge_radius
+
     pa, pb = Vec2(a), Vec2(b)
     c = bulge_center(pa, pb, bulge)
     return np.array([c.x, c.y]), float(bulge_radius(pa, pb, bulge))

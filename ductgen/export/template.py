@@ -8,7 +8,7 @@ import dataclasses
 import numpy as np
 
 from ductgen.design import Design
-from ductgen.design.identity import design_sha256
+from ductgen.design.identity import drawn_from
 from ductgen.export.dxf import dxf_bytes
 from ductgen.export.outline import Contour, outward_contour
 from ductgen.export.pdf_template import pdf_bytes
@@ -20,28 +20,19 @@ from ductgen.export.template_layout import (
     template_drawing,
 )
 from ductgen.geometry.fabrication import footprint_end_mm
-from ductgen.spec.load import spec_sha256
 from ductgen.spec.model import Spec
 from ductgen.stamp import build_date
 
-__all__ = ["flange_contours", "template_files", "template_stamp"]
-
-
-def template_stamp(d: Design, spec: Spec) -> str:
-    """What the template says it was drawn from: the design's hash
-    (:func:`~ductgen.design.identity.design_sha256`, in ``report.json`` too), or the spec's
-    where the design cannot be hashed; 16 hex digits."""
-    h = design_sha256(d)
-    return f"design sha256 {h[:16]}" if h is not None else f"spec sha256 {spec_sha256(spec)[:16]}"
+__all__ = ["flange_contours", "template_files"]
 
 
 def template_files(d: Design, spec: Spec, stamp: str | None = None) -> dict[str, bytes]:
     """Encode ``template.dxf`` and ``template.pdf`` (suffix → bytes) for one inlet;
-    ``stamp``: :func:`template_stamp` when not given. Reads the design and the spec's name
-    and ``[template]`` keys only."""
+    ``stamp``: :func:`~ductgen.design.identity.drawn_from` when not given. Reads the design
+    and the spec's name and ``[template]`` keys only."""
     g = d.geometry
     t = spec.template
-    stamp = template_stamp(d, spec) if stamp is None else stamp
+    stamp = drawn_from(d, spec) if stamp is None else stamp
     drawing = develop_drawing(template_drawing(g, spec, stamp, *flange_contours(d, spec)), d)
     info = [
         f"Skin opening of {spec.name}: W {g.width_mm:.2f} mm, L {g.length_mm:.2f} mm, "

@@ -165,7 +165,7 @@ def template_drawing(
         g: the inlet geometry.
         spec: the spec (``template`` options: units, tolerance, kerf).
         stamp: what it was drawn from, for the text block
-            (:func:`~ductgen.export.template.template_stamp`).
+            (:func:`~ductgen.design.identity.drawn_from`).
         outer: further closed CUT contours (flange outline / trim line), already
             offset for kerf, each with a role name.
         holes: fastener hole centres (mm) and their diameter ``hole_diameter_mm``.

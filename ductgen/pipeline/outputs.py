@@ -67,9 +67,9 @@ def template_bytes(design: Design, spec: Spec, cache: Cache | None) -> dict[str,
     reads nothing else of the spec: a change of ``[flow]`` draws no new template). Reads
     nothing a build's later stages write, so a build starts it on a thread of its own while
     the kernel works."""
-    from ductgen.export.template import template_files, template_stamp
+    from ductgen.design.identity import drawn_from
 
-    stamp = template_stamp(design, spec)
+    stamp = drawn_from(design, spec)
     key = None
     if cache is not None:
         from ductgen.cache import fingerprint, kernel_versions, source_fingerprint
@@ -91,6 +91,8 @@ def template_bytes(design: Design, spec: Spec, cache: Cache | None) -> dict[str,
             entry = cache.get(key)
             if entry is not None:
                 return {name: bytes(data) for name, data in entry.blobs.items()}
+    from ductgen.export.template import template_files  # the encoders: only on a miss
+
     files = template_files(design, spec, stamp)
     if key is not None and cache is not None:
         cache.put(key, {}, files)
