@@ -47,7 +47,7 @@ class Surface:
 def _batch_surface(a: Any) -> Any:
     """SciPy's NdBSpline of the adaptor's surface when it is a non-periodic B-spline (as
     transformed by the face's location; a rational one by its weighted poles,
-    :class:`_RationalSurface`), the extrusion of a curve :func:`batch_curve` takes
+    :class:`_Rational`), the extrusion of a curve :func:`batch_curve` takes
     (:class:`_Extrusion`) or a cylinder (:class:`_Cylinder`), else None."""
     from OCP.GeomAbs import GeomAbs_BSplineSurface, GeomAbs_Cylinder, GeomAbs_SurfaceOfExtrusion
     from scipy.interpolate import NdBSpline
@@ -72,25 +72,7 @@ def _batch_surface(a: Any) -> Any:
     if not (b.IsURational() or b.IsVRational()):
         return NdBSpline(t, poles, k, extrapolate=True)
     w = np.array([[b.Weight(i, j) for j in nv] for i in nu])[:, :, None]
-    return _RationalSurface(
-        NdBSpline(t, np.concatenate([poles * w, w], axis=2), k, extrapolate=True)
-    )
-
-
-class _RationalSurface:
-    """A rational B-spline surface A(u, v)/W(u, v) from one NdBSpline of its weighted poles
-    and weights (A, W), called like SciPy's NdBSpline for points and first derivatives."""
-
-    def __init__(self, aw: Any) -> None:
-        self.aw = aw
-
-    def __call__(self, uv: np.ndarray, nu: tuple[int, int] = (0, 0)) -> np.ndarray:
-        h = np.asarray(self.aw(uv))
-        x = h[:, :3] / h[:, 3:]
-        if nu == (0, 0):
-            return x
-        d = np.asarray(self.aw(uv, nu=nu))
-        return (d[:, :3] - x * d[:, 3:]) / h[:, 3:]
+    return _Rational(NdBSpline(t, np.concatenate([poles * w, w], axis=2), k, extrapolate=True))
 
 
 class _Extrusion:
@@ -155,7 +137,7 @@ def batch_curve(a: Any) -> Any:
     from scipy.interpolate import BSpline
 
     if a.GetType() != GeomAbs_BSplineCurve:
-        return _Conic.of(a)
+        return _Line.of(a) or _Conic.of(a)
     b = a.BSpline()
     period = (b.FirstParameter(), b.Period()) if b.IsPeriodic() else None
     if period is not None:
@@ -166,18 +148,35 @@ def batch_curve(a: Any) -> Any:
     poles = np.array([b.Pole(i).Coord() for i in range(1, b.NbPoles() + 1)])
     curve: Any = BSpline(t, poles, b.Degree(), extrapolate=True)
     if b.IsRational():
-        w = np.array([b.Weight(i) for i in range(1, b.NbPoles() + 1)])
-        curve = _Rational(
-            BSpline(t, poles * w[:, None], b.Degree(), extrapolate=True),
-            BSpline(t, w, b.Degree(), extrapolate=True),
-        )
+        w = np.array([b.Weight(i) for i in range(1, b.NbPoles() + 1)])[:, None]
+        curve = _Rational(BSpline(t, np.hstack([poles * w, w]), b.Degree(), extrapolate=True))
     return curve if period is None else _Periodic(curve, *period)
 
 
+class _Line:
+    """A line (3D, or 2D on a surface) P + t·D, called like SciPy's BSpline."""
+
+    def __init__(self, p: np.ndarray, d: np.ndarray) -> None:
+        self.p, self.d = p, d
+
+    @classmethod
+    def of(cls, a: Any) -> _Line | None:
+        """The adaptor's line, or None for any other kind."""
+        from OCP.GeomAbs import GeomAbs_Line
+
+        if a.GetType() != GeomAbs_Line:
+            return None
+        line = a.Line()
+        return cls(np.array(line.Location().Coord()), np.array(line.Direction().Coord()))
+
+    def __call__(self, t: np.ndarray, nu: int = 0) -> np.ndarray:
+        t = np.asarray(t, dtype=float)[:, None]
+        return self.p + t * self.d if nu == 0 else np.broadcast_to(self.d, (len(t), len(self.d)))
+
+
 class _Conic:
-    """A line, circle or ellipse (3D, or 2D on a surface) in closed form, called like SciPy's
-    BSpline: C + t·D for a line; C + a·cos t·X + b·sin t·Y for an ellipse (a = b = r for a
-    circle) on its placed axes."""
+    """A circle or ellipse (3D, or 2D on a surface) in closed form, called like SciPy's
+    BSpline: C + a·cos t·X + b·sin t·Y on its placed axes (a = b = r for a circle)."""
 
     def __init__(self, c: np.ndarray, x: np.ndarray, y: np.ndarray, ab: tuple[float, float]):
         self.c, self.x, self.y, self.ab = c, x, y, ab
@@ -185,13 +184,9 @@ class _Conic:
     @classmethod
     def of(cls, a: Any) -> _Conic | None:
         """The adaptor's curve in closed form, or None for any other kind."""
-        from OCP.GeomAbs import GeomAbs_Circle, GeomAbs_Ellipse, GeomAbs_Line
+        from OCP.GeomAbs import GeomAbs_Circle, GeomAbs_Ellipse
 
         kind = a.GetType()
-        if kind == GeomAbs_Line:
-            line = a.Line()
-            d = np.array(line.Direction().Coord())
-            return cls(np.array(line.Location().Coord()), d, 0.0 * d, (0.0, 0.0))
         if kind not in (GeomAbs_Circle, GeomAbs_Ellipse):
             return None
         conic = a.Circle() if kind == GeomAbs_Circle else a.Ellipse()
@@ -205,10 +200,6 @@ class _Conic:
 
     def __call__(self, t: np.ndarray, nu: int = 0) -> np.ndarray:
         t = np.asarray(t, dtype=float)[:, None]
-        if self.ab == (0.0, 0.0):  # a line: x holds its direction
-            return (
-                self.c + t * self.x if nu == 0 else np.broadcast_to(self.x, (len(t), len(self.x)))
-            )
         a, b = self.ab
         if nu == 0:
             return self.c + a * np.cos(t) * self.x + b * np.sin(t) * self.y
@@ -216,18 +207,20 @@ class _Conic:
 
 
 class _Rational:
-    """A rational B-spline A(t)/W(t) from its weighted poles A and weights W (SciPy
-    BSplines), called like SciPy's BSpline for values and first derivatives."""
+    """A rational B-spline curve or surface A/W from one SciPy spline of its weighted poles
+    and weights (the last column W), called like that spline for points and first
+    derivatives (the quotient rule: (A′ − X·W′)/W)."""
 
-    def __init__(self, a: Any, w: Any) -> None:
-        self.a, self.w = a, w
+    def __init__(self, aw: Any) -> None:
+        self.aw = aw
 
-    def __call__(self, t: np.ndarray, nu: int = 0) -> np.ndarray:
-        w = np.asarray(self.w(t))[:, None]
-        x = np.asarray(self.a(t)) / w
-        if nu == 0:
+    def __call__(self, at: np.ndarray, nu: Any = 0) -> np.ndarray:
+        h = np.asarray(self.aw(at))
+        x = h[:, :-1] / h[:, -1:]
+        if not np.any(nu):
             return x
-        return (np.asarray(self.a(t, nu=1)) - x * np.asarray(self.w(t, nu=1))[:, None]) / w
+        d = np.asarray(self.aw(at, nu=nu))
+        return (d[:, :-1] - x * d[:, -1:]) / h[:, -1:]
 
 
 class _Periodic:

@@ -23,17 +23,8 @@ def flat_solid_job(d: Design, kind: str, flats: dict[str, bytes] | None = None) 
     ``flats``: the kinds it needs built already (the insert its cutter), and for the insert
     possibly its :func:`insert_bodies_job` (under
     :data:`~ductgen.solids.kinds.INSERT_BODIES`), as binary B-reps."""
-    from io import BytesIO
-
-    import cadquery as cq
-
-    from ductgen.solids.jobs import recipes
-
     stage(kind)
-    built = {k: cq.Shape.importBin(BytesIO(b)) for k, b in (flats or {}).items()}
-    buf = BytesIO()
-    recipes()[kind].build(d, built).exportBin(buf)
-    return buf.getvalue()
+    return _binary(_built(d, kind, flats))
 
 
 def placed_solid_job(
@@ -42,22 +33,32 @@ def placed_solid_job(
     """Kernel-worker job: one kind built in design coordinates (as :func:`flat_solid_job`)
     and placed on the design's curved skin or panel (the map: seconds on an insert, done
     once), both as binary B-reps: (flat, placed)."""
+    from ductgen.solids.deform import place
+
+    stage(kind)
+    flat = _built(d, kind, flats)
+    return _binary(flat), _binary(place(flat, d, kind))
+
+
+def _built(d: Design, kind: str, flats: dict[str, bytes] | None) -> Any:
+    """``kind`` built in design coordinates from the binary B-reps ``flats``."""
     from io import BytesIO
 
     import cadquery as cq
 
-    from ductgen.solids.deform import place
     from ductgen.solids.jobs import recipes
 
-    stage(kind)
     built = {k: cq.Shape.importBin(BytesIO(b)) for k, b in (flats or {}).items()}
-    flat = recipes()[kind].build(d, built)
-    out = []
-    for solid in (flat, place(flat, d, kind)):
-        buf = BytesIO()
-        solid.exportBin(buf)
-        out.append(buf.getvalue())
-    return out[0], out[1]
+    return recipes()[kind].build(d, built)
+
+
+def _binary(shape: Any) -> bytes:
+    """The kernel's binary B-rep of a cadquery shape (every number to the bit)."""
+    from io import BytesIO
+
+    buf = BytesIO()
+    shape.exportBin(buf)
+    return buf.getvalue()
 
 
 def insert_bodies_job(d: Design) -> bytes:
@@ -65,17 +66,13 @@ def insert_bodies_job(d: Design) -> bytes:
     the cutter (:func:`~ductgen.solids.insert.insert_bodies`), in design coordinates, as
     one binary B-rep compound (the outer body first); :func:`flat_solid_job` takes it among
     its ``flats``."""
-    from io import BytesIO
-
     import cadquery as cq
 
     from ductgen.solids.insert import insert_bodies
 
     stage("insert bodies")
     outer, inner = insert_bodies(d)
-    buf = BytesIO()
-    cq.Compound.makeCompound([outer, *inner]).exportBin(buf)
-    return buf.getvalue()
+    return _binary(cq.Compound.makeCompound([outer, *inner]))
 
 
 def step_solid_job(

@@ -48,8 +48,7 @@ def meet(
     got = _newton_pass(s, x0, tan, w, least_norm=False)
     if got is not None:
         return got
-    no_ends = np.zeros(len(w), dtype=bool)
-    return _newton_pass(s, x0, tan, w, True, no_ends if ends is None else ends)
+    return _newton_pass(s, x0, tan, w, True, ends)
 
 
 def _newton_pass(
