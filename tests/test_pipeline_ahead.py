@@ -215,6 +215,63 @@ def test_the_insert_takes_its_outer_body_made_beside(bodies_fail: bool) -> None:
     assert flats_seen == [want]
 
 
+@pytest.mark.parametrize("plug_fails", [False, True])
+def test_the_kernel_worker_builds_the_plug_while_the_outer_body_is_made(
+    plug_fails: bool,
+) -> None:
+    """When the insert's outer body is still being made beside once the cutter is built,
+    the kernel worker builds the plug meanwhile and the side worker gets it among the solids
+    it checks and writes (built, not built again); the insert's job does not get it. A plug
+    that fails there is left to the side worker, which builds it and raises its error in
+    the order of the kinds."""
+    from concurrent.futures import Future
+
+    from ductgen.design import build_design
+    from ductgen.pipeline.solid_cache import SolidStage
+    from ductgen.solids.handoff import flat_solid_job, insert_bodies_job
+    from ductgen.solids.jobs import build_solids
+    from ductgen.solids.kinds import INSERT_BODIES
+
+    design = build_design(parse_spec({"name": "tt", "throat": {"width": 80, "depth": 20}}))
+    order: list[str] = []
+    insert_flats: list[dict[str, bytes]] = []
+    side_flats: list[dict[str, bytes]] = []
+    bodies: Future[object] = Future()  # not done until the plug has been asked for
+
+    class _Worker:
+        def run(self, job: object, *args: object) -> object:
+            if job is flat_solid_job:
+                order.append(str(args[1]))
+                if args[1] == "plug":
+                    bodies.set_result(b"bodies (test)")
+                    if plug_fails:
+                        raise GeometryError("plug", "failed (test)")
+                if args[1] == "insert":
+                    insert_flats.append(dict(args[2]))  # type: ignore[call-overload]
+                return f"{args[1]} (test)".encode()
+            return {"step_s": 0.0}
+
+    def beside(job: object, *args: object, picture: bool = True) -> Future[object]:
+        if job is insert_bodies_job:
+            return bodies
+        assert job is build_solids
+        if args[1] != ["insert"]:
+            side_flats.append(dict(args[5] or {}))  # type: ignore[call-overload]
+        done: Future[object] = Future()
+        done.set_result({k: _Made({}) for k in args[1]})  # type: ignore[attr-defined]
+        return done
+
+    stage = SolidStage(None, design, "normal", _Worker())  # type: ignore[arg-type]
+    got = stage.solids(["cutter", "insert", "plug"], "tt", Path("."), beside)
+    assert list(got) == ["cutter", "insert", "plug"]
+    assert order == ["cutter", "plug", "insert"]
+    assert insert_flats == [{"cutter": b"cutter (test)", INSERT_BODIES: b"bodies (test)"}]
+    want = {"cutter": b"cutter (test)"}
+    if not plug_fails:
+        want["plug"] = b"plug (test)"
+    assert side_flats == [want]
+
+
 def test_work_started_once_runs_once_from_any_thread() -> None:
     """The preview's picture is started as soon as the insert is checked (on the side
     worker's thread) or when the solids are built, whichever comes first: the second start

@@ -183,8 +183,9 @@ class SolidStage:
         binary B-rep (:func:`~ductgen.solids.handoff.flat_solid_job`) and builds the
         insert, which it hands over too (:meth:`_insert_beside`; a curved or panel insert
         placed on its skin first, once), writes as STEP and splits next from the shape it
-        keeps; the side worker checks and writes the cutter, builds the plug, and checks
-        the insert and writes its STL. Each kind's files are the same
+        keeps; the side worker checks and writes the cutter, builds the plug (unless the
+        kernel worker did, waiting for the outer body: :meth:`_plug_while`), checks and
+        writes it, and checks the insert and writes its STL. Each kind's files are the same
         bytes either way. When both fail, the error of the kind that comes first in
         ``kinds`` is raised, as when one worker builds them one after another. ``told``: the
         insert's ``checked`` and ``written`` callbacks (:meth:`solids`)."""
@@ -198,7 +199,9 @@ class SolidStage:
         flats = {}
         if "cutter" in others:
             flats["cutter"] = self.worker.run(flat_solid_job, self.design, "cutter")
-        side = beside(build_solids, self.design, others, *args, flats)
+        side = beside(
+            build_solids, self.design, others, *args, self._plug_while(bodies, flats, others)
+        )
         try:
             main = self._insert_beside(flats, bodies, prefix, staging, beside, checked)
             if written is not None:
@@ -210,6 +213,21 @@ class SolidStage:
                 raise first from None
             raise
         return {**side.result(), **main}
+
+    def _plug_while(
+        self, bodies: Future[bytes] | None, flats: dict[str, bytes], others: list[str]
+    ) -> dict[str, bytes]:
+        """``flats`` for the side worker: with the plug built here when the insert's outer
+        body (``bodies``, made beside) is not ready yet, so the kernel worker builds it instead
+        of waiting (the drone sample's side worker, its longer chain, then only checks and
+        writes it). The same solid to the last bit either way; a plug that fails here is
+        built again there, which raises its error in the order of the kinds."""
+        if bodies is None or bodies.done() or "plug" not in others:
+            return flats
+        try:
+            return {**flats, "plug": self.worker.run(flat_solid_job, self.design, "plug")}
+        except DuctgenError:
+            return flats
 
     def _insert_beside(
         self,
