@@ -255,3 +255,23 @@ def test_commands_preload_the_kernel_only_when_they_may_build_a_solid(
     monkeypatch.setenv("DUCTGEN_MEMORY_MB", "lots")
     preload_kernel(None)
     assert calls == []
+
+
+def test_build_starts_the_kernel_before_the_command_table(monkeypatch: pytest.MonkeyPatch) -> None:
+    """The console entry point reads ``build``'s ``--only`` off the command line and starts
+    the kernel worker before importing typer and rich (the command asks again, which starts
+    nothing twice); other commands and a request for help start nothing."""
+    import ductgen.cli.preload as preload
+
+    asked: list[str | None] = []
+    monkeypatch.setattr(preload, "preload_kernel", asked.append)
+    for args in (
+        ["build", "a.toml"],
+        ["build", "a.toml", "--only", "cutter,template"],
+        ["build", "--only=template", "a.toml", "-o", "out"],
+        ["build", "a.toml", "--help"],
+        ["size", "--flow", "30"],
+        [],
+    ):
+        preload.early_preload(args)
+    assert asked == [None, "cutter,template", "template"]

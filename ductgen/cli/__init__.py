@@ -3,7 +3,8 @@ formats the result; heavy imports happen inside the commands.
 
 :func:`main` is the console entry point. It installs the signal handlers before importing
 the command table (typer, rich: the first moments of every run), so Ctrl-C or SIGTERM at
-any moment ends with 130 / 143 and a sentence, not a traceback.
+any moment ends with 130 / 143 and a sentence, not a traceback; on ``ductgen build`` it
+starts the kernel worker's imports before that (:mod:`ductgen.cli.preload`).
 """
 
 from __future__ import annotations
@@ -21,6 +22,10 @@ def main(argv: list[str] | None = None) -> int:
     if argv is None:  # the real command line (not a caller embedding main())
         signals.install()
     try:
+        if argv is None:  # ``ductgen build``: the kernel's imports start first
+            from ductgen.cli.preload import early_preload
+
+            early_preload(sys.argv[1:])
         from ductgen.cli.app import main as app_main
 
         return app_main(argv)

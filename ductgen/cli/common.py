@@ -2,12 +2,13 @@
 
 from __future__ import annotations
 
-import contextlib
 from pathlib import Path
 from typing import Annotated
 
 import typer
 from rich.console import Console
+
+from ductgen.cli.preload import preload_kernel
 
 __all__ = [
     "NoCacheOption",
@@ -46,22 +47,3 @@ def out_folder(out: str | None, default: Path) -> Path:
     if not out.strip():
         raise SpecError("-o/--out", out, "a folder path", "the path is empty")
     return Path(out)
-
-
-def preload_kernel(only: str | None, beside: bool = False) -> None:
-    """When the build may make a solid, start the kernel worker's imports now, while this
-    process imports the rest and reads the spec (:meth:`~ductgen.worker.KernelWorker.preload`;
-    a build served from the solid cache kills it at the end without waiting); ``beside``: the
-    side worker's too (the design page, whose builds use both)."""
-    from ductgen.errors import SpecError
-    from ductgen.solids.kinds import SOLID_KINDS
-    from ductgen.solids.warm import warm_up
-    from ductgen.worker import WorkerLimits, default_worker, side_worker
-
-    if only is not None and not any(k.strip() in SOLID_KINDS for k in only.split(",")):
-        return
-    with contextlib.suppress(SpecError):  # a bad DUCTGEN_* value: the build says so
-        WorkerLimits.from_env()
-        default_worker().preload(warm_up)
-        if beside:
-            side_worker(default_worker().limits).preload(warm_up)
