@@ -242,6 +242,18 @@ class KernelWorker:
             result: R = self._run(job_target(job), args, kwargs, None)
             return result
 
+    def run_if(
+        self, wanted: Callable[[], bool], job: Callable[P, R], *args: P.args, **kwargs: P.kwargs
+    ) -> R | None:
+        """:meth:`run`, once the child is free, if ``wanted()`` (asked then, with the worker
+        held) is true; else None, and the job never starts (another process took it over
+        while this one was busy or still importing)."""
+        with self._lock:
+            if not wanted():
+                return None
+            result: R = self._run(job_target(job), args, kwargs, None)
+            return result
+
     def run_within(
         self, timeout_s: float, job: Callable[P, R], *args: P.args, **kwargs: P.kwargs
     ) -> R:

@@ -143,7 +143,9 @@ def test_solids_beside_raise_the_first_kinds_error(
 
     design = build_design(parse_spec({"name": "tt", "throat": {"width": 80, "depth": 20}}))
 
-    def beside(job: object, *args: object, picture: bool = True) -> Future[object]:
+    def beside(
+        job: object, *args: object, picture: bool = True, wanted: object = None
+    ) -> Future[object]:
         done: Future[object] = Future()
         if job is insert_bodies_job:  # the insert's outer body, made beside
             done.set_result(b"bodies (test)")
@@ -193,7 +195,9 @@ def test_the_insert_takes_its_outer_body_made_beside(bodies_fail: bool) -> None:
                 return f"{args[1]} (test)".encode()
             return {"step_s": 0.0}
 
-    def beside(job: object, *args: object, picture: bool = True) -> Future[object]:
+    def beside(
+        job: object, *args: object, picture: bool = True, wanted: object = None
+    ) -> Future[object]:
         done: Future[object] = Future()
         if job is insert_bodies_job:
             assert not picture  # not the job after which the drawing stack is imported
@@ -251,7 +255,9 @@ def test_the_kernel_worker_builds_the_plug_while_the_outer_body_is_made(
                 return f"{args[1]} (test)".encode()
             return {"step_s": 0.0}
 
-    def beside(job: object, *args: object, picture: bool = True) -> Future[object]:
+    def beside(
+        job: object, *args: object, picture: bool = True, wanted: object = None
+    ) -> Future[object]:
         if job is insert_bodies_job:
             return bodies
         assert job is build_solids
@@ -270,6 +276,61 @@ def test_the_kernel_worker_builds_the_plug_while_the_outer_body_is_made(
     if not plug_fails:
         want["plug"] = b"plug (test)"
     assert side_flats == [want]
+
+
+@pytest.mark.parametrize("side_started", [False, True])
+def test_the_kernel_worker_takes_over_an_outer_body_not_started_beside(
+    side_started: bool,
+) -> None:
+    """A side worker still importing when the kernel worker has built the cutter and the
+    plug (a command line's first build) has not started on the insert's outer body: the
+    kernel worker takes it over (the insert's job makes it), and the side worker, once free,
+    is told not to run it. Had the side worker started on it, the kernel worker waits for
+    it and the insert gets it."""
+    from concurrent.futures import Future
+
+    from ductgen.design import build_design
+    from ductgen.pipeline.solid_cache import SolidStage
+    from ductgen.solids.handoff import flat_solid_job, insert_bodies_job
+    from ductgen.solids.jobs import build_solids
+    from ductgen.solids.kinds import INSERT_BODIES
+
+    design = build_design(parse_spec({"name": "tt", "throat": {"width": 80, "depth": 20}}))
+    insert_flats: list[dict[str, bytes]] = []
+    asked: list[bool] = []
+    bodies: Future[object] = Future()
+    wanted: list[object] = []
+
+    class _Worker:
+        def run(self, job: object, *args: object) -> object:
+            if job is flat_solid_job and args[1] == "plug" and side_started:
+                bodies.set_result(b"bodies (test)")  # the side worker finished it meanwhile
+            if job is flat_solid_job and args[1] == "insert":
+                insert_flats.append(dict(args[2]))  # type: ignore[call-overload]
+            if job is flat_solid_job:
+                return f"{args[1]} (test)".encode()
+            return {"step_s": 0.0}
+
+    def beside(job: object, *args: object, picture: bool = True, **kw: object) -> Future[object]:
+        if job is insert_bodies_job:
+            wanted.append(kw["wanted"])
+            if side_started:  # the side worker free at once: it starts the body
+                asked.append(kw["wanted"]())  # type: ignore[operator]
+            return bodies
+        assert job is build_solids
+        done: Future[object] = Future()
+        done.set_result({k: _Made({}) for k in args[1]})  # type: ignore[attr-defined]
+        return done
+
+    stage = SolidStage(None, design, "normal", _Worker())  # type: ignore[arg-type]
+    got = stage.solids(["cutter", "insert", "plug"], "tt", Path("."), beside)
+    assert list(got) == ["cutter", "insert", "plug"]
+    if side_started:
+        assert asked == [True]
+        assert insert_flats == [{"cutter": b"cutter (test)", INSERT_BODIES: b"bodies (test)"}]
+    else:
+        assert insert_flats == [{"cutter": b"cutter (test)"}]  # made by the insert's job
+        assert wanted[0]() is False  # type: ignore[operator]  # the side worker skips it
 
 
 def test_work_started_once_runs_once_from_any_thread() -> None:

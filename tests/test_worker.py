@@ -172,3 +172,30 @@ def test_a_worker_closed_before_any_job_is_killed_not_waited_for() -> None:
     proc = worker._proc
     worker.close()
     assert proc.returncode == 0
+
+
+def test_a_job_run_if_still_wanted_is_asked_once_the_worker_is_free() -> None:
+    """``run_if`` asks ``wanted`` when the worker is free (after the job before it), runs
+    the job when it says yes and returns None, starting nothing, when it says no: the kernel
+    worker took over an outer body the side worker had not started."""
+    worker = KernelWorker()
+    asked: list[str] = []
+    try:
+        assert worker.run_if(lambda: asked.append("no") or False, math.sqrt, 4.0) is None
+        assert worker._proc is None  # no child was started for a job not run
+        worker.run(math.sqrt, 4.0)  # the child is up
+        done = threading.Event()
+
+        def second() -> None:
+            asked.append("second: " + str(worker.run_if(lambda: "first" in asked, math.sqrt, 9.0)))
+            done.set()
+
+        with worker._lock:  # the worker busy: the second job waits, not yet asked
+            threading.Thread(target=second).start()
+            time.sleep(0.2)
+            assert asked == ["no"]
+            asked.append("first")
+        assert done.wait(60)
+        assert asked == ["no", "first", "second: 3.0"]
+    finally:
+        worker.close()

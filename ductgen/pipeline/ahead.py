@@ -23,6 +23,7 @@ from __future__ import annotations
 
 import contextlib
 import threading
+from collections.abc import Callable
 from concurrent.futures import Future, ThreadPoolExecutor
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
@@ -34,7 +35,7 @@ if TYPE_CHECKING:
     from ductgen.design import Design
     from ductgen.solids.results import SolidResult
 
-__all__ = ["Ahead", "PictureScene", "picture"]
+__all__ = ["Ahead", "Claim", "PictureScene", "picture"]
 
 
 class Ahead:
@@ -86,15 +87,26 @@ class Ahead:
         """:meth:`start` of ``worker.run(job, *args)`` (``stops=worker``)."""
         return self.start(name, worker.run, job, *args, stops=worker)
 
-    def side_job(self, job: Any, *args: Any, picture: bool = True) -> Future[Any]:
+    def side_job(
+        self,
+        job: Any,
+        *args: Any,
+        picture: bool = True,
+        wanted: Callable[[], bool] | None = None,
+    ) -> Future[Any]:
         """``job(*args)`` started in the side worker (the solids' stage); when the build
         draws a picture (:attr:`picture_wanted`), the side worker imports the drawing stack
         as soon as the first such job with ``picture`` True is done (the cutter's and the
-        plug's, while the kernel worker still works on the insert)."""
+        plug's, while the kernel worker still works on the insert). ``wanted``: asked when
+        the side worker is free (:meth:`~ductgen.worker.KernelWorker.run_if`); the job is
+        skipped, its result None, when it says no."""
         first = picture and "side solids" not in self.futures
-        fut = self.run_in(
-            "side solids" if first else f"side solids {len(self.futures)}", self.side(), job, *args
-        )
+        name = "side solids" if first else f"side solids {len(self.futures)}"
+        if wanted is None:
+            fut = self.run_in(name, self.side(), job, *args)
+        else:
+            side = self.side()
+            fut = self.start(name, side.run_if, wanted, job, *args, stops=side)
         if self.picture_wanted and first:
             fut.add_done_callback(self._warm_picture)
         return fut
@@ -145,3 +157,29 @@ def picture(scene: PictureScene, worker: KernelWorker, renderer: KernelWorker) -
     from ductgen.sheets import preview
 
     return preview.preview_png(scene, worker, renderer=renderer)
+
+
+class Claim:
+    """A job queued for the side worker that the kernel worker may take over until the side
+    worker starts it: :meth:`start` (asked by the side worker when it is free) and
+    :meth:`take` (by the kernel worker), whichever comes first wins."""
+
+    def __init__(self) -> None:
+        self._lock = threading.Lock()
+        self._state = "queued"
+
+    def start(self) -> bool:
+        """Whether the side worker runs the job (not taken over)."""
+        with self._lock:
+            if self._state == "taken":
+                return False
+            self._state = "started"
+            return True
+
+    def take(self) -> bool:
+        """Whether the kernel worker takes the job over (not started beside)."""
+        with self._lock:
+            if self._state != "queued":
+                return False
+            self._state = "taken"
+            return True

@@ -21,14 +21,19 @@ from dataclasses import replace
 from pathlib import Path
 from typing import Any
 
-import numpy as np
-
-from ductgen.atomic import write_atomic
-from ductgen.cache import Cache, Entry, fingerprint, kernel_versions, source_fingerprint
+from ductgen.cache import Cache, fingerprint, kernel_versions, source_fingerprint
 from ductgen.design import Design
 from ductgen.design.identity import design_fields
-from ductgen.errors import DesignWarning, DuctgenError
-from ductgen.report import InsertSplit, MeshChecks, mesh_checks
+from ductgen.errors import DuctgenError
+from ductgen.pipeline.ahead import Claim
+from ductgen.pipeline.cache_entries import (
+    checks_from,
+    checks_to,
+    pieces_from_entry,
+    solid_from_entry,
+    solid_to_entry,
+)
+from ductgen.report import MeshChecks, mesh_checks
 from ductgen.solids.handoff import (
     flat_solid_job,
     insert_bodies_job,
@@ -37,9 +42,8 @@ from ductgen.solids.handoff import (
 )
 from ductgen.solids.jobs import build_solids
 from ductgen.solids.kinds import INSERT_BODIES
-from ductgen.solids.results import InsertPiece, Mesh, SolidResult
+from ductgen.solids.results import InsertPiece, SolidResult
 from ductgen.solids.split import split_insert_job
-from ductgen.solids.step_text import stamp_step
 from ductgen.spec.model import Spec
 from ductgen.tolerances import STL_QUALITY
 from ductgen.worker import KernelWorker
@@ -157,7 +161,7 @@ class SolidStage:
             if entry is None:
                 missing.append(kind)
                 continue
-            got[kind] = _solid_from_entry(entry, kind, prefix, staging, t0)
+            got[kind] = solid_from_entry(entry, kind, prefix, staging, t0)
             self.hits.append(kind)
         if missing:
             built = self._build(missing, prefix, staging, beside, (checked, written))
@@ -165,7 +169,7 @@ class SolidStage:
                 got[kind] = built[kind]
                 self.misses.append(kind)
                 if kind in self.keys and self.cache is not None:
-                    self.cache.put(self.keys[kind], *_solid_to_entry(built[kind], staging))
+                    self.cache.put(self.keys[kind], *solid_to_entry(built[kind], staging))
         return {k: got[k] for k in kinds}
 
     def _build(
@@ -185,8 +189,11 @@ class SolidStage:
         placed on its skin first, once), writes as STEP and splits next from the shape it
         keeps; the side worker checks and writes the cutter, builds the plug (unless the
         kernel worker did, waiting for the outer body: :meth:`_plug_while`), checks and
-        writes it, and checks the insert and writes its STL. Each kind's files are the same
-        bytes either way. When both fail, the error of the kind that comes first in
+        writes it, and checks the insert and writes its STL. Should the side worker not have
+        started on the outer body by then (a command line's first build: its imports take
+        ~2.5 s beside the kernel worker's), the insert's job makes it here instead and the
+        side worker skips it (:class:`~ductgen.pipeline.ahead.Claim`). Each kind's files are
+        the same bytes either way. When both fail, the error of the kind that comes first in
         ``kinds`` is raised, as when one worker builds them one after another. ``told``: the
         insert's ``checked`` and ``written`` callbacks (:meth:`solids`)."""
         args, (checked, written) = (self.quality, prefix, str(staging)), told
@@ -195,13 +202,20 @@ class SolidStage:
             return self.worker.run(build_solids, self.design, kinds, *args)
         flat_skin = self.design.skin.is_flat
         # the insert's outer body, made beside while the cutter is built here
-        bodies = beside(insert_bodies_job, self.design, picture=False) if flat_skin else None
+        claim = Claim()
+        bodies = (
+            beside(insert_bodies_job, self.design, picture=False, wanted=claim.start)
+            if flat_skin
+            else None
+        )
         flats = {}
         if "cutter" in others:
             flats["cutter"] = self.worker.run(flat_solid_job, self.design, "cutter")
         side = beside(
             build_solids, self.design, others, *args, self._plug_while(bodies, flats, others)
         )
+        if bodies is not None and not bodies.done() and claim.take():
+            bodies = None  # the side worker still imports: the insert's job makes it here
         try:
             main = self._insert_beside(flats, bodies, prefix, staging, beside, checked)
             if written is not None:
@@ -295,10 +309,10 @@ class SolidStage:
         )
         entry = None if key is None or self.cache is None else self.cache.get(key)
         if entry is not None:
-            return _checks_from(entry.meta)
+            return checks_from(entry.meta)
         checks = mesh_checks(spec, self.design, solids)
         if key is not None and self.cache is not None:
-            self.cache.put(key, _checks_to(checks), {})
+            self.cache.put(key, checks_to(checks), {})
         return checks
 
     def split_insert(
@@ -317,7 +331,7 @@ class SolidStage:
         entry = None if key is None or self.cache is None else self.cache.get(key)
         if entry is not None:
             self.hits.append("insert split")
-            return _pieces_from_entry(entry, prefix, staging)
+            return pieces_from_entry(entry, prefix, staging)
         made = self.worker.run(
             split_insert_job,
             str(staging),
@@ -343,53 +357,7 @@ class SolidStage:
         return pieces
 
 
-def _checks_to(c: MeshChecks) -> dict[str, Any]:
-    """``c`` as a cache entry's JSON (its sections hold plain numbers, strings and lists)."""
-    split = None if c.split is None else [list(c.split.stations_x_mm), c.split.up]
-    warnings = [w.to_dict() for w in c.warnings]
-    return {"parts": c.parts, "bed": c.bed, "warnings": warnings, "up": c.insert_up, "split": split}
-
-
-def _checks_from(meta: dict[str, Any]) -> MeshChecks:
-    split = (
-        None if meta["split"] is None else InsertSplit(tuple(meta["split"][0]), meta["split"][1])
-    )
-    warnings = [DesignWarning(w["code"], w["message"]) for w in meta["warnings"]]
-    return MeshChecks(meta["parts"], meta["bed"], warnings, meta["up"], split)
-
-
 def _rank(err: DuctgenError, kinds: list[str]) -> int:
     """Where the kind ``err`` names (its stage's first word) comes in ``kinds``."""
     kind = getattr(err, "stage", "").split(" ")[0]
     return kinds.index(kind) if kind in kinds else len(kinds)
-
-
-def _solid_to_entry(r: SolidResult, staging: Path) -> tuple[dict[str, Any], dict[str, Any]]:
-    blobs = {
-        "step": (staging / r.step_file).read_bytes(),
-        "stl": (staging / r.stl_file).read_bytes(),
-        "verts": np.asarray(r.mesh.vertices),
-        "faces": np.asarray(r.mesh.faces),
-    }
-    return r.numbers(), blobs
-
-
-def _solid_from_entry(
-    entry: Entry, kind: str, prefix: str, staging: Path, t0: float
-) -> SolidResult:
-    step_name, stl_name = f"{prefix}-{kind}.step", f"{prefix}-{kind}.stl"
-    write_atomic(staging / step_name, stamp_step(entry.blobs["step"], f"{prefix}-{kind}"))
-    write_atomic(staging / stl_name, entry.blobs["stl"])
-    mesh = Mesh(entry.blobs["verts"], entry.blobs["faces"])
-    seconds = {"cache_s": time.perf_counter() - t0}
-    return SolidResult.from_numbers(entry.meta, step_name, stl_name, mesh, seconds)
-
-
-def _pieces_from_entry(entry: Entry, prefix: str, staging: Path) -> list[InsertPiece]:
-    pieces = []
-    for k, meta in enumerate(entry.meta["pieces"]):
-        base = f"{prefix}-insert-part{k + 1}"
-        write_atomic(staging / f"{base}.step", stamp_step(entry.blobs[f"step{k}"], base))
-        write_atomic(staging / f"{base}.stl", entry.blobs[f"stl{k}"])
-        pieces.append(InsertPiece.from_dict({"step": f"{base}.step", "stl": f"{base}.stl", **meta}))
-    return pieces
