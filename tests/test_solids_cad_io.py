@@ -203,8 +203,9 @@ def test_curved_cutters_and_plugs_have_their_edges_on_their_faces(sample_builds:
     as it was). An edge whose faces become tangent only at its end is rebuilt too
     (``solids/intersection.py``), also where its faces stay apart there (``solids/meet.py``).
     The bounds are ratchets on the counts measured, not outside values: the six cutters
-    and plugs 23 findings (24 before the ends apart, 41 before the tangent ends and the
-    panel cutter's rebuild, 109 before any rebuild). The cut panel is clean (17
+    and plugs 22 findings (23 before the spans that missed the goal were halved, 24 before
+    the ends apart, 41 before the tangent ends and the panel cutter's rebuild, 109 before
+    any rebuild). The cut panel is clean (17
     findings before its rebuild, 2 while a surface knot met exactly at a sample of an edge
     went unseen)."""
     found = {
@@ -216,7 +217,7 @@ def test_curved_cutters_and_plugs_have_their_edges_on_their_faces(sample_builds:
     assert found["kitcar-bonnet-intake-plug.step"] == {}
     assert {kind for f in found.values() for kind in f} <= {"BOPAlgo_InvalidCurveOnSurface"}
     assert found.pop("kitcar-sidepod-cooler-panel.step") == {}
-    assert sum(n for f in found.values() for n in f.values()) <= 23, found
+    assert sum(n for f in found.values() for n in f.values()) <= 22, found
 
 
 @pytest.mark.slow
@@ -224,10 +225,11 @@ def test_curved_inserts_have_their_edges_on_their_faces(sample_builds: dict) -> 
     """Every insert file of the curved and panel samples and its bed-size pieces, read back:
     each edge was rebuilt on the true intersection of its two fitted faces, as the cutters'
     and plugs' are, and the pieces, cut by planes from the healed insert, keep them. The
-    analyser's curve-on-surface check then finds 53 edges off a face over the eleven files
-    (kit-car 8, round cowling 14, side-pod 31: 41 before edges whose faces become tangent
-    at an end, apart, ended between them), where the edges as mapped and fitted had 516. A
-    ratchet on the counts measured, not an outside value."""
+    analyser's curve-on-surface check then finds 51 edges off a face over the eleven files
+    (kit-car 8, round cowling 14, side-pod 29: 31 before the spans of a fit that missed the
+    goal were halved, 41 before edges whose faces become tangent at an end, apart, ended
+    between them), where the edges as mapped and fitted had 516. A ratchet on the counts
+    measured, not an outside value."""
     files = _step_files(sample_builds, flat=False, pattern="*-insert*.step")
     assert len(files) == 11  # kit-car and round cowling: whole + 3 pieces; side-pod: + 2
     found = {
@@ -238,7 +240,7 @@ def test_curved_inserts_have_their_edges_on_their_faces(sample_builds: dict) -> 
         )
         for path in files
     }
-    assert sum(found.values()) <= 53, found
+    assert sum(found.values()) <= 51, found
 
 
 @pytest.mark.slow

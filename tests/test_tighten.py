@@ -138,3 +138,46 @@ def test_a_face_that_fails_gets_its_edges_back_one_at_a_time() -> None:
     assert _kept_where_valid(rebuilt, valid) == 2
     assert state == {1: "new", 2: "old", 3: "new"}
     assert checked[:4] == [a, b, c, d]  # each face once, then B's edges one at a time
+
+
+def test_a_fit_reports_each_span_and_new_knots_join_the_breaks() -> None:
+    """A fit of the intersection of a curved B-spline face with a plane (the fitted curves'
+    sampled deviation, :class:`~ductgen.solids.intersection.Fitted`) gives each knot span
+    on the old curve's parameter, end to end over the edge, and its largest deviation,
+    whose maximum is the fit's; the spans that miss the goal get a simple knot at their
+    middle among the fit's breaks (the crossings keep their multiplicities), and the
+    intersection is solved there before the refit."""
+    import cadquery as cq
+
+    from ductgen.solids.intersection import EdgeIntersection
+    from ductgen.solids.tighten import _Samples, _with_breaks
+
+    wave = cq.Face(_bspline_surface(3, [1, 1, 1]).Face())
+    cut = cq.Solid.makeBox(12, 4, 4, cq.Vector(-1, 3, -2)).intersect(
+        cq.Solid.extrudeLinear(wave, cq.Vector(0, 0, -3))
+    )
+    assert cut.isValid()
+    edge = max(
+        (e for e in cut.Edges() if abs(e.Center().y - 3.0) < 1e-9 and e.geomType() != "LINE"),
+        key=lambda e: e.Length(),
+    )
+    faces = [f for f in cut.Faces() if any(e.isSame(edge) for e in f.Edges())]
+    x = EdgeIntersection(edge.wrapped, [f.wrapped for f in faces])
+    dense = np.linspace(x.t0, x.t1, 65)
+    got = x.solve(dense)
+    assert got is not None
+    samples = _Samples(x, dense, got[0])
+    assert samples.add(np.zeros(0)) and np.array_equal(samples.t, dense)
+    crossings = x.knot_crossings(dense, got[1])
+    fitted = x.fit(8, crossings, samples.t, samples.along)
+    assert fitted is not None
+    spans = fitted.spans
+    assert spans[0, 0] == pytest.approx(x.t0, abs=1e-12)
+    assert spans[-1, 1] == pytest.approx(x.t1, abs=1e-12)
+    assert np.allclose(spans[1:, 0], spans[:-1, 1], rtol=0, atol=1e-12)
+    assert fitted.deviation == spans[:, 2].max()
+    mids = 0.5 * (spans[:2, 0] + spans[:2, 1])
+    assert samples.add(mids) and np.all(np.isin(mids, samples.t))
+    assert np.all(np.diff(samples.t) > 0) and len(samples.along) == len(samples.t)
+    at, mults = _with_breaks((np.array([1.0, 3.0]), np.array([3, 2])), np.array([2.0, 0.5]))
+    assert at.tolist() == [0.5, 1.0, 2.0, 3.0] and mults.tolist() == [1, 3, 1, 2]

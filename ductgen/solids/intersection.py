@@ -42,10 +42,12 @@ class Fitted(NamedTuple):
     largest distance (mm) between the 3D curve and each surface curve mapped through its
     surface at :data:`SAMPLES_PER_SPAN` points a knot span (a sample of the kernel's
     measure: ~1000x cheaper than its optimiser, and the analyser run after healing has
-    the last word)."""
+    the last word); ``spans``: each knot span's start and end on the old curve's parameter
+    and its own largest distance, (K, 3)."""
 
     curves: Any
     deviation: float
+    spans: np.ndarray
 
 
 def chord_parameter(pts: np.ndarray, t0: float, t1: float) -> np.ndarray | None:
@@ -182,19 +184,31 @@ class EdgeIntersection:
         if fits is None:
             return None
         curves = _bspline_curves(knots, fits)
-        return None if curves is None else Fitted(curves, self._sampled_deviation(knots, fits))
+        if curves is None:
+            return None
+        per_span = self._sampled_deviation(knots, fits)
+        breaks = np.interp(np.unique(knots), s, ts)  # the knots on the old curve's parameter
+        return Fitted(
+            curves, float(per_span.max()), np.column_stack([breaks[:-1], breaks[1:], per_span])
+        )
 
-    def _sampled_deviation(self, knots: np.ndarray, fits: list[np.ndarray]) -> float:
-        """Largest distance (mm) between the fitted 3D curve and each fitted surface
-        curve mapped through its surface, at :data:`SAMPLES_PER_SPAN` points a span."""
+    def _sampled_deviation(self, knots: np.ndarray, fits: list[np.ndarray]) -> np.ndarray:
+        """Largest distance (mm) in each knot span between the fitted 3D curve and each
+        fitted surface curve mapped through its surface, at :data:`SAMPLES_PER_SPAN` points
+        a span (both ends included)."""
         from scipy.interpolate import BSpline
 
         ts = _spread(np.unique(knots), SAMPLES_PER_SPAN)
         xyz = BSpline(knots, fits[0], DEGREE)(ts)
-        return max(
-            float(np.max(np.linalg.norm(s.points(BSpline(knots, c, DEGREE)(ts)) - xyz, axis=1)))
-            for s, c in zip(self.s, fits[1:], strict=True)
+        far = np.max(
+            [
+                np.linalg.norm(s.points(BSpline(knots, c, DEGREE)(ts)) - xyz, axis=1)
+                for s, c in zip(self.s, fits[1:], strict=True)
+            ],
+            axis=0,
         )
+        n = SAMPLES_PER_SPAN
+        return np.array([far[i * n : (i + 1) * n + 1].max() for i in range(len(ts) // n)])
 
 
 def _spread(breaks: np.ndarray, n: int) -> np.ndarray:

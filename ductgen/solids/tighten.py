@@ -37,6 +37,11 @@ GOAL_MM = 2e-8
 
 #: Uniform spans of the refitted curves, tried in turn until the goal is met.
 SPANS = (8, 32, 128)
+#: Rounds of halving the spans of the largest fit that still miss the goal (an edge whose
+#: faces become tangent at its end bends there within a few millimetres) ...
+REFINE_ROUNDS = 4
+#: ... each kept only while it takes the deviation below this fraction of the last.
+REFINE_GAIN = 0.7
 
 
 def tighten_edges(
@@ -207,7 +212,7 @@ def _edge_state(
 def _tighten(e: TopoDS_Edge, faces: list[TopoDS_Face], old: Deviation) -> int:
     """Rebuild ``e`` on ``faces`` when that beats its present deviation ``old``: 1 if it
     did."""
-    from ductgen.solids.intersection import EdgeIntersection, chord_parameter
+    from ductgen.solids.intersection import EdgeIntersection
 
     x = EdgeIntersection(e, faces)
     dense = np.linspace(x.t0, x.t1, 65)
@@ -216,17 +221,13 @@ def _tighten(e: TopoDS_Edge, faces: list[TopoDS_Face], old: Deviation) -> int:
         return 0
     crossings = x.knot_crossings(dense, got[1])
     fresh = crossings[0][~np.isin(crossings[0], dense)]  # one met at a sample is there
-    extra = x.solve(fresh) if len(fresh) else (np.zeros((0, 3)), np.zeros((0, 4)))
-    if extra is None:
-        return 0
-    order = np.argsort(np.concatenate([dense, fresh]), kind="stable")
-    dense = np.concatenate([dense, fresh])[order]
-    along = chord_parameter(np.concatenate([got[0], extra[0]])[order], x.t0, x.t1)
-    if along is None:
+    samples = _Samples(x, dense, got[0])
+    if not samples.add(fresh):
         return 0
     best: float | None = None
+    fitted = None
     for spans in SPANS:
-        fitted = x.fit(spans, crossings, dense, along)
+        fitted = x.fit(spans, crossings, samples.t, samples.along)
         if fitted is None:
             break
         bar = old if best is None else Deviation.known(best)
@@ -234,8 +235,66 @@ def _tighten(e: TopoDS_Edge, faces: list[TopoDS_Face], old: Deviation) -> int:
         if new is not None:
             best = new
         if best is not None and best <= GOAL_MM:
+            return 1
+    # the largest fit still misses the goal: more knots only in the spans that miss it,
+    # while each round gains (a fit near faces that become tangent levels off)
+    for _ in range(REFINE_ROUNDS):
+        if fitted is None:
+            break
+        over = fitted.spans[fitted.spans[:, 2] > GOAL_MM]
+        mids = 0.5 * (over[:, 0] + over[:, 1])
+        if not samples.add(mids):
+            break
+        crossings = _with_breaks(crossings, mids)
+        fitted = x.fit(SPANS[-1], crossings, samples.t, samples.along)
+        if fitted is None:
+            break
+        bar = old if best is None else Deviation.known(best)
+        new = _try_curves(e, faces, fitted.curves, bar, measured=fitted.deviation)
+        if new is None or (best is not None and new > REFINE_GAIN * best):
+            best = best if new is None else new
+            break
+        best = new
+        if best <= GOAL_MM:
             break
     return int(best is not None)
+
+
+class _Samples:
+    """The intersection's points at old-curve parameters ``t`` (sorted) and their chord
+    parameter ``along`` (:func:`~ductgen.solids.intersection.chord_parameter`), which
+    :meth:`~ductgen.solids.intersection.EdgeIntersection.fit` places knots by."""
+
+    def __init__(self, x: Any, t: np.ndarray, points: np.ndarray) -> None:
+        self.x, self.t, self.points = x, t, points
+        self.along: np.ndarray = np.zeros(0)
+
+    def add(self, ts: np.ndarray) -> bool:
+        """Solve at the parameters ``ts`` not sampled yet and merge them in; False when
+        Newton's method or the chord parameter fails (then nothing changes)."""
+        from ductgen.solids.intersection import chord_parameter
+
+        new = np.setdiff1d(ts, self.t)
+        got = self.x.solve(new) if len(new) else (np.zeros((0, 3)), np.zeros((0, 4)))
+        if got is None:
+            return False
+        order = np.argsort(np.concatenate([self.t, new]), kind="stable")
+        points = np.concatenate([self.points, got[0]])[order]
+        along = chord_parameter(points, self.x.t0, self.x.t1)
+        if along is None:
+            return False
+        self.t, self.points, self.along = np.concatenate([self.t, new])[order], points, along
+        return True
+
+
+def _with_breaks(
+    crossings: tuple[np.ndarray, np.ndarray], at: np.ndarray
+) -> tuple[np.ndarray, np.ndarray]:
+    """``crossings`` (sorted parameters, multiplicities) with simple knots at ``at`` too."""
+    t = np.concatenate([crossings[0], at])
+    m = np.concatenate([crossings[1], np.ones(len(at), dtype=int)])
+    order = np.argsort(t, kind="stable")
+    return t[order], m[order]
 
 
 def _try_curves(
