@@ -179,5 +179,6 @@ def test_a_fit_reports_each_span_and_new_knots_join_the_breaks() -> None:
     mids = 0.5 * (spans[:2, 0] + spans[:2, 1])
     assert samples.add(mids) and np.all(np.isin(mids, samples.t))
     assert np.all(np.diff(samples.t) > 0) and len(samples.along) == len(samples.t)
-    at, mults = _with_breaks((np.array([1.0, 3.0]), np.array([3, 2])), np.array([2.0, 0.5]))
+    old = (np.array([1.0, 3.0]), np.array([3, 2]))
+    at, mults = _with_breaks(old, np.array([2.0, 0.5, 3.0]))  # 3.0 is a break already
     assert at.tolist() == [0.5, 1.0, 2.0, 3.0] and mults.tolist() == [1, 3, 1, 2]

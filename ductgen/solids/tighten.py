@@ -290,7 +290,9 @@ class _Samples:
 def _with_breaks(
     crossings: tuple[np.ndarray, np.ndarray], at: np.ndarray
 ) -> tuple[np.ndarray, np.ndarray]:
-    """``crossings`` (sorted parameters, multiplicities) with simple knots at ``at`` too."""
+    """``crossings`` (sorted parameters, multiplicities) with simple knots at ``at`` too
+    (those not among them already: the fit finds each break once among its samples)."""
+    at = np.setdiff1d(at, crossings[0])
     t = np.concatenate([crossings[0], at])
     m = np.concatenate([crossings[1], np.ones(len(at), dtype=int)])
     order = np.argsort(t, kind="stable")
