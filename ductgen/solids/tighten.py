@@ -38,8 +38,11 @@ GOAL_MM = 2e-8
 #: Uniform spans of the refitted curves, tried in turn until the goal is met.
 SPANS = (8, 32, 128)
 #: Rounds of halving the spans of the largest fit that still miss the goal (an edge whose
-#: faces become tangent at its end bends there within a few millimetres) ...
+#: faces become tangent at its end bends there within a few millimetres), for an edge still
+#: farther than REFINE_ABOVE_MM from its faces (half the 1e-7 mm a reader gives an exact
+#: edge: one nearer reads back clean already) ...
 REFINE_ROUNDS = 4
+REFINE_ABOVE_MM = 5e-8
 #: ... each kept only while it takes the deviation below this fraction of the last.
 REFINE_GAIN = 0.7
 
@@ -239,7 +242,7 @@ def _tighten(e: TopoDS_Edge, faces: list[TopoDS_Face], old: Deviation) -> int:
     # the largest fit still misses the goal: more knots only in the spans that miss it,
     # while each round gains (a fit near faces that become tangent levels off)
     for _ in range(REFINE_ROUNDS):
-        if fitted is None:
+        if fitted is None or (best is not None and best <= REFINE_ABOVE_MM):
             break
         over = fitted.spans[fitted.spans[:, 2] > GOAL_MM]
         mids = 0.5 * (over[:, 0] + over[:, 1])
