@@ -6,6 +6,7 @@ published."""
 from __future__ import annotations
 
 import dataclasses
+from concurrent.futures import Future
 from pathlib import Path
 
 import pytest
@@ -135,8 +136,6 @@ def test_solids_beside_raise_the_first_kinds_error(
     """When the kernel worker's insert and the side worker's jobs (the other kinds, the
     insert's check) fail, the error is the one a single worker building the kinds in order,
     each checked before it is written, would have raised first."""
-    from concurrent.futures import Future
-
     from ductgen.design import build_design
     from ductgen.pipeline.solid_cache import SolidStage
     from ductgen.solids.handoff import insert_bodies_job
@@ -170,21 +169,35 @@ class _Made:
     seconds: dict[str, float]
 
 
+def _made(kinds: list[str]) -> Future[object]:
+    """The side worker's finished job: a stand-in result for each of ``kinds``."""
+    done: Future[object] = Future()
+    done.set_result({k: _Made({}) for k in kinds})
+    return done
+
+
+def _cutter_insert_plug(worker: object, beside: object) -> None:
+    """The solids stage of a small flat design run with the stand-in ``worker`` and
+    ``beside``: the three kinds come back in their order."""
+    from ductgen.design import build_design
+    from ductgen.pipeline.solid_cache import SolidStage
+
+    design = build_design(parse_spec({"name": "tt", "throat": {"width": 80, "depth": 20}}))
+    stage = SolidStage(None, design, "normal", worker)  # type: ignore[arg-type]
+    got = stage.solids(["cutter", "insert", "plug"], "tt", Path("."), beside)  # type: ignore[arg-type]
+    assert list(got) == ["cutter", "insert", "plug"]
+
+
 @pytest.mark.parametrize("bodies_fail", [False, True])
 def test_the_insert_takes_its_outer_body_made_beside(bodies_fail: bool) -> None:
     """On a flat skin the side worker makes the insert's outer body while the kernel worker
     builds the cutter, and the insert's job gets it with the cutter; when that job failed,
     the insert's job gets the cutter alone (it makes the body itself, and raises the error
     itself if it fails again). The side worker's other jobs never see the body."""
-    from concurrent.futures import Future
-
-    from ductgen.design import build_design
-    from ductgen.pipeline.solid_cache import SolidStage
     from ductgen.solids.handoff import flat_solid_job, insert_bodies_job
     from ductgen.solids.jobs import build_solids
     from ductgen.solids.kinds import INSERT_BODIES
 
-    design = build_design(parse_spec({"name": "tt", "throat": {"width": 80, "depth": 20}}))
     flats_seen: list[dict[str, bytes]] = []
 
     class _Worker:  # the kernel worker: the cutter, the insert, then the insert's STEP
@@ -207,12 +220,10 @@ def test_the_insert_takes_its_outer_body_made_beside(bodies_fail: bool) -> None:
                 done.set_result(b"bodies (test)")
         else:
             assert job is build_solids and INSERT_BODIES not in (args[5] or {})  # type: ignore[operator]
-            done.set_result({k: _Made({}) for k in args[1]})  # type: ignore[attr-defined]
+            return _made(args[1])  # type: ignore[arg-type]
         return done
 
-    stage = SolidStage(None, design, "normal", _Worker())  # type: ignore[arg-type]
-    got = stage.solids(["cutter", "insert", "plug"], "tt", Path("."), beside)
-    assert list(got) == ["cutter", "insert", "plug"]
+    _cutter_insert_plug(_Worker(), beside)
     want = {"cutter": b"cutter (test)"}
     if not bodies_fail:
         want[INSERT_BODIES] = b"bodies (test)"
@@ -228,15 +239,10 @@ def test_the_kernel_worker_builds_the_plug_while_the_outer_body_is_made(
     it checks and writes (built, not built again); the insert's job does not get it. A plug
     that fails there is left to the side worker, which builds it and raises its error in
     the order of the kinds."""
-    from concurrent.futures import Future
-
-    from ductgen.design import build_design
-    from ductgen.pipeline.solid_cache import SolidStage
     from ductgen.solids.handoff import flat_solid_job, insert_bodies_job
     from ductgen.solids.jobs import build_solids
     from ductgen.solids.kinds import INSERT_BODIES
 
-    design = build_design(parse_spec({"name": "tt", "throat": {"width": 80, "depth": 20}}))
     order: list[str] = []
     insert_flats: list[dict[str, bytes]] = []
     side_flats: list[dict[str, bytes]] = []
@@ -263,13 +269,9 @@ def test_the_kernel_worker_builds_the_plug_while_the_outer_body_is_made(
         assert job is build_solids
         if args[1] != ["insert"]:
             side_flats.append(dict(args[5] or {}))  # type: ignore[call-overload]
-        done: Future[object] = Future()
-        done.set_result({k: _Made({}) for k in args[1]})  # type: ignore[attr-defined]
-        return done
+        return _made(args[1])  # type: ignore[arg-type]
 
-    stage = SolidStage(None, design, "normal", _Worker())  # type: ignore[arg-type]
-    got = stage.solids(["cutter", "insert", "plug"], "tt", Path("."), beside)
-    assert list(got) == ["cutter", "insert", "plug"]
+    _cutter_insert_plug(_Worker(), beside)
     assert order == ["cutter", "plug", "insert"]
     assert insert_flats == [{"cutter": b"cutter (test)", INSERT_BODIES: b"bodies (test)"}]
     want = {"cutter": b"cutter (test)"}
@@ -287,15 +289,10 @@ def test_the_kernel_worker_takes_over_an_outer_body_not_started_beside(
     kernel worker takes it over (the insert's job makes it), and the side worker, once free,
     is told not to run it. Had the side worker started on it, the kernel worker waits for
     it and the insert gets it."""
-    from concurrent.futures import Future
-
-    from ductgen.design import build_design
-    from ductgen.pipeline.solid_cache import SolidStage
     from ductgen.solids.handoff import flat_solid_job, insert_bodies_job
     from ductgen.solids.jobs import build_solids
     from ductgen.solids.kinds import INSERT_BODIES
 
-    design = build_design(parse_spec({"name": "tt", "throat": {"width": 80, "depth": 20}}))
     insert_flats: list[dict[str, bytes]] = []
     asked: list[bool] = []
     bodies: Future[object] = Future()
@@ -318,13 +315,9 @@ def test_the_kernel_worker_takes_over_an_outer_body_not_started_beside(
                 asked.append(kw["wanted"]())  # type: ignore[operator]
             return bodies
         assert job is build_solids
-        done: Future[object] = Future()
-        done.set_result({k: _Made({}) for k in args[1]})  # type: ignore[attr-defined]
-        return done
+        return _made(args[1])  # type: ignore[arg-type]
 
-    stage = SolidStage(None, design, "normal", _Worker())  # type: ignore[arg-type]
-    got = stage.solids(["cutter", "insert", "plug"], "tt", Path("."), beside)
-    assert list(got) == ["cutter", "insert", "plug"]
+    _cutter_insert_plug(_Worker(), beside)
     if side_started:
         assert asked == [True]
         assert insert_flats == [{"cutter": b"cutter (test)", INSERT_BODIES: b"bodies (test)"}]
@@ -367,7 +360,6 @@ def test_a_mapped_insert_is_placed_once_and_told_written_before_the_other_kinds(
     starts its split) as soon as that STEP and the check are done, not when the side
     worker's other kinds (cutter, plug) are."""
     import threading
-    from concurrent.futures import Future
 
     import numpy as np
 
