@@ -11,13 +11,7 @@ The curated public API (imported on first use, so ``import ductgen`` stays light
 from __future__ import annotations
 
 from importlib import import_module
-from importlib.metadata import PackageNotFoundError, version
 from typing import Any
-
-try:
-    __version__ = version("ductgen")
-except PackageNotFoundError:  # pragma: no cover - running from a bare checkout
-    __version__ = "0+unknown"
 
 _EXPORTS = {
     "load_spec": "ductgen.spec",
@@ -37,7 +31,22 @@ _EXPORTS = {
 __all__ = ["__version__", *_EXPORTS]
 
 
+def _version() -> str:
+    """The installed distribution's version (read on first use: ``importlib.metadata``
+    imports the e-mail package, the largest part of ``import ductgen`` before the command
+    line can handle Ctrl-C)."""
+    from importlib.metadata import PackageNotFoundError, version
+
+    try:
+        return version("ductgen")
+    except PackageNotFoundError:  # pragma: no cover - running from a bare checkout
+        return "0+unknown"
+
+
 def __getattr__(name: str) -> Any:
+    if name == "__version__":
+        globals()["__version__"] = found = _version()
+        return found
     if name in _EXPORTS:
         return getattr(import_module(_EXPORTS[name]), name)
     raise AttributeError(f"module 'ductgen' has no attribute {name!r}")

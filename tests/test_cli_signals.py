@@ -303,3 +303,27 @@ def test_signal_while_importing_exits_cleanly(
     if command == "sweep":
         args = ["sweep", str(spec), "-o", str(out), "--vary", "throat.width=70,90"]
     _assert_interrupted(tmp_path, [_SIGNAL_AT_IMPORT, trigger, str(int(sig)), *args], sig, out)
+
+
+def test_an_interrupt_that_passed_through_exec_still_exits_130(tmp_path: Path) -> None:
+    """Under ``python -m``, CPython ends a process by SIGINT at exit (status -2, whatever
+    code it exits with) once a ``KeyboardInterrupt`` has left an ``exec`` of a string —
+    scipy's array-API module imports numpy that way during a build, so Ctrl-C there gave
+    -2 instead of 130. The handled interrupt's exit code must stand."""
+    (tmp_path / "interrupted_in_exec.py").write_text(
+        "import sys\n"
+        "from ductgen.cli.signals import interrupt_code\n"
+        "try:\n"
+        "    exec('raise KeyboardInterrupt')\n"
+        "except KeyboardInterrupt:\n"
+        "    sys.exit(interrupt_code(None))\n"
+    )
+    r = subprocess.run(
+        [sys.executable, "-m", "interrupted_in_exec"],
+        cwd=tmp_path,
+        env={**os.environ, "PYTHONPATH": _pythonpath()},
+        capture_output=True,
+        text=True,
+        timeout=WAIT_S,
+    )
+    assert r.returncode == 130, r.stderr[-2000:]

@@ -48,8 +48,20 @@ def take_signal() -> int | None:
 
 
 def interrupt_code(sig: int | None) -> int:
-    """Exit code of an interrupted run: 128 + the signal (Ctrl-C, SIGINT: 130)."""
+    """Exit code of an interrupted run: 128 + the signal (Ctrl-C, SIGINT: 130), the
+    interrupt now handled (:func:`_forget_escaped_interrupt`)."""
+    _forget_escaped_interrupt()
     return 128 + (sig if sig is not None else int(signal.SIGINT))
+
+
+def _forget_escaped_interrupt() -> None:
+    """Let the exit code chosen stand. CPython (3.8 on) remembers a ``KeyboardInterrupt``
+    that left any ``exec`` of a source string (scipy's array-API module imports numpy's
+    names that way, during the first seconds of a build) and, under ``python -m``, ends the
+    process by SIGINT at exit whatever code it exits with; the next ``exec`` of a string
+    that ends normally clears that memory (``run_eval_code_obj`` in CPython's
+    ``Python/pythonrun.c``)."""
+    exec("None", {})  # a constant: clears the interpreter's flag
 
 
 #: What an interrupted run prints on stderr.
