@@ -31,6 +31,7 @@ from importlib import import_module
 from multiprocessing.connection import Connection
 from typing import Any, ParamSpec, TypeVar
 
+from ductgen.deferred_vtk import defer_vtk
 from ductgen.errors import DuctgenError, GeometryError
 from ductgen.lifeline import die_with_parent
 from ductgen.worker_limits import MEMORY_MB_RANGE, TIMEOUT_S_RANGE, WorkerLimits, env_limit
@@ -108,6 +109,7 @@ _CLOCK_TICKS = os.sysconf("SC_CLK_TCK") if hasattr(os, "sysconf") else 100
 def _main(  # pragma: no cover - child
     fd: int, memory_mb: int, parent_pid: int = 0, prctl: bool = True, preload: str = ""
 ) -> None:
+    defer_vtk()  # before the kernel's import: it would load all of VTK, unused here
     if parent_pid:
         die_with_parent(parent_pid, prctl=prctl)
     # the parent went away or gave up: leave quietly, without a traceback
